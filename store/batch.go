@@ -1,0 +1,93 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+)
+
+// inTx runs fn in one transaction, committing when it returns nil and rolling back otherwise.
+func (d *DB) inTx(ctx context.Context, fn func(tx *sql.Tx) error) error {
+	tx, err := d.db.BeginTx(ctx, nil)
+	if err != nil {
+		return err
+	}
+	defer tx.Rollback()
+	if err := fn(tx); err != nil {
+		return err
+	}
+	return tx.Commit()
+}
+
+// newBatch records a set of changes about to be made together.
+func (d *DB) newBatch(ctx context.Context, tx *sql.Tx, kind, source string) (int64, error) {
+	res, err := tx.ExecContext(ctx, `INSERT INTO change_batches (kind, source, at) VALUES (?, ?, ?)`, kind, source, d.stamp())
+	if err != nil {
+		return 0, fmt.Errorf("record change batch: %w", err)
+	}
+	return res.LastInsertId()
+}
+
+func setBatchSummary(ctx context.Context, tx *sql.Tx, batch int64, summary string) error {
+	_, err := tx.ExecContext(ctx, `UPDATE change_batches SET summary = ? WHERE id = ?`, summary, batch)
+	return err
+}
+
+// addRevision records one change of one record; before or after is nil for a creation or a deletion.
+func addRevision(ctx context.Context, tx *sql.Tx, batch int64, recordType string, id int64, before, after any) error {
+	enc := func(v any) (*string, error) {
+		if v == nil {
+			return nil, nil
+		}
+		b, err := json.Marshal(v)
+		if err != nil {
+			return nil, err
+		}
+		s := string(b)
+		return &s, nil
+	}
+	b, err := enc(before)
+	if err != nil {
+		return err
+	}
+	a, err := enc(after)
+	if err != nil {
+		return err
+	}
+	if b == nil && a == nil {
+		return errors.New("revision without before or after")
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO revisions (batch_id, record_type, record_id, before_json, after_json)
+		VALUES (?, ?, ?, ?, ?)`, batch, recordType, id, b, a)
+	if err != nil {
+		return fmt.Errorf("record revision: %w", err)
+	}
+	return nil
+}
+
+// LatestBatches returns the most recent change batches, newest first.
+func (d *DB) LatestBatches(ctx context.Context, limit int) ([]Batch, error) {
+	rows, err := d.db.QueryContext(ctx, `SELECT id, kind, source, at, summary FROM change_batches ORDER BY id DESC LIMIT ?`, limit)
+	if err != nil {
+		return nil, fmt.Errorf("latest batches: %w", err)
+	}
+	defer rows.Close()
+	var out []Batch
+	for rows.Next() {
+		var b Batch
+		if err := rows.Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary); err != nil {
+			return nil, err
+		}
+		out = append(out, b)
+	}
+	return out, rows.Err()
+}
+
+// RevisionCount returns how many revisions reference a record.
+func (d *DB) RevisionCount(ctx context.Context, recordType string, id int64) (int, error) {
+	var n int
+	err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ?`, recordType, id).Scan(&n)
+	return n, err
+}

@@ -1,0 +1,128 @@
+// Package store owns coeval's persistence: the SQLite database (modernc.org/sqlite), its migrations, the
+// records, their queries, the CSV import and export formats, and revisions.
+//
+// Every exported method takes a context first and owns its transaction. It imports stats (for shared
+// vocabularies) but never web or views.
+package store
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"io/fs"
+	"net/url"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the "sqlite" driver
+)
+
+// TimeFormat is the one format in which times are stored (UTC).
+const TimeFormat = time.RFC3339
+
+// DB is coeval's database. It is safe for concurrent use.
+type DB struct {
+	db  *sql.DB
+	now func() time.Time
+}
+
+// Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:
+// WAL, a busy timeout, foreign keys on, and immediate transactions so that read-then-write transactions
+// do not fail with SQLITE_BUSY under concurrency. It does not migrate; call Migrate.
+func Open(ctx context.Context, path string) (*DB, error) {
+	q := url.Values{}
+	q.Add("_pragma", "busy_timeout(5000)")
+	q.Add("_pragma", "journal_mode(WAL)")
+	q.Add("_pragma", "foreign_keys(1)")
+	q.Add("_pragma", "synchronous(NORMAL)")
+	q.Set("_txlock", "immediate")
+	dsn := "file:" + path + "?" + q.Encode()
+	sqldb, err := sql.Open("sqlite", dsn)
+	if err != nil {
+		return nil, fmt.Errorf("open database %s: %w", path, err)
+	}
+	if err := sqldb.PingContext(ctx); err != nil {
+		sqldb.Close()
+		return nil, fmt.Errorf("open database %s: %w", path, err)
+	}
+	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }}, nil
+}
+
+// Close closes the database.
+func (d *DB) Close() error { return d.db.Close() }
+
+// SetClock replaces the clock used for created/updated times (tests pin it).
+func (d *DB) SetClock(now func() time.Time) { d.now = now }
+
+func (d *DB) stamp() string { return d.now().UTC().Format(TimeFormat) }
+
+// Migrate applies, in numeric order, every NNN_*.sql file of fsys not yet recorded in schema_migrations,
+// each in its own transaction. It returns the versions applied.
+func (d *DB) Migrate(ctx context.Context, fsys fs.FS) ([]int, error) {
+	if _, err := d.db.ExecContext(ctx, `CREATE TABLE IF NOT EXISTS schema_migrations (
+		version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)`); err != nil {
+		return nil, fmt.Errorf("migrate: %w", err)
+	}
+	entries, err := fs.ReadDir(fsys, ".")
+	if err != nil {
+		return nil, fmt.Errorf("migrate: %w", err)
+	}
+	type mig struct {
+		version int
+		name    string
+	}
+	var migs []mig
+	for _, e := range entries {
+		name := e.Name()
+		if !strings.HasSuffix(name, ".sql") {
+			continue
+		}
+		num, _, ok := strings.Cut(name, "_")
+		v, err := strconv.Atoi(num)
+		if !ok || err != nil {
+			return nil, fmt.Errorf("migrate: %s: want NNN_name.sql", name)
+		}
+		migs = append(migs, mig{v, name})
+	}
+	sort.Slice(migs, func(i, j int) bool { return migs[i].version < migs[j].version })
+	var applied []int
+	for _, m := range migs {
+		done, err := d.applyMigration(ctx, fsys, m.version, m.name)
+		if err != nil {
+			return applied, err
+		}
+		if done {
+			applied = append(applied, m.version)
+		}
+	}
+	return applied, nil
+}
+
+func (d *DB) applyMigration(ctx context.Context, fsys fs.FS, version int, name string) (bool, error) {
+	tx, err := d.db.BeginTx(ctx, nil)
+	if err != nil {
+		return false, fmt.Errorf("migrate %s: %w", name, err)
+	}
+	defer tx.Rollback()
+	var n int
+	if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM schema_migrations WHERE version = ?`, version).Scan(&n); err != nil {
+		return false, fmt.Errorf("migrate %s: %w", name, err)
+	}
+	if n > 0 {
+		return false, nil
+	}
+	body, err := fs.ReadFile(fsys, name)
+	if err != nil {
+		return false, fmt.Errorf("migrate %s: %w", name, err)
+	}
+	if _, err := tx.ExecContext(ctx, string(body)); err != nil {
+		return false, fmt.Errorf("migrate %s: %w", name, err)
+	}
+	if _, err := tx.ExecContext(ctx, `INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)`,
+		version, name, d.stamp()); err != nil {
+		return false, fmt.Errorf("migrate %s: %w", name, err)
+	}
+	return true, tx.Commit()
+}

@@ -1,0 +1,67 @@
+package store
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+)
+
+// ErrNotFound is returned when a record asked for by id or name does not exist.
+var ErrNotFound = errors.New("not found")
+
+// ErrConflict is returned when an edit was made against a version of a record that is no longer current.
+var ErrConflict = errors.New("edit conflict: the record changed since it was read")
+
+// Problem is one thing wrong with user input: where it is (file, line, column or form field) and what was
+// expected. Line is 1-based (the header is line 1); zero means the problem concerns the whole file.
+type Problem struct {
+	File    string `json:"file,omitempty"`
+	Line    int    `json:"line,omitempty"`
+	Column  string `json:"column,omitempty"`
+	Message string `json:"message"`
+}
+
+func (p Problem) String() string {
+	var b strings.Builder
+	if p.File != "" {
+		b.WriteString(p.File)
+	}
+	if p.Line > 0 {
+		if b.Len() > 0 {
+			b.WriteString(": ")
+		}
+		fmt.Fprintf(&b, "line %d", p.Line)
+	}
+	if p.Column != "" {
+		if b.Len() > 0 {
+			b.WriteString(", ")
+		}
+		fmt.Fprintf(&b, "column %s", p.Column)
+	}
+	if b.Len() > 0 {
+		b.WriteString(": ")
+	}
+	b.WriteString(p.Message)
+	return b.String()
+}
+
+// ValidationError carries every problem found in one piece of input. When it is returned, nothing was written.
+type ValidationError struct {
+	Problems []Problem
+}
+
+func (e *ValidationError) Error() string {
+	lines := make([]string, 0, len(e.Problems)+1)
+	lines = append(lines, fmt.Sprintf("%d problem(s); nothing was imported", len(e.Problems)))
+	for _, p := range e.Problems {
+		lines = append(lines, "  "+p.String())
+	}
+	return strings.Join(lines, "\n")
+}
+
+// AsValidation reports whether err is (or wraps) a *ValidationError and returns it.
+func AsValidation(err error) (*ValidationError, bool) {
+	var ve *ValidationError
+	ok := errors.As(err, &ve)
+	return ve, ok
+}

@@ -1,0 +1,329 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"strings"
+)
+
+// Counts says how much the compilation holds.
+type Counts struct {
+	Provinces    int `json:"provinces"`
+	Units        int `json:"units"`
+	Dates        int `json:"dates"`
+	DatesPending int `json:"dates_pending"`
+	Sections     int `json:"sections"`
+	Samples      int `json:"samples"`
+	Measurements int `json:"measurements"`
+	TiePoints    int `json:"tie_points"`
+	Events       int `json:"events"`
+}
+
+// Counts returns how many records of each kind the compilation holds.
+func (d *DB) Counts(ctx context.Context) (Counts, error) {
+	var c Counts
+	err := d.db.QueryRowContext(ctx, `SELECT
+		(SELECT count(*) FROM provinces), (SELECT count(*) FROM units), (SELECT count(*) FROM dates),
+		(SELECT count(*) FROM dates WHERE review_state = 'pending'), (SELECT count(*) FROM sections),
+		(SELECT count(*) FROM (SELECT DISTINCT section_id, sample FROM measurements)), (SELECT count(*) FROM measurements),
+		(SELECT count(*) FROM tie_points), (SELECT count(*) FROM events)`).Scan(&c.Provinces, &c.Units, &c.Dates,
+		&c.DatesPending, &c.Sections, &c.Samples, &c.Measurements, &c.TiePoints, &c.Events)
+	if err != nil {
+		return c, fmt.Errorf("counts: %w", err)
+	}
+	return c, nil
+}
+
+// IsEmpty reports whether the compilation holds no province, section or date.
+func (d *DB) IsEmpty(ctx context.Context) (bool, error) {
+	c, err := d.Counts(ctx)
+	return c.Provinces == 0 && c.Sections == 0 && c.Dates == 0, err
+}
+
+func notFound(err error, what string, id int64) error {
+	if errors.Is(err, sql.ErrNoRows) {
+		return fmt.Errorf("%s %d: %w", what, id, ErrNotFound)
+	}
+	return err
+}
+
+const provinceSelect = `SELECT p.id, p.name, p.description, p.version, p.created_at, p.updated_at,
+	(SELECT count(*) FROM units u WHERE u.province_id = p.id),
+	(SELECT count(*) FROM dates d JOIN units u ON d.unit_id = u.id WHERE u.province_id = p.id)
+	FROM provinces p`
+
+func scanProvince(s interface{ Scan(...any) error }) (Province, error) {
+	var p Province
+	err := s.Scan(&p.ID, &p.Name, &p.Description, &p.Version, &p.CreatedAt, &p.UpdatedAt, &p.NUnits, &p.NDates)
+	return p, err
+}
+
+// Provinces returns every province by name.
+func (d *DB) Provinces(ctx context.Context) ([]Province, error) {
+	return queryAll(ctx, d.db, provinceSelect+` ORDER BY p.name`, nil, scanProvince)
+}
+
+// Province returns one province, or ErrNotFound.
+func (d *DB) Province(ctx context.Context, id int64) (Province, error) {
+	p, err := scanProvince(d.db.QueryRowContext(ctx, provinceSelect+` WHERE p.id = ?`, id))
+	return p, notFound(err, "province", id)
+}
+
+const unitSelect = `SELECT u.id, u.province_id, p.name, u.name, u.kind, u.pile_position, u.volume_km3, u.volume_sigma_km3,
+	u.latitude, u.longitude, u.notes, u.version, u.created_at, u.updated_at,
+	(SELECT count(*) FROM dates d WHERE d.unit_id = u.id)
+	FROM units u JOIN provinces p ON p.id = u.province_id`
+
+func scanUnit(s interface{ Scan(...any) error }) (Unit, error) {
+	var u Unit
+	err := s.Scan(&u.ID, &u.ProvinceID, &u.Province, &u.Name, &u.Kind, &u.PilePosition, &u.VolumeKm3, &u.VolumeSigmaKm3,
+		&u.Latitude, &u.Longitude, &u.Notes, &u.Version, &u.CreatedAt, &u.UpdatedAt, &u.NDates)
+	return u, err
+}
+
+// Units returns the units of a province (all provinces when provinceID is 0), lowest in the pile first.
+func (d *DB) Units(ctx context.Context, provinceID int64) ([]Unit, error) {
+	q, args := unitSelect, []any{}
+	if provinceID != 0 {
+		q += ` WHERE u.province_id = ?`
+		args = append(args, provinceID)
+	}
+	q += ` ORDER BY p.name, u.pile_position IS NULL, u.pile_position, u.name`
+	return queryAll(ctx, d.db, q, args, scanUnit)
+}
+
+// Unit returns one unit, or ErrNotFound.
+func (d *DB) Unit(ctx context.Context, id int64) (Unit, error) {
+	u, err := scanUnit(d.db.QueryRowContext(ctx, unitSelect+` WHERE u.id = ?`, id))
+	return u, notFound(err, "unit", id)
+}
+
+const dateSelect = `SELECT d.id, d.unit_id, coalesce(u.name, ''), u.province_id, coalesce(p.name, ''), d.section_id,
+	coalesce(s.name, ''), d.height_m, d.sample_code, d.method, d.material, d.interpretation, d.age_ma, d.sigma_ma,
+	d.sigma_y_ma, d.sigma_z_ma, d.sigma_level, d.tracer, d.monitor, d.monitor_age_ma, d.lambda_per_a, d.laboratory,
+	d.citation, d.doi, d.latitude, d.longitude, d.review_state, d.notes, d.version, d.created_at, d.updated_at
+	FROM dates d LEFT JOIN units u ON u.id = d.unit_id LEFT JOIN provinces p ON p.id = u.province_id
+	LEFT JOIN sections s ON s.id = d.section_id`
+
+func scanDate(s interface{ Scan(...any) error }) (Date, error) {
+	var x Date
+	err := s.Scan(&x.ID, &x.UnitID, &x.Unit, &x.ProvinceID, &x.Province, &x.SectionID, &x.Section, &x.HeightM,
+		&x.SampleCode, &x.Method, &x.Material, &x.Interpretation, &x.AgeMa, &x.SigmaMa, &x.SigmaYMa, &x.SigmaZMa,
+		&x.SigmaLevel, &x.Tracer, &x.Monitor, &x.MonitorAgeMa, &x.LambdaPerA, &x.Laboratory, &x.Citation, &x.DOI,
+		&x.Latitude, &x.Longitude, &x.ReviewState, &x.Notes, &x.Version, &x.CreatedAt, &x.UpdatedAt)
+	return x, err
+}
+
+// Date returns one date, or ErrNotFound.
+func (d *DB) Date(ctx context.Context, id int64) (Date, error) {
+	x, err := scanDate(d.db.QueryRowContext(ctx, dateSelect+` WHERE d.id = ?`, id))
+	return x, notFound(err, "date", id)
+}
+
+// DateFilter selects, sorts and pages dates. Zero values select everything.
+type DateFilter struct {
+	ProvinceID  int64
+	UnitID      int64
+	SectionID   int64
+	Method      string
+	Material    string // exact, case-insensitive
+	MinAgeMa    *float64
+	MaxAgeMa    *float64
+	Text        string // in sample code, unit, laboratory, citation, DOI, notes
+	ReviewState string
+	Sort        string // one of DateSorts; "-" prefix for descending
+	Limit       int    // 0 = no limit
+	Offset      int
+}
+
+// DateSorts lists the sort keys of DateFilter.Sort.
+var dateSorts = map[string]string{
+	"age": "d.age_ma", "sample": "d.sample_code", "method": "d.method", "unit": "p.name, u.name",
+	"material": "d.material", "sigma": "d.sigma_ma / d.age_ma", "lab": "d.laboratory", "added": "d.id",
+}
+
+// DateSortKeys returns the accepted sort keys.
+func DateSortKeys() []string {
+	return []string{"age", "sigma", "sample", "unit", "method", "material", "lab", "added"}
+}
+
+// Dates returns the dates selected by f (a page of them when f.Limit > 0) and how many match in all.
+func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
+	var where []string
+	var args []any
+	add := func(cond string, a ...any) { where = append(where, cond); args = append(args, a...) }
+	if f.ProvinceID != 0 {
+		add("u.province_id = ?", f.ProvinceID)
+	}
+	if f.UnitID != 0 {
+		add("d.unit_id = ?", f.UnitID)
+	}
+	if f.SectionID != 0 {
+		add("d.section_id = ?", f.SectionID)
+	}
+	if f.Method != "" {
+		add("d.method = ?", f.Method)
+	}
+	if f.Material != "" {
+		add("lower(d.material) = lower(?)", f.Material)
+	}
+	if f.MinAgeMa != nil {
+		add("d.age_ma >= ?", *f.MinAgeMa)
+	}
+	if f.MaxAgeMa != nil {
+		add("d.age_ma <= ?", *f.MaxAgeMa)
+	}
+	if f.ReviewState != "" {
+		add("d.review_state = ?", f.ReviewState)
+	}
+	if t := strings.TrimSpace(f.Text); t != "" {
+		like := "%" + escapeLike(strings.ToLower(t)) + "%"
+		add(`(lower(d.sample_code) LIKE ? ESCAPE '\' OR lower(coalesce(u.name, '')) LIKE ? ESCAPE '\'
+			OR lower(d.laboratory) LIKE ? ESCAPE '\' OR lower(d.citation) LIKE ? ESCAPE '\'
+			OR lower(d.doi) LIKE ? ESCAPE '\' OR lower(d.notes) LIKE ? ESCAPE '\' OR lower(coalesce(s.name, '')) LIKE ? ESCAPE '\')`,
+			like, like, like, like, like, like, like)
+	}
+	cond := ""
+	if len(where) > 0 {
+		cond = " WHERE " + strings.Join(where, " AND ")
+	}
+	var total int
+	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM dates d LEFT JOIN units u ON u.id = d.unit_id
+		LEFT JOIN provinces p ON p.id = u.province_id LEFT JOIN sections s ON s.id = d.section_id`+cond, args...).Scan(&total); err != nil {
+		return nil, 0, fmt.Errorf("count dates: %w", err)
+	}
+	key, desc := strings.CutPrefix(f.Sort, "-")
+	col, ok := dateSorts[key]
+	if !ok {
+		col, desc = "d.age_ma", true
+	}
+	dir := " ASC"
+	if desc {
+		dir = " DESC"
+	}
+	q := dateSelect + cond + " ORDER BY " + col + dir + ", d.id"
+	if f.Limit > 0 {
+		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
+	}
+	out, err := queryAll(ctx, d.db, q, args, scanDate)
+	return out, total, err
+}
+
+func escapeLike(s string) string {
+	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
+}
+
+// Materials returns the distinct materials of the dates, for filter menus.
+func (d *DB) Materials(ctx context.Context) ([]string, error) {
+	return queryAll(ctx, d.db, `SELECT DISTINCT material FROM dates WHERE material <> '' ORDER BY lower(material)`, nil,
+		func(s interface{ Scan(...any) error }) (string, error) {
+			var m string
+			return m, s.Scan(&m)
+		})
+}
+
+// Calibrations returns the ⁴⁰Ar/³⁹Ar calibrations, the target first.
+func (d *DB) Calibrations(ctx context.Context) ([]Calibration, error) {
+	return queryAll(ctx, d.db, `SELECT id, code, name, lambda_per_a, lambda_sigma_per_a, monitor, monitor_age_ma,
+		monitor_sigma_ma, source, is_target FROM calibrations ORDER BY is_target DESC, id`, nil,
+		func(s interface{ Scan(...any) error }) (Calibration, error) {
+			var c Calibration
+			err := s.Scan(&c.ID, &c.Code, &c.Name, &c.LambdaPerA, &c.LambdaSigmaPerA, &c.Monitor, &c.MonitorAgeMa,
+				&c.MonitorSigmaMa, &c.Source, &c.IsTarget)
+			return c, err
+		})
+}
+
+const sectionSelect = `SELECT s.id, s.name, s.kind, s.latitude, s.longitude, s.palaeolatitude, s.thermal_maturity,
+	s.toc_threshold_wt_pct, s.notes, s.version, s.created_at, s.updated_at,
+	(SELECT count(DISTINCT sample) FROM measurements m WHERE m.section_id = s.id),
+	(SELECT count(*) FROM tie_points t WHERE t.section_id = s.id),
+	(SELECT count(*) FROM events e WHERE e.section_id = s.id),
+	(SELECT min(height_m) FROM measurements m WHERE m.section_id = s.id),
+	(SELECT max(height_m) FROM measurements m WHERE m.section_id = s.id)
+	FROM sections s`
+
+func scanSection(r interface{ Scan(...any) error }) (Section, error) {
+	var s Section
+	err := r.Scan(&s.ID, &s.Name, &s.Kind, &s.Latitude, &s.Longitude, &s.Palaeolatitude, &s.ThermalMaturity,
+		&s.TocThresholdWtPct, &s.Notes, &s.Version, &s.CreatedAt, &s.UpdatedAt, &s.NSamples, &s.NTies, &s.NEvents,
+		&s.MinHeightM, &s.MaxHeightM)
+	return s, err
+}
+
+// Sections returns every section by name.
+func (d *DB) Sections(ctx context.Context) ([]Section, error) {
+	return queryAll(ctx, d.db, sectionSelect+` ORDER BY s.name`, nil, scanSection)
+}
+
+// Section returns one section, or ErrNotFound.
+func (d *DB) Section(ctx context.Context, id int64) (Section, error) {
+	s, err := scanSection(d.db.QueryRowContext(ctx, sectionSelect+` WHERE s.id = ?`, id))
+	return s, notFound(err, "section", id)
+}
+
+// TiePoints returns the tie points of a section (all sections when sectionID is 0), lowest first.
+func (d *DB) TiePoints(ctx context.Context, sectionID int64) ([]TiePoint, error) {
+	q := `SELECT t.id, t.section_id, s.name, t.label, t.height_m, t.kind, t.distribution, t.age_ma, t.sigma_ma,
+		t.sigma_level, t.age_min_ma, t.age_max_ma, t.date_id, coalesce(d.sample_code, ''), coalesce(d.method, ''),
+		t.notes, t.version FROM tie_points t JOIN sections s ON s.id = t.section_id LEFT JOIN dates d ON d.id = t.date_id`
+	var args []any
+	if sectionID != 0 {
+		q += ` WHERE t.section_id = ?`
+		args = append(args, sectionID)
+	}
+	q += ` ORDER BY s.name, t.height_m, t.label`
+	return queryAll(ctx, d.db, q, args, func(r interface{ Scan(...any) error }) (TiePoint, error) {
+		var t TiePoint
+		err := r.Scan(&t.ID, &t.SectionID, &t.Section, &t.Label, &t.HeightM, &t.Kind, &t.Distribution, &t.AgeMa,
+			&t.SigmaMa, &t.SigmaLevel, &t.AgeMinMa, &t.AgeMaxMa, &t.DateID, &t.DateSampleCode, &t.DateMethod, &t.Notes, &t.Version)
+		return t, err
+	})
+}
+
+// Events returns the events of a section (all events when sectionID is 0), lowest first.
+func (d *DB) Events(ctx context.Context, sectionID int64) ([]Event, error) {
+	q := `SELECT e.id, e.section_id, coalesce(s.name, ''), e.name, e.kind, e.base_height_m, e.top_height_m, e.age_ma,
+		e.sigma_ma, e.origin, e.review_state, e.notes, e.version FROM events e LEFT JOIN sections s ON s.id = e.section_id`
+	var args []any
+	if sectionID != 0 {
+		q += ` WHERE e.section_id = ?`
+		args = append(args, sectionID)
+	}
+	q += ` ORDER BY s.name, e.base_height_m, e.name`
+	return queryAll(ctx, d.db, q, args, func(r interface{ Scan(...any) error }) (Event, error) {
+		var e Event
+		err := r.Scan(&e.ID, &e.SectionID, &e.Section, &e.Name, &e.Kind, &e.BaseHeightM, &e.TopHeightM, &e.AgeMa,
+			&e.SigmaMa, &e.Origin, &e.ReviewState, &e.Notes, &e.Version)
+		return e, err
+	})
+}
+
+// Proxies returns the proxies the compilation knows.
+func (d *DB) Proxies(ctx context.Context) ([]Proxy, error) {
+	return queryAll(ctx, d.db, `SELECT code, name, unit, description FROM proxies ORDER BY rowid`, nil,
+		func(r interface{ Scan(...any) error }) (Proxy, error) {
+			var p Proxy
+			return p, r.Scan(&p.Code, &p.Name, &p.Unit, &p.Description)
+		})
+}
+
+// queryAll runs q and scans every row with scan.
+func queryAll[T any](ctx context.Context, db *sql.DB, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {
+	rows, err := db.QueryContext(ctx, q, args...)
+	if err != nil {
+		return nil, fmt.Errorf("query: %w", err)
+	}
+	defer rows.Close()
+	var out []T
+	for rows.Next() {
+		v, err := scan(rows)
+		if err != nil {
+			return nil, fmt.Errorf("scan: %w", err)
+		}
+		out = append(out, v)
+	}
+	return out, rows.Err()
+}

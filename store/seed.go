@@ -1,0 +1,93 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"io/fs"
+	"path"
+)
+
+// SettingDemo is set when the database was seeded with the invented demo scenario; pages then say so.
+const SettingDemo = "demo_scenario"
+
+// Import runs the importer of one kind on a file; section is needed by the per-section kinds.
+func (d *DB) Import(ctx context.Context, kind, section string, fsys fs.FS, name string) (ImportResult, error) {
+	f, err := fsys.Open(name)
+	if err != nil {
+		return ImportResult{}, fmt.Errorf("import %s: %w", kind, err)
+	}
+	defer f.Close()
+	file := path.Base(name)
+	switch kind {
+	case "provinces":
+		return d.ImportProvinces(ctx, file, f)
+	case "units":
+		return d.ImportUnits(ctx, file, f)
+	case "sections":
+		return d.ImportSections(ctx, file, f)
+	case "dates":
+		return d.ImportDates(ctx, file, f)
+	case "measurements":
+		return d.ImportMeasurements(ctx, section, file, f)
+	case "ties":
+		return d.ImportTies(ctx, section, file, f)
+	case "events":
+		return d.ImportEvents(ctx, section, file, f)
+	}
+	return ImportResult{}, fmt.Errorf("import: unknown kind %q", kind)
+}
+
+// SeedDemo imports the demo scenario in fsys (manifest.csv: kind, section, file, in order) through the
+// ordinary importers, when the compilation is empty. It reports whether it seeded. Each file is its own
+// all-or-nothing import; the demo files are tested, so a failure here is a bug.
+func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []ImportResult, error) {
+	empty, err := d.IsEmpty(ctx)
+	if err != nil || !empty {
+		return false, nil, err
+	}
+	mf, err := fsys.Open("manifest.csv")
+	if err != nil {
+		return false, nil, fmt.Errorf("seed demo: %w", err)
+	}
+	defer mf.Close()
+	t, err := readCSV("manifest.csv", mf)
+	if err != nil {
+		return false, nil, fmt.Errorf("seed demo: %w", err)
+	}
+	t.requireColumns([]string{"kind", "section", "file"}, []string{"kind", "section", "file"})
+	if err := t.err(); err != nil {
+		return false, nil, fmt.Errorf("seed demo: %w", err)
+	}
+	var results []ImportResult
+	for i := range t.rows {
+		rw := t.row(i)
+		res, err := d.Import(ctx, rw.str("kind"), rw.str("section"), fsys, rw.str("file"))
+		if err != nil {
+			return false, results, fmt.Errorf("seed demo: %w", err)
+		}
+		results = append(results, res)
+	}
+	if err := d.SetSetting(ctx, SettingDemo, label); err != nil {
+		return false, results, err
+	}
+	return true, results, nil
+}
+
+// Setting returns a compilation setting ("" when unset).
+func (d *DB) Setting(ctx context.Context, key string) (string, error) {
+	var v string
+	err := d.db.QueryRowContext(ctx, `SELECT value FROM settings WHERE key = ?`, key).Scan(&v)
+	if errors.Is(err, sql.ErrNoRows) {
+		return "", nil
+	}
+	return v, err
+}
+
+// SetSetting sets a compilation setting.
+func (d *DB) SetSetting(ctx context.Context, key, value string) error {
+	_, err := d.db.ExecContext(ctx, `INSERT INTO settings (key, value) VALUES (?, ?)
+		ON CONFLICT(key) DO UPDATE SET value = excluded.value`, key, value)
+	return err
+}
