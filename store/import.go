@@ -362,7 +362,7 @@ func parseDateRow(rw row, seen map[[2]string]int) Date {
 		HeightM: rw.optFloat("height_m"), SampleCode: rw.requiredStr("sample_code"),
 		Method: rw.enum("method", methodCodes(), ""), Material: rw.str("material"),
 		Interpretation: rw.enum("interpretation", codes(Interpretations()), ""),
-		Tracer: rw.str("tracer"), Monitor: rw.str("monitor"), MonitorAgeMa: rw.optFloat("monitor_age_ma"),
+		Tracer:         rw.str("tracer"), Monitor: rw.str("monitor"), MonitorAgeMa: rw.optFloat("monitor_age_ma"),
 		LambdaPerA: rw.optFloat("lambda_per_a"), Laboratory: rw.str("laboratory"), Citation: rw.str("citation"),
 		DOI: rw.str("doi"), Latitude: rw.optFloat("latitude"), Longitude: rw.optFloat("longitude"),
 		ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
@@ -511,7 +511,7 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 			for i := range t.rows {
 				rw := t.row(i)
 				tp := TiePoint{Label: rw.requiredStr("label"), Kind: rw.enum("kind", codes(TieKinds()), ""),
-					Distribution: rw.enum("distribution", []string{"normal", "uniform"}, ""),
+					Distribution:   rw.enum("distribution", []string{"normal", "uniform"}, ""),
 					DateSampleCode: rw.str("date_sample_code"), DateMethod: rw.str("date_method"), Notes: rw.str("notes")}
 				if h, ok := rw.float("height_m"); ok {
 					tp.HeightM = h
