@@ -1,0 +1,139 @@
+// Package views renders coeval's pages with templ from plain view models. It never calls the store or
+// the numerics: web builds the view models (already formatted, with their units and σ levels) and views
+// only lays them out. It imports no other package of coeval.
+package views
+
+// Link is a labelled URL.
+type Link struct {
+	Label string
+	URL   string
+}
+
+// Page is what every page has: its title, the active section of the navigation, breadcrumbs, the
+// downloads of what it shows, and the banner shown while the compilation holds the invented demo.
+type Page struct {
+	Title     string
+	Subtitle  string
+	Nav       string
+	Crumbs    []Link
+	Downloads []Link
+	Demo      string
+}
+
+// Stat is one figure of the home page.
+type Stat struct {
+	Label string
+	Value string
+	URL   string
+}
+
+// Home is the home page: what is in the compilation.
+type Home struct {
+	Page
+	Stats     []Stat
+	Provinces Table
+	Sections  Table
+	Latest    Table
+}
+
+// Cell is one cell of a table. Num right-aligns it with tabular figures; Class adds a style such as
+// "pending" or "caution"; Title is shown on hover.
+type Cell struct {
+	Text  string
+	URL   string
+	Num   bool
+	Class string
+	Title string
+}
+
+// Column is a table header; SortURL makes it a sort link, Sorted marks the active sort ("asc"/"desc").
+type Column struct {
+	Label   string
+	Unit    string
+	Num     bool
+	SortURL string
+	Sorted  string
+	Title   string
+}
+
+// Table is a table with an optional caption and notes under it.
+type Table struct {
+	ID      string
+	Caption string
+	Columns []Column
+	Rows    [][]Cell
+	Notes   []string
+	Empty   string
+}
+
+// Option is a choice of a select field.
+type Option struct {
+	Value    string
+	Label    string
+	Selected bool
+}
+
+// Field is a field of a filter form.
+type Field struct {
+	Name        string
+	Label       string
+	Kind        string // "select", "text", "number"
+	Value       string
+	Options     []Option
+	Placeholder string
+	Step        string
+}
+
+// Form is a GET filter form whose fields all live in the URL.
+type Form struct {
+	Action string
+	Fields []Field
+	Reset  string
+}
+
+// Pager links the pages of a long list.
+type Pager struct {
+	Summary string
+	Prev    string
+	Next    string
+}
+
+// List is a page that lists records, filtered, sorted and paged on the server.
+type List struct {
+	Page
+	Intro string
+	Form  *Form
+	Table Table
+	Pager *Pager
+}
+
+// FieldGroup is a titled group of label–value pairs of a record.
+type FieldGroup struct {
+	Title  string
+	Fields []KV
+}
+
+// KV is one label–value pair; URL links the value.
+type KV struct {
+	Label string
+	Value string
+	URL   string
+	Class string
+}
+
+// Detail is the page of one record: its fields, then related tables.
+type Detail struct {
+	Page
+	Intro  string
+	Groups []FieldGroup
+	Tables []Table
+	Links  []Link
+}
+
+// ErrorView is the page shown for an error the user can act on (or a generic one for internal errors).
+type ErrorView struct {
+	Page
+	Status  int
+	Message string
+	Details []string
+}
