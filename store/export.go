@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"context"
 	"database/sql"
 	"encoding/csv"
@@ -258,4 +259,29 @@ func (d *DB) Export(ctx context.Context, kind, section string, w io.Writer) erro
 		}
 		return WriteEventsCSV(w, es)
 	}
+}
+
+// WriteWithSection writes items of several sections with one of the per-section writers, adding a
+// leading "section" column so the rows stay attributable.
+func WriteWithSection[T any](w io.Writer, items []T, section func(T) string, write func(io.Writer, []T) error) error {
+	var buf bytes.Buffer
+	if err := write(&buf, items); err != nil {
+		return err
+	}
+	recs, err := csv.NewReader(&buf).ReadAll()
+	if err != nil {
+		return err
+	}
+	cw := csv.NewWriter(w)
+	for i, rec := range recs {
+		first := "section"
+		if i > 0 {
+			first = section(items[i-1])
+		}
+		if err := cw.Write(append([]string{first}, rec...)); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
 }

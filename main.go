@@ -1,0 +1,277 @@
+// Command coeval serves the shared compilation of eruption dates and sedimentary-record ages, and imports
+// and exports its CSV files. It only wires: configuration from flags and environment, the store, the
+// migrations, the embedded demo scenario and the web handler.
+//
+//	coeval [-db FILE] [-addr HOST:PORT] [-demo=false]   serve (the default)
+//	coeval [-db FILE] import KIND [SECTION] FILE         KIND: provinces, units, sections, dates; or, for one
+//	                                                     section: measurements, ties, events
+//	coeval [-db FILE] export KIND [SECTION] [-o FILE]    the same kinds, in the import formats
+package main
+
+import (
+	"context"
+	"embed"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"io/fs"
+	"log/slog"
+	"net"
+	"net/http"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"time"
+
+	"coeval/migrations"
+	"coeval/static"
+	"coeval/store"
+	"coeval/web"
+)
+
+//go:embed testdata/demo/*.csv
+var demoFiles embed.FS
+
+// demoLabel is shown on every page while the compilation holds the demo scenario.
+const demoLabel = "The Hvarn Plateau Basalts, their units, laboratories, citations and the three sections are an invented scenario for trying coeval out — not real measurements."
+
+// config is everything main reads from flags and the environment.
+type config struct {
+	dbPath string
+	addr   string
+	demo   bool
+}
+
+func envOr(key, def string) string {
+	if v := os.Getenv(key); v != "" {
+		return v
+	}
+	return def
+}
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	if err := run(ctx, os.Args[1:], os.Stdout, os.Stderr); err != nil {
+		if !errors.Is(err, flag.ErrHelp) {
+			fmt.Fprintln(os.Stderr, "coeval:", err)
+		}
+		os.Exit(1)
+	}
+}
+
+// run parses the command line and runs the command; it returns when the command is done or ctx ends.
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	cfg := config{}
+	fl := flag.NewFlagSet("coeval", flag.ContinueOnError)
+	fl.SetOutput(stderr)
+	fl.StringVar(&cfg.dbPath, "db", envOr("COEVAL_DB", "coeval.db"), "SQLite database file (env COEVAL_DB)")
+	fl.StringVar(&cfg.addr, "addr", envOr("COEVAL_ADDR", "localhost:8080"), "listen address (env COEVAL_ADDR)")
+	fl.BoolVar(&cfg.demo, "demo", envOr("COEVAL_DEMO", "true") != "false", "seed the invented demo scenario into an empty database (env COEVAL_DEMO)")
+	fl.Usage = func() {
+		fmt.Fprint(stderr, `usage:
+  coeval [-db FILE] [-addr HOST:PORT] [-demo=false]   serve the compilation (default)
+  coeval [-db FILE] import KIND [SECTION] FILE         import a CSV file, all or nothing
+  coeval [-db FILE] export KIND [SECTION] [-o FILE]    export in the same format
+KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events
+flags:
+`)
+		fl.PrintDefaults()
+	}
+	if err := fl.Parse(args); err != nil {
+		return err
+	}
+	rest := fl.Args()
+	cmd := "serve"
+	if len(rest) > 0 {
+		cmd, rest = rest[0], rest[1:]
+	}
+	logger := slog.New(slog.NewTextHandler(stderr, nil))
+	switch cmd {
+	case "serve":
+		if len(rest) > 0 {
+			return fmt.Errorf("serve takes no arguments, got %q", rest)
+		}
+		return serve(ctx, cfg, logger, stdout)
+	case "import":
+		return importCmd(ctx, cfg, rest, stdout)
+	case "export":
+		return exportCmd(ctx, cfg, rest, stdout, stderr)
+	}
+	fl.Usage()
+	return fmt.Errorf("unknown command %q", cmd)
+}
+
+// openStore opens and migrates the database file.
+func openStore(ctx context.Context, path string) (*store.DB, error) {
+	db, err := store.Open(ctx, path)
+	if err != nil {
+		return nil, err
+	}
+	if _, err := db.Migrate(ctx, migrations.FS); err != nil {
+		db.Close()
+		return nil, err
+	}
+	return db, nil
+}
+
+func demoFS() fs.FS {
+	sub, err := fs.Sub(demoFiles, "testdata/demo")
+	if err != nil {
+		panic(err) // the embed pattern guarantees the folder
+	}
+	return sub
+}
+
+func serve(ctx context.Context, cfg config, logger *slog.Logger, stdout io.Writer) error {
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	if cfg.demo {
+		seeded, results, err := db.SeedDemo(ctx, demoFS(), demoLabel)
+		if err != nil {
+			return err
+		}
+		if seeded {
+			fmt.Fprintf(stdout, "coeval: %s was empty; seeded the invented demo scenario (%d files)\n", cfg.dbPath, len(results))
+		}
+	}
+	ln, err := net.Listen("tcp", cfg.addr)
+	if err != nil {
+		return fmt.Errorf("listen on %s: %w", cfg.addr, err)
+	}
+	srv := &http.Server{
+		Handler:           web.NewHandler(db, logger, static.FS),
+		ReadHeaderTimeout: 10 * time.Second,
+		ReadTimeout:       5 * time.Minute, // uploads of large files
+		WriteTimeout:      5 * time.Minute,
+		IdleTimeout:       2 * time.Minute,
+	}
+	fmt.Fprintf(stdout, "coeval: serving http://%s (database %s); Ctrl-C stops\n", displayAddr(ln.Addr()), cfg.dbPath)
+	errc := make(chan error, 1)
+	go func() { errc <- srv.Serve(ln) }()
+	select {
+	case err := <-errc:
+		return err
+	case <-ctx.Done():
+	}
+	shutdownCtx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+	defer cancel()
+	if err := srv.Shutdown(shutdownCtx); err != nil {
+		return fmt.Errorf("shutdown: %w", err)
+	}
+	fmt.Fprintln(stdout, "coeval: stopped")
+	return nil
+}
+
+// displayAddr turns a wildcard listen address into one a browser can open.
+func displayAddr(a net.Addr) string {
+	s := a.String()
+	host, port, err := net.SplitHostPort(s)
+	if err != nil {
+		return s
+	}
+	if host == "" || host == "::" || host == "0.0.0.0" || host == "127.0.0.1" {
+		host = "localhost"
+	}
+	return net.JoinHostPort(host, port)
+}
+
+// kindArgs splits KIND [SECTION] and checks that the section is given exactly when the kind needs it.
+func kindArgs(verb string, args []string, wantFile bool) (kind, section string, rest []string, err error) {
+	if len(args) == 0 {
+		return "", "", nil, fmt.Errorf("%s: want KIND (provinces, units, sections, dates, measurements, ties, events)", verb)
+	}
+	kind, args = args[0], args[1:]
+	perSection, ok := store.ExportKinds[kind]
+	if !ok {
+		return "", "", nil, fmt.Errorf("%s: unknown kind %q; want provinces, units, sections, dates, measurements, ties or events", verb, kind)
+	}
+	if perSection {
+		if len(args) == 0 {
+			return "", "", nil, fmt.Errorf("%s %s: want the section name, e.g. %s %s \"Skarfell Creek\" FILE.csv", verb, kind, verb, kind)
+		}
+		section, args = args[0], args[1:]
+	}
+	if wantFile && len(args) != 1 {
+		return "", "", nil, fmt.Errorf("%s %s: want one FILE.csv after the kind%s", verb, kind, map[bool]string{true: " and section", false: ""}[perSection])
+	}
+	return kind, section, args, nil
+}
+
+func importCmd(ctx context.Context, cfg config, args []string, stdout io.Writer) error {
+	kind, section, rest, err := kindArgs("import", args, true)
+	if err != nil {
+		return err
+	}
+	file := rest[0]
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	abs, err := filepath.Abs(file)
+	if err != nil {
+		return err
+	}
+	res, err := db.Import(ctx, kind, section, os.DirFS(filepath.Dir(abs)), filepath.Base(abs))
+	if err != nil {
+		if ve, ok := store.AsValidation(err); ok {
+			return fmt.Errorf("import %s rejected, nothing was imported:\n%s", file, indent(ve.Problems))
+		}
+		return err
+	}
+	fmt.Fprintln(stdout, res.String())
+	return nil
+}
+
+func indent(ps []store.Problem) string {
+	lines := make([]string, len(ps))
+	for i, p := range ps {
+		lines[i] = "  " + p.String()
+	}
+	return strings.Join(lines, "\n")
+}
+
+func exportCmd(ctx context.Context, cfg config, args []string, stdout, stderr io.Writer) error {
+	kind, section, rest, err := kindArgs("export", args, false)
+	if err != nil {
+		return err
+	}
+	fl := flag.NewFlagSet("export", flag.ContinueOnError)
+	fl.SetOutput(stderr)
+	out := fl.String("o", "", "write to this file instead of standard output")
+	if err := fl.Parse(rest); err != nil {
+		return err
+	}
+	if fl.NArg() > 0 {
+		return fmt.Errorf("export: unexpected arguments %q", fl.Args())
+	}
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	if *out == "" {
+		return db.Export(ctx, kind, section, stdout)
+	}
+	// Write to a temporary file beside the target and rename, so a failed export leaves no partial file.
+	tmp, err := os.CreateTemp(filepath.Dir(*out), ".coeval-export-*")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(tmp.Name())
+	if err := db.Export(ctx, kind, section, tmp); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		return err
+	}
+	return os.Rename(tmp.Name(), *out)
+}

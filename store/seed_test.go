@@ -1,0 +1,93 @@
+package store
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"os"
+	"path/filepath"
+	"testing"
+)
+
+// exportAll writes every kind of record into dir with the file names of the demo manifest, plus the
+// manifest itself, so the folder can be seeded again.
+func exportAll(t *testing.T, db *DB, manifest [][]string, dir string) {
+	t.Helper()
+	ctx := context.Background()
+	for _, rec := range manifest[1:] {
+		kind, section, file := rec[0], rec[1], rec[2]
+		var buf bytes.Buffer
+		if err := db.Export(ctx, kind, section, &buf); err != nil {
+			t.Fatalf("export %s %s: %v", kind, section, err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, file), buf.Bytes(), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	var m bytes.Buffer
+	w := csv.NewWriter(&m)
+	w.WriteAll(manifest)
+	if err := os.WriteFile(filepath.Join(dir, "manifest.csv"), m.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func readManifest(t *testing.T, dir string) [][]string {
+	t.Helper()
+	f, err := os.Open(filepath.Join(dir, "manifest.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return recs
+}
+
+// The demo is seeded through the ordinary importers, once; export → import → export gives identical files.
+func TestSeedDemoOnceAndRoundTrip(t *testing.T) {
+	ctx := context.Background()
+	demo := filepath.Join("..", "testdata", "demo")
+	db1 := mustOpenDB(t)
+	seeded, results, err := db1.SeedDemo(ctx, os.DirFS(demo), "invented")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !seeded || len(results) == 0 {
+		t.Fatalf("first seed: seeded %v with %d imports, want true", seeded, len(results))
+	}
+	again, _, err := db1.SeedDemo(ctx, os.DirFS(demo), "invented")
+	if err != nil || again {
+		t.Fatalf("second seed: seeded %v, err %v; want no second seeding", again, err)
+	}
+	c1, err := db1.Counts(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The demo's promised size (issue: ≥ 14 units, ≥ 60 dates, 3 sections of 80–300 samples, ≥ 3 ties each).
+	if c1.Units < 14 || c1.Dates < 60 || c1.Sections != 3 || c1.TiePoints < 9 || c1.Samples < 240 {
+		t.Errorf("demo counts %+v below what the scenario promises", c1)
+	}
+	manifest := readManifest(t, demo)
+	dirA, dirB := t.TempDir(), t.TempDir()
+	exportAll(t, db1, manifest, dirA)
+
+	db2 := mustOpenDB(t)
+	if _, _, err := db2.SeedDemo(ctx, os.DirFS(dirA), "invented"); err != nil {
+		t.Fatalf("re-import of the export: %v", err)
+	}
+	exportAll(t, db2, manifest, dirB)
+	c2, _ := db2.Counts(ctx)
+	if c1 != c2 {
+		t.Errorf("counts after round trip %+v, want %+v", c2, c1)
+	}
+	for _, rec := range manifest[1:] {
+		a, _ := os.ReadFile(filepath.Join(dirA, rec[2]))
+		b, _ := os.ReadFile(filepath.Join(dirB, rec[2]))
+		if !bytes.Equal(a, b) {
+			t.Errorf("%s differs after import → export → import", rec[2])
+		}
+	}
+}

@@ -1,0 +1,43 @@
+package web
+
+import (
+	"net/http"
+
+	"coeval/views"
+)
+
+func (s *Server) handleCalibrationList(w http.ResponseWriter, r *http.Request) error {
+	p := newParams(r)
+	format := p.oneOf("format", []string{"html", "json"}, "html")
+	if err := p.err(); err != nil {
+		return err
+	}
+	cals, err := s.store.Calibrations(r.Context())
+	if err != nil {
+		return err
+	}
+	if format == "json" {
+		return writeList(w, "calibrations", len(cals), 0, len(cals), cals)
+	}
+	t := views.Table{ID: "calibrations", Columns: []views.Column{{Label: "Calibration"}, {Label: "Total ⁴⁰K decay constant", Num: true},
+		{Label: "σ(λ)", Unit: "1σ", Num: true}, {Label: "Monitor"}, {Label: "Monitor age", Unit: "Ma", Num: true},
+		{Label: "σ(monitor)", Unit: "Ma, 1σ", Num: true}, {Label: "Source"}, {Label: "Target"}}}
+	for _, c := range cals {
+		sl := "not given"
+		if c.LambdaSigmaPerA != nil {
+			sl = lambda(*c.LambdaSigmaPerA)
+		}
+		target := ""
+		if c.IsTarget {
+			target = "compilation target"
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: c.Name}, {Text: lambda(c.LambdaPerA), Num: true}, {Text: sl, Num: true},
+			{Text: c.Monitor}, {Text: num(c.MonitorAgeMa), Num: true}, {Text: optNum(c.MonitorSigmaMa), Num: true},
+			{Text: c.Source}, {Text: target}})
+	}
+	t.Notes = []string{"⁴⁰Ar/³⁹Ar ages depend on the fluence-monitor age and the ⁴⁰K decay constant their authors used. Recalculation between calibrations uses the exact closed form (the sample/monitor ratio is invariant), never linear scaling by the monitor-age ratio."}
+	l := views.List{Page: s.page(r.Context(), "⁴⁰Ar/³⁹Ar calibrations", "Calibrations"), Table: t}
+	l.Page.Downloads = []views.Link{{Label: "JSON", URL: "/calibrations?format=json"}}
+	s.render(w, r, http.StatusOK, views.ListPage(l))
+	return nil
+}

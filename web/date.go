@@ -1,0 +1,370 @@
+package web
+
+import (
+	"fmt"
+	"io"
+	"net/http"
+	"strconv"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+func (s *Server) registerDateRoutes(r chi.Router) {
+	r.Get("/dates", s.handle(s.handleDateList))
+	r.Get("/dates/{id}", s.handle(s.handleDateShow))
+}
+
+func methodLabel(code string) string {
+	if m, ok := store.MethodByCode(code); ok {
+		return m.Label
+	}
+	return code
+}
+
+// calibrationNote says which calibration an ⁴⁰Ar/³⁹Ar age was published against.
+func calibrationNote(d store.Date) (string, bool) {
+	if !store.IsArAr(d.Method) {
+		return "", true
+	}
+	if d.MonitorAgeMa == nil || d.LambdaPerA == nil {
+		return "published without monitor age or decay constant: cannot be recalculated to another calibration", false
+	}
+	mon := orDash(d.Monitor)
+	return fmt.Sprintf("published against %s = %s Ma, λ = %s", mon, num(*d.MonitorAgeMa), lambda(*d.LambdaPerA)), true
+}
+
+// owner is what a date dates: a unit or a horizon of a section.
+func owner(d store.Date) (string, string) {
+	if d.UnitID != nil {
+		return d.Unit, idURL("/units", *d.UnitID)
+	}
+	if d.SectionID != nil {
+		h := ""
+		if d.HeightM != nil {
+			h = " at " + num(*d.HeightM) + " m"
+		}
+		return d.Section + h, idURL("/sections", *d.SectionID)
+	}
+	return "—", ""
+}
+
+// dateTable lists dates with ages as published and ± at the chosen σ level. sort gives the sortable
+// headers' links (nil: not sortable).
+func dateTable(r *http.Request, ds []store.Date, level int, sortable bool) views.Table {
+	sigmaLabel := fmt.Sprintf("± %dσ", level)
+	cols := []views.Column{{Label: "Sample"}, {Label: "Unit or horizon"}, {Label: "Method"}, {Label: "Material"},
+		{Label: "Age", Unit: "Ma, as published", Num: true}, {Label: sigmaLabel, Unit: "Ma, analytical", Num: true,
+			Title: "Analytical uncertainty (U–Pb: X) at the σ level chosen for this view"},
+		{Label: "Interpretation"}, {Label: "Laboratory"}, {Label: "Review"}}
+	if sortable {
+		keys := []string{"sample", "unit", "method", "material", "age", "sigma", "", "lab", ""}
+		cur := r.URL.Query().Get("sort")
+		if cur == "" {
+			cur = "-age"
+		}
+		for i, k := range keys {
+			if k == "" {
+				continue
+			}
+			next, mark := k, ""
+			switch cur {
+			case k:
+				next, mark = "-"+k, "asc"
+			case "-" + k:
+				mark = "desc"
+			}
+			cols[i].SortURL = withQuery(r, "sort", next, "page", "")
+			cols[i].Sorted = mark
+		}
+	}
+	t := views.Table{ID: "dates", Columns: cols, Empty: "No date matches."}
+	anyArAr := false
+	for _, d := range ds {
+		age, sigma := ageSigma(d.AgeMa, d.SigmaMa, level)
+		own, ownURL := owner(d)
+		note, ok := calibrationNote(d)
+		ageCell := views.Cell{Text: age, Num: true, Title: note}
+		if store.IsArAr(d.Method) {
+			anyArAr = true
+			ageCell.Text += " †"
+			if !ok {
+				ageCell.Class = "caution"
+				ageCell.Text = age + " ‡"
+			}
+		}
+		review := views.Cell{Text: store.Label(store.ReviewStates(), d.ReviewState)}
+		if d.ReviewState != "accepted" {
+			review.Class = "pending"
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: d.SampleCode, URL: idURL("/dates", d.ID)}, {Text: own, URL: ownURL},
+			{Text: methodLabel(d.Method)}, {Text: orDash(d.Material)}, ageCell, {Text: sigma, Num: true},
+			{Text: store.Label(store.Interpretations(), d.Interpretation)}, {Text: orDash(d.Laboratory)}, review})
+	}
+	t.Notes = append(t.Notes, fmt.Sprintf("Ages are as published. ± is the analytical uncertainty at %dσ (for U–Pb: X, without tracer or decay-constant terms); use it to compare dates of one system and one laboratory only.", level))
+	if anyArAr {
+		t.Notes = append(t.Notes, "† ⁴⁰Ar/³⁹Ar age on the calibration (monitor age, decay constant) its authors used: not directly comparable with U–Pb or with ⁴⁰Ar/³⁹Ar ages on another calibration. ‡ published without calibration details: cannot be recalculated. Hover an age for its calibration.")
+	}
+	return t
+}
+
+func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
+	ctx := r.Context()
+	p := newParams(r)
+	format := p.format()
+	level := p.sigmaLevel()
+	var methods []string
+	for _, m := range store.Methods() {
+		methods = append(methods, m.Code)
+	}
+	f := store.DateFilter{
+		ProvinceID:  p.id("province"),
+		UnitID:      p.id("unit"),
+		SectionID:   p.id("section"),
+		Method:      p.oneOf("method", methods, ""),
+		Material:    p.str("material"),
+		MinAgeMa:    p.optFloat("age_min", "an age in Ma"),
+		MaxAgeMa:    p.optFloat("age_max", "an age in Ma"),
+		Text:        p.str("q"),
+		ReviewState: p.oneOf("review", []string{"pending", "accepted", "rejected"}, ""),
+		Sort:        p.oneOf("sort", sortChoices(store.DateSortKeys()), "-age"),
+	}
+	per := p.int("per", 50, 1, 1000)
+	page := p.int("page", 1, 1, 1_000_000)
+	if f.MinAgeMa != nil && f.MaxAgeMa != nil && *f.MinAgeMa > *f.MaxAgeMa {
+		p.problems = append(p.problems, "age_min is older than age_max: the window is empty (ages in Ma, older = larger)")
+	}
+	if err := p.err(); err != nil {
+		return err
+	}
+	if format != "csv" {
+		f.Limit, f.Offset = per, (page-1)*per
+	}
+	ds, total, err := s.store.Dates(ctx, f)
+	if err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		return writeDownload(w, "dates.csv", func(w io.Writer) error { return store.WriteDatesCSV(w, ds) })
+	case "json":
+		return writeList(w, "dates", total, f.Offset, len(ds), ds)
+	}
+	form, err := s.dateFilterForm(r, f, level, per)
+	if err != nil {
+		return err
+	}
+	l := views.List{Page: s.page(ctx, "Dates", "Dates"), Form: form, Table: dateTable(r, ds, level, true)}
+	l.Page.Downloads = toLinks(downloads(r))
+	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. CSV downloads hold every matching date in the import format."
+	l.Pager = pagerFor(r, total, page, per, len(ds))
+	s.render(w, r, http.StatusOK, views.ListPage(l))
+	return nil
+}
+
+func sortChoices(keys []string) []string {
+	out := make([]string, 0, 2*len(keys))
+	for _, k := range keys {
+		out = append(out, k, "-"+k)
+	}
+	return out
+}
+
+func pagerFor(r *http.Request, total, page, per, shown int) *views.Pager {
+	first := (page-1)*per + 1
+	pg := &views.Pager{Summary: fmt.Sprintf("%d–%d of %d", first, first+shown-1, total)}
+	if shown == 0 {
+		pg.Summary = fmt.Sprintf("none of %d", total)
+	}
+	if page > 1 {
+		pg.Prev = withQuery(r, "page", strconv.Itoa(page-1))
+	}
+	if page*per < total {
+		pg.Next = withQuery(r, "page", strconv.Itoa(page+1))
+	}
+	return pg
+}
+
+func (s *Server) dateFilterForm(r *http.Request, f store.DateFilter, level, per int) (*views.Form, error) {
+	ctx := r.Context()
+	provinces, err := s.store.Provinces(ctx)
+	if err != nil {
+		return nil, err
+	}
+	units, err := s.store.Units(ctx, f.ProvinceID)
+	if err != nil {
+		return nil, err
+	}
+	sections, err := s.store.Sections(ctx)
+	if err != nil {
+		return nil, err
+	}
+	materials, err := s.store.Materials(ctx)
+	if err != nil {
+		return nil, err
+	}
+	idOpt := func(id, cur int64, label string) views.Option {
+		return views.Option{Value: strconv.FormatInt(id, 10), Label: label, Selected: id == cur}
+	}
+	prov := []views.Option{{Value: "", Label: "all"}}
+	for _, p := range provinces {
+		prov = append(prov, idOpt(p.ID, f.ProvinceID, p.Name))
+	}
+	unit := []views.Option{{Value: "", Label: "all"}}
+	for _, u := range units {
+		unit = append(unit, idOpt(u.ID, f.UnitID, u.Name))
+	}
+	sec := []views.Option{{Value: "", Label: "all"}}
+	for _, s := range sections {
+		sec = append(sec, idOpt(s.ID, f.SectionID, s.Name))
+	}
+	meth := []views.Option{{Value: "", Label: "all"}}
+	for _, m := range store.Methods() {
+		meth = append(meth, views.Option{Value: m.Code, Label: m.Label, Selected: m.Code == f.Method})
+	}
+	mat := []views.Option{{Value: "", Label: "all"}}
+	for _, m := range materials {
+		mat = append(mat, views.Option{Value: m, Label: m, Selected: m == f.Material})
+	}
+	rev := []views.Option{{Value: "", Label: "all"}}
+	for _, t := range store.ReviewStates() {
+		rev = append(rev, views.Option{Value: t.Code, Label: t.Label, Selected: t.Code == f.ReviewState})
+	}
+	sig := []views.Option{{Value: "1", Label: "1σ", Selected: level == 1}, {Value: "2", Label: "2σ", Selected: level == 2}}
+	return &views.Form{Action: "/dates", Reset: "/dates", Fields: []views.Field{
+		{Name: "province", Label: "Province", Kind: "select", Options: prov},
+		{Name: "unit", Label: "Unit", Kind: "select", Options: unit},
+		{Name: "section", Label: "Section (horizon dates)", Kind: "select", Options: sec},
+		{Name: "method", Label: "Method", Kind: "select", Options: meth},
+		{Name: "material", Label: "Material", Kind: "select", Options: mat},
+		{Name: "age_min", Label: "Younger limit (Ma)", Kind: "number", Value: optNumEmpty(f.MinAgeMa), Step: "any", Placeholder: "e.g. 154"},
+		{Name: "age_max", Label: "Older limit (Ma)", Kind: "number", Value: optNumEmpty(f.MaxAgeMa), Step: "any", Placeholder: "e.g. 156"},
+		{Name: "q", Label: "Text", Kind: "text", Value: f.Text, Placeholder: "sample, lab, citation, DOI…"},
+		{Name: "review", Label: "Review", Kind: "select", Options: rev},
+		{Name: "sigma", Label: "Show ± at", Kind: "select", Options: sig},
+		{Name: "per", Label: "Per page", Kind: "number", Value: strconv.Itoa(per), Step: "1"},
+	}}, nil
+}
+
+func optNumEmpty(v *float64) string {
+	if v == nil {
+		return ""
+	}
+	return num(*v)
+}
+
+func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
+	ctx := r.Context()
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	p := newParams(r)
+	format := p.format()
+	level := p.sigmaLevel()
+	if err := p.err(); err != nil {
+		return err
+	}
+	d, err := s.store.Date(ctx, id)
+	if err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		return writeDownload(w, fmt.Sprintf("date-%d.csv", id), func(w io.Writer) error { return store.WriteDatesCSV(w, []store.Date{d}) })
+	case "json":
+		writeJSON(w, http.StatusOK, map[string]any{"date": d, "uncertainties": jsonSigmaNote})
+		return nil
+	}
+	revs, err := s.store.RevisionCount(ctx, "date", id)
+	if err != nil {
+		return err
+	}
+	v := views.Detail{Page: s.page(ctx, d.SampleCode+" · "+methodLabel(d.Method), "Dates")}
+	own, ownURL := owner(d)
+	v.Page.Crumbs = []views.Link{{Label: "Dates", URL: "/dates"}}
+	if d.ProvinceID != nil {
+		v.Page.Crumbs = append(v.Page.Crumbs, views.Link{Label: d.Province, URL: idURL("/provinces", *d.ProvinceID)})
+	}
+	v.Page.Crumbs = append(v.Page.Crumbs, views.Link{Label: own, URL: ownURL})
+	v.Page.Downloads = toLinks(downloads(r))
+	other := 3 - level
+	v.Page.Subtitle = fmt.Sprintf("Show uncertainties at %dσ", other)
+	v.Links = []views.Link{{Label: fmt.Sprintf("Show uncertainties at %dσ", other), URL: withQuery(r, "sigma", strconv.Itoa(other))}}
+	v.Page.Subtitle = ""
+	sig := func(x *float64) string {
+		if x == nil {
+			return "not published"
+		}
+		_, s := ageSigma(d.AgeMa, *x, level)
+		return s + fmt.Sprintf(" Ma (%dσ)", level)
+	}
+	ageField := views.KV{Label: "Age as published", Value: plusMinus(d.AgeMa, d.SigmaMa, level) + " Ma, analytical"}
+	ageGroup := views.FieldGroup{Title: "Age", Fields: []views.KV{ageField,
+		{Label: "Analytical σ", Value: sig(&d.SigmaMa)},
+	}}
+	if m, _ := store.MethodByCode(d.Method); m.DecaySystem == store.SystemUPb {
+		ageGroup.Fields = append(ageGroup.Fields, views.KV{Label: "± with tracer (Y)", Value: sig(d.SigmaYMa)},
+			views.KV{Label: "± with tracer and decay constant (Z)", Value: sig(d.SigmaZMa)},
+			views.KV{Label: "Tracer", Value: orDash(d.Tracer)})
+	} else {
+		ageGroup.Fields = append(ageGroup.Fields, views.KV{Label: "± full external", Value: sig(d.SigmaZMa)})
+	}
+	ageGroup.Fields = append(ageGroup.Fields,
+		views.KV{Label: "σ level published", Value: fmt.Sprintf("%dσ", d.SigmaLevel)},
+		views.KV{Label: "Interpretation", Value: store.Label(store.Interpretations(), d.Interpretation)})
+	v.Groups = append(v.Groups, ageGroup)
+	if store.IsArAr(d.Method) || d.Method == "kar" {
+		note, ok := calibrationNote(d)
+		cls := ""
+		if !ok {
+			cls = "caution"
+		}
+		v.Groups = append(v.Groups, views.FieldGroup{Title: "Calibration as published", Fields: []views.KV{
+			{Label: "Fluence monitor", Value: orDash(d.Monitor)},
+			{Label: "Monitor age", Value: optNum(d.MonitorAgeMa) + " Ma"},
+			{Label: "Total ⁴⁰K decay constant", Value: optLambda(d.LambdaPerA)},
+			{Label: "Comparability", Value: note, Class: cls},
+		}})
+	}
+	v.Groups = append(v.Groups, views.FieldGroup{Title: "Sample", Fields: []views.KV{
+		{Label: "Sample code", Value: d.SampleCode},
+		{Label: "Unit or horizon", Value: own, URL: ownURL},
+		{Label: "Method", Value: methodLabel(d.Method)},
+		{Label: "Material", Value: orDash(d.Material)},
+		{Label: "Location", Value: coord(d.Latitude, d.Longitude)},
+	}})
+	source := views.FieldGroup{Title: "Source", Fields: []views.KV{
+		{Label: "Laboratory", Value: orDash(d.Laboratory)},
+		{Label: "Citation", Value: orDash(d.Citation)},
+	}}
+	if d.DOI != "" {
+		source.Fields = append(source.Fields, views.KV{Label: "DOI", Value: d.DOI, URL: "https://doi.org/" + d.DOI})
+	} else {
+		source.Fields = append(source.Fields, views.KV{Label: "DOI", Value: "—"})
+	}
+	source.Fields = append(source.Fields, views.KV{Label: "Notes", Value: orDash(d.Notes)})
+	v.Groups = append(v.Groups, source)
+	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), d.ReviewState)}
+	if d.ReviewState != "accepted" {
+		review.Class = "pending"
+	}
+	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: []views.KV{review,
+		{Label: "Record number", Value: strconv.FormatInt(d.ID, 10)},
+		{Label: "Version", Value: itoa(d.Version)},
+		{Label: "Added (UTC)", Value: d.CreatedAt},
+		{Label: "Last changed (UTC)", Value: d.UpdatedAt},
+		{Label: "Revisions recorded", Value: itoa(revs)},
+	}})
+	s.render(w, r, http.StatusOK, views.DetailPage(v))
+	return nil
+}
+
+func optLambda(v *float64) string {
+	if v == nil {
+		return "—"
+	}
+	return lambda(*v)
+}

@@ -1,0 +1,181 @@
+// Package web serves coeval over HTTP: the chi router and its middleware, the handlers of every page, the
+// CSV and JSON downloads, and the mapping from records and numerics to view models. It is the only package
+// that imports store, stats and views together; nothing imports web but main.
+package web
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"log/slog"
+	"net/http"
+	"time"
+
+	"github.com/a-h/templ"
+	"github.com/go-chi/chi/v5"
+	"github.com/go-chi/chi/v5/middleware"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+// Store is what the handlers need from the database (declared here, on the consumer side).
+type Store interface {
+	Counts(ctx context.Context) (store.Counts, error)
+	Provinces(ctx context.Context) ([]store.Province, error)
+	Province(ctx context.Context, id int64) (store.Province, error)
+	Units(ctx context.Context, provinceID int64) ([]store.Unit, error)
+	Unit(ctx context.Context, id int64) (store.Unit, error)
+	Dates(ctx context.Context, f store.DateFilter) ([]store.Date, int, error)
+	Date(ctx context.Context, id int64) (store.Date, error)
+	Materials(ctx context.Context) ([]string, error)
+	Calibrations(ctx context.Context) ([]store.Calibration, error)
+	Sections(ctx context.Context) ([]store.Section, error)
+	Section(ctx context.Context, id int64) (store.Section, error)
+	Samples(ctx context.Context, sectionID int64) ([]store.Sample, []string, error)
+	Proxies(ctx context.Context) ([]store.Proxy, error)
+	TiePoints(ctx context.Context, sectionID int64) ([]store.TiePoint, error)
+	Events(ctx context.Context, sectionID int64) ([]store.Event, error)
+	LatestBatches(ctx context.Context, limit int) ([]store.Batch, error)
+	RevisionCount(ctx context.Context, recordType string, id int64) (int, error)
+	Setting(ctx context.Context, key string) (string, error)
+}
+
+// Server holds what the handlers share.
+type Server struct {
+	store  Store
+	log    *slog.Logger
+	static fs.FS
+}
+
+// NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
+// security headers, cross-origin protection. staticFS holds the files served under /static/.
+func NewHandler(st Store, log *slog.Logger, staticFS fs.FS) http.Handler {
+	s := &Server{store: st, log: log, static: staticFS}
+	r := chi.NewRouter()
+	r.Use(middleware.Recoverer)
+	r.Use(middleware.RequestID)
+	r.Use(s.logRequests)
+	r.Use(securityHeaders)
+	r.Use(func(next http.Handler) http.Handler { return http.NewCrossOriginProtection().Handler(next) })
+
+	r.Handle("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)))
+	r.Get("/", s.handle(s.handleHome))
+	s.registerProvinceRoutes(r)
+	s.registerUnitRoutes(r)
+	s.registerDateRoutes(r)
+	s.registerSectionRoutes(r)
+	r.Get("/ties", s.handle(s.handleTieList))
+	r.Get("/events", s.handle(s.handleEventList))
+	r.Get("/calibrations", s.handle(s.handleCalibrationList))
+	r.NotFound(s.handle(func(w http.ResponseWriter, r *http.Request) error {
+		return notFoundError{what: "page " + r.URL.Path}
+	}))
+	return r
+}
+
+func (s *Server) logRequests(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		start := time.Now()
+		ww := middleware.NewWrapResponseWriter(w, r.ProtoMajor)
+		next.ServeHTTP(ww, r)
+		s.log.Info("request", "method", r.Method, "path", r.URL.Path, "status", ww.Status(),
+			"bytes", ww.BytesWritten(), "ms", time.Since(start).Milliseconds(), "id", middleware.GetReqID(r.Context()))
+	})
+}
+
+func securityHeaders(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		h := w.Header()
+		h.Set("Content-Security-Policy", "default-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; frame-ancestors 'none'; base-uri 'self'; form-action 'self'")
+		h.Set("X-Content-Type-Options", "nosniff")
+		h.Set("Referrer-Policy", "same-origin")
+		next.ServeHTTP(w, r)
+	})
+}
+
+// badRequest is an error the user can fix by changing the URL or form: its problems are shown.
+type badRequest struct {
+	message  string
+	problems []string
+}
+
+func (e badRequest) Error() string { return e.message }
+
+// notFoundError names what was not found.
+type notFoundError struct{ what string }
+
+func (e notFoundError) Error() string { return e.what + " not found" }
+
+// handle adapts a handler that returns an error: user errors get their status and message, anything else
+// is logged once and shown as a generic 500 without its text.
+func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.HandlerFunc {
+	return func(w http.ResponseWriter, r *http.Request) {
+		err := fn(w, r)
+		if err == nil {
+			return
+		}
+		var br badRequest
+		var nf notFoundError
+		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
+		switch {
+		case errors.As(err, &br):
+			view.Status, view.Page.Title, view.Message, view.Details = http.StatusBadRequest, "Cannot show this page", br.message, br.problems
+		case errors.As(err, &nf):
+			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "There is no "+nf.what+"."
+		case errors.Is(err, store.ErrNotFound):
+			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "That record is not in the compilation."
+		case errors.Is(err, context.Canceled):
+			return
+		default:
+			s.log.Error("request failed", "method", r.Method, "path", r.URL.Path, "err", err, "id", middleware.GetReqID(r.Context()))
+			view.Status, view.Page.Title = http.StatusInternalServerError, "Something went wrong"
+			view.Message = "The server could not complete this request. It has been logged; try again, or tell the curators what you were doing."
+		}
+		if wantsJSON(r) {
+			writeJSON(w, view.Status, map[string]any{"error": view.Message, "problems": view.Details})
+			return
+		}
+		s.render(w, r, view.Status, views.ErrorPage(view))
+	}
+}
+
+func wantsJSON(r *http.Request) bool { return r.URL.Query().Get("format") == "json" }
+
+// render writes a component with a status, rendering it to a buffer first so that a failure cannot
+// leave a half-written page behind a 200.
+func (s *Server) render(w http.ResponseWriter, r *http.Request, status int, c templ.Component) {
+	var buf bytes.Buffer
+	if err := c.Render(r.Context(), &buf); err != nil {
+		s.log.Error("render failed", "path", r.URL.Path, "err", err)
+		http.Error(w, "The page could not be rendered.", http.StatusInternalServerError)
+		return
+	}
+	w.Header().Set("Content-Type", "text/html; charset=utf-8")
+	w.WriteHeader(status)
+	w.Write(buf.Bytes())
+}
+
+// page builds the common part of a page's view model.
+func (s *Server) page(ctx context.Context, title, nav string) views.Page {
+	p := views.Page{Title: title, Nav: nav}
+	if demo, err := s.store.Setting(ctx, store.SettingDemo); err == nil && demo != "" {
+		p.Demo = demo
+	}
+	return p
+}
+
+// writeDownload renders a CSV body to a buffer, then sends it as an attachment named file.
+func writeDownload(w http.ResponseWriter, file string, write func(io.Writer) error) error {
+	var buf bytes.Buffer
+	if err := write(&buf); err != nil {
+		return fmt.Errorf("write %s: %w", file, err)
+	}
+	w.Header().Set("Content-Type", "text/csv; charset=utf-8")
+	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", file))
+	w.Write(buf.Bytes())
+	return nil
+}
