@@ -95,8 +95,8 @@ func TestUPbXYZWrongWay(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// Right way with λ only: sqrt(X² + (λ·t)²) = sqrt(0.017494² + 0.215679²) ≈ 0.216387 (2σ), recomputed here.
-	if got, want := From1Sigma(right.ZMa, TwoSigma), 0.216387; !near(got, want, 6) {
+	// Right way with λ only: sqrt(X² + (λ·t)²) = sqrt(0.017494² + 0.215679²) ≈ 0.216388 (2σ), recomputed here.
+	if got, want := From1Sigma(right.ZMa, TwoSigma), 0.216388; !near(got, want, 6) {
 		t.Errorf("right-way 2σ (λ only) = %.8f, want %.6f", got, want)
 	}
 	if got, bad := From1Sigma(right.ZMa, TwoSigma), 0.083710; got < 2*bad {
