@@ -155,8 +155,10 @@ type Recalculated struct {
 // decay-constant uncertainty of from) from one calibration to another and propagates the σ to first
 // order with the partial derivatives of t' = ln(1 + E𝓡)/λ', E = e^{λ' t_s'} − 1, D = 1 + E𝓡:
 // ∂t'/∂𝓡 = E/(λ'D), ∂t'/∂t_s' = 𝓡e^{λ' t_s'}/D, ∂t'/∂λ' = −t'/λ' + 𝓡 t_s' e^{λ' t_s'}/(λ'D).
-// The monitor-age and λ' terms are taken as independent. It returns an error for an invalid calibration,
-// a non-finite or negative age, or a non-finite or negative σ.
+// The monitor-age and λ' terms are taken as independent. With from == to it returns the age unchanged
+// with its full external σ on that calibration: use it so on a weighted mean of ages already on one
+// calibration, since the systematic terms are shared and belong after averaging. It returns an error
+// for an invalid calibration, a non-finite or negative age, or a non-finite or negative σ.
 func Recalculate(ageMa, sigmaMa float64, from, to Calibration) (Recalculated, error) {
 	if err := checkRecalcInput(ageMa, sigmaMa, from, to); err != nil {
 		return Recalculated{}, err
@@ -224,7 +226,7 @@ type RecalculatedMC struct {
 // RecalculateMC propagates the same uncertainties as Recalculate by drawing n times, independently and
 // normally, the input age (analytical σ), the monitor age of to and its λ, and evaluating the exact
 // recalculation on each draw. It exists to check the first-order propagation of Recalculate. The draws
-// come from a PCG generator seeded with seed, recorded in the result. It returns an error for n < 2 or
+// come from math/rand/v2's PCG seeded with (seed, 0); the seed is recorded in the result. It returns an error for n < 2 or
 // for the inputs Recalculate rejects.
 func RecalculateMC(ageMa, sigmaMa float64, from, to Calibration, n int, seed uint64) (RecalculatedMC, error) {
 	if err := checkRecalcInput(ageMa, sigmaMa, from, to); err != nil {

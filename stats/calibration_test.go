@@ -178,6 +178,33 @@ func TestRecalculateUncertainty(t *testing.T) {
 	}
 }
 
+// TestRecalculateSameCalibration: from == to keeps the age and analytical σ and adds the calibration's
+// systematic terms, as for a weighted mean already on that calibration.
+func TestRecalculateSameCalibration(t *testing.T) {
+	sj77, k08 := mustCalibration(t, "sj77"), mustCalibration(t, "kuiper08")
+	moved, err := Recalculate(199.0, 0.10, sj77, k08)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Recalculate(moved.AgeMa, moved.AnalyticalSigmaMa, k08, k08)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checks := []struct {
+		name      string
+		got, want float64
+	}{
+		{"age", got.AgeMa, moved.AgeMa},
+		{"analytical σ", got.AnalyticalSigmaMa, moved.AnalyticalSigmaMa},
+		{"full σ", got.FullSigmaMa, moved.FullSigmaMa}, // the full σ depends only on the target calibration
+	}
+	for _, c := range checks {
+		if math.Abs(c.got-c.want) > 1e-9 {
+			t.Errorf("%s = %.12f, want %.12f", c.name, c.got, c.want)
+		}
+	}
+}
+
 func TestRecalculateErrors(t *testing.T) {
 	sj77, k08 := mustCalibration(t, "sj77"), mustCalibration(t, "kuiper08")
 	bad := k08

@@ -115,7 +115,8 @@ func (x XYZ) Sigma(level UncertaintyLevel) float64 {
 // practice, which overstates it by a fraction of about λt/2 (1.6 % at 200 Ma).
 //
 // These terms are shared by every date of one tracer and decay constant, so they are added after
-// averaging, never into the weights (Horstwood et al. 2016): pass the weighted mean's σ as xMa. It
+// averaging, never into the weights (Horstwood et al. 2016): pass the weighted mean's σ as xMa
+// (WeightedMeanResult.SigmaReported, so that any overdispersion inflation is in X). It
 // returns an error for a non-finite or negative age or σ.
 func UPbXYZ(ageMa, xMa, tracerRelSigma, lambdaRelSigma float64) (XYZ, error) {
 	for _, v := range []struct {
