@@ -15,8 +15,8 @@ func mustCalibration(tb testing.TB, code string) Calibration {
 	return c
 }
 
-// roundTo rounds x to the given number of decimals, to compare with values printed to that precision.
-func roundTo(x float64, decimals int) float64 {
+// roundDecimals rounds x to the given number of decimals, to compare with values printed to that precision.
+func roundDecimals(x float64, decimals int) float64 {
 	p := math.Pow(10, float64(decimals))
 	return math.Round(x*p) / p
 }
@@ -79,14 +79,14 @@ func TestRecalculateAgeMa(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			if got, want := roundTo(RecalculateAgeMa(tt.ageMa, sj77, tt.to), tt.decimals), tt.want; got != want {
+			if got, want := roundDecimals(RecalculateAgeMa(tt.ageMa, sj77, tt.to), tt.decimals), tt.want; got != want {
 				t.Errorf("RecalculateAgeMa(%v) = %.*f, want %.*f", tt.ageMa, tt.decimals, got, tt.decimals, want)
 			}
 		})
 	}
 	// Linear scaling by t_s'/t_s gives 200.285475 (REFERENCES §3 Check R [C]); the exact relation must not.
 	linear := 199.0 * 28.201 / 28.02
-	if got, want := roundTo(linear, 6), 200.285475; got != want {
+	if got, want := roundDecimals(linear, 6), 200.285475; got != want {
 		t.Errorf("linear scaling = %.6f, want %.6f", got, want)
 	}
 	if got := RecalculateAgeMa(199.0, sj77, pair(28.201, 5.543e-10)); math.Abs(got-linear) < 0.05 {
@@ -117,7 +117,7 @@ func TestArArJ(t *testing.T) {
 	if got, want := j, 1.9406867122e-03; math.Abs(got-want) > 5e-14 { // REFERENCES §3 J check [C]
 		t.Errorf("ArArJ = %.13e, want %.10e", got, want)
 	}
-	if got, want := roundTo(ArArAgeMa(60.0, j, 5.463e-10), 6), 201.622055; got != want { // REFERENCES §3 J check [C]
+	if got, want := roundDecimals(ArArAgeMa(60.0, j, 5.463e-10), 6), 201.622055; got != want { // REFERENCES §3 J check [C]
 		t.Errorf("ArArAgeMa = %.6f, want %.6f", got, want)
 	}
 	// The monitor itself must come back at its own age.
@@ -134,13 +134,13 @@ func TestRecalculateUncertainty(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got, want := roundTo(got.AgeMa, 6), 200.359518; got != want { // REFERENCES §3 Check R [C]
+	if got, want := roundDecimals(got.AgeMa, 6), 200.359518; got != want { // REFERENCES §3 Check R [C]
 		t.Errorf("AgeMa = %.6f, want %.6f", got, want)
 	}
-	if got, want := roundTo(got.AnalyticalSigmaMa, 6), 0.100725; got != want { // REFERENCES §3 uncertainty [C]
+	if got, want := roundDecimals(got.AnalyticalSigmaMa, 6), 0.100725; got != want { // REFERENCES §3 uncertainty [C]
 		t.Errorf("AnalyticalSigmaMa = %.6f, want %.6f", got, want)
 	}
-	if got, want := roundTo(got.FullSigmaMa, 6), 0.205997; got != want { // REFERENCES §3 uncertainty [C]
+	if got, want := roundDecimals(got.FullSigmaMa, 6), 0.205997; got != want { // REFERENCES §3 uncertainty [C]
 		t.Errorf("FullSigmaMa = %.6f, want %.6f", got, want)
 	}
 	if got.From != "sj77" || got.To != "kuiper08" {

@@ -21,10 +21,10 @@ func WeightedResiduals(values, sigmas1s []float64) ([]float64, error) {
 	if m.N < 2 {
 		return nil, errors.New("weighted residuals: need at least 2 values")
 	}
-	return residuals(values, sigmas1s, m), nil
+	return residualsAgainst(values, sigmas1s, m), nil
 }
 
-func residuals(values, sigmas1s []float64, m WeightedMeanResult) []float64 {
+func residualsAgainst(values, sigmas1s []float64, m WeightedMeanResult) []float64 {
 	r := make([]float64, len(values))
 	v := m.Sigma * m.Sigma
 	for i, x := range values {
@@ -54,7 +54,7 @@ type IterativeResult struct {
 // acceptable or when two dates remain (two dates that disagree do not say which is wrong). Ties go to
 // the lower index. It needs at least two values and returns the errors of WeightedMean otherwise.
 func IterativeRejection(values, sigmas1s []float64) (IterativeResult, error) {
-	if err := checkValues(values, sigmas1s); err != nil {
+	if err := checkDates(values, sigmas1s); err != nil {
 		return IterativeResult{}, fmt.Errorf("iterative rejection: %w", err)
 	}
 	if len(values) < 2 {
@@ -79,7 +79,7 @@ func IterativeRejection(values, sigmas1s []float64) (IterativeResult, error) {
 			res.Kept = m
 			break
 		}
-		r := residuals(xs, ss, m)
+		r := residualsAgainst(xs, ss, m)
 		worst := 0
 		for j := range r {
 			if math.Abs(r[j]) > math.Abs(r[worst]) {
@@ -108,7 +108,7 @@ type ChauvenetResult struct {
 // It needs at least three values and returns an error for fewer or for a NaN or infinite value. Identical
 // values flag nothing (every zᵢ is 0).
 func Chauvenet(values []float64) (ChauvenetResult, error) {
-	mean, sd, err := meanSDChecked(values, 3)
+	mean, sd, err := unweightedMeanSD(values, 3)
 	if err != nil {
 		return ChauvenetResult{}, fmt.Errorf("chauvenet: %w", err)
 	}
@@ -128,8 +128,8 @@ func Chauvenet(values []float64) (ChauvenetResult, error) {
 	return res, nil
 }
 
-// meanSDChecked returns the mean and sample standard deviation (n − 1) of at least min finite values.
-func meanSDChecked(values []float64, min int) (mean, sd float64, err error) {
+// unweightedMeanSD returns the mean and sample standard deviation (n − 1) of at least min finite values.
+func unweightedMeanSD(values []float64, min int) (mean, sd float64, err error) {
 	if len(values) == 0 {
 		return 0, 0, ErrNoValues
 	}
@@ -188,7 +188,7 @@ func GeneralizedESD(values []float64, k int, alpha float64) (GESDResult, error) 
 		for _, j := range left {
 			xs = append(xs, values[j])
 		}
-		mean, sd, err := meanSDChecked(xs, 2)
+		mean, sd, err := unweightedMeanSD(xs, 2)
 		if err != nil {
 			return GESDResult{}, fmt.Errorf("generalized ESD step %d: %w", i, err)
 		}
@@ -308,7 +308,7 @@ func FlagOutliers(values, sigmas1s []float64, opts OutlierOptions) (OutlierRepor
 	}
 	rep := OutlierReport{Rule: opts.Rule, All: all, Kept: all}
 	if all.N >= 2 {
-		rep.Residuals = residuals(values, sigmas1s, all)
+		rep.Residuals = residualsAgainst(values, sigmas1s, all)
 	}
 	n := len(values)
 	switch opts.Rule {

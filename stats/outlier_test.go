@@ -13,7 +13,7 @@ func TestWeightedResidualsCheckB(t *testing.T) {
 	}
 	want := []float64{-2.8703, -0.8665, -1.5178, 1.1453, -2.4913, -0.4888, -1.4095, 6.8828} // REFERENCES §1 outlier flags, residuals for B [C]
 	for i := range want {
-		if got, want := roundTo(got[i], 4), want[i]; got != want {
+		if got, want := roundDecimals(got[i], 4), want[i]; got != want {
 			t.Errorf("r[%d] = %.4f, want %.4f", i, got, want)
 		}
 	}
@@ -33,7 +33,7 @@ func TestIterativeRejectionCheckB(t *testing.T) {
 		t.Fatalf("Flagged = %v, want %v", got, want)
 	}
 	step := got.Steps[0]
-	if !near(step.Residual, 6.8828, 4) || !near(step.MSWD, 8.392417, 6) { // REFERENCES §1 Check B [C]
+	if !nearDecimals(step.Residual, 6.8828, 4) || !nearDecimals(step.MSWD, 8.392417, 6) { // REFERENCES §1 Check B [C]
 		t.Errorf("step = %+v, want residual 6.8828, MSWD 8.392417", step)
 	}
 	a := mustWeightedMean(t, checkAAges, oneSigma(checkA2s), PolicyNever)
@@ -58,7 +58,7 @@ func TestChauvenetCheckB(t *testing.T) {
 	if got, want := got.Flagged, []int{7}; !slices.Equal(got, want) { // REFERENCES §1 [C]
 		t.Errorf("Flagged = %v, want %v", got, want)
 	}
-	if got, want := roundTo(got.Z[7], 4), 2.1077; got != want { // REFERENCES §1 [C]
+	if got, want := roundDecimals(got.Z[7], 4), 2.1077; got != want { // REFERENCES §1 [C]
 		t.Errorf("z of 201.700 = %.4f, want %.4f", got, want)
 	}
 	if got.Expected[7] >= 0.5 {
@@ -94,7 +94,7 @@ func TestGeneralizedESDRosner(t *testing.T) {
 		{"λ3", got.Lambda[2], 3.1439}, // Rosner 1983; REFERENCES §1 [C]
 	}
 	for _, c := range checks {
-		if got, want := roundTo(c.got, 4), c.want; got != want {
+		if got, want := roundDecimals(c.got, 4), c.want; got != want {
 			t.Errorf("%s = %.4f, want %.4f", c.name, got, want)
 		}
 	}
@@ -119,7 +119,7 @@ func TestGeneralizedESDRosner(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !near(onB.R[0], 2.1077, 4) || !near(onB.Lambda[0], 2.1266, 4) || onB.NOutliers != 0 {
+	if !nearDecimals(onB.R[0], 2.1077, 4) || !nearDecimals(onB.Lambda[0], 2.1266, 4) || onB.NOutliers != 0 {
 		t.Errorf("Check B: R₁ %.4f, λ₁ %.4f, %d outliers; want 2.1077, 2.1266, 0", onB.R[0], onB.Lambda[0], onB.NOutliers)
 	}
 	// Identical values after the first removal stop the steps without error.

@@ -21,7 +21,7 @@ func TestUPbRatioAge(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			if got, want := tt.got, tt.want; !near(got, want, tt.decimals) {
+			if got, want := tt.got, tt.want; !nearDecimals(got, want, tt.decimals) {
 				t.Errorf("got %.*f, want %.*f", tt.decimals+2, got, tt.decimals, want)
 			}
 		})
@@ -67,7 +67,7 @@ func TestUPbXYZ(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.level.String(), func(t *testing.T) {
-			if got, want := From1Sigma(xyz.Sigma(tt.level), TwoSigma), tt.want; !near(got, want, 6) {
+			if got, want := From1Sigma(xyz.Sigma(tt.level), TwoSigma), tt.want; !nearDecimals(got, want, 6) {
 				t.Errorf("2σ = %.8f, want %.6f", got, want)
 			}
 		})
@@ -87,7 +87,7 @@ func TestUPbXYZWrongWay(t *testing.T) {
 		wrong[i] = Quadrature(s, checkALambdaRel1s*checkAAges[i])
 	}
 	w := mustWeightedMean(t, checkAAges, wrong, PolicyNever)
-	if got, want := From1Sigma(w.Sigma, TwoSigma), 0.083710; !near(got, want, 6) { // REFERENCES §1 Check A [C]: the wrong way
+	if got, want := From1Sigma(w.Sigma, TwoSigma), 0.083710; !nearDecimals(got, want, 6) { // REFERENCES §1 Check A [C]: the wrong way
 		t.Errorf("wrong-way 2σ = %.8f, want %.6f", got, want)
 	}
 	a := mustWeightedMean(t, checkAAges, sig, PolicyNever)
@@ -96,7 +96,7 @@ func TestUPbXYZWrongWay(t *testing.T) {
 		t.Fatal(err)
 	}
 	// Right way with λ only: sqrt(X² + (λ·t)²) = sqrt(0.017494² + 0.215679²) ≈ 0.216388 (2σ), recomputed here.
-	if got, want := From1Sigma(right.ZMa, TwoSigma), 0.216388; !near(got, want, 6) {
+	if got, want := From1Sigma(right.ZMa, TwoSigma), 0.216388; !nearDecimals(got, want, 6) {
 		t.Errorf("right-way 2σ (λ only) = %.8f, want %.6f", got, want)
 	}
 	if got, bad := From1Sigma(right.ZMa, TwoSigma), 0.083710; got < 2*bad {

@@ -85,7 +85,7 @@ var ErrNoValues = errors.New("no values")
 // or infinite, a σ is ≤ 0, or the policy is unknown. One value is allowed: its mean is itself, DoF is
 // 0 and MSWD is undefined (see MSWDDefined). The inputs are not modified.
 func WeightedMean(values, sigmas1s []float64, opts WeightedMeanOptions) (WeightedMeanResult, error) {
-	if err := checkValues(values, sigmas1s); err != nil {
+	if err := checkDates(values, sigmas1s); err != nil {
 		return WeightedMeanResult{}, fmt.Errorf("weighted mean: %w", err)
 	}
 	if opts.Policy < PolicyNever || opts.Policy > PolicyWhenPBelow005 {
@@ -149,8 +149,8 @@ func WendtCarlRange(dof int) (low, high float64) {
 	return math.Max(0, 1-h), 1 + h
 }
 
-// checkValues validates paired values and 1σ uncertainties.
-func checkValues(values, sigmas1s []float64) error {
+// checkDates validates paired values and 1σ uncertainties.
+func checkDates(values, sigmas1s []float64) error {
 	if len(values) == 0 {
 		return ErrNoValues
 	}

@@ -39,8 +39,8 @@ func mustWeightedMean(tb testing.TB, values, sigmas1s []float64, policy Policy) 
 	return r
 }
 
-// near reports whether got rounds to want at the given decimals.
-func near(got, want float64, decimals int) bool { return roundTo(got, decimals) == want }
+// nearDecimals reports whether got rounds to want at the given decimals.
+func nearDecimals(got, want float64, decimals int) bool { return roundDecimals(got, decimals) == want }
 
 func TestWeightedMeanChecks(t *testing.T) {
 	a := mustWeightedMean(t, checkAAges, oneSigma(checkA2s), PolicyNever)
@@ -53,28 +53,28 @@ func TestWeightedMeanChecks(t *testing.T) {
 		decimals int
 		want     float64
 	}{
-		{"A mean", a.Mean, 9, 201.549755197},                            // REFERENCES §1 Check A [C]: numpy 1.24
-		{"A σ 1σ", a.Sigma, 6, 0.008747},                                // REFERENCES §1 Check A [C] prints 0.008747193; see TestCheckASigmaDigits
-		{"A σ 2σ", From1Sigma(a.Sigma, TwoSigma), 6, 0.017494},          // REFERENCES §1 Check A [C] prints 0.017494386; see TestCheckASigmaDigits
-		{"A S", a.S, 6, 11.374267},                                      // REFERENCES §1 Check A [C]
-		{"A f", float64(a.DoF), 0, 6},                                   // REFERENCES §1 Check A [C]
-		{"A MSWD", a.MSWD, 6, 1.895711},                                 // REFERENCES §1 Check A [C]
-		{"A p", a.P, 6, 0.077475},                                       // REFERENCES §1 Check A [C]: scipy 1.10 chi2.sf
-		{"A W&C upper", a.MSWDHigh, 6, 2.154701},                        // REFERENCES §1 Check A [C]; Wendt & Carl 1991 [P]
-		{"A W&C upper, helper", aHigh, 6, 2.154701},                     // REFERENCES §1 Check A [C]
-		{"A W&C lower floored", aLow, 9, 0},                             // 1 − 2·sqrt(2/6) < 0, floored (Wendt & Carl 1991 [P])
-		{"B mean", b.Mean, 6, 201.573879},                               // REFERENCES §1 Check B [C]
-		{"B MSWD", b.MSWD, 6, 8.392417},                                 // REFERENCES §1 Check B [C]
-		{"B p ×1e10", b.P * 1e10, 3, 2.684},                             // REFERENCES §1 Check B [C]: 2.684e-10
-		{"C mean", c.Mean, 5, 201.56206},                                // REFERENCES §1 Check C [C]
-		{"C σ 2σ", From1Sigma(c.Sigma, TwoSigma), 5, 0.01755},           // REFERENCES §1 Check C [C]
-		{"C MSWD", c.MSWD, 3, 0.222},                                    // REFERENCES §1 Check C [C]
-		{"C W&C lower", c.MSWDLow, 9, 0},                                // f = 3: 1 − 2·sqrt(2/3) < 0, floored
-		{"C W&C upper", c.MSWDHigh, 9, roundTo(1+2*math.Sqrt(2./3), 9)}, // Wendt & Carl 1991 [P]
+		{"A mean", a.Mean, 9, 201.549755197},                                  // REFERENCES §1 Check A [C]: numpy 1.24
+		{"A σ 1σ", a.Sigma, 6, 0.008747},                                      // REFERENCES §1 Check A [C] prints 0.008747193; see TestCheckASigmaDigits
+		{"A σ 2σ", From1Sigma(a.Sigma, TwoSigma), 6, 0.017494},                // REFERENCES §1 Check A [C] prints 0.017494386; see TestCheckASigmaDigits
+		{"A S", a.S, 6, 11.374267},                                            // REFERENCES §1 Check A [C]
+		{"A f", float64(a.DoF), 0, 6},                                         // REFERENCES §1 Check A [C]
+		{"A MSWD", a.MSWD, 6, 1.895711},                                       // REFERENCES §1 Check A [C]
+		{"A p", a.P, 6, 0.077475},                                             // REFERENCES §1 Check A [C]: scipy 1.10 chi2.sf
+		{"A W&C upper", a.MSWDHigh, 6, 2.154701},                              // REFERENCES §1 Check A [C]; Wendt & Carl 1991 [P]
+		{"A W&C upper, helper", aHigh, 6, 2.154701},                           // REFERENCES §1 Check A [C]
+		{"A W&C lower floored", aLow, 9, 0},                                   // 1 − 2·sqrt(2/6) < 0, floored (Wendt & Carl 1991 [P])
+		{"B mean", b.Mean, 6, 201.573879},                                     // REFERENCES §1 Check B [C]
+		{"B MSWD", b.MSWD, 6, 8.392417},                                       // REFERENCES §1 Check B [C]
+		{"B p ×1e10", b.P * 1e10, 3, 2.684},                                   // REFERENCES §1 Check B [C]: 2.684e-10
+		{"C mean", c.Mean, 5, 201.56206},                                      // REFERENCES §1 Check C [C]
+		{"C σ 2σ", From1Sigma(c.Sigma, TwoSigma), 5, 0.01755},                 // REFERENCES §1 Check C [C]
+		{"C MSWD", c.MSWD, 3, 0.222},                                          // REFERENCES §1 Check C [C]
+		{"C W&C lower", c.MSWDLow, 9, 0},                                      // f = 3: 1 − 2·sqrt(2/3) < 0, floored
+		{"C W&C upper", c.MSWDHigh, 9, roundDecimals(1+2*math.Sqrt(2./3), 9)}, // Wendt & Carl 1991 [P]
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			if got, want := tt.got, tt.want; !near(got, want, tt.decimals) {
+			if got, want := tt.got, tt.want; !nearDecimals(got, want, tt.decimals) {
 				t.Errorf("got %.*f, want %.*f", tt.decimals+2, got, tt.decimals, want)
 			}
 		})
@@ -93,7 +93,7 @@ func TestCheckASigmaDigits(t *testing.T) {
 	for _, s := range oneSigma(checkA2s) {
 		w += 1 / (s * s)
 	}
-	if got, want := 1/math.Sqrt(w), 0.0087469508; !near(got, want, 10) { // recomputed by hand from Check A's inputs
+	if got, want := 1/math.Sqrt(w), 0.0087469508; !nearDecimals(got, want, 10) { // recomputed by hand from Check A's inputs
 		t.Errorf("(Σw)^-½ = %.12f, want %.10f", got, want)
 	}
 	// REFERENCES §1 Check A [C]: inflated 2σ 0.024086449 and MSWD 1.895711 imply σ_x̄ (1σ):
@@ -119,7 +119,7 @@ func TestWeightedMeanPolicy(t *testing.T) {
 			if got, want := r.Inflated, tt.wantInflate; got != want {
 				t.Errorf("Inflated = %v, want %v", got, want)
 			}
-			if got, want := From1Sigma(r.SigmaReported, TwoSigma), tt.want2s; !near(got, want, 9) {
+			if got, want := From1Sigma(r.SigmaReported, TwoSigma), tt.want2s; !nearDecimals(got, want, 9) {
 				t.Errorf("reported 2σ = %.11f, want %.9f", got, want)
 			}
 			if got, want := r.Policy, tt.policy; got != want {
@@ -230,20 +230,20 @@ func TestWeightedMeanCalibration(t *testing.T) {
 		r := mustWeightedMean(t, values, sigmas, PolicyNever)
 		mswds[d], ps[d] = r.MSWD, r.P
 	}
-	mean, sd := meanSD(mswds)
+	mean, sd := sampleMeanSD(mswds)
 	se := sd / math.Sqrt(datasets)
 	if got, want := mean, 1.0; math.Abs(got-want) > 3*se {
 		t.Errorf("mean MSWD = %.4f, want 1 within 3 SE = %.4f", got, 3*se)
 	}
-	d := ksUniform(ps)
+	d := ksStatUniform(ps)
 	if crit := 1.628 / math.Sqrt(datasets); d > crit {
 		t.Errorf("KS statistic of p-values = %.4f > %.4f (α = 0.01)", d, crit)
 	}
 	t.Logf("seed %d: mean MSWD %.4f ± %.4f (SE), KS D = %.4f (critical %.4f)", seed, mean, se, d, 1.628/math.Sqrt(datasets))
 }
 
-// meanSD returns the sample mean and standard deviation (n − 1 denominator).
-func meanSD(x []float64) (mean, sd float64) {
+// sampleMeanSD returns the sample mean and standard deviation (n − 1 denominator).
+func sampleMeanSD(x []float64) (mean, sd float64) {
 	for _, v := range x {
 		mean += v
 	}
@@ -254,8 +254,8 @@ func meanSD(x []float64) (mean, sd float64) {
 	return mean, math.Sqrt(sd / float64(len(x)-1))
 }
 
-// ksUniform returns the one-sample Kolmogorov–Smirnov statistic D = sup|F_n(u) − u| of x against U(0, 1).
-func ksUniform(x []float64) float64 {
+// ksStatUniform returns the one-sample Kolmogorov–Smirnov statistic D = sup|F_n(u) − u| of x against U(0, 1).
+func ksStatUniform(x []float64) float64 {
 	u := slices.Clone(x)
 	sort.Float64s(u)
 	n := float64(len(u))
