@@ -291,15 +291,14 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	v.Page.Crumbs = append(v.Page.Crumbs, views.Link{Label: own, URL: ownURL})
 	v.Page.Downloads = toLinks(downloads(r))
 	other := 3 - level
-	v.Page.Subtitle = fmt.Sprintf("Show uncertainties at %dσ", other)
 	v.Links = []views.Link{{Label: fmt.Sprintf("Show uncertainties at %dσ", other), URL: withQuery(r, "sigma", strconv.Itoa(other))}}
-	v.Page.Subtitle = ""
 	sig := func(x *float64) string {
 		if x == nil {
 			return "not published"
 		}
-		_, s := ageSigma(d.AgeMa, *x, level)
-		return s + fmt.Sprintf(" Ma (%dσ)", level)
+		// All components at the decimals of the analytical σ, so X, Y and Z line up and keep their digits.
+		dec := sigmaDecimals(d.SigmaMa * float64(level))
+		return fixed(*x*float64(level), dec) + fmt.Sprintf(" Ma (%dσ)", level)
 	}
 	ageField := views.KV{Label: "Age as published", Value: plusMinus(d.AgeMa, d.SigmaMa, level) + " Ma, analytical"}
 	ageGroup := views.FieldGroup{Title: "Age", Fields: []views.KV{ageField,
@@ -354,8 +353,8 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: []views.KV{review,
 		{Label: "Record number", Value: strconv.FormatInt(d.ID, 10)},
 		{Label: "Version", Value: itoa(d.Version)},
-		{Label: "Added (UTC)", Value: d.CreatedAt},
-		{Label: "Last changed (UTC)", Value: d.UpdatedAt},
+		{Label: "Added", Value: when(d.CreatedAt)},
+		{Label: "Last changed", Value: when(d.UpdatedAt)},
 		{Label: "Revisions recorded", Value: itoa(revs)},
 	}})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))

@@ -5,6 +5,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"time"
 )
 
 // sigmaDecimals is the number of decimals that shows σ with two significant figures (common practice:
@@ -77,4 +78,22 @@ func coord(lat, lon *float64) string {
 		ew = "W"
 	}
 	return fmt.Sprintf("%.3f° %s, %.3f° %s", math.Abs(*lat), ns, math.Abs(*lon), ew)
+}
+
+// when writes a stored UTC timestamp for people: "2026-12-01 22:32 UTC".
+func when(stamp string) string {
+	t, err := time.Parse(time.RFC3339, stamp)
+	if err != nil {
+		return stamp
+	}
+	return t.UTC().Format("2006-01-02 15:04 UTC")
+}
+
+// decimals is the number of decimals of v's shortest exact representation, at most 6.
+func decimals(v float64) int {
+	s := strconv.FormatFloat(v, 'f', -1, 64)
+	if i := strings.IndexByte(s, '.'); i >= 0 {
+		return min(len(s)-i-1, 6)
+	}
+	return 0
 }

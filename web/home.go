@@ -48,10 +48,10 @@ func (s *Server) handleHome(w http.ResponseWriter, r *http.Request) error {
 	}
 	h.Provinces = provinceTable(provinces)
 	h.Sections = sectionTable(sections)
-	h.Latest = views.Table{ID: "latest", Columns: []views.Column{{Label: "When (UTC)"}, {Label: "Change"}, {Label: "Source"}, {Label: "Summary"}},
+	h.Latest = views.Table{ID: "latest", Columns: []views.Column{{Label: "When"}, {Label: "Change"}, {Label: "Source"}, {Label: "Summary"}},
 		Empty: "Nothing has been added yet."}
 	for _, b := range latest {
-		h.Latest.Rows = append(h.Latest.Rows, []views.Cell{{Text: b.At}, {Text: b.Kind}, {Text: b.Source}, {Text: b.Summary}})
+		h.Latest.Rows = append(h.Latest.Rows, []views.Cell{{Text: when(b.At)}, {Text: b.Kind}, {Text: b.Source}, {Text: b.Summary}})
 	}
 	s.render(w, r, http.StatusOK, views.HomePage(h))
 	return nil

@@ -135,7 +135,7 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 	d.Groups = []views.FieldGroup{{Title: "Province", Fields: []views.KV{
 		{Label: "Units", Value: itoa(prov.NUnits)},
 		{Label: "Dates of units", Value: itoa(prov.NDates), URL: fmt.Sprintf("/dates?province=%d", id)},
-		{Label: "Added", Value: prov.CreatedAt},
+		{Label: "Added", Value: when(prov.CreatedAt)},
 	}}}
 	d.Tables = []views.Table{unitTable(units, unitAgeRange(ds))}
 	s.render(w, r, http.StatusOK, views.DetailPage(d))

@@ -134,8 +134,19 @@ func measurementTable(samples []store.Sample, proxies []string, known []store.Pr
 		cols = append(cols, views.Column{Label: names[p].Name, Unit: names[p].Unit, Num: true, Title: names[p].Description})
 	}
 	t := views.Table{ID: "measurements", Caption: fmt.Sprintf("Samples (%d), lowest first", len(samples)), Columns: cols, Empty: "No measurements."}
+	// Each column at one number of decimals (the most any of its values was given with), so digits align.
+	dec := map[string]int{}
+	hdec := 0
 	for _, s := range samples {
-		row := []views.Cell{{Text: s.Sample}, {Text: num(s.HeightM), Num: true}}
+		hdec = max(hdec, decimals(s.HeightM))
+		for p, m := range s.Values {
+			if m.Value != nil {
+				dec[p] = max(dec[p], decimals(*m.Value))
+			}
+		}
+	}
+	for _, s := range samples {
+		row := []views.Cell{{Text: s.Sample}, {Text: fixed(s.HeightM, hdec), Num: true}}
 		for _, p := range proxies {
 			m, ok := s.Values[p]
 			switch {
@@ -149,7 +160,7 @@ func measurementTable(samples []store.Sample, proxies []string, known []store.Pr
 				}
 				row = append(row, views.Cell{Text: txt, Num: true, Class: "muted", Title: title})
 			default:
-				c := views.Cell{Text: optNum(m.Value), Num: true}
+				c := views.Cell{Text: optFixed(m.Value, dec[p]), Num: true}
 				if m.Sigma != nil {
 					c.Title = "± " + num(*m.Sigma) + " " + names[p].Unit + " (1σ)"
 				}
