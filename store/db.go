@@ -38,7 +38,9 @@ func Open(ctx context.Context, path string) (*DB, error) {
 	q.Add("_pragma", "foreign_keys(1)")
 	q.Add("_pragma", "synchronous(NORMAL)")
 	q.Set("_txlock", "immediate")
-	dsn := "file:" + path + "?" + q.Encode()
+	// SQLite reads the name as a URI: escape the characters that would end the path or be decoded.
+	escaped := strings.NewReplacer("%", "%25", "?", "%3F", "#", "%23").Replace(path)
+	dsn := "file:" + escaped + "?" + q.Encode()
 	sqldb, err := sql.Open("sqlite", dsn)
 	if err != nil {
 		return nil, fmt.Errorf("open database %s: %w", path, err)

@@ -2,6 +2,7 @@ package store
 
 import (
 	"context"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -300,5 +301,29 @@ func TestImportTiesAndEvents(t *testing.T) {
 	_, err = importString(t, db, "events", "S", "name,kind,base_height_m,top_height_m\nz,hg_anomaly,20,10\n")
 	if _, ok := AsValidation(err); !ok {
 		t.Fatalf("an event with top below base: got %v, want a validation error", err)
+	}
+}
+
+// A path with URI-special characters opens that exact file, not a truncated name.
+func TestOpenEscapesThePath(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	path := filepath.Join(dir, "a#b?c%20d.db")
+	db, err := Open(ctx, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.Migrate(ctx, migrations.FS); err != nil {
+		t.Fatal(err)
+	}
+	db.Close()
+	if _, err := os.Stat(path); err != nil {
+		t.Fatalf("the database is not at %s: %v", path, err)
+	}
+	entries, _ := os.ReadDir(dir)
+	for _, e := range entries {
+		if !strings.HasPrefix(e.Name(), "a#b?c%20d.db") {
+			t.Errorf("stray file %s", e.Name())
+		}
 	}
 }
