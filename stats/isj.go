@@ -15,12 +15,12 @@ const DefaultISJGridPoints = 1 << 14
 type ISJResult struct {
 	BandwidthMa float64 // √TStar·(GridMaxMa − GridMinMa)
 	// TStar is the root of ζ(t) in the unit of the squared grid span (the data scaled to [0, 1]).
-	TStar              float64
-	GridMinMa          float64 // min − range/10
-	GridMaxMa          float64 // max + range/10
-	GridPoints         int
-	Distinct           int // N: the number of distinct ages, as the fixed point uses it
-	Evaluations        int // evaluations of ζ spent on the root
+	TStar       float64
+	GridMinMa   float64 // min − range/10
+	GridMaxMa   float64 // max + range/10
+	GridPoints  int
+	Distinct    int // N: the number of distinct ages, as the fixed point uses it
+	Evaluations int // evaluations of ζ spent on the root
 }
 
 // ISJBandwidth returns the diffusion bandwidth of Botev, Grotowski & Kroese (2010, Ann. Stat.
