@@ -179,14 +179,25 @@ func TestBinnedMatchesExact(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			exact, err := Mixture{AgeMa: tt.ages, BandwidthMa: []float64{d.BandwidthMa}}.Eval(d.GridMa)
+			m := Mixture{AgeMa: tt.ages, BandwidthMa: []float64{d.BandwidthMa}}
+			exact, err := m.Eval(d.GridMa)
 			if err != nil {
 				t.Fatal(err)
 			}
+			// Small samples are summed directly by EvalGrid: force the binned path.
+			g := AgeGrid{MinMa: d.GridMa[0], MaxMa: d.GridMa[len(d.GridMa)-1], Points: len(d.GridMa)}
+			binned, ok := m.refinedBinned(g, float64(len(tt.ages)))
+			if !ok {
+				t.Fatal("binned path refused the grid")
+			}
 			peak := slices.Max(exact)
-			var worst float64
+			var worst, worstKDE float64
 			for j := range exact {
-				worst = math.Max(worst, math.Abs(d.Density[j]-exact[j]))
+				worst = math.Max(worst, math.Abs(binned[j]-exact[j]))
+				worstKDE = math.Max(worstKDE, math.Abs(d.Density[j]-exact[j]))
+			}
+			if worstKDE > 1e-3*peak {
+				t.Errorf("KDE: max |f − exact| = %.3g of the peak, want ≤ 1e-3", worstKDE/peak)
 			}
 			if worst > 1e-3*peak {
 				t.Errorf("max |binned − exact| = %.3g = %.3g of the peak, want ≤ 1e-3 (h = %.3g grid steps)",
