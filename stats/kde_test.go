@@ -331,3 +331,11 @@ func benchAges(n int) []float64 {
 	}
 	return x
 }
+
+func TestFastFFTLen(t *testing.T) {
+	for _, tt := range []struct{ n, want int }{{1, 1}, {7, 8}, {11, 12}, {17, 18}, {1000, 1000}, {1001, 1024}, {4097, 4320}} {
+		if got := fastFFTLen(tt.n); got != tt.want {
+			t.Errorf("fastFFTLen(%d) = %d, want %d", tt.n, got, tt.want)
+		}
+	}
+}

@@ -224,6 +224,10 @@ type PulseSummary struct {
 // open-ended); a reference pulse exists in a replicate when at least one replicate pulse belongs
 // to it, and then the highest one stands for it. It returns the summaries in ascending ModeMa and
 // an error for bad options or a band without replicates.
+//
+// The intervals are bootstrap percentile intervals. In calibration (TestBootstrapPulseCoverage)
+// nominal 95 % edge intervals held the truth about 85–88 % of the time for a pulse of ~24 dates
+// and 91–95 % from ~40 dates on; treat edges of small pulses as optimistic.
 func BootstrapPulses(band DensityBand, opts PulseOptions) ([]PulseSummary, error) {
 	if len(band.Replicates) == 0 {
 		return nil, fmt.Errorf("bootstrap pulses: the band has no replicates")
