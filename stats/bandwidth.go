@@ -91,7 +91,7 @@ type BandwidthOptions struct {
 	// UserMa is the bandwidth for RuleUser; it must be finite and > 0 then, and is ignored otherwise.
 	UserMa float64
 	// FallbackMa is used when the dates have no spread (one date, or all equal), where no rule
-	// applies. Zero means 1e-3·max(1 Ma, |median age|).
+	// applies. Zero means 1e-3·max(1 Ma, |age|).
 	FallbackMa float64
 }
 
@@ -181,7 +181,7 @@ func SelectBandwidth(agesMa []float64, opts BandwidthOptions) (Bandwidth, error)
 
 // robustSilverman applies 0.9·min(σ̂, IQR/1.34)·n^(−1/5), using σ̂ alone when the IQR is zero.
 func robustSilverman(b Bandwidth, s spread) Bandwidth {
-	scale := math.Min(s.sdMa, s.iqrMa/1.34)
+	scale := math.Min(s.sdMa, s.iqrMa()/1.34)
 	if !(scale > 0) {
 		scale = s.sdMa
 		b.Note = joinNotes(b.Note, "IQR is zero (at least half the dates are equal), so the robust rule used σ̂ alone")
@@ -194,8 +194,8 @@ func fallbackNoSpread(b Bandwidth, s spread, fallbackMa float64) Bandwidth {
 	h := fallbackMa
 	how := "the caller's fallback"
 	if !(h > 0) || math.IsInf(h, 0) {
-		h = 1e-3 * math.Max(1, math.Abs(s.medianMa))
-		how = "0.1 % of the median age"
+		h = 1e-3 * math.Max(1, math.Abs(s.minMa)) // all dates equal, or just one
+		how = "0.1 % of the age"
 	}
 	why := "all dates are equal"
 	if s.n < 2 {
@@ -220,12 +220,16 @@ func joinNotes(notes ...string) string {
 
 // spread holds the scale summaries the bandwidth rules need.
 type spread struct {
-	n        int
-	minMa    float64
-	rangeMa  float64 // max − min
-	sdMa     float64 // sample standard deviation, ddof = 1
-	iqrMa    float64 // Hyndman & Fan type 7
-	medianMa float64
+	n       int
+	minMa   float64
+	rangeMa float64   // max − min
+	sdMa    float64   // sample standard deviation, ddof = 1
+	scaled  []float64 // (x − min)/range, for the IQR
+}
+
+// iqrMa returns the interquartile range by Hyndman & Fan type 7; it reorders s.scaled.
+func (s spread) iqrMa() float64 {
+	return s.rangeMa * (quantile7(s.scaled, 0.75) - quantile7(s.scaled, 0.25))
 }
 
 func checkAges(agesMa []float64) error {
@@ -241,7 +245,7 @@ func checkAges(agesMa []float64) error {
 }
 
 // summarizeSpread works on (x − min)/range so that no intermediate overflows for any finite
-// input whose range is itself finite.
+// input whose range is itself finite. It runs in O(n): quantiles come from selection, not a sort.
 func summarizeSpread(agesMa []float64) (spread, error) {
 	lo, hi := slices.Min(agesMa), slices.Max(agesMa)
 	r := hi - lo
@@ -250,14 +254,12 @@ func summarizeSpread(agesMa []float64) (spread, error) {
 	}
 	n := len(agesMa)
 	z := make([]float64, n)
+	var mean float64
 	for i, x := range agesMa {
 		if r > 0 {
 			z[i] = (x - lo) / r
 		}
-	}
-	var mean float64
-	for _, v := range z {
-		mean += v
+		mean += z[i]
 	}
 	mean /= float64(n)
 	var ss float64
@@ -269,10 +271,63 @@ func summarizeSpread(agesMa []float64) (spread, error) {
 	if n > 1 {
 		s.sdMa = r * math.Sqrt(ss/float64(n-1))
 	}
-	slices.Sort(z)
-	s.iqrMa = r * (sortedQuantile7(z, 0.75) - sortedQuantile7(z, 0.25))
-	s.medianMa = lo + r*sortedQuantile7(z, 0.5)
+	s.scaled = z
 	return s, nil
+}
+
+// quantile7 is the Hyndman & Fan type 7 quantile of x, found by selection in O(n); it reorders x.
+func quantile7(x []float64, p float64) float64 {
+	n := len(x)
+	h := float64(n-1) * p
+	i := int(math.Floor(h))
+	if i >= n-1 {
+		return slices.Max(x)
+	}
+	selectKth(x, i)
+	lo := x[i]
+	next := slices.Min(x[i+1:])
+	return lo + (h-float64(i))*(next-lo)
+}
+
+// selectKth reorders x so that x[k] is the k-th smallest, everything before it ≤ x[k] and
+// everything after it ≥ x[k] (Hoare's selection with a median-of-three pivot). x holds no NaN.
+func selectKth(x []float64, k int) {
+	lo, hi := 0, len(x)-1
+	for hi > lo {
+		mid := lo + (hi-lo)/2
+		if x[mid] < x[lo] {
+			x[mid], x[lo] = x[lo], x[mid]
+		}
+		if x[hi] < x[lo] {
+			x[hi], x[lo] = x[lo], x[hi]
+		}
+		if x[hi] < x[mid] {
+			x[hi], x[mid] = x[mid], x[hi]
+		}
+		pivot := x[mid]
+		i, j := lo, hi
+		for i <= j {
+			for x[i] < pivot {
+				i++
+			}
+			for x[j] > pivot {
+				j--
+			}
+			if i <= j {
+				x[i], x[j] = x[j], x[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return
+		}
+	}
 }
 
 // sortedQuantile7 is the Hyndman & Fan (1996) type 7 quantile (numpy's and R's default) of

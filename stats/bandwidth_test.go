@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"errors"
 	"math"
+	"math/rand/v2"
 	"slices"
 	"strings"
 	"testing"
@@ -26,7 +27,7 @@ func TestSpreadK10(t *testing.T) {
 	if got, want := s.sdMa, 0.3416967466; !relClose(got, want, 1e-9) {
 		t.Errorf("σ̂ = %.10f, want %.10f", got, want)
 	}
-	if got, want := s.iqrMa, 0.4000; !relClose(got, want, 1e-9) {
+	if got, want := s.iqrMa(), 0.4000; !relClose(got, want, 1e-9) {
 		t.Errorf("type-7 IQR = %.10f, want %.10f", got, want)
 	}
 }
@@ -239,4 +240,25 @@ func FuzzSelectBandwidth(f *testing.F) {
 			t.Fatalf("rule %v, ages %v: h = %v (%s)", rule, ages, b.Ma, b.Note)
 		}
 	})
+}
+
+// TestQuantile7Selection: selection gives the same type-7 quantiles as sorting.
+func TestQuantile7Selection(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 3))
+	for trial := range 200 {
+		n := 1 + rng.IntN(60)
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = float64(rng.IntN(8)) // many ties
+			if trial%2 == 0 {
+				x[i] = rng.NormFloat64()
+			}
+		}
+		sorted := slices.Sorted(slices.Values(x))
+		for _, p := range []float64{0, 0.025, 0.25, 0.5, 0.75, 0.975, 1} {
+			if got, want := quantile7(slices.Clone(x), p), sortedQuantile7(sorted, p); got != want {
+				t.Fatalf("x=%v p=%v: selection %v, sort %v", x, p, got, want)
+			}
+		}
+	}
 }

@@ -3,6 +3,7 @@ package stats
 import (
 	"fmt"
 	"math"
+	"math/bits"
 	"slices"
 
 	"gonum.org/v1/gonum/dsp/fourier"
@@ -46,19 +47,12 @@ func ISJBandwidth(agesMa []float64, gridPoints int) (ISJResult, error) {
 	if err := checkAges(agesMa); err != nil {
 		return ISJResult{}, fmt.Errorf("isj: %w", err)
 	}
-	sorted := slices.Clone(agesMa)
-	slices.Sort(sorted)
-	lo, hi := sorted[0], sorted[len(sorted)-1]
+	lo, hi := slices.Min(agesMa), slices.Max(agesMa)
 	r := hi - lo
 	if math.IsInf(r, 0) {
 		return ISJResult{}, fmt.Errorf("isj: the dates span more than the float64 range")
 	}
-	distinct := 1
-	for i := 1; i < len(sorted); i++ {
-		if sorted[i] != sorted[i-1] {
-			distinct++
-		}
-	}
+	distinct := countDistinct(agesMa)
 	if distinct < 2 {
 		return ISJResult{}, fmt.Errorf("isj: %w", ErrNoSpread)
 	}
@@ -68,7 +62,7 @@ func ISJBandwidth(agesMa []float64, gridPoints int) (ISJResult, error) {
 		return ISJResult{}, fmt.Errorf("isj: the padded grid spans more than the float64 range")
 	}
 
-	p := isjHistogram(sorted, res.GridMinMa, span, gridPoints)
+	p := isjHistogram(agesMa, res.GridMinMa, span, gridPoints)
 	a := dct2(p)
 	z := newISJZeta(a, float64(distinct))
 
@@ -82,21 +76,49 @@ func ISJBandwidth(agesMa []float64, gridPoints int) (ISJResult, error) {
 	return res, nil
 }
 
-// isjHistogram counts sorted ages into the cells [x_j, x_{j+1}) of a grid of n ages starting at
-// lo with span span and returns proportions.
-func isjHistogram(sorted []float64, lo, span float64, n int) []float64 {
+// isjHistogram counts ages into the cells [x_j, x_{j+1}) of a grid of n ages starting at lo
+// with span span and returns proportions.
+func isjHistogram(ages []float64, lo, span float64, n int) []float64 {
 	p := make([]float64, n)
 	dx := span / float64(n-1)
-	for _, x := range sorted {
+	for _, x := range ages {
 		j := int(math.Floor((x - lo) / dx))
 		j = max(0, min(j, n-1))
 		p[j]++
 	}
-	total := float64(len(sorted))
+	total := float64(len(ages))
 	for j := range p {
 		p[j] /= total
 	}
 	return p
+}
+
+// countDistinct counts the distinct values of x (no NaN; 0 and −0 are one value) with an
+// open-addressing hash set, in O(n) where a sort would cost O(n log n).
+func countDistinct(x []float64) int {
+	size := 16
+	for size < 2*len(x) {
+		size <<= 1
+	}
+	shift := 64 - bits.TrailingZeros(uint(size))
+	table := make([]uint64, size)
+	used := make([]bool, size)
+	count := 0
+	for _, v := range x {
+		if v == 0 {
+			v = 0 // folds −0 into +0
+		}
+		key := math.Float64bits(v)
+		i := int((key * 0x9E3779B97F4A7C15) >> shift)
+		for used[i] && table[i] != key {
+			i = (i + 1) & (size - 1)
+		}
+		if !used[i] {
+			used[i], table[i] = true, key
+			count++
+		}
+	}
+	return count
 }
 
 // dct2 returns a_k = 2Σ_j p_j cos(πk(2j+1)/(2n)), k = 0..n−1. FFTPACK's backward quarter-wave

@@ -134,6 +134,30 @@ func TestISJNormSqRecurrence(t *testing.T) {
 	}
 }
 
+func TestCountDistinct(t *testing.T) {
+	tests := []struct {
+		x    []float64
+		want int
+	}{
+		{[]float64{1}, 1},
+		{[]float64{0, math.Copysign(0, -1), 0}, 1},
+		{[]float64{1, 2, 1, 3, 2, 1e300, -1e300, 5e-324}, 6},
+		{d50AgesMa(), 50}, // REFERENCES §4 D50: N = 50 distinct values gives its t*
+	}
+	for _, tt := range tests {
+		if got := countDistinct(tt.x); got != tt.want {
+			t.Errorf("countDistinct(%v) = %d, want %d", tt.x, got, tt.want)
+		}
+	}
+	big := make([]float64, 5000)
+	for i := range big {
+		big[i] = float64(i % 1234)
+	}
+	if got := countDistinct(big); got != 1234 {
+		t.Errorf("countDistinct(5000 values, 1234 distinct) = %d", got)
+	}
+}
+
 func BenchmarkISJ100k(b *testing.B) {
 	ages := benchAges(100_000)
 	for b.Loop() {
