@@ -31,35 +31,37 @@ const (
 // DefaultBandwidthRule is the rule used when an option's Rule is zero.
 const DefaultBandwidthRule = RuleISJ
 
-var ruleNames = [...]string{
-	RuleScott:           "scott",
-	RuleSilverman:       "silverman",
-	RuleSilvermanRobust: "silverman-robust",
-	RuleISJ:             "isj",
-	RuleUser:            "user",
-}
-
-var ruleLabels = [...]string{
-	RuleScott:           "Scott (1992)",
-	RuleSilverman:       "normal reference 1.06 (Silverman 1986)",
-	RuleSilvermanRobust: "Silverman robust 0.9·min(σ, IQR/1.34)",
-	RuleISJ:             "ISJ diffusion (Botev et al. 2010)",
-	RuleUser:            "user-set",
-}
-
 // String returns the rule's URL name: "scott", "silverman", "silverman-robust", "isj" or "user".
 // ParseBandwidthRule(r.String()) returns r for every valid rule.
 func (r BandwidthRule) String() string {
-	if r.valid() {
-		return ruleNames[r]
+	switch r {
+	case RuleScott:
+		return "scott"
+	case RuleSilverman:
+		return "silverman"
+	case RuleSilvermanRobust:
+		return "silverman-robust"
+	case RuleISJ:
+		return "isj"
+	case RuleUser:
+		return "user"
 	}
 	return fmt.Sprintf("BandwidthRule(%d)", int(r))
 }
 
 // Label returns a short human-readable name of the rule with its source, for display.
 func (r BandwidthRule) Label() string {
-	if r.valid() {
-		return ruleLabels[r]
+	switch r {
+	case RuleScott:
+		return "Scott (1992)"
+	case RuleSilverman:
+		return "normal reference 1.06 (Silverman 1986)"
+	case RuleSilvermanRobust:
+		return "Silverman robust 0.9·min(σ, IQR/1.34)"
+	case RuleISJ:
+		return "ISJ diffusion (Botev et al. 2010)"
+	case RuleUser:
+		return "user-set"
 	}
 	return r.String()
 }
