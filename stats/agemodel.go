@@ -494,26 +494,55 @@ func amOrdered(a, gaps []float64) bool {
 }
 
 // amDirichlet fills out with the Dirichlet fractions of the steps of a plan: Gamma(k·thickness) for
-// sediment, Gamma(hiatusExtraShape) for a hiatus, normalised. Zero-thickness steps get 0. The variates
-// are drawn on the log scale so that tiny shapes cannot underflow to 0/0.
+// sediment, Gamma(hiatusExtraShape) for a hiatus, normalised. Zero-thickness steps get 0. When a shape is
+// below linearMinShape the variates are drawn on the log scale, so that tiny shapes cannot underflow to
+// 0/0; otherwise directly, which is faster.
 func amDirichlet(r *rand.Rand, plan []amStep, k float64, out []float64) []float64 {
-	maxL := math.Inf(-1)
+	const linearMinShape = 0.1 // U^(1/a) ≥ (2⁻⁵³)^10 ≈ 1e-160: no underflow
+	linear := true
 	for _, st := range plan {
-		shape := k * st.thickM
-		if st.hiatus {
-			shape = hiatusExtraShape
+		if !st.hiatus && st.thickM > 0 && k*st.thickM < linearMinShape {
+			linear = false
+			break
 		}
-		l := math.Inf(-1)
-		if shape > 0 {
-			l = logGammaVariate(r, shape)
-		}
-		out = append(out, l)
-		maxL = max(maxL, l)
 	}
 	var sum float64
-	for i, l := range out {
-		out[i] = math.Exp(l - maxL)
-		sum += out[i]
+	if linear {
+		for _, st := range plan {
+			shape := k * st.thickM
+			if st.hiatus {
+				shape = hiatusExtraShape
+			}
+			var g float64
+			if shape > 0 {
+				dv, logBoost := gammaCore(r, shape)
+				g = dv
+				if logBoost != 0 {
+					g *= math.Exp(logBoost)
+				}
+			}
+			out = append(out, g)
+			sum += g
+		}
+	} else {
+		maxL := math.Inf(-1)
+		for _, st := range plan {
+			shape := k * st.thickM
+			if st.hiatus {
+				shape = hiatusExtraShape
+			}
+			l := math.Inf(-1)
+			if shape > 0 {
+				dv, logBoost := gammaCore(r, shape)
+				l = math.Log(dv) + logBoost
+			}
+			out = append(out, l)
+			maxL = max(maxL, l)
+		}
+		for i, l := range out {
+			out[i] = math.Exp(l - maxL)
+			sum += out[i]
+		}
 	}
 	for i := range out {
 		out[i] /= sum
@@ -521,12 +550,11 @@ func amDirichlet(r *rand.Rand, plan []amStep, k float64, out []float64) []float6
 	return out
 }
 
-// logGammaVariate returns the log of a Gamma(shape, 1) variate by Marsaglia & Tsang (2000, ACM TOMS
-// 26:363), with the boost Gamma(a) = Gamma(a+1)·U^(1/a) for a < 1 applied on the log scale.
-func logGammaVariate(r *rand.Rand, shape float64) float64 {
-	var boost float64
+// gammaCore draws a Gamma(shape, 1) variate as dv·exp(logBoost), by Marsaglia & Tsang (2000, ACM TOMS
+// 26:363) with the boost Gamma(a) = Gamma(a+1)·U^(1/a) for a < 1 kept on the log scale.
+func gammaCore(r *rand.Rand, shape float64) (dv, logBoost float64) {
 	if shape < 1 {
-		boost = math.Log(1-r.Float64()) / shape
+		logBoost = math.Log(1-r.Float64()) / shape
 		shape++
 	}
 	d := shape - 1.0/3
@@ -541,7 +569,7 @@ func logGammaVariate(r *rand.Rand, shape float64) float64 {
 		u := r.Float64()
 		x2 := x * x
 		if u < 1-0.0331*x2*x2 || math.Log(u) < 0.5*x2+d*(1-v+math.Log(v)) {
-			return math.Log(d*v) + boost
+			return d * v, logBoost
 		}
 	}
 }
@@ -665,28 +693,68 @@ func truncStdNormal(r *rand.Rand, a, b float64) float64 {
 func stdNormalCDF(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }
 
 // summarizeDraws returns the median and 2.5/97.5 percentiles (linear interpolation between order
-// statistics). It sorts x in place. NaN for no draws.
+// statistics, Hyndman & Fan type 7). It reorders x in place, by selection rather than a full sort. NaN for
+// no draws.
 func summarizeDraws(x []float64) DrawSummary {
-	slices.Sort(x)
-	return DrawSummary{Median: sortedQuantile(x, 0.5), Lo95: sortedQuantile(x, 0.025), Hi95: sortedQuantile(x, 0.975)}
+	return DrawSummary{Median: selectQuantile(x, 0.5), Lo95: selectQuantile(x, 0.025), Hi95: selectQuantile(x, 0.975)}
 }
 
-// sortedQuantile returns the p-quantile of sorted x with linear interpolation (Hyndman & Fan type 7).
-func sortedQuantile(x []float64, p float64) float64 {
+// selectQuantile returns the type-7 p-quantile of x, reordering x in place.
+func selectQuantile(x []float64, p float64) float64 {
 	n := len(x)
 	if n == 0 {
 		return math.NaN()
 	}
 	h := p * float64(n-1)
 	i := int(h)
-	if i >= n-1 {
-		return x[n-1]
-	}
+	amSelect(x, i)
 	f := h - float64(i)
-	if f == 0 {
+	if f == 0 || i >= n-1 {
 		return x[i]
 	}
-	return x[i] + f*(x[i+1]-x[i])
+	return x[i] + f*(slices.Min(x[i+1:])-x[i])
+}
+
+// amSelect reorders x so that x[k] is the k-th smallest value, smaller or equal values before it and
+// greater or equal after it (quickselect with a median-of-three pivot).
+func amSelect(x []float64, k int) {
+	lo, hi := 0, len(x)-1
+	for hi-lo > 16 {
+		mid := lo + (hi-lo)/2
+		if x[mid] < x[lo] {
+			x[mid], x[lo] = x[lo], x[mid]
+		}
+		if x[hi] < x[lo] {
+			x[hi], x[lo] = x[lo], x[hi]
+		}
+		if x[hi] < x[mid] {
+			x[hi], x[mid] = x[mid], x[hi]
+		}
+		p := x[mid]
+		i, j := lo, hi
+		for i <= j {
+			for x[i] < p {
+				i++
+			}
+			for x[j] > p {
+				j--
+			}
+			if i <= j {
+				x[i], x[j] = x[j], x[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return
+		}
+	}
+	slices.Sort(x[lo : hi+1])
 }
 
 // AgesAt returns a copy of the age draws (Ma) at a requested height, or an error when the height was not

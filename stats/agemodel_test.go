@@ -62,7 +62,7 @@ func TestBetaBridgeMidpoint(t *testing.T) {
 		for _, q := range []struct{ p, want float64 }{{0.025, tc.lo}, {0.975, tc.hi}} {
 			// MC standard error of a sample quantile: sqrt(p(1−p)/N)/density; plus the rounding of the reference.
 			se := math.Sqrt(q.p*(1-q.p)/draws) / beta.Prob(q.want)
-			if got, want := sortedQuantile(f, q.p), q.want; math.Abs(got-want) > 4*se+0.0005 {
+			if got, want := selectQuantile(f, q.p), q.want; math.Abs(got-want) > 4*se+0.0005 {
 				t.Errorf("kD %g: quantile %g got %.4f, want %.3f ± %.4f", tc.kD, q.p, got, want, 4*se+0.0005)
 			}
 		}
@@ -101,11 +101,27 @@ func TestBetaBridgeJoint(t *testing.T) {
 		mid[i] = 1 - mid[i]
 	}
 	slices.Sort(mid)
-	if got, want := sortedQuantile(mid, 0.025), 0.212; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
+	if got, want := selectQuantile(mid, 0.025), 0.212; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
 		t.Errorf("mid-point 2.5 %% among 99 heights got %.4f, want %.3f", got, want)
 	}
-	if got, want := sortedQuantile(mid, 0.975), 0.788; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
+	if got, want := selectQuantile(mid, 0.975), 0.788; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
 		t.Errorf("mid-point 97.5 %% among 99 heights got %.4f, want %.3f", got, want)
+	}
+	// Sequential bridge: given the age at 0.5 m, the fraction of the remaining time elapsed by 0.75 m is
+	// Beta(k·0.25, k·0.25) and independent of the first fraction.
+	a50, _ := m.AgesAt(0.5)
+	a75, _ := m.AgesAt(0.75)
+	first, second := make([]float64, draws), make([]float64, draws)
+	for d := range draws {
+		first[d] = 1 - a50[d]
+		second[d] = (a50[d] - a75[d]) / a50[d]
+	}
+	if r, _, _ := Pearson(first, second); math.Abs(r) > 4/math.Sqrt(draws) {
+		t.Errorf("conditional fraction correlates with the first: r = %.4f", r)
+	}
+	cond := distuv.Beta{Alpha: 2.5, Beta: 2.5}
+	if got, want := selectQuantile(second, 0.975), cond.Quantile(0.975); math.Abs(got-want) > 4*math.Sqrt(0.975*0.025/draws)/cond.Prob(want) {
+		t.Errorf("conditional fraction 97.5 %% got %.4f, want %.4f (gonum Beta quantile)", got, want)
 	}
 	// Time elapsed between 0.2 and 0.7 m: Beta(k·0.5, k·0.5) for a Poisson process (Dirichlet aggregation).
 	lo, _ := m.AgesAt(0.2)
@@ -611,6 +627,34 @@ func BenchmarkAgeModel10kDraws500Heights8Ties(b *testing.B) {
 	for b.Loop() {
 		if _, err := FitAgeModel(ties, nil, hs, AgeModelOptions{Draws: 10000, Seed: 1}); err != nil {
 			b.Fatal(err)
+		}
+	}
+}
+
+// TestSelectQuantile compares selection with the type-7 quantile of a sorted copy, with ties and
+// infinities among the values.
+func TestSelectQuantile(t *testing.T) {
+	r := rand.New(rand.NewPCG(3, 3))
+	for _, n := range []int{1, 2, 3, 17, 100, 1001} {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = math.Round(10 * r.NormFloat64())
+		}
+		if n > 3 {
+			x[0] = math.Inf(1)
+		}
+		s := slices.Clone(x)
+		slices.Sort(s)
+		for _, p := range []float64{0, 0.025, 0.5, 0.975, 1} {
+			h := p * float64(n-1)
+			i := int(h)
+			want := s[i]
+			if f := h - float64(i); f > 0 {
+				want = s[i] + f*(s[i+1]-s[i])
+			}
+			if got := selectQuantile(slices.Clone(x), p); got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+				t.Errorf("n %d, p %g: got %g, want %g", n, p, got, want)
+			}
 		}
 	}
 }
