@@ -102,6 +102,8 @@ const (
 	// hiatusExtraShape is the Dirichlet weight of a hiatus's time beyond its minimum: one waiting time
 	// between deposition events of the Poisson model.
 	hiatusExtraShape = 1.0
+	// MaxAgeModelValues bounds draws × heights of one model (400 MB of float64).
+	MaxAgeModelValues = 50_000_000
 )
 
 // AgeModelOptions configures FitAgeModel. The zero value means 2,000 draws, seed 0, a log-uniform prior on
@@ -178,15 +180,16 @@ type amStep struct {
 // scaled to the time between the ties, i.e. Dirichlet(k·d₁, k·d₂, …). The elapsed fraction at one height
 // is therefore Beta(k·d₁, k·d₂), and the fractions at all requested heights of a draw are one joint
 // sample, as a chain of conditional Beta bridges between successive heights would give. k is drawn per
-// draw from a log-uniform prior unless fixed, so the model averages over the rigidity instead of
-// trusting one value: its intervals are calibrated on average over that prior, wider than needed for
-// very regular deposition and slightly narrow for very irregular deposition near the prior's lower end. A hiatus adds its minimum duration at its height plus a
-// share of the remaining time of Dirichlet weight 1.
+// draw from a log-uniform prior unless fixed, so the model averages over the rigidity instead of trusting
+// one value: its intervals are calibrated on average over that prior, wider than needed for very regular
+// deposition and slightly narrow for very irregular deposition near the prior's lower end. A hiatus adds
+// its minimum duration at its height plus a share of the remaining time of Dirichlet weight 1.
 //
 // Ties need distinct heights (at least two); hiatuses must lie strictly between the lowest and highest
 // tie and not at a tie. Requested heights must be strictly ascending and within the tie range; at a
 // hiatus height the age is that of the underlying (older) side. Errors are returned for invalid input and
-// wrap ErrUnorderable when no ordered draw exists. The result owns its slices.
+// wrap ErrUnorderable when no ordered draw exists. Draws × heights may not exceed MaxAgeModelValues. The
+// result owns its slices.
 func FitAgeModel(ties []TiePoint, hiatuses []Hiatus, heightsM []float64, opt AgeModelOptions) (*AgeModel, error) {
 	tz, hz, err := amValidate(ties, hiatuses, heightsM)
 	if err != nil {
@@ -197,6 +200,9 @@ func FitAgeModel(ties []TiePoint, hiatuses []Hiatus, heightsM []float64, opt Age
 		return nil, fmt.Errorf("age model: %w", err)
 	}
 	nt, nh := len(tz), len(heightsM)
+	if o.Draws > MaxAgeModelValues/nh {
+		return nil, fmt.Errorf("age model: %d draws × %d heights exceed %d values", o.Draws, nh, MaxAgeModelValues)
+	}
 
 	// gaps[i]: least time between tie i and tie i+1 (the hiatuses between them).
 	gaps := make([]float64, nt-1)

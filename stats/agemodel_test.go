@@ -11,7 +11,7 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// agemodelLong runs the long calibration test: go test -run Calibration -agemodel.long ./stats/
+// agemodelLong runs the long calibration test: go test -run Calibration -v ./stats/ -agemodel.long
 var agemodelLong = flag.Bool("agemodel.long", false, "run the long age-model calibration test (5,000 sections per shape, 4,000 draws)")
 
 func mustFitAgeModel(tb testing.TB, ties []TiePoint, hiatuses []Hiatus, heightsM []float64, opt AgeModelOptions) *AgeModel {
@@ -430,6 +430,7 @@ func TestAgeModelErrors(t *testing.T) {
 		{"hiatus on tie", two, []Hiatus{{HeightM: 10, MinDurationMa: 1}}, []float64{5}, AgeModelOptions{}, false},
 		{"hiatus outside", two, []Hiatus{{HeightM: 12, MinDurationMa: 1}}, []float64{5}, AgeModelOptions{}, false},
 		{"bad prior", two, nil, []float64{5}, AgeModelOptions{RigidityMinPerM: 10, RigidityMaxPerM: 1}, false},
+		{"too many values", two, nil, []float64{1, 2, 3, 4, 5, 6}, AgeModelOptions{Draws: MaxAgeModelValues/6 + 1}, false},
 		{"uniform ties reversed", []TiePoint{UniformTie(0, 0, 1), UniformTie(1, 2, 3)}, nil, []float64{0.5}, AgeModelOptions{Draws: 10}, true},
 		{"exact equal ties", []TiePoint{NormalTie(0, 5, 0), NormalTie(1, 5, 0)}, nil, []float64{0.5}, AgeModelOptions{Draws: 10}, true},
 		{"hiatus longer than the ties allow", []TiePoint{UniformTie(0, 9, 10), UniformTie(1, 0, 1)}, []Hiatus{{HeightM: 0.5, MinDurationMa: 11}}, []float64{0.5}, AgeModelOptions{Draws: 10}, true},
@@ -562,7 +563,7 @@ func calibrationSize() (n, draws int) {
 // By default 1,000 sections and 1,500 draws per shape (-short: 400 sections); the flag -agemodel.long
 // runs 5,000 sections and 4,000 draws:
 //
-//	go test -run Calibration -v -agemodel.long ./stats/
+//	go test -run Calibration -v ./stats/ -agemodel.long
 func TestAgeModelCalibration(t *testing.T) {
 	n, draws := calibrationSize()
 	lo, hi := coverageBand(n)
