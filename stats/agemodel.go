@@ -702,65 +702,7 @@ func stdNormalCDF(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }
 // statistics, Hyndman & Fan type 7). It reorders x in place, by selection rather than a full sort. NaN for
 // no draws.
 func summarizeDraws(x []float64) DrawSummary {
-	return DrawSummary{Median: selectQuantile(x, 0.5), Lo95: selectQuantile(x, 0.025), Hi95: selectQuantile(x, 0.975)}
-}
-
-// selectQuantile returns the type-7 p-quantile of x, reordering x in place.
-func selectQuantile(x []float64, p float64) float64 {
-	n := len(x)
-	if n == 0 {
-		return math.NaN()
-	}
-	h := p * float64(n-1)
-	i := int(h)
-	amSelect(x, i)
-	f := h - float64(i)
-	if f == 0 || i >= n-1 {
-		return x[i]
-	}
-	return x[i] + f*(slices.Min(x[i+1:])-x[i])
-}
-
-// amSelect reorders x so that x[k] is the k-th smallest value, smaller or equal values before it and
-// greater or equal after it (quickselect with a median-of-three pivot).
-func amSelect(x []float64, k int) {
-	lo, hi := 0, len(x)-1
-	for hi-lo > 16 {
-		mid := lo + (hi-lo)/2
-		if x[mid] < x[lo] {
-			x[mid], x[lo] = x[lo], x[mid]
-		}
-		if x[hi] < x[lo] {
-			x[hi], x[lo] = x[lo], x[hi]
-		}
-		if x[hi] < x[mid] {
-			x[hi], x[mid] = x[mid], x[hi]
-		}
-		p := x[mid]
-		i, j := lo, hi
-		for i <= j {
-			for x[i] < p {
-				i++
-			}
-			for x[j] > p {
-				j--
-			}
-			if i <= j {
-				x[i], x[j] = x[j], x[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return
-		}
-	}
-	slices.Sort(x[lo : hi+1])
+	return DrawSummary{Median: quantile7(x, 0.5), Lo95: quantile7(x, 0.025), Hi95: quantile7(x, 0.975)}
 }
 
 // AgesAt returns a copy of the age draws (Ma) at a requested height, or an error when the height was not

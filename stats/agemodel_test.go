@@ -62,7 +62,7 @@ func TestBetaBridgeMidpoint(t *testing.T) {
 		for _, q := range []struct{ p, want float64 }{{0.025, tc.lo}, {0.975, tc.hi}} {
 			// MC standard error of a sample quantile: sqrt(p(1−p)/N)/density; plus the rounding of the reference.
 			se := math.Sqrt(q.p*(1-q.p)/draws) / beta.Prob(q.want)
-			if got, want := selectQuantile(f, q.p), q.want; math.Abs(got-want) > 4*se+0.0005 {
+			if got, want := quantile7(f, q.p), q.want; math.Abs(got-want) > 4*se+0.0005 {
 				t.Errorf("kD %g: quantile %g got %.4f, want %.3f ± %.4f", tc.kD, q.p, got, want, 4*se+0.0005)
 			}
 		}
@@ -101,10 +101,10 @@ func TestBetaBridgeJoint(t *testing.T) {
 		mid[i] = 1 - mid[i]
 	}
 	slices.Sort(mid)
-	if got, want := selectQuantile(mid, 0.025), 0.212; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
+	if got, want := quantile7(mid, 0.025), 0.212; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
 		t.Errorf("mid-point 2.5 %% among 99 heights got %.4f, want %.3f", got, want)
 	}
-	if got, want := selectQuantile(mid, 0.975), 0.788; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
+	if got, want := quantile7(mid, 0.975), 0.788; math.Abs(got-want) > 0.008 { // REFERENCES §7 [C]
 		t.Errorf("mid-point 97.5 %% among 99 heights got %.4f, want %.3f", got, want)
 	}
 	// Sequential bridge: given the age at 0.5 m, the fraction of the remaining time elapsed by 0.75 m is
@@ -120,7 +120,7 @@ func TestBetaBridgeJoint(t *testing.T) {
 		t.Errorf("conditional fraction correlates with the first: r = %.4f", r)
 	}
 	cond := distuv.Beta{Alpha: 2.5, Beta: 2.5}
-	if got, want := selectQuantile(second, 0.975), cond.Quantile(0.975); math.Abs(got-want) > 4*math.Sqrt(0.975*0.025/draws)/cond.Prob(want) {
+	if got, want := quantile7(second, 0.975), cond.Quantile(0.975); math.Abs(got-want) > 4*math.Sqrt(0.975*0.025/draws)/cond.Prob(want) {
 		t.Errorf("conditional fraction 97.5 %% got %.4f, want %.4f (gonum Beta quantile)", got, want)
 	}
 	// Time elapsed between 0.2 and 0.7 m: Beta(k·0.5, k·0.5) for a Poisson process (Dirichlet aggregation).
@@ -653,7 +653,7 @@ func TestSelectQuantile(t *testing.T) {
 			if f := h - float64(i); f > 0 {
 				want = s[i] + f*(s[i+1]-s[i])
 			}
-			if got := selectQuantile(slices.Clone(x), p); got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+			if got := quantile7(slices.Clone(x), p); got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
 				t.Errorf("n %d, p %g: got %g, want %g", n, p, got, want)
 			}
 		}
