@@ -3,6 +3,7 @@ package store
 import (
 	"bytes"
 	"context"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -128,5 +129,77 @@ func FuzzImportTies(f *testing.F) {
 		before, _ := db.Counts(ctx)
 		_, err := db.ImportTies(ctx, "S", "fuzz.csv", strings.NewReader(body))
 		checkAllOrNothing(t, db, before, err)
+	})
+}
+
+// FuzzParseDates exercises the dates parser alone (no database, so the fuzzer runs fast): it never panics,
+// every problem points at a line of the file, and a row that passes has a usable age and 1σ.
+func FuzzParseDates(f *testing.F) {
+	addSeeds(f, "dates", "dates")
+	f.Fuzz(func(t *testing.T, body string) {
+		tab, err := readCSV("fuzz.csv", strings.NewReader(body))
+		if err != nil {
+			if _, ok := AsValidation(err); !ok {
+				t.Fatalf("read: non-validation error %v", err)
+			}
+			return
+		}
+		tab.requireColumns([]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"}, dateColumns)
+		if tab.err() != nil {
+			return
+		}
+		seen := map[[2]string]int{}
+		lines := strings.Count(body, "\n") + 1
+		for i := range tab.rows {
+			before := len(tab.problems)
+			d := parseDateRow(tab.row(i), seen)
+			if len(tab.problems) == before {
+				if !(d.AgeMa > 0 && d.AgeMa <= 4600 && d.SigmaMa > 0 && (d.SigmaLevel == 1 || d.SigmaLevel == 2)) {
+					t.Fatalf("row %d passed with age %v σ %v level %d", i, d.AgeMa, d.SigmaMa, d.SigmaLevel)
+				}
+			}
+		}
+		for _, p := range tab.problems {
+			if p.Line < 0 || p.Line > lines || p.Message == "" {
+				t.Fatalf("problem outside the file: %+v (file has %d lines)", p, lines)
+			}
+		}
+	})
+}
+
+// FuzzParseMeasurements exercises the wide measurement parser alone: no panic, and values that pass are
+// finite, with concentrations never negative.
+func FuzzParseMeasurements(f *testing.F) {
+	addSeeds(f, "measurements", "measurements")
+	f.Fuzz(func(t *testing.T, body string) {
+		tab, err := readCSV("fuzz.csv", strings.NewReader(body))
+		if err != nil {
+			return
+		}
+		tab.requireColumns([]string{"sample", "height_m"}, nil)
+		pc := mapProxyColumns(tab)
+		if tab.err() != nil {
+			return
+		}
+		for i := range tab.rows {
+			for _, col := range tab.header {
+				pu, ok := pc.value[col]
+				if !ok {
+					continue
+				}
+				before := len(tab.problems)
+				m, ok := parseMeasurementCell(tab.row(i), pc, col, pu)
+				if !ok || len(tab.problems) != before || m.Value == nil {
+					continue
+				}
+				v := *m.Value
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					t.Fatalf("non-finite value passed: %v", v)
+				}
+				if (pu.proxy == "hg" || pu.proxy == "toc" || pu.proxy == "ts" || pu.proxy == "al") && v < 0 {
+					t.Fatalf("negative concentration passed: %v %s", v, col)
+				}
+			}
+		}
 	})
 }
