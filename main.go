@@ -9,6 +9,7 @@
 package main
 
 import (
+	"bufio"
 	"context"
 	"embed"
 	"errors"
@@ -26,6 +27,8 @@ import (
 	"syscall"
 	"time"
 
+	"golang.org/x/term"
+
 	"coeval/migrations"
 	"coeval/static"
 	"coeval/store"
@@ -40,9 +43,10 @@ const demoLabel = "The Hvarn Plateau Basalts, their units, laboratories, citatio
 
 // config is everything main reads from flags and the environment.
 type config struct {
-	dbPath string
-	addr   string
-	demo   bool
+	dbPath        string
+	addr          string
+	demo          bool
+	secureCookies bool
 }
 
 func envOr(key, def string) string {
@@ -71,11 +75,14 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fl.StringVar(&cfg.dbPath, "db", envOr("COEVAL_DB", "coeval.db"), "SQLite database file (env COEVAL_DB)")
 	fl.StringVar(&cfg.addr, "addr", envOr("COEVAL_ADDR", "localhost:8080"), "listen address (env COEVAL_ADDR)")
 	fl.BoolVar(&cfg.demo, "demo", envOr("COEVAL_DEMO", "true") != "false", "seed the invented demo scenario into an empty database (env COEVAL_DEMO)")
+	fl.BoolVar(&cfg.secureCookies, "secure-cookies", envOr("COEVAL_SECURE_COOKIES", "false") == "true", "mark the session cookie Secure: set when served over TLS (env COEVAL_SECURE_COOKIES)")
 	fl.Usage = func() {
 		fmt.Fprint(stderr, `usage:
   coeval [-db FILE] [-addr HOST:PORT] [-demo=false]   serve the compilation (default)
   coeval [-db FILE] import KIND [SECTION] FILE         import a CSV file, all or nothing
   coeval [-db FILE] export KIND [SECTION] [-o FILE]    export in the same format
+  coeval [-db FILE] user add NAME -role ROLE           add an account (password from the terminal or stdin)
+  coeval [-db FILE] backup FILE                        a consistent copy of the database, while it runs
 KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events
 flags:
 `)
@@ -100,6 +107,10 @@ flags:
 		return importCmd(ctx, cfg, rest, stdout)
 	case "export":
 		return exportCmd(ctx, cfg, rest, stdout, stderr)
+	case "user":
+		return userCmd(ctx, cfg, rest, os.Stdin, stdout, stderr)
+	case "backup":
+		return backupCmd(ctx, cfg, rest, stdout)
 	}
 	fl.Usage()
 	return fmt.Errorf("unknown command %q", cmd)
@@ -146,7 +157,7 @@ func serve(ctx context.Context, cfg config, logger *slog.Logger, stdout io.Write
 		return fmt.Errorf("listen on %s: %w", cfg.addr, err)
 	}
 	srv := &http.Server{
-		Handler:           web.NewHandler(db, logger, static.FS),
+		Handler:           web.NewHandler(db, logger, static.FS, web.WithSecureCookies(cfg.secureCookies)),
 		ReadHeaderTimeout: 10 * time.Second,
 		ReadTimeout:       5 * time.Minute, // uploads of large files
 		WriteTimeout:      5 * time.Minute,
@@ -274,4 +285,66 @@ func exportCmd(ctx context.Context, cfg config, args []string, stdout, stderr io
 		return err
 	}
 	return os.Rename(tmp.Name(), *out)
+}
+
+// userCmd adds an account: coeval user add NAME -role ROLE. The password is read without echo from a
+// terminal, or as the first line of standard input (for scripts).
+func userCmd(ctx context.Context, cfg config, args []string, stdin *os.File, stdout, stderr io.Writer) error {
+	if len(args) < 2 || args[0] != "add" {
+		return fmt.Errorf("user: want 'user add NAME -role ROLE' (roles: %s)", strings.Join(store.Roles(), ", "))
+	}
+	name := args[1]
+	fl := flag.NewFlagSet("user add", flag.ContinueOnError)
+	fl.SetOutput(stderr)
+	role := fl.String("role", store.RoleReader, "role: "+strings.Join(store.Roles(), ", "))
+	if err := fl.Parse(args[2:]); err != nil {
+		return err
+	}
+	var password string
+	if term.IsTerminal(int(stdin.Fd())) {
+		fmt.Fprint(stdout, "Password for "+name+": ")
+		b, err := term.ReadPassword(int(stdin.Fd()))
+		fmt.Fprintln(stdout)
+		if err != nil {
+			return err
+		}
+		password = string(b)
+	} else {
+		line, err := bufio.NewReader(stdin).ReadString('\n')
+		if err != nil && line == "" {
+			return fmt.Errorf("user add: give the password as the first line of standard input")
+		}
+		password = strings.TrimRight(line, "\r\n")
+	}
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	u, err := db.CreateUser(ctx, name, *role, password)
+	if err != nil {
+		if ve, ok := store.AsValidation(err); ok {
+			return fmt.Errorf("user add:\n%s", indent(ve.Problems))
+		}
+		return err
+	}
+	fmt.Fprintf(stdout, "added %s (%s)\n", u.Name, u.Role)
+	return nil
+}
+
+// backupCmd writes a consistent snapshot of the database to FILE while the server may be running.
+func backupCmd(ctx context.Context, cfg config, args []string, stdout io.Writer) error {
+	if len(args) != 1 {
+		return fmt.Errorf("backup: want one FILE to write")
+	}
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	if err := db.Backup(ctx, args[0]); err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "backup of %s written to %s\n", cfg.dbPath, args[0])
+	return nil
 }

@@ -24,8 +24,9 @@ const TimeFormat = time.RFC3339
 
 // DB is coeval's database. It is safe for concurrent use.
 type DB struct {
-	db  *sql.DB
-	now func() time.Time
+	db         *sql.DB
+	now        func() time.Time
+	bcryptCost int // 0 = bcrypt.DefaultCost
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:

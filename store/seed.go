@@ -9,6 +9,10 @@ import (
 	"path"
 )
 
+// DemoPassword is the password of the demo accounts (demo-reader, demo-contributor, demo-curator,
+// demo-admin), which exist only in a database seeded with the demo scenario. It is published in the README.
+const DemoPassword = "coeval-demo-only"
+
 // SettingDemo is set when the database was seeded with the invented demo scenario; pages then say so.
 const SettingDemo = "demo_scenario"
 
@@ -68,6 +72,11 @@ func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []Im
 			return false, results, fmt.Errorf("seed demo: %w", err)
 		}
 		results = append(results, res)
+	}
+	for _, role := range Roles() {
+		if _, err := d.CreateUser(ctx, "demo-"+role, role, DemoPassword); err != nil {
+			return false, results, fmt.Errorf("seed demo users: %w", err)
+		}
 	}
 	if err := d.SetSetting(ctx, SettingDemo, label); err != nil {
 		return false, results, err

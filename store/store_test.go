@@ -8,6 +8,8 @@ import (
 	"testing"
 	"time"
 
+	"golang.org/x/crypto/bcrypt"
+
 	"coeval/migrations"
 )
 
@@ -24,6 +26,7 @@ func mustOpenDB(t testing.TB) *DB {
 		t.Fatal(err)
 	}
 	db.SetClock(func() time.Time { return time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC) })
+	db.SetPasswordCost(bcrypt.MinCost)
 	return db
 }
 

@@ -12,6 +12,8 @@ type Link struct {
 // Page is what every page has: its title, the active section of the navigation, breadcrumbs, the
 // downloads of what it shows, and the banner shown while the compilation holds the invented demo.
 type Page struct {
+	User      string // signed-in account, "" when anonymous
+	Role      string
 	Title     string
 	Subtitle  string
 	Nav       string
@@ -136,4 +138,13 @@ type ErrorView struct {
 	Status  int
 	Message string
 	Details []string
+}
+
+// Login is the sign-in page.
+type Login struct {
+	Page
+	Next    string
+	Name    string
+	Message string
+	Hint    string
 }

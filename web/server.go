@@ -6,6 +6,7 @@ package web
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"errors"
 	"fmt"
 	"io"
@@ -15,6 +16,7 @@ import (
 	"time"
 
 	"github.com/a-h/templ"
+	"github.com/alexedwards/scs/v2"
 	"github.com/go-chi/chi/v5"
 	"github.com/go-chi/chi/v5/middleware"
 
@@ -42,28 +44,44 @@ type Store interface {
 	LatestBatches(ctx context.Context, limit int) ([]store.Batch, error)
 	RevisionCount(ctx context.Context, recordType string, id int64) (int, error)
 	Setting(ctx context.Context, key string) (string, error)
+	Authenticate(ctx context.Context, name, password string) (store.User, error)
+	UserByID(ctx context.Context, id int64) (store.User, error)
+	UserByToken(ctx context.Context, token string) (store.User, error)
+	SQL() *sql.DB
 }
 
 // Server holds what the handlers share.
 type Server struct {
-	store  Store
-	log    *slog.Logger
-	static fs.FS
+	store    Store
+	log      *slog.Logger
+	static   fs.FS
+	sessions *scs.SessionManager
+	limiter  *loginLimiter
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
-// security headers, cross-origin protection. staticFS holds the files served under /static/.
-func NewHandler(st Store, log *slog.Logger, staticFS fs.FS) http.Handler {
-	s := &Server{store: st, log: log, static: staticFS}
+// security headers, cross-origin protection, session, identification (session or access token), and the
+// site-wide sign-in requirement. staticFS holds the files served under /static/.
+func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http.Handler {
+	o := options{sessionCleanup: 5 * time.Minute, now: time.Now}
+	for _, opt := range opts {
+		opt(&o)
+	}
+	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, o),
+		limiter: newLoginLimiter(5, 15*time.Minute, o.now)}
 	r := chi.NewRouter()
 	r.Use(middleware.Recoverer)
 	r.Use(middleware.RequestID)
 	r.Use(s.logRequests)
 	r.Use(securityHeaders)
 	r.Use(func(next http.Handler) http.Handler { return http.NewCrossOriginProtection().Handler(next) })
+	r.Use(s.sessions.LoadAndSave)
+	r.Use(s.identify)
+	r.Use(s.requireLoginSetting)
 
 	r.Handle("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)))
 	r.Get("/", s.handle(s.handleHome))
+	s.registerAuthRoutes(r)
 	s.registerProvinceRoutes(r)
 	s.registerUnitRoutes(r)
 	s.registerDateRoutes(r)
@@ -120,10 +138,13 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		}
 		var br badRequest
 		var nf notFoundError
+		var fb forbidden
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
 			view.Status, view.Page.Title, view.Message, view.Details = http.StatusBadRequest, "Cannot show this page", br.message, br.problems
+		case errors.As(err, &fb):
+			view.Status, view.Page.Title, view.Message = http.StatusForbidden, "Not allowed", fb.message
 		case errors.As(err, &nf):
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "There is no "+nf.what+"."
 		case errors.Is(err, store.ErrNotFound):
@@ -162,6 +183,9 @@ func (s *Server) render(w http.ResponseWriter, r *http.Request, status int, c te
 // page builds the common part of a page's view model.
 func (s *Server) page(ctx context.Context, title, nav string) views.Page {
 	p := views.Page{Title: title, Nav: nav}
+	if u, ok := currentUser(ctx); ok {
+		p.User, p.Role = u.Name, u.Role
+	}
 	if demo, err := s.store.Setting(ctx, store.SettingDemo); err == nil && demo != "" {
 		p.Demo = demo
 	}

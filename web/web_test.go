@@ -14,6 +14,8 @@ import (
 	"strings"
 	"testing"
 
+	"golang.org/x/crypto/bcrypt"
+
 	"coeval/migrations"
 	"coeval/static"
 	"coeval/store"
@@ -32,6 +34,7 @@ func mustDemoDB(t testing.TB) *store.DB {
 	if _, err := db.Migrate(ctx, migrations.FS); err != nil {
 		t.Fatal(err)
 	}
+	db.SetPasswordCost(bcrypt.MinCost)
 	if _, _, err := db.SeedDemo(ctx, os.DirFS(filepath.Join("..", "testdata", "demo")), "Invented scenario for tests."); err != nil {
 		t.Fatal(err)
 	}
@@ -42,7 +45,7 @@ func mustDemoDB(t testing.TB) *store.DB {
 func mustServer(t testing.TB) (*httptest.Server, *store.DB) {
 	t.Helper()
 	db := mustDemoDB(t)
-	srv := httptest.NewServer(NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS))
+	srv := httptest.NewServer(NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0)))
 	t.Cleanup(srv.Close)
 	return srv, db
 }
