@@ -18,7 +18,9 @@ var levelNames = map[stats.UncertaintyLevel]string{
 
 // summaryForm is the GET form of every choice a summary depends on; action is the page's path.
 func summaryForm(action string, ch summaryChoice) *views.Form {
-	opt := func(v, label, cur string) views.Option { return views.Option{Value: v, Label: label, Selected: v == cur} }
+	opt := func(v, label, cur string) views.Option {
+		return views.Option{Value: v, Label: label, Selected: v == cur}
+	}
 	level := views.Field{Name: "level", Label: "± level", Kind: "select"}
 	for _, l := range []stats.UncertaintyLevel{stats.Analytical, stats.WithTracer, stats.FullExternal} {
 		level.Options = append(level.Options, opt(l.String(), levelNames[l], ch.Level.String()))
