@@ -96,7 +96,7 @@ const defaultTracerRelSigma = 0.00015
 // entry is one date entering a mean: its age and analytical 1σ as averaged (⁴⁰Ar/³⁹Ar: recalculated to
 // the chosen calibration), its weighted residual against the mean of all, and whether the rule flagged it.
 type entry struct {
-	D           store.Date
+	D           *store.Date
 	AgeMa       float64
 	Sigma1s     float64
 	Residual    float64
@@ -106,7 +106,7 @@ type entry struct {
 
 // exclusion is a date of the unit that does not enter its mean, and why.
 type exclusion struct {
-	D      store.Date
+	D      *store.Date
 	Reason string
 	Review bool // left out by the include= choice rather than for a reason of its own
 }
@@ -147,12 +147,16 @@ type unitSummary struct {
 // systemOf groups a date's method: ⁴⁰Ar/³⁹Ar and K–Ar share ⁴⁰K but only ⁴⁰Ar/³⁹Ar has a calibration to
 // recalculate to, so they are kept apart.
 func systemOf(method string) (key, label, decay string) {
+	switch method { // the common cases without a vocabulary lookup
+	case "upb_idtims", "upb_laicpms", "upb_sims":
+		return "upb", "U–Pb", store.SystemUPb
+	case "arar_plateau", "arar_isochron":
+		return "arar", "⁴⁰Ar/³⁹Ar", store.SystemKAr
+	case "kar":
+		return "kar", "K–Ar", store.SystemKAr
+	}
 	m, _ := store.MethodByCode(method)
 	switch {
-	case store.IsArAr(method):
-		return "arar", "⁴⁰Ar/³⁹Ar", m.DecaySystem
-	case method == "kar":
-		return "kar", "K–Ar", m.DecaySystem
 	case m.DecaySystem == store.SystemUPb:
 		return "upb", "U–Pb", m.DecaySystem
 	case m.DecaySystem != "":
@@ -164,11 +168,12 @@ func systemOf(method string) (key, label, decay string) {
 var systemOrder = map[string]int{"upb": 0, "arar": 1, "kar": 2, "reos": 3}
 
 // summarizeUnits summarises each unit from the dates ds (any order; dates of other units are ignored).
+// The summaries point into ds.
 func summarizeUnits(units []store.Unit, ds []store.Date, ch summaryChoice) ([]unitSummary, error) {
-	byUnit := map[int64][]store.Date{}
-	for _, d := range ds {
-		if d.UnitID != nil {
-			byUnit[*d.UnitID] = append(byUnit[*d.UnitID], d)
+	byUnit := make(map[int64][]*store.Date, len(units))
+	for i := range ds {
+		if id := ds[i].UnitID; id != nil {
+			byUnit[*id] = append(byUnit[*id], &ds[i])
 		}
 	}
 	out := make([]unitSummary, 0, len(units))
@@ -182,9 +187,18 @@ func summarizeUnits(units []store.Unit, ds []store.Date, ch summaryChoice) ([]un
 	return out, nil
 }
 
+// datePointers points at each date of ds.
+func datePointers(ds []store.Date) []*store.Date {
+	out := make([]*store.Date, len(ds))
+	for i := range ds {
+		out[i] = &ds[i]
+	}
+	return out
+}
+
 // summarizeUnit summarises the dates of one unit. It fails only on numerics errors for input the store
 // should not hold (a σ of 0, say): those dates are excluded with a reason instead where they can be told.
-func summarizeUnit(u store.Unit, ds []store.Date, ch summaryChoice) (unitSummary, error) {
+func summarizeUnit(u store.Unit, ds []*store.Date, ch summaryChoice) (unitSummary, error) {
 	us := unitSummary{Unit: u}
 	idx := map[string]int{}
 	for _, d := range ds {
@@ -203,7 +217,7 @@ func summarizeUnit(u store.Unit, ds []store.Date, ch summaryChoice) (unitSummary
 		}
 		e := entry{D: d, AgeMa: d.AgeMa, Sigma1s: d.SigmaMa}
 		if key == "arar" {
-			rc := recalculate(d, ch.Cal.Stats)
+			rc := recalculate(*d, ch.Cal.Stats)
 			if !rc.OK {
 				sys.Excluded = append(sys.Excluded, exclusion{D: d, Reason: rc.Reason})
 				continue

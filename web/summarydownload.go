@@ -235,7 +235,7 @@ func (s *Server) handleUnitSummary(w http.ResponseWriter, r *http.Request) error
 	if err != nil {
 		return err
 	}
-	us, err := summarizeUnit(u, ds, ch)
+	us, err := summarizeUnit(u, datePointers(ds), ch)
 	if err != nil {
 		return err
 	}

@@ -47,7 +47,7 @@ func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
 		writeJSON(w, http.StatusOK, map[string]any{"unit": u, "dates": datesJSON(ds, ch.Cal), "uncertainties": jsonSigmaNote})
 		return nil
 	}
-	us, err := summarizeUnit(u, ds, ch)
+	us, err := summarizeUnit(u, datePointers(ds), ch)
 	if err != nil {
 		return err
 	}
