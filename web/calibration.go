@@ -37,7 +37,7 @@ func (s *Server) handleCalibrationList(w http.ResponseWriter, r *http.Request) e
 			{Text: c.Source}, target, {Text: "dates (cal=" + c.Code + ")", URL: "/dates?cal=" + c.Code}})
 	}
 	t.Notes = []string{"⁴⁰Ar/³⁹Ar ages depend on the fluence-monitor age and the ⁴⁰K decay constant their authors used. Recalculation between calibrations uses the exact closed form (the sample/monitor ratio is invariant), never linear scaling by the monitor-age ratio.",
-		"The compilation target is the calibration every ⁴⁰Ar/³⁹Ar date and unit summary is recalculated to by default; any view can choose another with cal=CODE in its address (the codes are in the first column's tooltip and the Views links). The target is changed by a curator with `coeval target CODE`; changing it from these pages waits for accounts.",
+		"The compilation target is the calibration every ⁴⁰Ar/³⁹Ar date and unit summary is recalculated to by default; any view can choose another with cal=CODE in its address (the codes are in the first column's tooltip and the Views links). The target is changed by a curator on the command line (coeval target CODE); changing it from these pages waits for accounts.",
 		"Where a σ is not given, the full external uncertainty on that calibration lacks that term, and the pages say so."}
 	l := views.List{Page: s.page(r.Context(), "⁴⁰Ar/³⁹Ar calibrations", "Calibrations"), Table: t}
 	l.Page.Downloads = []views.Link{{Label: "JSON", URL: "/calibrations?format=json"}}

@@ -583,3 +583,26 @@ func BenchmarkUnitSummaries(b *testing.B) {
 		}
 	}
 }
+
+func TestTargetCalibrationIsEachViewsDefault(t *testing.T) {
+	h, db := summaryTestServer(t)
+	if err := db.SetTargetCalibration(context.Background(), "renne11-fcs28294", "test"); err != nil {
+		t.Fatal(err)
+	}
+	// migrations/002_calibrations.sql: renne11-fcs28294 is "Renne et al. 2011, FCs 28.294 Ma".
+	if list := mustFetch(t, h, "/dates?q=HV-03-03"); !strings.Contains(list, "Ma, on Renne et al. 2011, FCs 28.294 Ma") {
+		t.Error("the date list does not recalculate to the new target by default")
+	}
+	for _, r := range htmlTable(t, mustFetch(t, h, "/calibrations"), "calibrations") {
+		if isTarget := r.cells[7] == "compilation target"; isTarget != (r.cells[0] == "Renne et al. 2011, FCs 28.294 Ma") {
+			t.Errorf("calibrations page: %q target cell %q", r.cells[0], r.cells[7])
+		}
+	}
+	var doc summaryJSON
+	if err := json.Unmarshal([]byte(mustFetch(t, h, provinceURL(t, db)+"/summary?format=json")), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.Calibration != "renne11-fcs28294" {
+		t.Errorf("summary calibration %q, want the new target", doc.Calibration)
+	}
+}
