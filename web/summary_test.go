@@ -72,7 +72,7 @@ var (
 	groupRe = regexp.MustCompile(`(?s)<section class="group"><h2>(.*?)</h2>(.*?)</section>`)
 )
 
-func text(s string) string {
+func plainText(s string) string {
 	return strings.TrimSpace(html.UnescapeString(tagRe.ReplaceAllString(s, "")))
 }
 
@@ -97,7 +97,7 @@ func htmlTable(t testing.TB, page, id string) []htmlRow {
 			}
 			var row htmlRow
 			for _, c := range cells {
-				row.cells = append(row.cells, text(c[1]))
+				row.cells = append(row.cells, plainText(c[1]))
 			}
 			for _, c := range classRe.FindAllStringSubmatch(r[1], -1) {
 				row.caution = row.caution || strings.Contains(c[1], "caution")
@@ -139,9 +139,9 @@ func groups(page string) map[string]map[string][]string {
 	for _, g := range groupRe.FindAllStringSubmatch(page, -1) {
 		kv := map[string][]string{}
 		for _, m := range ddRe.FindAllStringSubmatch(g[2], -1) {
-			kv[text(m[1])] = append(kv[text(m[1])], text(m[2]))
+			kv[plainText(m[1])] = append(kv[plainText(m[1])], plainText(m[2]))
 		}
-		out[text(g[1])] = kv
+		out[plainText(g[1])] = kv
 	}
 	return out
 }
@@ -530,7 +530,7 @@ func TestBadSummaryParametersAre400(t *testing.T) {
 			if code != http.StatusBadRequest {
 				t.Fatalf("status %d, want 400", code)
 			}
-			if !strings.Contains(text(body), tc.param+": unknown value") {
+			if !strings.Contains(plainText(body), tc.param+": unknown value") {
 				t.Errorf("the message does not name %s", tc.param)
 			}
 		})
