@@ -6,6 +6,7 @@
 //	coeval [-db FILE] import KIND [SECTION] FILE         KIND: provinces, units, sections, dates; or, for one
 //	                                                     section: measurements, ties, events
 //	coeval [-db FILE] export KIND [SECTION] [-o FILE]    the same kinds, in the import formats
+//	coeval [-db FILE] target [CODE]                      show or set the target ⁴⁰Ar/³⁹Ar calibration
 package main
 
 import (
@@ -83,6 +84,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
   coeval [-db FILE] export KIND [SECTION] [-o FILE]    export in the same format
   coeval [-db FILE] user add NAME -role ROLE           add an account (password from the terminal or stdin)
   coeval [-db FILE] backup FILE                        a consistent copy of the database, while it runs
+  coeval [-db FILE] target [CODE]                      show the calibrations, or set the target one
 KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events
 flags:
 `)
@@ -111,6 +113,8 @@ flags:
 		return userCmd(ctx, cfg, rest, os.Stdin, stdout, stderr)
 	case "backup":
 		return backupCmd(ctx, cfg, rest, stdout)
+	case "target":
+		return targetCmd(ctx, cfg, rest, stdout)
 	}
 	fl.Usage()
 	return fmt.Errorf("unknown command %q", cmd)
@@ -346,5 +350,37 @@ func backupCmd(ctx context.Context, cfg config, args []string, stdout io.Writer)
 		return err
 	}
 	fmt.Fprintf(stdout, "backup of %s written to %s\n", cfg.dbPath, args[0])
+	return nil
+}
+
+// targetCmd lists the calibrations with the target marked, or makes CODE the target.
+func targetCmd(ctx context.Context, cfg config, args []string, stdout io.Writer) error {
+	if len(args) > 1 {
+		return fmt.Errorf("target: want at most one calibration CODE, got %q", args)
+	}
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	if len(args) == 1 {
+		if err := db.SetTargetCalibration(ctx, args[0], "command line"); err != nil {
+			if errors.Is(err, store.ErrNotFound) {
+				return fmt.Errorf("target: no calibration %q; run coeval target to list them", args[0])
+			}
+			return err
+		}
+	}
+	cals, err := db.Calibrations(ctx)
+	if err != nil {
+		return err
+	}
+	for _, c := range cals {
+		mark := " "
+		if c.IsTarget {
+			mark = "*"
+		}
+		fmt.Fprintf(stdout, "%s %-18s %s\n", mark, c.Code, c.Name)
+	}
 	return nil
 }

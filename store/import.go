@@ -283,9 +283,12 @@ var doiRE = regexp.MustCompile(`^10\.\d{4,9}/\S+$`)
 // as 1σ.
 func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
 	var recs []Date
+	var ignored string
 	return d.importFile(ctx, "dates", file, r,
-		[]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"}, dateColumns,
+		[]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"},
+		append(dateColumns[:len(dateColumns):len(dateColumns)], DerivedDateColumns...),
 		func(t *csvTable) {
+			ignored = ignoredDerived(t)
 			seen := map[[2]string]int{}
 			for i := range t.rows {
 				rw := t.row(i)
@@ -293,6 +296,9 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 			}
 		},
 		func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error {
+			if ignored != "" {
+				res.Notes = append(res.Notes, ignored)
+			}
 			for i := range recs {
 				dt := &recs[i]
 				rw := t.row(i)

@@ -123,10 +123,13 @@ type KV struct {
 	Class string
 }
 
-// Detail is the page of one record: its fields, then related tables.
+// Detail is the page of one record: its fields, then related tables. Form, when set, holds the display
+// choices of the page (shown under the intro); Notes are paragraphs shown under the form.
 type Detail struct {
 	Page
 	Intro  string
+	Form   *Form
+	Notes  []string
 	Groups []FieldGroup
 	Tables []Table
 	Links  []Link

@@ -5,6 +5,7 @@ import (
 	"io"
 	"net/http"
 	"strconv"
+	"strings"
 
 	"github.com/go-chi/chi/v5"
 
@@ -51,16 +52,20 @@ func owner(d store.Date) (string, string) {
 	return "—", ""
 }
 
-// dateTable lists dates with ages as published and ± at the chosen σ level. sort gives the sortable
-// headers' links (nil: not sortable).
-func dateTable(r *http.Request, ds []store.Date, level int, sortable bool) views.Table {
+// dateTable lists dates with ages as published and, for ⁴⁰Ar/³⁹Ar, recalculated to the view's
+// calibration, side by side, with ± at the chosen σ level. sortable makes the headers sort links.
+func dateTable(r *http.Request, ds []store.Date, level int, sortable bool, cal calChoice) views.Table {
 	sigmaLabel := fmt.Sprintf("± %dσ", level)
 	cols := []views.Column{{Label: "Sample"}, {Label: "Unit or horizon"}, {Label: "Method"}, {Label: "Material"},
 		{Label: "Age", Unit: "Ma, as published", Num: true}, {Label: sigmaLabel, Unit: "Ma, analytical", Num: true,
 			Title: "Analytical uncertainty (U–Pb: X) at the σ level chosen for this view"},
+		{Label: "⁴⁰Ar/³⁹Ar age recalculated", Unit: "Ma, on " + cal.Cal.Name, Num: true,
+			Title: "⁴⁰Ar/³⁹Ar ages moved to this calibration by the exact relation (sample/monitor ratio kept)"},
+		{Label: sigmaLabel, Unit: "Ma, analytical, recalculated", Num: true,
+			Title: "Analytical uncertainty of the recalculated age; without the monitor-age and decay-constant terms"},
 		{Label: "Interpretation"}, {Label: "Laboratory"}, {Label: "Review"}}
 	if sortable {
-		keys := []string{"sample", "unit", "method", "material", "age", "sigma", "", "lab", ""}
+		keys := []string{"sample", "unit", "method", "material", "age", "sigma", "", "", "", "lab", ""}
 		cur := r.URL.Query().Get("sort")
 		if cur == "" {
 			cur = "-age"
@@ -99,15 +104,30 @@ func dateTable(r *http.Request, ds []store.Date, level int, sortable bool) views
 		if d.ReviewState != "accepted" {
 			review.Class = "pending"
 		}
+		recAge, recSigma := recalcCells(d, cal, level)
 		t.Rows = append(t.Rows, []views.Cell{{Text: d.SampleCode, URL: idURL("/dates", d.ID)}, {Text: own, URL: ownURL},
-			{Text: methodLabel(d.Method)}, {Text: orDash(d.Material)}, ageCell, {Text: sigma, Num: true},
+			{Text: methodLabel(d.Method)}, {Text: orDash(d.Material)}, ageCell, {Text: sigma, Num: true}, recAge, recSigma,
 			{Text: store.Label(store.Interpretations(), d.Interpretation)}, {Text: orDash(d.Laboratory)}, review})
 	}
 	t.Notes = append(t.Notes, fmt.Sprintf("Ages are as published. ± is the analytical uncertainty at %dσ (for U–Pb: X, without tracer or decay-constant terms); use it to compare dates of one system and one laboratory only.", level))
 	if anyArAr {
-		t.Notes = append(t.Notes, "† ⁴⁰Ar/³⁹Ar age on the calibration (monitor age, decay constant) its authors used: not directly comparable with U–Pb or with ⁴⁰Ar/³⁹Ar ages on another calibration. ‡ published without calibration details: cannot be recalculated. Hover an age for its calibration.")
+		t.Notes = append(t.Notes, "† ⁴⁰Ar/³⁹Ar age on the calibration (monitor age, decay constant) its authors used: not directly comparable with U–Pb or with ⁴⁰Ar/³⁹Ar ages on another calibration. ‡ published without calibration details: cannot be recalculated. Hover an age for its calibration.",
+			"Recalculated to "+cal.label()+": the exact relation that keeps the sample/monitor ratio (never linear scaling). Its ± is analytical; compare it with another system only at the full external level (the date's page gives it). Choose another calibration with cal= in the address.")
 	}
 	return t
+}
+
+// recalcCells gives the recalculated age and its analytical ± of one date for a table row.
+func recalcCells(d store.Date, cal calChoice, level int) (views.Cell, views.Cell) {
+	rc := recalculate(d, cal.Stats)
+	switch {
+	case !rc.Applies:
+		return views.Cell{Text: "—", Num: true, Title: "not an ⁴⁰Ar/³⁹Ar date: the calibration does not apply"}, views.Cell{Text: "—", Num: true}
+	case !rc.OK:
+		return views.Cell{Text: "not recalculable", Class: "caution", Title: rc.Reason}, views.Cell{Text: "—", Num: true}
+	}
+	a, sg := ageSigma(rc.AgeMa, rc.AnalyticalSigmaMa, level)
+	return views.Cell{Text: a, Num: true, Title: "on " + cal.Cal.Name}, views.Cell{Text: sg, Num: true}
 }
 
 func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
@@ -115,6 +135,10 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 	p := newParams(r)
 	format := p.format()
 	level := p.sigmaLevel()
+	cal, err := s.calibration(ctx, p)
+	if err != nil {
+		return err
+	}
 	var methods []string
 	for _, m := range store.Methods() {
 		methods = append(methods, m.Code)
@@ -148,17 +172,17 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 	}
 	switch format {
 	case "csv":
-		return writeDownload(w, "dates.csv", func(w io.Writer) error { return store.WriteDatesCSV(w, ds) })
+		return writeDownload(w, "dates.csv", func(w io.Writer) error { return writeDatesCSV(w, ds, cal) })
 	case "json":
-		return writeList(w, "dates", total, f.Offset, len(ds), ds)
+		return writeList(w, "dates", total, f.Offset, len(ds), datesJSON(ds, cal))
 	}
-	form, err := s.dateFilterForm(r, f, level, per)
+	form, err := s.dateFilterForm(r, f, level, per, cal)
 	if err != nil {
 		return err
 	}
-	l := views.List{Page: s.page(ctx, "Dates", "Dates"), Form: form, Table: dateTable(r, ds, level, true)}
+	l := views.List{Page: s.page(ctx, "Dates", "Dates"), Form: form, Table: dateTable(r, ds, level, true, cal)}
 	l.Page.Downloads = toLinks(downloads(r))
-	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. CSV downloads hold every matching date in the import format."
+	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. CSV downloads hold every matching date in the import format, followed by the derived columns " + strings.Join(store.DerivedDateColumns, ", ") + " (the ⁴⁰Ar/³⁹Ar age on the view's calibration; ignored on import)."
 	l.Pager = pagerFor(r, total, page, per, len(ds))
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
@@ -187,7 +211,7 @@ func pagerFor(r *http.Request, total, page, per, shown int) *views.Pager {
 	return pg
 }
 
-func (s *Server) dateFilterForm(r *http.Request, f store.DateFilter, level, per int) (*views.Form, error) {
+func (s *Server) dateFilterForm(r *http.Request, f store.DateFilter, level, per int, cal calChoice) (*views.Form, error) {
 	ctx := r.Context()
 	provinces, err := s.store.Provinces(ctx)
 	if err != nil {
@@ -244,6 +268,7 @@ func (s *Server) dateFilterForm(r *http.Request, f store.DateFilter, level, per 
 		{Name: "q", Label: "Text", Kind: "text", Value: f.Text, Placeholder: "sample, lab, citation, DOI…"},
 		{Name: "review", Label: "Review", Kind: "select", Options: rev},
 		{Name: "sigma", Label: "Show ± at", Kind: "select", Options: sig},
+		calibrationField(cal),
 		{Name: "per", Label: "Per page", Kind: "number", Value: strconv.Itoa(per), Step: "1"},
 	}}, nil
 }
@@ -264,6 +289,10 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	p := newParams(r)
 	format := p.format()
 	level := p.sigmaLevel()
+	cal, err := s.calibration(ctx, p)
+	if err != nil {
+		return err
+	}
 	if err := p.err(); err != nil {
 		return err
 	}
@@ -273,9 +302,9 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	}
 	switch format {
 	case "csv":
-		return writeDownload(w, fmt.Sprintf("date-%d.csv", id), func(w io.Writer) error { return store.WriteDatesCSV(w, []store.Date{d}) })
+		return writeDownload(w, fmt.Sprintf("date-%d.csv", id), func(w io.Writer) error { return writeDatesCSV(w, []store.Date{d}, cal) })
 	case "json":
-		writeJSON(w, http.StatusOK, map[string]any{"date": d, "uncertainties": jsonSigmaNote})
+		writeJSON(w, http.StatusOK, map[string]any{"date": datesJSON([]store.Date{d}, cal)[0], "uncertainties": jsonSigmaNote})
 		return nil
 	}
 	revs, err := s.store.RevisionCount(ctx, "date", id)
@@ -327,6 +356,14 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 			{Label: "Total ⁴⁰K decay constant", Value: optLambda(d.LambdaPerA)},
 			{Label: "Comparability", Value: note, Class: cls},
 		}})
+	}
+	if store.IsArAr(d.Method) {
+		v.Groups = append(v.Groups, recalcGroup(d, cal, level))
+		for _, c := range cal.All {
+			if c.Code != cal.Cal.Code {
+				v.Links = append(v.Links, views.Link{Label: "Recalculate to " + c.Name, URL: withQuery(r, "cal", c.Code)})
+			}
+		}
 	}
 	v.Groups = append(v.Groups, views.FieldGroup{Title: "Sample", Fields: []views.KV{
 		{Label: "Sample code", Value: d.SampleCode},

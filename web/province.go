@@ -14,6 +14,7 @@ import (
 func (s *Server) registerProvinceRoutes(r chi.Router) {
 	r.Get("/provinces", s.handle(s.handleProvinceList))
 	r.Get("/provinces/{id}", s.handle(s.handleProvinceShow))
+	r.Get("/provinces/{id}/summary", s.handle(s.handleProvinceSummary))
 }
 
 func provinceTable(ps []store.Province) views.Table {
@@ -107,6 +108,10 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 	}
 	p := newParams(r)
 	format := p.format()
+	ch, err := s.summaryChoice(ctx, p)
+	if err != nil {
+		return err
+	}
 	if err := p.err(); err != nil {
 		return err
 	}
@@ -129,15 +134,21 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 	if err != nil {
 		return err
 	}
+	sums, err := summarizeUnits(units, ds, ch)
+	if err != nil {
+		return err
+	}
 	d := views.Detail{Page: s.page(ctx, prov.Name, "Provinces"), Intro: prov.Description}
 	d.Page.Crumbs = []views.Link{{Label: "Provinces", URL: "/provinces"}}
-	d.Page.Downloads = []views.Link{{Label: "CSV (units)", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}}
+	d.Page.Downloads = append([]views.Link{{Label: "CSV (units)", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}},
+		toLinks(summaryDownloads(r, idURL("/provinces", id)+"/summary"))...)
+	d.Form = summaryForm(r.URL.Path, ch)
 	d.Groups = []views.FieldGroup{{Title: "Province", Fields: []views.KV{
 		{Label: "Units", Value: itoa(prov.NUnits)},
 		{Label: "Dates of units", Value: itoa(prov.NDates), URL: fmt.Sprintf("/dates?province=%d", id)},
 		{Label: "Added", Value: when(prov.CreatedAt)},
 	}}}
-	d.Tables = []views.Table{unitTable(units, unitAgeRange(ds))}
+	d.Tables = []views.Table{summaryTable(sums, ch), unitTable(units, unitAgeRange(ds))}
 	s.render(w, r, http.StatusOK, views.DetailPage(d))
 	return nil
 }

@@ -13,6 +13,7 @@ import (
 
 func (s *Server) registerUnitRoutes(r chi.Router) {
 	r.Get("/units/{id}", s.handle(s.handleUnitShow))
+	r.Get("/units/{id}/summary", s.handle(s.handleUnitSummary))
 }
 
 func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
@@ -24,6 +25,10 @@ func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
 	p := newParams(r)
 	format := p.format()
 	level := p.sigmaLevel()
+	ch, err := s.summaryChoice(ctx, p)
+	if err != nil {
+		return err
+	}
 	if err := p.err(); err != nil {
 		return err
 	}
@@ -37,14 +42,21 @@ func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
 	}
 	switch format {
 	case "csv":
-		return writeDownload(w, fmt.Sprintf("unit-%d-dates.csv", id), func(w io.Writer) error { return store.WriteDatesCSV(w, ds) })
+		return writeDownload(w, fmt.Sprintf("unit-%d-dates.csv", id), func(w io.Writer) error { return writeDatesCSV(w, ds, ch.Cal) })
 	case "json":
-		writeJSON(w, http.StatusOK, map[string]any{"unit": u, "dates": ds, "uncertainties": jsonSigmaNote})
+		writeJSON(w, http.StatusOK, map[string]any{"unit": u, "dates": datesJSON(ds, ch.Cal), "uncertainties": jsonSigmaNote})
 		return nil
+	}
+	us, err := summarizeUnit(u, datePointers(ds), ch)
+	if err != nil {
+		return err
 	}
 	v := views.Detail{Page: s.page(ctx, u.Name, "Provinces")}
 	v.Page.Crumbs = []views.Link{{Label: "Provinces", URL: "/provinces"}, {Label: u.Province, URL: idURL("/provinces", u.ProvinceID)}}
-	v.Page.Downloads = []views.Link{{Label: "CSV (dates)", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}}
+	v.Page.Downloads = append([]views.Link{{Label: "CSV (dates)", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}},
+		toLinks(summaryDownloads(r, idURL("/units", id)+"/summary"))...)
+	v.Form = summaryForm(r.URL.Path, ch)
+	v.Notes = []string{summaryIntro(ch)}
 	pos, vol := "—", "—"
 	if u.PilePosition != nil {
 		pos = itoa(*u.PilePosition) + " (1 = lowest)"
@@ -63,12 +75,16 @@ func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Location", Value: coord(u.Latitude, u.Longitude)},
 		{Label: "Notes", Value: orDash(u.Notes)},
 	}}}
+	v.Groups = append(v.Groups, summaryGroups(us, ch)...)
 	other := 3 - level
 	v.Links = []views.Link{{Label: fmt.Sprintf("Show uncertainties at %dσ", other), URL: withQuery(r, "sigma", itoa(other))},
 		{Label: "These dates in the date list", URL: fmt.Sprintf("/dates?unit=%d", id)}}
-	t := dateTable(r, ds, level, false)
-	t.Caption = fmt.Sprintf("Dates of %s (%d)", u.Name, len(ds))
-	v.Tables = []views.Table{t}
+	for _, sys := range us.Systems {
+		v.Tables = append(v.Tables, entryTable(sys, ch))
+	}
+	t := dateTable(r, ds, level, false, ch.Cal)
+	t.Caption = fmt.Sprintf("Dates of %s (%d), as published and recalculated", u.Name, len(ds))
+	v.Tables = append(v.Tables, t)
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
 }

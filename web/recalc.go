@@ -1,0 +1,159 @@
+package web
+
+import (
+	"context"
+	"fmt"
+
+	"coeval/stats"
+	"coeval/store"
+	"coeval/views"
+)
+
+// statsCalibration maps a stored calibration to the numerics' one. A σ the store does not hold (NULL)
+// becomes 0, which stats reads as "contributes no systematic term".
+func statsCalibration(c store.Calibration) stats.Calibration {
+	sc := stats.Calibration{Code: c.Code, Name: c.Name, Source: c.Source, LambdaPerA: c.LambdaPerA,
+		MonitorName: c.Monitor, MonitorAgeMa: c.MonitorAgeMa}
+	if c.LambdaSigmaPerA != nil {
+		sc.LambdaSigmaPerA = *c.LambdaSigmaPerA
+	}
+	if c.MonitorSigmaMa != nil {
+		sc.MonitorSigmaMa = *c.MonitorSigmaMa
+	}
+	return sc
+}
+
+// calChoice is the calibration a view recalculates ⁴⁰Ar/³⁹Ar dates to: the compilation's target unless
+// the URL chose another with cal=CODE.
+type calChoice struct {
+	Cal      store.Calibration
+	Stats    stats.Calibration
+	Target   store.Calibration // the compilation's target, for saying when a view overrides it
+	Override bool              // cal= chose a calibration other than the target
+	All      []store.Calibration
+}
+
+// label names the chosen calibration for a heading or a note, saying when it is not the target.
+func (c calChoice) label() string {
+	if c.Override {
+		return c.Cal.Name + " (chosen for this view; the compilation's target is " + c.Target.Name + ")"
+	}
+	return c.Cal.Name + " (the compilation's target)"
+}
+
+// calibration reads cal=CODE against the stored calibrations (default: the target). An unknown code is
+// a problem of the URL. A compilation without a target uses the first calibration listed.
+func (s *Server) calibration(ctx context.Context, p *params) (calChoice, error) {
+	cals, err := s.store.Calibrations(ctx)
+	if err != nil {
+		return calChoice{}, err
+	}
+	if len(cals) == 0 {
+		return calChoice{}, fmt.Errorf("calibration: the compilation has no calibrations")
+	}
+	target := cals[0] // listed target first
+	codes := make([]string, len(cals))
+	for i, c := range cals {
+		codes[i] = c.Code
+		if c.IsTarget {
+			target = c
+		}
+	}
+	code := p.oneOf("cal", codes, target.Code)
+	ch := calChoice{Cal: target, Target: target, All: cals}
+	for _, c := range cals {
+		if c.Code == code {
+			ch.Cal = c
+		}
+	}
+	ch.Override = ch.Cal.Code != target.Code
+	ch.Stats = statsCalibration(ch.Cal)
+	return ch, nil
+}
+
+// recalc is an ⁴⁰Ar/³⁹Ar date on the chosen calibration, 1σ.
+type recalc struct {
+	Applies bool   // the date is ⁴⁰Ar/³⁹Ar: calibrations matter
+	OK      bool   // it could be recalculated
+	Reason  string // why not, when Applies and not OK
+	stats.Recalculated
+}
+
+// notRecalculable is what the pages and downloads say of an ⁴⁰Ar/³⁹Ar date without calibration details.
+const notRecalculable = "not recalculable: published without monitor age or decay constant — listed, not guessed"
+
+// publishedCalibration is the calibration an ⁴⁰Ar/³⁹Ar date was published against, if it says.
+func publishedCalibration(d store.Date) (stats.Calibration, bool) {
+	if d.MonitorAgeMa == nil || d.LambdaPerA == nil {
+		return stats.Calibration{}, false
+	}
+	return stats.Calibration{Code: "published", Name: "as published", LambdaPerA: *d.LambdaPerA,
+		MonitorName: d.Monitor, MonitorAgeMa: *d.MonitorAgeMa}, true
+}
+
+// recalculate moves an ⁴⁰Ar/³⁹Ar date to the calibration to (stats.Recalculate: exact relation,
+// analytical σ through the ratio, full external σ with to's monitor and λ terms). Other methods do not
+// apply; dates without monitor details are not recalculable.
+func recalculate(d store.Date, to stats.Calibration) recalc {
+	if !store.IsArAr(d.Method) {
+		return recalc{}
+	}
+	from, ok := publishedCalibration(d)
+	if !ok {
+		return recalc{Applies: true, Reason: notRecalculable}
+	}
+	r, err := stats.Recalculate(d.AgeMa, d.SigmaMa, from, to)
+	if err != nil {
+		return recalc{Applies: true, Reason: "not recalculable: the published calibration or age is not usable"}
+	}
+	return recalc{Applies: true, OK: true, Recalculated: r}
+}
+
+// missingSystematics says which systematic σ a calibration does not store ("" when it has both).
+func missingSystematics(c stats.Calibration) string {
+	switch {
+	case c.MonitorSigmaMa == 0 && c.LambdaSigmaPerA == 0:
+		return "this calibration stores no σ for its monitor age or decay constant, so its full external ± equals the analytical one"
+	case c.LambdaSigmaPerA == 0:
+		return "this calibration stores no σ for its decay constant (correlated with the monitor age in its source), so the full external ± holds the monitor-age term only"
+	case c.MonitorSigmaMa == 0:
+		return "this calibration stores no σ for its monitor age, so the full external ± holds the decay-constant term only"
+	}
+	return ""
+}
+
+// recalcGroup is the date page's account of an ⁴⁰Ar/³⁹Ar date on the view's calibration.
+func recalcGroup(d store.Date, cal calChoice, level int) views.FieldGroup {
+	g := views.FieldGroup{Title: "Recalculated to " + cal.Cal.Name}
+	calKV := views.KV{Label: "Calibration", Value: cal.label(), URL: "/calibrations"}
+	rc := recalculate(d, cal.Stats)
+	if !rc.OK {
+		g.Fields = []views.KV{{Label: "Recalculated age", Value: rc.Reason, Class: "caution"}, calKV}
+		return g
+	}
+	_, full := ageSigma(rc.AgeMa, rc.FullSigmaMa, level)
+	g.Fields = []views.KV{
+		{Label: "Recalculated age", Value: plusMinus(rc.AgeMa, rc.AnalyticalSigmaMa, level) + " Ma, analytical"},
+		{Label: "± full external", Value: fmt.Sprintf("%s Ma (%dσ, with the calibration's monitor-age and decay-constant terms)", full, level)},
+		calKV,
+		{Label: "How", Value: "exact relation keeping the sample/monitor ratio (never linear scaling); σ by first-order propagation"},
+		{Label: "Use", Value: "analytical ± against ⁴⁰Ar/³⁹Ar ages on the same calibration; full external ± against any other system"},
+	}
+	if m := missingSystematics(cal.Stats); m != "" {
+		g.Fields = append(g.Fields, views.KV{Label: "Caution", Value: m, Class: "caution"})
+	}
+	return g
+}
+
+// calibrationField is the select of the calibration a view recalculates to.
+func calibrationField(cal calChoice) views.Field {
+	f := views.Field{Name: "cal", Label: "⁴⁰Ar/³⁹Ar calibration", Kind: "select"}
+	for _, c := range cal.All {
+		label := c.Name
+		if c.Code == cal.Target.Code {
+			label += " (target)"
+		}
+		f.Options = append(f.Options, views.Option{Value: c.Code, Label: label, Selected: c.Code == cal.Cal.Code})
+	}
+	return f
+}
