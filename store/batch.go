@@ -23,7 +23,8 @@ func (d *DB) inTx(ctx context.Context, fn func(tx *sql.Tx) error) error {
 
 // newBatch records a set of changes about to be made together.
 func (d *DB) newBatch(ctx context.Context, tx *sql.Tx, kind, source string) (int64, error) {
-	res, err := tx.ExecContext(ctx, `INSERT INTO change_batches (kind, source, at) VALUES (?, ?, ?)`, kind, source, d.stamp())
+	res, err := tx.ExecContext(ctx, `INSERT INTO change_batches (kind, source, user_id, at) VALUES (?, ?, ?, ?)`,
+		kind, source, actor(ctx), d.stamp())
 	if err != nil {
 		return 0, fmt.Errorf("record change batch: %w", err)
 	}

@@ -103,7 +103,7 @@ func (d *DB) Unit(ctx context.Context, id int64) (Unit, error) {
 const dateSelect = `SELECT d.id, d.unit_id, coalesce(u.name, ''), u.province_id, coalesce(p.name, ''), d.section_id,
 	coalesce(s.name, ''), d.height_m, d.sample_code, d.method, d.material, d.interpretation, d.age_ma, d.sigma_ma,
 	d.sigma_y_ma, d.sigma_z_ma, d.sigma_level, d.tracer, d.monitor, d.monitor_age_ma, d.lambda_per_a, d.laboratory,
-	d.citation, d.doi, d.latitude, d.longitude, d.review_state, d.notes, d.version, d.created_at, d.updated_at
+	d.citation, d.doi, d.latitude, d.longitude, d.review_state, d.review_note, d.notes, d.version, d.created_at, d.updated_at
 	FROM dates d LEFT JOIN units u ON u.id = d.unit_id LEFT JOIN provinces p ON p.id = u.province_id
 	LEFT JOIN sections s ON s.id = d.section_id`
 
@@ -112,7 +112,7 @@ func scanDate(s interface{ Scan(...any) error }) (Date, error) {
 	err := s.Scan(&x.ID, &x.UnitID, &x.Unit, &x.ProvinceID, &x.Province, &x.SectionID, &x.Section, &x.HeightM,
 		&x.SampleCode, &x.Method, &x.Material, &x.Interpretation, &x.AgeMa, &x.SigmaMa, &x.SigmaYMa, &x.SigmaZMa,
 		&x.SigmaLevel, &x.Tracer, &x.Monitor, &x.MonitorAgeMa, &x.LambdaPerA, &x.Laboratory, &x.Citation, &x.DOI,
-		&x.Latitude, &x.Longitude, &x.ReviewState, &x.Notes, &x.Version, &x.CreatedAt, &x.UpdatedAt)
+		&x.Latitude, &x.Longitude, &x.ReviewState, &x.ReviewNote, &x.Notes, &x.Version, &x.CreatedAt, &x.UpdatedAt)
 	return x, err
 }
 

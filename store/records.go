@@ -63,6 +63,7 @@ type Date struct {
 	Latitude       *float64 `json:"latitude"`
 	Longitude      *float64 `json:"longitude"`
 	ReviewState    string   `json:"review_state"`
+	ReviewNote     string   `json:"review_note"`
 	Notes          string   `json:"notes"`
 	Version        int      `json:"version"`
 	CreatedAt      string   `json:"created_at"`
