@@ -127,12 +127,23 @@ type KV struct {
 // choices of the page (shown under the intro); Notes are paragraphs shown under the form.
 type Detail struct {
 	Page
-	Intro  string
-	Form   *Form
-	Notes  []string
-	Groups []FieldGroup
-	Tables []Table
-	Links  []Link
+	Intro   string
+	Form    *Form
+	Notes   []string
+	Groups  []FieldGroup
+	Tables  []Table
+	Links   []Link
+	Actions []Action
+}
+
+// Action is a button that POSTs to URL with hidden fields (and, when Reason is set, a text box of that
+// label for the reason).
+type Action struct {
+	Label  string
+	URL    string
+	Hidden []KV
+	Reason string
+	Danger bool
 }
 
 // ErrorView is the page shown for an error the user can act on (or a generic one for internal errors).
@@ -150,4 +161,29 @@ type Login struct {
 	Name    string
 	Message string
 	Hint    string
+}
+
+// Input is one field of an editing form, with the error of its last submission.
+type Input struct {
+	Name    string
+	Label   string
+	Kind    string // "text", "number", "select", "textarea", "password", "file"
+	Value   string
+	Options []Option
+	Help    string
+	Error   string
+}
+
+// Edit is a page with a POST form that creates or changes a record; Errors lists the problems that are
+// not tied to one field.
+type Edit struct {
+	Page
+	Intro     string
+	Action    string
+	Multipart bool
+	Hidden    []KV
+	Inputs    []Input
+	Submit    string
+	Errors    []string
+	Tables    []Table
 }

@@ -48,6 +48,13 @@ type Store interface {
 	UserByID(ctx context.Context, id int64) (store.User, error)
 	UserByToken(ctx context.Context, token string) (store.User, error)
 	SQL() *sql.DB
+	CreateDate(ctx context.Context, f store.DateForm, asCurator bool) (store.Date, error)
+	UpdateDate(ctx context.Context, id int64, version int, f store.DateForm, asCurator bool) (store.Date, error)
+	ReviewDate(ctx context.Context, id int64, version int, accept bool, note string) (store.Date, error)
+	DeleteDate(ctx context.Context, id int64, version int) error
+	Revisions(ctx context.Context, recordType string, id int64) ([]store.Revision, error)
+	RevisionByID(ctx context.Context, id int64) (store.Revision, error)
+	RevertDate(ctx context.Context, revID int64) error
 }
 
 // Server holds what the handlers share.
@@ -82,6 +89,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Handle("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)))
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
+	s.registerDateEditRoutes(r)
 	s.registerProvinceRoutes(r)
 	s.registerUnitRoutes(r)
 	s.registerDateRoutes(r)
@@ -139,10 +147,13 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		var br badRequest
 		var nf notFoundError
 		var fb forbidden
+		var ce conflictError
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
 			view.Status, view.Page.Title, view.Message, view.Details = http.StatusBadRequest, "Cannot show this page", br.message, br.problems
+		case errors.As(err, &ce):
+			view.Status, view.Page.Title, view.Message = http.StatusConflict, "Changed meanwhile", ce.message
 		case errors.As(err, &fb):
 			view.Status, view.Page.Title, view.Message = http.StatusForbidden, "Not allowed", fb.message
 		case errors.As(err, &nf):
