@@ -23,3 +23,15 @@ CREATE TABLE api_tokens (
 ALTER TABLE dates ADD COLUMN review_note TEXT NOT NULL DEFAULT '';
 ALTER TABLE events ADD COLUMN review_note TEXT NOT NULL DEFAULT '';
 ALTER TABLE users ADD COLUMN disabled INTEGER NOT NULL DEFAULT 0 CHECK (disabled IN (0, 1));
+
+-- Files uploaded in the browser, kept between their preview and their commit.
+CREATE TABLE uploads (
+    id         INTEGER PRIMARY KEY,
+    user_id    INTEGER NOT NULL REFERENCES users(id) ON DELETE CASCADE,
+    kind       TEXT NOT NULL,
+    section    TEXT NOT NULL DEFAULT '',
+    file_name  TEXT NOT NULL,
+    body       BLOB NOT NULL,
+    created_at TEXT NOT NULL,
+    batch_id   INTEGER REFERENCES change_batches(id) ON DELETE SET NULL  -- set once committed
+);

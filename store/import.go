@@ -79,8 +79,15 @@ func (d *DB) importFile(ctx context.Context, kind, file string, r io.Reader, req
 		if err := t.err(); err != nil {
 			return err
 		}
+		if isDryRun(ctx) {
+			return errDryRun
+		}
 		return setBatchSummary(ctx, tx, batch, res.String())
 	})
+	if errors.Is(err, errDryRun) {
+		res.BatchID = 0
+		return res, nil
+	}
 	if err != nil {
 		if _, ok := AsValidation(err); ok {
 			return res, err

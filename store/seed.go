@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"path"
 )
@@ -23,22 +24,26 @@ func (d *DB) Import(ctx context.Context, kind, section string, fsys fs.FS, name 
 		return ImportResult{}, fmt.Errorf("import %s: %w", kind, err)
 	}
 	defer f.Close()
-	file := path.Base(name)
+	return d.ImportReader(ctx, kind, section, path.Base(name), f)
+}
+
+// ImportReader runs the importer of one kind on r, named file in its messages.
+func (d *DB) ImportReader(ctx context.Context, kind, section, file string, r io.Reader) (ImportResult, error) {
 	switch kind {
 	case "provinces":
-		return d.ImportProvinces(ctx, file, f)
+		return d.ImportProvinces(ctx, file, r)
 	case "units":
-		return d.ImportUnits(ctx, file, f)
+		return d.ImportUnits(ctx, file, r)
 	case "sections":
-		return d.ImportSections(ctx, file, f)
+		return d.ImportSections(ctx, file, r)
 	case "dates":
-		return d.ImportDates(ctx, file, f)
+		return d.ImportDates(ctx, file, r)
 	case "measurements":
-		return d.ImportMeasurements(ctx, section, file, f)
+		return d.ImportMeasurements(ctx, section, file, r)
 	case "ties":
-		return d.ImportTies(ctx, section, file, f)
+		return d.ImportTies(ctx, section, file, r)
 	case "events":
-		return d.ImportEvents(ctx, section, file, f)
+		return d.ImportEvents(ctx, section, file, r)
 	}
 	return ImportResult{}, fmt.Errorf("import: unknown kind %q", kind)
 }

@@ -1,0 +1,259 @@
+package store
+
+import (
+	"bytes"
+	"context"
+	"database/sql"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"path"
+	"strings"
+
+	"github.com/xuri/excelize/v2"
+)
+
+type dryRunKey struct{}
+
+// errDryRun rolls back an import run as a preview.
+var errDryRun = errors.New("dry run")
+
+// withDryRun marks ctx so that an import checks and counts everything, then writes nothing.
+func withDryRun(ctx context.Context) context.Context { return context.WithValue(ctx, dryRunKey{}, true) }
+
+func isDryRun(ctx context.Context) bool { v, _ := ctx.Value(dryRunKey{}).(bool); return v }
+
+// Upload is a file sent from the browser, kept between its preview and its commit.
+type Upload struct {
+	ID       int64  `json:"id"`
+	UserID   int64  `json:"user_id"`
+	Kind     string `json:"kind"`
+	Section  string `json:"section"`
+	FileName string `json:"file_name"`
+	Body     []byte `json:"-"`
+	BatchID  *int64 `json:"batch_id"`
+}
+
+// Preview is what an upload would do: the import's result with nothing written, every problem, and the
+// rows as read (for display).
+type Preview struct {
+	Upload   Upload
+	Result   ImportResult
+	Problems []Problem
+	Header   []string
+	Rows     [][]string
+	Lines    []int
+}
+
+// ToCSV turns an uploaded file into CSV: .xlsx files (first sheet) are converted, anything else is taken
+// as CSV text.
+func ToCSV(fileName string, body []byte) ([]byte, error) {
+	if !strings.EqualFold(path.Ext(fileName), ".xlsx") {
+		return body, nil
+	}
+	f, err := excelize.OpenReader(bytes.NewReader(body))
+	if err != nil {
+		return nil, &ValidationError{[]Problem{{File: fileName, Message: "not readable as an .xlsx workbook: save it again as .xlsx or as CSV"}}}
+	}
+	defer f.Close()
+	sheets := f.GetSheetList()
+	if len(sheets) == 0 {
+		return nil, &ValidationError{[]Problem{{File: fileName, Message: "the workbook has no sheet"}}}
+	}
+	rows, err := f.GetRows(sheets[0])
+	if err != nil {
+		return nil, &ValidationError{[]Problem{{File: fileName, Message: "the first sheet cannot be read: " + err.Error()}}}
+	}
+	width := 0
+	for _, r := range rows {
+		width = max(width, len(r))
+	}
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	for _, r := range rows {
+		for len(r) < width {
+			r = append(r, "")
+		}
+		w.Write(r)
+	}
+	w.Flush()
+	return buf.Bytes(), w.Error()
+}
+
+// SaveUpload keeps an uploaded file (already converted to CSV) for its preview and commit.
+func (d *DB) SaveUpload(ctx context.Context, u Upload) (int64, error) {
+	if _, ok := ExportKinds[u.Kind]; !ok {
+		return 0, &ValidationError{[]Problem{{Column: "kind", Message: "choose what the file holds"}}}
+	}
+	r, err := d.db.ExecContext(ctx, `INSERT INTO uploads (user_id, kind, section, file_name, body, created_at) VALUES (?,?,?,?,?,?)`,
+		u.UserID, u.Kind, u.Section, u.FileName, u.Body, d.stamp())
+	if err != nil {
+		return 0, fmt.Errorf("save upload: %w", err)
+	}
+	return r.LastInsertId()
+}
+
+// UploadByID returns a kept upload, or ErrNotFound.
+func (d *DB) UploadByID(ctx context.Context, id int64) (Upload, error) {
+	var u Upload
+	err := d.db.QueryRowContext(ctx, `SELECT id, user_id, kind, section, file_name, body, batch_id FROM uploads WHERE id = ?`, id).
+		Scan(&u.ID, &u.UserID, &u.Kind, &u.Section, &u.FileName, &u.Body, &u.BatchID)
+	return u, notFound(err, "upload", id)
+}
+
+// PreviewUpload runs the upload's import without writing anything.
+func (d *DB) PreviewUpload(ctx context.Context, u Upload) (Preview, error) {
+	p := Preview{Upload: u}
+	if t, err := readCSV(u.FileName, bytes.NewReader(u.Body)); err == nil {
+		p.Header, p.Rows, p.Lines = t.header, t.rows, t.lines
+	}
+	res, err := d.ImportReader(withDryRun(ctx), u.Kind, u.Section, u.FileName, bytes.NewReader(u.Body))
+	p.Result = res
+	if ve, ok := AsValidation(err); ok {
+		p.Problems = ve.Problems
+		return p, nil
+	}
+	return p, err
+}
+
+// CommitUpload imports a previewed upload for real, as one change batch, and marks the upload used.
+func (d *DB) CommitUpload(ctx context.Context, u Upload) (ImportResult, error) {
+	if u.BatchID != nil {
+		return ImportResult{}, fmt.Errorf("upload %d was already imported (change %d): %w", u.ID, *u.BatchID, ErrConflict)
+	}
+	res, err := d.ImportReader(ctx, u.Kind, u.Section, u.FileName, bytes.NewReader(u.Body))
+	if err != nil {
+		return res, err
+	}
+	_, err = d.db.ExecContext(ctx, `UPDATE uploads SET batch_id = ?, body = x'' WHERE id = ?`, res.BatchID, u.ID)
+	return res, err
+}
+
+// UndoBatch removes every record a change batch created (an import, an added date), as one new batch.
+// It refuses, changing nothing, when a record was changed after the batch or is now used by another.
+func (d *DB) UndoBatch(ctx context.Context, batchID int64) (int, error) {
+	tables := map[string]string{"date": "dates", "unit": "units", "province": "provinces", "section": "sections",
+		"tie_point": "tie_points", "event": "events"}
+	n := 0
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		revs, err := queryAllTx(ctx, tx, revisionSelect+` WHERE r.batch_id = ? ORDER BY r.id DESC`, []any{batchID}, scanRevision)
+		if err != nil {
+			return err
+		}
+		if len(revs) == 0 {
+			return fmt.Errorf("change %d: %w", batchID, ErrNotFound)
+		}
+		undo, err := d.newBatch(ctx, tx, "undo", fmt.Sprintf("change %d", batchID))
+		if err != nil {
+			return err
+		}
+		var problems []Problem
+		for _, rev := range revs {
+			if rev.Before != nil {
+				problems = append(problems, Problem{Message: fmt.Sprintf("change %d edited or deleted %s %d; only additions can be undone as a batch (revert edits one by one from the record's history)", batchID, rev.RecordType, rev.RecordID)})
+				continue
+			}
+			if rev.RecordType == "measurements" {
+				r, err := tx.ExecContext(ctx, `DELETE FROM measurements WHERE batch_id = ?`, batchID)
+				if err != nil {
+					return err
+				}
+				k, _ := r.RowsAffected()
+				n += int(k)
+				if err := addRevision(ctx, tx, undo, "measurements", rev.RecordID, rev.After, nil); err != nil {
+					return err
+				}
+				continue
+			}
+			table, ok := tables[rev.RecordType]
+			if !ok {
+				problems = append(problems, Problem{Message: fmt.Sprintf("%s records cannot be undone as a batch", rev.RecordType)})
+				continue
+			}
+			var later int
+			if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ? AND id > ?`,
+				rev.RecordType, rev.RecordID, rev.ID).Scan(&later); err != nil {
+				return err
+			}
+			if later > 0 {
+				problems = append(problems, Problem{Message: fmt.Sprintf("%s %d was changed after this import; revert that change first", rev.RecordType, rev.RecordID)})
+				continue
+			}
+			if _, err := tx.ExecContext(ctx, `DELETE FROM `+table+` WHERE id = ?`, rev.RecordID); err != nil {
+				if strings.Contains(err.Error(), "787") {
+					problems = append(problems, Problem{Message: fmt.Sprintf("%s %d is now used by records added later; undo those first", rev.RecordType, rev.RecordID)})
+					continue
+				}
+				return err
+			}
+			n++
+			if err := addRevision(ctx, tx, undo, rev.RecordType, rev.RecordID, rev.After, nil); err != nil {
+				return err
+			}
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		return setBatchSummary(ctx, tx, undo, fmt.Sprintf("undid change %d (%d records)", batchID, n))
+	})
+	return n, err
+}
+
+func queryAllTx[T any](ctx context.Context, tx *sql.Tx, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {
+	rows, err := tx.QueryContext(ctx, q, args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []T
+	for rows.Next() {
+		v, err := scan(rows)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, v)
+	}
+	return out, rows.Err()
+}
+
+// BatchFilter selects change batches for the feed.
+type BatchFilter struct {
+	Kind   string // prefix, e.g. "import"
+	User   string
+	Limit  int
+	Offset int
+}
+
+// BatchRow is a change batch with who made it and how many records it touched.
+type BatchRow struct {
+	Batch
+	User      string `json:"user"`
+	Revisions int    `json:"revisions"`
+}
+
+// Batches returns change batches, newest first, and how many match.
+func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error) {
+	where, args := []string{"1=1"}, []any{}
+	if f.Kind != "" {
+		where, args = append(where, "b.kind LIKE ? ESCAPE '\\'"), append(args, escapeLike(f.Kind)+"%")
+	}
+	if f.User != "" {
+		where, args = append(where, "u.name = ?"), append(args, f.User)
+	}
+	cond := " WHERE " + strings.Join(where, " AND ")
+	var total int
+	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM change_batches b LEFT JOIN users u ON u.id = b.user_id`+cond, args...).Scan(&total); err != nil {
+		return nil, 0, err
+	}
+	q := `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, ''),
+		(SELECT count(*) FROM revisions r WHERE r.batch_id = b.id)
+		FROM change_batches b LEFT JOIN users u ON u.id = b.user_id` + cond + ` ORDER BY b.id DESC`
+	if f.Limit > 0 {
+		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
+	}
+	out, err := queryAll(ctx, d.db, q, args, func(s interface{ Scan(...any) error }) (BatchRow, error) {
+		var b BatchRow
+		return b, s.Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User, &b.Revisions)
+	})
+	return out, total, err
+}
