@@ -13,7 +13,8 @@ import (
 
 // Probability is a Monte Carlo estimate of a probability with its standard error sqrt(P(1 − P)/N),
 // N the number of joint draws. The SE is the error of drawing, not of the inputs; see
-// JointDraws.MinSamples for sampled inputs.
+// JointDraws.MinSamples for sampled inputs. P = 0 or 1 has SE 0: read it as "below about 3/N" or
+// "above about 1 − 3/N" (the rule of three), not as certainty.
 type Probability struct {
 	P  float64
 	SE float64
@@ -135,6 +136,11 @@ type IntervalComparison struct {
 // has onset ≥ end. The level applies pair by pair (onset with event, end with event). It returns an
 // error for a bad index or δ.
 func (j *JointDraws) CompareInterval(onset, end, event int, opt PairOptions) (IntervalComparison, error) {
+	return j.compareInterval(onset, end, event, opt, make([]float64, j.N))
+}
+
+// compareInterval is CompareInterval with a scratch slice of N values for the lags.
+func (j *JointDraws) compareInterval(onset, end, event int, opt PairOptions, lag []float64) (IntervalComparison, error) {
 	if err := j.checkIndex(onset, end, event); err != nil {
 		return IntervalComparison{}, fmt.Errorf("compare interval: %w", err)
 	}
@@ -143,17 +149,14 @@ func (j *JointDraws) CompareInterval(onset, end, event int, opt PairOptions) (In
 	}
 	vs, xs := j.pair(onset, event)
 	ve, xe := j.pair(end, event)
-	lag := make([]float64, j.N)
 	after, within, near := 0, 0, 0
 	for d := range lag {
 		l := vs[d] - xs[d]
 		lag[d] = l
 		if l > 0 {
 			after++
-			if xe[d] >= ve[d] {
-				within++
-			}
-		} else if l == 0 && xe[d] >= ve[d] {
+		}
+		if l >= 0 && xe[d] >= ve[d] {
 			within++
 		}
 		if math.Abs(l) < opt.DeltaMa {
@@ -315,11 +318,12 @@ func (j *JointDraws) Table(intervals []IntervalRef, events []int, opt PairOption
 		}
 		t.Events[e] = j.Names[q]
 	}
+	lag := make([]float64, j.N)
 	for i, iv := range intervals {
 		t.Intervals[i] = iv.Name
 		t.Cells[i] = make([]IntervalComparison, len(events))
 		for e, q := range events {
-			c, err := j.CompareInterval(iv.Onset, iv.End, q, opt)
+			c, err := j.compareInterval(iv.Onset, iv.End, q, opt, lag)
 			if err != nil {
 				return ComparisonTable{}, fmt.Errorf("comparison table: %s × %s: %w", iv.Name, j.Names[q], err)
 			}
