@@ -251,3 +251,20 @@ func TestEventAgesKeepSuperposition(t *testing.T) {
 		t.Errorf("unaligned P = %g: resampling independently should lose the order", free.Older.P)
 	}
 }
+
+// FuzzParseComparisonLevel: a parsed level prints as a name that parses back to it.
+func FuzzParseComparisonLevel(f *testing.F) {
+	for _, s := range []string{"as-needed", "analytical", " FULL ", "", "z", "as needed"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		l, err := ParseComparisonLevel(s)
+		if err != nil {
+			return
+		}
+		back, err := ParseComparisonLevel(l.String())
+		if err != nil || back != l {
+			t.Errorf("%q → %v → %v, %v", s, l, back, err)
+		}
+	})
+}

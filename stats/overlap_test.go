@@ -137,3 +137,34 @@ func TestOverlapSamples(t *testing.T) {
 		}
 	}
 }
+
+// FuzzOverlapNormal checks invariants of the closed forms: 0 ≤ OVL ≤ BC ≤ 1 (min(f, g) ≤ sqrt(fg) ≤ max),
+// OVL symmetric in its two normals, and P(A older) + P(B older) = 1.
+func FuzzOverlapNormal(f *testing.F) {
+	f.Add(201.5, 0.05, 201.6, 0.10)
+	f.Add(0.0, 1.0, 1.0, 2.0)
+	f.Add(201.5, 0.05, 201.5, 0.05000001)
+	f.Add(-3.0, 1e-3, 5.0, 10.0)
+	f.Fuzz(func(t *testing.T, mu1, s1, mu2, s2 float64) {
+		if !(s1 > 1e-6 && s2 > 1e-6 && s1 < 1e6 && s2 < 1e6) || math.Abs(mu1) > 1e6 || math.Abs(mu2) > 1e6 {
+			return
+		}
+		ovl, err := OverlapNormal(mu1, s1, mu2, s2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		back, _ := OverlapNormal(mu2, s2, mu1, s1)
+		bc, _ := BhattacharyyaNormal(mu1, s1, mu2, s2)
+		if !(ovl >= -1e-12 && ovl <= bc+1e-9 && bc <= 1+1e-12) {
+			t.Errorf("OVL %g, BC %g", ovl, bc)
+		}
+		if math.Abs(ovl-back) > 1e-9 {
+			t.Errorf("OVL not symmetric: %g, %g", ovl, back)
+		}
+		p, _ := POlderNormal(mu1, s1, mu2, s2, 0)
+		q, _ := POlderNormal(mu2, s2, mu1, s1, 0)
+		if math.Abs(p+q-1) > 1e-12 {
+			t.Errorf("P + Q = %g", p+q)
+		}
+	})
+}
