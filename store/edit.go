@@ -386,3 +386,8 @@ func currentVersion(ctx context.Context, tx *sql.Tx, id int64) int {
 	tx.QueryRowContext(ctx, `SELECT version FROM dates WHERE id = ?`, id).Scan(&v)
 	return v
 }
+
+// BatchRevisions returns the revisions of one change batch, in the order they were made.
+func (d *DB) BatchRevisions(ctx context.Context, batchID int64) ([]Revision, error) {
+	return queryAll(ctx, d.db, revisionSelect+` WHERE r.batch_id = ? ORDER BY r.id`, []any{batchID}, scanRevision)
+}

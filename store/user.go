@@ -210,3 +210,21 @@ func (d *DB) RevokeToken(ctx context.Context, userID, tokenID int64) error {
 
 // SQL returns the underlying *sql.DB for components that keep their own tables in it (the session store).
 func (d *DB) SQL() *sql.DB { return d.db }
+
+// Token is a personal access token as listed to its owner (never the token itself).
+type Token struct {
+	ID         int64   `json:"id"`
+	Name       string  `json:"name"`
+	CreatedAt  string  `json:"created_at"`
+	LastUsedAt *string `json:"last_used_at"`
+	RevokedAt  *string `json:"revoked_at"`
+}
+
+// Tokens lists a user's tokens, newest first.
+func (d *DB) Tokens(ctx context.Context, userID int64) ([]Token, error) {
+	return queryAll(ctx, d.db, `SELECT id, name, created_at, last_used_at, revoked_at FROM api_tokens WHERE user_id = ? ORDER BY id DESC`,
+		[]any{userID}, func(r interface{ Scan(...any) error }) (Token, error) {
+			var t Token
+			return t, r.Scan(&t.ID, &t.Name, &t.CreatedAt, &t.LastUsedAt, &t.RevokedAt)
+		})
+}

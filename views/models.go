@@ -14,6 +14,7 @@ type Link struct {
 type Page struct {
 	User      string // signed-in account, "" when anonymous
 	Role      string
+	UserLinks []Link // what the account may open (import, account, administration)
 	Title     string
 	Subtitle  string
 	Nav       string
@@ -186,4 +187,5 @@ type Edit struct {
 	Submit    string
 	Errors    []string
 	Tables    []Table
+	Actions   []Action
 }

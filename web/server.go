@@ -55,6 +55,20 @@ type Store interface {
 	Revisions(ctx context.Context, recordType string, id int64) ([]store.Revision, error)
 	RevisionByID(ctx context.Context, id int64) (store.Revision, error)
 	RevertDate(ctx context.Context, revID int64) error
+	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
+	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
+	UploadByID(ctx context.Context, id int64) (store.Upload, error)
+	PreviewUpload(ctx context.Context, u store.Upload) (store.Preview, error)
+	CommitUpload(ctx context.Context, u store.Upload) (store.ImportResult, error)
+	UndoBatch(ctx context.Context, batchID int64) (int, error)
+	Batches(ctx context.Context, f store.BatchFilter) ([]store.BatchRow, int, error)
+	CreateUser(ctx context.Context, name, role, password string) (store.User, error)
+	Users(ctx context.Context) ([]store.User, error)
+	CreateToken(ctx context.Context, userID int64, name string) (string, error)
+	RevokeToken(ctx context.Context, userID, tokenID int64) error
+	Tokens(ctx context.Context, userID int64) ([]store.Token, error)
+	SetSetting(ctx context.Context, key, value string) error
+	Backup(ctx context.Context, path string) error
 }
 
 // Server holds what the handlers share.
@@ -90,6 +104,8 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
 	s.registerDateEditRoutes(r)
+	s.registerUploadRoutes(r)
+	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)
 	s.registerUnitRoutes(r)
 	s.registerDateRoutes(r)
@@ -196,6 +212,13 @@ func (s *Server) page(ctx context.Context, title, nav string) views.Page {
 	p := views.Page{Title: title, Nav: nav}
 	if u, ok := currentUser(ctx); ok {
 		p.User, p.Role = u.Name, u.Role
+		if store.RoleAtLeast(u.Role, store.RoleContributor) {
+			p.UserLinks = append(p.UserLinks, views.Link{Label: "New date", URL: "/dates/new"}, views.Link{Label: "Import", URL: "/import"})
+		}
+		p.UserLinks = append(p.UserLinks, views.Link{Label: "Account", URL: "/account"})
+		if store.RoleAtLeast(u.Role, store.RoleAdmin) {
+			p.UserLinks = append(p.UserLinks, views.Link{Label: "Admin", URL: "/admin"})
+		}
 	}
 	if demo, err := s.store.Setting(ctx, store.SettingDemo); err == nil && demo != "" {
 		p.Demo = demo

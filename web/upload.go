@@ -1,0 +1,287 @@
+package web
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"net/http"
+	"strconv"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+// maxUploadBytes bounds a browser upload.
+const maxUploadBytes = 64 << 20
+
+func (s *Server) registerUploadRoutes(r chi.Router) {
+	r.With(s.requireRole(store.RoleContributor)).Group(func(r chi.Router) {
+		r.Get("/import", s.handle(s.handleUploadForm))
+		r.Post("/import", s.handle(s.handleUploadPreview))
+		r.Post("/import/{id}/commit", s.handle(s.handleUploadCommit))
+	})
+	r.With(s.requireRole(store.RoleCurator)).Post("/changes/{id}/undo", s.handle(s.handleBatchUndo))
+	r.Get("/changes", s.handle(s.handleChangeList))
+}
+
+func (s *Server) uploadView(r *http.Request, kind, section string, errs []string) (views.Edit, error) {
+	sections, err := s.store.Sections(r.Context())
+	if err != nil {
+		return views.Edit{}, err
+	}
+	e := views.Edit{Page: s.page(r.Context(), "Import a file", ""), Action: "/import", Multipart: true, Submit: "Check the file", Errors: errs}
+	e.Intro = "Upload a CSV file (or an .xlsx workbook: its first sheet) in one of the import formats described in the README. You will first see every row with its problems and warnings; nothing is imported until you confirm, and then all rows or none are."
+	kinds := []views.Option{}
+	for _, k := range []string{"dates", "units", "sections", "provinces", "measurements", "ties", "events"} {
+		kinds = append(kinds, views.Option{Value: k, Label: k, Selected: k == kind})
+	}
+	secs := []views.Option{{Value: "", Label: "— (for measurements, ties, events)"}}
+	for _, sec := range sections {
+		secs = append(secs, views.Option{Value: sec.Name, Label: sec.Name, Selected: sec.Name == section})
+	}
+	e.Inputs = []views.Input{
+		{Name: "kind", Label: "The file holds", Kind: "select", Options: kinds},
+		{Name: "section", Label: "Section", Kind: "select", Options: secs, Help: "for measurements, tie points and events"},
+		{Name: "file", Label: "File", Kind: "file", Help: ".csv or .xlsx"},
+	}
+	return e, nil
+}
+
+func (s *Server) handleUploadForm(w http.ResponseWriter, r *http.Request) error {
+	e, err := s.uploadView(r, r.URL.Query().Get("kind"), r.URL.Query().Get("section"), nil)
+	if err != nil {
+		return err
+	}
+	s.render(w, r, http.StatusOK, views.EditPage(e))
+	return nil
+}
+
+func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) error {
+	ctx := r.Context()
+	u, _ := currentUser(ctx)
+	r.Body = http.MaxBytesReader(w, r.Body, maxUploadBytes)
+	kind, section := r.FormValue("kind"), r.FormValue("section")
+	refuse := func(msg string) error {
+		e, err := s.uploadView(r, kind, section, []string{msg})
+		if err != nil {
+			return err
+		}
+		s.render(w, r, http.StatusUnprocessableEntity, views.EditPage(e))
+		return nil
+	}
+	file, hdr, err := r.FormFile("file")
+	if err != nil {
+		return refuse("Choose a file to upload (at most 64 MiB).")
+	}
+	defer file.Close()
+	body, err := io.ReadAll(file)
+	if err != nil {
+		return refuse("The file could not be read completely (is it larger than 64 MiB?).")
+	}
+	if perSection, ok := store.ExportKinds[kind]; !ok {
+		return refuse("Choose what the file holds.")
+	} else if perSection && section == "" {
+		return refuse("Choose the section the " + kind + " belong to.")
+	}
+	csvBody, err := store.ToCSV(hdr.Filename, body)
+	if ve, ok := store.AsValidation(err); ok {
+		return refuse(ve.Problems[0].String())
+	} else if err != nil {
+		return err
+	}
+	id, err := s.store.SaveUpload(ctx, store.Upload{UserID: u.ID, Kind: kind, Section: section, FileName: hdr.Filename, Body: csvBody})
+	if err != nil {
+		return err
+	}
+	up, err := s.store.UploadByID(ctx, id)
+	if err != nil {
+		return err
+	}
+	pv, err := s.store.PreviewUpload(ctx, up)
+	if err != nil {
+		return err
+	}
+	status := http.StatusOK
+	if len(pv.Problems) > 0 {
+		status = http.StatusUnprocessableEntity
+	}
+	s.render(w, r, status, views.DetailPage(s.previewView(r, pv)))
+	return nil
+}
+
+// previewView lists what an upload would do: its problems (then nothing can be imported), its notes,
+// and every row with the problems of its line.
+func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
+	v := views.Detail{Page: s.page(r.Context(), "Check "+pv.Upload.FileName, "")}
+	v.Page.Crumbs = []views.Link{{Label: "Import", URL: "/import"}}
+	byLine := map[int][]string{}
+	var whole []string
+	for _, p := range pv.Problems {
+		msg := p.Message
+		if p.Column != "" {
+			msg = p.Column + ": " + msg
+		}
+		if p.Line > 1 {
+			byLine[p.Line] = append(byLine[p.Line], msg)
+		} else {
+			whole = append(whole, msg)
+		}
+	}
+	if len(pv.Problems) > 0 {
+		v.Intro = fmt.Sprintf("%d problem(s) found: nothing can be imported from this file. Fix them in the file and upload it again.", len(pv.Problems))
+	} else {
+		v.Intro = fmt.Sprintf("No problem found: importing will add %s. All rows are imported together, as one change that a curator can undo.", addedText(pv.Result))
+		v.Actions = []views.Action{{Label: fmt.Sprintf("Import all %d rows", pv.Result.Rows), URL: fmt.Sprintf("/import/%d/commit", pv.Upload.ID)}}
+	}
+	v.Notes = append(v.Notes, whole...)
+	for _, n := range pv.Result.Notes {
+		v.Notes = append(v.Notes, "Note: "+n)
+	}
+	t := views.Table{ID: "preview", Caption: fmt.Sprintf("Rows of %s (%s)", pv.Upload.FileName, pv.Upload.Kind)}
+	t.Columns = []views.Column{{Label: "Line", Num: true}, {Label: "Problems"}}
+	for _, h := range pv.Header {
+		t.Columns = append(t.Columns, views.Column{Label: h})
+	}
+	const maxRows = 500
+	for i, row := range pv.Rows {
+		if i == maxRows {
+			t.Notes = append(t.Notes, fmt.Sprintf("Only the first %d of %d rows are shown; every row was checked.", maxRows, len(pv.Rows)))
+			break
+		}
+		line := pv.Lines[i]
+		cells := []views.Cell{{Text: strconv.Itoa(line), Num: true}}
+		if ps := byLine[line]; len(ps) > 0 {
+			cells = append(cells, views.Cell{Text: joinSemi(ps), Class: "caution"})
+		} else {
+			cells = append(cells, views.Cell{Text: "ok"})
+		}
+		for _, c := range row {
+			cells = append(cells, views.Cell{Text: c})
+		}
+		t.Rows = append(t.Rows, cells)
+	}
+	v.Tables = []views.Table{t}
+	return v
+}
+
+func joinSemi(ss []string) string {
+	out := ""
+	for i, s := range ss {
+		if i > 0 {
+			out += "; "
+		}
+		out += s
+	}
+	return out
+}
+
+func addedText(res store.ImportResult) string {
+	out := ""
+	for _, k := range []string{"provinces", "units", "sections", "dates", "samples", "measurements", "tie points", "events"} {
+		if n := res.Added[k]; n > 0 {
+			if out != "" {
+				out += ", "
+			}
+			out += fmt.Sprintf("%d %s", n, k)
+		}
+	}
+	if out == "" {
+		return "nothing"
+	}
+	return out
+}
+
+func (s *Server) handleUploadCommit(w http.ResponseWriter, r *http.Request) error {
+	r = actingCtx(r)
+	ctx := r.Context()
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	up, err := s.store.UploadByID(ctx, id)
+	if err != nil {
+		return err
+	}
+	if u, _ := currentUser(ctx); u.ID != up.UserID {
+		return forbidden{"This upload belongs to another account."}
+	}
+	res, err := s.store.CommitUpload(ctx, up)
+	if errors.Is(err, store.ErrConflict) {
+		return conflictError{"This file was already imported."}
+	}
+	if ve, ok := store.AsValidation(err); ok {
+		// The compilation changed between preview and commit: show the new problems.
+		pv := store.Preview{Upload: up, Problems: ve.Problems}
+		s.render(w, r, http.StatusUnprocessableEntity, views.DetailPage(s.previewView(r, pv)))
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	http.Redirect(w, r, fmt.Sprintf("/changes?batch=%d", res.BatchID), http.StatusSeeOther)
+	return nil
+}
+
+func (s *Server) handleBatchUndo(w http.ResponseWriter, r *http.Request) error {
+	r = actingCtx(r)
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	_, err = s.store.UndoBatch(r.Context(), id)
+	if ve, ok := store.AsValidation(err); ok {
+		return conflictError{"This change cannot be undone as a whole: " + joinSemi(problemTexts(ve.Problems))}
+	}
+	if err != nil {
+		return err
+	}
+	http.Redirect(w, r, "/changes", http.StatusSeeOther)
+	return nil
+}
+
+// handleChangeList is the compilation-wide feed of changes, filterable by kind and account, with CSV.
+func (s *Server) handleChangeList(w http.ResponseWriter, r *http.Request) error {
+	ctx := r.Context()
+	p := newParams(r)
+	format := p.format()
+	f := store.BatchFilter{Kind: p.str("kind"), User: p.str("user")}
+	per := p.int("per", 50, 1, 1000)
+	page := p.int("page", 1, 1, 1_000_000)
+	if err := p.err(); err != nil {
+		return err
+	}
+	if format != "csv" {
+		f.Limit, f.Offset = per, (page-1)*per
+	}
+	rows, total, err := s.store.Batches(ctx, f)
+	if err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		return writeDownload(w, "changes.csv", func(w io.Writer) error { return writeBatchesCSV(w, rows) })
+	case "json":
+		return writeList(w, "changes", total, f.Offset, len(rows), rows)
+	}
+	t := views.Table{ID: "changes", Columns: []views.Column{{Label: "Change", Num: true}, {Label: "When"}, {Label: "Who"},
+		{Label: "What"}, {Label: "Source"}, {Label: "Records", Num: true}, {Label: "Summary"}}, Empty: "No change matches."}
+	for _, b := range rows {
+		t.Rows = append(t.Rows, []views.Cell{{Text: strconv.FormatInt(b.ID, 10), Num: true}, {Text: when(b.At)},
+			{Text: orDash(b.User)}, {Text: b.Kind}, {Text: b.Source}, {Text: strconv.Itoa(b.Revisions), Num: true}, {Text: b.Summary}})
+	}
+	l := views.List{Page: s.page(ctx, "Changes", ""), Table: t}
+	l.Page.Downloads = toLinks(downloads(r))
+	l.Intro = "Every change to the compilation, newest first: imports, edits, reviews, reverts. Each record's own history is on its page."
+	l.Form = &views.Form{Action: "/changes", Reset: "/changes", Fields: []views.Field{
+		{Name: "kind", Label: "What (starts with)", Kind: "text", Value: f.Kind, Placeholder: "import, edit, accept…"},
+		{Name: "user", Label: "Who", Kind: "text", Value: f.User, Placeholder: "account name"},
+	}}
+	l.Pager = pagerFor(r, total, page, per, len(rows))
+	if bid := p.str("batch"); bid != "" {
+		l.Intro = "Change " + bid + " was recorded. " + l.Intro
+	}
+	s.render(w, r, http.StatusOK, views.ListPage(l))
+	return nil
+}
