@@ -19,7 +19,9 @@ type dryRunKey struct{}
 var errDryRun = errors.New("dry run")
 
 // withDryRun marks ctx so that an import checks and counts everything, then writes nothing.
-func withDryRun(ctx context.Context) context.Context { return context.WithValue(ctx, dryRunKey{}, true) }
+func withDryRun(ctx context.Context) context.Context {
+	return context.WithValue(ctx, dryRunKey{}, true)
+}
 
 func isDryRun(ctx context.Context) bool { v, _ := ctx.Value(dryRunKey{}).(bool); return v }
 
