@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+
+	"modernc.org/sqlite"
 )
 
 // ErrNotFound is returned when a record asked for by id or name does not exist.
@@ -64,4 +66,14 @@ func AsValidation(err error) (*ValidationError, bool) {
 	var ve *ValidationError
 	ok := errors.As(err, &ve)
 	return ve, ok
+}
+
+// isForeignKeyViolation recognises a foreign-key refusal by its SQLite extended code: 787
+// (SQLITE_CONSTRAINT_FOREIGNKEY) for deferred checks and 1811 (SQLITE_CONSTRAINT_TRIGGER) for RESTRICT.
+func isForeignKeyViolation(err error) bool {
+	var se *sqlite.Error
+	if !errors.As(err, &se) {
+		return false
+	}
+	return se.Code() == 787 || se.Code() == 1811
 }

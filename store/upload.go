@@ -182,7 +182,7 @@ func (d *DB) UndoBatch(ctx context.Context, batchID int64) (int, error) {
 				continue
 			}
 			if _, err := tx.ExecContext(ctx, `DELETE FROM `+table+` WHERE id = ?`, rev.RecordID); err != nil {
-				if strings.Contains(err.Error(), "787") {
+				if isForeignKeyViolation(err) {
 					problems = append(problems, Problem{Message: fmt.Sprintf("%s %d is now used by records added later; undo those first", rev.RecordType, rev.RecordID)})
 					continue
 				}

@@ -158,17 +158,25 @@ func (l *loginLimiter) recent(key string) []time.Time {
 	return ts
 }
 
-// blocked reports whether any of the keys has used up its attempts.
+// blocked reports whether any of the keys has used up its attempts; address keys ("addr:…") allow
+// perAddress attempts, since a whole group may sign in from one address.
 func (l *loginLimiter) blocked(keys ...string) bool {
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	for _, k := range keys {
-		if len(l.recent(k)) >= l.max {
+		limit := l.max
+		if strings.HasPrefix(k, "addr:") {
+			limit = l.max * perAddressFactor
+		}
+		if len(l.recent(k)) >= limit {
 			return true
 		}
 	}
 	return false
 }
+
+// perAddressFactor multiplies the per-account limit for one address.
+const perAddressFactor = 4
 
 func (l *loginLimiter) fail(keys ...string) {
 	l.mu.Lock()

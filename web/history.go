@@ -91,6 +91,9 @@ func (s *Server) handleRevisionRevert(w http.ResponseWriter, r *http.Request) er
 	if err != nil {
 		return err
 	}
+	if rev.RecordType != "date" {
+		return badRequest{message: "Only changes of dates can be restored from the web so far; this change is of a " + rev.RecordType + "."}
+	}
 	err = s.store.RevertDate(r.Context(), id)
 	if errors.Is(err, store.ErrConflict) {
 		return conflictError{"There is nothing to restore: the date this change created no longer exists."}

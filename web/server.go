@@ -100,7 +100,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(s.identify)
 	r.Use(s.requireLoginSetting)
 
-	r.Handle("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)))
+	r.Get("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)).ServeHTTP)
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
 	s.registerDateEditRoutes(r)

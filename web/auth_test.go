@@ -1,0 +1,449 @@
+package web
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"mime/multipart"
+	"net/http"
+	"net/http/cookiejar"
+	"net/http/httptest"
+	"net/url"
+	"regexp"
+	"strings"
+	"testing"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+)
+
+// client is a browser-like HTTP client with its own cookies that does not follow redirects.
+func client(t testing.TB) *http.Client {
+	t.Helper()
+	jar, _ := cookiejar.New(nil)
+	return &http.Client{Jar: jar, CheckRedirect: func(*http.Request, []*http.Request) error { return http.ErrUseLastResponse }}
+}
+
+// signIn signs c in as a demo account ("" leaves it anonymous).
+func signIn(t testing.TB, c *http.Client, srv *httptest.Server, name string) {
+	t.Helper()
+	if name == "" {
+		return
+	}
+	res, err := c.PostForm(srv.URL+"/login", url.Values{"name": {name}, "password": {store.DemoPassword}, "next": {"/"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res.Body.Close()
+	if res.StatusCode != http.StatusSeeOther {
+		t.Fatalf("sign in as %s: status %d", name, res.StatusCode)
+	}
+}
+
+func do(t testing.TB, c *http.Client, method, u string, form url.Values) (int, string, http.Header) {
+	t.Helper()
+	var body io.Reader
+	if form != nil {
+		body = strings.NewReader(form.Encode())
+	}
+	req, _ := http.NewRequest(method, u, body)
+	if form != nil {
+		req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+	}
+	res, err := c.Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer res.Body.Close()
+	b, _ := io.ReadAll(res.Body)
+	return res.StatusCode, string(b), res.Header
+}
+
+// routeRoles is the least role each route needs ("" = anyone). TestAuthorizationMatrix walks the router
+// and fails on any route missing here, so a new route cannot be forgotten.
+var routeRoles = map[string]string{
+	"GET /":                            "",
+	"GET /static/*":                    "",
+	"GET /login":                       "",
+	"POST /login":                      "",
+	"POST /logout":                     "",
+	"GET /provinces":                   "",
+	"GET /provinces/{id}":              "",
+	"GET /provinces/{id}/summary":      "",
+	"GET /units/{id}":                  "",
+	"GET /units/{id}/summary":          "",
+	"GET /dates":                       "",
+	"GET /dates/{id}":                  "",
+	"GET /dates/{id}/history":          "",
+	"GET /sections":                    "",
+	"GET /sections/{id}":               "",
+	"GET /sections/{id}/measurements":  "",
+	"GET /sections/{id}/ties":          "",
+	"GET /sections/{id}/events":        "",
+	"GET /ties":                        "",
+	"GET /events":                      "",
+	"GET /calibrations":                "",
+	"GET /changes":                     "",
+	"GET /changes/{id}":                "",
+	"GET /dates/new":                   store.RoleContributor,
+	"POST /dates/new":                  store.RoleContributor,
+	"GET /dates/{id}/edit":             store.RoleContributor,
+	"POST /dates/{id}/edit":            store.RoleContributor,
+	"GET /import":                      store.RoleContributor,
+	"POST /import":                     store.RoleContributor,
+	"POST /import/{id}/commit":         store.RoleContributor,
+	"POST /dates/{id}/review":          store.RoleCurator,
+	"POST /dates/{id}/delete":          store.RoleCurator,
+	"POST /revisions/{id}/revert":      store.RoleCurator,
+	"POST /changes/{id}/undo":          store.RoleCurator,
+	"GET /account":                     store.RoleReader,
+	"POST /account/tokens":             store.RoleReader,
+	"POST /account/tokens/{id}/revoke": store.RoleReader,
+	"GET /admin":                       store.RoleAdmin,
+	"POST /admin/users":                store.RoleAdmin,
+	"POST /admin/settings":             store.RoleAdmin,
+	"GET /admin/backup":                store.RoleAdmin,
+}
+
+// Every route × {anonymous, reader, contributor, curator, admin} → allowed or refused as routeRoles says.
+func TestAuthorizationMatrix(t *testing.T) {
+	srv, db := mustServer(t)
+	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
+	if err != nil || len(pending) == 0 {
+		t.Fatal("the demo has no pending date")
+	}
+	routes, ok := srv.Config.Handler.(chi.Routes)
+	if !ok {
+		t.Fatal("the handler is not a chi router")
+	}
+	type route struct{ method, pattern string }
+	var all []route
+	chi.Walk(routes, func(method, pattern string, _ http.Handler, _ ...func(http.Handler) http.Handler) error {
+		all = append(all, route{method, pattern})
+		return nil
+	})
+	clients := map[string]*http.Client{}
+	for _, role := range append([]string{""}, store.Roles()...) {
+		c := client(t)
+		if role != "" {
+			signIn(t, c, srv, "demo-"+role)
+		}
+		clients[role] = c
+	}
+	for _, rt := range all {
+		key := rt.method + " " + rt.pattern
+		min, listed := routeRoles[key]
+		if !listed {
+			t.Errorf("route %s has no expected role in routeRoles: add it", key)
+			continue
+		}
+		id := "1"
+		if rt.pattern == "/dates/{id}/edit" { // contributors may edit drafts: use a pending date
+			id = fmt.Sprint(pending[0].ID)
+		}
+		path := strings.NewReplacer("{id}", id, "*", "style.css").Replace(rt.pattern)
+		for role, c := range clients {
+			var form url.Values
+			if rt.method == http.MethodPost {
+				form = url.Values{}
+			}
+			status, body, h := do(t, c, rt.method, srv.URL+path, form)
+			if rt.pattern == "/logout" && role != "" {
+				signIn(t, c, srv, "demo-"+role) // the matrix goes on with the same account
+			}
+			allowed := min == "" || (role != "" && store.RoleAtLeast(role, min))
+			toLogin := status == http.StatusSeeOther && strings.HasPrefix(h.Get("Location"), "/login")
+			switch {
+			case status >= 500:
+				t.Errorf("%s as %q: status %d: %.200s", key, role, status, body)
+			case allowed && (status == http.StatusForbidden || status == http.StatusUnauthorized || (toLogin && rt.pattern != "/logout")):
+				t.Errorf("%s as %q: refused (%d), want allowed", key, role, status)
+			case !allowed && role == "" && rt.method == http.MethodGet && !toLogin:
+				t.Errorf("%s anonymous: status %d, want a redirect to sign in", key, status)
+			case !allowed && (role != "" || rt.method == http.MethodPost) && status != http.StatusForbidden:
+				t.Errorf("%s as %q: status %d, want 403", key, role, status)
+			}
+		}
+	}
+}
+
+func TestSignInDoesNotTellWhichPartWasWrongAndIsRateLimited(t *testing.T) {
+	srv, _ := mustServer(t)
+	// The session cookie is HttpOnly and SameSite=Lax.
+	c0 := client(t)
+	res, err := c0.PostForm(srv.URL+"/login", url.Values{"name": {"demo-reader"}, "password": {store.DemoPassword}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res.Body.Close()
+	if ck := res.Header.Get("Set-Cookie"); !strings.Contains(ck, "HttpOnly") || !strings.Contains(ck, "SameSite=Lax") {
+		t.Errorf("session cookie %q: want HttpOnly and SameSite=Lax", ck)
+	}
+	c := client(t)
+	_, unknown, _ := do(t, c, http.MethodPost, srv.URL+"/login", url.Values{"name": {"nobody"}, "password": {"whatever-long"}})
+	status, wrongPw, _ := do(t, c, http.MethodPost, srv.URL+"/login", url.Values{"name": {"demo-admin"}, "password": {"not-the-password"}})
+	if status != http.StatusUnprocessableEntity || !strings.Contains(unknown, "Wrong name or password.") || !strings.Contains(wrongPw, "Wrong name or password.") {
+		t.Fatalf("unknown name and wrong password must read the same (status %d)", status)
+	}
+	for range 4 {
+		do(t, c, http.MethodPost, srv.URL+"/login", url.Values{"name": {"demo-admin"}, "password": {"not-the-password"}})
+	}
+	status, body, _ := do(t, c, http.MethodPost, srv.URL+"/login", url.Values{"name": {"demo-admin"}, "password": {store.DemoPassword}})
+	if status != http.StatusTooManyRequests || !strings.Contains(body, "Too many failed attempts") {
+		t.Errorf("after 5 failures the right password: status %d, want 429", status)
+	}
+}
+
+// A contributor's new date is pending; a curator accepts it; history shows both; a revert restores.
+func TestContributeReviewHistoryRevert(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	contrib, curator := client(t), client(t)
+	signIn(t, contrib, srv, "demo-contributor")
+	signIn(t, curator, srv, "demo-curator")
+	form := url.Values{"province": {"Hvarn Plateau Basalts (invented)"}, "unit": {"Haldruna Flow"}, "sample_code": {"NEW-1"},
+		"method": {"upb_idtims"}, "material": {"zircon"}, "interpretation": {"eruption"}, "age_ma": {"155.35"},
+		"sigma_ma": {"-0.05"}, "sigma_level": {"2"}, "review_state": {"accepted"}}
+	status, body, _ := do(t, contrib, http.MethodPost, srv.URL+"/dates/new", form)
+	if status != http.StatusUnprocessableEntity || !strings.Contains(body, "greater than 0") {
+		t.Fatalf("a negative σ: status %d, want 422 with the field's message", status)
+	}
+	form.Set("sigma_ma", "0.05")
+	status, _, h := do(t, contrib, http.MethodPost, srv.URL+"/dates/new", form)
+	if status != http.StatusSeeOther {
+		t.Fatalf("create: status %d", status)
+	}
+	var id int64
+	fmt.Sscanf(h.Get("Location"), "/dates/%d", &id)
+	d, err := db.Date(ctx, id)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d.ReviewState != "pending" {
+		t.Errorf("a contributor's date is %q, want pending (the form's review state is for curators)", d.ReviewState)
+	}
+	status, _, _ = do(t, curator, http.MethodPost, fmt.Sprintf("%s/dates/%d/review", srv.URL, id), url.Values{"version": {fmt.Sprint(d.Version)}, "decision": {"accept"}})
+	if status != http.StatusSeeOther {
+		t.Fatalf("accept: status %d", status)
+	}
+	if d, _ = db.Date(ctx, id); d.ReviewState != "accepted" {
+		t.Fatalf("after accept: %q", d.ReviewState)
+	}
+	// The contributor can no longer edit an accepted date; the curator can.
+	status, _, _ = do(t, contrib, http.MethodGet, fmt.Sprintf("%s/dates/%d/edit", srv.URL, id), nil)
+	if status != http.StatusForbidden {
+		t.Errorf("contributor editing an accepted date: status %d, want 403", status)
+	}
+	edit := url.Values{}
+	for k, v := range store.FormOfDate(d) {
+		edit.Set(k, v)
+	}
+	edit.Set("version", fmt.Sprint(d.Version))
+	edit.Set("age_ma", "155.30")
+	if status, _, _ = do(t, curator, http.MethodPost, fmt.Sprintf("%s/dates/%d/edit", srv.URL, id), edit); status != http.StatusSeeOther {
+		t.Fatalf("curator edit: status %d", status)
+	}
+	_, hist, _ := do(t, curator, http.MethodGet, fmt.Sprintf("%s/dates/%d/history", srv.URL, id), nil)
+	for _, want := range []string{"demo-contributor", "demo-curator", "accept date", "edit date", "155.35", "155.3"} {
+		if !strings.Contains(hist, want) {
+			t.Errorf("history lacks %q", want)
+		}
+	}
+	revs, _ := db.Revisions(ctx, "date", id)
+	if status, _, _ = do(t, curator, http.MethodPost, fmt.Sprintf("%s/revisions/%d/revert", srv.URL, revs[0].ID), url.Values{}); status != http.StatusSeeOther {
+		t.Fatalf("revert: status %d", status)
+	}
+	if d, _ = db.Date(ctx, id); d.AgeMa != 155.35 {
+		t.Errorf("after revert the age is %v, want 155.35", d.AgeMa)
+	}
+}
+
+// Two curators edit one date from the same version: one wins, the other sees the conflict page with both
+// values; nothing is lost.
+func TestConcurrentEditsThroughTheWeb(t *testing.T) {
+	srv, db := mustServer(t)
+	a, b := client(t), client(t)
+	signIn(t, a, srv, "demo-curator")
+	signIn(t, b, srv, "demo-admin")
+	d, _ := db.Date(context.Background(), 2)
+	mk := func(notes string) url.Values {
+		v := url.Values{}
+		for k, x := range store.FormOfDate(d) {
+			v.Set(k, x)
+		}
+		v.Set("review_state", d.ReviewState)
+		v.Set("version", fmt.Sprint(d.Version))
+		v.Set("notes", notes)
+		return v
+	}
+	s1, _, _ := do(t, a, http.MethodPost, srv.URL+"/dates/2/edit", mk("first"))
+	s2, body, _ := do(t, b, http.MethodPost, srv.URL+"/dates/2/edit", mk("second"))
+	if s1 != http.StatusSeeOther || s2 != http.StatusConflict {
+		t.Fatalf("statuses %d, %d: want 303 then 409", s1, s2)
+	}
+	if !strings.Contains(body, "first") || !strings.Contains(body, "second") || !strings.Contains(body, "not saved") {
+		t.Error("the conflict page does not show both values and say nothing was saved")
+	}
+	if got, _ := db.Date(context.Background(), 2); got.Notes != "first" {
+		t.Errorf("stored notes %q, want the first edit's", got.Notes)
+	}
+}
+
+// Every text field comes back escaped; filters with SQL in them are plain text.
+func TestXSSIsEscapedAndSQLInFiltersIsHarmless(t *testing.T) {
+	srv, db := mustServer(t)
+	c := client(t)
+	signIn(t, c, srv, "demo-curator")
+	payload := `<script>alert("x")</script>`
+	form := url.Values{"province": {payload}, "unit": {payload}, "sample_code": {payload}, "method": {"other"},
+		"material": {payload}, "interpretation": {"eruption"}, "age_ma": {"100"}, "sigma_ma": {"1"}, "sigma_level": {"1"},
+		"tracer": {payload}, "laboratory": {payload}, "citation": {payload}, "notes": {payload}, "review_state": {"accepted"}}
+	status, _, h := do(t, c, http.MethodPost, srv.URL+"/dates/new", form)
+	if status != http.StatusSeeOther {
+		t.Fatalf("create: %d", status)
+	}
+	var id int64
+	fmt.Sscanf(h.Get("Location"), "/dates/%d", &id)
+	for _, p := range []string{fmt.Sprintf("/dates/%d", id), "/dates", "/provinces", fmt.Sprintf("/dates/%d/history", id), "/changes"} {
+		_, body, _ := do(t, c, http.MethodGet, srv.URL+p, nil)
+		if strings.Contains(body, payload) {
+			t.Errorf("%s: the payload came back unescaped", p)
+		}
+	}
+	before, _ := db.Counts(context.Background())
+	for _, q := range []string{"q=' OR 1=1 --", "material=x' OR '1'='1", "q=%", "q=_", "kind=' OR 1=1 --"} {
+		k, v, _ := strings.Cut(q, "=")
+		path := "/dates?format=json&" + url.Values{k: {v}}.Encode()
+		if k == "kind" {
+			path = "/changes?format=json&" + url.Values{k: {v}}.Encode()
+		}
+		status, body, _ := do(t, c, http.MethodGet, srv.URL+path, nil)
+		var l struct{ Total int }
+		json.Unmarshal([]byte(body), &l)
+		if status != 200 || (l.Total != 0 && !strings.Contains(q, "%") && !strings.Contains(q, "_")) {
+			t.Errorf("%s: status %d, total %d: want 200 and no match", q, status, l.Total)
+		}
+	}
+	after, _ := db.Counts(context.Background())
+	if before != after {
+		t.Error("a filter changed the compilation")
+	}
+}
+
+func TestTokensAndPrivateCompilation(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	admin := client(t)
+	signIn(t, admin, srv, "demo-admin")
+	reader, _ := db.Users(ctx)
+	var rid int64
+	for _, u := range reader {
+		if u.Name == "demo-reader" {
+			rid = u.ID
+		}
+	}
+	token, err := db.CreateToken(ctx, rid, "script")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s, _, _ := do(t, admin, http.MethodPost, srv.URL+"/admin/settings", url.Values{SettingRequireLogin: {"true"}}); s != http.StatusSeeOther {
+		t.Fatalf("settings: %d", s)
+	}
+	anon := client(t)
+	if s, _, h := do(t, anon, http.MethodGet, srv.URL+"/dates", nil); s != http.StatusSeeOther || !strings.HasPrefix(h.Get("Location"), "/login") {
+		t.Errorf("private compilation, anonymous page: %d, want a redirect to sign in", s)
+	}
+	if s, _, _ := do(t, anon, http.MethodGet, srv.URL+"/dates?format=json", nil); s != http.StatusUnauthorized {
+		t.Errorf("private compilation, anonymous JSON: %d, want 401", s)
+	}
+	req, _ := http.NewRequest(http.MethodGet, srv.URL+"/dates?format=json", nil)
+	req.Header.Set("Authorization", "Bearer "+token)
+	res, err := http.DefaultClient.Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res.Body.Close()
+	if res.StatusCode != 200 {
+		t.Errorf("with a token: %d, want 200", res.StatusCode)
+	}
+	toks, _ := db.Tokens(ctx, rid)
+	db.RevokeToken(ctx, rid, toks[0].ID)
+	res, _ = http.DefaultClient.Do(req)
+	res.Body.Close()
+	if res.StatusCode != http.StatusUnauthorized {
+		t.Errorf("with a revoked token: %d, want 401", res.StatusCode)
+	}
+	// The token is stored hashed: its text is nowhere in the database.
+	var n int
+	db.SQL().QueryRow(`SELECT count(*) FROM api_tokens WHERE token_hash = ?`, token).Scan(&n)
+	if n != 0 {
+		t.Error("the token is stored in clear")
+	}
+}
+
+func upload(t testing.TB, c *http.Client, srv *httptest.Server, kind, name, body string) (int, string) {
+	t.Helper()
+	var buf bytes.Buffer
+	mw := multipart.NewWriter(&buf)
+	mw.WriteField("kind", kind)
+	fw, _ := mw.CreateFormFile("file", name)
+	fw.Write([]byte(body))
+	mw.Close()
+	req, _ := http.NewRequest(http.MethodPost, srv.URL+"/import", &buf)
+	req.Header.Set("Content-Type", mw.FormDataContentType())
+	res, err := c.Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer res.Body.Close()
+	b, _ := io.ReadAll(res.Body)
+	return res.StatusCode, string(b)
+}
+
+// A failing upload imports nothing; a good one is previewed, committed as one change, and undone whole.
+func TestUploadPreviewCommitUndo(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	contrib, curator := client(t), client(t)
+	signIn(t, contrib, srv, "demo-contributor")
+	signIn(t, curator, srv, "demo-curator")
+	before, _ := db.Counts(ctx)
+	bad := "province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\nP,U,X-1,upb_idtims,eruption,abc,0.1,2\nP,U,X-2,upb_idtims,eruption,150,0.1,7\n"
+	status, body := upload(t, contrib, srv, "dates", "bad.csv", bad)
+	if status != http.StatusUnprocessableEntity || !strings.Contains(body, "nothing can be imported") || !strings.Contains(body, "age_ma: want a number") || strings.Contains(body, "/commit") {
+		t.Fatalf("bad upload: status %d; want 422 listing the problems and no commit button", status)
+	}
+	if after, _ := db.Counts(ctx); after != before {
+		t.Fatal("a failing upload changed the compilation")
+	}
+	good := "province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\nP,U,X-1,upb_idtims,eruption,150.1,0.1,2\nP,U,X-2,upb_idtims,eruption,150.2,0.1,2\n"
+	status, body = upload(t, contrib, srv, "dates", "good.csv", good)
+	m := regexp.MustCompile(`/import/(\d+)/commit`).FindStringSubmatch(body)
+	if status != 200 || m == nil || !strings.Contains(body, "2 dates") {
+		t.Fatalf("good upload: status %d, commit link %v", status, m)
+	}
+	status, _, h := do(t, contrib, http.MethodPost, srv.URL+"/import/"+m[1]+"/commit", url.Values{})
+	if status != http.StatusSeeOther {
+		t.Fatalf("commit: %d", status)
+	}
+	after, _ := db.Counts(ctx)
+	if after.Dates != before.Dates+2 {
+		t.Fatalf("after commit %d dates, want %d", after.Dates, before.Dates+2)
+	}
+	if s, _, _ := do(t, contrib, http.MethodPost, srv.URL+"/import/"+m[1]+"/commit", url.Values{}); s != http.StatusConflict {
+		t.Errorf("committing twice: %d, want 409", s)
+	}
+	var batch string
+	if u, err := url.Parse(h.Get("Location")); err == nil {
+		batch = u.Query().Get("batch")
+	}
+	if s, _, _ := do(t, curator, http.MethodPost, srv.URL+"/changes/"+batch+"/undo", url.Values{}); s != http.StatusSeeOther {
+		t.Fatalf("undo: %d", s)
+	}
+	if final, _ := db.Counts(ctx); final != before {
+		t.Errorf("after undo %+v, want %+v", final, before)
+	}
+}
