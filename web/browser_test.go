@@ -2,6 +2,7 @@ package web
 
 import (
 	"context"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -10,6 +11,8 @@ import (
 	"time"
 
 	"github.com/chromedp/chromedp"
+
+	"coeval/store"
 )
 
 // chromiumPath finds the browser for the real-browser tests: CHROMIUM_BIN, else chromium on the PATH.
@@ -63,7 +66,7 @@ func newBrowser(t testing.TB) context.Context {
 	)
 	actx, cancelA := chromedp.NewExecAllocator(context.Background(), opts...)
 	ctx, cancelC := chromedp.NewContext(actx)
-	ctx, cancelT := context.WithTimeout(ctx, 90*time.Second)
+	ctx, cancelT := context.WithTimeout(ctx, 60*time.Second)
 	t.Cleanup(func() { cancelT(); cancelC(); cancelA() })
 	if err := chromedp.Do(ctx); err != nil {
 		t.Fatalf("start chromium: %v", err)
@@ -217,4 +220,104 @@ func TestBrowserBrowsesTheDemo(t *testing.T) {
 		t.Error("the ⁴⁰Ar/³⁹Ar filter still lists U–Pb dates")
 	}
 	shoot(t, ctx, dir, "07-dates-filtered")
+}
+
+// signInBrowser signs the browser in through the form.
+func signInBrowser(t testing.TB, ctx context.Context, base, name string) {
+	t.Helper()
+	if err := chromedp.Do(ctx, chromedp.Navigate(base+"/login"),
+		chromedp.SetValue(chromedp.CSS(`input[name="name"]`), name),
+		chromedp.SetValue(chromedp.CSS(`input[name="password"]`), store.DemoPassword),
+		chromedp.Click(chromedp.CSS(`form.login button`))); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".account form.inline"))); err != nil {
+		t.Fatalf("not signed in as %s: %v", name, err)
+	}
+}
+
+// A curator's path: a contributor edits a draft date (it stays pending), a curator accepts it, reads the
+// history and restores the earlier state — all through the pages, with screenshots.
+func TestBrowserContributorAndCurator(t *testing.T) {
+	ctx := newBrowser(t)
+	srv, db := mustServer(t)
+	dir := screenshotDir(t)
+	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
+	if err != nil || len(pending) == 0 {
+		t.Fatal("no pending date in the demo")
+	}
+	d := pending[0]
+	signInBrowser(t, ctx, srv.URL, "demo-contributor")
+	if err := chromedp.Do(ctx, chromedp.Navigate(fmt.Sprintf("%s/dates/%d/edit", srv.URL, d.ID)),
+		chromedp.SetValue(chromedp.CSS(`textarea[name="notes"]`), "checked against the lab's data table"),
+		chromedp.SetValue(chromedp.CSS(`input[name="sigma_ma"]`), "-1"),
+		chromedp.Click(chromedp.CSS(`form.edit button`))); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".field-error"))); err != nil {
+		t.Fatal(err)
+	}
+	shoot(t, ctx, dir, "10-edit-with-error")
+	if got := text(t, ctx, ".field-error"); !strings.Contains(got, "greater than 0") {
+		t.Errorf("field error %q", got)
+	}
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`input[name="sigma_ma"]`), store.FormOfDate(d)["sigma_ma"]),
+		chromedp.Click(chromedp.CSS(`form.edit button`))); err != nil {
+		t.Fatal(err)
+	}
+	if p := waitPath(t, ctx, fmt.Sprintf("/dates/%d", d.ID)); strings.HasSuffix(p, "/edit") {
+		if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".groups, .error"))); err != nil {
+			t.Fatal(err)
+		}
+		if msg, _ := chromedp.Run(ctx, chromedp.Text(chromedp.CSS("main"))); strings.Contains(msg, "Nothing was saved") {
+			t.Fatalf("the corrected form was refused: %.400s", msg)
+		}
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".groups"))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "main"); !strings.Contains(got, "pending review") {
+		t.Error("the contributor's edit is not shown as pending")
+	}
+	shoot(t, ctx, dir, "11-edited-pending")
+
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(".account form.inline button")),
+		chromedp.WaitVisible(chromedp.CSS(`.account a[href="/login"]`))); err != nil {
+		t.Fatal(err)
+	}
+	signInBrowser(t, ctx, srv.URL, "demo-curator")
+	if err := chromedp.Do(ctx, chromedp.Navigate(fmt.Sprintf("%s/dates/%d", srv.URL, d.ID)),
+		chromedp.Click(chromedp.CSS(`form.action input[value="accept"] ~ button`))); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".groups"))); err != nil {
+		t.Fatal(err)
+	}
+	if got, _ := db.Date(context.Background(), d.ID); got.ReviewState != "accepted" {
+		t.Fatalf("after the curator's accept: %q", got.ReviewState)
+	}
+	shoot(t, ctx, dir, "12-accepted")
+	if err := chromedp.Do(ctx, chromedp.Navigate(fmt.Sprintf("%s/dates/%d/history", srv.URL, d.ID))); err != nil {
+		t.Fatal(err)
+	}
+	hist := text(t, ctx, "main")
+	for _, want := range []string{"demo-contributor", "demo-curator", "accept date", "checked against the lab's data table"} {
+		if !strings.Contains(hist, want) {
+			t.Errorf("history lacks %q", want)
+		}
+	}
+	shoot(t, ctx, dir, "13-history")
+	// Restore the state before the contributor's edit (the second newest change).
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`.actions form.action:nth-of-type(2) button`))); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#diff"))); err != nil {
+		t.Fatal(err)
+	}
+	time.Sleep(200 * time.Millisecond)
+	got, _ := db.Date(context.Background(), d.ID)
+	if got.Notes != d.Notes || got.SigmaMa != d.SigmaMa || got.ReviewState != d.ReviewState {
+		t.Errorf("after restoring: notes %q σ %v state %q, want %q %v %q", got.Notes, got.SigmaMa, got.ReviewState, d.Notes, d.SigmaMa, d.ReviewState)
+	}
+	shoot(t, ctx, dir, "14-restored")
 }
