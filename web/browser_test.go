@@ -218,3 +218,74 @@ func TestBrowserBrowsesTheDemo(t *testing.T) {
 	}
 	shoot(t, ctx, dir, "07-dates-filtered")
 }
+
+// A reader of the section pages, in a real headless Chromium: the clean section with its figure and
+// anomaly, the low-TOC section with its not-evaluable samples, the masked section, a changed threshold
+// through the form, and the aligned page. Screenshots of each are saved for review.
+func TestBrowserSectionPages(t *testing.T) {
+	ctx := newBrowser(t)
+	srv, db := mustServer(t)
+	dir := screenshotDir(t)
+	ids := map[string]int64{}
+	secs, err := db.Sections(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range secs {
+		ids[s.Name] = s.ID
+	}
+	shootElem := func(sel, name string) {
+		t.Helper()
+		png, err := chromedp.Run(ctx, chromedp.Screenshot(chromedp.CSS(sel)))
+		if err != nil {
+			t.Fatalf("screenshot of %s: %v", sel, err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, name+".png"), png, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	open := func(path, wait string) {
+		t.Helper()
+		if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+path), chromedp.WaitVisible(chromedp.CSS(wait))); err != nil {
+			t.Fatalf("%s: %v", path, err)
+		}
+	}
+
+	open(idURL("/sections", ids["Vedholmen-1 Core"]), "#section-figure svg")
+	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "Hg and Hg/TOC rise together") {
+		t.Errorf("clean section's anomaly table %q does not read as a real anomaly", got)
+	}
+	if got := text(t, ctx, "#agemodel"); !strings.Contains(got, "Seed 1, 2000 draws") {
+		t.Errorf("age model block %q does not state seed and draws", got)
+	}
+	shoot(t, ctx, dir, "11-section-clean")
+	shootElem("#section-figure", "11a-figure-clean")
+	shootElem("#anomalies", "11b-anomalies-clean")
+
+	open(idURL("/sections", ids["Skarfell Creek"]), "#section-figure svg")
+	if got := text(t, ctx, "#measurements tbody"); !strings.Contains(got, "not evaluable") {
+		t.Error("low-TOC section shows no not-evaluable sample")
+	}
+	shoot(t, ctx, dir, "12-section-low-toc")
+	shootElem("#section-figure", "12a-figure-low-toc")
+
+	open(idURL("/sections", ids["Mornesk Cliffs"]), "#section-figure svg")
+	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "host-regression residual") {
+		t.Errorf("masked section's anomaly %q is not read as a host-regression residual", got)
+	}
+	shoot(t, ctx, dir, "13-section-masked")
+	shootElem("#section-figure", "13a-figure-masked")
+	shootElem("#host", "13b-host-masked")
+
+	// The form keeps the threshold in the address.
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`input[name="toc_min"]`), "0.5"),
+		chromedp.Click(chromedp.CSS(`form.filters button`))); err != nil {
+		t.Fatal(err)
+	}
+	if p := waitPath(t, ctx, idURL("/sections", ids["Mornesk Cliffs"])+"?"); !strings.Contains(p, "toc_min=0.5") {
+		t.Errorf("address %q lacks the threshold", p)
+	}
+
+	open("/sections/aligned", "#aligned-figure svg")
+	shoot(t, ctx, dir, "14-sections-aligned")
+}
