@@ -58,14 +58,11 @@ func sectionOptionsFrom(p *params, sec store.Section) sectionOptions {
 		BgWidth:  p.int("bg_width", defaultRunningWidth, 3, 999),
 		ZMin:     paramFloatIn(p, "z_min", stats.DefaultModifiedZMin, 0.5, 50, "a modified z-score from 0.5 to 50"),
 		MinRun:   p.int("min_run", 2, 1, 50),
-		Penalty:  paramFloatIn(p, "penalty", 0, 0, 1e6, "a positive change-point penalty (empty for the default 2·ln n)"),
+		Penalty:  paramFloatIn(p, "penalty", 0, 1e-9, 1e6, "a positive change-point penalty up to 1e6 (empty for the default 2·ln n)"),
 		Model:    p.oneOf("model", []string{"mc", "linear"}, "mc"),
 		Draws:    p.int("draws", defaultSectionDraws, minSectionDraws, maxSectionDraws),
 		Seed:     paramSeed(p, "seed", defaultSectionSeed),
 		Level:    p.sigmaLevel(),
-	}
-	if p.str("penalty") != "" && o.Penalty == 0 {
-		p.problems = append(p.problems, "penalty: want a positive number (empty for the default 2·ln n), got \"0\"")
 	}
 	if o.TocMin == 0 && p.str("toc_min") == "" {
 		o.TocMin = stats.DefaultMinTocWtPct
@@ -409,6 +406,10 @@ func analyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 			return nil, fmt.Errorf("section analysis: %w", err)
 		}
 		for i := range a.Samples {
+			// A host below the threshold makes the ratio not evaluable whatever Hg is (also below detection).
+			if ratios[i].Status == stats.RatioMissing && host[i] > 0 && host[i] < a.HostMin {
+				ratios[i].Status = stats.RatioLowHost
+			}
 			a.Samples[i].Host = host[i]
 			a.Samples[i].Ratio = ratios[i]
 			if ratios[i].Status == stats.RatioLowHost {
