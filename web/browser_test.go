@@ -268,6 +268,17 @@ func TestBrowserSectionPages(t *testing.T) {
 	}
 	shoot(t, ctx, dir, "12-section-low-toc")
 	shootElem("#section-figure", "12a-figure-low-toc")
+	shootElem("#controls", "12b-controls")
+	shootElem(".cautions", "12c-cautions")
+	// The samples table around the first carbonate bed (the viewport, not the whole long table).
+	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#measurements td.noteval"))); err != nil {
+		t.Fatal(err)
+	}
+	if png, err := chromedp.Run(ctx, chromedp.CaptureScreenshot()); err != nil {
+		t.Fatal(err)
+	} else if err := os.WriteFile(filepath.Join(dir, "12d-samples.png"), png, 0o644); err != nil {
+		t.Fatal(err)
+	}
 
 	open(idURL("/sections", ids["Mornesk Cliffs"]), "#section-figure svg")
 	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "host-regression residual") {

@@ -412,6 +412,10 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 			{Label: a.Host.String(), Unit: "wt%", Num: true}, {Label: ratio, Unit: "ppb/wt% ± 1σ", Num: true}, {Label: "z", Unit: "log10 ratio", Num: true},
 			{Label: "z", Unit: "log10 Hg", Num: true}, {Label: d13cTitle(a.D13C), Unit: "‰ VPDB", Num: true}, {Label: "Host residual", Unit: "ppb", Num: true},
 			{Label: "Anomaly", Num: true}, {Label: "Model age", Unit: "Ma, median (95 %)", Num: true}}}
+	hdec := 0
+	for _, s := range a.Samples {
+		hdec = max(hdec, decimals(s.HeightM))
+	}
 	for _, s := range a.Samples {
 		hg := views.Cell{Text: fmtF(s.HgPpb, 1), Num: true}
 		if s.HgBelow {
@@ -442,7 +446,7 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 		if s.Dated {
 			age = ageRange(s.Age)
 		}
-		t.Rows = append(t.Rows, []views.Cell{{Text: s.Sample}, {Text: num(s.HeightM), Num: true}, hg, {Text: fmtF(s.Host, 3), Num: true}, rc,
+		t.Rows = append(t.Rows, []views.Cell{{Text: s.Sample}, {Text: fixed(s.HeightM, hdec), Num: true}, hg, {Text: fmtF(s.Host, 3), Num: true}, rc,
 			{Text: fmtF(s.RatioZ, 1), Num: true}, {Text: fmtF(s.RawZ, 1), Num: true}, {Text: fmtF(s.D13C, 2), Num: true}, res, {Text: an, Num: true}, {Text: age, Num: true}})
 	}
 	t.Notes = []string{fmt.Sprintf("“× not evaluable”: %s below the threshold; the sample stays, raw Hg stays usable. z: modified z of log10 values against the background. Ratio ± is 1σ, propagated from the Hg and host 1σ.", a.Host)}
