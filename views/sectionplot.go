@@ -252,6 +252,13 @@ func SectionSVG(f SectionFigure) string {
 		drawPanel(&b, p, x0, top, bottom, hLo, hHi, y, ticks, f)
 	}
 
+	// Anomaly numbers beside the last panel, as in the anomaly table.
+	lastRight := figLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap
+	for _, bd := range f.Bands {
+		mid := y((math.Max(bd.BaseM, hLo) + math.Min(bd.TopM, hHi)) / 2)
+		b.f(`<text x="%s" y="%s" font-weight="bold" fill="#1d2327">%s</text>`, ff(lastRight+4), ff(mid+4), esc(bd.Label))
+	}
+
 	// Legend and notes.
 	ly := bottom + 48
 	for k, it := range f.Legend {
