@@ -332,7 +332,19 @@ func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(flo
 		return
 	}
 	// x axis ticks below the panel.
-	xt, xdec := niceTicks(xLo, xHi, 5)
+	// As many ticks as fit without their labels touching (about 6.2 px per character at 11 px).
+	var xt []float64
+	var xdec int
+	for n := 5; n >= 2; n-- {
+		xt, xdec = niceTicks(xLo, xHi, n)
+		w := 0
+		for _, t := range xt {
+			w = max(w, len(tickLabel(t, xdec)))
+		}
+		if float64(len(xt))*(float64(w)*6.2+10) <= right-left {
+			break
+		}
+	}
 	for _, t := range xt {
 		if t < xLo || t > xHi {
 			continue
