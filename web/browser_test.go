@@ -257,7 +257,7 @@ func TestBrowserContributorAndCurator(t *testing.T) {
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".field-error"))); err != nil {
 		t.Fatal(err)
 	}
-	shoot(t, ctx, dir, "10-edit-with-error")
+	shoot(t, ctx, dir, "20-edit-with-error")
 	if got := text(t, ctx, ".field-error"); !strings.Contains(got, "greater than 0") {
 		t.Errorf("field error %q", got)
 	}
@@ -265,12 +265,15 @@ func TestBrowserContributorAndCurator(t *testing.T) {
 		chromedp.Click(chromedp.CSS(`form.edit button`))); err != nil {
 		t.Fatal(err)
 	}
-	if p := waitPath(t, ctx, fmt.Sprintf("/dates/%d", d.ID)); strings.HasSuffix(p, "/edit") {
-		if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".groups, .error"))); err != nil {
-			t.Fatal(err)
+	// The save answers with a redirect to the date's page; the refused form would stay on …/edit.
+	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(50 * time.Millisecond) {
+		loc, _ := chromedp.Run(ctx, chromedp.Location())
+		if strings.HasSuffix(loc, fmt.Sprintf("/dates/%d", d.ID)) {
+			break
 		}
-		if msg, _ := chromedp.Run(ctx, chromedp.Text(chromedp.CSS("main"))); strings.Contains(msg, "Nothing was saved") {
-			t.Fatalf("the corrected form was refused: %.400s", msg)
+		if time.Now().After(deadline) {
+			msg, _ := chromedp.Run(ctx, chromedp.Text(chromedp.CSS("main")))
+			t.Fatalf("the corrected form was not saved (at %s): %.400s", loc, msg)
 		}
 	}
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".groups"))); err != nil {
@@ -279,7 +282,7 @@ func TestBrowserContributorAndCurator(t *testing.T) {
 	if got := text(t, ctx, "main"); !strings.Contains(got, "pending review") {
 		t.Error("the contributor's edit is not shown as pending")
 	}
-	shoot(t, ctx, dir, "11-edited-pending")
+	shoot(t, ctx, dir, "21-edited-pending")
 
 	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(".account form.inline button")),
 		chromedp.WaitVisible(chromedp.CSS(`.account a[href="/login"]`))); err != nil {
@@ -290,13 +293,20 @@ func TestBrowserContributorAndCurator(t *testing.T) {
 		chromedp.Click(chromedp.CSS(`form.action input[value="accept"] ~ button`))); err != nil {
 		t.Fatal(err)
 	}
+	// The accept is a form POST answered by a redirect to the same page: wait for the stored state.
+	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(50 * time.Millisecond) {
+		got, _ := db.Date(context.Background(), d.ID)
+		if got.ReviewState == "accepted" {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("after the curator's accept: %q", got.ReviewState)
+		}
+	}
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(".groups"))); err != nil {
 		t.Fatal(err)
 	}
-	if got, _ := db.Date(context.Background(), d.ID); got.ReviewState != "accepted" {
-		t.Fatalf("after the curator's accept: %q", got.ReviewState)
-	}
-	shoot(t, ctx, dir, "12-accepted")
+	shoot(t, ctx, dir, "22-accepted")
 	if err := chromedp.Do(ctx, chromedp.Navigate(fmt.Sprintf("%s/dates/%d/history", srv.URL, d.ID))); err != nil {
 		t.Fatal(err)
 	}
@@ -306,18 +316,104 @@ func TestBrowserContributorAndCurator(t *testing.T) {
 			t.Errorf("history lacks %q", want)
 		}
 	}
-	shoot(t, ctx, dir, "13-history")
+	shoot(t, ctx, dir, "23-history")
 	// Restore the state before the contributor's edit (the second newest change).
 	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`.actions form.action:nth-of-type(2) button`))); err != nil {
 		t.Fatal(err)
 	}
+	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(50 * time.Millisecond) {
+		got, _ := db.Date(context.Background(), d.ID)
+		if got.Notes == d.Notes && got.SigmaMa == d.SigmaMa && got.ReviewState == d.ReviewState {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("after restoring: notes %q σ %v state %q, want %q %v %q", got.Notes, got.SigmaMa, got.ReviewState, d.Notes, d.SigmaMa, d.ReviewState)
+		}
+	}
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#diff"))); err != nil {
 		t.Fatal(err)
 	}
-	time.Sleep(200 * time.Millisecond)
-	got, _ := db.Date(context.Background(), d.ID)
-	if got.Notes != d.Notes || got.SigmaMa != d.SigmaMa || got.ReviewState != d.ReviewState {
-		t.Errorf("after restoring: notes %q σ %v state %q, want %q %v %q", got.Notes, got.SigmaMa, got.ReviewState, d.Notes, d.SigmaMa, d.ReviewState)
+	shoot(t, ctx, dir, "24-restored")
+}
+
+// A reader of the section pages, in a real headless Chromium: the clean section with its figure and
+// anomaly, the low-TOC section with its not-evaluable samples, the masked section, a changed threshold
+// through the form, and the aligned page. Screenshots of each are saved for review.
+func TestBrowserSectionPages(t *testing.T) {
+	ctx := newBrowser(t)
+	srv, db := mustServer(t)
+	dir := screenshotDir(t)
+	ids := map[string]int64{}
+	secs, err := db.Sections(context.Background())
+	if err != nil {
+		t.Fatal(err)
 	}
-	shoot(t, ctx, dir, "14-restored")
+	for _, s := range secs {
+		ids[s.Name] = s.ID
+	}
+	shootElem := func(sel, name string) {
+		t.Helper()
+		png, err := chromedp.Run(ctx, chromedp.Screenshot(chromedp.CSS(sel)))
+		if err != nil {
+			t.Fatalf("screenshot of %s: %v", sel, err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, name+".png"), png, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	open := func(path, wait string) {
+		t.Helper()
+		if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+path), chromedp.WaitVisible(chromedp.CSS(wait))); err != nil {
+			t.Fatalf("%s: %v", path, err)
+		}
+	}
+
+	open(idURL("/sections", ids["Vedholmen-1 Core"]), "#section-figure svg")
+	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "Hg and Hg/TOC rise together") {
+		t.Errorf("clean section's anomaly table %q does not read as a real anomaly", got)
+	}
+	if got := text(t, ctx, "#agemodel"); !strings.Contains(got, "Seed 1, 2000 draws") {
+		t.Errorf("age model block %q does not state seed and draws", got)
+	}
+	shoot(t, ctx, dir, "11-section-clean")
+	shootElem("#section-figure", "11a-figure-clean")
+	shootElem("#anomalies", "11b-anomalies-clean")
+
+	open(idURL("/sections", ids["Skarfell Creek"]), "#section-figure svg")
+	if got := text(t, ctx, "#measurements tbody"); !strings.Contains(got, "not evaluable") {
+		t.Error("low-TOC section shows no not-evaluable sample")
+	}
+	shoot(t, ctx, dir, "12-section-low-toc")
+	shootElem("#section-figure", "12a-figure-low-toc")
+	shootElem("#controls", "12b-controls")
+	shootElem(".cautions", "12c-cautions")
+	// The samples table around the first carbonate bed (the viewport, not the whole long table).
+	if err := chromedp.Do(ctx, chromedp.ScrollIntoView(chromedp.CSS("#measurements td.noteval"))); err != nil {
+		t.Fatal(err)
+	}
+	if png, err := chromedp.Run(ctx, chromedp.CaptureScreenshot()); err != nil {
+		t.Fatal(err)
+	} else if err := os.WriteFile(filepath.Join(dir, "12d-samples.png"), png, 0o644); err != nil {
+		t.Fatal(err)
+	}
+
+	open(idURL("/sections", ids["Mornesk Cliffs"]), "#section-figure svg")
+	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "host-regression residual") {
+		t.Errorf("masked section's anomaly %q is not read as a host-regression residual", got)
+	}
+	shoot(t, ctx, dir, "13-section-masked")
+	shootElem("#section-figure", "13a-figure-masked")
+	shootElem("#host", "13b-host-masked")
+
+	// The form keeps the threshold in the address.
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`input[name="toc_min"]`), "0.5"),
+		chromedp.Click(chromedp.CSS(`form.filters button`))); err != nil {
+		t.Fatal(err)
+	}
+	if p := waitPath(t, ctx, idURL("/sections", ids["Mornesk Cliffs"])+"?"); !strings.Contains(p, "toc_min=0.5") {
+		t.Errorf("address %q lacks the threshold", p)
+	}
+
+	open("/sections/aligned", "#aligned-figure svg")
+	shoot(t, ctx, dir, "14-sections-aligned")
 }

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"io"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -14,7 +13,13 @@ import (
 
 func (s *Server) registerSectionRoutes(r chi.Router) {
 	r.Get("/sections", s.handle(s.handleSectionList))
+	r.Get("/sections/aligned", s.handle(s.handleSectionsAligned))
+	r.Get("/sections/aligned/figure.svg", s.handle(s.handleSectionsAlignedFigure))
 	r.Get("/sections/{id}", s.handle(s.handleSectionShow))
+	r.Get("/sections/{id}/figure.svg", s.handle(s.handleSectionFigure))
+	r.Get("/sections/{id}/ratios", s.handle(s.handleSectionRatios))
+	r.Get("/sections/{id}/anomalies", s.handle(s.handleSectionAnomalies))
+	r.Get("/sections/{id}/agemodel", s.handle(s.handleSectionAgeModel))
 	r.Get("/sections/{id}/measurements", s.handle(s.handleSectionMeasurements))
 	r.Get("/sections/{id}/ties", s.handle(s.handleSectionTies))
 	r.Get("/sections/{id}/events", s.handle(s.handleSectionEvents))
@@ -189,62 +194,6 @@ func (s *Server) sectionAndFormat(r *http.Request) (store.Section, string, int, 
 	}
 	sec, err := s.store.Section(r.Context(), id)
 	return sec, format, level, err
-}
-
-func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error {
-	ctx := r.Context()
-	sec, format, level, err := s.sectionAndFormat(r)
-	if err != nil {
-		return err
-	}
-	ties, err := s.store.TiePoints(ctx, sec.ID)
-	if err != nil {
-		return err
-	}
-	events, err := s.store.Events(ctx, sec.ID)
-	if err != nil {
-		return err
-	}
-	switch format {
-	case "csv":
-		return writeDownload(w, fmt.Sprintf("section-%d.csv", sec.ID), func(w io.Writer) error { return store.WriteSectionsCSV(w, []store.Section{sec}) })
-	case "json":
-		writeJSON(w, http.StatusOK, map[string]any{"section": sec, "tie_points": ties, "events": events, "uncertainties": jsonSigmaNote})
-		return nil
-	}
-	samples, proxies, err := s.store.Samples(ctx, sec.ID)
-	if err != nil {
-		return err
-	}
-	known, err := s.store.Proxies(ctx)
-	if err != nil {
-		return err
-	}
-	v := views.Detail{Page: s.page(ctx, sec.Name, "Sections"), Intro: sec.Notes}
-	v.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}}
-	v.Page.Downloads = []views.Link{{Label: "CSV (section)", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}}
-	base := idURL("/sections", sec.ID)
-	v.Groups = []views.FieldGroup{{Title: "Section", Fields: []views.KV{
-		{Label: "Kind", Value: sec.Kind},
-		{Label: "Location", Value: coord(sec.Latitude, sec.Longitude)},
-		{Label: "Palaeolatitude", Value: optDeg(sec.Palaeolatitude)},
-		{Label: "Thermal maturity", Value: orDash(sec.ThermalMaturity)},
-		{Label: "Low-TOC threshold for Hg/TOC", Value: num(sec.TocThresholdWtPct) + " wt%"},
-		{Label: "Samples", Value: itoa(sec.NSamples) + " between " + heightRange(sec) + " m"},
-	}}}
-	v.Links = []views.Link{
-		{Label: "Measurements (CSV)", URL: base + "/measurements?format=csv"},
-		{Label: "Tie points (CSV)", URL: base + "/ties?format=csv"},
-		{Label: "Events (CSV)", URL: base + "/events?format=csv"},
-		{Label: fmt.Sprintf("Show tie ages at %dσ", 3-level), URL: withQuery(r, "sigma", strconv.Itoa(3-level))},
-	}
-	tt := tieTable(ties, level, false)
-	tt.Caption = "Tie points"
-	et := eventTable(events, false)
-	et.Caption = "Events"
-	v.Tables = []views.Table{tt, et, measurementTable(samples, proxies, known)}
-	s.render(w, r, http.StatusOK, views.DetailPage(v))
-	return nil
 }
 
 func optDeg(v *float64) string {

@@ -41,6 +41,7 @@ type Store interface {
 	Proxies(ctx context.Context) ([]store.Proxy, error)
 	TiePoints(ctx context.Context, sectionID int64) ([]store.TiePoint, error)
 	Events(ctx context.Context, sectionID int64) ([]store.Event, error)
+	Hiatuses(ctx context.Context, sectionID int64) ([]store.Hiatus, error)
 	LatestBatches(ctx context.Context, limit int) ([]store.Batch, error)
 	RevisionCount(ctx context.Context, recordType string, id int64) (int, error)
 	Setting(ctx context.Context, key string) (string, error)

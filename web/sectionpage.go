@@ -1,0 +1,718 @@
+package web
+
+import (
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"net/http"
+	"strconv"
+	"strings"
+
+	"coeval/stats"
+	"coeval/store"
+	"coeval/views"
+)
+
+// The section page with its analysis, and the downloads of that analysis: the figure as SVG, and the
+// samples with ratios and flags, the anomalies and the model ages as CSV or JSON. Every download takes the
+// same URL parameters as the page, so it reproduces what the page shows.
+
+// sectionAnalysisFor reads the route, the options and the format, and runs the analysis.
+func (s *Server) sectionAnalysisFor(r *http.Request) (*sectionAnalysis, string, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return nil, "", err
+	}
+	sec, err := s.store.Section(r.Context(), id)
+	if err != nil {
+		return nil, "", err
+	}
+	p := newParams(r)
+	format := p.format()
+	o := sectionOptionsFrom(p, sec)
+	if err := p.err(); err != nil {
+		return nil, "", err
+	}
+	a, err := s.loadSectionAnalysis(r.Context(), sec, o)
+	return a, format, err
+}
+
+// withPath returns path with the request's query, and the given parameters set ("" deletes one).
+func withPath(r *http.Request, path string, kv ...string) string {
+	u := withQuery(r, kv...)
+	if i := strings.IndexByte(u, '?'); i >= 0 {
+		return path + u[i:]
+	}
+	return path
+}
+
+// fmtF formats v with d decimals, "—" for NaN.
+func fmtF(v float64, d int) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "—"
+	}
+	return strconv.FormatFloat(v, 'f', d, 64)
+}
+
+// csvF formats v exactly for a download, empty for NaN.
+func csvF(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(v, 'f', -1, 64)
+}
+
+// ageRange writes a median age and its 95 % interval with two significant figures of the half-width.
+func ageRange(s stats.DrawSummary) string {
+	if math.IsNaN(s.Median) {
+		return "—"
+	}
+	d := sigmaDecimals((s.Hi95 - s.Lo95) / 2)
+	return fmt.Sprintf("%s (%s–%s)", fixed(s.Median, d), fixed(s.Lo95, d), fixed(s.Hi95, d))
+}
+
+// ratioStatusCode is the machine-readable status of a ratio in downloads.
+func ratioStatusCode(st stats.RatioStatus) string {
+	switch st {
+	case stats.RatioOK:
+		return "ok"
+	case stats.RatioLowHost:
+		return "not_evaluable_low_host"
+	}
+	return "missing"
+}
+
+func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error {
+	a, format, err := s.sectionAnalysisFor(r)
+	if err != nil {
+		return err
+	}
+	sec := a.Sec
+	switch format {
+	case "csv":
+		return writeDownload(w, fmt.Sprintf("section-%d.csv", sec.ID), func(w io.Writer) error { return store.WriteSectionsCSV(w, []store.Section{sec}) })
+	case "json":
+		writeJSON(w, http.StatusOK, map[string]any{"section": sec, "tie_points": a.Ties, "events": a.Events, "hiatuses": a.Hiatuses,
+			"settings": a.settingsJSON(), "host": a.hostJSON(), "anomalies": a.anomaliesJSON(), "segments": a.segmentsJSON(),
+			"age_model": a.modelJSON(), "uncertainties": jsonSigmaNote})
+		return nil
+	}
+	ctx := r.Context()
+	base := idURL("/sections", sec.ID)
+	v := views.SectionView{Page: s.page(ctx, sec.Name, "Sections"), Intro: sec.Notes}
+	v.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}}
+	v.Page.Downloads = []views.Link{{Label: "CSV (section)", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}}
+	v.Groups = []views.FieldGroup{{Title: "Section", Fields: []views.KV{
+		{Label: "Kind", Value: sec.Kind},
+		{Label: "Location", Value: coord(sec.Latitude, sec.Longitude)},
+		{Label: "Palaeolatitude", Value: optDeg(sec.Palaeolatitude)},
+		{Label: "Thermal maturity", Value: orDash(sec.ThermalMaturity), Class: cautionIf(len(a.OtherMatur) > 0)},
+		{Label: "Low-TOC threshold for Hg/TOC", Value: num(sec.TocThresholdWtPct) + " wt% (stored); " + num(a.Opt.TocMin) + " wt% in use"},
+		{Label: "Samples", Value: itoa(sec.NSamples) + " between " + heightRange(sec) + " m"},
+	}}}
+	v.Controls = sectionControls(r, a)
+	v.Cautions = a.cautions()
+	v.FigureSVG = views.SectionSVG(sectionFigure(a))
+	v.FigureCaption = "Height up, as the section is logged. Shaded: detected anomalies (numbered as in the table). " +
+		"Crosses in the ratio panel's left strip: samples whose ratio is not evaluable (kept, not dropped). Triangles on each panel's left edge: tie points."
+	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")}}
+	v.Blocks = []views.Block{a.hostBlock(), a.anomalyBlock(r, base), a.segmentBlock(), a.modelBlock(r, base)}
+	tt := tieTable(a.Ties, a.Opt.Level, false)
+	tt.Caption = "Tie points"
+	et := eventTable(a.Events, false)
+	et.Caption = "Events (entered or imported)"
+	st := a.sampleTable()
+	v.Blocks = append(v.Blocks, views.Block{ID: "records", Title: "Tie points, events and samples", Tables: []views.Table{tt, et, st},
+		Links: []views.Link{
+			{Label: "Samples with ratios and flags (CSV)", URL: withPath(r, base+"/ratios", "format", "csv")},
+			{Label: "(JSON)", URL: withPath(r, base+"/ratios", "format", "json")},
+			{Label: "Measurements as stored (CSV)", URL: base + "/measurements?format=csv"},
+			{Label: "Tie points (CSV)", URL: base + "/ties?format=csv"},
+			{Label: "Events (CSV)", URL: base + "/events?format=csv"},
+			{Label: fmt.Sprintf("Show tie ages at %dσ", 3-a.Opt.Level), URL: withQuery(r, "sigma", strconv.Itoa(3-a.Opt.Level))},
+		}})
+	s.render(w, r, http.StatusOK, views.SectionPage(v))
+	return nil
+}
+
+func cautionIf(b bool) string {
+	if b {
+		return "caution"
+	}
+	return ""
+}
+
+// sectionControls is the form of the analysis choices; every field is a URL parameter.
+func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
+	o := a.Opt
+	opt := func(v, label, cur string) views.Option {
+		return views.Option{Value: v, Label: label, Selected: v == cur}
+	}
+	hosts := []views.Option{opt("auto", "suggested ("+a.suggestedLabel()+")", o.Host)}
+	for _, h := range []string{"toc", "ts", "al"} {
+		if a.Has[h] {
+			hosts = append(hosts, opt(h, "Hg/"+strings.ToUpper(h[:1])+h[1:], o.Host))
+		}
+	}
+	for i := range hosts[1:] {
+		hosts[i+1].Label = map[string]string{"toc": "Hg/TOC", "ts": "Hg/TS", "al": "Hg/Al"}[hosts[i+1].Value]
+	}
+	penalty := ""
+	if o.Penalty > 0 {
+		penalty = num(o.Penalty)
+	}
+	q := r.URL.Query()
+	return views.Form{Action: r.URL.Path, Reset: r.URL.Path, Fields: []views.Field{
+		{Name: "host", Label: "Host phase", Kind: "select", Options: hosts},
+		{Name: "toc_min", Label: "Low-TOC threshold (wt%)", Kind: "number", Value: num(o.TocMin), Step: "0.01"},
+		{Name: "baseline", Label: "Baseline", Kind: "select", Options: []views.Option{
+			opt("section", "whole section (robust)", o.Baseline), opt("window", "background window", o.Baseline), opt("running", "running median", o.Baseline)}},
+		{Name: "bg_base", Label: "Window base (m)", Kind: "number", Value: q.Get("bg_base"), Step: "any", Placeholder: "window only"},
+		{Name: "bg_top", Label: "Window top (m)", Kind: "number", Value: q.Get("bg_top"), Step: "any", Placeholder: "window only"},
+		{Name: "bg_width", Label: "Running width (samples)", Kind: "number", Value: itoa(o.BgWidth), Step: "2"},
+		{Name: "z_min", Label: "Modified z above", Kind: "number", Value: num(o.ZMin), Step: "0.1"},
+		{Name: "penalty", Label: "Change-point penalty", Kind: "number", Value: penalty, Step: "any", Placeholder: fmtF(a.SegmentPenalty, 1) + " (2·ln n)"},
+		{Name: "model", Label: "Age model", Kind: "select", Options: []views.Option{
+			opt("mc", "Monte Carlo (Beta bridge)", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
+		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
+		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
+	}}
+}
+
+func (a *sectionAnalysis) suggestedLabel() string {
+	if a.Suggestion.OK {
+		return "Hg/" + a.Suggestion.Host.String()
+	}
+	return "none qualifies: Hg/" + a.Host.String()
+}
+
+// cautions lists what a reader must know before using the numbers.
+func (a *sectionAnalysis) cautions() []string {
+	var out []string
+	if a.NLowHost > 0 {
+		out = append(out, fmt.Sprintf("%d of %d samples have %s below %s wt%%: their %s is not evaluable (the %s error dominates and a %s low makes a false spike). They are kept in every table and marked ×; raw Hg stays usable.",
+			a.NLowHost, len(a.Samples), a.Host, num(a.HostMin), ratioName(a.Host), a.Host, a.Host))
+	}
+	if len(a.OtherMatur) > 0 {
+		out = append(out, fmt.Sprintf("Thermal maturity: this section is %s; other sections are %s. Maturation changes organic carbon and inflates Hg/TOC, so compare ratios between sections of different maturity with care.",
+			orDash(a.Sec.ThermalMaturity), strings.Join(a.OtherMatur, "; ")))
+	}
+	for _, an := range a.Anomalies {
+		if an.Caution {
+			out = append(out, fmt.Sprintf("Anomaly %d (%s–%s m): %s.", an.Number, num(an.A.BaseHeightM), num(an.A.TopHeightM), an.Verdict))
+		}
+	}
+	if a.Opt.Model == "linear" {
+		out = append(out, "The naive linear age model ignores how irregular deposition is and treats tie errors as independent: its 95 % intervals cover the true age far less often than 95 % in simulation. Use it only for comparison with the Monte Carlo model (model=mc).")
+	}
+	if a.ModelNote != "" {
+		out = append(out, a.ModelNote)
+	}
+	if a.Model != nil && a.Model.NUndated > 0 {
+		out = append(out, fmt.Sprintf("%d samples lie outside the tie range (%s–%s m) and get no model age: the model does not extrapolate.",
+			a.Model.NUndated, num(a.Model.LowM), num(a.Model.TopM)))
+	}
+	return out
+}
+
+func (a *sectionAnalysis) hostBlock() views.Block {
+	b := views.Block{ID: "host", Title: "Host phase of mercury"}
+	if a.Suggestion.OK {
+		b.Paras = append(b.Paras, fmt.Sprintf("Suggested host: %s. Why: %s. A suggestion to confirm, not a decision.", a.Suggestion.Host, a.Suggestion.Reason))
+	} else {
+		b.Paras = append(b.Paras, "No host suggested: "+a.Suggestion.Reason+".")
+	}
+	b.Paras = append(b.Paras, fmt.Sprintf("In use: Hg/%s (%s). Low-host rule: below %s wt%% %s the ratio is not evaluable; %d samples are below it.",
+		a.Host, a.HostChosen, num(a.HostMin), a.Host, a.NLowHost))
+	if a.Background != nil {
+		bg := a.Background
+		b.Paras = append(b.Paras, fmt.Sprintf("High-host masking check: background regression Hg = %s + %s·%s (ppb, %s in wt%%) over %d samples outside the anomalies; σ̂ of residuals = %s ppb (1.4826·MAD). %d samples hold more Hg than it predicts by over %g σ̂ (ringed in the figure).",
+			fmtF(bg.InterceptPpb, 1), fmtF(bg.SlopePpbPerWt, 2), a.Host, a.Host, bg.N, fmtF(bg.SigmaHatPpb, 2), countExcess(a), bg.K))
+	} else {
+		b.Paras = append(b.Paras, a.BackgroundNote)
+	}
+	t := views.Table{ID: "host-correlations", Caption: "Correlation of Hg with each measured host", Columns: []views.Column{
+		{Label: "Host"}, {Label: "Pearson r", Num: true}, {Label: "Paired samples", Num: true}, {Label: "Ratio"}}}
+	for _, c := range a.Suggestion.Correlations {
+		t.Rows = append(t.Rows, []views.Cell{{Text: c.Host.String()}, {Text: fmtF(c.R, 2), Num: true}, {Text: itoa(c.N), Num: true}, {Text: ratioName(c.Host) + " (ppb/wt%)"}})
+	}
+	t.Empty = "No host phase (TOC, TS, Al) was measured."
+	t.Notes = []string{fmt.Sprintf("The strongest positive correlation over at least %d samples suggests the host (Shen et al. 2020, EPSL 543:116333).", stats.MinHostPairs)}
+	b.Tables = []views.Table{t}
+	return b
+}
+
+func countExcess(a *sectionAnalysis) int {
+	k := 0
+	for _, r := range a.Samples {
+		if r.Excess {
+			k++
+		}
+	}
+	return k
+}
+
+// baselineSentence describes how the baseline was set.
+func (a *sectionAnalysis) baselineSentence() string {
+	switch a.Opt.Baseline {
+	case "window":
+		return fmt.Sprintf("background window %s–%s m", num(a.Opt.BgBaseM), num(a.Opt.BgTopM))
+	case "running":
+		return fmt.Sprintf("running median over %d samples (values divided by it)", a.Opt.BgWidth)
+	}
+	return "median and MAD of the whole section (robust to the excursion)"
+}
+
+func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block {
+	b := views.Block{ID: "anomalies", Title: "Anomalies"}
+	desc := func(name string, res *stats.AnomalyResult, note string) string {
+		if res == nil {
+			return name + ": not analysed (" + note + ")."
+		}
+		bm := math.Pow(10, res.BackgroundMedian)
+		unit := " ppb/wt%"
+		if name == "Hg" {
+			unit = " ppb"
+		}
+		if a.Opt.Baseline == "running" {
+			unit = " × running median"
+		}
+		return fmt.Sprintf("%s: background median %s%s over %d samples, σ̂ = %s log10 units (1.4826·MAD); flagged above %s%s.",
+			name, fmtF(bm, 2), unit, res.NBackground, fmtF(res.SigmaHat, 3), fmtF(math.Pow(10, res.Threshold), 2), unit)
+	}
+	b.Paras = []string{
+		fmt.Sprintf("On log10 values with a robust baseline (%s): modified z = 0.6745·(x − median)/MAD above %s in at least %d consecutive samples. Run on %s and on raw Hg; a raw-Hg run that the ratio misses is reported too.",
+			a.baselineSentence(), num(a.Opt.ZMin), a.Opt.MinRun, ratioName(a.Host)),
+		desc(ratioName(a.Host), a.RatioRes, a.RatioNote),
+		desc("Hg", a.RawRes, a.RawNote),
+		"Origin: detected. Turning an anomaly into an event, or rejecting it with a reason, needs curator accounts, which come in a later issue.",
+	}
+	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
+	t := views.Table{ID: "anomaly-table", Caption: "Detected anomalies", Empty: "No anomaly: no run of samples stands above the threshold.", Columns: []views.Column{
+		{Label: "No.", Num: true}, {Label: "Origin"}, {Label: "Series"}, {Label: "Base", Unit: "m", Num: true}, {Label: "Top", Unit: "m", Num: true},
+		{Label: "Peak", Unit: "value at height", Num: true}, {Label: "× background", Unit: "median", Num: true}, {Label: "Robust z", Unit: "log10, peak", Num: true},
+		{Label: "n", Unit: "samples", Num: true}, {Label: "Raw Hg", Unit: "× background"}, {Label: "Host residual", Unit: "samples"}, {Label: "Host"}, {Label: "Reading"},
+		{Label: "Model age", Unit: "Ma, median (95 %)", Num: true}}}
+	for _, an := range a.Anomalies {
+		raw := "rises (×" + fmtF(an.RawMult, 2) + ")"
+		if !an.RawRises {
+			raw = "does not rise (×" + fmtF(an.RawMult, 2) + ")"
+		}
+		age := "—"
+		if an.Age != nil {
+			age = ageRange(an.Age.Age)
+		}
+		reading := views.Cell{Text: an.Verdict}
+		if an.Caution {
+			reading.Class = "caution"
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: itoa(an.Number), Num: true}, {Text: "detected"}, {Text: an.Series},
+			{Text: num(an.A.BaseHeightM), Num: true}, {Text: num(an.A.TopHeightM), Num: true},
+			{Text: fmtF(an.A.PeakValue, 1) + " " + an.Unit + " at " + num(an.A.PeakHeightM) + " m", Num: true},
+			{Text: fmtF(an.A.MultipleOfBackground, 2), Num: true}, {Text: fmtF(an.A.RobustZ, 1), Num: true}, {Text: itoa(an.A.N), Num: true},
+			{Text: raw}, {Text: fmt.Sprintf("%d of %d", an.NExcess, an.A.N)}, {Text: an.Host}, reading, {Text: age, Num: true}})
+	}
+	b.Tables = []views.Table{t}
+	return b
+}
+
+func (a *sectionAnalysis) segmentBlock() views.Block {
+	b := views.Block{ID: "changepoints", Title: "Change points"}
+	pen := "the default 2·ln n"
+	if a.Opt.Penalty > 0 {
+		pen = "set in the address"
+	}
+	b.Paras = []string{fmt.Sprintf("Segments of constant mean of log10 values by penalised change-point segmentation (PELT, exact as optimal partitioning), samples with a value only, cost scaled by a robust noise σ. Penalty per segment: %s (%s); raise penalty= for fewer segments.",
+		fmtF(a.SegmentPenalty, 2), pen)}
+	if a.SegmentNote != "" {
+		b.Paras = append(b.Paras, a.SegmentNote)
+	}
+	t := views.Table{ID: "segments", Caption: "Segments", Empty: "No series to segment.", Columns: []views.Column{{Label: "Series"}, {Label: "Base", Unit: "m", Num: true},
+		{Label: "Top", Unit: "m", Num: true}, {Label: "Samples", Num: true}, {Label: "Mean", Unit: "× background median", Num: true}}}
+	for _, s := range a.Segments {
+		c := views.Cell{Text: fmtF(s.MultipleOfMedian, 2), Num: true}
+		if s.MultipleOfMedian >= 2 {
+			c.Class = "pending"
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: s.Series}, {Text: num(s.BaseM), Num: true}, {Text: num(s.TopM), Num: true}, {Text: itoa(s.N), Num: true}, c})
+	}
+	b.Tables = []views.Table{t}
+	return b
+}
+
+func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
+	b := views.Block{ID: "agemodel", Title: "Age–height model"}
+	b.Links = []views.Link{{Label: "Model ages (CSV)", URL: withPath(r, base+"/agemodel", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/agemodel", "format", "json")},
+		{Label: "Model ages page", URL: withPath(r, base+"/agemodel", "format", "")}}
+	m := a.Model
+	if m == nil {
+		b.Paras = []string{a.ModelNote}
+		return b
+	}
+	b.Paras = a.modelParas()
+	rt := views.Table{ID: "rates", Caption: "Accumulation rate between tie points", Columns: []views.Column{{Label: "From"}, {Label: "To"},
+		{Label: "Heights", Unit: "m", Num: true}, {Label: "Rate", Unit: "m/Ma, median (95 %)", Num: true}}}
+	for _, rr := range m.Rates {
+		rate := fmtF(rr.Rate.Median, 1)
+		if !math.IsNaN(rr.Rate.Lo95) {
+			rate += " (" + fmtF(rr.Rate.Lo95, 1) + "–" + fmtF(rr.Rate.Hi95, 1) + ")"
+		} else {
+			rate += " (no interval: naive model)"
+		}
+		rt.Rows = append(rt.Rows, []views.Cell{{Text: rr.From}, {Text: rr.To}, {Text: num(rr.LowM) + "–" + num(rr.HighM), Num: true}, {Text: rate, Num: true}})
+	}
+	et := views.Table{ID: "event-ages", Caption: "Ages of events and detected anomalies (height or interval pushed through the draws)", Empty: "No event.",
+		Columns: []views.Column{{Label: "Event"}, {Label: "Kind"}, {Label: "Origin"}, {Label: "Heights", Unit: "m", Num: true},
+			{Label: "Age", Unit: "Ma, median (95 %)", Num: true}, {Label: "Note"}}}
+	for _, e := range a.EventAges {
+		hs := num(e.BaseM)
+		if e.TopM > e.BaseM {
+			hs += "–" + num(e.TopM)
+		}
+		note := e.Note
+		if note == "" && e.TopM > e.BaseM {
+			note = fmt.Sprintf("uniform within the interval in each draw (seed %d)", e.Seed)
+		}
+		et.Rows = append(et.Rows, []views.Cell{{Text: e.Name}, {Text: e.Kind}, {Text: e.Origin}, {Text: hs, Num: true}, {Text: ageRange(e.Age), Num: true}, {Text: orDash(note)}})
+	}
+	b.Tables = []views.Table{rt, et}
+	return b
+}
+
+// modelParas states the model and every choice behind it.
+func (a *sectionAnalysis) modelParas() []string {
+	m := a.Model
+	ties := fmt.Sprintf("%d tie points between %s and %s m (normal ages drawn from N(age, σ); biostratigraphic and other ranges uniform)", len(m.Ties), num(m.LowM), num(m.TopM))
+	hi := "no hiatus"
+	if len(m.Hiatuses) > 0 {
+		hi = fmt.Sprintf("%d hiatuses with minimum durations", len(m.Hiatuses))
+	}
+	if m.MC != nil {
+		return []string{
+			fmt.Sprintf("Model: Monte Carlo with superposition. Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
+			fmt.Sprintf("Tie sampler: %s; acceptance %.1f %% of %d attempts (whole draws out of stratigraphic order are rejected, never sorted; below %g %% acceptance a Gibbs sampler of truncated tie ages takes over).",
+				m.MC.Sampler, 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
+			fmt.Sprintf("Between ties: Beta bridges of a Poisson deposition model, rigidity k (deposition events per m) drawn per draw from a log-uniform prior on %g–%g per m, so the intervals average over how regular deposition was instead of trusting one k.",
+				float64(stats.DefaultRigidityMinPerM), float64(stats.DefaultRigidityMaxPerM)),
+			"Ages: median and 95 % interval (2.5 and 97.5 percentiles of the draws) at every sample in the tie range. The same seed and draws give the same numbers.",
+		}
+	}
+	return []string{
+		fmt.Sprintf("Model: NAIVE linear interpolation between tie means, from %s; hiatuses ignored. Tie errors are propagated as if independent; interval = mean ± 1.96σ.", ties),
+		"Caution: this model under-covers — in simulation its 95 % intervals hold the true age far less often than 95 %. It is offered only as a labelled comparison; use model=mc.",
+	}
+}
+
+// sampleTable lists every sample with its ratio, status, flags and model age; none is dropped.
+func (a *sectionAnalysis) sampleTable() views.Table {
+	ratio := ratioName(a.Host)
+	t := views.Table{ID: "measurements", Caption: fmt.Sprintf("Samples (%d), lowest first, with %s, flags and model ages", len(a.Samples), ratio),
+		Columns: []views.Column{{Label: "Sample"}, {Label: "Height", Unit: "m", Num: true}, {Label: "Hg", Unit: "ppb", Num: true},
+			{Label: a.Host.String(), Unit: "wt%", Num: true}, {Label: ratio, Unit: "ppb/wt% ± 1σ", Num: true}, {Label: "z", Unit: "log10 ratio", Num: true},
+			{Label: "z", Unit: "log10 Hg", Num: true}, {Label: d13cTitle(a.D13C), Unit: "‰ VPDB", Num: true}, {Label: "Host residual", Unit: "ppb", Num: true},
+			{Label: "Anomaly", Num: true}, {Label: "Model age", Unit: "Ma, median (95 %)", Num: true}}}
+	hdec := 0
+	for _, s := range a.Samples {
+		hdec = max(hdec, decimals(s.HeightM))
+	}
+	for _, s := range a.Samples {
+		hg := views.Cell{Text: fmtF(s.HgPpb, 1), Num: true}
+		if s.HgBelow {
+			hg = views.Cell{Text: "<DL", Num: true, Class: "muted", Title: "below the detection limit"}
+			if s.HgDL != nil {
+				hg.Text = "<" + num(*s.HgDL)
+			}
+		}
+		rc := views.Cell{Num: true}
+		switch s.Ratio.Status {
+		case stats.RatioOK:
+			rc.Text = fmtF(s.Ratio.Value, 1) + " ± " + fmtF(s.Ratio.Sigma, 1)
+		case stats.RatioLowHost:
+			rc.Text, rc.Class = "× "+notEvaluableLabel, "noteval"
+			rc.Title = fmt.Sprintf("%s below %s wt%%: relative 1σ of the ratio would be %s %%", a.Host, num(a.HostMin), fmtF(100*s.Ratio.RelSigma, 0))
+		default:
+			rc.Text, rc.Class = "—", "muted"
+		}
+		res := views.Cell{Text: fmtF(s.ResidualPpb, 1), Num: true}
+		if s.Excess {
+			res.Class, res.Title = "caution", "more Hg than the background regression on the host predicts"
+		}
+		an := ""
+		if s.Anomaly > 0 {
+			an = "A" + itoa(s.Anomaly)
+		}
+		age := "—"
+		if s.Dated {
+			age = ageRange(s.Age)
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: s.Sample}, {Text: fixed(s.HeightM, hdec), Num: true}, hg, {Text: fmtF(s.Host, 3), Num: true}, rc,
+			{Text: fmtF(s.RatioZ, 1), Num: true}, {Text: fmtF(s.RawZ, 1), Num: true}, {Text: fmtF(s.D13C, 2), Num: true}, res, {Text: an, Num: true}, {Text: age, Num: true}})
+	}
+	t.Notes = []string{fmt.Sprintf("“× not evaluable”: %s below the threshold; the sample stays, raw Hg stays usable. z: modified z of log10 values against the background. Ratio ± is 1σ, propagated from the Hg and host 1σ.", a.Host)}
+	return t
+}
+
+// Downloads.
+
+func (a *sectionAnalysis) settingsJSON() map[string]any {
+	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMin,
+		"host_min_wt_pct": a.HostMin, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
+		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed}
+	switch a.Opt.Baseline {
+	case "window":
+		s["bg_base_m"], s["bg_top_m"] = a.Opt.BgBaseM, a.Opt.BgTopM
+	case "running":
+		s["bg_width_samples"] = a.Opt.BgWidth
+	}
+	return s
+}
+
+func jf(v float64) any {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return v
+}
+
+func (a *sectionAnalysis) hostJSON() map[string]any {
+	var cs []map[string]any
+	for _, c := range a.Suggestion.Correlations {
+		cs = append(cs, map[string]any{"host": c.Host.String(), "pearson_r": jf(c.R), "n": c.N})
+	}
+	out := map[string]any{"suggested": nil, "reason": a.Suggestion.Reason, "correlations": cs, "in_use": a.Host.String(),
+		"n_not_evaluable": a.NLowHost}
+	if a.Suggestion.OK {
+		out["suggested"] = a.Suggestion.Host.String()
+	}
+	if bg := a.Background; bg != nil {
+		out["background_regression"] = map[string]any{"intercept_ppb": bg.InterceptPpb, "slope_ppb_per_wt_pct": bg.SlopePpbPerWt,
+			"sigma_hat_ppb": bg.SigmaHatPpb, "k": bg.K, "n_background": bg.N, "n_excess": countExcess(a)}
+	}
+	return out
+}
+
+var anomalyColumns = []string{"anomaly", "origin", "series", "host", "base_height_m", "top_height_m", "peak_height_m", "peak_value",
+	"peak_unit", "multiple_of_background_median", "robust_z_log10", "n_samples", "raw_hg_rises", "raw_hg_multiple_of_background_median",
+	"raw_hg_share_of_ratio_rise", "host_residual_samples", "caution", "reading", "age_model", "seed", "draws", "age_median_ma",
+	"age_lo95_ma", "age_hi95_ma"}
+
+func (a *sectionAnalysis) anomalyRecords() [][]string {
+	var out [][]string
+	for _, an := range a.Anomalies {
+		age := stats.DrawSummary{Median: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN()}
+		if an.Age != nil {
+			age = an.Age.Age
+		}
+		out = append(out, []string{itoa(an.Number), "detected", an.Series, an.Host, csvF(an.A.BaseHeightM), csvF(an.A.TopHeightM),
+			csvF(an.A.PeakHeightM), csvF(an.A.PeakValue), an.Unit, csvF(an.A.MultipleOfBackground), csvF(an.A.RobustZ), itoa(an.A.N),
+			strconv.FormatBool(an.RawRises), csvF(an.RawMult), csvF(an.RawShare), itoa(an.NExcess), strconv.FormatBool(an.Caution), an.Verdict,
+			a.modelCode(), strconv.FormatUint(a.Opt.Seed, 10), itoa(a.Opt.Draws), csvF(age.Median), csvF(age.Lo95), csvF(age.Hi95)})
+	}
+	return out
+}
+
+func (a *sectionAnalysis) modelCode() string {
+	if a.Model == nil {
+		return "none"
+	}
+	if a.Opt.Model == "linear" {
+		return "naive_linear"
+	}
+	return "monte_carlo"
+}
+
+func recordsJSON(cols []string, recs [][]string) []map[string]string {
+	out := make([]map[string]string, len(recs))
+	for i, r := range recs {
+		m := make(map[string]string, len(cols))
+		for j, c := range cols {
+			m[c] = r[j]
+		}
+		out[i] = m
+	}
+	return out
+}
+
+func (a *sectionAnalysis) anomaliesJSON() []map[string]string {
+	return recordsJSON(anomalyColumns, a.anomalyRecords())
+}
+
+func (a *sectionAnalysis) segmentsJSON() []map[string]any {
+	var out []map[string]any
+	for _, s := range a.Segments {
+		out = append(out, map[string]any{"series": s.Series, "base_height_m": s.BaseM, "top_height_m": s.TopM, "n_samples": s.N,
+			"mean_multiple_of_background_median": jf(s.MultipleOfMedian)})
+	}
+	return out
+}
+
+func (a *sectionAnalysis) modelJSON() map[string]any {
+	if a.Model == nil {
+		return map[string]any{"model": "none", "note": a.ModelNote}
+	}
+	m := a.Model
+	out := map[string]any{"model": a.modelCode(), "seed": a.Opt.Seed, "draws": a.Opt.Draws, "tie_range_m": []float64{m.LowM, m.TopM},
+		"statement": a.modelParas()}
+	if m.MC != nil {
+		out["sampler"] = m.MC.Sampler.String()
+		out["acceptance"] = m.MC.Acceptance
+		out["rigidity_prior_per_m"] = []float64{stats.DefaultRigidityMinPerM, stats.DefaultRigidityMaxPerM}
+	}
+	var rates []map[string]any
+	for _, r := range m.Rates {
+		rates = append(rates, map[string]any{"from": r.From, "to": r.To, "low_height_m": r.LowM, "high_height_m": r.HighM,
+			"rate_median_m_per_ma": jf(r.Rate.Median), "rate_lo95_m_per_ma": jf(r.Rate.Lo95), "rate_hi95_m_per_ma": jf(r.Rate.Hi95)})
+	}
+	out["accumulation_rates"] = rates
+	var evs []map[string]any
+	for _, e := range a.EventAges {
+		evs = append(evs, map[string]any{"name": e.Name, "kind": e.Kind, "origin": e.Origin, "base_height_m": e.BaseM, "top_height_m": e.TopM,
+			"age_median_ma": jf(e.Age.Median), "age_lo95_ma": jf(e.Age.Lo95), "age_hi95_ma": jf(e.Age.Hi95), "note": e.Note})
+	}
+	out["event_ages"] = evs
+	return out
+}
+
+var ageModelColumns = []string{"sample", "height_m", "age_model", "seed", "draws", "age_median_ma", "age_lo95_ma", "age_hi95_ma"}
+
+func (a *sectionAnalysis) ageModelRecords() [][]string {
+	var out [][]string
+	for _, s := range a.Samples {
+		med, lo, hi := "", "", ""
+		if s.Dated {
+			med, lo, hi = csvF(s.Age.Median), csvF(s.Age.Lo95), csvF(s.Age.Hi95)
+		}
+		out = append(out, []string{s.Sample, csvF(s.HeightM), a.modelCode(), strconv.FormatUint(a.Opt.Seed, 10), itoa(a.Opt.Draws), med, lo, hi})
+	}
+	return out
+}
+
+// ratioColumns are the columns of the samples-with-ratios download.
+func (a *sectionAnalysis) ratioColumns() []string {
+	d := "d13c_org_permil"
+	if a.D13C == "d13c_carb" {
+		d = "d13c_carb_permil"
+	}
+	return []string{"sample", "height_m", "hg_ppb", "hg_sigma_ppb_1s", "hg_below_detection", "hg_detection_limit_ppb", "toc_wt_pct", "ts_wt_pct",
+		"al_wt_pct", d, "host", "host_min_wt_pct", "ratio_ppb_per_wt_pct", "ratio_sigma_ppb_per_wt_pct_1s", "ratio_status",
+		"ratio_robust_z_log10", "hg_robust_z_log10", "ratio_in_run", "hg_in_run", "host_residual_ppb", "host_residual_excess", "anomaly"}
+}
+
+func (a *sectionAnalysis) ratioRecords() [][]string {
+	var out [][]string
+	for _, s := range a.Samples {
+		dl := ""
+		if s.HgDL != nil {
+			dl = csvF(*s.HgDL)
+		}
+		an := ""
+		if s.Anomaly > 0 {
+			an = itoa(s.Anomaly)
+		}
+		out = append(out, []string{s.Sample, csvF(s.HeightM), csvF(s.HgPpb), csvF(s.HgSigma), strconv.FormatBool(s.HgBelow), dl,
+			csvF(s.Toc), csvF(s.Ts), csvF(s.Al), csvF(s.D13C), a.Host.String(), csvF(a.HostMin), csvF(s.Ratio.Value), csvF(s.Ratio.Sigma),
+			ratioStatusCode(s.Ratio.Status), csvF(s.RatioZ), csvF(s.RawZ), strconv.FormatBool(s.RatioFlag), strconv.FormatBool(s.RawFlag),
+			csvF(s.ResidualPpb), strconv.FormatBool(s.Excess), an})
+	}
+	return out
+}
+
+func writeRecords(w io.Writer, cols []string, recs [][]string) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(cols); err != nil {
+		return err
+	}
+	if err := cw.WriteAll(recs); err != nil {
+		return err
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// analysisJSON is the envelope of the analysis downloads: the settings that produced the items.
+type analysisJSON struct {
+	Kind          string         `json:"kind"`
+	Section       string         `json:"section"`
+	SectionID     int64          `json:"section_id"`
+	Settings      map[string]any `json:"settings"`
+	Uncertainties string         `json:"uncertainties"`
+	Count         int            `json:"count"`
+	Items         any            `json:"items"`
+}
+
+func (a *sectionAnalysis) writeJSONTable(w http.ResponseWriter, kind string, cols []string, recs [][]string) error {
+	writeJSON(w, http.StatusOK, analysisJSON{Kind: kind, Section: a.Sec.Name, SectionID: a.Sec.ID, Settings: a.settingsJSON(),
+		Uncertainties: "intervals are central 95 % (2.5–97.5 percentiles of the draws, or ±1.96σ for the naive model); fields ending _1s are 1σ",
+		Count:         len(recs), Items: recordsJSON(cols, recs)})
+	return nil
+}
+
+// tablePage serves one table of the analysis as CSV, JSON or a page.
+func (s *Server) tablePage(w http.ResponseWriter, r *http.Request, kind, title string, cols func(a *sectionAnalysis) []string,
+	recs func(a *sectionAnalysis) [][]string, table func(a *sectionAnalysis) views.Table, intro func(a *sectionAnalysis) string) error {
+	a, format, err := s.sectionAnalysisFor(r)
+	if err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		return writeDownload(w, fmt.Sprintf("section-%d-%s.csv", a.Sec.ID, kind), func(w io.Writer) error { return writeRecords(w, cols(a), recs(a)) })
+	case "json":
+		return a.writeJSONTable(w, kind, cols(a), recs(a))
+	}
+	l := views.List{Page: s.page(r.Context(), title+" · "+a.Sec.Name, "Sections"), Table: table(a), Intro: intro(a)}
+	l.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}, {Label: a.Sec.Name, URL: withPath(r, idURL("/sections", a.Sec.ID))}}
+	l.Page.Downloads = toLinks(downloads(r))
+	s.render(w, r, http.StatusOK, views.ListPage(l))
+	return nil
+}
+
+func (s *Server) handleSectionRatios(w http.ResponseWriter, r *http.Request) error {
+	return s.tablePage(w, r, "ratios", "Samples with ratios and flags", (*sectionAnalysis).ratioColumns, (*sectionAnalysis).ratioRecords,
+		(*sectionAnalysis).sampleTable, func(a *sectionAnalysis) string {
+			return fmt.Sprintf("Every sample, none dropped: Hg/%s (%s), its status under the low-host rule (%s wt%%), robust z and flags, and the host-regression residual.",
+				a.Host, a.HostChosen, num(a.HostMin))
+		})
+}
+
+func (s *Server) handleSectionAnomalies(w http.ResponseWriter, r *http.Request) error {
+	return s.tablePage(w, r, "anomalies", "Anomalies", func(*sectionAnalysis) []string { return anomalyColumns }, (*sectionAnalysis).anomalyRecords,
+		func(a *sectionAnalysis) views.Table { return a.anomalyBlock(r, "").Tables[0] },
+		func(a *sectionAnalysis) string { return strings.Join(a.anomalyBlock(r, "").Paras, " ") })
+}
+
+func (s *Server) handleSectionAgeModel(w http.ResponseWriter, r *http.Request) error {
+	return s.tablePage(w, r, "agemodel", "Model ages", func(*sectionAnalysis) []string { return ageModelColumns }, (*sectionAnalysis).ageModelRecords,
+		func(a *sectionAnalysis) views.Table {
+			t := views.Table{ID: "model-ages", Caption: "Model age of every sample", Columns: []views.Column{{Label: "Sample"}, {Label: "Height", Unit: "m", Num: true},
+				{Label: "Median", Unit: "Ma", Num: true}, {Label: "95 % interval", Unit: "Ma", Num: true}}}
+			for _, s := range a.Samples {
+				med, iv := "—", "outside the tie range"
+				if s.Dated {
+					d := sigmaDecimals((s.Age.Hi95 - s.Age.Lo95) / 2)
+					med, iv = fixed(s.Age.Median, d), fixed(s.Age.Lo95, d)+" – "+fixed(s.Age.Hi95, d)
+				}
+				t.Rows = append(t.Rows, []views.Cell{{Text: s.Sample}, {Text: num(s.HeightM), Num: true}, {Text: med, Num: true}, {Text: iv, Num: true}})
+			}
+			return t
+		},
+		func(a *sectionAnalysis) string {
+			if a.Model == nil {
+				return a.ModelNote
+			}
+			return strings.Join(a.modelParas(), " ")
+		})
+}
+
+func (s *Server) handleSectionFigure(w http.ResponseWriter, r *http.Request) error {
+	a, _, err := s.sectionAnalysisFor(r)
+	if err != nil {
+		return err
+	}
+	body := `<?xml version="1.0" encoding="UTF-8"?>` + "\n" + views.SectionSVG(sectionFigure(a)) + "\n"
+	w.Header().Set("Content-Type", "image/svg+xml; charset=utf-8")
+	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", fmt.Sprintf("section-%d-figure.svg", a.Sec.ID)))
+	io.WriteString(w, body)
+	return nil
+}
