@@ -222,7 +222,8 @@ func (q Quantity) With(s ...Systematic) Quantity {
 type PulseEdgeSamples struct {
 	Pulse                // of the reference density
 	Replicates []int     // the replicates in which the pulse exists, ascending
-	StartMa    []float64 // one per entry of Replicates
+	ModeMa     []float64 // one per entry of Replicates
+	StartMa    []float64
 	EndMa      []float64
 }
 
@@ -238,12 +239,21 @@ func (p PulseEdgeSamples) Quantities(name, group string) (start, end Quantity) {
 // exists. Those are the draws of the edges conditional on the pulse existing; BootstrapPulses gives its
 // frequency. It returns an error for bad options or a band without replicates.
 func PulseEdgeDraws(band DensityBand, opts PulseOptions) ([]PulseEdgeSamples, error) {
+	out, err := pulseEdgeDraws(band, opts)
+	if err != nil {
+		return nil, fmt.Errorf("pulse edge draws: %w", err)
+	}
+	return out, nil
+}
+
+// pulseEdgeDraws is PulseEdgeDraws without the prefix on its errors (BootstrapPulses adds its own).
+func pulseEdgeDraws(band DensityBand, opts PulseOptions) ([]PulseEdgeSamples, error) {
 	if len(band.Replicates) == 0 {
-		return nil, fmt.Errorf("pulse edge draws: the band has no replicates")
+		return nil, fmt.Errorf("the band has no replicates")
 	}
 	ref, bounds, err := findPulses(band.GridMa, band.Reference.Density, opts)
 	if err != nil {
-		return nil, fmt.Errorf("pulse edge draws: %w", err)
+		return nil, err
 	}
 	out := make([]PulseEdgeSamples, len(ref))
 	for k, p := range ref {
@@ -253,7 +263,7 @@ func PulseEdgeDraws(band DensityBand, opts PulseOptions) ([]PulseEdgeSamples, er
 	for r, dens := range band.Replicates {
 		ps, _, err := findPulses(band.GridMa, dens, opts)
 		if err != nil {
-			return nil, fmt.Errorf("pulse edge draws: replicate %d: %w", r, err)
+			return nil, fmt.Errorf("replicate %d: %w", r, err)
 		}
 		for k := range best {
 			best[k] = -1
@@ -267,6 +277,7 @@ func PulseEdgeDraws(band DensityBand, opts PulseOptions) ([]PulseEdgeSamples, er
 		for k, q := range best {
 			if q >= 0 {
 				out[k].Replicates = append(out[k].Replicates, r)
+				out[k].ModeMa = append(out[k].ModeMa, ps[q].ModeMa)
 				out[k].StartMa = append(out[k].StartMa, ps[q].StartMa)
 				out[k].EndMa = append(out[k].EndMa, ps[q].EndMa)
 			}

@@ -229,47 +229,18 @@ type PulseSummary struct {
 // nominal 95 % edge intervals held the truth about 85–88 % of the time for a pulse of ~24 dates
 // and 91–95 % from ~40 dates on; treat edges of small pulses as optimistic.
 func BootstrapPulses(band DensityBand, opts PulseOptions) ([]PulseSummary, error) {
-	if len(band.Replicates) == 0 {
-		return nil, fmt.Errorf("bootstrap pulses: the band has no replicates")
-	}
-	ref, bounds, err := findPulses(band.GridMa, band.Reference.Density, opts)
+	draws, err := pulseEdgeDraws(band, opts)
 	if err != nil {
 		return nil, fmt.Errorf("bootstrap pulses: %w", err)
 	}
-	modes := make([][]float64, len(ref))
-	starts := make([][]float64, len(ref))
-	ends := make([][]float64, len(ref))
-	best := make([]int, len(ref))
-	for r, dens := range band.Replicates {
-		ps, _, err := findPulses(band.GridMa, dens, opts)
-		if err != nil {
-			return nil, fmt.Errorf("bootstrap pulses: replicate %d: %w", r, err)
-		}
-		for k := range best {
-			best[k] = -1
-		}
-		for q, p := range ps {
-			k := sort.SearchFloat64s(bounds, p.ModeMa)
-			if best[k] < 0 || p.Height > ps[best[k]].Height {
-				best[k] = q
-			}
-		}
-		for k, q := range best {
-			if q >= 0 {
-				modes[k] = append(modes[k], ps[q].ModeMa)
-				starts[k] = append(starts[k], ps[q].StartMa)
-				ends[k] = append(ends[k], ps[q].EndMa)
-			}
-		}
-	}
-	out := make([]PulseSummary, len(ref))
-	for k, p := range ref {
-		s := PulseSummary{Pulse: p, Present: len(modes[k])}
+	out := make([]PulseSummary, len(draws))
+	for k, d := range draws {
+		s := PulseSummary{Pulse: d.Pulse, Present: len(d.Replicates)}
 		s.Frequency = float64(s.Present) / float64(len(band.Replicates))
 		if s.Present > 0 {
-			s.Mode = ageQuantiles(modes[k])
-			s.Start = ageQuantiles(starts[k])
-			s.End = ageQuantiles(ends[k])
+			s.Mode = ageQuantiles(slices.Clone(d.ModeMa))
+			s.Start = ageQuantiles(slices.Clone(d.StartMa))
+			s.End = ageQuantiles(slices.Clone(d.EndMa))
 		}
 		out[k] = s
 	}
