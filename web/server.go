@@ -83,6 +83,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
 	s.registerProvinceRoutes(r)
+	s.registerTimelineRoutes(r)
 	s.registerUnitRoutes(r)
 	s.registerDateRoutes(r)
 	s.registerSectionRoutes(r)
