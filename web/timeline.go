@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"net/http"
+	"net/url"
 	"slices"
 	"strconv"
 
@@ -23,6 +24,21 @@ import (
 func (s *Server) registerTimelineRoutes(r chi.Router) {
 	r.Get("/provinces/{id}/timeline", s.handle(s.handleTimeline))
 	r.Get("/timescale", s.handle(s.handleTimescale))
+}
+
+// timelineURL is the province's timeline with the summary choices of the current view kept.
+func timelineURL(r *http.Request, id int64) string {
+	q := url.Values{}
+	for _, k := range []string{"cal", "level", "sigma", "policy", "rule", "include"} {
+		if v := r.URL.Query().Get(k); v != "" {
+			q.Set(k, v)
+		}
+	}
+	u := idURL("/provinces", id) + "/timeline"
+	if len(q) > 0 {
+		u += "?" + q.Encode()
+	}
+	return u
 }
 
 // densityChoice is every choice of the density and its figure, read from the URL.
