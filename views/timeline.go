@@ -203,7 +203,7 @@ func niceTicks(lo, hi float64) (major, minor []float64, decimals int) {
 	if !(span > 0) {
 		return nil, nil, 0
 	}
-	raw := span / 7
+	raw := span / 8
 	pow := math.Pow(10, math.Floor(math.Log10(raw)))
 	step, sub := pow, 5
 	for _, m := range []struct {
@@ -608,30 +608,56 @@ func (f TimelineFigure) drawStrip(c canvas, l *timelineLayout) {
 			c.rect(l.plotL, y0, l.plotR-l.plotL, stripH, paint{Fill: stripeColour, Stroke: "#d5dbe0", Width: 0.6})
 			continue
 		}
+		veil := func(ageMa, pmMa float64) (float64, float64) {
+			return clampX(ageMa + pmMa), clampX(ageMa - pmMa)
+		}
+		for _, s := range band {
+			x0, x1 := clampX(s.BaseMa), clampX(s.TopMa)
+			if x1 > x0 {
+				c.rect(x0, y0, x1-x0, stripH, paint{Fill: s.Colour, Stroke: boundaryInk, Width: 0.5})
+			}
+		}
+		// Boundary uncertainty: a pale veil over base ± its uncertainty, under the names.
+		pm := map[float64]float64{}
+		for _, s := range band {
+			pm[s.BaseMa] = s.BasePmMa
+			if s.BasePmMa > 0 && s.BaseMa > f.MinMa && s.BaseMa < f.MaxMa {
+				a, b := veil(s.BaseMa, s.BasePmMa)
+				c.rect(a, y0, b-a, stripH, paint{Fill: "#ffffff", FillAlpha: 0.55})
+				bx := x(s.BaseMa)
+				c.poly([]pt{{bx, y0}, {bx, y0 + stripH}}, false, paint{Stroke: boundaryInk, Width: 1})
+			}
+		}
 		for _, s := range band {
 			x0, x1 := clampX(s.BaseMa), clampX(s.TopMa)
 			if x1 <= x0 {
 				continue
 			}
-			c.begin(s.Title, "")
-			c.rect(x0, y0, x1-x0, stripH, paint{Fill: s.Colour, Stroke: boundaryInk, Width: 0.5})
+			// The name goes in the clear part between the veils of the unit's base and top when it fits.
+			cx0, cx1 := x0, x1
+			if p := s.BasePmMa; p > 0 {
+				_, r := veil(s.BaseMa, p)
+				cx0 = math.Max(cx0, r)
+			}
+			if p := pm[s.TopMa]; p > 0 {
+				l, _ := veil(s.TopMa, p)
+				cx1 = math.Min(cx1, l)
+			}
 			name := s.Name
-			if textWidth(name, 9.5, false) > x1-x0-6 {
+			room := cx1 - cx0 - 6
+			if textWidth(name, 9.5, false) > room {
+				cx0, cx1 = x0, x1
+				room = x1 - x0 - 6
+			}
+			if textWidth(name, 9.5, false) > room {
 				name = abbreviate(s.Name)
 			}
-			if textWidth(name, 9.5, false) <= x1-x0-6 {
-				c.text((x0+x1)/2, y0+stripH/2+3.5, name, textStyle{Size: 9.5, Anchor: "middle"})
+			c.begin(s.Title, "")
+			c.rect(x0, y0, x1-x0, stripH, paint{Fill: "#ffffff", FillAlpha: 0.001})
+			if textWidth(name, 9.5, false) <= room {
+				c.text((cx0+cx1)/2, y0+stripH/2+3.5, name, textStyle{Size: 9.5, Anchor: "middle"})
 			}
 			c.end()
-		}
-		// Boundary uncertainty: a pale veil over base ± its uncertainty.
-		for _, s := range band {
-			if s.BasePmMa > 0 && s.BaseMa > f.MinMa && s.BaseMa < f.MaxMa {
-				a, b := clampX(s.BaseMa+s.BasePmMa), clampX(s.BaseMa-s.BasePmMa)
-				c.rect(a, y0, b-a, stripH, paint{Fill: "#ffffff", FillAlpha: 0.55})
-				bx := x(s.BaseMa)
-				c.poly([]pt{{bx, y0}, {bx, y0 + stripH}}, false, paint{Stroke: boundaryInk, Width: 1})
-			}
 		}
 	}
 }
@@ -652,6 +678,11 @@ func (f TimelineFigure) drawPulseLanes(c canvas, l *timelineLayout) {
 		c.begin(p.Title, "")
 		oldL, oldR := clampX(p.StartHiMa), clampX(p.StartLoMa)
 		youL, youR := clampX(p.EndHiMa), clampX(p.EndLoMa)
+		if oldR > youL {
+			// The start and end ranges overlap: no stretch is certain; the fades meet halfway.
+			mid := (oldR + youL) / 2
+			oldR, youL = mid, mid
+		}
 		if oldR < youL {
 			c.rect(oldR, y0, youL-oldR, h, paint{Fill: col, FillAlpha: pulseAlphaMax})
 		}

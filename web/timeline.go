@@ -337,11 +337,8 @@ func ruleText(res densityResult, ch densityChoice) string {
 	if ch.Adaptive {
 		kind = "adaptive KDE (Abramson 1982), pilot"
 	}
-	s := fmt.Sprintf("%s h = %s Ma, %s", kind, fixed(h.Ma, dec), h.Rule.Label())
-	if h.Fallback() {
-		s += fmt.Sprintf(" (fallback: %s asked for)", h.Requested.Label())
-	}
-	return s
+	// A fallback is explained by the bandwidth's own note, shown beside this.
+	return fmt.Sprintf("%s h = %s Ma, %s", kind, fixed(h.Ma, dec), h.Rule.Label())
 }
 
 // timelineProvince loads what the timeline of a province needs.

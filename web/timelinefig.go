@@ -352,7 +352,8 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 		{Label: "PDF", URL: withQuery(r, "format", "pdf")}, {Label: "CSV (pulses)", URL: withQuery(r, "format", "csv", "table", "pulses")},
 		{Label: "CSV (density)", URL: withQuery(r, "format", "csv", "table", "density")}, {Label: "CSV (values)", URL: withQuery(r, "format", "csv", "table", "values")},
 		{Label: "JSON", URL: withQuery(r, "format", "json")}}
-	v.Caption = strings.Join(fig.Subtitle, " ")
+	v.Caption = "Hover over a date, a unit value, a pulse or a stage for its details; click a date or a unit name to open its record. " +
+		"The downloads above give this figure as SVG, PNG or PDF, and its tables as CSV or JSON."
 	if res.Band != nil && res.Bandwidth.Fallback() {
 		v.Cautions = append(v.Cautions, "Bandwidth fallback: "+res.Bandwidth.Note)
 	}
