@@ -360,6 +360,8 @@ var asciiFor = strings.NewReplacer(
 	"δ¹³C", "d13C", "¹³", "13", "→", "->", "←", "<-", "’", "'", "‘", "'", "“", "\"", "”", "\"", "…", "...",
 	"µ", "u", "⁻¹", "-1", "⁻", "-", "·", ".", "é", "e", "è", "e", "ö", "o", "ü", "u", "å", "a", "ø", "o", "æ", "ae",
 	"\u00a0", " ", "\u2009", " ", "\u202f", " ", "°", " deg",
+	"λ", "lambda", "ζ", "zeta", "τ", "tau", "δ", "delta", "μ", "u", "Φ", "Phi", "φ", "phi", "√", "sqrt", "⊕", "(+)",
+	"⚠", "!", "›", ">", "▲", "^", "▼", "v",
 )
 
 // ASCII writes s in ASCII for the PDF back-end: the figures' symbols spelled out, anything else unknown
