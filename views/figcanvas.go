@@ -325,6 +325,8 @@ func (c *vgCanvas) circle(cx, cy, r float64, p paint) {
 func (c *vgCanvas) text(x, y float64, s string, ts textStyle) {
 	if c.ascii {
 		s = ASCII(s)
+	} else {
+		s = plainDigits.Replace(s)
 	}
 	f := face(ts.Size, ts.Bold, ts.Italic && !c.ascii) // the PDF back-end has no italic face
 	w := float64(f.Width(s))
@@ -363,6 +365,10 @@ var asciiFor = strings.NewReplacer(
 	"λ", "lambda", "ζ", "zeta", "τ", "tau", "δ", "delta", "μ", "u", "Φ", "Phi", "φ", "phi", "√", "sqrt", "⊕", "(+)",
 	"⚠", "!", "›", ">", "▲", "^", "▼", "v",
 )
+
+// plainDigits writes superscript digits as plain ones for the raster back-end: Liberation Sans has no
+// ⁰ or ⁹, so "⁴⁰Ar/³⁹Ar" would lose them.
+var plainDigits = strings.NewReplacer("⁰", "0", "¹", "1", "²", "2", "³", "3", "⁴", "4", "⁵", "5", "⁶", "6", "⁷", "7", "⁸", "8", "⁹", "9")
 
 // ASCII writes s in ASCII for the PDF back-end: the figures' symbols spelled out, anything else unknown
 // replaced by '?'.
