@@ -352,7 +352,7 @@ func (f TimelineFigure) legend(l *timelineLayout) []legendItem {
 		}
 	}
 	if len(f.Pulses) > 0 {
-		add("pulse: solid where every replicate agrees, fading across the 2.5–97.5 % range of its start and of its end", func(c canvas, x, y float64) {
+		add("pulse (share of replicates in which it exists): solid where every replicate agrees, fading across the 2.5–97.5 % range of its start and of its end", func(c canvas, x, y float64) {
 			c.fade(x+1, y-5, 6, 10, pulseColour(0), 0, pulseAlphaMax)
 			c.rect(x+7, y-5, 8, 10, paint{Fill: pulseColour(0), FillAlpha: pulseAlphaMax})
 			c.fade(x+15, y-5, 6, 10, pulseColour(0), pulseAlphaMax, 0)
@@ -699,7 +699,7 @@ func (f TimelineFigure) drawPulseLanes(c canvas, l *timelineLayout) {
 		c.poly([]pt{{hi, ym - 3.5}, {hi, ym + 3.5}}, false, paint{Stroke: inkColour, Width: 1.2})
 		label := p.Label
 		if p.Detail != "" {
-			label += " · " + p.Detail
+			label += " (" + p.Detail + ")"
 		}
 		// The label goes right of the bar when it fits, else left of it.
 		w := textWidth(label, 9.5, true)

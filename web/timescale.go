@@ -2,11 +2,13 @@ package web
 
 import (
 	"bytes"
+	"cmp"
 	_ "embed"
 	"encoding/csv"
 	"fmt"
 	"io"
 	"net/http"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -168,6 +170,13 @@ func (s *Server) handleTimescale(w http.ResponseWriter, r *http.Request) error {
 			units = append(units, u)
 		}
 	}
+	// Coarsest rank first; within a rank, youngest first, as the chart is read from the top.
+	slices.SortStableFunc(units, func(a, b chronoUnit) int {
+		if c := cmp.Compare(slices.Index(chartRanks, a.Rank), slices.Index(chartRanks, b.Rank)); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.TopMa, b.TopMa)
+	})
 	switch format {
 	case "csv":
 		return writeDownload(w, "ics-chart-2024-12.csv", func(w io.Writer) error {
@@ -188,7 +197,7 @@ func (s *Server) handleTimescale(w http.ResponseWriter, r *http.Request) error {
 			"uncertainties": "± as the chart gives them", "units": units})
 		return nil
 	}
-	t := views.Table{ID: "timescale", Caption: fmt.Sprintf("%s: %d units, youngest first within each rank", timescaleVersion, len(units)),
+	t := views.Table{ID: "timescale", Caption: fmt.Sprintf("%s: %d units, coarsest rank first, youngest first within each rank", timescaleVersion, len(units)),
 		Columns: []views.Column{{Label: "Unit"}, {Label: "Rank"}, {Label: "Within"}, {Label: "Base", Unit: "Ma ± (as the chart gives it)", Num: true},
 			{Label: "Top", Unit: "Ma", Num: true}, {Label: "Base defined by", Title: "GSSP: Global Boundary Stratotype Section and Point; GSSA: Global Standard Stratigraphic Age"},
 			{Label: "Colour", Title: "CGMW standard colour"}}}
