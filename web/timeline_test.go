@@ -227,6 +227,51 @@ func TestTimelineK10Fallback(t *testing.T) {
 	}
 }
 
+func TestTimelineFewValues(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	if _, err := db.ImportProvinces(ctx, "p.csv", strings.NewReader("province,description\nEmpty,no units\nOne,one unit\n")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.ImportUnits(ctx, "u.csv", strings.NewReader("province,unit,kind\nOne,Lone Flow,flow\n")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.ImportDates(ctx, "d.csv", strings.NewReader("province,unit,sample_code,method,material,interpretation,age_ma,sigma_ma,sigma_level,laboratory,citation,review_state\n"+
+		"One,Lone Flow,L-1,upb_idtims,zircon,eruption,201.5,0.05,1,Lab,Test,accepted\n")); err != nil {
+		t.Fatal(err)
+	}
+	ps, err := db.Provinces(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ids := map[string]int64{}
+	for _, p := range ps {
+		ids[p.Name] = p.ID
+	}
+	cases := []struct {
+		name string
+		want []string
+	}{
+		{"Empty", []string{"No unit of this province has a date to draw.", "No density: it needs at least two values to count, and there are 0."}},
+		{"One", []string{"No density: it needs at least two values to count, and there are 1.", "Lone Flow", `href="/dates/`}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			for _, f := range []string{"", "?format=svg", "?format=png", "?format=pdf", "?format=json", "?format=csv"} {
+				if status, _, _ := get(t, srv, fmt.Sprintf("/provinces/%d/timeline%s", ids[tc.name], f)); status != http.StatusOK {
+					t.Errorf("%s: status %d", f, status)
+				}
+			}
+			_, _, body := get(t, srv, fmt.Sprintf("/provinces/%d/timeline", ids[tc.name]))
+			for _, w := range tc.want {
+				if !strings.Contains(body, w) {
+					t.Errorf("page lacks %q", w)
+				}
+			}
+		})
+	}
+}
+
 func TestTimelineBadParameters(t *testing.T) {
 	srv, _ := mustServer(t)
 	cases := []struct{ query, names string }{

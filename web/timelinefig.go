@@ -352,6 +352,10 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 		{Label: "PDF", URL: withQuery(r, "format", "pdf")}, {Label: "CSV (pulses)", URL: withQuery(r, "format", "csv", "table", "pulses")},
 		{Label: "CSV (density)", URL: withQuery(r, "format", "csv", "table", "density")}, {Label: "CSV (values)", URL: withQuery(r, "format", "csv", "table", "values")},
 		{Label: "JSON", URL: withQuery(r, "format", "json")}}
+	if len(fig.Rows) == 0 {
+		v.SVG = ""
+		v.Cautions = append(v.Cautions, "No unit of this province has a date to draw.")
+	}
 	v.Caption = "Hover over a date, a unit value, a pulse or a stage for its details; click a date or a unit name to open its record. " +
 		"The downloads above give this figure as SVG, PNG or PDF, and its tables as CSV or JSON."
 	if res.Band != nil && res.Bandwidth.Fallback() {
