@@ -35,12 +35,12 @@ func AlignedSVG(f AlignedFigure) string {
 	var b svgBuf
 	nc := len(f.Columns)
 	colW := 200.0
-	width := figLeft + float64(nc)*colW + float64(max(nc-1, 0))*panelGap + figRight
+	width := secFigLeft + float64(nc)*colW + float64(max(nc-1, 0))*panelGap + secFigRight
 	top := 112.0
 	bottom := top + plotH
-	perRow := max(1, int((width-figLeft)/legendItemW))
+	perRow := max(1, int((width-secFigLeft)/legendItemW))
 	legendRows := (len(f.Legend) + perRow - 1) / perRow
-	height := bottom + 48 + float64(legendRows)*legendRowH + float64(len(f.Notes))*15 + 10
+	height := bottom + 48 + float64(legendRows)*secLegendRowH + float64(len(f.Notes))*15 + 10
 	b.f(`<svg xmlns="http://www.w3.org/2000/svg" width="%s" height="%s" viewBox="0 0 %s %s" font-family="%s" font-size="11" role="img" aria-label="%s">`,
 		ff(width), ff(height), ff(width), ff(height), figFont, esc(f.Title))
 	b.f(`<title>%s</title>`, esc(f.Title))
@@ -54,16 +54,16 @@ func AlignedSVG(f AlignedFigure) string {
 		aLo, aHi = aLo-0.1, aLo+0.1
 	}
 	y := func(a float64) float64 { return top + (a-aLo)/(aHi-aLo)*plotH }
-	ticks, dec := niceTicks(aLo, aHi, 10)
-	b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(figLeft), ff(top), ff(figLeft), ff(bottom))
+	ticks, _, dec := ticks(aLo, aHi, 10)
+	b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft), ff(top), ff(secFigLeft), ff(bottom))
 	for _, t := range ticks {
 		if t < aLo || t > aHi {
 			continue
 		}
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(figLeft-4), ff(y(t)), ff(figLeft), ff(y(t)))
-		b.f(`<text x="%s" y="%s" text-anchor="end" fill="#1d2327">%s</text>`, ff(figLeft-6), ff(y(t)+3.5), tickLabel(t, dec))
+		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft-4), ff(y(t)), ff(secFigLeft), ff(y(t)))
+		b.f(`<text x="%s" y="%s" text-anchor="end" fill="#1d2327">%s</text>`, ff(secFigLeft-6), ff(y(t)+3.5), tickLabel(t, dec))
 	}
-	b.f(`<text transform="translate(%s %s) rotate(-90)" text-anchor="middle" fill="#1d2327">Model age (Ma), older down</text>`, ff(figLeft-48), ff((top+bottom)/2))
+	b.f(`<text transform="translate(%s %s) rotate(-90)" text-anchor="middle" fill="#1d2327">Model age (Ma), older down</text>`, ff(secFigLeft-48), ff((top+bottom)/2))
 
 	// x: log10 multiple of the background median, shared by all columns.
 	xLo, xHi := math.Log10(0.2), math.Log10(20)
@@ -76,7 +76,7 @@ func AlignedSVG(f AlignedFigure) string {
 	}
 	xLo, xHi = math.Max(xLo, -2), math.Min(xHi, 3)
 	for i, c := range f.Columns {
-		x0 := figLeft + float64(i)*(colW+panelGap)
+		x0 := secFigLeft + float64(i)*(colW+panelGap)
 		right := x0 + colW
 		left := x0 + gutterW
 		x := func(m float64) float64 { return left + (math.Log10(m)-xLo)/(xHi-xLo)*(right-left) }
@@ -146,21 +146,21 @@ func AlignedSVG(f AlignedFigure) string {
 		flush()
 		for _, p := range c.Points {
 			if p.X > 0 && p.H >= aLo && p.H <= aHi {
-				marker(&b, "dot", math.Max(left, math.Min(right, x(p.X))), y(p.H), ColorRatio)
+				secMarker(&b, "dot", math.Max(left, math.Min(right, x(p.X))), y(p.H), ColorRatio)
 			}
 		}
 	}
 	ly := bottom + 50
 	for k, it := range f.Legend {
 		col, row := k%perRow, k/perRow
-		lx := figLeft + float64(col)*legendItemW
-		yy := ly + float64(row)*legendRowH
+		lx := secFigLeft + float64(col)*legendItemW
+		yy := ly + float64(row)*secLegendRowH
 		legendSymbol(&b, it, lx+8, yy-4)
 		b.f(`<text x="%s" y="%s" fill="#1d2327">%s</text>`, ff(lx+22), ff(yy), esc(it.Label))
 	}
-	ny := ly + float64(legendRows)*legendRowH + 4
+	ny := ly + float64(legendRows)*secLegendRowH + 4
 	for _, n := range f.Notes {
-		b.f(`<text x="%s" y="%s" fill="#5b6770" font-size="10.5">%s</text>`, ff(figLeft), ff(ny), esc(n))
+		b.f(`<text x="%s" y="%s" fill="#5b6770" font-size="10.5">%s</text>`, ff(secFigLeft), ff(ny), esc(n))
 		ny += 15
 	}
 	b.f(`</svg>`)

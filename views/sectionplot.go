@@ -2,7 +2,6 @@ package views
 
 import (
 	"fmt"
-	"html"
 	"math"
 	"strconv"
 	"strings"
@@ -118,11 +117,11 @@ const (
 	figFont     = "Liberation Sans, Arial, Helvetica, sans-serif"
 	panelW      = 170.0
 	panelGap    = 26.0
-	figLeft     = 62.0
-	figRight    = 36.0
+	secFigLeft     = 62.0
+	secFigRight    = 36.0
 	plotH       = 560.0
 	gutterW     = 12.0
-	legendRowH  = 18.0
+	secLegendRowH  = 18.0
 	legendItemW = 250.0
 )
 
@@ -130,8 +129,6 @@ const (
 type svgBuf struct{ strings.Builder }
 
 func (b *svgBuf) f(format string, args ...any) { fmt.Fprintf(b, format, args...) }
-
-func esc(s string) string { return html.EscapeString(s) }
 
 func ff(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
 
@@ -142,33 +139,6 @@ func tickLabel(v float64, dec int) string {
 		return strings.TrimPrefix(s, "-")
 	}
 	return s
-}
-
-// niceTicks returns about n round tick values covering [lo, hi] and the decimals to print them with.
-func niceTicks(lo, hi float64, n int) ([]float64, int) {
-	if !(hi > lo) {
-		return []float64{lo}, 2
-	}
-	raw := (hi - lo) / float64(max(n, 1))
-	mag := math.Pow(10, math.Floor(math.Log10(raw)))
-	step := mag
-	for _, m := range []float64{1, 2, 2.5, 5, 10} {
-		if m*mag >= raw {
-			step = m * mag
-			break
-		}
-	}
-	e := int(math.Floor(math.Log10(step) + 1e-9))
-	dec := -e
-	if math.Abs(step/math.Pow(10, float64(e))-2.5) < 1e-9 {
-		dec++
-	}
-	dec = max(dec, 0)
-	var out []float64
-	for k := math.Ceil(lo/step - 1e-9); k*step <= hi+step*1e-9; k++ {
-		out = append(out, k*step)
-	}
-	return out, dec
 }
 
 // extent returns a padded range of the finite values given.
@@ -212,48 +182,48 @@ func (p Panel) xValues() []float64 {
 func SectionSVG(f SectionFigure) string {
 	var b svgBuf
 	np := len(f.Panels)
-	width := figLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap + figRight
+	width := secFigLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap + secFigRight
 	top := 58.0
 	if f.Subtitle != "" {
 		top += 14
 	}
-	perRow := max(1, int((width-figLeft)/legendItemW))
+	perRow := max(1, int((width-secFigLeft)/legendItemW))
 	legendRows := (len(f.Legend) + perRow - 1) / perRow
 	bottom := top + plotH
-	height := bottom + 44 + float64(legendRows)*legendRowH + float64(len(f.Notes))*15 + 10
+	height := bottom + 44 + float64(legendRows)*secLegendRowH + float64(len(f.Notes))*15 + 10
 	b.f(`<svg xmlns="http://www.w3.org/2000/svg" width="%s" height="%s" viewBox="0 0 %s %s" font-family="%s" font-size="11" role="img" aria-label="%s">`,
 		ff(width), ff(height), ff(width), ff(height), figFont, esc(f.Title))
 	b.f(`<title>%s</title>`, esc(f.Title))
 	b.f(`<rect x="0" y="0" width="%s" height="%s" fill="#ffffff"/>`, ff(width), ff(height))
-	b.f(`<text x="%s" y="18" font-size="14" font-weight="bold" fill="#1d2327">%s</text>`, ff(figLeft-50), esc(f.Title))
+	b.f(`<text x="%s" y="18" font-size="14" font-weight="bold" fill="#1d2327">%s</text>`, ff(secFigLeft-50), esc(f.Title))
 	if f.Subtitle != "" {
-		b.f(`<text x="%s" y="33" fill="#5b6770">%s</text>`, ff(figLeft-50), esc(f.Subtitle))
+		b.f(`<text x="%s" y="33" fill="#5b6770">%s</text>`, ff(secFigLeft-50), esc(f.Subtitle))
 	}
 	hLo, hHi := f.HeightMinM, f.HeightMaxM
 	if !(hHi > hLo) {
 		hLo, hHi = hLo-1, hLo+1
 	}
 	y := func(h float64) float64 { return bottom - (h-hLo)/(hHi-hLo)*plotH }
-	ticks, dec := niceTicks(hLo, hHi, 10)
+	ticks, _, dec := ticks(hLo, hHi, 10)
 
 	// Height axis, left of the first panel.
-	b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(figLeft), ff(top), ff(figLeft), ff(bottom))
+	b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft), ff(top), ff(secFigLeft), ff(bottom))
 	for _, t := range ticks {
 		if t < hLo || t > hHi {
 			continue
 		}
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(figLeft-4), ff(y(t)), ff(figLeft), ff(y(t)))
-		b.f(`<text x="%s" y="%s" text-anchor="end" fill="#1d2327">%s</text>`, ff(figLeft-6), ff(y(t)+3.5), tickLabel(t, dec))
+		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft-4), ff(y(t)), ff(secFigLeft), ff(y(t)))
+		b.f(`<text x="%s" y="%s" text-anchor="end" fill="#1d2327">%s</text>`, ff(secFigLeft-6), ff(y(t)+3.5), tickLabel(t, dec))
 	}
-	b.f(`<text transform="translate(%s %s) rotate(-90)" text-anchor="middle" fill="#1d2327">Height (m)</text>`, ff(figLeft-44), ff((top+bottom)/2))
+	b.f(`<text transform="translate(%s %s) rotate(-90)" text-anchor="middle" fill="#1d2327">Height (m)</text>`, ff(secFigLeft-44), ff((top+bottom)/2))
 
 	for i, p := range f.Panels {
-		x0 := figLeft + float64(i)*(panelW+panelGap)
+		x0 := secFigLeft + float64(i)*(panelW+panelGap)
 		drawPanel(&b, p, x0, top, bottom, hLo, hHi, y, ticks, f)
 	}
 
 	// Anomaly numbers beside the last panel, as in the anomaly table.
-	lastRight := figLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap
+	lastRight := secFigLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap
 	for _, bd := range f.Bands {
 		mid := y((math.Max(bd.BaseM, hLo) + math.Min(bd.TopM, hHi)) / 2)
 		b.f(`<text x="%s" y="%s" font-weight="bold" fill="#1d2327">%s</text>`, ff(lastRight+4), ff(mid+4), esc(bd.Label))
@@ -263,14 +233,14 @@ func SectionSVG(f SectionFigure) string {
 	ly := bottom + 48
 	for k, it := range f.Legend {
 		col, row := k%perRow, k/perRow
-		lx := figLeft + float64(col)*legendItemW
-		yy := ly + float64(row)*legendRowH
+		lx := secFigLeft + float64(col)*legendItemW
+		yy := ly + float64(row)*secLegendRowH
 		legendSymbol(&b, it, lx+8, yy-4)
 		b.f(`<text x="%s" y="%s" fill="#1d2327">%s</text>`, ff(lx+22), ff(yy), esc(it.Label))
 	}
-	ny := ly + float64(legendRows)*legendRowH + 4
+	ny := ly + float64(legendRows)*secLegendRowH + 4
 	for _, n := range f.Notes {
-		b.f(`<text x="%s" y="%s" fill="#5b6770" font-size="10.5">%s</text>`, ff(figLeft), ff(ny), esc(n))
+		b.f(`<text x="%s" y="%s" fill="#5b6770" font-size="10.5">%s</text>`, ff(secFigLeft), ff(ny), esc(n))
 		ny += 15
 	}
 	b.f(`</svg>`)
@@ -336,7 +306,7 @@ func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(flo
 	var xt []float64
 	var xdec int
 	for n := 5; n >= 2; n-- {
-		xt, xdec = niceTicks(xLo, xHi, n)
+		xt, _, xdec = ticks(xLo, xHi, n)
 		w := 0
 		for _, t := range xt {
 			w = max(w, len(tickLabel(t, xdec)))
@@ -403,7 +373,7 @@ func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(flo
 			if !math.IsNaN(pt.XLo) && !math.IsNaN(pt.XHi) {
 				b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-width="1.6"/>`, ff(clipX(pt.XLo)), ff(y(pt.H)), ff(clipX(pt.XHi)), ff(y(pt.H)), s.Color)
 			}
-			marker(b, s.Marker, clipX(pt.X), y(pt.H), s.Color)
+			secMarker(b, s.Marker, clipX(pt.X), y(pt.H), s.Color)
 		}
 	}
 }
@@ -419,7 +389,7 @@ func cross(b *svgBuf, cx, cy, r float64, color string) {
 	b.f(`<path d="M%s %sl%s %sM%s %sl%s %s" stroke="%s" stroke-width="1.4"/>`, ff(cx-r), ff(cy-r), ff(2*r), ff(2*r), ff(cx-r), ff(cy+r), ff(2*r), ff(-2*r), color)
 }
 
-func marker(b *svgBuf, kind string, cx, cy float64, color string) {
+func secMarker(b *svgBuf, kind string, cx, cy float64, color string) {
 	switch kind {
 	case "dot":
 		b.f(`<circle cx="%s" cy="%s" r="2.2" fill="%s"/>`, ff(cx), ff(cy), color)
@@ -457,8 +427,8 @@ func legendSymbol(b *svgBuf, it LegendItem, cx, cy float64) {
 		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327" stroke-width="1.5" stroke-dasharray="2 3"/>`, ff(cx-7), ff(cy), ff(cx+7), ff(cy))
 	case "errbar":
 		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-width="1.6"/>`, ff(cx-7), ff(cy), ff(cx+7), ff(cy), it.Color)
-		marker(b, "diamond", cx, cy, it.Color)
+		secMarker(b, "diamond", cx, cy, it.Color)
 	default:
-		marker(b, it.Marker, cx, cy, it.Color)
+		secMarker(b, it.Marker, cx, cy, it.Color)
 	}
 }

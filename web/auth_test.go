@@ -89,6 +89,8 @@ var routeRoles = map[string]string{
 	"GET /sections/{id}/agemodel":      "",
 	"GET /sections/aligned":            "",
 	"GET /sections/aligned/figure.svg": "",
+	"GET /provinces/{id}/timeline":     "",
+	"GET /timescale":                   "",
 	"GET /ties":                        "",
 	"GET /events":                      "",
 	"GET /calibrations":                "",

@@ -149,6 +149,7 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 		{Label: "Added", Value: when(prov.CreatedAt)},
 	}}}
 	d.Tables = []views.Table{summaryTable(sums, ch), unitTable(units, unitAgeRange(ds))}
+	d.Links = []views.Link{{Label: "Eruptive history: density, pulses and timeline →", URL: timelineURL(r, id)}}
 	s.render(w, r, http.StatusOK, views.DetailPage(d))
 	return nil
 }

@@ -108,6 +108,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)
+	s.registerTimelineRoutes(r)
 	s.registerUnitRoutes(r)
 	s.registerDateRoutes(r)
 	s.registerSectionRoutes(r)

@@ -1,0 +1,84 @@
+package web
+
+import (
+	"strings"
+	"testing"
+
+	"github.com/chromedp/chromedp"
+)
+
+// In a real headless Chromium: province page → its timeline; the figure shows the ISJ fallback; choosing
+// the Scott rule in the form puts bw=scott in the address and redraws the density. Screenshots of each
+// state, and of the timescale page.
+func TestBrowserTimelineChangesBandwidth(t *testing.T) {
+	ctx := newBrowser(t)
+	srv, _ := mustServer(t)
+	dir := screenshotDir(t)
+
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/provinces/1"),
+		chromedp.Click(chromedp.CSS(`.links a[href*="/timeline"]`))); err != nil {
+		t.Fatal(err)
+	}
+	waitPath(t, ctx, "/provinces/1/timeline")
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#timeline svg"))); err != nil {
+		t.Fatal(err)
+	}
+	density := func() string {
+		t.Helper()
+		v, err := chromedp.Run(ctx, chromedp.AttributeValue(chromedp.CSS("#density"), "d"))
+		if err != nil {
+			t.Fatalf("density curve: %v", err)
+		}
+		return v.Value
+	}
+	before := density()
+	if got := text(t, ctx, "main"); !strings.Contains(got, "Bandwidth fallback") {
+		t.Error("the default timeline does not report the ISJ fallback")
+	}
+	if got := text(t, ctx, "#pulses tbody"); !strings.Contains(got, "P1") || !strings.Contains(got, "P2") {
+		t.Errorf("pulse table %q lacks the demo's two pulses", got)
+	}
+	shoot(t, ctx, dir, "10-timeline-isj")
+
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`select[name="bw"]`), "scott"),
+		chromedp.Click(chromedp.CSS(`form.filters button`))); err != nil {
+		t.Fatal(err)
+	}
+	waitPath(t, ctx, "/provinces/1/timeline?")
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#timeline svg"))); err != nil {
+		t.Fatal(err)
+	}
+	loc, err := chromedp.Run(ctx, chromedp.Location())
+	if err != nil || !strings.Contains(loc, "bw=scott") {
+		t.Errorf("address %q lacks bw=scott (%v)", loc, err)
+	}
+	after := density()
+	if after == before {
+		t.Error("choosing the Scott rule did not change the density curve")
+	}
+	if got, err := chromedp.Run(ctx, chromedp.TextContent(chromedp.CSS("#timeline svg"))); err != nil || !strings.Contains(got, "Scott") {
+		t.Errorf("the figure does not name the Scott rule (%v)", err)
+	}
+	shoot(t, ctx, dir, "11-timeline-scott")
+
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/provinces/1/timeline?count=date&pdp=1&weight=volume"),
+		chromedp.WaitVisible(chromedp.CSS("#timeline svg"))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "main"); !strings.Contains(got, "probability density plot (PDP), not a kernel density estimate") {
+		t.Error("the PDP is shown without its caution")
+	}
+	shoot(t, ctx, dir, "12-timeline-dates-pdp-volume")
+
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`header nav a[href="/timescale"]`))); err != nil {
+		t.Fatal(err)
+	}
+	waitPath(t, ctx, "/timescale")
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#timescale"))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "main"); !strings.Contains(got, "v2024/12") || !strings.Contains(got, "CC BY 4.0") {
+		t.Error("the timescale page does not give its version and licence")
+	}
+	shoot(t, ctx, dir, "13-timescale")
+}

@@ -1,0 +1,452 @@
+package web
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"encoding/json"
+	"encoding/xml"
+	"errors"
+	"fmt"
+	"image/png"
+	"io"
+	"math"
+	"net/http"
+	"os"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"testing"
+
+	"coeval/stats"
+	"coeval/store"
+)
+
+func TestTimescaleCheckValues(t *testing.T) {
+	chart, err := icsChart()
+	if err != nil {
+		t.Fatal(err)
+	}
+	cases := []struct {
+		id     string
+		baseMa float64
+		pmMa   float64 // 0: the chart gives no ±
+		status string
+	}{
+		{"Induan", 251.902, 0.024, "true"},   // REFERENCES §9: base Induan 251.902 ± 0.024 (ICS chart v2024/12)
+		{"Toarcian", 184.2, 0.3, "true"},     // REFERENCES §9: base Toarcian 184.2 ± 0.3
+		{"Hettangian", 201.4, 0.2, "true"},   // REFERENCES §9: base Hettangian 201.4 ± 0.2
+		{"Danian", 66.0, 0, "true"},          // REFERENCES §9: base Danian 66.0
+		{"Kimmeridgian", 154.8, 0.8, "true"}, // ICS chart v2024/12 (the demo's boundary)
+	}
+	for _, tc := range cases {
+		u, ok := chartUnit(chart, tc.id)
+		if !ok {
+			t.Fatalf("%s not in the embedded chart", tc.id)
+		}
+		if u.BaseMa != tc.baseMa || u.Rank != "Age" || u.Status != tc.status {
+			t.Errorf("%s: base %v rank %s status %q, want %v Age %q", tc.id, u.BaseMa, u.Rank, u.Status, tc.baseMa, tc.status)
+		}
+		switch {
+		case tc.pmMa == 0 && u.BasePmMa != nil:
+			t.Errorf("%s: ± %v, want none", tc.id, *u.BasePmMa)
+		case tc.pmMa != 0 && (u.BasePmMa == nil || *u.BasePmMa != tc.pmMa):
+			t.Errorf("%s: ± %v, want %v", tc.id, u.BasePmMa, tc.pmMa)
+		}
+	}
+	// data/README.md of the chart: the 2024/12 data give 205.7 for the base Rhaetian (the 2023/09 chart printed ~208.5).
+	if u, _ := chartUnit(chart, "Rhaetian"); u.BaseMa != 205.7 {
+		t.Errorf("base Rhaetian %v, want 205.7 (v2024/12)", u.BaseMa)
+	}
+	if got := len(chart); got != 177 {
+		t.Errorf("%d units, want the chart's 177", got)
+	}
+}
+
+func TestTimescalePage(t *testing.T) {
+	srv, _ := mustServer(t)
+	status, _, body := get(t, srv, "/timescale")
+	if status != http.StatusOK {
+		t.Fatalf("status %d", status)
+	}
+	for _, want := range []string{"v2024/12", "CC BY 4.0", "International Commission on Stratigraphy", "Induan", "251.902 ± 0.024", "GSSP ratified", "Upper Jurassic"} {
+		if !strings.Contains(body, want) {
+			t.Errorf("/timescale lacks %q", want)
+		}
+	}
+	_, _, ages := get(t, srv, "/timescale?rank=Age")
+	if strings.Contains(ages, `title="">Epoch</td>`) || !strings.Contains(ages, "Kimmeridgian") {
+		t.Error("rank=Age should list the ages (stages) only")
+	}
+	if status, _, body := get(t, srv, "/timescale?rank=Stage"); status != http.StatusBadRequest || !strings.Contains(body, "rank") {
+		t.Errorf("rank=Stage: status %d, want 400 naming rank", status)
+	}
+	_, h, c := get(t, srv, "/timescale?format=csv")
+	rows, err := csv.NewReader(strings.NewReader(c)).ReadAll()
+	if err != nil || !strings.HasPrefix(h.Get("Content-Type"), "text/csv") || len(rows) != 178 {
+		t.Errorf("CSV: %d rows (%v), type %s; want the header and 177 units", len(rows), err, h.Get("Content-Type"))
+	}
+	_, _, j := get(t, srv, "/timescale?format=json")
+	var doc struct {
+		Version     string       `json:"version"`
+		Attribution string       `json:"attribution"`
+		Units       []chronoUnit `json:"units"`
+	}
+	if err := json.Unmarshal([]byte(j), &doc); err != nil || !strings.Contains(doc.Version, "v2024/12") || !strings.Contains(doc.Attribution, "CC BY 4.0") || len(doc.Units) != 177 {
+		t.Errorf("JSON: %v, version %q, %d units", err, doc.Version, len(doc.Units))
+	}
+}
+
+// densityPath returns the d attribute of the density curve in a page or SVG.
+func densityPath(t testing.TB, body string) string {
+	t.Helper()
+	m := regexp.MustCompile(`<path d="([^"]+)" id="density"`).FindStringSubmatch(body)
+	if m == nil {
+		t.Fatal("no density curve (id=density) in the figure")
+	}
+	return m[1]
+}
+
+func TestTimelineEachBandwidthRule(t *testing.T) {
+	srv, _ := mustServer(t)
+	cases := []struct {
+		query string
+		want  []string
+	}{
+		// 17 unit means: ζ(t) has no root, so ISJ falls back (stats.SelectBandwidth) and the page says so.
+		{"", []string{"Bandwidth fallback", "no root", "Silverman robust", "Age (Ma)", "Density (per Ma)", "± 2σ", "v2024/12"}},
+		{"?bw=isj&count=date", []string{"ISJ", "Age (Ma)"}},
+		{"?bw=scott", []string{"Scott", "h = "}},
+		{"?bw=silverman", []string{"Silverman"}},
+		{"?bw=silverman-robust", []string{"Silverman robust"}},
+		{"?bw=user&h=0.1", []string{"h = 0.100 Ma", "user"}},
+		{"?bw=scott&adaptive=1", []string{"adaptive KDE (Abramson"}},
+		{"?pdp=1", []string{stats.PDPCaution[:60], `id="pdp"`, "PDP"}},
+		{"?sigma=1", []string{"± 1σ"}},
+		{"?reps=200&seed=7", []string{"reps=200, seed=7", "200 replicates, seed 7"}},
+	}
+	paths := map[string]string{}
+	for _, tc := range cases {
+		t.Run(tc.query, func(t *testing.T) {
+			status, _, body := get(t, srv, "/provinces/1/timeline"+tc.query)
+			if status != http.StatusOK {
+				t.Fatalf("status %d", status)
+			}
+			for _, w := range tc.want {
+				if !strings.Contains(body, w) {
+					t.Errorf("page lacks %q", w)
+				}
+			}
+			paths[tc.query] = densityPath(t, body)
+		})
+	}
+	// Changing the rule changes the figure (the ISJ fallback and the robust rule coincide, by design).
+	for _, pair := range [][2]string{{"", "?bw=scott"}, {"?bw=scott", "?bw=silverman"}, {"?bw=silverman", "?bw=user&h=0.1"}, {"", "?bw=user&h=0.1"}} {
+		if paths[pair[0]] == paths[pair[1]] {
+			t.Errorf("density of %q and %q are the same curve", pair[0], pair[1])
+		}
+	}
+	_, _, isj := get(t, srv, "/provinces/1/timeline?format=csv&table=density")
+	_, _, robust := get(t, srv, "/provinces/1/timeline?format=csv&table=density&bw=silverman-robust")
+	if isj != robust {
+		t.Error("the ISJ fallback should give the Silverman robust density")
+	}
+}
+
+// mustSmallProvince adds a province of ten units with one U–Pb date each, at the K10 ages of REFERENCES §4,
+// and returns its id.
+func mustSmallProvince(t testing.TB, db *store.DB) int64 {
+	t.Helper()
+	ctx := context.Background()
+	if _, err := db.ImportProvinces(ctx, "p.csv", strings.NewReader("province,description\nK10 test province,ten ages of REFERENCES §4 K10\n")); err != nil {
+		t.Fatal(err)
+	}
+	k10 := []float64{201.20, 201.35, 201.41, 201.48, 201.52, 201.55, 201.61, 201.90, 202.05, 202.30} // REFERENCES §4 K10
+	var units, dates strings.Builder
+	units.WriteString("province,unit,kind,pile_position,volume_km3,volume_sigma_km3,latitude,longitude,notes\n")
+	dates.WriteString("province,unit,section,height_m,sample_code,method,material,interpretation,age_ma,sigma_ma,sigma_y_ma,sigma_z_ma,sigma_level,tracer,monitor,monitor_age_ma,lambda_per_a,laboratory,citation,doi,latitude,longitude,review_state,notes\n")
+	for i, a := range k10 {
+		fmt.Fprintf(&units, "K10 test province,K%d,flow,%d,100,10,,,\n", i+1, i+1)
+		fmt.Fprintf(&dates, "K10 test province,K%d,,,K10-%02d,upb_idtims,zircon,eruption,%.2f,0.05,,,1,,,,,Lab,Test citation,,,,accepted,\n", i+1, i+1, a)
+	}
+	if _, err := db.ImportUnits(ctx, "u.csv", strings.NewReader(units.String())); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.ImportDates(ctx, "d.csv", strings.NewReader(dates.String())); err != nil {
+		t.Fatal(err)
+	}
+	ps, err := db.Provinces(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range ps {
+		if p.Name == "K10 test province" {
+			return p.ID
+		}
+	}
+	t.Fatal("small province not found")
+	return 0
+}
+
+func TestTimelineK10Fallback(t *testing.T) {
+	srv, db := mustServer(t)
+	id := mustSmallProvince(t, db)
+	path := fmt.Sprintf("/provinces/%d/timeline", id)
+	status, _, body := get(t, srv, path)
+	if status != http.StatusOK {
+		t.Fatalf("status %d", status)
+	}
+	for _, want := range []string{"Bandwidth fallback", "ISJ: ζ(t) has no root", "h = 0.170 Ma"} {
+		if !strings.Contains(body, want) {
+			t.Errorf("K10 page lacks %q", want)
+		}
+	}
+	_, _, j := get(t, srv, path+"?format=json")
+	var doc struct {
+		Bandwidth struct {
+			HMa       float64 `json:"h_ma"`
+			Rule      string  `json:"rule"`
+			Requested string  `json:"requested"`
+			Fallback  bool    `json:"fallback"`
+		} `json:"bandwidth"`
+		Values []densityValue `json:"values"`
+	}
+	if err := json.Unmarshal([]byte(j), &doc); err != nil {
+		t.Fatal(err)
+	}
+	b := doc.Bandwidth
+	// REFERENCES §4 K10: no ISJ root, so the fallback; the 0.9 rule with the type-7 IQR gives h = 0.1695109284.
+	if !b.Fallback || b.Requested != "isj" || b.Rule != "silverman-robust" || math.Abs(b.HMa/0.1695109284-1) > 1e-9 {
+		t.Errorf("bandwidth %+v, want the ISJ fallback to silverman-robust with h = 0.1695109284", b)
+	}
+	if len(doc.Values) != 10 {
+		t.Errorf("%d values counted, want one per unit (10)", len(doc.Values))
+	}
+}
+
+func TestTimelineFewValues(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	if _, err := db.ImportProvinces(ctx, "p.csv", strings.NewReader("province,description\nEmpty,no units\nOne,one unit\n")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.ImportUnits(ctx, "u.csv", strings.NewReader("province,unit,kind\nOne,Lone Flow,flow\n")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.ImportDates(ctx, "d.csv", strings.NewReader("province,unit,sample_code,method,material,interpretation,age_ma,sigma_ma,sigma_level,laboratory,citation,review_state\n"+
+		"One,Lone Flow,L-1,upb_idtims,zircon,eruption,201.5,0.05,1,Lab,Test,accepted\n")); err != nil {
+		t.Fatal(err)
+	}
+	ps, err := db.Provinces(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ids := map[string]int64{}
+	for _, p := range ps {
+		ids[p.Name] = p.ID
+	}
+	cases := []struct {
+		name string
+		want []string
+	}{
+		{"Empty", []string{"No unit of this province has a date to draw.", "No density: it needs at least two values to count, and there are 0."}},
+		{"One", []string{"No density: it needs at least two values to count, and there are 1.", "Lone Flow", `href="/dates/`}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			for _, f := range []string{"", "?format=svg", "?format=png", "?format=pdf", "?format=json", "?format=csv"} {
+				if status, _, _ := get(t, srv, fmt.Sprintf("/provinces/%d/timeline%s", ids[tc.name], f)); status != http.StatusOK {
+					t.Errorf("%s: status %d", f, status)
+				}
+			}
+			_, _, body := get(t, srv, fmt.Sprintf("/provinces/%d/timeline", ids[tc.name]))
+			for _, w := range tc.want {
+				if !strings.Contains(body, w) {
+					t.Errorf("page lacks %q", w)
+				}
+			}
+		})
+	}
+}
+
+func TestTimelineBadParameters(t *testing.T) {
+	srv, _ := mustServer(t)
+	cases := []struct{ query, names string }{
+		{"bw=botev", "bw"},
+		{"bw=user", "h"},
+		{"bw=user&h=-0.1", "h"},
+		{"bw=user&h=abc", "h"},
+		{"reps=5", "reps"},
+		{"reps=many", "reps"},
+		{"seed=-1", "seed"},
+		{"from=old", "from"},
+		{"to=5000", "to"},
+		{"from=155&to=155", "from, to"},
+		{"count=all", "count"},
+		{"weight=mass", "weight"},
+		{"pdp=yes", "pdp"},
+		{"adaptive=2", "adaptive"},
+		{"format=gif", "format"},
+		{"table=ages", "table"},
+		{"sigma=3", "sigma"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.query, func(t *testing.T) {
+			status, _, body := get(t, srv, "/provinces/1/timeline?"+tc.query)
+			if status != http.StatusBadRequest {
+				t.Fatalf("status %d, want 400", status)
+			}
+			if !strings.Contains(body, "<li>"+tc.names+":") {
+				t.Errorf("the page does not name %q as the problem", tc.names)
+			}
+		})
+	}
+	if status, _, _ := get(t, srv, "/provinces/999/timeline"); status != http.StatusNotFound {
+		t.Errorf("unknown province: status %d, want 404", status)
+	}
+}
+
+func TestTimelineDownloads(t *testing.T) {
+	srv, _ := mustServer(t)
+	res, err := http.Get(srv.URL + "/provinces/1/timeline?format=svg")
+	if err != nil {
+		t.Fatal(err)
+	}
+	svg, _ := io.ReadAll(res.Body)
+	res.Body.Close()
+	if ct := res.Header.Get("Content-Type"); ct != "image/svg+xml" {
+		t.Errorf("SVG content type %q", ct)
+	}
+	dec := xml.NewDecoder(bytes.NewReader(svg))
+	for {
+		_, err := dec.Token()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			t.Fatalf("SVG does not parse as XML: %v", err)
+		}
+	}
+
+	_, h, pngBody := get(t, srv, "/provinces/1/timeline?format=png")
+	img, err := png.Decode(strings.NewReader(pngBody))
+	if err != nil || h.Get("Content-Type") != "image/png" {
+		t.Fatalf("PNG: %v (type %s)", err, h.Get("Content-Type"))
+	}
+	if b := img.Bounds(); b.Dx() != 1960 {
+		t.Errorf("PNG %d px wide, want 1960 (980 pt at 144 dpi)", b.Dx())
+	}
+	_, h, pdf := get(t, srv, "/provinces/1/timeline?format=pdf")
+	if !strings.HasPrefix(pdf, "%PDF") || h.Get("Content-Type") != "application/pdf" {
+		t.Errorf("PDF starts %q (type %s)", pdf[:min(8, len(pdf))], h.Get("Content-Type"))
+	}
+
+	_, _, pc := get(t, srv, "/provinces/1/timeline?format=csv&table=pulses")
+	rows, err := csv.NewReader(strings.NewReader(pc)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) < 3 || rows[0][0] != "pulse" || rows[1][0] != "P1" || rows[2][0] != "P2" {
+		t.Errorf("pulse CSV %v: want a header and the demo's two pulses", rows)
+	}
+	_, _, dc := get(t, srv, "/provinces/1/timeline?format=csv&table=density")
+	rows, err = csv.NewReader(strings.NewReader(dc)).ReadAll()
+	if err != nil || len(rows) < 257 || rows[0][1] != "kde_per_ma" {
+		t.Errorf("density CSV: %d rows, %v", len(rows), err)
+	}
+	_, _, vc := get(t, srv, "/provinces/1/timeline?format=csv&table=values")
+	rows, err = csv.NewReader(strings.NewReader(vc)).ReadAll()
+	if err != nil || len(rows) != 18 {
+		t.Errorf("values CSV: %d rows (%v), want a header and 17 unit means", len(rows), err)
+	}
+
+	_, _, j := get(t, srv, "/provinces/1/timeline?format=json&from=156.5&to=153.5")
+	var doc struct {
+		WindowMa []float64 `json:"window_ma"`
+		Pulses   []struct {
+			Pulse     string             `json:"pulse"`
+			Frequency float64            `json:"frequency"`
+			ModeMa    float64            `json:"mode_ma"`
+			Start     stats.AgeQuantiles `json:"start_quantiles"`
+		} `json:"pulses"`
+		Density []map[string]float64 `json:"density"`
+		Seed    uint64               `json:"seed"`
+	}
+	if err := json.Unmarshal([]byte(j), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.WindowMa) != 2 || doc.WindowMa[0] != 153.5 || doc.WindowMa[1] != 156.5 {
+		t.Errorf("window %v, want [153.5 156.5]", doc.WindowMa)
+	}
+	if len(doc.Density) == 0 || doc.Density[0]["age_ma"] != 153.5 || doc.Seed != 1 {
+		t.Errorf("density from %v, seed %d", doc.Density[0]["age_ma"], doc.Seed)
+	}
+	// The invented demo has two pulses, about 155.4 and 154.7 Ma (testdata/demo/provinces.csv); with one
+	// value per unit they are the two modes, older first.
+	if len(doc.Pulses) != 2 || doc.Pulses[0].ModeMa <= doc.Pulses[1].ModeMa {
+		t.Fatalf("pulses %+v, want two, oldest first", doc.Pulses)
+	}
+	for _, p := range doc.Pulses {
+		if !(p.Frequency > 0 && p.Frequency <= 1) || !(p.Start.UpperMa >= p.Start.LowerMa) {
+			t.Errorf("pulse %+v: frequency or start interval out of order", p)
+		}
+	}
+}
+
+func TestTimelineFigureContent(t *testing.T) {
+	srv, db := mustServer(t)
+	_, _, svg := get(t, srv, "/provinces/1/timeline?format=svg")
+	ds, _, err := db.Dates(context.Background(), store.DateFilter{ProvinceID: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Every date of the province is drawn with a hover title linking to its record.
+	for _, d := range ds {
+		if want := fmt.Sprintf(`<a href="/dates/%d"><title>%s`, d.ID, d.SampleCode); !strings.Contains(svg, want) {
+			t.Errorf("no linked hover title for date %d (%s)", d.ID, d.SampleCode)
+		}
+	}
+	for _, want := range []string{"Age (Ma)", "older", "younger", "Density (per Ma)", "± 2σ, analytical", "Oxfordian", "Kimmeridgian",
+		"International Chronostratigraphic Chart v2024/12 (CC BY 4.0)", "U–Pb ID-TIMS", "⁴⁰Ar/³⁹Ar plateau", "P1", "P2", "95 % bootstrap band"} {
+		if !strings.Contains(svg, want) {
+			t.Errorf("figure lacks %q", want)
+		}
+	}
+	// Volume weighting names the units without a volume (testdata/demo/units.csv: the two dyke units).
+	_, _, page := get(t, srv, "/provinces/1/timeline?weight=volume")
+	for _, want := range []string{"No volume is known for Brattgangel Dyke, Vardrupel Dyke Swarm: left out", "Volume-weighted density (per Ma)"} {
+		if !strings.Contains(page, want) {
+			t.Errorf("weight=volume page lacks %q", want)
+		}
+	}
+	_, _, page = get(t, srv, "/provinces/1/timeline")
+	if !strings.Contains(page, "weighting by volume (weight=volume) would leave them out") {
+		t.Error("the default page does not say which units lack a volume")
+	}
+	if !strings.Contains(page, "Tindravik Flow Group: its ⁴⁰Ar/³⁹Ar mean is set aside; the U–Pb mean is counted") {
+		t.Error("the page does not say which mean of a mixed unit is counted")
+	}
+}
+
+// TestTimelineGolden keeps the demo timeline's SVG under testdata/ (go test ./web -run Golden -update
+// rewrites it). The bootstrap is seeded, so the figure is the same on every run.
+func TestTimelineGolden(t *testing.T) {
+	srv, _ := mustServer(t)
+	_, _, svg := get(t, srv, "/provinces/1/timeline?format=svg")
+	golden := filepath.Join("testdata", "timeline-demo.svg")
+	if *update {
+		if err := os.MkdirAll("testdata", 0o755); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(golden, []byte(svg), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want, err := os.ReadFile(golden)
+	if err != nil {
+		t.Fatalf("%v (run go test ./web -run Golden -update)", err)
+	}
+	if svg != string(want) {
+		t.Errorf("demo timeline differs from %s; if the change is intended, run go test ./web -run Golden -update and look at the figure", golden)
+	}
+}
