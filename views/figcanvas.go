@@ -1,9 +1,9 @@
 package views
 
 import (
-	"html"
 	"bytes"
 	"fmt"
+	"html"
 	"image/color"
 	"math"
 	"strconv"

@@ -114,15 +114,15 @@ const (
 )
 
 const (
-	figFont     = "Liberation Sans, Arial, Helvetica, sans-serif"
-	panelW      = 170.0
-	panelGap    = 26.0
-	secFigLeft     = 62.0
-	secFigRight    = 36.0
-	plotH       = 560.0
-	gutterW     = 12.0
-	secLegendRowH  = 18.0
-	legendItemW = 250.0
+	figFont       = "Liberation Sans, Arial, Helvetica, sans-serif"
+	panelW        = 170.0
+	panelGap      = 26.0
+	secFigLeft    = 62.0
+	secFigRight   = 36.0
+	plotH         = 560.0
+	gutterW       = 12.0
+	secLegendRowH = 18.0
+	legendItemW   = 250.0
 )
 
 // svgBuf collects SVG text.
