@@ -28,25 +28,13 @@ func provinceTable(ps []store.Province) views.Table {
 }
 
 func (s *Server) handleProvinceList(w http.ResponseWriter, r *http.Request) error {
-	p := newParams(r)
-	format := p.format()
-	if err := p.err(); err != nil {
-		return err
-	}
 	ps, err := s.store.Provinces(r.Context())
 	if err != nil {
 		return err
 	}
-	switch format {
-	case "csv":
-		return writeDownload(w, "provinces.csv", func(w io.Writer) error { return store.WriteProvincesCSV(w, ps) })
-	case "json":
-		return writeList(w, "provinces", len(ps), 0, len(ps), ps)
-	}
-	l := views.List{Page: s.page(r.Context(), "Provinces", "Provinces"), Table: provinceTable(ps)}
-	l.Page.Downloads = toLinks(downloads(r))
-	s.render(w, r, http.StatusOK, views.ListPage(l))
-	return nil
+	return respondList(s, w, r, "provinces", ps, store.WriteProvincesCSV, func() views.List {
+		return views.List{Page: s.page(r.Context(), "Provinces", "Provinces"), Table: provinceTable(ps)}
+	})
 }
 
 // unitAgeRange summarises the published ages of each unit ("min – max Ma", or one age).

@@ -2,6 +2,7 @@ package web
 
 import (
 	"encoding/json"
+	"io"
 	"net/http"
 
 	"coeval/views"
@@ -42,4 +43,25 @@ func toLinks(ls []linkSpec) []views.Link {
 		out[i] = views.Link{Label: l.label, URL: l.url}
 	}
 	return out
+}
+
+// respondList answers a whole-list request (format read from the URL): CSV through writeCSV, JSON as a
+// list envelope, or the HTML page that view builds (with its CSV and JSON links).
+func respondList[T any](s *Server, w http.ResponseWriter, r *http.Request, kind string, items []T,
+	writeCSV func(io.Writer, []T) error, view func() views.List) error {
+	p := newParams(r)
+	format := p.format()
+	if err := p.err(); err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		return writeDownload(w, kind+".csv", func(w io.Writer) error { return writeCSV(w, items) })
+	case "json":
+		return writeList(w, kind, len(items), 0, len(items), items)
+	}
+	l := view()
+	l.Page.Downloads = toLinks(downloads(r))
+	s.render(w, r, http.StatusOK, views.ListPage(l))
+	return nil
 }

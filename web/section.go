@@ -45,25 +45,13 @@ func sectionTable(ss []store.Section) views.Table {
 }
 
 func (s *Server) handleSectionList(w http.ResponseWriter, r *http.Request) error {
-	p := newParams(r)
-	format := p.format()
-	if err := p.err(); err != nil {
-		return err
-	}
 	ss, err := s.store.Sections(r.Context())
 	if err != nil {
 		return err
 	}
-	switch format {
-	case "csv":
-		return writeDownload(w, "sections.csv", func(w io.Writer) error { return store.WriteSectionsCSV(w, ss) })
-	case "json":
-		return writeList(w, "sections", len(ss), 0, len(ss), ss)
-	}
-	l := views.List{Page: s.page(r.Context(), "Sections", "Sections"), Table: sectionTable(ss)}
-	l.Page.Downloads = toLinks(downloads(r))
-	s.render(w, r, http.StatusOK, views.ListPage(l))
-	return nil
+	return respondList(s, w, r, "sections", ss, store.WriteSectionsCSV, func() views.List {
+		return views.List{Page: s.page(r.Context(), "Sections", "Sections"), Table: sectionTable(ss)}
+	})
 }
 
 // tieTable lists tie points with ages at the chosen σ level.
