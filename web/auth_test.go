@@ -98,6 +98,7 @@ var routeRoles = map[string]string{
 	"GET /changes/{id}":                "",
 	"GET /dates/new":                   store.RoleContributor,
 	"POST /dates/new":                  store.RoleContributor,
+	"POST /provinces/{id}/pulses":      store.RoleContributor,
 	"GET /dates/{id}/edit":             store.RoleContributor,
 	"POST /dates/{id}/edit":            store.RoleContributor,
 	"GET /import":                      store.RoleContributor,

@@ -70,6 +70,8 @@ type Store interface {
 	Tokens(ctx context.Context, userID int64) ([]store.Token, error)
 	SetSetting(ctx context.Context, key, value string) error
 	Backup(ctx context.Context, path string) error
+	SavePulses(ctx context.Context, provinceID int64, source string, ps []store.Pulse) ([]store.Pulse, error)
+	Pulses(ctx context.Context, provinceID int64) ([]store.Pulse, error)
 }
 
 // Server holds what the handlers share.

@@ -23,6 +23,7 @@ import (
 
 func (s *Server) registerTimelineRoutes(r chi.Router) {
 	r.Get("/provinces/{id}/timeline", s.handle(s.handleTimeline))
+	r.With(s.requireRole(store.RoleContributor)).Post("/provinces/{id}/pulses", s.handle(s.handlePulsesSave))
 	r.Get("/timescale", s.handle(s.handleTimescale))
 }
 
@@ -409,7 +410,17 @@ func (s *Server) handleTimeline(w http.ResponseWriter, r *http.Request) error {
 		writeJSON(w, http.StatusOK, timelineJSON(r, prov, res, ch))
 		return nil
 	}
-	s.render(w, r, http.StatusOK, views.TimelinePage(s.timelinePage(r, prov, fig, res, ch)))
+	v := s.timelinePage(r, prov, fig, res, ch)
+	saved, err := s.store.Pulses(ctx, id)
+	if err != nil {
+		return err
+	}
+	v.Tables = append(v.Tables, savedPulseTable(saved))
+	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) && len(res.Pulses) > 0 {
+		v.Actions = []views.Action{{Label: fmt.Sprintf("Save these %d pulses as records of the province", len(res.Pulses)),
+			URL: fmt.Sprintf("/provinces/%d/pulses?%s", id, r.URL.RawQuery)}}
+	}
+	s.render(w, r, http.StatusOK, views.TimelinePage(v))
 	return nil
 }
 
@@ -419,4 +430,76 @@ func writeFile(w http.ResponseWriter, contentType, name string, b []byte) error 
 	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", name))
 	w.Write(b)
 	return nil
+}
+
+// handlePulsesSave saves the pulses found with the choices in the address as records of the province:
+// each pulse's interval runs from its median start to its median end, its notes keep the 95 % intervals,
+// the share of replicates in which it exists and the address it was found with, and its units are those
+// whose counted value lies in the interval. A pulse of the same name (P1 = oldest, …) is replaced as a
+// new version.
+func (s *Server) handlePulsesSave(w http.ResponseWriter, r *http.Request) error {
+	r = actingCtx(r)
+	ctx := r.Context()
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	p := newParams(r)
+	ch, err := s.densityChoice(ctx, p)
+	if err != nil {
+		return err
+	}
+	if err := p.err(); err != nil {
+		return err
+	}
+	_, sums, err := s.timelineData(ctx, id, ch)
+	if err != nil {
+		return err
+	}
+	res, err := computeDensity(sums, ch, dateBars(sums, ch))
+	if err != nil {
+		return err
+	}
+	if len(res.Pulses) == 0 {
+		return badRequest{message: "No pulse was found with these choices, so there is nothing to save."}
+	}
+	source := idURL("/provinces", id) + "/timeline?" + r.URL.RawQuery
+	var ps []store.Pulse
+	for i, pu := range oldestFirst(res.Pulses) {
+		start, end := pu.Start.MedianMa, pu.End.MedianMa
+		sp := store.Pulse{Name: fmt.Sprintf("P%d", i+1), StartMa: &start, EndMa: &end,
+			Notes: fmt.Sprintf("Found from the density (%s): mode %s Ma [95 %%: %s–%s], start %s [%s–%s], end %s [%s–%s] Ma; present in %.0f %% of %d replicates (seed %d).",
+				ch.Rule.String(), fixed(pu.Mode.MedianMa, 3), fixed(pu.Mode.UpperMa, 3), fixed(pu.Mode.LowerMa, 3),
+				fixed(start, 3), fixed(pu.Start.UpperMa, 3), fixed(pu.Start.LowerMa, 3),
+				fixed(end, 3), fixed(pu.End.UpperMa, 3), fixed(pu.End.LowerMa, 3), 100*pu.Frequency, ch.Reps, ch.Seed)}
+		seen := map[int64]bool{}
+		for _, v := range res.Values {
+			if v.AgeMa <= start && v.AgeMa >= end && !seen[v.UnitID] {
+				seen[v.UnitID] = true
+				sp.UnitIDs = append(sp.UnitIDs, v.UnitID)
+			}
+		}
+		ps = append(ps, sp)
+	}
+	if _, err := s.store.SavePulses(ctx, id, source, ps); err != nil {
+		if ve, ok := store.AsValidation(err); ok {
+			return badRequest{message: "The pulses were not saved:", problems: problemTexts(ve.Problems)}
+		}
+		return err
+	}
+	http.Redirect(w, r, idURL("/provinces", id)+"/timeline?"+r.URL.RawQuery, http.StatusSeeOther)
+	return nil
+}
+
+// savedPulseTable lists the pulses saved as records of the province.
+func savedPulseTable(ps []store.Pulse) views.Table {
+	t := views.Table{ID: "saved-pulses", Caption: "Pulses saved as records of the province",
+		Columns: []views.Column{{Label: "Pulse"}, {Label: "Start", Unit: "Ma (older edge)", Num: true}, {Label: "End", Unit: "Ma", Num: true},
+			{Label: "Units", Num: true}, {Label: "Version", Num: true}, {Label: "Notes"}},
+		Empty: "No pulse saved yet. Contributors can save the pulses found above with the button."}
+	for _, p := range ps {
+		t.Rows = append(t.Rows, []views.Cell{{Text: p.Name}, {Text: optFixed(p.StartMa, 3), Num: true}, {Text: optFixed(p.EndMa, 3), Num: true},
+			{Text: itoa(len(p.UnitIDs)), Num: true}, {Text: itoa(p.Version), Num: true}, {Text: p.Notes}})
+	}
+	return t
 }

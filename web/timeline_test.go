@@ -12,6 +12,7 @@ import (
 	"io"
 	"math"
 	"net/http"
+	"net/url"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -448,5 +449,34 @@ func TestTimelineGolden(t *testing.T) {
 	}
 	if svg != string(want) {
 		t.Errorf("demo timeline differs from %s; if the change is intended, run go test ./web -run Golden -update and look at the figure", golden)
+	}
+}
+
+// A contributor saves the pulses found on the timeline as records of the province; saving again with
+// the same choices replaces them as new versions.
+func TestSavePulsesFromTheTimeline(t *testing.T) {
+	srv, db := mustServer(t)
+	c := client(t)
+	signIn(t, c, srv, "demo-contributor")
+	status, _, h := do(t, c, http.MethodPost, srv.URL+"/provinces/1/pulses?reps=200&seed=3", url.Values{})
+	if status != http.StatusSeeOther || !strings.Contains(h.Get("Location"), "seed=3") {
+		t.Fatalf("save: status %d, location %q", status, h.Get("Location"))
+	}
+	ps, err := db.Pulses(context.Background(), 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The demo scenario has two pulses (testdata/demo/README.md): about 155.40 and 154.70 Ma.
+	if len(ps) != 2 || ps[0].StartMa == nil || ps[0].EndMa == nil || *ps[0].StartMa < *ps[0].EndMa || len(ps[0].UnitIDs) == 0 {
+		t.Fatalf("saved pulses %+v: want two intervals with their units", ps)
+	}
+	do(t, c, http.MethodPost, srv.URL+"/provinces/1/pulses?reps=200&seed=3", url.Values{})
+	again, _ := db.Pulses(context.Background(), 1)
+	if len(again) != 2 || again[0].Version != 2 {
+		t.Errorf("saving again: %d pulses at version %d, want 2 at version 2", len(again), again[0].Version)
+	}
+	_, body, _ := do(t, c, http.MethodGet, srv.URL+"/provinces/1/timeline?reps=200&seed=3", nil)
+	if !strings.Contains(body, "Pulses saved as records") || !strings.Contains(body, "Found from the density") {
+		t.Error("the timeline does not list the saved pulses")
 	}
 }

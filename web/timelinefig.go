@@ -273,7 +273,7 @@ func pulseTable(res densityResult, ch densityChoice) views.Table {
 		"Mode, start and end are those of the density of the values as given; the 95 % intervals are bootstrap percentile intervals (2.5–97.5 %) over the replicates in which the pulse exists. " +
 			"A pulse's edges lie at the lowest density between it and its neighbour, and on the outer sides where the density falls to 5 % of its highest value.",
 		"In calibration, nominal 95 % edge intervals held the truth about 85–88 % of the time for a pulse of ~24 dates and 91–95 % from ~40 on: treat the edges of small pulses as optimistic.",
-		"Saving pulses as records of the province needs accounts (signed-in editing); until then, download the table.",
+		"Contributors can save these pulses as records of the province (button below the figure); saved pulses are listed at the end of the page.",
 	}
 	return t
 }
