@@ -129,8 +129,8 @@ const (
 	colSigma   = 4
 	colLevel   = 5
 	colMSWD    = 6
-	colFlagged = 10
-	colRemarks = 12
+	colFlagged = 11
+	colRemarks = 9
 )
 
 // groups returns the unit page's field groups: title → label → values (a label may repeat, e.g. Caution).

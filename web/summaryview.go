@@ -132,17 +132,18 @@ func summaryTable(sums []unitSummary, ch summaryChoice) views.Table {
 			{Label: fmt.Sprintf("± %dσ", ch.Sigma), Unit: "Ma", Num: true},
 			{Label: "± level", Title: "which uncertainty the ± holds, for this row"},
 			{Label: "MSWD", Num: true}, {Label: "W&C range", Num: true, Title: "Wendt & Carl (1991): 1 ± 2√(2/f)"},
-			{Label: "p", Num: true}, {Label: "Dates span", Unit: "Ma", Num: true},
+			{Label: "p", Num: true},
+			{Label: "Cautions and notes", Title: "next to the numbers they qualify"},
+			{Label: "Dates span", Unit: "Ma", Num: true},
 			{Label: "Flagged", Unit: "rule " + ch.Rule.String()},
-			{Label: "Mean without flagged", Unit: fmt.Sprintf("Ma ± %dσ, same level", ch.Sigma), Num: true},
-			{Label: "Cautions and notes"}},
+			{Label: "Mean without flagged", Unit: fmt.Sprintf("Ma ± %dσ, same level", ch.Sigma), Num: true}},
 		Empty: "No units yet."}
 	for _, us := range sums {
 		unit := views.Cell{Text: us.Unit.Name, URL: idURL("/units", us.Unit.ID)}
 		if len(us.Systems) == 0 {
 			t.Rows = append(t.Rows, []views.Cell{unit, {Text: "—"}, {Text: "0", Num: true}, {Text: "—", Num: true},
 				{Text: "—", Num: true}, {Text: "—"}, {Text: "—", Num: true}, {Text: "—", Num: true}, {Text: "—", Num: true},
-				{Text: "—", Num: true}, {Text: "—"}, {Text: "—", Num: true}, {Text: "no dates"}})
+				{Text: "no dates"}, {Text: "—", Num: true}, {Text: "—"}, {Text: "—", Num: true}})
 			continue
 		}
 		for _, s := range us.Systems {
@@ -167,8 +168,8 @@ func summaryCells(unit views.Cell, s systemSummary, ch summaryChoice) []views.Ce
 	}
 	if !s.Computed {
 		return []views.Cell{unit, {Text: s.Label}, {Text: "0", Num: true}, {Text: "—", Num: true}, {Text: "—", Num: true},
-			lvl, {Text: "—", Num: true}, {Text: "—", Num: true}, {Text: "—", Num: true}, {Text: "—", Num: true},
-			{Text: "—"}, {Text: "—", Num: true}, remCell}
+			lvl, {Text: "—", Num: true}, {Text: "—", Num: true}, {Text: "—", Num: true}, remCell, {Text: "—", Num: true},
+			{Text: "—"}, {Text: "—", Num: true}}
 	}
 	a := s.Report.All
 	mean, sg := meanText(s.All, ch.Sigma)
@@ -189,7 +190,7 @@ func summaryCells(unit views.Cell, s systemSummary, ch summaryChoice) []views.Ce
 		span = fixed(s.MinMa, 3)
 	}
 	return []views.Cell{unit, {Text: s.Label}, {Text: itoa(a.N), Num: true}, {Text: mean, Num: true}, {Text: sg, Num: true},
-		lvl, mswd, wc, p, {Text: span, Num: true}, {Text: flagsText(s, ch)}, {Text: keptText(s, ch), Num: true}, remCell}
+		lvl, mswd, wc, p, remCell, {Text: span, Num: true}, {Text: flagsText(s, ch)}, {Text: keptText(s, ch), Num: true}}
 }
 
 // shortLevel is the part of a level label before any explanation in parentheses or after a semicolon.
