@@ -239,6 +239,9 @@ func importCmd(ctx context.Context, cfg config, args []string, stdout io.Writer)
 		if ve, ok := store.AsValidation(err); ok {
 			return fmt.Errorf("import %s rejected, nothing was imported:\n%s", file, indent(ve.Problems))
 		}
+		if store.IsUnwritable(err) {
+			return fmt.Errorf("import %s: the database %s cannot be written (read-only or disk full); nothing was imported", file, cfg.dbPath)
+		}
 		return err
 	}
 	fmt.Fprintln(stdout, res.String())

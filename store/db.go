@@ -33,7 +33,20 @@ type DB struct {
 // WAL, a busy timeout, foreign keys on, and immediate transactions so that read-then-write transactions
 // do not fail with SQLITE_BUSY under concurrency. It does not migrate; call Migrate.
 func Open(ctx context.Context, path string) (*DB, error) {
+	return open(ctx, path, false)
+}
+
+// OpenReadOnly opens the database file for reading only (SQLite's mode=ro): every write fails with
+// SQLITE_READONLY, which IsUnwritable recognises.
+func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
+	return open(ctx, path, true)
+}
+
+func open(ctx context.Context, path string, readOnly bool) (*DB, error) {
 	q := url.Values{}
+	if readOnly {
+		q.Set("mode", "ro")
+	}
 	q.Add("_pragma", "busy_timeout(5000)")
 	q.Add("_pragma", "journal_mode(WAL)")
 	q.Add("_pragma", "foreign_keys(1)")

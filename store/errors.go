@@ -77,3 +77,15 @@ func isForeignKeyViolation(err error) bool {
 	}
 	return se.Code() == 787 || se.Code() == 1811
 }
+
+// IsUnwritable reports whether err is SQLite refusing a write because the database is read-only
+// (SQLITE_READONLY, 8) or the disk or the database's page limit is full (SQLITE_FULL, 13), whatever the
+// extended code. Reads still work then; callers say so instead of reporting an internal error.
+func IsUnwritable(err error) bool {
+	var se *sqlite.Error
+	if !errors.As(err, &se) {
+		return false
+	}
+	primary := se.Code() & 0xff
+	return primary == 8 || primary == 13
+}

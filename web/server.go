@@ -93,6 +93,10 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, o),
 		limiter: newLoginLimiter(5, 15*time.Minute, o.now)}
+	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
+	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
+		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
+	}
 	r := chi.NewRouter()
 	r.Use(middleware.Recoverer)
 	r.Use(middleware.RequestID)
@@ -182,6 +186,10 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "That record is not in the compilation."
 		case errors.Is(err, context.Canceled):
 			return
+		case store.IsUnwritable(err):
+			s.log.Warn("write refused by the database", "method", r.Method, "path", r.URL.Path, "err", err)
+			view.Status, view.Page.Title = http.StatusServiceUnavailable, "Changes are not possible right now"
+			view.Message = "The database cannot take changes at the moment (it is read-only or its disk is full), so nothing was saved. Reading goes on as usual. Tell an administrator; try again later."
 		default:
 			s.log.Error("request failed", "method", r.Method, "path", r.URL.Path, "err", err, "id", middleware.GetReqID(r.Context()))
 			view.Status, view.Page.Title = http.StatusInternalServerError, "Something went wrong"
