@@ -203,3 +203,35 @@ func FuzzParseMeasurements(f *testing.F) {
 		}
 	})
 }
+
+// FuzzDateForm fills a date form with arbitrary text: it is saved, or refused with problems that name
+// form fields, and a refused form writes nothing.
+func FuzzDateForm(f *testing.F) {
+	f.Add("P", "U", "S-1", "upb_idtims", "eruption", "155.4", "0.06", "2", "", "")
+	f.Add("", "U", "S-1", "arar_plateau", "eruption", "155.4", "0.3", "2", "28.201", "5.463e-10")
+	f.Add("P", "U", "", "rocks", "?", "-1", "abc", "3", "x", "5.463")
+	f.Add("P", "U", "<script>", "other", "minimum", "1e400", "NaN", "1", "", "")
+	f.Fuzz(func(t *testing.T, province, unit, sample, method, interp, age, sigma, level, monitorAge, lambda string) {
+		ctx := context.Background()
+		db := mustOpenDB(t)
+		form := DateForm{"province": province, "unit": unit, "sample_code": sample, "method": method, "interpretation": interp,
+			"age_ma": age, "sigma_ma": sigma, "sigma_level": level, "monitor_age_ma": monitorAge, "lambda_per_a": lambda}
+		before, _ := db.Counts(ctx)
+		_, err := db.CreateDate(ctx, form, true)
+		if err == nil {
+			return
+		}
+		ve, ok := AsValidation(err)
+		if !ok {
+			t.Fatalf("non-validation error: %v", err)
+		}
+		for _, p := range ve.Problems {
+			if p.Message == "" {
+				t.Fatalf("problem without a message: %+v", p)
+			}
+		}
+		if after, _ := db.Counts(ctx); after != before {
+			t.Fatal("a refused form wrote something")
+		}
+	})
+}
