@@ -139,7 +139,12 @@ func probText(p stats.Probability, n int) string {
 	case p.P == 1:
 		return "> " + fixed(1-3/float64(n), 4)
 	}
-	return fixed(p.P, 3) + " ± " + fixed(p.SE, 3)
+	// The SE to one significant figure, the probability to the same decimals (at least 3).
+	d := 3
+	if p.SE > 0 {
+		d = max(3, int(math.Ceil(-math.Log10(p.SE))))
+	}
+	return fixed(p.P, d) + " ± " + fixed(p.SE, d)
 }
 
 func lagText(s stats.DrawSummary) string {
@@ -235,12 +240,12 @@ func sensText(row compareRow, sets int) (string, string, bool) {
 	var parts, cautions []string
 	for k, l := range labels {
 		s := row.Sens[k]
-		parts = append(parts, fmt.Sprintf("%s %s–%s", l, fixed(s.MinP, 2), fixed(s.MaxP, 2)))
+		parts = append(parts, fixed(s.MinP, 2)+"–"+fixed(s.MaxP, 2))
 		if s.Caution != "" {
 			cautions = append(cautions, l+": "+s.Caution)
 		}
 	}
-	text := strings.Join(parts, "; ") + fmt.Sprintf(" (%d sets)", sets)
+	text := strings.Join(parts, " · ")
 	if len(row.SensAbsent) > 0 {
 		cautions = append(cautions, "absent under "+strings.Join(row.SensAbsent, ", ")+" (baseline kept there)")
 	}
@@ -251,9 +256,26 @@ func sensText(row compareRow, sets int) (string, string, bool) {
 		}
 	}
 	if fails {
-		text = "⚠ " + text
+		text += " ⚠"
 	}
+	_ = sets
 	return text, strings.Join(cautions, " · "), fails
+}
+
+// restsOn names the model choices briefly, for the table; dependsText gives them in full.
+func restsOn(ev compareEvent) string {
+	parts := []string{"bandwidth"}
+	for _, d := range ev.Depends {
+		switch {
+		case strings.HasPrefix(d, "age model"):
+			parts = append(parts, strings.TrimPrefix(d, "age model: ")+" model")
+		case strings.HasPrefix(d, "Hg/TOC"):
+			parts = append(parts, "TOC threshold")
+		case strings.HasPrefix(d, "synchroneity"):
+			parts = append(parts, "synchroneity")
+		}
+	}
+	return strings.Join(parts, ", ")
 }
 
 // dependsText names the model choices a row's probabilities rest on.
@@ -359,14 +381,14 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 	}
 	t := views.Table{ID: "comparison", Caption: fmt.Sprintf("Pulses × events (%d joint draws, seed %d, level %s)", ch.N, ch.Dens.Seed, ch.Level),
 		Columns: []views.Column{col("Pulse", "", "pulse", ""), col("Event", "", "event", "sorted by age"), {Label: "Section"},
-			col("P(event after onset)", "± MC SE", "after", "P(event younger than the pulse's onset)"),
-			col("P(event within pulse)", "± MC SE", "within", "P(end ≤ event ≤ onset)"),
-			col("Lag onset → event", "Ma, median [95 %]", "lag", "onset − event; positive: the event came after the onset"),
-			col("P(|lag| < δ)", fmt.Sprintf("δ = %s Ma, ± MC SE", num(ch.DeltaMa)), "near", "chance that onset and event lie within δ of each other"),
+			col("P(after onset)", "± MC SE", "after", "P(event younger than the pulse's onset)"),
+			col("P(within)", "± MC SE", "within", "P(end ≤ event ≤ onset)"),
+			col("Lag", "onset → event, Ma [95 %]", "lag", "onset − event; positive: the event came after the onset"),
+			col("P(|lag| < δ)", fmt.Sprintf("δ = %s Ma", num(ch.DeltaMa)), "near", "chance that onset and event lie within δ of each other"),
 			col("OVL", "onset vs event", "ovl", "overlapping coefficient of the two distributions (histogram estimate): how alike they are, not a probability of synchroneity"),
-			col("Volume erupted before", "%, median [95 %]", "volume", "fraction of the province's volume with unit means older than the event"),
-			{Label: "Sensitivity", Unit: "range of P over alternatives", Title: "each cell recomputed under the other calibrations, bandwidth rules, age models (and TOC thresholds with anomalies)"},
-			{Label: "Depends on", Title: "the model choices these probabilities rest on"}},
+			col("Vol. before", "% [95 %]", "volume", "fraction of the province's volume with unit means older than the event"),
+			{Label: "Sensitivity", Unit: "after · within", Title: "P(after onset) and P(within) recomputed under the other calibrations, bandwidth rules, age models (and TOC thresholds with anomalies)"},
+			{Label: "Rests on", Title: "the model choices these probabilities rest on (hover for details)"}},
 		Empty: "Nothing to compare: the table needs at least one pulse and one event with an age."}
 	sets := 0
 	if res.Sens != nil {
@@ -398,10 +420,10 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 				}
 			}
 		}
-		cells = append(cells, sc, views.Cell{Text: dependsText(res, row.Event)})
+		cells = append(cells, sc, views.Cell{Text: restsOn(row.Event), Title: dependsText(res, row.Event)})
 		t.Rows = append(t.Rows, cells)
 	}
-	t.Notes = append(t.Notes, "± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< 0.0003” reads as below 3/N (rule of three), not zero. ⚠ in the sensitivity column: a conclusion (P > 0.95 or P < 0.05) that does not survive every alternative — hover for which.")
+	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives; ⚠ marks a conclusion (P > 0.95 or P < 0.05) that does not survive every alternative, and the probabilities concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
 	if res.Sens != nil {
 		t.Notes = append(t.Notes, "Sensitivity sets: "+strings.Join(res.Sens.Sets, ", ")+". Same seed and draws in every set, so the differences come from the inputs.")
 	}
