@@ -72,6 +72,10 @@ type Store interface {
 	Backup(ctx context.Context, path string) error
 	SavePulses(ctx context.Context, provinceID int64, source string, ps []store.Pulse) ([]store.Pulse, error)
 	Pulses(ctx context.Context, provinceID int64) ([]store.Pulse, error)
+	DataStamp(ctx context.Context) (int64, error)
+	SaveComparison(ctx context.Context, c store.Comparison) (int64, error)
+	Comparisons(ctx context.Context) ([]store.Comparison, error)
+	Comparison(ctx context.Context, id int64) (store.Comparison, error)
 }
 
 // Server holds what the handlers share.
@@ -118,6 +122,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerUnitRoutes(r)
 	s.registerDateRoutes(r)
 	s.registerSectionRoutes(r)
+	s.registerCompareRoutes(r)
 	r.Get("/ties", s.handle(s.handleTieList))
 	r.Get("/events", s.handle(s.handleEventList))
 	r.Get("/calibrations", s.handle(s.handleCalibrationList))

@@ -1,0 +1,42 @@
+package views
+
+// CompareView is the comparison page: pulses of a province against events of the sedimentary record.
+type CompareView struct {
+	Page
+	Intro     string
+	Form      *Form
+	LevelHelp []KV     // what each uncertainty level draws
+	Status    []KV     // seed, draws, level, δ, data stamp, computing time
+	Changed   string   // a saved comparison whose data have changed since it was saved
+	Cautions  []string // shown above the table
+	SVG       string
+	Caption   string
+	Table     Table // pulse × event
+	Events    Table // the events with their ages and volume fractions
+	Order     Table // order matrix
+	Notes     []string
+	How       []How // how each row was computed; the table's numbers link here
+	Save      *SaveForm
+}
+
+// How is the account of how one row of the comparison table was computed.
+type How struct {
+	ID    string
+	Title string
+	Lines []KV
+}
+
+// SaveForm saves the comparison's settings under a name (POST).
+type SaveForm struct {
+	Action string
+	Query  string
+	Name   string
+	Error  string
+}
+
+// SavedView lists the saved comparisons.
+type SavedView struct {
+	Page
+	Intro string
+	Table Table
+}

@@ -1,0 +1,85 @@
+package web
+
+import (
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/chromedp/chromedp"
+)
+
+// In a real headless Chromium: the nav leads to /compare; the table shows both demo pulses against the
+// demo's events with SEs; sorting by P(after onset) puts sort= in the address; a number's link opens how
+// it was computed; a contributor saves the comparison and finds it in the list. Screenshots of each.
+func TestBrowserCompare(t *testing.T) {
+	ctx := newBrowser(t)
+	srv, _ := mustServer(t)
+	dir := screenshotDir(t)
+
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/"),
+		chromedp.Click(chromedp.CSS(`header nav a[href="/compare"]`))); err != nil {
+		t.Fatal(err)
+	}
+	waitPath(t, ctx, "/compare")
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#comparison"))); err != nil {
+		t.Fatal(err)
+	}
+	body := text(t, ctx, "#comparison tbody")
+	for _, want := range []string{"P1", "P2", "CIE onset", "Hg anomaly", " ± "} {
+		if !strings.Contains(body, want) {
+			t.Errorf("comparison table lacks %q", want)
+		}
+	}
+	if got := text(t, ctx, "#compare-status"); !strings.Contains(got, "seed") || !strings.Contains(got, "10000 joint draws") || !strings.Contains(got, "as-needed") {
+		t.Errorf("status %q lacks seed, N or level", got)
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#compare-figure svg"))); err != nil {
+		t.Fatal(err)
+	}
+	shoot(t, ctx, dir, "20-compare")
+
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`#comparison thead a[href*="sort=after"]`))); err != nil {
+		t.Fatal(err)
+	}
+	waitPath(t, ctx, "/compare?")
+	if loc, err := chromedp.Run(ctx, chromedp.Location()); err != nil || !strings.Contains(loc, "sort=after") {
+		t.Errorf("address %q lacks sort=after (%v)", loc, err)
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#comparison")),
+		chromedp.Click(chromedp.CSS(`#comparison tbody tr:first-child td:nth-child(4) a`))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "#how"); !strings.Contains(got, "stats.DrawJoint") {
+		t.Error("the how-computed section does not name the draws")
+	}
+	shoot(t, ctx, dir, "21-compare-sorted")
+
+	signInBrowser(t, ctx, srv.URL, "demo-contributor")
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/compare?delta=0.2&level=full"),
+		chromedp.WaitVisible(chromedp.CSS("form.save-comparison")),
+		chromedp.SetValue(chromedp.CSS(`form.save-comparison input[name="name"]`), "Demo, full level"),
+		chromedp.Click(chromedp.CSS(`form.save-comparison button`))); err != nil {
+		t.Fatal(err)
+	}
+	for deadline := time.Now().Add(15 * time.Second); ; time.Sleep(50 * time.Millisecond) {
+		if loc, err := chromedp.Run(ctx, chromedp.Location()); err == nil && strings.Contains(loc, "saved=") {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatal("saving did not lead to the saved comparison")
+		}
+	}
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#comparison"))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "#compare-status"); !strings.Contains(got, "Demo, full level") || !strings.Contains(got, "full") {
+		t.Errorf("saved comparison status %q", got)
+	}
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/compare/saved"), chromedp.WaitVisible(chromedp.CSS("#saved"))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "#saved"); !strings.Contains(got, "Demo, full level") || !strings.Contains(got, "unchanged since") {
+		t.Errorf("saved list %q", got)
+	}
+	shoot(t, ctx, dir, "22-compare-saved")
+}

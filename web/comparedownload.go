@@ -1,0 +1,269 @@
+package web
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/xuri/excelize/v2"
+)
+
+// Downloads of a comparison: the table as CSV, JSON and XLSX (with a sheet of settings and sources).
+// All three are built from the same rows (compareRecords) in table order, so the same address gives
+// the same bytes (CSV, JSON): nothing in them depends on the time or on the cache.
+
+type ioWriter = io.Writer
+
+// compareColumns are the columns of the table downloads, units in the names.
+var compareColumns = []string{"province", "pulse", "event_code", "event", "section",
+	"p_after_onset", "p_after_onset_se", "p_within", "p_within_se",
+	"lag_median_ma", "lag_lo95_ma", "lag_hi95_ma", "delta_ma", "p_near", "p_near_se", "ovl",
+	"volume_before_median", "volume_before_lo95", "volume_before_hi95",
+	"sens_after_min", "sens_after_max", "sens_within_min", "sens_within_max", "sens_caution",
+	"n", "seed", "level", "data_stamp"}
+
+// gs formats a number for a download: shortest round-trip form, "" for NaN.
+func gs(v float64) string {
+	if math.IsNaN(v) {
+		return ""
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
+}
+
+// compareRecords returns the table's rows as download values, in table order (pulses oldest first,
+// events oldest first).
+func compareRecords(res *compareResult) [][]string {
+	ch := res.Choice
+	var out [][]string
+	sets := 0
+	if res.Sens != nil {
+		sets = len(res.Sens.Sets)
+	}
+	for _, row := range compareRows(res) {
+		c := row.Cell
+		rec := []string{res.Province.Name, row.Pulse, row.Event.Code, row.Event.Name, row.Event.Section,
+			gs(c.AfterOnset.P), gs(c.AfterOnset.SE), gs(c.Within.P), gs(c.Within.SE),
+			gs(c.LagMa.Median), gs(c.LagMa.Lo95), gs(c.LagMa.Hi95), gs(ch.DeltaMa), gs(c.Near.P), gs(c.Near.SE), gs(c.OVL)}
+		if row.Vol != nil {
+			f := row.Vol.Fraction
+			rec = append(rec, gs(f.Median), gs(f.Lo95), gs(f.Hi95))
+		} else {
+			rec = append(rec, "", "", "")
+		}
+		if len(row.Sens) > 0 && row.Sens[0] != nil {
+			_, caution, _ := sensText(row, sets)
+			rec = append(rec, gs(row.Sens[0].MinP), gs(row.Sens[0].MaxP), gs(row.Sens[1].MinP), gs(row.Sens[1].MaxP), caution)
+		} else {
+			rec = append(rec, "", "", "", "", "")
+		}
+		rec = append(rec, strconv.Itoa(ch.N), strconv.FormatUint(ch.Dens.Seed, 10), ch.Level.String(), strconv.FormatInt(res.Stamp, 10))
+		out = append(out, rec)
+	}
+	return out
+}
+
+func writeCompareCSV(w io.Writer, res *compareResult) error {
+	cw := csv.NewWriter(w)
+	cw.Write(compareColumns)
+	for _, rec := range compareRecords(res) {
+		cw.Write(rec)
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// compareSettings are the settings and sources of a comparison, as label–value pairs.
+func compareSettings(res *compareResult) [][2]string {
+	ch := res.Choice
+	d := ch.Dens
+	bw := res.Density.Bandwidth
+	s := [][2]string{
+		{"province", res.Province.Name},
+		{"seed", strconv.FormatUint(d.Seed, 10)},
+		{"joint draws N", strconv.Itoa(ch.N)},
+		{"level", ch.Level.String()},
+		{"delta_ma", gs(ch.DeltaMa)},
+		{"calibration (⁴⁰Ar/³⁹Ar)", d.Sum.Cal.Cal.Code + ": " + d.Sum.Cal.Cal.Name},
+		{"calibrations available", calCodes(res)},
+		{"density counts", d.Count + ", weight " + d.Weight},
+		{"bandwidth rule", d.Rule.String()},
+		{"bandwidth used (Ma)", gs(bw.Ma) + " (" + bw.Rule.String() + ")"},
+		{"bandwidth note", bw.Note},
+		{"adaptive", strconv.FormatBool(d.Adaptive)},
+		{"bootstrap replicates", strconv.Itoa(d.Reps)},
+		{"unit means", "analytical σ, policy " + d.Sum.PolicyCode + ", outlier rule " + d.Sum.Rule.String() + ", " + includeLabel(d.Sum.Include)},
+		{"pulse edge systematics", res.In.EdgeNote},
+		{"age model", ch.Model},
+		{"age-model draws", strconv.Itoa(ch.ModelDraws)},
+		{"TOC threshold (wt%)", tocText(ch.TocMin)},
+		{"detected anomalies compared", strconv.FormatBool(ch.Anomalies)},
+		{"correlated groups", strings.Join(ch.Groups, ", ")},
+		{"shared systematic keys", strings.Join(res.Keys, ", ")},
+		{"sensitivity sets", sensSets(res)},
+		{"data stamp", strconv.FormatInt(res.Stamp, 10)},
+	}
+	for _, e := range res.In.Events {
+		s = append(s, [2]string{"event " + e.Code, e.Name + " (" + orDash(e.Section) + "): " + e.How})
+	}
+	var cites []string
+	for _, u := range res.Sums {
+		for _, sys := range u.Systems {
+			for _, e := range sys.Entries {
+				if c := e.D.Citation; c != "" && !slices.Contains(cites, c) {
+					cites = append(cites, c)
+				}
+			}
+		}
+	}
+	slices.Sort(cites)
+	for _, c := range cites {
+		s = append(s, [2]string{"source", c})
+	}
+	s = append(s, [2]string{"timescale", timescaleCredit})
+	return s
+}
+
+func calCodes(res *compareResult) string {
+	var out []string
+	for _, c := range res.Choice.Dens.Sum.Cal.All {
+		out = append(out, c.Code)
+	}
+	return strings.Join(out, ", ")
+}
+
+func tocText(t *float64) string {
+	if t == nil {
+		return "each section's own (stored) threshold"
+	}
+	return gs(*t)
+}
+
+func sensSets(res *compareResult) string {
+	if res.Sens == nil {
+		return "not computed (sens=0)"
+	}
+	return strings.Join(res.Sens.Sets, "; ")
+}
+
+// compareJSON is the comparison as JSON: settings, rows (with the columns of the CSV), and the order
+// matrix.
+func compareJSON(res *compareResult) map[string]any {
+	settings := map[string]string{}
+	var sources []string
+	for _, kv := range compareSettings(res) {
+		if kv[0] == "source" {
+			sources = append(sources, kv[1])
+			continue
+		}
+		settings[kv[0]] = kv[1]
+	}
+	var rows []map[string]string
+	for _, rec := range compareRecords(res) {
+		m := map[string]string{}
+		for i, c := range compareColumns {
+			m[c] = rec[i]
+		}
+		rows = append(rows, m)
+	}
+	o := res.Order
+	matrix := map[string]any{"items": res.OrderCodes, "names": o.Names, "p_row_older": nanNull(o.P), "se": nanNull(o.SE)}
+	return map[string]any{"settings": settings, "sources": sources, "rows": rows, "order": matrix}
+}
+
+// nanNull replaces NaN (the diagonal) by nil so the matrix is valid JSON.
+func nanNull(m [][]float64) [][]any {
+	out := make([][]any, len(m))
+	for i, r := range m {
+		out[i] = make([]any, len(r))
+		for k, v := range r {
+			if !math.IsNaN(v) {
+				out[i][k] = v
+			}
+		}
+	}
+	return out
+}
+
+// compareXLSX writes the workbook: the table, the order matrix and a sheet of settings and sources.
+func compareXLSX(res *compareResult) ([]byte, error) {
+	f := excelize.NewFile()
+	defer f.Close()
+	const table, order, settings = "Comparison", "Order", "Settings"
+	if err := f.SetSheetName("Sheet1", table); err != nil {
+		return nil, err
+	}
+	for _, s := range []string{order, settings} {
+		if _, err := f.NewSheet(s); err != nil {
+			return nil, err
+		}
+	}
+	row := func(sheet string, r int, vals []any) error {
+		cell, err := excelize.CoordinatesToCellName(1, r)
+		if err != nil {
+			return err
+		}
+		return f.SetSheetRow(sheet, cell, &vals)
+	}
+	hdr := make([]any, len(compareColumns))
+	for i, c := range compareColumns {
+		hdr[i] = c
+	}
+	if err := row(table, 1, hdr); err != nil {
+		return nil, err
+	}
+	for r, rec := range compareRecords(res) {
+		vals := make([]any, len(rec))
+		for i, v := range rec {
+			if x, err := strconv.ParseFloat(v, 64); err == nil && i >= 5 && compareColumns[i] != "seed" {
+				vals[i] = x
+			} else {
+				vals[i] = v
+			}
+		}
+		if err := row(table, r+2, vals); err != nil {
+			return nil, err
+		}
+	}
+	o := res.Order
+	top := []any{"P(row older than column)"}
+	for _, c := range res.OrderCodes {
+		top = append(top, c)
+	}
+	if err := row(order, 1, top); err != nil {
+		return nil, err
+	}
+	for i := range o.Names {
+		vals := []any{res.OrderCodes[i] + " · " + o.Names[i]}
+		for k := range o.Names {
+			if i == k {
+				vals = append(vals, "")
+			} else {
+				vals = append(vals, o.P[i][k])
+			}
+		}
+		if err := row(order, i+2, vals); err != nil {
+			return nil, err
+		}
+	}
+	if err := row(settings, 1, []any{"setting", "value"}); err != nil {
+		return nil, err
+	}
+	for i, kv := range compareSettings(res) {
+		if err := row(settings, i+2, []any{kv[0], kv[1]}); err != nil {
+			return nil, err
+		}
+	}
+	f.SetColWidth(table, "D", "E", 28)
+	f.SetColWidth(settings, "A", "A", 30)
+	f.SetColWidth(settings, "B", "B", 100)
+	var buf bytes.Buffer
+	if err := f.Write(&buf); err != nil {
+		return nil, fmt.Errorf("comparison workbook: %w", err)
+	}
+	return buf.Bytes(), nil
+}
