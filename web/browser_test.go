@@ -101,9 +101,14 @@ func shoot(t testing.TB, ctx context.Context, dir, name string) {
 	if err != nil {
 		t.Fatalf("screenshot %s: %v", name, err)
 	}
-	if err := os.WriteFile(filepath.Join(dir, name+".png"), png, 0o644); err != nil {
+	if err := os.WriteFile(shotPath(t, dir, name), png, 0o644); err != nil {
 		t.Fatal(err)
 	}
+}
+
+// shotPath names a screenshot after its test, so the tests never overwrite each other's pictures.
+func shotPath(t testing.TB, dir, name string) string {
+	return filepath.Join(dir, strings.TrimPrefix(t.Name(), "Test")+"-"+name+".png")
 }
 
 func text(t testing.TB, ctx context.Context, sel string) string {
@@ -357,7 +362,7 @@ func TestBrowserSectionPages(t *testing.T) {
 		if err != nil {
 			t.Fatalf("screenshot of %s: %v", sel, err)
 		}
-		if err := os.WriteFile(filepath.Join(dir, name+".png"), png, 0o644); err != nil {
+		if err := os.WriteFile(shotPath(t, dir, name), png, 0o644); err != nil {
 			t.Fatal(err)
 		}
 	}
@@ -393,7 +398,7 @@ func TestBrowserSectionPages(t *testing.T) {
 	}
 	if png, err := chromedp.Run(ctx, chromedp.CaptureScreenshot()); err != nil {
 		t.Fatal(err)
-	} else if err := os.WriteFile(filepath.Join(dir, "12d-samples.png"), png, 0o644); err != nil {
+	} else if err := os.WriteFile(shotPath(t, dir, "12d-samples"), png, 0o644); err != nil {
 		t.Fatal(err)
 	}
 
