@@ -56,6 +56,10 @@ type Store interface {
 	Revisions(ctx context.Context, recordType string, id int64) ([]store.Revision, error)
 	RevisionByID(ctx context.Context, id int64) (store.Revision, error)
 	RevertDate(ctx context.Context, revID int64) error
+	RevertRevision(ctx context.Context, revID int64) error
+	CreateUnit(ctx context.Context, f store.Form) (store.Unit, error)
+	UpdateUnit(ctx context.Context, id int64, version int, f store.Form) (store.Unit, error)
+	DeleteUnit(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
@@ -105,6 +109,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
 	s.registerDateEditRoutes(r)
+	s.registerUnitEditRoutes(r)
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)
