@@ -181,6 +181,7 @@ func (s *Server) handleRecordEdit(e recordEdit) func(http.ResponseWriter, *http.
 		}
 		crumbs := append(st.crumbs, views.Link{Label: st.name, URL: idURL(e.path, id)})
 		v := s.formView(r, e, "Edit "+st.name, r.URL.Path, crumbs, st.version, st.form, nil)
+		_, v.Actions = recordLinks(r, e, id, st)
 		s.render(w, r, http.StatusOK, views.EditPage(v))
 		return nil
 	}

@@ -60,6 +60,9 @@ type Store interface {
 	CreateUnit(ctx context.Context, f store.Form) (store.Unit, error)
 	UpdateUnit(ctx context.Context, id int64, version int, f store.Form) (store.Unit, error)
 	DeleteUnit(ctx context.Context, id int64, version int) error
+	CreateSection(ctx context.Context, f store.Form) (store.Section, error)
+	UpdateSection(ctx context.Context, id int64, version int, f store.Form) (store.Section, error)
+	DeleteSection(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
@@ -110,6 +113,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerAuthRoutes(r)
 	s.registerDateEditRoutes(r)
 	s.registerUnitEditRoutes(r)
+	s.registerSectionEditRoutes(r)
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)
