@@ -119,6 +119,14 @@ var routeRoles = map[string]string{
 	"POST /sections/{id}/edit":         store.RoleCurator,
 	"POST /sections/{id}/delete":       store.RoleCurator,
 	"GET /sections/{id}/history":       "",
+	"GET /events/{id}":                 "",
+	"GET /sections/{id}/events/new":    store.RoleContributor,
+	"POST /sections/{id}/events/new":   store.RoleContributor,
+	"GET /events/{id}/edit":            store.RoleContributor,
+	"POST /events/{id}/edit":           store.RoleContributor,
+	"POST /events/{id}/review":         store.RoleCurator,
+	"POST /events/{id}/delete":         store.RoleCurator,
+	"GET /events/{id}/history":         "",
 	"GET /account":                     store.RoleReader,
 	"POST /account/tokens":             store.RoleReader,
 	"POST /account/tokens/{id}/revoke": store.RoleReader,
@@ -134,6 +142,10 @@ func TestAuthorizationMatrix(t *testing.T) {
 	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
 	if err != nil || len(pending) == 0 {
 		t.Fatal("the demo has no pending date")
+	}
+	draft, err := db.CreateEvent(context.Background(), 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
+	if err != nil {
+		t.Fatal(err)
 	}
 	routes, ok := srv.Config.Handler.(chi.Routes)
 	if !ok {
@@ -163,6 +175,9 @@ func TestAuthorizationMatrix(t *testing.T) {
 		id := "1"
 		if rt.pattern == "/dates/{id}/edit" { // contributors may edit drafts: use a pending date
 			id = fmt.Sprint(pending[0].ID)
+		}
+		if rt.pattern == "/events/{id}/edit" { // and events that are not accepted
+			id = fmt.Sprint(draft.ID)
 		}
 		path := strings.NewReplacer("{id}", id, "*", "style.css").Replace(rt.pattern)
 		for role, c := range clients {

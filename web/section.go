@@ -102,7 +102,7 @@ func eventTable(es []store.Event, withSection bool) views.Table {
 		if e.ReviewState != "accepted" {
 			review.Class = "pending"
 		}
-		row := []views.Cell{{Text: e.Name}, {Text: store.Label(store.EventKinds(), e.Kind)}, {Text: optNum(e.BaseHeightM), Num: true},
+		row := []views.Cell{{Text: e.Name, URL: idURL("/events", e.ID)}, {Text: store.Label(store.EventKinds(), e.Kind)}, {Text: optNum(e.BaseHeightM), Num: true},
 			{Text: top, Num: true}, {Text: e.Origin}, review, {Text: orDash(e.Notes)}}
 		if withSection {
 			sec := views.Cell{Text: orDash(e.Section)}

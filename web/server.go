@@ -63,6 +63,11 @@ type Store interface {
 	CreateSection(ctx context.Context, f store.Form) (store.Section, error)
 	UpdateSection(ctx context.Context, id int64, version int, f store.Form) (store.Section, error)
 	DeleteSection(ctx context.Context, id int64, version int) error
+	Event(ctx context.Context, id int64) (store.Event, error)
+	CreateEvent(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.Event, error)
+	UpdateEvent(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Event, error)
+	ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (store.Event, error)
+	DeleteEvent(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
@@ -114,6 +119,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerDateEditRoutes(r)
 	s.registerUnitEditRoutes(r)
 	s.registerSectionEditRoutes(r)
+	s.registerEventEditRoutes(r)
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)
