@@ -251,7 +251,7 @@ type reverter interface {
 
 // reverters gives the record types RevertRevision handles besides dates.
 func reverters() map[string]reverter {
-	return map[string]reverter{"unit": unitType(), "section": sectionType(), "event": eventType()}
+	return map[string]reverter{"unit": unitType(), "section": sectionType(), "event": eventType(), "tie_point": tieType()}
 }
 
 // Restorable reports whether RevertRevision can restore records of recordType.

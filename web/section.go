@@ -75,7 +75,7 @@ func tieTable(ts []store.TiePoint, level int, withSection bool) views.Table {
 		if tp.DateID != nil {
 			linked = views.Cell{Text: tp.DateSampleCode + " (" + methodLabel(tp.DateMethod) + ")", URL: idURL("/dates", *tp.DateID)}
 		}
-		row := []views.Cell{{Text: tp.Label}, {Text: num(tp.HeightM), Num: true}, {Text: store.Label(store.TieKinds(), tp.Kind)},
+		row := []views.Cell{{Text: tp.Label, URL: idURL("/ties", tp.ID)}, {Text: num(tp.HeightM), Num: true}, {Text: store.Label(store.TieKinds(), tp.Kind)},
 			{Text: age, Num: true}, linked, {Text: orDash(tp.Notes)}}
 		if withSection {
 			row = append([]views.Cell{{Text: tp.Section, URL: idURL("/sections", tp.SectionID)}}, row...)

@@ -68,6 +68,10 @@ type Store interface {
 	UpdateEvent(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Event, error)
 	ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (store.Event, error)
 	DeleteEvent(ctx context.Context, id int64, version int) error
+	TiePoint(ctx context.Context, id int64) (store.TiePoint, error)
+	CreateTie(ctx context.Context, sectionID int64, f store.Form) (store.TiePoint, error)
+	UpdateTie(ctx context.Context, id int64, version int, f store.Form) (store.TiePoint, error)
+	DeleteTie(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
@@ -120,6 +124,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerUnitEditRoutes(r)
 	s.registerSectionEditRoutes(r)
 	s.registerEventEditRoutes(r)
+	s.registerTieEditRoutes(r)
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)
