@@ -251,7 +251,8 @@ type reverter interface {
 
 // reverters gives the record types RevertRevision handles besides dates.
 func reverters() map[string]reverter {
-	return map[string]reverter{"unit": unitType(), "section": sectionType(), "event": eventType(), "tie_point": tieType()}
+	return map[string]reverter{"province": provinceType(), "unit": unitType(), "section": sectionType(),
+		"tie_point": tieType(), "event": eventType()}
 }
 
 // Restorable reports whether RevertRevision can restore records of recordType.

@@ -22,7 +22,8 @@ type editFlow struct {
 	badValue string
 	badMsg   string   // … with this message
 	text     []string // free-text fields, for the XSS payload
-	// state reads what the test compares: the stored notes of record id ("" and false when it is gone).
+	notes    string   // the free-text field the edits change ("notes" when empty)
+	// state reads what the test compares: the stored notes field of record id (false when it is gone).
 	state  func(id int64) (string, bool)
 	recRev string // record_type of its revisions
 	db     *store.DB
@@ -33,6 +34,9 @@ type editFlow struct {
 // restore, an XSS payload in every text field coming back escaped, and the deletion.
 func checkEditFlow(t *testing.T, srv *httptest.Server, creator, curator *http.Client, f editFlow) int64 {
 	t.Helper()
+	if f.notes == "" {
+		f.notes = "notes"
+	}
 	bad := url.Values{}
 	for k, v := range f.form {
 		bad[k] = v
@@ -66,7 +70,7 @@ func checkEditFlow(t *testing.T, srv *httptest.Server, creator, curator *http.Cl
 			v[k] = x
 		}
 		v.Set("version", "1")
-		v.Set("notes", notes)
+		v.Set(f.notes, notes)
 		s, b, _ := do(t, curator, http.MethodPost, fmt.Sprintf("%s%s/%d/edit", srv.URL, f.path, id), v)
 		return s, b
 	}

@@ -50,7 +50,9 @@ func (s *Server) handleSectionList(w http.ResponseWriter, r *http.Request) error
 		return err
 	}
 	return respondList(s, w, r, "sections", ss, store.WriteSectionsCSV, func() views.List {
-		return views.List{Page: s.page(r.Context(), "Sections", "Sections"), Table: sectionTable(ss)}
+		l := views.List{Page: s.page(r.Context(), "Sections", "Sections"), Table: sectionTable(ss)}
+		addLink(r, &l.Page, "New section", "/sections/new")
+		return l
 	})
 }
 

@@ -72,6 +72,9 @@ type Store interface {
 	CreateTie(ctx context.Context, sectionID int64, f store.Form) (store.TiePoint, error)
 	UpdateTie(ctx context.Context, id int64, version int, f store.Form) (store.TiePoint, error)
 	DeleteTie(ctx context.Context, id int64, version int) error
+	CreateProvince(ctx context.Context, f store.Form) (store.Province, error)
+	UpdateProvince(ctx context.Context, id int64, version int, f store.Form) (store.Province, error)
+	DeleteProvince(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
@@ -121,6 +124,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
 	s.registerDateEditRoutes(r)
+	s.registerProvinceEditRoutes(r)
 	s.registerUnitEditRoutes(r)
 	s.registerSectionEditRoutes(r)
 	s.registerEventEditRoutes(r)
