@@ -43,8 +43,8 @@ func checkEditFlow(t *testing.T, srv *httptest.Server, creator, curator *http.Cl
 	}
 	bad.Set(f.badField, f.badValue)
 	status, body, _ := do(t, creator, http.MethodPost, srv.URL+f.newPath, bad)
-	if status != http.StatusUnprocessableEntity || !strings.Contains(html.UnescapeString(body), f.badMsg) || !strings.Contains(body, `name="`+f.badField+`"`) {
-		t.Fatalf("bad %s: status %d, want 422 with %q by the field", f.badField, status, f.badMsg)
+	if status != http.StatusUnprocessableEntity || !fieldError(body, f.badField, f.badMsg) {
+		t.Fatalf("bad %s: status %d, want 422 with %q beside the field", f.badField, status, f.badMsg)
 	}
 	status, _, h := do(t, creator, http.MethodPost, srv.URL+f.newPath, f.form)
 	if status != http.StatusSeeOther {
@@ -153,4 +153,16 @@ func signedIn(t *testing.T, srv *httptest.Server) (contributor, curator *http.Cl
 	signIn(t, contributor, srv, "demo-contributor")
 	signIn(t, curator, srv, "demo-curator")
 	return contributor, curator
+}
+
+// fieldError reports whether the form in body shows an error starting with msg inside the label of field.
+func fieldError(body, field, msg string) bool {
+	body = html.UnescapeString(body)
+	i := strings.Index(body, `name="`+field+`"`)
+	if i < 0 {
+		return false
+	}
+	label, _, _ := strings.Cut(body[i:], "</label>")
+	_, e, ok := strings.Cut(label, `class="field-error">`)
+	return ok && strings.HasPrefix(e, msg)
 }
