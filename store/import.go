@@ -105,7 +105,7 @@ func (d *DB) ImportProvinces(ctx context.Context, file string, r io.Reader) (Imp
 			seen := map[string]int{}
 			for i := range t.rows {
 				rw := t.row(i)
-				p := Province{Name: rw.requiredStr("province"), Description: rw.str("description")}
+				p := parseProvinceRow(rw)
 				if l, dup := seen[p.Name]; dup && p.Name != "" {
 					rw.problem("province", "%q already given on line %d", p.Name, l)
 				}
@@ -168,17 +168,7 @@ func (d *DB) ImportUnits(ctx context.Context, file string, r io.Reader) (ImportR
 			seen := map[[2]string]int{}
 			for i := range t.rows {
 				rw := t.row(i)
-				u := Unit{Province: rw.requiredStr("province"), Name: rw.requiredStr("unit"),
-					Kind: rw.enum("kind", codes(UnitKinds()), "other"), PilePosition: rw.optInt("pile_position"),
-					VolumeKm3: rw.optFloat("volume_km3"), VolumeSigmaKm3: rw.optFloat("volume_sigma_km3"),
-					Latitude: rw.optFloat("latitude"), Longitude: rw.optFloat("longitude"), Notes: rw.str("notes")}
-				rw.positive("volume_km3", u.VolumeKm3, true)
-				rw.positive("volume_sigma_km3", u.VolumeSigmaKm3, true)
-				if u.VolumeSigmaKm3 != nil && u.VolumeKm3 == nil {
-					rw.problem("volume_sigma_km3", "given without volume_km3")
-				}
-				rw.within("latitude", u.Latitude, -90, 90)
-				rw.within("longitude", u.Longitude, -180, 180)
+				u := parseUnitRow(rw)
 				key := [2]string{u.Province, u.Name}
 				if l, dup := seen[key]; dup && u.Name != "" {
 					rw.problem("unit", "%q of %q already given on line %d", u.Name, u.Province, l)
@@ -234,17 +224,7 @@ func (d *DB) ImportSections(ctx context.Context, file string, r io.Reader) (Impo
 			seen := map[string]int{}
 			for i := range t.rows {
 				rw := t.row(i)
-				s := Section{Name: rw.requiredStr("section"), Kind: rw.enum("kind", codes(SectionKinds()), "outcrop"),
-					Latitude: rw.optFloat("latitude"), Longitude: rw.optFloat("longitude"),
-					Palaeolatitude: rw.optFloat("palaeolatitude"), ThermalMaturity: rw.str("thermal_maturity"),
-					TocThresholdWtPct: 0.2, Notes: rw.str("notes")}
-				if v := rw.optFloat("toc_threshold_wt_pct"); v != nil {
-					rw.within("toc_threshold_wt_pct", v, 0, 5)
-					s.TocThresholdWtPct = *v
-				}
-				rw.within("latitude", s.Latitude, -90, 90)
-				rw.within("longitude", s.Longitude, -180, 180)
-				rw.within("palaeolatitude", s.Palaeolatitude, -90, 90)
+				s := parseSectionRow(rw)
 				if l, dup := seen[s.Name]; dup && s.Name != "" {
 					rw.problem("section", "%q already given on line %d", s.Name, l)
 				}
@@ -523,48 +503,7 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 			seen := map[string]int{}
 			for i := range t.rows {
 				rw := t.row(i)
-				tp := TiePoint{Label: rw.requiredStr("label"), Kind: rw.enum("kind", codes(TieKinds()), ""),
-					Distribution:   rw.enum("distribution", []string{"normal", "uniform"}, ""),
-					DateSampleCode: rw.str("date_sample_code"), DateMethod: rw.str("date_method"), Notes: rw.str("notes")}
-				if h, ok := rw.float("height_m"); ok {
-					tp.HeightM = h
-				}
-				switch tp.Distribution {
-				case "normal":
-					age, okA := rw.float("age_ma")
-					sigma, okS := rw.float("sigma_ma")
-					level := rw.sigmaLevel("sigma_level")
-					if okS && sigma <= 0 {
-						rw.problem("sigma_ma", "want an uncertainty greater than 0, got %s", formatNumber(sigma))
-					}
-					if okA && (age <= 0 || age > 4600) {
-						rw.problem("age_ma", "want an age in Ma between 0 and 4600, got %s", formatNumber(age))
-					}
-					for _, c := range []string{"age_min_ma", "age_max_ma"} {
-						if rw.str(c) != "" {
-							rw.problem(c, "is for uniform ties; this tie is normal (age_ma ± sigma_ma)")
-						}
-					}
-					if okA && okS && level > 0 {
-						s := sigma / float64(level)
-						tp.AgeMa, tp.SigmaMa, tp.SigmaLevel = &age, &s, &level
-					}
-				case "uniform":
-					lo, okL := rw.float("age_min_ma")
-					hi, okH := rw.float("age_max_ma")
-					if okL && okH && hi <= lo {
-						rw.problem("age_max_ma", "want age_max_ma (%s) greater than age_min_ma (%s)", formatNumber(hi), formatNumber(lo))
-					}
-					for _, c := range []string{"age_ma", "sigma_ma", "sigma_level"} {
-						if rw.str(c) != "" {
-							rw.problem(c, "is for normal ties; this tie is uniform (age_min_ma … age_max_ma)")
-						}
-					}
-					tp.AgeMinMa, tp.AgeMaxMa = &lo, &hi
-				}
-				if tp.DateMethod != "" && tp.DateSampleCode == "" {
-					rw.problem("date_method", "given without date_sample_code")
-				}
+				tp := parseTieRow(rw)
 				if l, dup := seen[tp.Label]; dup && tp.Label != "" {
 					rw.problem("label", "%q already given on line %d", tp.Label, l)
 				}
@@ -664,14 +603,7 @@ func (d *DB) ImportEvents(ctx context.Context, section, file string, r io.Reader
 			seen := map[string]int{}
 			for i := range t.rows {
 				rw := t.row(i)
-				ev := Event{Name: rw.requiredStr("name"), Kind: rw.enum("kind", codes(EventKinds()), ""),
-					TopHeightM: rw.optFloat("top_height_m"), Origin: "entered", ReviewState: "accepted", Notes: rw.str("notes")}
-				if b, ok := rw.float("base_height_m"); ok {
-					ev.BaseHeightM = &b
-					if ev.TopHeightM != nil && *ev.TopHeightM < b {
-						rw.problem("top_height_m", "want the top (%s m) at or above the base (%s m)", formatNumber(*ev.TopHeightM), formatNumber(b))
-					}
-				}
+				ev := parseEventRow(rw)
 				if l, dup := seen[ev.Name]; dup && ev.Name != "" {
 					rw.problem("name", "%q already given on line %d", ev.Name, l)
 				}
@@ -722,4 +654,104 @@ func lookupID(ctx context.Context, tx *sql.Tx, q string, args ...any) (int64, er
 		return 0, nil
 	}
 	return id, err
+}
+
+// The row parsers below read and check one row of an import file; forms are checked with the same ones
+// (store/edit_*.go), so a value refused in a file is refused in a form with the same words.
+
+// parseProvinceRow reads one row of a provinces file.
+func parseProvinceRow(rw row) Province {
+	return Province{Name: rw.requiredStr("province"), Description: rw.str("description")}
+}
+
+// parseUnitRow reads one row of a units file.
+func parseUnitRow(rw row) Unit {
+	u := Unit{Province: rw.requiredStr("province"), Name: rw.requiredStr("unit"),
+		Kind: rw.enum("kind", codes(UnitKinds()), "other"), PilePosition: rw.optInt("pile_position"),
+		VolumeKm3: rw.optFloat("volume_km3"), VolumeSigmaKm3: rw.optFloat("volume_sigma_km3"),
+		Latitude: rw.optFloat("latitude"), Longitude: rw.optFloat("longitude"), Notes: rw.str("notes")}
+	rw.positive("volume_km3", u.VolumeKm3, true)
+	rw.positive("volume_sigma_km3", u.VolumeSigmaKm3, true)
+	if u.VolumeSigmaKm3 != nil && u.VolumeKm3 == nil {
+		rw.problem("volume_sigma_km3", "given without volume_km3")
+	}
+	rw.within("latitude", u.Latitude, -90, 90)
+	rw.within("longitude", u.Longitude, -180, 180)
+	return u
+}
+
+// parseSectionRow reads one row of a sections file.
+func parseSectionRow(rw row) Section {
+	s := Section{Name: rw.requiredStr("section"), Kind: rw.enum("kind", codes(SectionKinds()), "outcrop"),
+		Latitude: rw.optFloat("latitude"), Longitude: rw.optFloat("longitude"),
+		Palaeolatitude: rw.optFloat("palaeolatitude"), ThermalMaturity: rw.str("thermal_maturity"),
+		TocThresholdWtPct: 0.2, Notes: rw.str("notes")}
+	if v := rw.optFloat("toc_threshold_wt_pct"); v != nil {
+		rw.within("toc_threshold_wt_pct", v, 0, 5)
+		s.TocThresholdWtPct = *v
+	}
+	rw.within("latitude", s.Latitude, -90, 90)
+	rw.within("longitude", s.Longitude, -180, 180)
+	rw.within("palaeolatitude", s.Palaeolatitude, -90, 90)
+	return s
+}
+
+// parseTieRow reads one row of a ties file (the date it names is resolved against the store later).
+func parseTieRow(rw row) TiePoint {
+	tp := TiePoint{Label: rw.requiredStr("label"), Kind: rw.enum("kind", codes(TieKinds()), ""),
+		Distribution:   rw.enum("distribution", []string{"normal", "uniform"}, ""),
+		DateSampleCode: rw.str("date_sample_code"), DateMethod: rw.str("date_method"), Notes: rw.str("notes")}
+	if h, ok := rw.float("height_m"); ok {
+		tp.HeightM = h
+	}
+	switch tp.Distribution {
+	case "normal":
+		age, okA := rw.float("age_ma")
+		sigma, okS := rw.float("sigma_ma")
+		level := rw.sigmaLevel("sigma_level")
+		if okS && sigma <= 0 {
+			rw.problem("sigma_ma", "want an uncertainty greater than 0, got %s", formatNumber(sigma))
+		}
+		if okA && (age <= 0 || age > 4600) {
+			rw.problem("age_ma", "want an age in Ma between 0 and 4600, got %s", formatNumber(age))
+		}
+		for _, c := range []string{"age_min_ma", "age_max_ma"} {
+			if rw.str(c) != "" {
+				rw.problem(c, "is for uniform ties; this tie is normal (age_ma ± sigma_ma)")
+			}
+		}
+		if okA && okS && level > 0 {
+			s := sigma / float64(level)
+			tp.AgeMa, tp.SigmaMa, tp.SigmaLevel = &age, &s, &level
+		}
+	case "uniform":
+		lo, okL := rw.float("age_min_ma")
+		hi, okH := rw.float("age_max_ma")
+		if okL && okH && hi <= lo {
+			rw.problem("age_max_ma", "want age_max_ma (%s) greater than age_min_ma (%s)", formatNumber(hi), formatNumber(lo))
+		}
+		for _, c := range []string{"age_ma", "sigma_ma", "sigma_level"} {
+			if rw.str(c) != "" {
+				rw.problem(c, "is for normal ties; this tie is uniform (age_min_ma … age_max_ma)")
+			}
+		}
+		tp.AgeMinMa, tp.AgeMaxMa = &lo, &hi
+	}
+	if tp.DateMethod != "" && tp.DateSampleCode == "" {
+		rw.problem("date_method", "given without date_sample_code")
+	}
+	return tp
+}
+
+// parseEventRow reads one row of an events file; an imported event is entered and accepted.
+func parseEventRow(rw row) Event {
+	ev := Event{Name: rw.requiredStr("name"), Kind: rw.enum("kind", codes(EventKinds()), ""),
+		TopHeightM: rw.optFloat("top_height_m"), Origin: "entered", ReviewState: "accepted", Notes: rw.str("notes")}
+	if b, ok := rw.float("base_height_m"); ok {
+		ev.BaseHeightM = &b
+		if ev.TopHeightM != nil && *ev.TopHeightM < b {
+			rw.problem("top_height_m", "want the top (%s m) at or above the base (%s m)", formatNumber(*ev.TopHeightM), formatNumber(b))
+		}
+	}
+	return ev
 }

@@ -264,41 +264,53 @@ func (d *DB) Section(ctx context.Context, id int64) (Section, error) {
 	return s, notFound(err, "section", id)
 }
 
+const tieSelect = `SELECT t.id, t.section_id, s.name, t.label, t.height_m, t.kind, t.distribution, t.age_ma, t.sigma_ma,
+	t.sigma_level, t.age_min_ma, t.age_max_ma, t.date_id, coalesce(d.sample_code, ''), coalesce(d.method, ''),
+	t.notes, t.version, t.created_at, t.updated_at
+	FROM tie_points t JOIN sections s ON s.id = t.section_id LEFT JOIN dates d ON d.id = t.date_id`
+
+func scanTie(r interface{ Scan(...any) error }) (TiePoint, error) {
+	var t TiePoint
+	err := r.Scan(&t.ID, &t.SectionID, &t.Section, &t.Label, &t.HeightM, &t.Kind, &t.Distribution, &t.AgeMa,
+		&t.SigmaMa, &t.SigmaLevel, &t.AgeMinMa, &t.AgeMaxMa, &t.DateID, &t.DateSampleCode, &t.DateMethod, &t.Notes,
+		&t.Version, &t.CreatedAt, &t.UpdatedAt)
+	return t, err
+}
+
 // TiePoints returns the tie points of a section (all sections when sectionID is 0), lowest first.
 func (d *DB) TiePoints(ctx context.Context, sectionID int64) ([]TiePoint, error) {
-	q := `SELECT t.id, t.section_id, s.name, t.label, t.height_m, t.kind, t.distribution, t.age_ma, t.sigma_ma,
-		t.sigma_level, t.age_min_ma, t.age_max_ma, t.date_id, coalesce(d.sample_code, ''), coalesce(d.method, ''),
-		t.notes, t.version FROM tie_points t JOIN sections s ON s.id = t.section_id LEFT JOIN dates d ON d.id = t.date_id`
+	q := tieSelect
 	var args []any
 	if sectionID != 0 {
 		q += ` WHERE t.section_id = ?`
 		args = append(args, sectionID)
 	}
 	q += ` ORDER BY s.name, t.height_m, t.label`
-	return queryAll(ctx, d.db, q, args, func(r interface{ Scan(...any) error }) (TiePoint, error) {
-		var t TiePoint
-		err := r.Scan(&t.ID, &t.SectionID, &t.Section, &t.Label, &t.HeightM, &t.Kind, &t.Distribution, &t.AgeMa,
-			&t.SigmaMa, &t.SigmaLevel, &t.AgeMinMa, &t.AgeMaxMa, &t.DateID, &t.DateSampleCode, &t.DateMethod, &t.Notes, &t.Version)
-		return t, err
-	})
+	return queryAll(ctx, d.db, q, args, scanTie)
+}
+
+const eventSelect = `SELECT e.id, e.section_id, coalesce(s.name, ''), e.name, e.kind, e.base_height_m, e.top_height_m,
+	e.age_ma, e.sigma_ma, e.date_id, e.group_id, e.origin, e.review_state, e.review_note, e.notes, e.version,
+	e.created_at, e.updated_at FROM events e LEFT JOIN sections s ON s.id = e.section_id`
+
+func scanEvent(r interface{ Scan(...any) error }) (Event, error) {
+	var e Event
+	err := r.Scan(&e.ID, &e.SectionID, &e.Section, &e.Name, &e.Kind, &e.BaseHeightM, &e.TopHeightM, &e.AgeMa,
+		&e.SigmaMa, &e.DateID, &e.GroupID, &e.Origin, &e.ReviewState, &e.ReviewNote, &e.Notes, &e.Version,
+		&e.CreatedAt, &e.UpdatedAt)
+	return e, err
 }
 
 // Events returns the events of a section (all events when sectionID is 0), lowest first.
 func (d *DB) Events(ctx context.Context, sectionID int64) ([]Event, error) {
-	q := `SELECT e.id, e.section_id, coalesce(s.name, ''), e.name, e.kind, e.base_height_m, e.top_height_m, e.age_ma,
-		e.sigma_ma, e.origin, e.review_state, e.notes, e.version FROM events e LEFT JOIN sections s ON s.id = e.section_id`
+	q := eventSelect
 	var args []any
 	if sectionID != 0 {
 		q += ` WHERE e.section_id = ?`
 		args = append(args, sectionID)
 	}
 	q += ` ORDER BY s.name, e.base_height_m, e.name`
-	return queryAll(ctx, d.db, q, args, func(r interface{ Scan(...any) error }) (Event, error) {
-		var e Event
-		err := r.Scan(&e.ID, &e.SectionID, &e.Section, &e.Name, &e.Kind, &e.BaseHeightM, &e.TopHeightM, &e.AgeMa,
-			&e.SigmaMa, &e.Origin, &e.ReviewState, &e.Notes, &e.Version)
-		return e, err
-	})
+	return queryAll(ctx, d.db, q, args, scanEvent)
 }
 
 // Proxies returns the proxies the compilation knows.

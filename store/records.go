@@ -152,6 +152,8 @@ type TiePoint struct {
 	DateMethod     string   `json:"date_method"`
 	Notes          string   `json:"notes"`
 	Version        int      `json:"version"`
+	CreatedAt      string   `json:"created_at"`
+	UpdatedAt      string   `json:"updated_at"`
 }
 
 // Event is something in the sedimentary record: a horizon or interval of a section.
@@ -165,10 +167,15 @@ type Event struct {
 	TopHeightM  *float64 `json:"top_height_m"`
 	AgeMa       *float64 `json:"age_ma"`
 	SigmaMa     *float64 `json:"sigma_ma_1s"`
+	DateID      *int64   `json:"date_id"`
+	GroupID     *int64   `json:"group_id"`
 	Origin      string   `json:"origin"`
 	ReviewState string   `json:"review_state"`
+	ReviewNote  string   `json:"review_note"`
 	Notes       string   `json:"notes"`
 	Version     int      `json:"version"`
+	CreatedAt   string   `json:"created_at"`
+	UpdatedAt   string   `json:"updated_at"`
 }
 
 // Batch is a set of changes made together (one import, one edit).

@@ -112,6 +112,39 @@ var routeRoles = map[string]string{
 	"POST /dates/{id}/delete":          store.RoleCurator,
 	"POST /revisions/{id}/revert":      store.RoleCurator,
 	"POST /changes/{id}/undo":          store.RoleCurator,
+	"GET /provinces/new":               store.RoleContributor,
+	"POST /provinces/new":              store.RoleContributor,
+	"GET /provinces/{id}/edit":         store.RoleCurator,
+	"POST /provinces/{id}/edit":        store.RoleCurator,
+	"POST /provinces/{id}/delete":      store.RoleCurator,
+	"GET /provinces/{id}/history":      "",
+	"GET /units/new":                   store.RoleContributor,
+	"POST /units/new":                  store.RoleContributor,
+	"GET /units/{id}/edit":             store.RoleCurator,
+	"POST /units/{id}/edit":            store.RoleCurator,
+	"POST /units/{id}/delete":          store.RoleCurator,
+	"GET /units/{id}/history":          "",
+	"GET /sections/new":                store.RoleContributor,
+	"POST /sections/new":               store.RoleContributor,
+	"GET /sections/{id}/edit":          store.RoleCurator,
+	"POST /sections/{id}/edit":         store.RoleCurator,
+	"POST /sections/{id}/delete":       store.RoleCurator,
+	"GET /sections/{id}/history":       "",
+	"GET /events/{id}":                 "",
+	"GET /sections/{id}/events/new":    store.RoleContributor,
+	"POST /sections/{id}/events/new":   store.RoleContributor,
+	"GET /events/{id}/edit":            store.RoleContributor,
+	"POST /events/{id}/edit":           store.RoleContributor,
+	"POST /events/{id}/review":         store.RoleCurator,
+	"POST /events/{id}/delete":         store.RoleCurator,
+	"GET /events/{id}/history":         "",
+	"GET /ties/{id}":                   "",
+	"GET /sections/{id}/ties/new":      store.RoleContributor,
+	"POST /sections/{id}/ties/new":     store.RoleContributor,
+	"GET /ties/{id}/edit":              store.RoleCurator,
+	"POST /ties/{id}/edit":             store.RoleCurator,
+	"POST /ties/{id}/delete":           store.RoleCurator,
+	"GET /ties/{id}/history":           "",
 	"GET /account":                     store.RoleReader,
 	"POST /account/tokens":             store.RoleReader,
 	"POST /account/tokens/{id}/revoke": store.RoleReader,
@@ -127,6 +160,10 @@ func TestAuthorizationMatrix(t *testing.T) {
 	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
 	if err != nil || len(pending) == 0 {
 		t.Fatal("the demo has no pending date")
+	}
+	draft, err := db.CreateEvent(context.Background(), 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
+	if err != nil {
+		t.Fatal(err)
 	}
 	routes, ok := srv.Config.Handler.(chi.Routes)
 	if !ok {
@@ -156,6 +193,9 @@ func TestAuthorizationMatrix(t *testing.T) {
 		id := "1"
 		if rt.pattern == "/dates/{id}/edit" { // contributors may edit drafts: use a pending date
 			id = fmt.Sprint(pending[0].ID)
+		}
+		if rt.pattern == "/events/{id}/edit" { // and events that are not accepted
+			id = fmt.Sprint(draft.ID)
 		}
 		path := strings.NewReplacer("{id}", id, "*", "style.css").Replace(rt.pattern)
 		for role, c := range clients {

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
+	"strings"
 
 	"coeval/store"
 	"coeval/views"
@@ -91,16 +92,16 @@ func (s *Server) handleRevisionRevert(w http.ResponseWriter, r *http.Request) er
 	if err != nil {
 		return err
 	}
-	if rev.RecordType != "date" {
-		return badRequest{message: "Only changes of dates can be restored from the web so far; this change is of a " + rev.RecordType + "."}
+	if !store.Restorable(rev.RecordType) {
+		return badRequest{message: "Changes of this kind of record (" + rev.RecordType + ") cannot be restored one by one; undo the whole change from the feed of changes."}
 	}
-	err = s.store.RevertDate(r.Context(), id)
+	err = s.store.RevertRevision(r.Context(), id)
 	if errors.Is(err, store.ErrConflict) {
-		return conflictError{"There is nothing to restore: the date this change created no longer exists."}
+		return conflictError{"There is nothing to restore: the record this change created no longer exists."}
 	}
-	if err != nil {
+	if err := refusal(strings.ReplaceAll(rev.RecordType, "_", " "), "restored", err); err != nil {
 		return err
 	}
-	http.Redirect(w, r, fmt.Sprintf("/dates/%d/history", rev.RecordID), http.StatusSeeOther)
+	http.Redirect(w, r, historyURL(rev.RecordType, rev.RecordID), http.StatusSeeOther)
 	return nil
 }

@@ -33,7 +33,9 @@ func (s *Server) handleProvinceList(w http.ResponseWriter, r *http.Request) erro
 		return err
 	}
 	return respondList(s, w, r, "provinces", ps, store.WriteProvincesCSV, func() views.List {
-		return views.List{Page: s.page(r.Context(), "Provinces", "Provinces"), Table: provinceTable(ps)}
+		l := views.List{Page: s.page(r.Context(), "Provinces", "Provinces"), Table: provinceTable(ps)}
+		addLink(r, &l.Page, "New province", "/provinces/new")
+		return l
 	})
 }
 
@@ -138,6 +140,8 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 	}}}
 	d.Tables = []views.Table{summaryTable(sums, ch), unitTable(units, unitAgeRange(ds))}
 	d.Links = []views.Link{{Label: "Eruptive history: density, pulses and timeline →", URL: timelineURL(r, id)}}
+	links, acts := s.provinceRecordLinks(r, prov)
+	d.Links, d.Actions = append(d.Links, links...), acts
 	s.render(w, r, http.StatusOK, views.DetailPage(d))
 	return nil
 }

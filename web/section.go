@@ -50,7 +50,9 @@ func (s *Server) handleSectionList(w http.ResponseWriter, r *http.Request) error
 		return err
 	}
 	return respondList(s, w, r, "sections", ss, store.WriteSectionsCSV, func() views.List {
-		return views.List{Page: s.page(r.Context(), "Sections", "Sections"), Table: sectionTable(ss)}
+		l := views.List{Page: s.page(r.Context(), "Sections", "Sections"), Table: sectionTable(ss)}
+		addLink(r, &l.Page, "New section", "/sections/new")
+		return l
 	})
 }
 
@@ -75,7 +77,7 @@ func tieTable(ts []store.TiePoint, level int, withSection bool) views.Table {
 		if tp.DateID != nil {
 			linked = views.Cell{Text: tp.DateSampleCode + " (" + methodLabel(tp.DateMethod) + ")", URL: idURL("/dates", *tp.DateID)}
 		}
-		row := []views.Cell{{Text: tp.Label}, {Text: num(tp.HeightM), Num: true}, {Text: store.Label(store.TieKinds(), tp.Kind)},
+		row := []views.Cell{{Text: tp.Label, URL: idURL("/ties", tp.ID)}, {Text: num(tp.HeightM), Num: true}, {Text: store.Label(store.TieKinds(), tp.Kind)},
 			{Text: age, Num: true}, linked, {Text: orDash(tp.Notes)}}
 		if withSection {
 			row = append([]views.Cell{{Text: tp.Section, URL: idURL("/sections", tp.SectionID)}}, row...)
@@ -102,7 +104,7 @@ func eventTable(es []store.Event, withSection bool) views.Table {
 		if e.ReviewState != "accepted" {
 			review.Class = "pending"
 		}
-		row := []views.Cell{{Text: e.Name}, {Text: store.Label(store.EventKinds(), e.Kind)}, {Text: optNum(e.BaseHeightM), Num: true},
+		row := []views.Cell{{Text: e.Name, URL: idURL("/events", e.ID)}, {Text: store.Label(store.EventKinds(), e.Kind)}, {Text: optNum(e.BaseHeightM), Num: true},
 			{Text: top, Num: true}, {Text: e.Origin}, review, {Text: orDash(e.Notes)}}
 		if withSection {
 			sec := views.Cell{Text: orDash(e.Section)}

@@ -132,6 +132,7 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 			{Label: "Events (CSV)", URL: base + "/events?format=csv"},
 			{Label: fmt.Sprintf("Show tie ages at %dσ", 3-a.Opt.Level), URL: withQuery(r, "sigma", strconv.Itoa(3-a.Opt.Level))},
 		}})
+	v.Blocks = append(v.Blocks, s.sectionRecordBlock(r, sec))
 	s.render(w, r, http.StatusOK, views.SectionPage(v))
 	return nil
 }

@@ -56,6 +56,25 @@ type Store interface {
 	Revisions(ctx context.Context, recordType string, id int64) ([]store.Revision, error)
 	RevisionByID(ctx context.Context, id int64) (store.Revision, error)
 	RevertDate(ctx context.Context, revID int64) error
+	RevertRevision(ctx context.Context, revID int64) error
+	CreateUnit(ctx context.Context, f store.Form) (store.Unit, error)
+	UpdateUnit(ctx context.Context, id int64, version int, f store.Form) (store.Unit, error)
+	DeleteUnit(ctx context.Context, id int64, version int) error
+	CreateSection(ctx context.Context, f store.Form) (store.Section, error)
+	UpdateSection(ctx context.Context, id int64, version int, f store.Form) (store.Section, error)
+	DeleteSection(ctx context.Context, id int64, version int) error
+	Event(ctx context.Context, id int64) (store.Event, error)
+	CreateEvent(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.Event, error)
+	UpdateEvent(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Event, error)
+	ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (store.Event, error)
+	DeleteEvent(ctx context.Context, id int64, version int) error
+	TiePoint(ctx context.Context, id int64) (store.TiePoint, error)
+	CreateTie(ctx context.Context, sectionID int64, f store.Form) (store.TiePoint, error)
+	UpdateTie(ctx context.Context, id int64, version int, f store.Form) (store.TiePoint, error)
+	DeleteTie(ctx context.Context, id int64, version int) error
+	CreateProvince(ctx context.Context, f store.Form) (store.Province, error)
+	UpdateProvince(ctx context.Context, id int64, version int, f store.Form) (store.Province, error)
+	DeleteProvince(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
@@ -115,6 +134,11 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/", s.handle(s.handleHome))
 	s.registerAuthRoutes(r)
 	s.registerDateEditRoutes(r)
+	s.registerProvinceEditRoutes(r)
+	s.registerUnitEditRoutes(r)
+	s.registerSectionEditRoutes(r)
+	s.registerEventEditRoutes(r)
+	s.registerTieEditRoutes(r)
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)

@@ -79,6 +79,8 @@ func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
 	other := 3 - level
 	v.Links = []views.Link{{Label: fmt.Sprintf("Show uncertainties at %dσ", other), URL: withQuery(r, "sigma", itoa(other))},
 		{Label: "These dates in the date list", URL: fmt.Sprintf("/dates?unit=%d", id)}}
+	links, acts := recordLinks(r, s.unitEdit(), id, stored{version: u.Version})
+	v.Links, v.Actions = append(v.Links, links...), acts
 	for _, sys := range us.Systems {
 		v.Tables = append(v.Tables, entryTable(sys, ch))
 	}

@@ -1,0 +1,169 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"io"
+	"strings"
+)
+
+func eventType() recordType[Event] {
+	return recordType[Event]{
+		name:  "event",
+		table: "events",
+		cols: []string{"section_id", "group_id", "name", "kind", "base_height_m", "top_height_m", "age_ma", "sigma_ma",
+			"date_id", "origin", "review_state", "review_note", "notes"},
+		vals: func(e Event) []any {
+			return []any{e.SectionID, e.GroupID, e.Name, e.Kind, e.BaseHeightM, e.TopHeightM, e.AgeMa, e.SigmaMa,
+				e.DateID, e.Origin, e.ReviewState, e.ReviewNote, e.Notes}
+		},
+		meta:  func(e Event) (int64, int, string) { return e.ID, e.Version, e.CreatedAt },
+		label: func(e Event) string { return fmt.Sprintf("event %q", e.Name) },
+		load:  eventInTx,
+	}
+}
+
+func eventInTx(ctx context.Context, tx *sql.Tx, id int64) (Event, error) {
+	e, err := scanEvent(tx.QueryRowContext(ctx, eventSelect+` WHERE e.id = ?`, id))
+	return e, notFound(err, "event", id)
+}
+
+// Event returns one event, or ErrNotFound.
+func (d *DB) Event(ctx context.Context, id int64) (Event, error) {
+	e, err := scanEvent(d.db.QueryRowContext(ctx, eventSelect+` WHERE e.id = ?`, id))
+	return e, notFound(err, "event", id)
+}
+
+// FormOfEvent gives the form cells of a stored event: the columns of the events import format and its
+// review state.
+func FormOfEvent(e Event) Form {
+	f := formOf(func(w io.Writer) error { return WriteEventsCSV(w, []Event{e}) })
+	f["review_state"] = e.ReviewState
+	return f
+}
+
+// parseEventForm checks a form with exactly the rules of the events importer, and its review state (a
+// contributor's event is pending whatever the form says). Problems name fields.
+func parseEventForm(f Form, asCurator bool) (Event, []Problem) {
+	rw, t := formRow(append(eventColumns[:len(eventColumns):len(eventColumns)], "review_state"), f)
+	ev := parseEventRow(rw)
+	ev.ReviewState = rw.enum("review_state", codes(ReviewStates()), "accepted")
+	if !asCurator {
+		ev.ReviewState = "pending"
+	}
+	return ev, t.problems
+}
+
+func eventNameProblem(ctx context.Context, tx *sql.Tx, e Event) ([]Problem, error) {
+	return uniqueProblem(ctx, tx, "name", fmt.Sprintf("the section already has an event %q", e.Name),
+		`SELECT id FROM events WHERE section_id = ? AND name = ? AND id <> ?`, e.SectionID, e.Name, e.ID)
+}
+
+// CreateEvent adds one entered event to section sectionID from a form, as the actor of ctx. A
+// contributor's event starts pending.
+func (d *DB) CreateEvent(ctx context.Context, sectionID int64, f Form, asCurator bool) (Event, error) {
+	ev, problems := parseEventForm(f, asCurator)
+	var out Event
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		sec, err := sectionInTx(ctx, tx, sectionID)
+		if err != nil {
+			return err
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		ev.SectionID = &sec.ID
+		if ps, err := eventNameProblem(ctx, tx, ev); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "add event", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = eventType().insert(ctx, d, tx, batch, ev); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added event %s of %s", ev.Name, sec.Name))
+	})
+	return out, err
+}
+
+// UpdateEvent replaces the entered fields of event id with the form's values when the stored version is
+// still version; otherwise it returns ErrConflict and changes nothing. Its section, origin, direct age,
+// linked date, group and review note stay. A contributor's edit makes the event pending.
+func (d *DB) UpdateEvent(ctx context.Context, id int64, version int, f Form, asCurator bool) (Event, error) {
+	ev, problems := parseEventForm(f, asCurator)
+	var out Event
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := eventInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		if before.Version != version {
+			return ErrConflict
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		x := before
+		x.Name, x.Kind, x.BaseHeightM, x.TopHeightM, x.Notes, x.ReviewState = ev.Name, ev.Kind, ev.BaseHeightM, ev.TopHeightM, ev.Notes, ev.ReviewState
+		if ps, err := eventNameProblem(ctx, tx, x); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "edit event", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = eventType().update(ctx, d, tx, batch, id, version, x); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "edited event "+out.Name)
+	})
+	return out, err
+}
+
+// ReviewEvent accepts or rejects event id (at version) with a reason, as a curator.
+func (d *DB) ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (Event, error) {
+	note = strings.TrimSpace(note)
+	if !accept && note == "" {
+		return Event{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the event is rejected"}}}
+	}
+	var out Event
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := eventInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		x := before
+		x.ReviewState, x.ReviewNote = "rejected", note
+		kind := "reject event"
+		if accept {
+			x.ReviewState, kind = "accepted", "accept event"
+		}
+		batch, err := d.newBatch(ctx, tx, kind, "review")
+		if err != nil {
+			return err
+		}
+		if out, err = eventType().update(ctx, d, tx, batch, id, version, x); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s %s: %s", kind, before.Name, orNone(note)))
+	})
+	return out, err
+}
+
+// DeleteEvent removes event id (at version), keeping its last state in the revision.
+func (d *DB) DeleteEvent(ctx context.Context, id int64, version int) error {
+	return d.inTx(ctx, func(tx *sql.Tx) error {
+		batch, err := d.newBatch(ctx, tx, "delete event", "form")
+		if err != nil {
+			return err
+		}
+		before, err := eventType().remove(ctx, tx, batch, id, version)
+		if err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "deleted event "+before.Name)
+	})
+}

@@ -1,0 +1,117 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"io"
+)
+
+func provinceType() recordType[Province] {
+	return recordType[Province]{
+		name:  "province",
+		table: "provinces",
+		cols:  []string{"name", "description"},
+		vals:  func(p Province) []any { return []any{p.Name, p.Description} },
+		meta:  func(p Province) (int64, int, string) { return p.ID, p.Version, p.CreatedAt },
+		label: func(p Province) string { return fmt.Sprintf("province %q", p.Name) },
+		load:  provinceInTx,
+		// Pulses would go with the province (ON DELETE CASCADE) without a revision each.
+		deps: []dependent{
+			{"unit", `SELECT count(*) FROM units WHERE province_id = ?`},
+			{"pulse", `SELECT count(*) FROM pulses WHERE province_id = ?`},
+		},
+	}
+}
+
+func provinceInTx(ctx context.Context, tx *sql.Tx, id int64) (Province, error) {
+	p, err := scanProvince(tx.QueryRowContext(ctx, provinceSelect+` WHERE p.id = ?`, id))
+	return p, notFound(err, "province", id)
+}
+
+// FormOfProvince gives the form cells of a stored province (the columns of the provinces import format).
+func FormOfProvince(p Province) Form {
+	return formOf(func(w io.Writer) error { return WriteProvincesCSV(w, []Province{p}) })
+}
+
+// parseProvinceForm checks a form with exactly the rules of the provinces importer. Problems name fields.
+func parseProvinceForm(f Form) (Province, []Problem) {
+	rw, t := formRow(provinceColumns, f)
+	return parseProvinceRow(rw), t.problems
+}
+
+func provinceNameProblem(ctx context.Context, tx *sql.Tx, p Province) ([]Problem, error) {
+	return uniqueProblem(ctx, tx, "province", fmt.Sprintf("a province named %q is already in the compilation", p.Name),
+		`SELECT id FROM provinces WHERE name = ? AND id <> ?`, p.Name, p.ID)
+}
+
+// CreateProvince adds one province from a form, as the actor of ctx.
+func (d *DB) CreateProvince(ctx context.Context, f Form) (Province, error) {
+	p, problems := parseProvinceForm(f)
+	var out Province
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		if ps, err := provinceNameProblem(ctx, tx, p); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "add province", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = provinceType().insert(ctx, d, tx, batch, p); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "added province "+p.Name)
+	})
+	return out, err
+}
+
+// UpdateProvince replaces province id with the form's values when the stored version is still version;
+// otherwise it returns ErrConflict and changes nothing.
+func (d *DB) UpdateProvince(ctx context.Context, id int64, version int, f Form) (Province, error) {
+	p, problems := parseProvinceForm(f)
+	var out Province
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := provinceInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		if before.Version != version {
+			return ErrConflict
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		p.ID = id
+		if ps, err := provinceNameProblem(ctx, tx, p); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "edit province", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = provinceType().update(ctx, d, tx, batch, id, version, p); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "edited province "+out.Name)
+	})
+	return out, err
+}
+
+// DeleteProvince removes province id (at version), keeping its last state in the revision. It refuses
+// with an *InUseError while the province has units or pulses.
+func (d *DB) DeleteProvince(ctx context.Context, id int64, version int) error {
+	return d.inTx(ctx, func(tx *sql.Tx) error {
+		batch, err := d.newBatch(ctx, tx, "delete province", "form")
+		if err != nil {
+			return err
+		}
+		before, err := provinceType().remove(ctx, tx, batch, id, version)
+		if err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "deleted province "+before.Name)
+	})
+}

@@ -1,0 +1,300 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"strings"
+
+	"modernc.org/sqlite"
+)
+
+// Form holds a record as typed in a form: the cells of its import format by column name (plus
+// review_state for records that are reviewed).
+type Form map[string]string
+
+// formRow makes a one-row table of a form over the columns of an import format, so that a form is checked
+// by the importer's own row parser. The problems recorded in the table name form fields.
+func formRow(columns []string, f Form) (row, *csvTable) {
+	t := &csvTable{idx: map[string]int{}, header: columns}
+	rec := make([]string, len(columns))
+	for i, c := range columns {
+		t.idx[c] = i
+		rec[i] = f[c]
+	}
+	t.rows, t.lines = [][]string{rec}, []int{0}
+	return t.row(0), t
+}
+
+// formOf gives the form cells of one record as its exporter writes them.
+func formOf(write func(io.Writer) error) Form {
+	var b strings.Builder
+	f := Form{}
+	if err := write(&b); err != nil {
+		return f
+	}
+	t, err := readCSV("form", strings.NewReader(b.String()))
+	if err != nil || len(t.rows) == 0 {
+		return f
+	}
+	for i, h := range t.header {
+		f[h] = t.rows[0][i]
+	}
+	return f
+}
+
+// InUseError refuses to delete a record (or to undo its creation) while other records depend on it.
+// Nothing was changed when it is returned.
+type InUseError struct {
+	Record string   // what was to be deleted, e.g. `unit "Haldruna Flow"`
+	Uses   []string // what depends on it, e.g. "3 dates"
+}
+
+func (e *InUseError) Error() string {
+	return fmt.Sprintf("%s is used by %s: delete or move those first", e.Record, strings.Join(e.Uses, ", "))
+}
+
+// dependent is a kind of record that refers to another: query counts those referring to id (?).
+type dependent struct {
+	noun  string // singular; "s" is added for more than one
+	query string
+}
+
+func dependents(ctx context.Context, tx *sql.Tx, id int64, deps []dependent) ([]string, error) {
+	var uses []string
+	for _, dep := range deps {
+		var n int
+		if err := tx.QueryRowContext(ctx, dep.query, id).Scan(&n); err != nil {
+			return nil, fmt.Errorf("count %ss: %w", dep.noun, err)
+		}
+		switch {
+		case n == 1:
+			uses = append(uses, "1 "+dep.noun)
+		case n > 1:
+			uses = append(uses, fmt.Sprintf("%d %ss", n, dep.noun))
+		}
+	}
+	return uses, nil
+}
+
+// isUniqueViolation recognises a UNIQUE or PRIMARY KEY refusal by its SQLite extended code (2067, 1555).
+func isUniqueViolation(err error) bool {
+	var se *sqlite.Error
+	if !errors.As(err, &se) {
+		return false
+	}
+	return se.Code() == 2067 || se.Code() == 1555
+}
+
+// recordType is how one kind of record without special rules is written, deleted and restored: its
+// table, the columns a form or a restore writes (everything but id, version and the times), and what
+// depends on it. The exported Create/Update/Delete methods of each record use it inside their transaction.
+type recordType[T any] struct {
+	name  string // record_type of its revisions, e.g. "unit"
+	table string
+	cols  []string
+	vals  func(T) []any
+	meta  func(T) (id int64, version int, created string)
+	label func(T) string // e.g. `unit "Haldruna Flow"`
+	load  func(ctx context.Context, tx *sql.Tx, id int64) (T, error)
+	deps  []dependent
+}
+
+// insert adds a new record (id 0) and records its creation in batch.
+func (rt recordType[T]) insert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, x T) (T, error) {
+	now := d.stamp()
+	cols := append([]string{}, rt.cols...)
+	cols = append(cols, "created_at", "updated_at")
+	args := append(rt.vals(x), now, now)
+	r, err := tx.ExecContext(ctx, `INSERT INTO `+rt.table+` (`+strings.Join(cols, ", ")+`) VALUES (`+
+		strings.TrimSuffix(strings.Repeat("?, ", len(cols)), ", ")+`)`, args...)
+	if err != nil {
+		var zero T
+		return zero, fmt.Errorf("insert %s: %w", rt.label(x), err)
+	}
+	id, _ := r.LastInsertId()
+	after, err := rt.load(ctx, tx, id)
+	if err != nil {
+		return after, err
+	}
+	return after, addRevision(ctx, tx, batch, rt.name, id, nil, after)
+}
+
+// write overwrites every column of record id when its stored version is still version, bumping the
+// version; ErrConflict otherwise.
+func (rt recordType[T]) write(ctx context.Context, d *DB, tx *sql.Tx, id int64, version int, x T) error {
+	set := make([]string, len(rt.cols))
+	for i, c := range rt.cols {
+		set[i] = c + " = ?"
+	}
+	args := append(rt.vals(x), d.stamp(), id, version)
+	r, err := tx.ExecContext(ctx, `UPDATE `+rt.table+` SET `+strings.Join(set, ", ")+
+		`, version = version + 1, updated_at = ? WHERE id = ? AND version = ?`, args...)
+	if err != nil {
+		return fmt.Errorf("update %s: %w", rt.label(x), err)
+	}
+	if n, _ := r.RowsAffected(); n == 0 {
+		return ErrConflict
+	}
+	return nil
+}
+
+// update replaces record id (at version) with x and records the change in batch; ErrConflict when the
+// stored version is another.
+func (rt recordType[T]) update(ctx context.Context, d *DB, tx *sql.Tx, batch int64, id int64, version int, x T) (T, error) {
+	before, err := rt.load(ctx, tx, id)
+	if err != nil {
+		return before, err
+	}
+	if _, v, _ := rt.meta(before); v != version {
+		return before, ErrConflict
+	}
+	if err := rt.write(ctx, d, tx, id, version, x); err != nil {
+		return before, err
+	}
+	after, err := rt.load(ctx, tx, id)
+	if err != nil {
+		return after, err
+	}
+	return after, addRevision(ctx, tx, batch, rt.name, id, before, after)
+}
+
+// remove deletes record id (at version), keeping its last state in the revision. It refuses with an
+// *InUseError while records depend on it: those with ON DELETE RESTRICT would make the delete fail, and
+// those with ON DELETE CASCADE would vanish unrecorded.
+func (rt recordType[T]) remove(ctx context.Context, tx *sql.Tx, batch int64, id int64, version int) (T, error) {
+	before, err := rt.load(ctx, tx, id)
+	if err != nil {
+		return before, err
+	}
+	if _, v, _ := rt.meta(before); v != version {
+		return before, ErrConflict
+	}
+	return before, rt.removeLoaded(ctx, tx, batch, before)
+}
+
+func (rt recordType[T]) removeLoaded(ctx context.Context, tx *sql.Tx, batch int64, before T) error {
+	id, _, _ := rt.meta(before)
+	uses, err := dependents(ctx, tx, id, rt.deps)
+	if err != nil {
+		return err
+	}
+	if len(uses) > 0 {
+		return &InUseError{Record: rt.label(before), Uses: uses}
+	}
+	if _, err := tx.ExecContext(ctx, `DELETE FROM `+rt.table+` WHERE id = ?`, id); err != nil {
+		if isForeignKeyViolation(err) {
+			return &InUseError{Record: rt.label(before), Uses: []string{"other records"}}
+		}
+		return fmt.Errorf("delete %s: %w", rt.label(before), err)
+	}
+	return addRevision(ctx, tx, batch, rt.name, id, before, nil)
+}
+
+// revert gives record rev.RecordID back the state it had just before rev: it deletes the record when rev
+// created it, recreates it with the same id (and its creation time) when rev deleted it, and otherwise
+// overwrites every column. The revert is recorded in batch like any change.
+func (rt recordType[T]) revert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, rev Revision) error {
+	current, err := rt.load(ctx, tx, rev.RecordID)
+	exists := err == nil
+	if err != nil && !errors.Is(err, ErrNotFound) {
+		return err
+	}
+	if rev.Before == nil { // rev created it: remove it
+		if !exists {
+			return ErrConflict
+		}
+		return rt.removeLoaded(ctx, tx, batch, current)
+	}
+	var old T
+	if err := json.Unmarshal(rev.Before, &old); err != nil {
+		return fmt.Errorf("revert revision %d: %w", rev.ID, err)
+	}
+	id, version, created := rt.meta(old)
+	if exists {
+		_, cur, _ := rt.meta(current)
+		err = rt.write(ctx, d, tx, id, cur, old)
+	} else {
+		cols := append([]string{"id"}, rt.cols...)
+		cols = append(cols, "version", "created_at", "updated_at")
+		args := append([]any{id}, rt.vals(old)...)
+		args = append(args, version+1, created, d.stamp())
+		_, err = tx.ExecContext(ctx, `INSERT INTO `+rt.table+` (`+strings.Join(cols, ", ")+`) VALUES (`+
+			strings.TrimSuffix(strings.Repeat("?, ", len(cols)), ", ")+`)`, args...)
+	}
+	switch {
+	case isForeignKeyViolation(err):
+		return &ValidationError{[]Problem{{Message: fmt.Sprintf("%s refers to a record that no longer exists; restore that first", rt.label(old))}}}
+	case isUniqueViolation(err):
+		return &ValidationError{[]Problem{{Message: fmt.Sprintf("another record now has the name of %s; rename it first", rt.label(old))}}}
+	case err != nil:
+		return fmt.Errorf("restore %s: %w", rt.label(old), err)
+	}
+	after, err := rt.load(ctx, tx, id)
+	if err != nil {
+		return err
+	}
+	var before any
+	if exists {
+		before = current
+	}
+	return addRevision(ctx, tx, batch, rt.name, id, before, after)
+}
+
+// reverter is a recordType of any record, for RevertRevision.
+type reverter interface {
+	revert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, rev Revision) error
+}
+
+// reverters gives the record types RevertRevision handles besides dates.
+func reverters() map[string]reverter {
+	return map[string]reverter{"province": provinceType(), "unit": unitType(), "section": sectionType(),
+		"tie_point": tieType(), "event": eventType()}
+}
+
+// Restorable reports whether RevertRevision can restore records of recordType.
+func Restorable(recordType string) bool {
+	_, ok := reverters()[recordType]
+	return ok || recordType == "date"
+}
+
+// RevertRevision restores the record of revision revID to the state it had just before that revision
+// (see RevertDate; dates go through it). Later changes are undone too, since the whole record goes back;
+// the revert is itself a recorded change. It returns ErrConflict when there is nothing to revert (a created
+// record already gone), an *InUseError when undoing a creation would delete a record others depend on,
+// and a *ValidationError when the earlier state cannot be written back (its references are gone).
+func (d *DB) RevertRevision(ctx context.Context, revID int64) error {
+	rev, err := d.RevisionByID(ctx, revID)
+	if err != nil {
+		return err
+	}
+	if rev.RecordType == "date" {
+		return d.RevertDate(ctx, revID)
+	}
+	rt, ok := reverters()[rev.RecordType]
+	if !ok {
+		return fmt.Errorf("revert revision %d: %s records cannot be restored one by one", revID, rev.RecordType)
+	}
+	return d.inTx(ctx, func(tx *sql.Tx) error {
+		batch, err := d.newBatch(ctx, tx, "revert "+strings.ReplaceAll(rev.RecordType, "_", " "), fmt.Sprintf("revision %d", revID))
+		if err != nil {
+			return err
+		}
+		if err := rt.revert(ctx, d, tx, batch, rev); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("reverted revision %d of %s %d", revID, strings.ReplaceAll(rev.RecordType, "_", " "), rev.RecordID))
+	})
+}
+
+// uniqueProblem returns a problem for column when q (with args) finds another record.
+func uniqueProblem(ctx context.Context, tx *sql.Tx, column, message string, q string, args ...any) ([]Problem, error) {
+	id, err := lookupID(ctx, tx, q, args...)
+	if err != nil || id == 0 {
+		return nil, err
+	}
+	return []Problem{{Column: column, Message: fmt.Sprintf(message+" (record %d)", id)}}, nil
+}

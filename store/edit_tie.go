@@ -1,0 +1,140 @@
+package store
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"io"
+)
+
+func tieType() recordType[TiePoint] {
+	return recordType[TiePoint]{
+		name:  "tie_point",
+		table: "tie_points",
+		cols: []string{"section_id", "label", "height_m", "kind", "distribution", "age_ma", "sigma_ma", "sigma_level",
+			"age_min_ma", "age_max_ma", "date_id", "notes"},
+		vals: func(t TiePoint) []any {
+			return []any{t.SectionID, t.Label, t.HeightM, t.Kind, t.Distribution, t.AgeMa, t.SigmaMa, t.SigmaLevel,
+				t.AgeMinMa, t.AgeMaxMa, t.DateID, t.Notes}
+		},
+		meta:  func(t TiePoint) (int64, int, string) { return t.ID, t.Version, t.CreatedAt },
+		label: func(t TiePoint) string { return fmt.Sprintf("tie point %q", t.Label) },
+		load:  tieInTx,
+	}
+}
+
+func tieInTx(ctx context.Context, tx *sql.Tx, id int64) (TiePoint, error) {
+	t, err := scanTie(tx.QueryRowContext(ctx, tieSelect+` WHERE t.id = ?`, id))
+	return t, notFound(err, "tie point", id)
+}
+
+// TiePoint returns one tie point, or ErrNotFound.
+func (d *DB) TiePoint(ctx context.Context, id int64) (TiePoint, error) {
+	t, err := scanTie(d.db.QueryRowContext(ctx, tieSelect+` WHERE t.id = ?`, id))
+	return t, notFound(err, "tie point", id)
+}
+
+// FormOfTie gives the form cells of a stored tie point (the columns of the ties import format, σ at the
+// level it was published at).
+func FormOfTie(t TiePoint) Form {
+	return formOf(func(w io.Writer) error { return WriteTiesCSV(w, []TiePoint{t}) })
+}
+
+// parseTieForm checks a form with exactly the rules of the ties importer. Problems name fields.
+func parseTieForm(f Form) (TiePoint, []Problem) {
+	rw, t := formRow(tieColumns, f)
+	return parseTieRow(rw), t.problems
+}
+
+// resolveTie links the date a tie names (by sample code, and method when given) and checks that no other
+// tie of the section has its label.
+func (d *DB) resolveTie(ctx context.Context, tx *sql.Tx, tp *TiePoint) ([]Problem, error) {
+	tp.DateID = nil
+	var ps []Problem
+	if tp.DateSampleCode != "" {
+		id, err := d.dateBySample(ctx, tx, tp.DateSampleCode, tp.DateMethod)
+		if err != nil {
+			ps = append(ps, Problem{Column: "date_sample_code", Message: err.Error()})
+		} else {
+			tp.DateID = &id
+		}
+	}
+	dup, err := uniqueProblem(ctx, tx, "label", fmt.Sprintf("the section already has a tie point %q", tp.Label),
+		`SELECT id FROM tie_points WHERE section_id = ? AND label = ? AND id <> ?`, tp.SectionID, tp.Label, tp.ID)
+	return append(ps, dup...), err
+}
+
+// CreateTie adds one tie point to section sectionID from a form, as the actor of ctx.
+func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form) (TiePoint, error) {
+	tp, problems := parseTieForm(f)
+	var out TiePoint
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		sec, err := sectionInTx(ctx, tx, sectionID)
+		if err != nil {
+			return err
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		tp.SectionID = sec.ID
+		if ps, err := d.resolveTie(ctx, tx, &tp); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "add tie point", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = tieType().insert(ctx, d, tx, batch, tp); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added tie point %s of %s", tp.Label, sec.Name))
+	})
+	return out, err
+}
+
+// UpdateTie replaces tie point id with the form's values when the stored version is still version;
+// otherwise it returns ErrConflict and changes nothing. The tie stays in its section.
+func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form) (TiePoint, error) {
+	tp, problems := parseTieForm(f)
+	var out TiePoint
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := tieInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		if before.Version != version {
+			return ErrConflict
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		tp.ID, tp.SectionID = id, before.SectionID
+		if ps, err := d.resolveTie(ctx, tx, &tp); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "edit tie point", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = tieType().update(ctx, d, tx, batch, id, version, tp); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "edited tie point "+out.Label)
+	})
+	return out, err
+}
+
+// DeleteTie removes tie point id (at version), keeping its last state in the revision.
+func (d *DB) DeleteTie(ctx context.Context, id int64, version int) error {
+	return d.inTx(ctx, func(tx *sql.Tx) error {
+		batch, err := d.newBatch(ctx, tx, "delete tie point", "form")
+		if err != nil {
+			return err
+		}
+		before, err := tieType().remove(ctx, tx, batch, id, version)
+		if err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "deleted tie point "+before.Label)
+	})
+}

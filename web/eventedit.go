@@ -1,0 +1,188 @@
+package web
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"net/http"
+	"strconv"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+// eventEdit is the editing flow of events. Events are reviewed like dates: a contributor's event (new or
+// edited) is pending, contributors edit events that are not accepted, curators edit anything, review and
+// delete.
+func (s *Server) eventEdit() recordEdit {
+	return recordEdit{
+		recordType: "event", noun: "event", nav: "Events", path: "/events", newPath: "/sections/{id}/events/new",
+		editRole: store.RoleContributor,
+		intro:    "Heights in metres above the section's base. Every field is checked with the rules of the events import; a contributor's event is pending until a curator accepts it.",
+		fields: []formField{
+			{"name", "Name", "unique within the section", nil},
+			{"kind", "Kind", "", store.EventKinds},
+			{"base_height_m", "Base (m)", "", nil},
+			{"top_height_m", "Top (m)", "empty for a horizon", nil},
+			{"review_state", "Review", "curators only; a contributor's change is pending", store.ReviewStates},
+			{"notes", "Notes", "", nil},
+		},
+		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
+			sec, err := s.sectionOfPath(r)
+			return store.Form{"kind": "hg_anomaly", "review_state": "pending"}, sectionCrumbs(sec), err
+		},
+		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
+			id, err := pathID(r, "id")
+			if err != nil {
+				return 0, err
+			}
+			e, err := s.store.CreateEvent(r.Context(), id, f, curator)
+			return e.ID, err
+		},
+		load: func(ctx context.Context, id int64) (stored, error) {
+			e, err := s.store.Event(ctx, id)
+			return stored{form: store.FormOfEvent(e), version: e.Version, name: e.Name, review: e.ReviewState,
+				crumbs: eventCrumbs(e)}, err
+		},
+		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
+			_, err := s.store.UpdateEvent(ctx, id, version, f, curator)
+			return err
+		},
+		remove:       s.store.DeleteEvent,
+		fromRevision: fromJSON(store.FormOfEvent),
+		mayEdit: func(r *http.Request, st stored) error {
+			if isCurator(r) || st.review != "accepted" {
+				return nil
+			}
+			return forbidden{"This event is accepted: only a curator may change it. Ask a curator, or add a corrected event."}
+		},
+	}
+}
+
+func (s *Server) registerEventEditRoutes(r chi.Router) {
+	s.registerRecordEdit(r, s.eventEdit())
+	r.Get("/events/{id}", s.handle(s.handleEventShow))
+	r.With(s.requireRole(store.RoleCurator)).Post("/events/{id}/review", s.handle(s.handleEventReview))
+}
+
+// sectionOfPath reads the section named by the {id} of a path such as /sections/{id}/events/new.
+func (s *Server) sectionOfPath(r *http.Request) (store.Section, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return store.Section{}, err
+	}
+	return s.store.Section(r.Context(), id)
+}
+
+func sectionCrumbs(sec store.Section) []views.Link {
+	return []views.Link{{Label: "Sections", URL: "/sections"}, {Label: sec.Name, URL: idURL("/sections", sec.ID)}}
+}
+
+func eventCrumbs(e store.Event) []views.Link {
+	if e.SectionID == nil {
+		return []views.Link{{Label: "Events", URL: "/events"}}
+	}
+	return sectionCrumbs(store.Section{ID: *e.SectionID, Name: e.Section})
+}
+
+// handleEventShow is the page of one event: its fields, review, history and the changes the user may make.
+func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
+	ctx := r.Context()
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	p := newParams(r)
+	format := p.oneOf("format", []string{"html", "json"}, "html")
+	if err := p.err(); err != nil {
+		return err
+	}
+	e, err := s.store.Event(ctx, id)
+	if err != nil {
+		return err
+	}
+	if format == "json" {
+		writeJSON(w, http.StatusOK, map[string]any{"event": e, "uncertainties": jsonSigmaNote})
+		return nil
+	}
+	v := views.Detail{Page: s.page(ctx, e.Name, "Events")}
+	v.Page.Crumbs = eventCrumbs(e)
+	v.Page.Downloads = []views.Link{{Label: "JSON", URL: withQuery(r, "format", "json")}}
+	top := "— (a horizon)"
+	if e.TopHeightM != nil {
+		top = num(*e.TopHeightM) + " m"
+	}
+	sec := views.KV{Label: "Section", Value: orDash(e.Section)}
+	if e.SectionID != nil {
+		sec.URL = idURL("/sections", *e.SectionID)
+	}
+	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), e.ReviewState)}
+	if e.ReviewState != "accepted" {
+		review.Class = "pending"
+	}
+	v.Groups = []views.FieldGroup{{Title: "Event", Fields: []views.KV{sec,
+		{Label: "Kind", Value: store.Label(store.EventKinds(), e.Kind)},
+		{Label: "Base", Value: optNum(e.BaseHeightM) + " m"},
+		{Label: "Top", Value: top},
+		{Label: "Found", Value: e.Origin},
+		{Label: "Notes", Value: orDash(e.Notes)},
+	}}, {Title: "Record", Fields: []views.KV{review,
+		{Label: "Record number", Value: strconv.FormatInt(e.ID, 10)},
+		{Label: "Version", Value: itoa(e.Version)},
+		{Label: "Added", Value: when(e.CreatedAt)},
+		{Label: "Last changed", Value: when(e.UpdatedAt)},
+	}}}
+	if e.ReviewNote != "" {
+		v.Notes = append(v.Notes, "Review note: "+e.ReviewNote)
+	}
+	ed := s.eventEdit()
+	links, acts := recordLinks(r, ed, id, stored{version: e.Version, review: e.ReviewState})
+	v.Links = links
+	v.Actions = append(reviewActions(r, "/events", e.ID, e.Version, e.ReviewState), acts...)
+	s.render(w, r, http.StatusOK, views.DetailPage(v))
+	return nil
+}
+
+// reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
+func reviewActions(r *http.Request, path string, id int64, version int, state string) []views.Action {
+	if !isCurator(r) {
+		return nil
+	}
+	hidden := func(decision string) []views.KV {
+		return []views.KV{{Label: "version", Value: strconv.Itoa(version)}, {Label: "decision", Value: decision}}
+	}
+	var acts []views.Action
+	if state != "accepted" {
+		acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("accept"), Reason: "note (optional)"})
+	}
+	if state != "rejected" {
+		acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("reject"), Reason: "reason (required)"})
+	}
+	return acts
+}
+
+func (s *Server) handleEventReview(w http.ResponseWriter, r *http.Request) error {
+	r = actingCtx(r)
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	version, err := strconv.Atoi(r.PostFormValue("version"))
+	if err != nil {
+		return badRequest{message: "The review lacks the version it was made on; open the event again."}
+	}
+	_, err = s.store.ReviewEvent(r.Context(), id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
+	if ve, ok := store.AsValidation(err); ok {
+		return badRequest{message: "The review was not saved:", problems: problemTexts(ve.Problems)}
+	}
+	if errors.Is(err, store.ErrConflict) {
+		return conflictError{"The event changed since you opened it; it was not reviewed. Reload it and review the current version."}
+	}
+	if err != nil {
+		return err
+	}
+	http.Redirect(w, r, idURL("/events", id), http.StatusSeeOther)
+	return nil
+}

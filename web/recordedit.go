@@ -1,0 +1,387 @@
+package web
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"net/http"
+	"strconv"
+	"strings"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+// formField describes one input of a record's form, named by its import format's column.
+type formField struct {
+	name, label, help string
+	options           func() []store.Term
+}
+
+// stored is a record as the editing flow sees it: its form cells, version and name, where it sits
+// (breadcrumbs), and its review state ("" for records that are not reviewed).
+type stored struct {
+	form    store.Form
+	version int
+	name    string
+	crumbs  []views.Link
+	review  string
+}
+
+// recordEdit is the editing flow that provinces, units, sections, tie points and events share with the
+// dates' (web/dateedit.go): a form checked with the importer's rules, re-shown with its field errors (422),
+// 303 after saving, an edit against an old version answered with both versions side by side (409), a
+// delete refused while other records depend on the record, and a history of field diffs with a restore.
+// Each record type fills it in with closures over the store.
+type recordEdit struct {
+	recordType string // record_type of its revisions, e.g. "tie_point"
+	noun       string // "tie point"
+	nav        string
+	path       string // the record's page is path/{id}
+	newPath    string // route of the creation form
+	editRole   string // least role that may open the edit form (mayEdit may refuse more)
+	intro      string
+	fields     []formField
+
+	// newForm gives the blank form of a creation request: its default values and breadcrumbs (it reads
+	// the owner of the new record, a province or section, from the request).
+	newForm func(r *http.Request) (store.Form, []views.Link, error)
+	// create adds a record from a form and returns its id.
+	create func(r *http.Request, f store.Form, curator bool) (int64, error)
+	load   func(ctx context.Context, id int64) (stored, error)
+	update func(ctx context.Context, id int64, version int, f store.Form, curator bool) error
+	remove func(ctx context.Context, id int64, version int) error
+	// fromRevision turns a revision's JSON state into form cells.
+	fromRevision func(raw json.RawMessage) (store.Form, error)
+	// mayEdit refuses (forbidden) an edit the user may not make beyond the route's role; nil allows it.
+	mayEdit func(r *http.Request, st stored) error
+}
+
+// registerRecordEdit adds the routes of one record's editing flow: creation for contributors, edits for
+// e.editRole (and mayEdit), deletion for curators, and the public history.
+func (s *Server) registerRecordEdit(r chi.Router, e recordEdit) {
+	r.With(s.requireRole(store.RoleContributor)).Group(func(r chi.Router) {
+		r.Get(e.newPath, s.handle(s.handleRecordNew(e)))
+		r.Post(e.newPath, s.handle(s.handleRecordCreate(e)))
+	})
+	r.With(s.requireRole(e.editRole)).Group(func(r chi.Router) {
+		r.Get(e.path+"/{id}/edit", s.handle(s.handleRecordEdit(e)))
+		r.Post(e.path+"/{id}/edit", s.handle(s.handleRecordUpdate(e)))
+	})
+	r.With(s.requireRole(store.RoleCurator)).Post(e.path+"/{id}/delete", s.handle(s.handleRecordDelete(e)))
+	r.Get(e.path+"/{id}/history", s.handle(s.handleRecordHistory(e)))
+}
+
+// formView builds a record's form page from values and the problems of the last submission.
+func (s *Server) formView(r *http.Request, e recordEdit, title, action string, crumbs []views.Link, version int,
+	values store.Form, problems []store.Problem) views.Edit {
+	v := views.Edit{Page: s.page(r.Context(), title, e.nav), Action: action, Submit: "Save", Intro: e.intro}
+	v.Page.Crumbs = crumbs
+	if version > 0 {
+		v.Hidden = []views.KV{{Label: "version", Value: strconv.Itoa(version)}}
+	}
+	byField := map[string]string{}
+	for _, p := range problems {
+		if p.Column != "" {
+			byField[p.Column] = p.Message
+		} else {
+			v.Errors = append(v.Errors, p.Message)
+		}
+	}
+	curator := isCurator(r)
+	for _, f := range e.fields {
+		if f.name == "review_state" && !curator {
+			continue
+		}
+		in := views.Input{Name: f.name, Label: f.label, Help: f.help, Value: values[f.name], Error: byField[f.name], Kind: "text"}
+		if f.name == "notes" || f.name == "description" {
+			in.Kind = "textarea"
+		}
+		if f.options != nil {
+			in.Kind = "select"
+			for _, t := range f.options() {
+				in.Options = append(in.Options, views.Option{Value: t.Code, Label: t.Label, Selected: t.Code == values[f.name]})
+			}
+		}
+		if in.Error != "" {
+			v.Errors = append(v.Errors, f.label+": "+in.Error)
+		}
+		v.Inputs = append(v.Inputs, in)
+	}
+	return v
+}
+
+func postedForm(r *http.Request, fields []formField) store.Form {
+	f := store.Form{}
+	for _, ff := range fields {
+		f[ff.name] = r.PostFormValue(ff.name)
+	}
+	return f
+}
+
+func (s *Server) handleRecordNew(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		values, crumbs, err := e.newForm(r)
+		if err != nil {
+			return err
+		}
+		v := s.formView(r, e, "New "+e.noun, r.URL.Path, crumbs, 0, values, nil)
+		s.render(w, r, http.StatusOK, views.EditPage(v))
+		return nil
+	}
+}
+
+func (s *Server) handleRecordCreate(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		r = actingCtx(r)
+		_, crumbs, err := e.newForm(r)
+		if err != nil {
+			return err
+		}
+		values := postedForm(r, e.fields)
+		id, err := e.create(r, values, isCurator(r))
+		if ve, ok := store.AsValidation(err); ok {
+			v := s.formView(r, e, "New "+e.noun, r.URL.Path, crumbs, 0, values, ve.Problems)
+			s.render(w, r, http.StatusUnprocessableEntity, views.EditPage(v))
+			return nil
+		}
+		if err != nil {
+			return err
+		}
+		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
+		return nil
+	}
+}
+
+func (s *Server) loadEditable(r *http.Request, e recordEdit) (int64, stored, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return 0, stored{}, err
+	}
+	st, err := e.load(r.Context(), id)
+	if err != nil {
+		return 0, stored{}, err
+	}
+	if e.mayEdit != nil {
+		if err := e.mayEdit(r, st); err != nil {
+			return 0, stored{}, err
+		}
+	}
+	return id, st, nil
+}
+
+func (s *Server) handleRecordEdit(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		id, st, err := s.loadEditable(r, e)
+		if err != nil {
+			return err
+		}
+		crumbs := append(st.crumbs, views.Link{Label: st.name, URL: idURL(e.path, id)})
+		v := s.formView(r, e, "Edit "+st.name, r.URL.Path, crumbs, st.version, st.form, nil)
+		_, v.Actions = recordLinks(r, e, id, st)
+		s.render(w, r, http.StatusOK, views.EditPage(v))
+		return nil
+	}
+}
+
+func (s *Server) handleRecordUpdate(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		r = actingCtx(r)
+		version, err := strconv.Atoi(r.PostFormValue("version"))
+		if err != nil {
+			return badRequest{message: "The form lacks the version it was made from; open the edit page again."}
+		}
+		id, current, err := s.loadEditable(r, e)
+		if err != nil {
+			return err
+		}
+		values := postedForm(r, e.fields)
+		crumbs := append(current.crumbs, views.Link{Label: current.name, URL: idURL(e.path, id)})
+		err = e.update(r.Context(), id, version, values, isCurator(r))
+		var ve *store.ValidationError
+		switch {
+		case errors.As(err, &ve):
+			v := s.formView(r, e, "Edit "+current.name, r.URL.Path, crumbs, version, values, ve.Problems)
+			s.render(w, r, http.StatusUnprocessableEntity, views.EditPage(v))
+			return nil
+		case errors.Is(err, store.ErrConflict):
+			// Someone saved first: show both, keep the user's values, and let them resubmit against the
+			// version now stored. Nothing is overwritten silently.
+			v := s.formView(r, e, "Edit "+current.name+": changed meanwhile", r.URL.Path, crumbs, current.version, values, nil)
+			v.Errors = []string{fmt.Sprintf("Someone saved this %s (version %d) after you opened it (version %d). Your changes are not saved. Compare below; submit again to replace the stored version with your values, or leave.", e.noun, current.version, version)}
+			v.Tables = []views.Table{fieldDiff("Your values and the stored ones", e.fields, values, current.form, "yours", "stored now")}
+			s.render(w, r, http.StatusConflict, views.EditPage(v))
+			return nil
+		case err != nil:
+			return err
+		}
+		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
+		return nil
+	}
+}
+
+func (s *Server) handleRecordDelete(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		r = actingCtx(r)
+		id, err := pathID(r, "id")
+		if err != nil {
+			return err
+		}
+		version, err := strconv.Atoi(r.PostFormValue("version"))
+		if err != nil {
+			return badRequest{message: fmt.Sprintf("The request lacks the version; open the %s again.", e.noun)}
+		}
+		if err := refusal(e.noun, "deleted", e.remove(r.Context(), id, version)); err != nil {
+			return err
+		}
+		http.Redirect(w, r, fmt.Sprintf("%s/%d/history", e.path, id), http.StatusSeeOther)
+		return nil
+	}
+}
+
+// refusal turns the store's refusals of a change into what the user reads (409): a record changed
+// meanwhile, or still used by others, or an earlier state that cannot be written back.
+func refusal(noun, done string, err error) error {
+	var inUse *store.InUseError
+	switch {
+	case errors.As(err, &inUse):
+		return conflictError{fmt.Sprintf("This %s was not %s: it is used by %s. Delete or move those first.", noun, done, strings.Join(inUse.Uses, ", "))}
+	case errors.Is(err, store.ErrConflict):
+		return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not %s. Open it again.", noun, done)}
+	}
+	if ve, ok := store.AsValidation(err); ok {
+		return conflictError{fmt.Sprintf("This %s was not %s: %s", noun, done, strings.Join(problemTexts(ve.Problems), "; "))}
+	}
+	return err
+}
+
+// fieldDiff lists the fields where a and b differ, in the form's order.
+func fieldDiff(caption string, fields []formField, a, b store.Form, aLabel, bLabel string) views.Table {
+	t := views.Table{ID: "diff", Caption: caption, Columns: []views.Column{{Label: "Field"}, {Label: aLabel}, {Label: bLabel}},
+		Empty: "No field differs."}
+	for _, f := range fields {
+		if a[f.name] != b[f.name] {
+			t.Rows = append(t.Rows, []views.Cell{{Text: f.label}, {Text: orDash(a[f.name]), Class: "diff-before"}, {Text: orDash(b[f.name]), Class: "diff-after"}})
+		}
+	}
+	return t
+}
+
+// handleRecordHistory lists every recorded change of a record, newest first, with what changed; curators
+// can restore the state before any change. A deleted record's history stays readable.
+func (s *Server) handleRecordHistory(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		ctx := r.Context()
+		id, err := pathID(r, "id")
+		if err != nil {
+			return err
+		}
+		p := newParams(r)
+		format := p.oneOf("format", []string{"html", "json"}, "html")
+		if err := p.err(); err != nil {
+			return err
+		}
+		revs, err := s.store.Revisions(ctx, e.recordType, id)
+		if err != nil {
+			return err
+		}
+		if len(revs) == 0 {
+			return notFoundError{what: fmt.Sprintf("history for %s %d", e.noun, id)}
+		}
+		if format == "json" {
+			return writeList(w, "revisions", len(revs), 0, len(revs), revs)
+		}
+		title := fmt.Sprintf("History of %s %d", e.noun, id)
+		var crumbs []views.Link
+		if st, err := e.load(ctx, id); err == nil {
+			title = "History of " + st.name
+			crumbs = append(st.crumbs, views.Link{Label: st.name, URL: idURL(e.path, id)})
+		} else if !errors.Is(err, store.ErrNotFound) {
+			return err
+		}
+		v := views.Detail{Page: s.page(ctx, title, e.nav)}
+		v.Page.Crumbs = crumbs
+		v.Page.Downloads = []views.Link{{Label: "JSON", URL: withQuery(r, "format", "json")}}
+		v.Intro = fmt.Sprintf("Every change of this %s, newest first: who made it, when, and each field before and after. Restoring the state before a change is itself recorded here.", e.noun)
+		curator := isCurator(r)
+		for _, rev := range revs {
+			before, err := revisionForm(e, rev.Before)
+			if err != nil {
+				return err
+			}
+			after, err := revisionForm(e, rev.After)
+			if err != nil {
+				return err
+			}
+			who := rev.User
+			if who == "" {
+				who = "command line or import"
+			}
+			t := fieldDiff(fmt.Sprintf("%s · %s · %s (%s)", when(rev.At), who, rev.Kind, orDash(rev.Source)), e.fields, before, after, "before", "after")
+			if rev.Before == nil {
+				t.Caption += " — created"
+			}
+			if rev.After == nil {
+				t.Caption += " — deleted"
+			}
+			v.Tables = append(v.Tables, t)
+			if curator {
+				v.Actions = append(v.Actions, views.Action{Label: fmt.Sprintf("Restore the state before “%s” of %s", rev.Kind, when(rev.At)),
+					URL: fmt.Sprintf("/revisions/%d/revert", rev.ID)})
+			}
+		}
+		s.render(w, r, http.StatusOK, views.DetailPage(v))
+		return nil
+	}
+}
+
+func revisionForm(e recordEdit, raw json.RawMessage) (store.Form, error) {
+	if raw == nil {
+		return store.Form{}, nil
+	}
+	f, err := e.fromRevision(raw)
+	if err != nil {
+		return nil, fmt.Errorf("read %s revision: %w", e.recordType, err)
+	}
+	return f, nil
+}
+
+// historyURL is the history page of a record of any type.
+func historyURL(recordType string, id int64) string {
+	paths := map[string]string{"date": "/dates", "province": "/provinces", "unit": "/units", "section": "/sections",
+		"tie_point": "/ties", "event": "/events"}
+	return fmt.Sprintf("%s/%d/history", paths[recordType], id)
+}
+
+// recordLinks are the links and buttons of a record's page: its history for everyone, its edit form for
+// who may edit it, and deletion for curators.
+func recordLinks(r *http.Request, e recordEdit, id int64, st stored) ([]views.Link, []views.Action) {
+	links := []views.Link{{Label: "History of this " + e.noun, URL: fmt.Sprintf("%s/%d/history", e.path, id)}}
+	u, ok := currentUser(r.Context())
+	if !ok {
+		return links, nil
+	}
+	if store.RoleAtLeast(u.Role, e.editRole) && (e.mayEdit == nil || e.mayEdit(r, st) == nil) {
+		links = append(links, views.Link{Label: "Edit this " + e.noun, URL: fmt.Sprintf("%s/%d/edit", e.path, id)})
+	}
+	var acts []views.Action
+	if store.RoleAtLeast(u.Role, store.RoleCurator) {
+		acts = append(acts, views.Action{Label: "Delete", URL: fmt.Sprintf("%s/%d/delete", e.path, id),
+			Hidden: []views.KV{{Label: "version", Value: strconv.Itoa(st.version)}}, Danger: true})
+	}
+	return links, acts
+}
+
+// fromJSON decodes a revision's state as T and gives its form cells.
+func fromJSON[T any](form func(T) store.Form) func(json.RawMessage) (store.Form, error) {
+	return func(raw json.RawMessage) (store.Form, error) {
+		var x T
+		if err := json.Unmarshal(raw, &x); err != nil {
+			return nil, err
+		}
+		return form(x), nil
+	}
+}
