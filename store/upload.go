@@ -181,6 +181,23 @@ func (d *DB) UndoBatch(ctx context.Context, batchID int64) (int, error) {
 				problems = append(problems, Problem{Message: fmt.Sprintf("%s %d was changed after this import; revert that change first", rev.RecordType, rev.RecordID)})
 				continue
 			}
+			// Children that would go with the record by ON DELETE CASCADE, without a revision each, block
+			// the undo as they block a delete.
+			var deps []dependent
+			switch rev.RecordType {
+			case "section":
+				deps = sectionType().deps
+			case "province":
+				deps = provinceType().deps
+			case "unit":
+				deps = unitType().deps
+			}
+			if uses, err := dependents(ctx, tx, rev.RecordID, deps); err != nil {
+				return err
+			} else if len(uses) > 0 {
+				problems = append(problems, Problem{Message: fmt.Sprintf("%s %d is now used by %s added later; undo or delete those first", rev.RecordType, rev.RecordID, strings.Join(uses, ", "))})
+				continue
+			}
 			if _, err := tx.ExecContext(ctx, `DELETE FROM `+table+` WHERE id = ?`, rev.RecordID); err != nil {
 				if isForeignKeyViolation(err) {
 					problems = append(problems, Problem{Message: fmt.Sprintf("%s %d is now used by records added later; undo those first", rev.RecordType, rev.RecordID)})
