@@ -23,6 +23,7 @@ func (s *Server) registerSectionRoutes(r chi.Router) {
 	r.Get("/sections/{id}/measurements", s.handle(s.handleSectionMeasurements))
 	r.Get("/sections/{id}/ties", s.handle(s.handleSectionTies))
 	r.Get("/sections/{id}/events", s.handle(s.handleSectionEvents))
+	s.registerSectionChangeRoutes(r)
 }
 
 func heightRange(sec store.Section) string {

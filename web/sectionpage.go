@@ -98,7 +98,19 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 			"age_model": a.modelJSON(), "uncertainties": jsonSigmaNote})
 		return nil
 	}
+	v, err := s.sectionView(r, a, sectionForms{})
+	if err != nil {
+		return err
+	}
+	s.render(w, r, http.StatusOK, views.SectionPage(v))
+	return nil
+}
+
+// sectionView builds the section page; fs carries the values and problems of a form that was posted
+// from it and is shown again.
+func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForms) (views.SectionView, error) {
 	ctx := r.Context()
+	sec := a.Sec
 	base := idURL("/sections", sec.ID)
 	v := views.SectionView{Page: s.page(ctx, sec.Name, "Sections"), Intro: sec.Notes}
 	v.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}}
@@ -117,11 +129,21 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 	v.FigureCaption = "Height up, as the section is logged. Shaded: detected anomalies (numbered as in the table). " +
 		"Crosses in the ratio panel's left strip: samples whose ratio is not evaluable (kept, not dropped). Triangles on each panel's left edge: tie points."
 	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")}}
-	v.Blocks = []views.Block{a.hostBlock(), a.anomalyBlock(r, base), a.segmentBlock(), a.modelBlock(r, base)}
+	decisions, err := s.store.AnomalyDecisions(ctx, sec.ID)
+	if err != nil {
+		return views.SectionView{}, err
+	}
+	ab := a.anomalyBlock(r, base)
+	a.decisionColumn(&ab, decisions)
+	ab.Forms = a.anomalyForms(r, base, decisions, fs)
+	if dt := decisionTable(decisions, a.detectionSettings()); len(dt.Rows) > 0 {
+		ab.Tables = append(ab.Tables, dt)
+	}
+	v.Blocks = []views.Block{a.hostBlock(), ab, a.segmentBlock(), a.modelBlock(r, base)}
 	tt := tieTable(a.Ties, a.Opt.Level, false)
 	tt.Caption = "Tie points"
 	et := eventTable(a.Events, false)
-	et.Caption = "Events (entered or imported)"
+	et.Caption = "Events (entered, imported, or made from detected anomalies)"
 	st := a.sampleTable()
 	v.Blocks = append(v.Blocks, views.Block{ID: "records", Title: "Tie points, events and samples", Tables: []views.Table{tt, et, st},
 		Links: []views.Link{
@@ -132,8 +154,10 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 			{Label: "Events (CSV)", URL: base + "/events?format=csv"},
 			{Label: fmt.Sprintf("Show tie ages at %dσ", 3-a.Opt.Level), URL: withQuery(r, "sigma", strconv.Itoa(3-a.Opt.Level))},
 		}})
-	s.render(w, r, http.StatusOK, views.SectionPage(v))
-	return nil
+	if f, ok := s.eventForm(r, base, fs); ok {
+		v.Blocks = append(v.Blocks, f)
+	}
+	return v, nil
 }
 
 func cautionIf(b bool) string {
@@ -286,7 +310,7 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 			a.baselineSentence(), num(a.Opt.ZMin), a.Opt.MinRun, ratioName(a.Host)),
 		desc(ratioName(a.Host), a.RatioRes, a.RatioNote),
 		desc("Hg", a.RawRes, a.RawNote),
-		"Origin: detected. Turning an anomaly into an event, or rejecting it with a reason, needs curator accounts, which come in a later issue.",
+		"Origin: detected. A curator can make an anomaly an event of the section (kind Hg anomaly, its base and top, with a note of the settings that found it) or reject it with a reason; a decision holds for the anomaly as found with these settings (series, interval, host, threshold, baseline, z and run length).",
 	}
 	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
 	t := views.Table{ID: "anomaly-table", Caption: "Detected anomalies", Empty: "No anomaly: no run of samples stands above the threshold.", Columns: []views.Column{

@@ -70,6 +70,10 @@ type Store interface {
 	Tokens(ctx context.Context, userID int64) ([]store.Token, error)
 	SetSetting(ctx context.Context, key, value string) error
 	Backup(ctx context.Context, path string) error
+	AddSectionEvent(ctx context.Context, sectionID int64, f store.EventForm, asCurator bool) (store.Event, error)
+	AnomalyDecisions(ctx context.Context, sectionID int64) ([]store.AnomalyDecision, error)
+	AnomalyToEvent(ctx context.Context, k store.AnomalyKey, name, notes string) (store.Event, store.AnomalyDecision, error)
+	RejectAnomaly(ctx context.Context, k store.AnomalyKey, reason string) (store.AnomalyDecision, error)
 }
 
 // Server holds what the handlers share.
