@@ -128,7 +128,8 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 	v.FigureSVG = views.SectionSVG(sectionFigure(a))
 	v.FigureCaption = "Height up, as the section is logged. Shaded: detected anomalies (numbered as in the table). " +
 		"Crosses in the ratio panel's left strip: samples whose ratio is not evaluable (kept, not dropped). Triangles on each panel's left edge: tie points."
-	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")}}
+	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")},
+		{Label: "(PNG)", URL: withPath(r, base+"/figure.png", "format", "")}, {Label: "(PDF, text in ASCII)", URL: withPath(r, base+"/figure.pdf", "format", "")}}
 	decisions, err := s.store.AnomalyDecisions(ctx, sec.ID)
 	if err != nil {
 		return views.SectionView{}, err
@@ -727,16 +728,4 @@ func (s *Server) handleSectionAgeModel(w http.ResponseWriter, r *http.Request) e
 			}
 			return strings.Join(a.modelParas(), " ")
 		})
-}
-
-func (s *Server) handleSectionFigure(w http.ResponseWriter, r *http.Request) error {
-	a, _, err := s.sectionAnalysisFor(r)
-	if err != nil {
-		return err
-	}
-	body := `<?xml version="1.0" encoding="UTF-8"?>` + "\n" + views.SectionSVG(sectionFigure(a)) + "\n"
-	w.Header().Set("Content-Type", "image/svg+xml; charset=utf-8")
-	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", fmt.Sprintf("section-%d-figure.svg", a.Sec.ID)))
-	io.WriteString(w, body)
-	return nil
 }
