@@ -200,6 +200,8 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 		{Name: "penalty", Label: "Change-point penalty", Kind: "number", Value: penalty, Step: "any", Placeholder: fmtF(a.SegmentPenalty, 1) + " (2·ln n)"},
 		{Name: "model", Label: "Age model", Kind: "select", Options: []views.Option{
 			opt("mc", "Monte Carlo (Beta bridge)", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
+		{Name: "tie_level", Label: "± of ties from dates", Kind: "select", Options: []views.Option{
+			opt("full", "full external (default)", o.TieLevel), opt("tracer", "with tracer (Y)", o.TieLevel), opt("analytical", "analytical (X)", o.TieLevel)}},
 		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
 	}}
@@ -401,7 +403,7 @@ func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
 		}
 		et.Rows = append(et.Rows, []views.Cell{{Text: e.Name}, {Text: e.Kind}, {Text: e.Origin}, {Text: hs, Num: true}, {Text: ageRange(e.Age), Num: true}, {Text: orDash(note)}})
 	}
-	b.Tables = []views.Table{rt, et}
+	b.Tables = []views.Table{a.tieModelTable(), rt, et}
 	return b
 }
 
@@ -416,6 +418,7 @@ func (a *sectionAnalysis) modelParas() []string {
 	if m.MC != nil {
 		return []string{
 			fmt.Sprintf("Model: Monte Carlo with superposition. Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
+			a.tieLevelSentence(),
 			fmt.Sprintf("Tie sampler: %s; acceptance %.1f %% of %d attempts (whole draws out of stratigraphic order are rejected, never sorted; below %g %% acceptance a Gibbs sampler of truncated tie ages takes over).",
 				m.MC.Sampler, 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
 			fmt.Sprintf("Between ties: Beta bridges of a Poisson deposition model, rigidity k (deposition events per m) drawn per draw from a log-uniform prior on %g–%g per m, so the intervals average over how regular deposition was instead of trusting one k.",
@@ -425,6 +428,7 @@ func (a *sectionAnalysis) modelParas() []string {
 	}
 	return []string{
 		fmt.Sprintf("Model: NAIVE linear interpolation between tie means, from %s; hiatuses ignored. Tie errors are propagated as if independent; interval = mean ± 1.96σ.", ties),
+		a.tieLevelSentence(),
 		"Caution: this model under-covers — in simulation its 95 % intervals hold the true age far less often than 95 %. It is offered only as a labelled comparison; use model=mc.",
 	}
 }
@@ -483,7 +487,7 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 func (a *sectionAnalysis) settingsJSON() map[string]any {
 	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMin,
 		"host_min_wt_pct": a.HostMin, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
-		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed}
+		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed, "tie_level": a.Opt.TieLevel}
 	switch a.Opt.Baseline {
 	case "window":
 		s["bg_base_m"], s["bg_top_m"] = a.Opt.BgBaseM, a.Opt.BgTopM
