@@ -5,6 +5,7 @@ package views
 type SectionView struct {
 	Page
 	Intro         string
+	Alert         *Link // a posted form shown again with problems: what to fix, and a link to the form
 	Groups        []FieldGroup
 	Controls      Form
 	Cautions      []string

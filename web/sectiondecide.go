@@ -225,6 +225,10 @@ func (s *Server) reshowSection(w http.ResponseWriter, r *http.Request, a *sectio
 	if err != nil {
 		return err
 	}
+	v.Alert = &views.Link{Label: "Nothing was saved: the form has problems, marked at its fields. Go to the form.", URL: "#event-form"}
+	if fs.anomaly > 0 {
+		v.Alert.URL = fmt.Sprintf("#anomaly-%d-%s", fs.anomaly, fs.action)
+	}
 	s.render(w, r, http.StatusUnprocessableEntity, views.SectionPage(v))
 	return nil
 }

@@ -86,7 +86,7 @@ func TestCuratorDecidesOnAnomalies(t *testing.T) {
 		t.Fatalf("the reject form %q %v does not carry the page's settings", rAction, rHidden)
 	}
 	status, body, _ = do(t, curator, http.MethodPost, srv.URL+rAction, rHidden)
-	if status != http.StatusUnprocessableEntity || !strings.Contains(body, "say why the anomaly is rejected") {
+	if status != http.StatusUnprocessableEntity || !strings.Contains(body, "say why the anomaly is rejected") || !strings.Contains(body, `href="#anomaly-1-reject"`) {
 		t.Errorf("reject without reason: status %d", status)
 	}
 	rHidden.Set("reason", "one bed of plant debris, not a horizon")

@@ -330,9 +330,9 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 		if an.Age != nil {
 			age = ageRange(an.Age.Age)
 		}
-		reading := views.Cell{Text: an.Verdict}
+		reading := views.Cell{Text: an.Verdict, Class: "reading"}
 		if an.Caution {
-			reading.Class = "caution"
+			reading.Class = "caution reading"
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: itoa(an.Number), Num: true}, {Text: "detected"}, {Text: an.Series},
 			{Text: num(an.A.BaseHeightM), Num: true}, {Text: num(an.A.TopHeightM), Num: true},
