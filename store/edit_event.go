@@ -56,7 +56,7 @@ func parseEventForm(f Form, asCurator bool) (Event, []Problem) {
 }
 
 func eventNameProblem(ctx context.Context, tx *sql.Tx, e Event) ([]Problem, error) {
-	return uniqueProblem(ctx, tx, "name", fmt.Sprintf("the section already has an event %q", e.Name),
+	return uniqueProblem(ctx, tx, "name", fmt.Sprintf("the section already has an event named %q", e.Name),
 		`SELECT id FROM events WHERE section_id = ? AND name = ? AND id <> ?`, e.SectionID, e.Name, e.ID)
 }
 
@@ -70,12 +70,18 @@ func (d *DB) CreateEvent(ctx context.Context, sectionID int64, f Form, asCurator
 		if err != nil {
 			return err
 		}
+		// The name is checked against the section even when other fields are wrong, so that one
+		// submission lists every problem.
+		ev.SectionID = &sec.ID
+		if ev.Name != "" {
+			ps, err := eventNameProblem(ctx, tx, ev)
+			if err != nil {
+				return err
+			}
+			problems = append(problems, ps...)
+		}
 		if len(problems) > 0 {
 			return &ValidationError{problems}
-		}
-		ev.SectionID = &sec.ID
-		if ps, err := eventNameProblem(ctx, tx, ev); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
 		}
 		batch, err := d.newBatch(ctx, tx, "add event", "form")
 		if err != nil {

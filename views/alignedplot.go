@@ -3,6 +3,7 @@ package views
 import (
 	"math"
 	"strconv"
+	"strings"
 )
 
 // AlignedColumn is one section on the common age axis: its series against model age (the median age of
@@ -30,154 +31,168 @@ type AlignedFigure struct {
 	Notes    []string
 }
 
-// AlignedSVG draws the aligned figure as a standalone SVG element.
-func AlignedSVG(f AlignedFigure) string {
-	var b svgBuf
+type alignedLayout struct {
+	width, height, top, bottom, colW float64
+	perRow, legRows                  int
+	aLo, aHi                         float64
+}
+
+func (f AlignedFigure) layout() alignedLayout {
 	nc := len(f.Columns)
-	colW := 200.0
-	width := secFigLeft + float64(nc)*colW + float64(max(nc-1, 0))*panelGap + secFigRight
-	top := 112.0
-	bottom := top + plotH
-	perRow := max(1, int((width-secFigLeft)/legendItemW))
-	legendRows := (len(f.Legend) + perRow - 1) / perRow
-	height := bottom + 48 + float64(legendRows)*secLegendRowH + float64(len(f.Notes))*15 + 10
-	b.f(`<svg xmlns="http://www.w3.org/2000/svg" width="%s" height="%s" viewBox="0 0 %s %s" font-family="%s" font-size="11" role="img" aria-label="%s">`,
-		ff(width), ff(height), ff(width), ff(height), figFont, esc(f.Title))
-	b.f(`<title>%s</title>`, esc(f.Title))
-	b.f(`<rect x="0" y="0" width="%s" height="%s" fill="#ffffff"/>`, ff(width), ff(height))
-	b.f(`<text x="12" y="18" font-size="14" font-weight="bold" fill="#1d2327">%s</text>`, esc(f.Title))
-	if f.Subtitle != "" {
-		b.f(`<text x="12" y="33" fill="#5b6770">%s</text>`, esc(f.Subtitle))
+	l := alignedLayout{colW: 200, top: 112}
+	l.width = secFigLeft + float64(nc)*l.colW + float64(max(nc-1, 0))*panelGap + secFigRight
+	l.bottom = l.top + plotH
+	l.perRow = max(1, int((l.width-secFigLeft)/legendItemW))
+	l.legRows = (len(f.Legend) + l.perRow - 1) / l.perRow
+	l.height = l.bottom + 48 + float64(l.legRows)*secLegendRowH + float64(len(f.Notes))*15 + 10
+	l.aLo, l.aHi = f.AgeMinMa, f.AgeMaxMa
+	if !(l.aHi > l.aLo) {
+		l.aLo, l.aHi = l.aLo-0.1, l.aLo+0.1
 	}
-	aLo, aHi := f.AgeMinMa, f.AgeMaxMa
-	if !(aHi > aLo) {
-		aLo, aHi = aLo-0.1, aLo+0.1
+	return l
+}
+
+// AlignedSVG draws the aligned figure as a standalone SVG element.
+func AlignedSVG(f AlignedFigure) string { return strings.TrimSuffix(string(f.SVG()), "\n") }
+
+// SVG draws the aligned figure as SVG, with hover titles on the anomalies.
+func (f AlignedFigure) SVG() []byte {
+	l := f.layout()
+	c := newSVG(l.width, l.height, f.Title)
+	f.draw(c, l)
+	return c.bytes()
+}
+
+// PNG draws the aligned figure as a PNG image at 144 dpi.
+func (f AlignedFigure) PNG() ([]byte, error) {
+	l := f.layout()
+	return renderPNG(l.width, l.height, func(c canvas) { f.draw(c, l) })
+}
+
+// PDF draws the aligned figure as PDF, its text in ASCII.
+func (f AlignedFigure) PDF() ([]byte, error) {
+	l := f.layout()
+	return renderPDF(l.width, l.height, func(c canvas) { f.draw(c, l) })
+}
+
+func (f AlignedFigure) draw(c canvas, l alignedLayout) {
+	top, bottom, aLo, aHi, colW := l.top, l.bottom, l.aLo, l.aHi, l.colW
+	c.rect(0, 0, l.width, l.height, paint{Fill: "#ffffff"})
+	c.text(12, 18, f.Title, textStyle{Size: 14, Bold: true})
+	if f.Subtitle != "" {
+		c.text(12, 33, f.Subtitle, textStyle{Size: 11, Colour: mutedColour})
 	}
 	y := func(a float64) float64 { return top + (a-aLo)/(aHi-aLo)*plotH }
 	ticks, _, dec := ticks(aLo, aHi, 10)
-	b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft), ff(top), ff(secFigLeft), ff(bottom))
+	c.poly([]pt{{secFigLeft, top}, {secFigLeft, bottom}}, false, paint{Stroke: inkColour})
 	for _, t := range ticks {
 		if t < aLo || t > aHi {
 			continue
 		}
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft-4), ff(y(t)), ff(secFigLeft), ff(y(t)))
-		b.f(`<text x="%s" y="%s" text-anchor="end" fill="#1d2327">%s</text>`, ff(secFigLeft-6), ff(y(t)+3.5), tickLabel(t, dec))
+		c.poly([]pt{{secFigLeft - 4, y(t)}, {secFigLeft, y(t)}}, false, paint{Stroke: inkColour})
+		c.text(secFigLeft-6, y(t)+3.5, tickLabel(t, dec), textStyle{Size: 11, Anchor: "end"})
 	}
-	b.f(`<text transform="translate(%s %s) rotate(-90)" text-anchor="middle" fill="#1d2327">Model age (Ma), older down</text>`, ff(secFigLeft-48), ff((top+bottom)/2))
+	c.textUp(secFigLeft-48, (top+bottom)/2, "Model age (Ma), older down", textStyle{Size: 11, Anchor: "middle"})
 
 	// x: log10 multiple of the background median, shared by all columns.
 	xLo, xHi := math.Log10(0.2), math.Log10(20)
-	for _, c := range f.Columns {
-		for _, p := range c.Points {
+	for _, col := range f.Columns {
+		for _, p := range col.Points {
 			if p.X > 0 {
 				xLo, xHi = math.Min(xLo, math.Log10(p.X)), math.Max(xHi, math.Log10(p.X))
 			}
 		}
 	}
 	xLo, xHi = math.Max(xLo, -2), math.Min(xHi, 3)
-	for i, c := range f.Columns {
+	for i, col := range f.Columns {
 		x0 := secFigLeft + float64(i)*(colW+panelGap)
 		right := x0 + colW
 		left := x0 + gutterW
 		x := func(m float64) float64 { return left + (math.Log10(m)-xLo)/(xHi-xLo)*(right-left) }
-		b.f(`<text x="%s" y="%s" text-anchor="middle" font-size="12" font-weight="bold" fill="#1d2327">%s</text>`, ff(x0+colW/2), ff(top-44), esc(c.Title))
-		if c.Subtitle != "" {
-			b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#5b6770">%s</text>`, ff(x0+colW/2), ff(top-30), esc(c.Subtitle))
+		c.text(x0+colW/2, top-44, col.Title, textStyle{Size: 12, Bold: true, Anchor: "middle"})
+		if col.Subtitle != "" {
+			c.text(x0+colW/2, top-30, col.Subtitle, textStyle{Size: 11, Anchor: "middle", Colour: mutedColour})
 		}
-		if c.Caution != "" {
-			b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#7a4b00" font-size="10.5">%s</text>`, ff(x0+colW/2), ff(top-17), esc(c.Caution))
+		if col.Caution != "" {
+			c.text(x0+colW/2, top-17, col.Caution, textStyle{Size: 10.5, Anchor: "middle", Colour: "#7a4b00"})
 		}
-		b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#5b6770">%s</text>`, ff(x0+colW/2), ff(top-4), esc(c.Series+" ÷ background median"))
+		c.text(x0+colW/2, top-4, col.Series+" ÷ background median", textStyle{Size: 11, Anchor: "middle", Colour: mutedColour})
 		for _, t := range ticks {
 			if t >= aLo && t <= aHi {
-				b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#eef1f3"/>`, ff(x0), ff(y(t)), ff(right), ff(y(t)))
+				c.poly([]pt{{x0, y(t)}, {right, y(t)}}, false, paint{Stroke: gridColour})
 			}
 		}
-		for _, bd := range c.Bands {
+		for _, bd := range col.Bands {
 			y1, y2 := y(math.Max(math.Min(bd.TopM, bd.BaseM), aLo)), y(math.Min(math.Max(bd.TopM, bd.BaseM), aHi))
-			col := ColorBand
+			fill := ColorBand
 			if bd.Caution {
-				col = ColorCaution
+				fill = ColorCaution
 			}
-			b.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="%s" fill-opacity="0.75"><title>%s</title></rect>`, ff(x0), ff(y1), ff(colW), ff(math.Max(y2-y1, 1.5)), col, esc(bd.Label))
+			c.begin(bd.Label, "")
+			c.rect(x0, y1, colW, math.Max(y2-y1, 1.5), paint{Fill: fill, FillAlpha: 0.75})
+			c.end()
 		}
-		for _, m := range c.Medians {
+		for _, m := range col.Medians {
 			if m.H >= aLo && m.H <= aHi {
-				b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-width="1.2"><title>%s</title></line>`, ff(x0), ff(y(m.H)), ff(right), ff(y(m.H)), ColorTie, esc(m.Label))
+				c.begin(m.Label, "")
+				c.poly([]pt{{x0, y(m.H)}, {right, y(m.H)}}, false, paint{Stroke: ColorTie, Width: 1.2})
+				c.end()
 			}
 		}
-		b.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="#f7eeee"/>`, ff(x0), ff(top), ff(gutterW), ff(bottom-top))
-		b.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="none" stroke="#1d2327"/>`, ff(x0), ff(top), ff(colW), ff(bottom-top))
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-dasharray="5 3"/>`, ff(x(1)), ff(top), ff(x(1)), ff(bottom), ColorBaseline)
+		c.rect(x0, top, gutterW, bottom-top, paint{Fill: "#f7eeee"})
+		c.rect(x0, top, colW, bottom-top, paint{Stroke: inkColour})
+		c.poly([]pt{{x(1), top}, {x(1), bottom}}, false, paint{Stroke: ColorBaseline, Dash: []float64{5, 3}})
 		for _, m := range []float64{0.01, 0.03, 0.1, 0.3, 1, 3, 10, 30, 100, 300} {
 			if lm := math.Log10(m); lm >= xLo && lm <= xHi {
-				b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(x(m)), ff(bottom), ff(x(m)), ff(bottom+4))
-				b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#1d2327">%s</text>`, ff(x(m)), ff(bottom+15), strconv.FormatFloat(m, 'f', -1, 64)+"×")
+				c.poly([]pt{{x(m), bottom}, {x(m), bottom + 4}}, false, paint{Stroke: inkColour})
+				c.text(x(m), bottom+15, strconv.FormatFloat(m, 'f', -1, 64)+"×", textStyle{Size: 11, Anchor: "middle"})
 			}
 		}
-		if len(c.Points) == 0 {
-			msg := c.Empty
+		if len(col.Points) == 0 {
+			msg := col.Empty
 			if msg == "" {
 				msg = "no dated samples"
 			}
-			b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#5b6770" font-style="italic">%s</text>`, ff(x0+colW/2), ff((top+bottom)/2), esc(msg))
+			c.text(x0+colW/2, (top+bottom)/2, msg, textStyle{Size: 11, Italic: true, Anchor: "middle", Colour: mutedColour})
 			continue
 		}
-		for _, a := range c.NotEval {
+		for _, a := range col.NotEval {
 			if a >= aLo && a <= aHi {
-				cross(&b, x0+gutterW/2, y(a), 3, ColorNotEval)
+				crossMark(c, x0+gutterW/2, y(a), 3, ColorNotEval)
 			}
 		}
-		var pts []string
+		var pts []pt
 		flush := func() {
 			if len(pts) > 1 {
-				b.f(`<polyline points="%s" fill="none" stroke="%s" stroke-width="1.1"/>`, joinPts(pts), ColorRatio)
+				c.poly(pts, false, paint{Stroke: ColorRatio, Width: 1.1})
 			}
 			pts = pts[:0]
 		}
-		for _, p := range c.Points {
+		for _, p := range col.Points {
 			if !(p.X > 0) || p.H < aLo || p.H > aHi {
 				flush()
 				continue
 			}
-			xx := math.Max(left, math.Min(right, x(p.X)))
-			pts = append(pts, ff(xx)+","+ff(y(p.H)))
+			pts = append(pts, pt{math.Max(left, math.Min(right, x(p.X))), y(p.H)})
 		}
 		flush()
-		for _, p := range c.Points {
+		for _, p := range col.Points {
 			if p.X > 0 && p.H >= aLo && p.H <= aHi {
-				secMarker(&b, "dot", math.Max(left, math.Min(right, x(p.X))), y(p.H), ColorRatio)
+				secMarker(c, "dot", math.Max(left, math.Min(right, x(p.X))), y(p.H), ColorRatio)
 			}
 		}
 	}
 	ly := bottom + 50
 	for k, it := range f.Legend {
-		col, row := k%perRow, k/perRow
+		col, row := k%l.perRow, k/l.perRow
 		lx := secFigLeft + float64(col)*legendItemW
 		yy := ly + float64(row)*secLegendRowH
-		legendSymbol(&b, it, lx+8, yy-4)
-		b.f(`<text x="%s" y="%s" fill="#1d2327">%s</text>`, ff(lx+22), ff(yy), esc(it.Label))
+		legendSymbol(c, it, lx+8, yy-4)
+		c.text(lx+22, yy, it.Label, textStyle{Size: 11})
 	}
-	ny := ly + float64(legendRows)*secLegendRowH + 4
+	ny := ly + float64(l.legRows)*secLegendRowH + 4
 	for _, n := range f.Notes {
-		b.f(`<text x="%s" y="%s" fill="#5b6770" font-size="10.5">%s</text>`, ff(secFigLeft), ff(ny), esc(n))
+		c.text(secFigLeft, ny, n, textStyle{Size: 10.5, Colour: mutedColour})
 		ny += 15
 	}
-	b.f(`</svg>`)
-	return b.String()
-}
-
-func joinPts(p []string) string {
-	n := 0
-	for _, s := range p {
-		n += len(s) + 1
-	}
-	out := make([]byte, 0, n)
-	for i, s := range p {
-		if i > 0 {
-			out = append(out, ' ')
-		}
-		out = append(out, s...)
-	}
-	return string(out)
 }

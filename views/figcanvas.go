@@ -48,6 +48,9 @@ type canvas interface {
 	poly(pts []pt, closed bool, p paint)
 	circle(cx, cy, r float64, p paint)
 	text(x, y float64, s string, ts textStyle)
+	// textUp writes s turned a quarter anticlockwise (reading upwards) with its baseline through (x, y);
+	// the anchor applies along the text.
+	textUp(x, y float64, s string, ts textStyle)
 	// fade fills a rectangle with colour whose opacity runs linearly from a0 at the left to a1 at the right.
 	fade(x, y, w, h float64, colour string, a0, a1 float64)
 	// begin opens a group with a hover title and, when href is not empty, a link; end closes it.
@@ -61,7 +64,7 @@ var fonts = sync.OnceValue(func() *font.Cache { return font.NewCache(liberation.
 func face(size float64, bold, italic bool) font.Face {
 	f := font.Font{Typeface: "Liberation", Variant: "Sans"}
 	if bold {
-		f.Weight = 700
+		f.Weight = 3 // font.WeightBold of golang.org/x/image/font (not a CSS weight such as 700)
 	}
 	if italic {
 		f.Style = 1 // font.StyleItalic
@@ -196,6 +199,12 @@ func (c *svgCanvas) text(x, y float64, s string, ts textStyle) {
 	fmt.Fprintf(&c.b, `<text x="%s" y="%s" font-size="%s" fill="%s"%s>%s</text>`+"\n", f2(x), f2(y), f2(ts.Size), col, extra.String(), esc(s))
 }
 
+func (c *svgCanvas) textUp(x, y float64, s string, ts textStyle) {
+	var inner svgCanvas
+	inner.text(0, 0, s, ts)
+	fmt.Fprintf(&c.b, `<g transform="translate(%s %s) rotate(-90)">%s</g>`+"\n", f2(x), f2(y), strings.TrimSuffix(inner.b.String(), "\n"))
+}
+
 func (c *svgCanvas) fade(x, y, w, h float64, colour string, a0, a1 float64) {
 	key := colour + "|" + f2(a0) + "|" + f2(a1)
 	id, ok := c.grads[key]
@@ -314,6 +323,11 @@ func (c *vgCanvas) text(x, y float64, s string, ts textStyle) {
 		s = plainDigits.Replace(s)
 	}
 	f := face(ts.Size, ts.Bold, ts.Italic && !c.ascii) // the PDF back-end has no italic face
+	if c.ascii && ts.Bold {
+		// vgpdf registers a font under its name with no style but selects it with style "B" when the
+		// weight is bold, and then cannot find it: hand it the bold face under a name of its own.
+		f.Font.Weight, f.Font.Typeface = 0, f.Font.Typeface+"Bold"
+	}
 	w := float64(f.Width(s))
 	switch ts.Anchor {
 	case "middle":
@@ -329,6 +343,15 @@ func (c *vgCanvas) text(x, y float64, s string, ts textStyle) {
 	c.c.FillString(f, c.p(x, y), s)
 }
 
+func (c *vgCanvas) textUp(x, y float64, s string, ts textStyle) {
+	c.c.Push()
+	c.c.Translate(c.p(x, y))
+	c.c.Rotate(math.Pi / 2)
+	inner := &vgCanvas{c: c.c, h: 0, ascii: c.ascii}
+	inner.text(0, 0, s, ts)
+	c.c.Pop()
+}
+
 func (c *vgCanvas) fade(x, y, w, h float64, colour string, a0, a1 float64) {
 	const strips = 24
 	for i := range strips {
@@ -342,13 +365,14 @@ func (c *vgCanvas) end()                 {}
 
 // asciiFor maps the non-ASCII characters the figures use to ASCII for the PDF back-end.
 var asciiFor = strings.NewReplacer(
+	"σ̂", "sigma-hat",
 	"σ", "sigma", "±", "+/-", "–", "-", "—", "-", "−", "-", "×", "x", "≥", ">=", "≤", "<=", "≈", "~",
 	"⁴⁰Ar/³⁹Ar", "40Ar/39Ar", "⁴⁰", "40", "³⁹", "39", "²⁰⁶Pb/²³⁸U", "206Pb/238U", "²³⁸", "238", "²⁰⁶", "206",
 	"δ¹³C", "d13C", "¹³", "13", "→", "->", "←", "<-", "’", "'", "‘", "'", "“", "\"", "”", "\"", "…", "...",
 	"µ", "u", "⁻¹", "-1", "⁻", "-", "·", "*", "é", "e", "è", "e", "ö", "o", "ü", "u", "å", "a", "ø", "o", "æ", "ae",
 	"\u00a0", " ", "\u2009", " ", "\u202f", " ", "°", " deg",
 	"λ", "lambda", "ζ", "zeta", "τ", "tau", "δ", "delta", "μ", "u", "Φ", "Phi", "φ", "phi", "√", "sqrt", "⊕", "(+)",
-	"⚠", "!", "›", ">", "▲", "^", "▼", "v",
+	"⚠", "!", "›", ">", "▲", "^", "▼", "v", "‰", "permil", "÷", "/",
 )
 
 // plainDigits writes superscript digits as plain ones for the raster back-end: Liberation Sans has no

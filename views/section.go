@@ -5,6 +5,7 @@ package views
 type SectionView struct {
 	Page
 	Intro         string
+	Alert         *Link // a posted form shown again with problems: what to fix, and a link to the form
 	Groups        []FieldGroup
 	Controls      Form
 	Cautions      []string
@@ -21,6 +22,21 @@ type Block struct {
 	Paras  []string
 	Links  []Link
 	Tables []Table
+	Forms  []PostForm // forms that change records, shown under the tables
+}
+
+// PostForm is a small form that POSTs to Action: hidden fields, inputs with their errors, one button.
+// Errors lists the problems not tied to one input.
+type PostForm struct {
+	ID     string
+	Title  string
+	Action string
+	Hidden []KV
+	Inputs []Input
+	Submit string
+	Errors []string
+	Danger bool
+	Wide   bool // lay the inputs out in a grid (a longer form), not on one line
 }
 
 // AlignedView is the page that lines all sections up on one age axis.

@@ -1,7 +1,6 @@
 package views
 
 import (
-	"fmt"
 	"math"
 	"strconv"
 	"strings"
@@ -114,7 +113,6 @@ const (
 )
 
 const (
-	figFont       = "Liberation Sans, Arial, Helvetica, sans-serif"
 	panelW        = 170.0
 	panelGap      = 26.0
 	secFigLeft    = 62.0
@@ -124,11 +122,6 @@ const (
 	secLegendRowH = 18.0
 	legendItemW   = 250.0
 )
-
-// svgBuf collects SVG text.
-type svgBuf struct{ strings.Builder }
-
-func (b *svgBuf) f(format string, args ...any) { fmt.Fprintf(b, format, args...) }
 
 func ff(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
 
@@ -177,77 +170,110 @@ func (p Panel) xValues() []float64 {
 	return v
 }
 
-// SectionSVG draws the figure as a standalone SVG document fragment (an <svg> element with its
-// namespace), the same for the page and the download.
-func SectionSVG(f SectionFigure) string {
-	var b svgBuf
+// sectionLayout is where the parts of a section figure go, in points from the top left.
+type sectionLayout struct {
+	width, height   float64
+	top, bottom     float64
+	perRow, legRows int
+	hLo, hHi        float64
+}
+
+func (f SectionFigure) layout() sectionLayout {
 	np := len(f.Panels)
-	width := secFigLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap + secFigRight
-	top := 58.0
+	l := sectionLayout{width: secFigLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap + secFigRight, top: 58}
 	if f.Subtitle != "" {
-		top += 14
+		l.top += 14
 	}
-	perRow := max(1, int((width-secFigLeft)/legendItemW))
-	legendRows := (len(f.Legend) + perRow - 1) / perRow
-	bottom := top + plotH
-	height := bottom + 44 + float64(legendRows)*secLegendRowH + float64(len(f.Notes))*15 + 10
-	b.f(`<svg xmlns="http://www.w3.org/2000/svg" width="%s" height="%s" viewBox="0 0 %s %s" font-family="%s" font-size="11" role="img" aria-label="%s">`,
-		ff(width), ff(height), ff(width), ff(height), figFont, esc(f.Title))
-	b.f(`<title>%s</title>`, esc(f.Title))
-	b.f(`<rect x="0" y="0" width="%s" height="%s" fill="#ffffff"/>`, ff(width), ff(height))
-	b.f(`<text x="%s" y="18" font-size="14" font-weight="bold" fill="#1d2327">%s</text>`, ff(secFigLeft-50), esc(f.Title))
+	l.perRow = max(1, int((l.width-secFigLeft)/legendItemW))
+	l.legRows = (len(f.Legend) + l.perRow - 1) / l.perRow
+	l.bottom = l.top + plotH
+	l.height = l.bottom + 44 + float64(l.legRows)*secLegendRowH + float64(len(f.Notes))*15 + 10
+	l.hLo, l.hHi = f.HeightMinM, f.HeightMaxM
+	if !(l.hHi > l.hLo) {
+		l.hLo, l.hHi = l.hLo-1, l.hLo+1
+	}
+	return l
+}
+
+// SectionSVG draws the figure as a standalone SVG element (with its namespace), the same for the page
+// and the download.
+func SectionSVG(f SectionFigure) string { return strings.TrimSuffix(string(f.SVG()), "\n") }
+
+// SVG draws the figure as SVG, with hover titles on tie points and reference lines.
+func (f SectionFigure) SVG() []byte {
+	l := f.layout()
+	c := newSVG(l.width, l.height, f.Title)
+	f.draw(c, l)
+	return c.bytes()
+}
+
+// PNG draws the figure as a PNG image at 144 dpi (twice the point size).
+func (f SectionFigure) PNG() ([]byte, error) {
+	l := f.layout()
+	return renderPNG(l.width, l.height, func(c canvas) { f.draw(c, l) })
+}
+
+// PDF draws the figure as PDF; its text is written in ASCII (δ¹³C as "d13C", ‰ as "permil").
+func (f SectionFigure) PDF() ([]byte, error) {
+	l := f.layout()
+	return renderPDF(l.width, l.height, func(c canvas) { f.draw(c, l) })
+}
+
+// gridColour draws the light height gridlines of the section panels.
+const gridColour = "#eef1f3"
+
+// draw draws the figure on c: title, height axis, the panels side by side, anomaly numbers, legend, notes.
+func (f SectionFigure) draw(c canvas, l sectionLayout) {
+	c.rect(0, 0, l.width, l.height, paint{Fill: "#ffffff"})
+	c.text(secFigLeft-50, 18, f.Title, textStyle{Size: 14, Bold: true})
 	if f.Subtitle != "" {
-		b.f(`<text x="%s" y="33" fill="#5b6770">%s</text>`, ff(secFigLeft-50), esc(f.Subtitle))
+		c.text(secFigLeft-50, 33, f.Subtitle, textStyle{Size: 11, Colour: mutedColour})
 	}
-	hLo, hHi := f.HeightMinM, f.HeightMaxM
-	if !(hHi > hLo) {
-		hLo, hHi = hLo-1, hLo+1
-	}
-	y := func(h float64) float64 { return bottom - (h-hLo)/(hHi-hLo)*plotH }
-	ticks, _, dec := ticks(hLo, hHi, 10)
+	y := func(h float64) float64 { return l.bottom - (h-l.hLo)/(l.hHi-l.hLo)*plotH }
+	hTicks, _, dec := ticks(l.hLo, l.hHi, 10)
 
 	// Height axis, left of the first panel.
-	b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft), ff(top), ff(secFigLeft), ff(bottom))
-	for _, t := range ticks {
-		if t < hLo || t > hHi {
+	c.poly([]pt{{secFigLeft, l.top}, {secFigLeft, l.bottom}}, false, paint{Stroke: inkColour})
+	for _, t := range hTicks {
+		if t < l.hLo || t > l.hHi {
 			continue
 		}
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(secFigLeft-4), ff(y(t)), ff(secFigLeft), ff(y(t)))
-		b.f(`<text x="%s" y="%s" text-anchor="end" fill="#1d2327">%s</text>`, ff(secFigLeft-6), ff(y(t)+3.5), tickLabel(t, dec))
+		c.poly([]pt{{secFigLeft - 4, y(t)}, {secFigLeft, y(t)}}, false, paint{Stroke: inkColour})
+		c.text(secFigLeft-6, y(t)+3.5, tickLabel(t, dec), textStyle{Size: 11, Anchor: "end"})
 	}
-	b.f(`<text transform="translate(%s %s) rotate(-90)" text-anchor="middle" fill="#1d2327">Height (m)</text>`, ff(secFigLeft-44), ff((top+bottom)/2))
+	c.textUp(secFigLeft-44, (l.top+l.bottom)/2, "Height (m)", textStyle{Size: 11, Anchor: "middle"})
 
 	for i, p := range f.Panels {
 		x0 := secFigLeft + float64(i)*(panelW+panelGap)
-		drawPanel(&b, p, x0, top, bottom, hLo, hHi, y, ticks, f)
+		f.drawPanel(c, l, p, x0, y, hTicks)
 	}
 
 	// Anomaly numbers beside the last panel, as in the anomaly table.
+	np := len(f.Panels)
 	lastRight := secFigLeft + float64(np)*panelW + float64(max(np-1, 0))*panelGap
 	for _, bd := range f.Bands {
-		mid := y((math.Max(bd.BaseM, hLo) + math.Min(bd.TopM, hHi)) / 2)
-		b.f(`<text x="%s" y="%s" font-weight="bold" fill="#1d2327">%s</text>`, ff(lastRight+4), ff(mid+4), esc(bd.Label))
+		mid := y((math.Max(bd.BaseM, l.hLo) + math.Min(bd.TopM, l.hHi)) / 2)
+		c.text(lastRight+4, mid+4, bd.Label, textStyle{Size: 11, Bold: true})
 	}
 
 	// Legend and notes.
-	ly := bottom + 48
+	ly := l.bottom + 48
 	for k, it := range f.Legend {
-		col, row := k%perRow, k/perRow
+		col, row := k%l.perRow, k/l.perRow
 		lx := secFigLeft + float64(col)*legendItemW
 		yy := ly + float64(row)*secLegendRowH
-		legendSymbol(&b, it, lx+8, yy-4)
-		b.f(`<text x="%s" y="%s" fill="#1d2327">%s</text>`, ff(lx+22), ff(yy), esc(it.Label))
+		legendSymbol(c, it, lx+8, yy-4)
+		c.text(lx+22, yy, it.Label, textStyle{Size: 11})
 	}
-	ny := ly + float64(legendRows)*secLegendRowH + 4
+	ny := ly + float64(l.legRows)*secLegendRowH + 4
 	for _, n := range f.Notes {
-		b.f(`<text x="%s" y="%s" fill="#5b6770" font-size="10.5">%s</text>`, ff(secFigLeft), ff(ny), esc(n))
+		c.text(secFigLeft, ny, n, textStyle{Size: 10.5, Colour: mutedColour})
 		ny += 15
 	}
-	b.f(`</svg>`)
-	return b.String()
 }
 
-func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(float64) float64, hTicks []float64, f SectionFigure) {
+func (f SectionFigure) drawPanel(c canvas, l sectionLayout, p Panel, x0 float64, y func(float64) float64, hTicks []float64) {
+	top, bottom, hLo, hHi := l.top, l.bottom, l.hLo, l.hHi
 	left := x0
 	if len(p.Gutter) > 0 {
 		left += gutterW
@@ -258,39 +284,40 @@ func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(flo
 	clipX := func(v float64) float64 { return math.Max(left, math.Min(right, x(v))) }
 
 	// Title and unit above the panel.
-	b.f(`<text x="%s" y="%s" text-anchor="middle" font-size="12" font-weight="bold" fill="#1d2327">%s</text>`, ff(x0+panelW/2), ff(top-20), esc(p.Title))
+	c.text(x0+panelW/2, top-20, p.Title, textStyle{Size: 12, Bold: true, Anchor: "middle"})
 	if p.Unit != "" {
-		b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#5b6770">%s</text>`, ff(x0+panelW/2), ff(top-7), esc(p.Unit))
+		c.text(x0+panelW/2, top-7, p.Unit, textStyle{Size: 11, Anchor: "middle", Colour: mutedColour})
 	}
-	// Frame, height gridlines, anomaly bands.
+	// Height gridlines, anomaly bands, the not-evaluable strip, the frame.
 	for _, t := range hTicks {
 		if t >= hLo && t <= hHi {
-			b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#eef1f3"/>`, ff(x0), ff(y(t)), ff(right), ff(y(t)))
+			c.poly([]pt{{x0, y(t)}, {right, y(t)}}, false, paint{Stroke: gridColour})
 		}
 	}
 	for _, bd := range f.Bands {
-		c := ColorBand
+		col := ColorBand
 		if bd.Caution {
-			c = ColorCaution
+			col = ColorCaution
 		}
 		y1, y2 := y(math.Min(bd.TopM, hHi)), y(math.Max(bd.BaseM, hLo))
-		b.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="%s" fill-opacity="0.75"/>`, ff(x0), ff(y1), ff(panelW), ff(math.Max(y2-y1, 1.5)), c)
+		c.rect(x0, y1, panelW, math.Max(y2-y1, 1.5), paint{Fill: col, FillAlpha: 0.75})
 	}
 	if len(p.Gutter) > 0 {
-		b.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="#f7eeee"/>`, ff(x0), ff(top), ff(gutterW), ff(bottom-top))
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#d5dbe0"/>`, ff(left), ff(top), ff(left), ff(bottom))
+		c.rect(x0, top, gutterW, bottom-top, paint{Fill: "#f7eeee"})
+		c.poly([]pt{{left, top}, {left, bottom}}, false, paint{Stroke: "#d5dbe0"})
 	}
-	b.f(`<rect x="%s" y="%s" width="%s" height="%s" fill="none" stroke="#1d2327"/>`, ff(x0), ff(top), ff(panelW), ff(bottom-top))
+	c.rect(x0, top, panelW, bottom-top, paint{Stroke: inkColour})
 	for _, h := range f.Hiatuses {
 		if h.H >= hLo && h.H <= hHi {
-			b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327" stroke-width="1.5" stroke-dasharray="2 3"/>`, ff(x0), ff(y(h.H)), ff(right), ff(y(h.H)))
+			c.poly([]pt{{x0, y(h.H)}, {right, y(h.H)}}, false, paint{Stroke: inkColour, Width: 1.5, Dash: []float64{2, 3}})
 		}
 	}
 	// Tie points: a small triangle on the panel's left edge.
 	for _, t := range f.Ties {
 		if t.H >= hLo && t.H <= hHi {
-			yy := y(t.H)
-			b.f(`<path d="M%s %sl7 -4v8z" fill="%s"><title>%s</title></path>`, ff(x0), ff(yy), ColorTie, esc(t.Label))
+			c.begin(t.Label, "")
+			tieMark(c, x0, y(t.H))
+			c.end()
 		}
 	}
 	if !ok && p.Envelope == nil {
@@ -298,20 +325,19 @@ func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(flo
 		if msg == "" {
 			msg = "no data"
 		}
-		b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#5b6770" font-style="italic">%s</text>`, ff(x0+panelW/2), ff((top+bottom)/2), esc(msg))
+		c.text(x0+panelW/2, (top+bottom)/2, msg, textStyle{Size: 11, Italic: true, Anchor: "middle", Colour: mutedColour})
 		return
 	}
-	// x axis ticks below the panel.
-	// As many ticks as fit without their labels touching (about 6.2 px per character at 11 px).
+	// As many x ticks as fit without their labels touching.
 	var xt []float64
 	var xdec int
 	for n := 5; n >= 2; n-- {
 		xt, _, xdec = ticks(xLo, xHi, n)
-		w := 0
+		w := 0.0
 		for _, t := range xt {
-			w = max(w, len(tickLabel(t, xdec)))
+			w = math.Max(w, textWidth(tickLabel(t, xdec), 11, false))
 		}
-		if float64(len(xt))*(float64(w)*6.2+10) <= right-left {
+		if float64(len(xt))*(w+10) <= right-left {
 			break
 		}
 	}
@@ -319,61 +345,62 @@ func drawPanel(b *svgBuf, p Panel, x0, top, bottom, hLo, hHi float64, y func(flo
 		if t < xLo || t > xHi {
 			continue
 		}
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327"/>`, ff(x(t)), ff(bottom), ff(x(t)), ff(bottom+4))
-		b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#1d2327">%s</text>`, ff(x(t)), ff(bottom+15), tickLabel(t, xdec))
+		c.poly([]pt{{x(t), bottom}, {x(t), bottom + 4}}, false, paint{Stroke: inkColour})
+		c.text(x(t), bottom+15, tickLabel(t, xdec), textStyle{Size: 11, Anchor: "middle"})
 	}
-	b.f(`<text x="%s" y="%s" text-anchor="middle" fill="#5b6770" font-size="10.5">%s</text>`, ff(x0+panelW/2), ff(bottom+29), esc(axisLabel(p)))
-	if p.Envelope != nil {
-		e := p.Envelope
-		var pts []string
+	c.text(x0+panelW/2, bottom+29, axisLabel(p), textStyle{Size: 10.5, Anchor: "middle", Colour: mutedColour})
+	if e := p.Envelope; e != nil {
+		var pts []pt
 		for j := range e.H {
-			pts = append(pts, ff(clipX(e.Lo[j]))+","+ff(y(e.H[j])))
+			pts = append(pts, pt{clipX(e.Lo[j]), y(e.H[j])})
 		}
 		for j := len(e.H) - 1; j >= 0; j-- {
-			pts = append(pts, ff(clipX(e.Hi[j]))+","+ff(y(e.H[j])))
+			pts = append(pts, pt{clipX(e.Hi[j]), y(e.H[j])})
 		}
 		if len(pts) > 2 {
-			b.f(`<polygon points="%s" fill="%s" fill-opacity="0.55" stroke="none"/>`, strings.Join(pts, " "), e.Color)
+			c.poly(pts, true, paint{Fill: e.Color, FillAlpha: 0.55})
 		}
 	}
-	for _, l := range p.VLines {
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-dasharray="5 3"><title>%s</title></line>`, ff(x(l.X)), ff(top), ff(x(l.X)), ff(bottom), l.Color, esc(l.Label))
+	for _, vl := range p.VLines {
+		c.begin(vl.Label, "")
+		c.poly([]pt{{x(vl.X), top}, {x(vl.X), bottom}}, false, paint{Stroke: vl.Color, Dash: []float64{5, 3}})
+		c.end()
 	}
 	for _, h := range p.Gutter {
 		if h >= hLo && h <= hHi {
-			cross(b, x0+gutterW/2, y(h), 3, p.GutterColor)
+			crossMark(c, x0+gutterW/2, y(h), 3, p.GutterColor)
 		}
 	}
 	for _, s := range p.Series {
 		if s.Line {
-			var pts []string
+			var pts []pt
+			var dash []float64
+			if s.Dash {
+				dash = []float64{4, 3}
+			}
 			flush := func() {
 				if len(pts) > 1 {
-					dash := ""
-					if s.Dash {
-						dash = ` stroke-dasharray="4 3"`
-					}
-					b.f(`<polyline points="%s" fill="none" stroke="%s" stroke-width="1.2"%s/>`, strings.Join(pts, " "), s.Color, dash)
+					c.poly(pts, false, paint{Stroke: s.Color, Width: 1.2, Dash: dash})
 				}
 				pts = pts[:0]
 			}
-			for _, pt := range s.Points {
-				if math.IsNaN(pt.X) {
+			for _, q := range s.Points {
+				if math.IsNaN(q.X) {
 					flush()
 					continue
 				}
-				pts = append(pts, ff(clipX(pt.X))+","+ff(y(pt.H)))
+				pts = append(pts, pt{clipX(q.X), y(q.H)})
 			}
 			flush()
 		}
-		for _, pt := range s.Points {
-			if math.IsNaN(pt.X) || pt.H < hLo || pt.H > hHi {
+		for _, q := range s.Points {
+			if math.IsNaN(q.X) || q.H < hLo || q.H > hHi {
 				continue
 			}
-			if !math.IsNaN(pt.XLo) && !math.IsNaN(pt.XHi) {
-				b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-width="1.6"/>`, ff(clipX(pt.XLo)), ff(y(pt.H)), ff(clipX(pt.XHi)), ff(y(pt.H)), s.Color)
+			if !math.IsNaN(q.XLo) && !math.IsNaN(q.XHi) {
+				c.poly([]pt{{clipX(q.XLo), y(q.H)}, {clipX(q.XHi), y(q.H)}}, false, paint{Stroke: s.Color, Width: 1.6})
 			}
-			secMarker(b, s.Marker, clipX(pt.X), y(pt.H), s.Color)
+			secMarker(c, s.Marker, clipX(q.X), y(q.H), s.Color)
 		}
 	}
 }
@@ -385,50 +412,57 @@ func axisLabel(p Panel) string {
 	return p.Title + " (" + p.Unit + ")"
 }
 
-func cross(b *svgBuf, cx, cy, r float64, color string) {
-	b.f(`<path d="M%s %sl%s %sM%s %sl%s %s" stroke="%s" stroke-width="1.4"/>`, ff(cx-r), ff(cy-r), ff(2*r), ff(2*r), ff(cx-r), ff(cy+r), ff(2*r), ff(-2*r), color)
+// tieMark is the triangle of a tie point, pointing right from (x, y).
+func tieMark(c canvas, x, y float64) {
+	c.poly([]pt{{x, y}, {x + 7, y - 4}, {x + 7, y + 4}}, true, paint{Fill: ColorTie})
 }
 
-func secMarker(b *svgBuf, kind string, cx, cy float64, color string) {
+func crossMark(c canvas, cx, cy, r float64, colour string) {
+	p := paint{Stroke: colour, Width: 1.4}
+	c.poly([]pt{{cx - r, cy - r}, {cx + r, cy + r}}, false, p)
+	c.poly([]pt{{cx - r, cy + r}, {cx + r, cy - r}}, false, p)
+}
+
+func secMarker(c canvas, kind string, cx, cy float64, colour string) {
 	switch kind {
 	case "dot":
-		b.f(`<circle cx="%s" cy="%s" r="2.2" fill="%s"/>`, ff(cx), ff(cy), color)
+		c.circle(cx, cy, 2.2, paint{Fill: colour})
 	case "open":
-		b.f(`<circle cx="%s" cy="%s" r="2.4" fill="#ffffff" stroke="%s" stroke-width="1.1"/>`, ff(cx), ff(cy), color)
+		c.circle(cx, cy, 2.4, paint{Fill: "#ffffff", Stroke: colour, Width: 1.1})
 	case "ring":
-		b.f(`<circle cx="%s" cy="%s" r="4.6" fill="none" stroke="%s" stroke-width="1.4"/>`, ff(cx), ff(cy), color)
+		c.circle(cx, cy, 4.6, paint{Stroke: colour, Width: 1.4})
 	case "tri-open":
-		b.f(`<path d="M%s %sl3.5 6h-7z" fill="#ffffff" stroke="%s" stroke-width="1.1"/>`, ff(cx), ff(cy-3.5), color)
+		c.poly([]pt{{cx, cy - 3.5}, {cx + 3.5, cy + 2.5}, {cx - 3.5, cy + 2.5}}, true, paint{Fill: "#ffffff", Stroke: colour, Width: 1.1})
 	case "cross":
-		cross(b, cx, cy, 3, color)
+		crossMark(c, cx, cy, 3, colour)
 	case "diamond":
-		b.f(`<path d="M%s %sl4.5 4.5l-4.5 4.5l-4.5 -4.5z" fill="%s"/>`, ff(cx), ff(cy-4.5), color)
+		c.poly([]pt{{cx, cy - 4.5}, {cx + 4.5, cy}, {cx, cy + 4.5}, {cx - 4.5, cy}}, true, paint{Fill: colour})
 	}
 }
 
-func legendSymbol(b *svgBuf, it LegendItem, cx, cy float64) {
+func legendSymbol(c canvas, it LegendItem, cx, cy float64) {
 	switch it.Marker {
 	case "band", "caution-band":
-		c := ColorBand
+		col := ColorBand
 		if it.Marker == "caution-band" {
-			c = ColorCaution
+			col = ColorCaution
 		}
 		if it.Color != "" {
-			c = it.Color
+			col = it.Color
 		}
-		b.f(`<rect x="%s" y="%s" width="14" height="9" fill="%s"/>`, ff(cx-7), ff(cy-4.5), c)
+		c.rect(cx-7, cy-4.5, 14, 9, paint{Fill: col})
 	case "line":
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-width="1.4"/>`, ff(cx-7), ff(cy), ff(cx+7), ff(cy), it.Color)
+		c.poly([]pt{{cx - 7, cy}, {cx + 7, cy}}, false, paint{Stroke: it.Color, Width: 1.4})
 	case "dash":
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-dasharray="4 2"/>`, ff(cx-7), ff(cy), ff(cx+7), ff(cy), it.Color)
+		c.poly([]pt{{cx - 7, cy}, {cx + 7, cy}}, false, paint{Stroke: it.Color, Dash: []float64{4, 2}})
 	case "tie":
-		b.f(`<path d="M%s %sl7 -4v8z" fill="%s"/>`, ff(cx-4), ff(cy), ColorTie)
+		tieMark(c, cx-4, cy)
 	case "hiatus":
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="#1d2327" stroke-width="1.5" stroke-dasharray="2 3"/>`, ff(cx-7), ff(cy), ff(cx+7), ff(cy))
+		c.poly([]pt{{cx - 7, cy}, {cx + 7, cy}}, false, paint{Stroke: inkColour, Width: 1.5, Dash: []float64{2, 3}})
 	case "errbar":
-		b.f(`<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s" stroke-width="1.6"/>`, ff(cx-7), ff(cy), ff(cx+7), ff(cy), it.Color)
-		secMarker(b, "diamond", cx, cy, it.Color)
+		c.poly([]pt{{cx - 7, cy}, {cx + 7, cy}}, false, paint{Stroke: it.Color, Width: 1.6})
+		secMarker(c, "diamond", cx, cy, it.Color)
 	default:
-		secMarker(b, it.Marker, cx, cy, it.Color)
+		secMarker(c, it.Marker, cx, cy, it.Color)
 	}
 }

@@ -17,6 +17,7 @@ func (r *recorder) rect(x, y, w, h float64, p paint)                  {}
 func (r *recorder) poly(pts []pt, closed bool, p paint)               {}
 func (r *recorder) circle(cx, cy, rad float64, p paint)               {}
 func (r *recorder) text(x, y float64, s string, ts textStyle)         { r.texts = append(r.texts, s) }
+func (r *recorder) textUp(x, y float64, s string, ts textStyle)       { r.texts = append(r.texts, s) }
 func (r *recorder) fade(x, y, w, h float64, c string, a0, a1 float64) {}
 func (r *recorder) begin(title, href string)                          { r.texts = append(r.texts, title) }
 func (r *recorder) end()                                              {}

@@ -421,4 +421,38 @@ func TestBrowserSectionPages(t *testing.T) {
 
 	open("/sections/aligned", "#aligned-figure svg")
 	shoot(t, ctx, dir, "14-sections-aligned")
+
+	// A curator rejects the masked section's anomaly with a reason and adds an event from the page.
+	signInBrowser(t, ctx, srv.URL, "demo-curator")
+	mornesk := idURL("/sections", ids["Mornesk Cliffs"])
+	open(mornesk, "#anomaly-1-reject")
+	shootElem("#anomalies", "15a-anomaly-forms")
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`#anomaly-1-reject input[name="reason"]`), "raw Hg follows TOC in a coal-rich bed"),
+		chromedp.Click(chromedp.CSS(`#anomaly-1-reject button`)), chromedp.WaitVisible(chromedp.CSS(`#anomaly-decisions`))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "rejected by demo-curator: raw Hg follows TOC") {
+		t.Errorf("after rejecting, the anomaly table reads %q", got)
+	}
+	shootElem("#anomalies", "15b-anomaly-rejected")
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`#event-form input[name="name"]`), "CIE onset"),
+		chromedp.SetValue(chromedp.CSS(`#event-form select[name="kind"]`), "cie_onset"),
+		chromedp.SetValue(chromedp.CSS(`#event-form input[name="base_height_m"]`), "twenty"),
+		chromedp.Click(chromedp.CSS(`#event-form button`)), chromedp.WaitVisible(chromedp.CSS(`#event-form .field-error`))); err != nil {
+		t.Fatal(err)
+	}
+	shootElem("#add-event", "15c-event-form-error")
+	// The name is taken (the demo has a CIE onset here) and the height is not a number: both fields say so.
+	if got := text(t, ctx, "#event-form"); !strings.Contains(got, "already has an event named") || !strings.Contains(got, "want a number") {
+		t.Errorf("the event form's errors read %q", got)
+	}
+	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`#event-form input[name="name"]`), "Last ammonite"),
+		chromedp.SetValue(chromedp.CSS(`#event-form select[name="kind"]`), "extinction"),
+		chromedp.SetValue(chromedp.CSS(`#event-form input[name="base_height_m"]`), "20.5"),
+		chromedp.Click(chromedp.CSS(`#event-form button`)), chromedp.WaitVisible(chromedp.CSS(`#records`))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "#events tbody"); !strings.Contains(got, "Last ammonite") {
+		t.Errorf("the events table %q lacks the new event", got)
+	}
 }

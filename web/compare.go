@@ -255,13 +255,14 @@ type compareData struct {
 	Events    map[int64][]store.Event
 	Direct    []store.Event // events with a direct age and no section
 	Hiatuses  map[int64][]store.Hiatus
+	TieIns    map[int64][]tieInput // the ties as the age model uses them (dates at the full level)
 	LinkDates map[int64]store.Date // dates linked to tie points
 	Cals      []store.Calibration
 }
 
 func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compareData, error) {
 	d := &compareData{Samples: map[int64][]store.Sample{}, Ties: map[int64][]store.TiePoint{}, Events: map[int64][]store.Event{},
-		Hiatuses: map[int64][]store.Hiatus{}, LinkDates: map[int64]store.Date{}}
+		Hiatuses: map[int64][]store.Hiatus{}, TieIns: map[int64][]tieInput{}, LinkDates: map[int64]store.Date{}}
 	var err error
 	if d.Provinces, err = s.store.Provinces(ctx); err != nil {
 		return nil, err
@@ -313,6 +314,10 @@ func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compa
 			return nil, err
 		}
 		if d.Hiatuses[sec.ID], err = s.store.Hiatuses(ctx, sec.ID); err != nil {
+			return nil, err
+		}
+		// Absolute ages compared across systems and laboratories: ties from dates at the full level.
+		if d.TieIns[sec.ID], err = s.tieInputs(ctx, d.Ties[sec.ID], "full"); err != nil {
 			return nil, err
 		}
 		for _, t := range d.Ties[sec.ID] {
@@ -510,7 +515,7 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 		if sc.TocMin != nil {
 			o.TocMin = *sc.TocMin
 		}
-		a, err := analyseSection(sec, d.Samples[sec.ID], d.Ties[sec.ID], d.Events[sec.ID], d.Hiatuses[sec.ID], o)
+		a, err := analyseSection(sec, d.Samples[sec.ID], d.Ties[sec.ID], d.TieIns[sec.ID], d.Events[sec.ID], d.Hiatuses[sec.ID], o)
 		if err != nil {
 			return nil, nil, err
 		}

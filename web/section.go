@@ -14,15 +14,20 @@ import (
 func (s *Server) registerSectionRoutes(r chi.Router) {
 	r.Get("/sections", s.handle(s.handleSectionList))
 	r.Get("/sections/aligned", s.handle(s.handleSectionsAligned))
-	r.Get("/sections/aligned/figure.svg", s.handle(s.handleSectionsAlignedFigure))
+	r.Get("/sections/aligned/figure.svg", s.handle(s.alignedFigureAs("svg")))
+	r.Get("/sections/aligned/figure.png", s.handle(s.alignedFigureAs("png")))
+	r.Get("/sections/aligned/figure.pdf", s.handle(s.alignedFigureAs("pdf")))
 	r.Get("/sections/{id}", s.handle(s.handleSectionShow))
-	r.Get("/sections/{id}/figure.svg", s.handle(s.handleSectionFigure))
+	r.Get("/sections/{id}/figure.svg", s.handle(s.sectionFigureAs("svg")))
+	r.Get("/sections/{id}/figure.png", s.handle(s.sectionFigureAs("png")))
+	r.Get("/sections/{id}/figure.pdf", s.handle(s.sectionFigureAs("pdf")))
 	r.Get("/sections/{id}/ratios", s.handle(s.handleSectionRatios))
 	r.Get("/sections/{id}/anomalies", s.handle(s.handleSectionAnomalies))
 	r.Get("/sections/{id}/agemodel", s.handle(s.handleSectionAgeModel))
 	r.Get("/sections/{id}/measurements", s.handle(s.handleSectionMeasurements))
 	r.Get("/sections/{id}/ties", s.handle(s.handleSectionTies))
 	r.Get("/sections/{id}/events", s.handle(s.handleSectionEvents))
+	s.registerSectionChangeRoutes(r)
 }
 
 func heightRange(sec store.Section) string {

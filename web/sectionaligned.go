@@ -211,6 +211,7 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 	}
 	v.FigureSVG = views.AlignedSVG(alignedFigure(as, o))
 	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, "/sections/aligned/figure.svg", "format", "")},
+		{Label: "(PNG)", URL: withPath(r, "/sections/aligned/figure.png", "format", "")}, {Label: "(PDF, text in ASCII)", URL: withPath(r, "/sections/aligned/figure.pdf", "format", "")},
 		{Label: "Samples with ages (CSV)", URL: withQuery(r, "format", "csv")}}
 	t := views.Table{ID: "aligned", Caption: "Sections and their anomalies", Columns: []views.Column{{Label: "Section"}, {Label: "Host"},
 		{Label: "Thermal maturity"}, {Label: "Dated samples", Num: true}, {Label: "Anomalies", Unit: "Ma, median (95 %)"}}}
@@ -235,17 +236,6 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 	}
 	v.Blocks = []views.Block{{ID: "aligned-sections", Title: "Sections", Tables: []views.Table{t}}}
 	s.render(w, r, http.StatusOK, views.AlignedPage(v))
-	return nil
-}
-
-func (s *Server) handleSectionsAlignedFigure(w http.ResponseWriter, r *http.Request) error {
-	as, o, _, err := s.alignedRequest(r)
-	if err != nil {
-		return err
-	}
-	w.Header().Set("Content-Type", "image/svg+xml; charset=utf-8")
-	w.Header().Set("Content-Disposition", `attachment; filename="sections-aligned.svg"`)
-	io.WriteString(w, `<?xml version="1.0" encoding="UTF-8"?>`+"\n"+views.AlignedSVG(alignedFigure(as, o))+"\n")
 	return nil
 }
 

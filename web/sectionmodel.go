@@ -45,7 +45,8 @@ type sectionOptions struct {
 	Model    string  // mc, linear
 	Draws    int
 	Seed     uint64
-	Level    int // σ level of displayed tie ages
+	Level    int    // σ level of displayed tie ages
+	TieLevel string // analytical, tracer, full: the σ of ties that come from dates
 }
 
 // sectionOptionsFrom reads the options; the section's stored threshold is the default of toc_min.
@@ -63,6 +64,7 @@ func sectionOptionsFrom(p *params, sec store.Section) sectionOptions {
 		Draws:    p.int("draws", defaultSectionDraws, minSectionDraws, maxSectionDraws),
 		Seed:     paramSeed(p, "seed", defaultSectionSeed),
 		Level:    p.sigmaLevel(),
+		TieLevel: p.oneOf("tie_level", []string{"analytical", "tracer", "full"}, defaultTieLevel),
 	}
 	if o.TocMin == 0 && p.str("toc_min") == "" {
 		o.TocMin = stats.DefaultMinTocWtPct
@@ -224,14 +226,15 @@ func (m *ageModelResult) ageAt(z float64) (stats.DrawSummary, bool) {
 
 // sectionAnalysis is everything a section page, its figure and its downloads show.
 type sectionAnalysis struct {
-	Sec      store.Section
-	Opt      sectionOptions
-	Samples  []sampleRow
-	Has      map[string]bool // proxies measured
-	D13C     string          // d13c_org, else d13c_carb, else ""
-	Ties     []store.TiePoint
-	Events   []store.Event
-	Hiatuses []store.Hiatus
+	Sec       store.Section
+	Opt       sectionOptions
+	Samples   []sampleRow
+	Has       map[string]bool // proxies measured
+	D13C      string          // d13c_org, else d13c_carb, else ""
+	Ties      []store.TiePoint
+	TieInputs []tieInput // per tie: the age and σ the model uses
+	Events    []store.Event
+	Hiatuses  []store.Hiatus
 
 	Suggestion stats.HostSuggestion
 	Host       stats.Host
@@ -276,7 +279,11 @@ func (s *Server) loadSectionAnalysis(ctx context.Context, sec store.Section, o s
 	if err != nil {
 		return nil, err
 	}
-	a, err := analyseSection(sec, samples, ties, events, hiatuses, o)
+	inputs, err := s.tieInputs(ctx, ties, o.TieLevel)
+	if err != nil {
+		return nil, err
+	}
+	a, err := analyseSection(sec, samples, ties, inputs, events, hiatuses, o)
 	if err != nil {
 		return nil, err
 	}
@@ -308,9 +315,18 @@ func valueOf(s store.Sample, proxy string) float64 {
 
 // analyseSection runs the numerics of the section page. It returns a badRequest when the options do not
 // fit the section (a host it lacks, a background window without samples).
-func analyseSection(sec store.Section, samples []store.Sample, ties []store.TiePoint, events []store.Event,
+// tieInputs gives the age and σ of each tie (nil: as entered).
+func analyseSection(sec store.Section, samples []store.Sample, ties []store.TiePoint, tieInputs []tieInput, events []store.Event,
 	hiatuses []store.Hiatus, o sectionOptions) (*sectionAnalysis, error) {
-	a := &sectionAnalysis{Sec: sec, Opt: o, Ties: ties, Events: events, Hiatuses: hiatuses, Has: map[string]bool{}}
+	a := &sectionAnalysis{Sec: sec, Opt: o, Ties: ties, TieInputs: tieInputs, Events: events, Hiatuses: hiatuses, Has: map[string]bool{}}
+	if a.TieInputs == nil {
+		a.TieInputs = make([]tieInput, len(ties))
+		for i, t := range ties {
+			if t.AgeMa != nil && t.SigmaMa != nil {
+				a.TieInputs[i] = tieInput{AgeMa: *t.AgeMa, SigmaMa: *t.SigmaMa, Level: "as entered with the tie point"}
+			}
+		}
+	}
 	n := len(samples)
 	a.Samples = make([]sampleRow, n)
 	for i, s := range samples {
@@ -751,10 +767,10 @@ func (a *sectionAnalysis) fitModel() {
 		return
 	}
 	m := &ageModelResult{Kind: a.Opt.Model}
-	for _, t := range a.Ties {
+	for i, t := range a.Ties {
 		switch {
 		case t.Distribution == "normal" && t.AgeMa != nil && t.SigmaMa != nil:
-			m.Ties = append(m.Ties, stats.NormalTie(t.HeightM, *t.AgeMa, *t.SigmaMa))
+			m.Ties = append(m.Ties, stats.NormalTie(t.HeightM, a.TieInputs[i].AgeMa, a.TieInputs[i].SigmaMa))
 		case t.AgeMinMa != nil && t.AgeMaxMa != nil:
 			m.Ties = append(m.Ties, stats.UniformTie(t.HeightM, *t.AgeMinMa, *t.AgeMaxMa))
 		default:

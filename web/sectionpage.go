@@ -98,7 +98,19 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 			"age_model": a.modelJSON(), "uncertainties": jsonSigmaNote})
 		return nil
 	}
+	v, err := s.sectionView(r, a, sectionForms{})
+	if err != nil {
+		return err
+	}
+	s.render(w, r, http.StatusOK, views.SectionPage(v))
+	return nil
+}
+
+// sectionView builds the section page; fs carries the values and problems of a form that was posted
+// from it and is shown again.
+func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForms) (views.SectionView, error) {
 	ctx := r.Context()
+	sec := a.Sec
 	base := idURL("/sections", sec.ID)
 	v := views.SectionView{Page: s.page(ctx, sec.Name, "Sections"), Intro: sec.Notes}
 	v.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}}
@@ -116,12 +128,23 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 	v.FigureSVG = views.SectionSVG(sectionFigure(a))
 	v.FigureCaption = "Height up, as the section is logged. Shaded: detected anomalies (numbered as in the table). " +
 		"Crosses in the ratio panel's left strip: samples whose ratio is not evaluable (kept, not dropped). Triangles on each panel's left edge: tie points."
-	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")}}
-	v.Blocks = []views.Block{a.hostBlock(), a.anomalyBlock(r, base), a.segmentBlock(), a.modelBlock(r, base)}
+	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")},
+		{Label: "(PNG)", URL: withPath(r, base+"/figure.png", "format", "")}, {Label: "(PDF, text in ASCII)", URL: withPath(r, base+"/figure.pdf", "format", "")}}
+	decisions, err := s.store.AnomalyDecisions(ctx, sec.ID)
+	if err != nil {
+		return views.SectionView{}, err
+	}
+	ab := a.anomalyBlock(r, base)
+	a.decisionColumn(&ab, decisions)
+	ab.Forms = a.anomalyForms(r, base, decisions, fs)
+	if dt := decisionTable(decisions, a.detectionSettings()); len(dt.Rows) > 0 {
+		ab.Tables = append(ab.Tables, dt)
+	}
+	v.Blocks = []views.Block{a.hostBlock(), ab, a.segmentBlock(), a.modelBlock(r, base)}
 	tt := tieTable(a.Ties, a.Opt.Level, false)
 	tt.Caption = "Tie points"
 	et := eventTable(a.Events, false)
-	et.Caption = "Events (entered or imported)"
+	et.Caption = "Events (entered, imported, or made from detected anomalies)"
 	st := a.sampleTable()
 	v.Blocks = append(v.Blocks, views.Block{ID: "records", Title: "Tie points, events and samples", Tables: []views.Table{tt, et, st},
 		Links: []views.Link{
@@ -133,8 +156,10 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 			{Label: fmt.Sprintf("Show tie ages at %dσ", 3-a.Opt.Level), URL: withQuery(r, "sigma", strconv.Itoa(3-a.Opt.Level))},
 		}})
 	v.Blocks = append(v.Blocks, s.sectionRecordBlock(r, sec))
-	s.render(w, r, http.StatusOK, views.SectionPage(v))
-	return nil
+	if f, ok := s.eventForm(r, base, fs); ok {
+		v.Blocks = append(v.Blocks, f)
+	}
+	return v, nil
 }
 
 func cautionIf(b bool) string {
@@ -176,6 +201,8 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 		{Name: "penalty", Label: "Change-point penalty", Kind: "number", Value: penalty, Step: "any", Placeholder: fmtF(a.SegmentPenalty, 1) + " (2·ln n)"},
 		{Name: "model", Label: "Age model", Kind: "select", Options: []views.Option{
 			opt("mc", "Monte Carlo (Beta bridge)", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
+		{Name: "tie_level", Label: "± of ties from dates", Kind: "select", Options: []views.Option{
+			opt("full", "full external (default)", o.TieLevel), opt("tracer", "with tracer (Y)", o.TieLevel), opt("analytical", "analytical (X)", o.TieLevel)}},
 		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
 	}}
@@ -287,7 +314,7 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 			a.baselineSentence(), num(a.Opt.ZMin), a.Opt.MinRun, ratioName(a.Host)),
 		desc(ratioName(a.Host), a.RatioRes, a.RatioNote),
 		desc("Hg", a.RawRes, a.RawNote),
-		"Origin: detected. Turning an anomaly into an event, or rejecting it with a reason, needs curator accounts, which come in a later issue.",
+		"Origin: detected. A curator can make an anomaly an event of the section (kind Hg anomaly, its base and top, with a note of the settings that found it) or reject it with a reason; a decision holds for the anomaly as found with these settings (series, interval, host, threshold, baseline, z and run length).",
 	}
 	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
 	t := views.Table{ID: "anomaly-table", Caption: "Detected anomalies", Empty: "No anomaly: no run of samples stands above the threshold.", Columns: []views.Column{
@@ -304,9 +331,9 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 		if an.Age != nil {
 			age = ageRange(an.Age.Age)
 		}
-		reading := views.Cell{Text: an.Verdict}
+		reading := views.Cell{Text: an.Verdict, Class: "reading"}
 		if an.Caution {
-			reading.Class = "caution"
+			reading.Class = "caution reading"
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: itoa(an.Number), Num: true}, {Text: "detected"}, {Text: an.Series},
 			{Text: num(an.A.BaseHeightM), Num: true}, {Text: num(an.A.TopHeightM), Num: true},
@@ -377,7 +404,7 @@ func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
 		}
 		et.Rows = append(et.Rows, []views.Cell{{Text: e.Name}, {Text: e.Kind}, {Text: e.Origin}, {Text: hs, Num: true}, {Text: ageRange(e.Age), Num: true}, {Text: orDash(note)}})
 	}
-	b.Tables = []views.Table{rt, et}
+	b.Tables = []views.Table{a.tieModelTable(), rt, et}
 	return b
 }
 
@@ -392,6 +419,7 @@ func (a *sectionAnalysis) modelParas() []string {
 	if m.MC != nil {
 		return []string{
 			fmt.Sprintf("Model: Monte Carlo with superposition. Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
+			a.tieLevelSentence(),
 			fmt.Sprintf("Tie sampler: %s; acceptance %.1f %% of %d attempts (whole draws out of stratigraphic order are rejected, never sorted; below %g %% acceptance a Gibbs sampler of truncated tie ages takes over).",
 				m.MC.Sampler, 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
 			fmt.Sprintf("Between ties: Beta bridges of a Poisson deposition model, rigidity k (deposition events per m) drawn per draw from a log-uniform prior on %g–%g per m, so the intervals average over how regular deposition was instead of trusting one k.",
@@ -401,6 +429,7 @@ func (a *sectionAnalysis) modelParas() []string {
 	}
 	return []string{
 		fmt.Sprintf("Model: NAIVE linear interpolation between tie means, from %s; hiatuses ignored. Tie errors are propagated as if independent; interval = mean ± 1.96σ.", ties),
+		a.tieLevelSentence(),
 		"Caution: this model under-covers — in simulation its 95 % intervals hold the true age far less often than 95 %. It is offered only as a labelled comparison; use model=mc.",
 	}
 }
@@ -459,7 +488,7 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 func (a *sectionAnalysis) settingsJSON() map[string]any {
 	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMin,
 		"host_min_wt_pct": a.HostMin, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
-		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed}
+		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed, "tie_level": a.Opt.TieLevel}
 	switch a.Opt.Baseline {
 	case "window":
 		s["bg_base_m"], s["bg_top_m"] = a.Opt.BgBaseM, a.Opt.BgTopM
@@ -704,16 +733,4 @@ func (s *Server) handleSectionAgeModel(w http.ResponseWriter, r *http.Request) e
 			}
 			return strings.Join(a.modelParas(), " ")
 		})
-}
-
-func (s *Server) handleSectionFigure(w http.ResponseWriter, r *http.Request) error {
-	a, _, err := s.sectionAnalysisFor(r)
-	if err != nil {
-		return err
-	}
-	body := `<?xml version="1.0" encoding="UTF-8"?>` + "\n" + views.SectionSVG(sectionFigure(a)) + "\n"
-	w.Header().Set("Content-Type", "image/svg+xml; charset=utf-8")
-	w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", fmt.Sprintf("section-%d-figure.svg", a.Sec.ID)))
-	io.WriteString(w, body)
-	return nil
 }

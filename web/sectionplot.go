@@ -209,10 +209,11 @@ func extentOf(v []float64) (float64, float64, bool) {
 
 // modelShort names the model in a few words.
 func modelShort(a *sectionAnalysis) string {
+	ties := "ties from dates at " + a.Opt.TieLevel + " σ"
 	if a.Opt.Model == "linear" {
-		return "naive linear (under-covers)"
+		return "naive linear (under-covers); " + ties
 	}
-	return fmt.Sprintf("Monte Carlo, %d draws, seed %d", a.Opt.Draws, a.Opt.Seed)
+	return fmt.Sprintf("Monte Carlo, %d draws, seed %d; %s", a.Opt.Draws, a.Opt.Seed, ties)
 }
 
 // modelSentence states the model and its choices in one line.

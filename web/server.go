@@ -95,6 +95,10 @@ type Store interface {
 	SaveComparison(ctx context.Context, c store.Comparison) (int64, error)
 	Comparisons(ctx context.Context) ([]store.Comparison, error)
 	Comparison(ctx context.Context, id int64) (store.Comparison, error)
+	AddSectionEvent(ctx context.Context, sectionID int64, f store.EventForm, asCurator bool) (store.Event, error)
+	AnomalyDecisions(ctx context.Context, sectionID int64) ([]store.AnomalyDecision, error)
+	AnomalyToEvent(ctx context.Context, k store.AnomalyKey, name, notes string) (store.Event, store.AnomalyDecision, error)
+	RejectAnomaly(ctx context.Context, k store.AnomalyKey, reason string) (store.AnomalyDecision, error)
 }
 
 // Server holds what the handlers share.

@@ -1,0 +1,169 @@
+package web
+
+import (
+	"context"
+	"fmt"
+	"strings"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+// Tie points that come from a date of the compilation enter the age model with that date's age and its
+// uncertainty at a chosen level (tie_level): analytical (the date's X σ), tracer (Y: X ⊕ tracer) or full
+// (Z: Y ⊕ decay constant; for ⁴⁰Ar/³⁹Ar the date recalculated to the compilation's target calibration,
+// with the monitor-age and decay-constant σ). The default is full: the model's ages are absolute ages,
+// compared with dates of other systems, laboratories and tracers, and only the full external σ is fair
+// there. Ties without a date keep the age and σ entered with them.
+
+// defaultTieLevel is the level of a tie from a date when the URL does not choose one.
+const defaultTieLevel = "full"
+
+// tieInput is one tie point as the model uses it.
+type tieInput struct {
+	AgeMa, SigmaMa float64 // 1σ; used for normal ties
+	FromDate       bool    // age and σ come from the linked date at the chosen level
+	Level          string  // what the σ holds, for the page
+	Note           string  // a fallback or a recalculation, for the page
+}
+
+// tieLevelLabel says what each level holds.
+func tieLevelLabel(level string) string {
+	switch level {
+	case "analytical":
+		return "analytical (X)"
+	case "tracer":
+		return "with tracer (Y = X ⊕ tracer)"
+	}
+	return "full external (Z = Y ⊕ decay constant; ⁴⁰Ar/³⁹Ar: ⊕ monitor age and λ)"
+}
+
+// tieFromDate returns the age and 1σ of a date at level (analytical|tracer|full). ⁴⁰Ar/³⁹Ar dates are
+// recalculated to cal first. A level the date lacks falls back to the next lower one it has, and the
+// note says so.
+func tieFromDate(d store.Date, level string, cal calChoice) tieInput {
+	in := tieInput{AgeMa: d.AgeMa, SigmaMa: d.SigmaMa, FromDate: true}
+	if store.IsArAr(d.Method) {
+		rc := recalculate(d, cal.Stats)
+		if !rc.OK {
+			in.Level, in.Note = "analytical (X), as published", rc.Reason+"; the published age and analytical σ are used"
+			if level == "full" && d.SigmaZMa != nil {
+				in.SigmaMa, in.Level = *d.SigmaZMa, "full external, as published"
+			}
+			return in
+		}
+		in.AgeMa, in.SigmaMa, in.Level = rc.AgeMa, rc.AnalyticalSigmaMa, "analytical (X)"
+		in.Note = "⁴⁰Ar/³⁹Ar recalculated to " + cal.Cal.Name
+		switch level {
+		case "tracer":
+			in.Level, in.Note = "analytical (X)", in.Note+"; ⁴⁰Ar/³⁹Ar has no tracer term, so the analytical σ is used"
+		case "full":
+			in.SigmaMa, in.Level = rc.FullSigmaMa, "full external (⊕ monitor age and λ)"
+			if m := missingSystematics(cal.Stats); m != "" {
+				in.Note += "; " + m
+			}
+		}
+		return in
+	}
+	in.Level = "analytical (X)"
+	y, z := d.SigmaYMa, d.SigmaZMa
+	switch level {
+	case "tracer":
+		if y != nil {
+			in.SigmaMa, in.Level = *y, "with tracer (Y)"
+		} else {
+			in.Note = "the date has no Y σ: its analytical σ is used"
+		}
+	case "full":
+		switch {
+		case z != nil:
+			in.SigmaMa, in.Level = *z, "full external (Z)"
+		case y != nil:
+			in.SigmaMa, in.Level, in.Note = *y, "with tracer (Y)", "the date has no Z σ: its Y σ is used"
+		default:
+			in.Note = "the date has no Y or Z σ: its analytical σ is used"
+		}
+	}
+	return in
+}
+
+// tieInputs resolves every tie of a section: from its linked date at the options' level, or as entered.
+func (s *Server) tieInputs(ctx context.Context, ties []store.TiePoint, level string) ([]tieInput, error) {
+	out := make([]tieInput, len(ties))
+	var cal *calChoice
+	for i, t := range ties {
+		if t.AgeMa != nil && t.SigmaMa != nil {
+			out[i] = tieInput{AgeMa: *t.AgeMa, SigmaMa: *t.SigmaMa, Level: "as entered with the tie point"}
+		}
+		if t.DateID == nil || t.Distribution != "normal" {
+			continue
+		}
+		d, err := s.store.Date(ctx, *t.DateID)
+		if err != nil {
+			return nil, fmt.Errorf("tie %q: %w", t.Label, err)
+		}
+		if cal == nil {
+			c, err := s.calibration(ctx, &params{})
+			if err != nil {
+				return nil, err
+			}
+			cal = &c
+		}
+		out[i] = tieFromDate(d, level, *cal)
+	}
+	return out, nil
+}
+
+// tieModelTable says, for every tie point, what enters the model: the age and ± at the level used.
+func (a *sectionAnalysis) tieModelTable() views.Table {
+	t := views.Table{ID: "tie-inputs", Caption: "Tie points as the model uses them", Columns: []views.Column{{Label: "Tie point"},
+		{Label: "Height", Unit: "m", Num: true}, {Label: "Age", Unit: "Ma ± 2σ, or range", Num: true}, {Label: "Uncertainty level"},
+		{Label: "From"}, {Label: "Note"}}}
+	for i, tp := range a.Ties {
+		in := a.TieInputs[i]
+		age, level, from := "—", "—", views.Cell{Text: "entered with the tie point"}
+		switch {
+		case tp.Distribution == "normal" && tp.AgeMa != nil && tp.SigmaMa != nil:
+			ag, sg := ageSigma(in.AgeMa, in.SigmaMa, 2)
+			age, level = ag+" ± "+sg, in.Level
+		case tp.AgeMinMa != nil && tp.AgeMaxMa != nil:
+			age, level = num(*tp.AgeMaxMa)+" – "+num(*tp.AgeMinMa)+" (uniform)", "range (uniform)"
+		}
+		if in.FromDate && tp.DateID != nil {
+			from = views.Cell{Text: "date " + tp.DateSampleCode + " (" + methodLabel(tp.DateMethod) + ")", URL: idURL("/dates", *tp.DateID)}
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: tp.Label}, {Text: num(tp.HeightM), Num: true}, {Text: age, Num: true},
+			{Text: level}, from, {Text: orDash(in.Note)}})
+	}
+	note := fmt.Sprintf("Ties from a date use that date's age and σ at tie_level=%s: %s.", a.Opt.TieLevel, tieLevelLabel(a.Opt.TieLevel))
+	if a.Opt.TieLevel == defaultTieLevel {
+		note += " This is the default: the model gives absolute ages, which are compared with dates of other systems, laboratories and tracers, where only the full external σ is fair. Choose analytical or tracer only to compare with dates from the same laboratory or tracer."
+	}
+	t.Notes = []string{note, "Ties without a date keep the age and σ entered with them (their level is what the source gave)."}
+	return t
+}
+
+// tieLevelSentence is the model statement's account of the tie uncertainty level.
+func (a *sectionAnalysis) tieLevelSentence() string {
+	n := 0
+	for _, in := range a.TieInputs {
+		if in.FromDate {
+			n++
+		}
+	}
+	if n == 0 {
+		return "No tie point comes from a date of the compilation: each keeps the age and σ entered with it."
+	}
+	def := ""
+	if a.Opt.TieLevel == defaultTieLevel {
+		def = " (the default, as absolute ages need)"
+	}
+	return fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s (tie_level=%s).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def, a.Opt.TieLevel)
+}
+
+func plural(n int) string {
+	if n == 1 {
+		return " comes"
+	}
+	return "s come"
+}
