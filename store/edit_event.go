@@ -161,15 +161,5 @@ func (d *DB) ReviewEvent(ctx context.Context, id int64, version int, accept bool
 
 // DeleteEvent removes event id (at version), keeping its last state in the revision.
 func (d *DB) DeleteEvent(ctx context.Context, id int64, version int) error {
-	return d.inTx(ctx, func(tx *sql.Tx) error {
-		batch, err := d.newBatch(ctx, tx, "delete event", "form")
-		if err != nil {
-			return err
-		}
-		before, err := eventType().remove(ctx, tx, batch, id, version)
-		if err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "deleted event "+before.Name)
-	})
+	return eventType().deleteRecord(ctx, d, id, version)
 }

@@ -103,15 +103,5 @@ func (d *DB) UpdateProvince(ctx context.Context, id int64, version int, f Form) 
 // DeleteProvince removes province id (at version), keeping its last state in the revision. It refuses
 // with an *InUseError while the province has units or pulses.
 func (d *DB) DeleteProvince(ctx context.Context, id int64, version int) error {
-	return d.inTx(ctx, func(tx *sql.Tx) error {
-		batch, err := d.newBatch(ctx, tx, "delete province", "form")
-		if err != nil {
-			return err
-		}
-		before, err := provinceType().remove(ctx, tx, batch, id, version)
-		if err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "deleted province "+before.Name)
-	})
+	return provinceType().deleteRecord(ctx, d, id, version)
 }

@@ -298,3 +298,20 @@ func uniqueProblem(ctx context.Context, tx *sql.Tx, column, message string, q st
 	}
 	return []Problem{{Column: column, Message: fmt.Sprintf(message+" (record %d)", id)}}, nil
 }
+
+// deleteRecord removes record id (at version) in a change batch of its own, keeping its last state in
+// the revision; it returns ErrConflict for a stale version and an *InUseError while others depend on it.
+func (rt recordType[T]) deleteRecord(ctx context.Context, d *DB, id int64, version int) error {
+	noun := strings.ReplaceAll(rt.name, "_", " ")
+	return d.inTx(ctx, func(tx *sql.Tx) error {
+		batch, err := d.newBatch(ctx, tx, "delete "+noun, "form")
+		if err != nil {
+			return err
+		}
+		before, err := rt.remove(ctx, tx, batch, id, version)
+		if err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "deleted "+rt.label(before))
+	})
+}

@@ -111,15 +111,5 @@ func (d *DB) UpdateSection(ctx context.Context, id int64, version int, f Form) (
 // DeleteSection removes section id (at version), keeping its last state in the revision. It refuses with
 // an *InUseError while the section has horizon dates, samples, tie points, events or hiatuses.
 func (d *DB) DeleteSection(ctx context.Context, id int64, version int) error {
-	return d.inTx(ctx, func(tx *sql.Tx) error {
-		batch, err := d.newBatch(ctx, tx, "delete section", "form")
-		if err != nil {
-			return err
-		}
-		before, err := sectionType().remove(ctx, tx, batch, id, version)
-		if err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "deleted section "+before.Name)
-	})
+	return sectionType().deleteRecord(ctx, d, id, version)
 }

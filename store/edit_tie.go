@@ -126,15 +126,5 @@ func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form) (TieP
 
 // DeleteTie removes tie point id (at version), keeping its last state in the revision.
 func (d *DB) DeleteTie(ctx context.Context, id int64, version int) error {
-	return d.inTx(ctx, func(tx *sql.Tx) error {
-		batch, err := d.newBatch(ctx, tx, "delete tie point", "form")
-		if err != nil {
-			return err
-		}
-		before, err := tieType().remove(ctx, tx, batch, id, version)
-		if err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "deleted tie point "+before.Label)
-	})
+	return tieType().deleteRecord(ctx, d, id, version)
 }

@@ -113,17 +113,7 @@ func (d *DB) UpdateUnit(ctx context.Context, id int64, version int, f Form) (Uni
 // DeleteUnit removes unit id (at version), keeping its last state in the revision. It refuses with an
 // *InUseError while dates or pulses refer to the unit.
 func (d *DB) DeleteUnit(ctx context.Context, id int64, version int) error {
-	return d.inTx(ctx, func(tx *sql.Tx) error {
-		batch, err := d.newBatch(ctx, tx, "delete unit", "form")
-		if err != nil {
-			return err
-		}
-		before, err := unitType().remove(ctx, tx, batch, id, version)
-		if err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "deleted unit "+before.Name)
-	})
+	return unitType().deleteRecord(ctx, d, id, version)
 }
 
 // orProblems returns err, or a *ValidationError of ps when err is nil.
