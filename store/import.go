@@ -330,6 +330,17 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 						res.Notes = append(res.Notes, fmt.Sprintf("created unit %q of %q (kind other; import units to describe it)", dt.Unit, dt.Province))
 					}
 					dt.UnitID = &uid
+					// A likely duplicate: the unit already has a date by the same method at the same age
+					// (a republished date under another sample code). Kept, and said.
+					if other, err := lookupID(ctx, tx, `SELECT id FROM dates WHERE unit_id = ? AND method = ? AND abs(age_ma - ?) <= 1e-9 * age_ma`,
+						uid, dt.Method, dt.AgeMa); err != nil {
+						return err
+					} else if other != 0 {
+						res.Notes = append(res.Notes, fmt.Sprintf("line %d: likely a duplicate of date %d (same unit, method and age %s Ma); check before committing", t.lines[i], other, formatNumber(dt.AgeMa)))
+					}
+				}
+				if IsArAr(dt.Method) && (dt.MonitorAgeMa == nil || dt.LambdaPerA == nil) {
+					res.Notes = append(res.Notes, fmt.Sprintf("line %d: ⁴⁰Ar/³⁹Ar date %s has no monitor age or decay constant: it will be listed as not recalculable", t.lines[i], dt.SampleCode))
 				}
 				if err := d.insertDate(ctx, tx, batch, dt); err != nil {
 					return err

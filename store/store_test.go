@@ -330,3 +330,22 @@ func TestOpenEscapesThePath(t *testing.T) {
 		}
 	}
 }
+
+// The import report warns (without refusing) about likely duplicates and ⁴⁰Ar/³⁹Ar dates that cannot be
+// recalculated, naming their lines.
+func TestImportDatesWarnsAboutDuplicatesAndMissingCalibration(t *testing.T) {
+	db := mustOpenDB(t)
+	if _, err := importString(t, db, "dates", "", dateHeader+goodDate); err != nil {
+		t.Fatal(err)
+	}
+	body := dateHeader + "P,U1,S-9,upb_idtims,zircon,eruption,155.4,0.06,2,,,\n" +
+		"P,U1,A-1,arar_plateau,plagioclase,eruption,154.9,0.4,2,,,\n"
+	res, err := importString(t, db, "dates", "", body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	notes := strings.Join(res.Notes, "\n")
+	if !strings.Contains(notes, "line 2: likely a duplicate of date 1") || !strings.Contains(notes, "line 3: ⁴⁰Ar/³⁹Ar date A-1 has no monitor age") {
+		t.Errorf("notes %q", notes)
+	}
+}
