@@ -91,20 +91,7 @@ func (f CompareFigure) draw(c canvas, l *timelineLayout) {
 	t := f.Timeline
 	x := func(a float64) float64 { return t.x(l, a) }
 	clampX := func(a float64) float64 { return math.Min(l.plotR, math.Max(l.plotL, x(a))) }
-	c.rect(0, 0, figW, l.height, paint{Fill: "#ffffff"})
-	c.text(15, l.titleY, t.Title, textStyle{Size: 15, Bold: true})
-	for i, line := range l.noteLines {
-		c.text(15, l.titleY+20+14*float64(i), line, textStyle{Size: 10.5, Colour: mutedColour})
-	}
-	for i := range t.Rows {
-		if i%2 == 0 {
-			c.rect(l.plotL, l.rowY[i], l.plotR-l.plotL, l.rowH[i], paint{Fill: stripeColour})
-		}
-	}
-	for _, tk := range l.ticks {
-		xx := x(tk)
-		c.poly([]pt{{xx, l.rowsT}, {xx, l.rowsB}}, false, paint{Stroke: "#d5dbe0", Width: 0.5})
-	}
+	t.drawBackdrop(c, l)
 	top := l.rowsT
 	if t.Density != nil {
 		top = l.densT

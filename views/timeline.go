@@ -426,28 +426,31 @@ func fmtTick(v float64, decimals int) string {
 // Size returns the figure's width and height in points.
 func (f TimelineFigure) Size() (float64, float64) { return figW, f.layout().height }
 
-// draw draws the figure on c.
-func (f TimelineFigure) draw(c canvas, l *timelineLayout) {
-	x := func(a float64) float64 { return f.x(l, a) }
-	clampX := func(a float64) float64 { return math.Min(l.plotR, math.Max(l.plotL, x(a))) }
+// drawBackdrop draws what lies under everything else, in this figure and in the comparison's: the white
+// page, title and notes, row stripes (so a date can be followed to its unit name) and light guides at the
+// major ticks.
+func (f TimelineFigure) drawBackdrop(c canvas, l *timelineLayout) {
 	c.rect(0, 0, figW, l.height, paint{Fill: "#ffffff"})
 	c.text(15, l.titleY, f.Title, textStyle{Size: 15, Bold: true})
 	for i, line := range l.noteLines {
 		c.text(15, l.titleY+20+14*float64(i), line, textStyle{Size: 10.5, Colour: mutedColour})
 	}
-
-	// Row stripes, so a date can be followed to its unit name.
 	for i := range f.Rows {
 		if i%2 == 0 {
 			c.rect(l.plotL, l.rowY[i], l.plotR-l.plotL, l.rowH[i], paint{Fill: stripeColour})
 		}
 	}
-
-	// Light guides at the major ticks, under everything else.
 	for _, t := range l.ticks {
-		xx := x(t)
+		xx := f.x(l, t)
 		c.poly([]pt{{xx, l.rowsT}, {xx, l.rowsB}}, false, paint{Stroke: "#d5dbe0", Width: 0.5})
 	}
+}
+
+// draw draws the figure on c.
+func (f TimelineFigure) draw(c canvas, l *timelineLayout) {
+	x := func(a float64) float64 { return f.x(l, a) }
+	clampX := func(a float64) float64 { return math.Min(l.plotR, math.Max(l.plotL, x(a))) }
+	f.drawBackdrop(c, l)
 
 	// Pulse modes: dashed lines through the density and the rows.
 	top := l.rowsT
