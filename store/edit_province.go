@@ -47,57 +47,16 @@ func provinceNameProblem(ctx context.Context, tx *sql.Tx, p Province) ([]Problem
 
 // CreateProvince adds one province from a form, as the actor of ctx.
 func (d *DB) CreateProvince(ctx context.Context, f Form) (Province, error) {
-	p, problems := parseProvinceForm(f)
-	var out Province
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		if ps, err := provinceNameProblem(ctx, tx, p); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "add province", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = provinceType().insert(ctx, d, tx, batch, p); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "added province "+p.Name)
-	})
-	return out, err
+	x, problems := parseProvinceForm(f)
+	return provinceType().createRecord(ctx, d, x, problems, provinceNameProblem)
 }
 
 // UpdateProvince replaces province id with the form's values when the stored version is still version;
 // otherwise it returns ErrConflict and changes nothing.
 func (d *DB) UpdateProvince(ctx context.Context, id int64, version int, f Form) (Province, error) {
-	p, problems := parseProvinceForm(f)
-	var out Province
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := provinceInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		p.ID = id
-		if ps, err := provinceNameProblem(ctx, tx, p); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit province", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = provinceType().update(ctx, d, tx, batch, id, version, p); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "edited province "+out.Name)
-	})
-	return out, err
+	x, problems := parseProvinceForm(f)
+	return provinceType().updateRecord(ctx, d, id, version, x, problems,
+		func(x Province, id int64) Province { x.ID = id; return x }, provinceNameProblem)
 }
 
 // DeleteProvince removes province id (at version), keeping its last state in the revision. It refuses

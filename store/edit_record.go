@@ -315,3 +315,61 @@ func (rt recordType[T]) deleteRecord(ctx context.Context, d *DB, id int64, versi
 		return setBatchSummary(ctx, tx, batch, "deleted "+rt.label(before))
 	})
 }
+
+// createRecord adds x from a form (problems are the form's) in a change batch of its own, after check
+// has found no clash with stored records.
+func (rt recordType[T]) createRecord(ctx context.Context, d *DB, x T, problems []Problem,
+	check func(context.Context, *sql.Tx, T) ([]Problem, error)) (T, error) {
+	noun := strings.ReplaceAll(rt.name, "_", " ")
+	var out T
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		if ps, err := check(ctx, tx, x); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "add "+noun, "form")
+		if err != nil {
+			return err
+		}
+		if out, err = rt.insert(ctx, d, tx, batch, x); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "added "+rt.label(x))
+	})
+	return out, err
+}
+
+// updateRecord replaces record id with x (problems are the form's) when its stored version is still
+// version, else ErrConflict; withID gives x the record's id before check looks for clashes.
+func (rt recordType[T]) updateRecord(ctx context.Context, d *DB, id int64, version int, x T, problems []Problem,
+	withID func(T, int64) T, check func(context.Context, *sql.Tx, T) ([]Problem, error)) (T, error) {
+	noun := strings.ReplaceAll(rt.name, "_", " ")
+	var out T
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := rt.load(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		if _, v, _ := rt.meta(before); v != version {
+			return ErrConflict
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		x = withID(x, id)
+		if ps, err := check(ctx, tx, x); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "edit "+noun, "form")
+		if err != nil {
+			return err
+		}
+		if out, err = rt.update(ctx, d, tx, batch, id, version, x); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, "edited "+rt.label(out))
+	})
+	return out, err
+}

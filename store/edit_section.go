@@ -55,57 +55,16 @@ func sectionNameProblem(ctx context.Context, tx *sql.Tx, s Section) ([]Problem, 
 
 // CreateSection adds one section from a form, as the actor of ctx.
 func (d *DB) CreateSection(ctx context.Context, f Form) (Section, error) {
-	s, problems := parseSectionForm(f)
-	var out Section
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		if ps, err := sectionNameProblem(ctx, tx, s); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "add section", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = sectionType().insert(ctx, d, tx, batch, s); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "added section "+s.Name)
-	})
-	return out, err
+	x, problems := parseSectionForm(f)
+	return sectionType().createRecord(ctx, d, x, problems, sectionNameProblem)
 }
 
 // UpdateSection replaces section id with the form's values when the stored version is still version;
 // otherwise it returns ErrConflict and changes nothing.
 func (d *DB) UpdateSection(ctx context.Context, id int64, version int, f Form) (Section, error) {
-	s, problems := parseSectionForm(f)
-	var out Section
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := sectionInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		s.ID = id
-		if ps, err := sectionNameProblem(ctx, tx, s); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit section", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = sectionType().update(ctx, d, tx, batch, id, version, s); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "edited section "+out.Name)
-	})
-	return out, err
+	x, problems := parseSectionForm(f)
+	return sectionType().updateRecord(ctx, d, id, version, x, problems,
+		func(x Section, id int64) Section { x.ID = id; return x }, sectionNameProblem)
 }
 
 // DeleteSection removes section id (at version), keeping its last state in the revision. It refuses with
