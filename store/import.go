@@ -102,14 +102,11 @@ func (d *DB) ImportProvinces(ctx context.Context, file string, r io.Reader) (Imp
 	var recs []Province
 	return d.importFile(ctx, "provinces", file, r, []string{"province"}, provinceColumns,
 		func(t *csvTable) {
-			seen := map[string]int{}
+			seen := firstLines{}
 			for i := range t.rows {
 				rw := t.row(i)
 				p := parseProvinceRow(rw)
-				if l, dup := seen[p.Name]; dup && p.Name != "" {
-					rw.problem("province", "%q already given on line %d", p.Name, l)
-				}
-				seen[p.Name] = rw.line()
+				seen.note(rw, "province", p.Name)
 				recs = append(recs, p)
 			}
 		},
@@ -135,15 +132,8 @@ func (d *DB) ImportProvinces(ctx context.Context, file string, r io.Reader) (Imp
 }
 
 func (d *DB) insertProvince(ctx context.Context, tx *sql.Tx, batch int64, p Province) (int64, error) {
-	now := d.stamp()
-	r, err := tx.ExecContext(ctx, `INSERT INTO provinces (name, description, created_at, updated_at) VALUES (?, ?, ?, ?)`,
-		p.Name, p.Description, now, now)
-	if err != nil {
-		return 0, fmt.Errorf("insert province %q: %w", p.Name, err)
-	}
-	p.ID, _ = r.LastInsertId()
-	p.Version, p.CreatedAt, p.UpdatedAt = 1, now, now
-	return p.ID, addRevision(ctx, tx, batch, "province", p.ID, nil, p)
+	out, err := provinceType().insert(ctx, d, tx, batch, p)
+	return out.ID, err
 }
 
 // provinceID returns the id of the named province, creating it (and saying so in res) when absent.
@@ -204,16 +194,8 @@ func (d *DB) ImportUnits(ctx context.Context, file string, r io.Reader) (ImportR
 }
 
 func (d *DB) insertUnit(ctx context.Context, tx *sql.Tx, batch int64, u Unit) (int64, error) {
-	now := d.stamp()
-	r, err := tx.ExecContext(ctx, `INSERT INTO units (province_id, name, kind, pile_position, volume_km3,
-		volume_sigma_km3, latitude, longitude, notes, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?)`,
-		u.ProvinceID, u.Name, u.Kind, u.PilePosition, u.VolumeKm3, u.VolumeSigmaKm3, u.Latitude, u.Longitude, u.Notes, now, now)
-	if err != nil {
-		return 0, fmt.Errorf("insert unit %q: %w", u.Name, err)
-	}
-	u.ID, _ = r.LastInsertId()
-	u.Version, u.CreatedAt, u.UpdatedAt = 1, now, now
-	return u.ID, addRevision(ctx, tx, batch, "unit", u.ID, nil, u)
+	out, err := unitType().insert(ctx, d, tx, batch, u)
+	return out.ID, err
 }
 
 // ImportSections imports sections.csv. A section that exists is an error.
@@ -221,14 +203,11 @@ func (d *DB) ImportSections(ctx context.Context, file string, r io.Reader) (Impo
 	var recs []Section
 	return d.importFile(ctx, "sections", file, r, []string{"section"}, sectionColumns,
 		func(t *csvTable) {
-			seen := map[string]int{}
+			seen := firstLines{}
 			for i := range t.rows {
 				rw := t.row(i)
 				s := parseSectionRow(rw)
-				if l, dup := seen[s.Name]; dup && s.Name != "" {
-					rw.problem("section", "%q already given on line %d", s.Name, l)
-				}
-				seen[s.Name] = rw.line()
+				seen.note(rw, "section", s.Name)
 				recs = append(recs, s)
 			}
 		},
@@ -243,17 +222,8 @@ func (d *DB) ImportSections(ctx context.Context, file string, r io.Reader) (Impo
 			if t.err() != nil {
 				return nil
 			}
-			now := d.stamp()
 			for _, s := range recs {
-				r, err := tx.ExecContext(ctx, `INSERT INTO sections (name, kind, latitude, longitude, palaeolatitude,
-					thermal_maturity, toc_threshold_wt_pct, notes, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?)`,
-					s.Name, s.Kind, s.Latitude, s.Longitude, s.Palaeolatitude, s.ThermalMaturity, s.TocThresholdWtPct, s.Notes, now, now)
-				if err != nil {
-					return fmt.Errorf("insert section %q: %w", s.Name, err)
-				}
-				s.ID, _ = r.LastInsertId()
-				s.Version, s.CreatedAt, s.UpdatedAt = 1, now, now
-				if err := addRevision(ctx, tx, batch, "section", s.ID, nil, s); err != nil {
+				if _, err := sectionType().insert(ctx, d, tx, batch, s); err != nil {
 					return err
 				}
 				res.Added["sections"]++
@@ -511,14 +481,11 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 	var recs []TiePoint
 	return d.importFile(ctx, "ties", file, r, []string{"label", "height_m", "kind", "distribution"}, tieColumns,
 		func(t *csvTable) {
-			seen := map[string]int{}
+			seen := firstLines{}
 			for i := range t.rows {
 				rw := t.row(i)
 				tp := parseTieRow(rw)
-				if l, dup := seen[tp.Label]; dup && tp.Label != "" {
-					rw.problem("label", "%q already given on line %d", tp.Label, l)
-				}
-				seen[tp.Label] = rw.line()
+				seen.note(rw, "label", tp.Label)
 				recs = append(recs, tp)
 			}
 		},
@@ -611,14 +578,11 @@ func (d *DB) ImportEvents(ctx context.Context, section, file string, r io.Reader
 	var recs []Event
 	return d.importFile(ctx, "events", file, r, []string{"name", "kind", "base_height_m"}, eventColumns,
 		func(t *csvTable) {
-			seen := map[string]int{}
+			seen := firstLines{}
 			for i := range t.rows {
 				rw := t.row(i)
 				ev := parseEventRow(rw)
-				if l, dup := seen[ev.Name]; dup && ev.Name != "" {
-					rw.problem("name", "%q already given on line %d", ev.Name, l)
-				}
-				seen[ev.Name] = rw.line()
+				seen.note(rw, "name", ev.Name)
 				recs = append(recs, ev)
 			}
 		},
@@ -765,4 +729,19 @@ func parseEventRow(rw row) Event {
 		}
 	}
 	return ev
+}
+
+// firstLines remembers the line each key of a file was first given on, to report repeats in one pass.
+type firstLines map[string]int
+
+// note records the key of row rw; when the file gave it before, it records a problem on col.
+func (f firstLines) note(rw row, col, key string) {
+	if key == "" {
+		return
+	}
+	if l, dup := f[key]; dup {
+		rw.problem(col, "%q already given on line %d", key, l)
+		return
+	}
+	f[key] = rw.line()
 }
