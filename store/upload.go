@@ -47,28 +47,66 @@ type Preview struct {
 	Lines    []int
 }
 
+// Limits on a workbook upload: a stray cell far to the right or far down would otherwise make a sheet of
+// millions of empty cells.
+const (
+	maxSheetColumns = 500
+	maxUnzipBytes   = 1 << 30
+)
+
 // ToCSV turns an uploaded file into CSV: .xlsx files (first sheet) are converted, anything else is taken
-// as CSV text.
-func ToCSV(fileName string, body []byte) ([]byte, error) {
+// as CSV text. Row N of the sheet is line N of the CSV, so problems name the sheet's rows.
+func ToCSV(fileName string, body []byte) (out []byte, err error) {
 	if !strings.EqualFold(path.Ext(fileName), ".xlsx") {
 		return body, nil
 	}
-	f, err := excelize.OpenReader(bytes.NewReader(body))
+	refuse := func(msg string) error { return &ValidationError{[]Problem{{File: fileName, Message: msg}}} }
+	defer func() {
+		// excelize is a large parser of untrusted zip and XML; a panic inside it is a file we cannot read.
+		if r := recover(); r != nil {
+			out, err = nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
+		}
+	}()
+	f, err := excelize.OpenReader(bytes.NewReader(body), excelize.Options{UnzipSizeLimit: maxUnzipBytes})
 	if err != nil {
-		return nil, &ValidationError{[]Problem{{File: fileName, Message: "not readable as an .xlsx workbook: save it again as .xlsx or as CSV"}}}
+		return nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
 	}
 	defer f.Close()
 	sheets := f.GetSheetList()
 	if len(sheets) == 0 {
-		return nil, &ValidationError{[]Problem{{File: fileName, Message: "the workbook has no sheet"}}}
+		return nil, refuse("the workbook has no sheet")
 	}
-	rows, err := f.GetRows(sheets[0])
+	it, err := f.Rows(sheets[0])
 	if err != nil {
-		return nil, &ValidationError{[]Problem{{File: fileName, Message: "the first sheet cannot be read: " + err.Error()}}}
+		return nil, refuse("the first sheet cannot be read: " + err.Error())
 	}
-	width := 0
-	for _, r := range rows {
+	defer it.Close()
+	var rows [][]string
+	width, size := 0, 0
+	for n := 1; it.Next(); n++ {
+		r, err := it.Columns()
+		if err != nil {
+			return nil, refuse(fmt.Sprintf("row %d of the first sheet cannot be read: %v", n, err))
+		}
+		for len(r) > 0 && r[len(r)-1] == "" {
+			r = r[:len(r)-1]
+		}
+		if len(r) > maxSheetColumns {
+			col, _ := excelize.ColumnNumberToName(len(r))
+			return nil, refuse(fmt.Sprintf("row %d has a cell in column %s: a file holds at most %d columns; delete what lies beyond the table", n, col, maxSheetColumns))
+		}
 		width = max(width, len(r))
+		size += 1 + width
+		for _, c := range r {
+			size += len(c)
+		}
+		if size > maxImportBytes {
+			return nil, refuse(fmt.Sprintf("the first sheet is larger than %d MB as text (row %d); split it into several files", maxImportBytes>>20, n))
+		}
+		rows = append(rows, r)
+	}
+	if err := it.Error(); err != nil {
+		return nil, refuse("the first sheet cannot be read: " + err.Error())
 	}
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
