@@ -333,52 +333,56 @@ func (d *DB) RevertDate(ctx context.Context, revID int64) error {
 		if err != nil {
 			return err
 		}
-		current, cerr := dateInTx(ctx, tx, rev.RecordID)
-		exists := cerr == nil
-		if cerr != nil && !errors.Is(cerr, ErrNotFound) {
-			return cerr
-		}
-		switch {
-		case rev.Before == nil: // the revision created it: remove it
-			if !exists {
-				return ErrConflict
-			}
-			if _, err := tx.ExecContext(ctx, `DELETE FROM dates WHERE id = ?`, rev.RecordID); err != nil {
-				return err
-			}
-			if err := addRevision(ctx, tx, batch, "date", rev.RecordID, current, nil); err != nil {
-				return err
-			}
-		default:
-			var old Date
-			if err := json.Unmarshal(rev.Before, &old); err != nil {
-				return fmt.Errorf("revert revision %d: %w", revID, err)
-			}
-			if !exists { // the revision deleted it: recreate with its id
-				if _, err := tx.ExecContext(ctx, `INSERT INTO dates (id, unit_id, section_id, height_m, sample_code, method,
-					interpretation, age_ma, sigma_ma, sigma_level, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?)`,
-					old.ID, old.UnitID, old.SectionID, old.HeightM, old.SampleCode, old.Method, old.Interpretation,
-					old.AgeMa, old.SigmaMa, old.SigmaLevel, old.CreatedAt, old.UpdatedAt); err != nil {
-					return fmt.Errorf("recreate date %d: %w", old.ID, err)
-				}
-			}
-			if err := d.writeDate(ctx, tx, &old, currentVersion(ctx, tx, old.ID)); err != nil {
-				return err
-			}
-			after, err := dateInTx(ctx, tx, old.ID)
-			if err != nil {
-				return err
-			}
-			var before any
-			if exists {
-				before = current
-			}
-			if err := addRevision(ctx, tx, batch, "date", old.ID, before, after); err != nil {
-				return err
-			}
+		if err := d.revertDateTx(ctx, tx, batch, rev); err != nil {
+			return err
 		}
 		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("reverted revision %d of date %d", revID, rev.RecordID))
 	})
+}
+
+// revertDateTx gives the date of rev the state it had just before rev, recorded in batch (see RevertDate).
+func (d *DB) revertDateTx(ctx context.Context, tx *sql.Tx, batch int64, rev Revision) error {
+	current, cerr := dateInTx(ctx, tx, rev.RecordID)
+	exists := cerr == nil
+	if cerr != nil && !errors.Is(cerr, ErrNotFound) {
+		return cerr
+	}
+	if rev.Before == nil { // the revision created it: remove it
+		if !exists {
+			return ErrConflict
+		}
+		if _, err := tx.ExecContext(ctx, `DELETE FROM dates WHERE id = ?`, rev.RecordID); err != nil {
+			if isForeignKeyViolation(err) {
+				return &InUseError{Record: "date " + current.SampleCode, Uses: []string{"records added later"}}
+			}
+			return err
+		}
+		return addRevision(ctx, tx, batch, "date", rev.RecordID, current, nil)
+	}
+	var old Date
+	if err := json.Unmarshal(rev.Before, &old); err != nil {
+		return fmt.Errorf("revert revision %d: %w", rev.ID, err)
+	}
+	if !exists { // the revision deleted it: recreate with its id
+		if _, err := tx.ExecContext(ctx, `INSERT INTO dates (id, unit_id, section_id, height_m, sample_code, method,
+			interpretation, age_ma, sigma_ma, sigma_level, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?)`,
+			old.ID, old.UnitID, old.SectionID, old.HeightM, old.SampleCode, old.Method, old.Interpretation,
+			old.AgeMa, old.SigmaMa, old.SigmaLevel, old.CreatedAt, old.UpdatedAt); err != nil {
+			return fmt.Errorf("recreate date %d: %w", old.ID, err)
+		}
+	}
+	if err := d.writeDate(ctx, tx, &old, currentVersion(ctx, tx, old.ID)); err != nil {
+		return err
+	}
+	after, err := dateInTx(ctx, tx, old.ID)
+	if err != nil {
+		return err
+	}
+	var before any
+	if exists {
+		before = current
+	}
+	return addRevision(ctx, tx, batch, "date", old.ID, before, after)
 }
 
 func currentVersion(ctx context.Context, tx *sql.Tx, id int64) int {

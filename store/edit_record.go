@@ -247,6 +247,12 @@ func (rt recordType[T]) revert(ctx context.Context, d *DB, tx *sql.Tx, batch int
 // reverter is a recordType of any record, for RevertRevision.
 type reverter interface {
 	revert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, rev Revision) error
+	state(ctx context.Context, tx *sql.Tx, id int64) (any, error)
+}
+
+// state is the record's current state as a revision stores it.
+func (rt recordType[T]) state(ctx context.Context, tx *sql.Tx, id int64) (any, error) {
+	return rt.load(ctx, tx, id)
 }
 
 // reverters gives the record types RevertRevision handles besides dates.

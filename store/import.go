@@ -256,6 +256,7 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 			if ignored != "" {
 				res.Notes = append(res.Notes, ignored)
 			}
+			pendingNote(ctx, res, len(recs), "dates", func(i int) *string { return &recs[i].ReviewState })
 			for i := range recs {
 				dt := &recs[i]
 				rw := t.row(i)
@@ -591,6 +592,7 @@ func (d *DB) ImportEvents(ctx context.Context, section, file string, r io.Reader
 			if err != nil {
 				return err
 			}
+			pendingNote(ctx, res, len(recs), "events", func(i int) *string { return &recs[i].ReviewState })
 			for i, ev := range recs {
 				if id, err := lookupID(ctx, tx, `SELECT id FROM events WHERE section_id = ? AND name = ?`, sid, ev.Name); err != nil {
 					return err

@@ -25,6 +25,27 @@ func withDryRun(ctx context.Context) context.Context {
 
 func isDryRun(ctx context.Context) bool { v, _ := ctx.Value(dryRunKey{}).(bool); return v }
 
+type contributionKey struct{}
+
+// AsContribution marks ctx as an import by someone who is not a curator: its dates and events arrive
+// pending review whatever the file's review_state column says, as they do from the forms.
+func AsContribution(ctx context.Context) context.Context {
+	return context.WithValue(ctx, contributionKey{}, true)
+}
+
+func isContribution(ctx context.Context) bool { v, _ := ctx.Value(contributionKey{}).(bool); return v }
+
+// pendingNote sets every record's review state to pending when ctx is a contribution, and says so.
+func pendingNote(ctx context.Context, res *ImportResult, n int, what string, state func(i int) *string) {
+	if !isContribution(ctx) || n == 0 {
+		return
+	}
+	for i := range n {
+		*state(i) = "pending"
+	}
+	res.Notes = append(res.Notes, fmt.Sprintf("the %d %s arrive pending a curator's review; until accepted they are left out of computations unless a page's include= says otherwise", n, what))
+}
+
 // Upload is a file sent from the browser, kept between its preview and its commit.
 type Upload struct {
 	ID       int64  `json:"id"`
@@ -167,93 +188,6 @@ func (d *DB) CommitUpload(ctx context.Context, u Upload) (ImportResult, error) {
 	}
 	_, err = d.db.ExecContext(ctx, `UPDATE uploads SET batch_id = ?, body = x'' WHERE id = ?`, res.BatchID, u.ID)
 	return res, err
-}
-
-// UndoBatch removes every record a change batch created (an import, an added date), as one new batch.
-// It refuses, changing nothing, when a record was changed after the batch or is now used by another.
-func (d *DB) UndoBatch(ctx context.Context, batchID int64) (int, error) {
-	tables := map[string]string{"date": "dates", "unit": "units", "province": "provinces", "section": "sections",
-		"tie_point": "tie_points", "event": "events"}
-	n := 0
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		revs, err := queryAllTx(ctx, tx, revisionSelect+` WHERE r.batch_id = ? ORDER BY r.id DESC`, []any{batchID}, scanRevision)
-		if err != nil {
-			return err
-		}
-		if len(revs) == 0 {
-			return fmt.Errorf("change %d: %w", batchID, ErrNotFound)
-		}
-		undo, err := d.newBatch(ctx, tx, "undo", fmt.Sprintf("change %d", batchID))
-		if err != nil {
-			return err
-		}
-		var problems []Problem
-		for _, rev := range revs {
-			if rev.Before != nil {
-				problems = append(problems, Problem{Message: fmt.Sprintf("change %d edited or deleted %s %d; only additions can be undone as a batch (revert edits one by one from the record's history)", batchID, rev.RecordType, rev.RecordID)})
-				continue
-			}
-			if rev.RecordType == "measurements" {
-				r, err := tx.ExecContext(ctx, `DELETE FROM measurements WHERE batch_id = ?`, batchID)
-				if err != nil {
-					return err
-				}
-				k, _ := r.RowsAffected()
-				n += int(k)
-				if err := addRevision(ctx, tx, undo, "measurements", rev.RecordID, rev.After, nil); err != nil {
-					return err
-				}
-				continue
-			}
-			table, ok := tables[rev.RecordType]
-			if !ok {
-				problems = append(problems, Problem{Message: fmt.Sprintf("%s records cannot be undone as a batch", rev.RecordType)})
-				continue
-			}
-			var later int
-			if err := tx.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ? AND id > ?`,
-				rev.RecordType, rev.RecordID, rev.ID).Scan(&later); err != nil {
-				return err
-			}
-			if later > 0 {
-				problems = append(problems, Problem{Message: fmt.Sprintf("%s %d was changed after this import; revert that change first", rev.RecordType, rev.RecordID)})
-				continue
-			}
-			// Children that would go with the record by ON DELETE CASCADE, without a revision each, block
-			// the undo as they block a delete.
-			var deps []dependent
-			switch rev.RecordType {
-			case "section":
-				deps = sectionType().deps
-			case "province":
-				deps = provinceType().deps
-			case "unit":
-				deps = unitType().deps
-			}
-			if uses, err := dependents(ctx, tx, rev.RecordID, deps); err != nil {
-				return err
-			} else if len(uses) > 0 {
-				problems = append(problems, Problem{Message: fmt.Sprintf("%s %d is now used by %s added later; undo or delete those first", rev.RecordType, rev.RecordID, strings.Join(uses, ", "))})
-				continue
-			}
-			if _, err := tx.ExecContext(ctx, `DELETE FROM `+table+` WHERE id = ?`, rev.RecordID); err != nil {
-				if isForeignKeyViolation(err) {
-					problems = append(problems, Problem{Message: fmt.Sprintf("%s %d is now used by records added later; undo those first", rev.RecordType, rev.RecordID)})
-					continue
-				}
-				return err
-			}
-			n++
-			if err := addRevision(ctx, tx, undo, rev.RecordType, rev.RecordID, rev.After, nil); err != nil {
-				return err
-			}
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		return setBatchSummary(ctx, tx, undo, fmt.Sprintf("undid change %d (%d records)", batchID, n))
-	})
-	return n, err
 }
 
 func queryAllTx[T any](ctx context.Context, tx *sql.Tx, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {

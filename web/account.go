@@ -77,8 +77,18 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 		t.Rows = append(t.Rows, []views.Cell{{Text: rev.RecordType}, c, {Text: what}})
 	}
 	v.Tables = []views.Table{t}
+	pending, err := s.store.PendingInBatch(ctx, id)
+	if err != nil {
+		return err
+	}
+	if pending > 0 {
+		v.Notes = append(v.Notes, fmt.Sprintf("%d record(s) this change added wait for a curator's review; until accepted they are left out of computations.", pending))
+	}
 	if isCurator(r) {
-		v.Actions = []views.Action{{Label: "Undo this change (remove what it added)", URL: fmt.Sprintf("/changes/%d/undo", id), Danger: true}}
+		if pending > 0 {
+			v.Actions = append(v.Actions, views.Action{Label: fmt.Sprintf("Accept the %d pending record(s) of this change", pending), URL: fmt.Sprintf("/changes/%d/accept", id)})
+		}
+		v.Actions = append(v.Actions, views.Action{Label: "Undo this change (remove what it added, restore what it changed)", URL: fmt.Sprintf("/changes/%d/undo", id), Danger: true})
 	}
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil

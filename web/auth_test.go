@@ -112,6 +112,7 @@ var routeRoles = map[string]string{
 	"POST /dates/{id}/delete":                  store.RoleCurator,
 	"POST /revisions/{id}/revert":              store.RoleCurator,
 	"POST /changes/{id}/undo":                  store.RoleCurator,
+	"POST /changes/{id}/accept":                store.RoleCurator,
 	"GET /provinces/new":                       store.RoleContributor,
 	"POST /provinces/new":                      store.RoleContributor,
 	"GET /provinces/{id}/edit":                 store.RoleCurator,
@@ -496,9 +497,33 @@ func TestUploadPreviewCommitUndo(t *testing.T) {
 	if s, _, _ := do(t, contrib, http.MethodPost, srv.URL+"/import/"+m[1]+"/commit", url.Values{}); s != http.StatusConflict {
 		t.Errorf("committing twice: %d, want 409", s)
 	}
-	var batch string
-	if u, err := url.Parse(h.Get("Location")); err == nil {
-		batch = u.Query().Get("batch")
+	batch := strings.TrimPrefix(h.Get("Location"), "/changes/")
+	// A contributor's rows arrive pending; the change's page counts them and offers the curator one accept.
+	if p, _, _ := db.Dates(ctx, store.DateFilter{ReviewState: "pending", Text: "X-"}); len(p) != 2 {
+		t.Fatalf("a contributor's uploaded dates: %d pending, want 2", len(p))
+	}
+	if _, body, _ := do(t, curator, http.MethodGet, srv.URL+"/changes/"+batch, nil); !strings.Contains(body, "Accept the 2 pending record(s)") {
+		t.Fatalf("the change page does not offer to accept the 2 pending dates:\n%.2000s", body)
+	}
+	if s, _, _ := do(t, contrib, http.MethodPost, srv.URL+"/changes/"+batch+"/accept", url.Values{}); s != http.StatusForbidden {
+		t.Errorf("a contributor accepting their own upload: %d, want 403", s)
+	}
+	if s, _, _ := do(t, curator, http.MethodPost, srv.URL+"/changes/"+batch+"/accept", url.Values{}); s != http.StatusSeeOther {
+		t.Fatalf("accept: %d", s)
+	}
+	if p, _, _ := db.Dates(ctx, store.DateFilter{ReviewState: "accepted", Text: "X-"}); len(p) != 2 {
+		t.Fatalf("after the curator's accept %d accepted, want 2", len(p))
+	}
+	// The import cannot be undone over the acceptance; the acceptance is undone first.
+	if s, body, _ := do(t, curator, http.MethodPost, srv.URL+"/changes/"+batch+"/undo", url.Values{}); s != http.StatusConflict || !strings.Contains(body, "changed after change") {
+		t.Fatalf("undo of the import over its acceptance: %d, want 409 naming the later change", s)
+	}
+	accepts, _, _ := db.Batches(ctx, store.BatchFilter{Kind: "accept change"})
+	if len(accepts) != 1 {
+		t.Fatalf("%d accept changes, want 1", len(accepts))
+	}
+	if s, _, _ := do(t, curator, http.MethodPost, fmt.Sprintf("%s/changes/%d/undo", srv.URL, accepts[0].ID), url.Values{}); s != http.StatusSeeOther {
+		t.Fatalf("undo of the acceptance: %d", s)
 	}
 	if s, _, _ := do(t, curator, http.MethodPost, srv.URL+"/changes/"+batch+"/undo", url.Values{}); s != http.StatusSeeOther {
 		t.Fatalf("undo: %d", s)

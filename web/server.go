@@ -81,6 +81,8 @@ type Store interface {
 	PreviewUpload(ctx context.Context, u store.Upload) (store.Preview, error)
 	CommitUpload(ctx context.Context, u store.Upload) (store.ImportResult, error)
 	UndoBatch(ctx context.Context, batchID int64) (int, error)
+	AcceptBatch(ctx context.Context, batchID int64) (int, []string, error)
+	PendingInBatch(ctx context.Context, batchID int64) (int, error)
 	Batches(ctx context.Context, f store.BatchFilter) ([]store.BatchRow, int, error)
 	CreateUser(ctx context.Context, name, role, password string) (store.User, error)
 	Users(ctx context.Context) ([]store.User, error)

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -23,6 +24,7 @@ func (s *Server) registerUploadRoutes(r chi.Router) {
 		r.Post("/import/{id}/commit", s.handle(s.handleUploadCommit))
 	})
 	r.With(s.requireRole(store.RoleCurator)).Post("/changes/{id}/undo", s.handle(s.handleBatchUndo))
+	r.With(s.requireRole(store.RoleCurator)).Post("/changes/{id}/accept", s.handle(s.handleBatchAccept))
 	r.Get("/changes", s.handle(s.handleChangeList))
 }
 
@@ -99,7 +101,7 @@ func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) err
 	if err != nil {
 		return err
 	}
-	pv, err := s.store.PreviewUpload(ctx, up)
+	pv, err := s.store.PreviewUpload(uploadCtx(r), up)
 	if err != nil {
 		return err
 	}
@@ -193,6 +195,15 @@ func addedText(res store.ImportResult) string {
 	return out
 }
 
+// uploadCtx is the context an upload is previewed and imported in: a contributor's dates and events
+// arrive pending review, as from the forms; a curator's keep the file's review_state (accepted when absent).
+func uploadCtx(r *http.Request) context.Context {
+	if isCurator(r) {
+		return r.Context()
+	}
+	return store.AsContribution(r.Context())
+}
+
 func (s *Server) handleUploadCommit(w http.ResponseWriter, r *http.Request) error {
 	r = actingCtx(r)
 	ctx := r.Context()
@@ -207,7 +218,7 @@ func (s *Server) handleUploadCommit(w http.ResponseWriter, r *http.Request) erro
 	if u, _ := currentUser(ctx); u.ID != up.UserID {
 		return forbidden{"This upload belongs to another account."}
 	}
-	res, err := s.store.CommitUpload(ctx, up)
+	res, err := s.store.CommitUpload(uploadCtx(r), up)
 	if errors.Is(err, store.ErrConflict) {
 		return conflictError{"This file was already imported."}
 	}
@@ -220,7 +231,27 @@ func (s *Server) handleUploadCommit(w http.ResponseWriter, r *http.Request) erro
 	if err != nil {
 		return err
 	}
-	http.Redirect(w, r, fmt.Sprintf("/changes?batch=%d", res.BatchID), http.StatusSeeOther)
+	http.Redirect(w, r, fmt.Sprintf("/changes/%d", res.BatchID), http.StatusSeeOther)
+	return nil
+}
+
+// handleBatchAccept accepts, as one change, the pending dates and events a change added (an upload's rows).
+func (s *Server) handleBatchAccept(w http.ResponseWriter, r *http.Request) error {
+	r = actingCtx(r)
+	id, err := pathID(r, "id")
+	if err != nil {
+		return err
+	}
+	// Records changed since the upload stay pending (AcceptBatch leaves them); the change's page, shown
+	// next, still counts them and they are reviewed one by one from their own pages.
+	_, _, err = s.store.AcceptBatch(r.Context(), id)
+	if ve, ok := store.AsValidation(err); ok {
+		return conflictError{joinSemi(problemTexts(ve.Problems))}
+	}
+	if err != nil {
+		return err
+	}
+	http.Redirect(w, r, fmt.Sprintf("/changes/%d", id), http.StatusSeeOther)
 	return nil
 }
 
@@ -268,7 +299,7 @@ func (s *Server) handleChangeList(w http.ResponseWriter, r *http.Request) error 
 	t := views.Table{ID: "changes", Columns: []views.Column{{Label: "Change", Num: true}, {Label: "When"}, {Label: "Who"},
 		{Label: "What"}, {Label: "Source"}, {Label: "Records", Num: true}, {Label: "Summary"}}, Empty: "No change matches."}
 	for _, b := range rows {
-		t.Rows = append(t.Rows, []views.Cell{{Text: strconv.FormatInt(b.ID, 10), Num: true}, {Text: when(b.At)},
+		t.Rows = append(t.Rows, []views.Cell{{Text: strconv.FormatInt(b.ID, 10), Num: true, URL: fmt.Sprintf("/changes/%d", b.ID)}, {Text: when(b.At)},
 			{Text: orDash(b.User)}, {Text: b.Kind}, {Text: b.Source}, {Text: strconv.Itoa(b.Revisions), Num: true}, {Text: b.Summary}})
 	}
 	l := views.List{Page: s.page(ctx, "Changes", ""), Table: t}
@@ -279,9 +310,6 @@ func (s *Server) handleChangeList(w http.ResponseWriter, r *http.Request) error 
 		{Name: "user", Label: "Who", Kind: "text", Value: f.User, Placeholder: "account name"},
 	}}
 	l.Pager = pagerFor(r, total, page, per, len(rows))
-	if bid := p.str("batch"); bid != "" {
-		l.Intro = "Change " + bid + " was recorded. " + l.Intro
-	}
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
 }
