@@ -1,13 +1,16 @@
 package web
 
 import (
+	"cmp"
 	"encoding/csv"
+	"encoding/json"
 	"fmt"
 	"io"
 	"net/http"
 	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 
 	"github.com/go-chi/chi/v5"
 
@@ -61,7 +64,7 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 		{Label: "What", Value: revs[0].Kind}, {Label: "Source", Value: orDash(revs[0].Source)},
 		{Label: "Records", Value: strconv.Itoa(len(revs))},
 	}}}
-	t := views.Table{ID: "records", Columns: []views.Column{{Label: "Record"}, {Label: "Number", Num: true}, {Label: "Change"}}}
+	t := views.Table{ID: "records", Columns: []views.Column{{Label: "Record"}, {Label: "Number", Num: true}, {Label: "Which"}, {Label: "Change"}}}
 	for _, rev := range revs {
 		what := "changed"
 		switch {
@@ -71,10 +74,14 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 			what = "removed"
 		}
 		c := views.Cell{Text: strconv.FormatInt(rev.RecordID, 10), Num: true}
-		if rev.RecordType == "date" {
-			c.URL = fmt.Sprintf("/dates/%d/history", rev.RecordID)
+		if store.Restorable(rev.RecordType) {
+			c.URL = historyURL(rev.RecordType, rev.RecordID)
 		}
-		t.Rows = append(t.Rows, []views.Cell{{Text: rev.RecordType}, c, {Text: what}})
+		state := rev.After
+		if state == nil {
+			state = rev.Before
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: strings.ReplaceAll(rev.RecordType, "_", " ")}, c, {Text: recordName(state)}, {Text: what}})
 	}
 	v.Tables = []views.Table{t}
 	pending, err := s.store.PendingInBatch(ctx, id)
@@ -92,6 +99,18 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 	}
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
+}
+
+// recordName is how a stored state names its record: a date's sample code, else its name.
+func recordName(state json.RawMessage) string {
+	var v struct {
+		SampleCode string `json:"sample_code"`
+		Name       string `json:"name"`
+	}
+	if json.Unmarshal(state, &v) != nil {
+		return "—"
+	}
+	return orDash(cmp.Or(v.SampleCode, v.Name))
 }
 
 func (s *Server) accountView(r *http.Request, newToken string, errs []string) (views.Edit, error) {

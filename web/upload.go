@@ -7,6 +7,7 @@ import (
 	"io"
 	"net/http"
 	"strconv"
+	"strings"
 
 	"github.com/go-chi/chi/v5"
 
@@ -142,7 +143,11 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 		v.Notes = append(v.Notes, "Note: "+n)
 	}
 	t := views.Table{ID: "preview", Caption: fmt.Sprintf("Rows of %s (%s)", pv.Upload.FileName, pv.Upload.Kind)}
-	t.Columns = []views.Column{{Label: "Line", Num: true}, {Label: "Problems"}}
+	lineLabel := "Line"
+	if strings.HasSuffix(strings.ToLower(pv.Upload.FileName), ".xlsx") {
+		lineLabel = "Row" // the conversion keeps row N of the sheet on line N
+	}
+	t.Columns = []views.Column{{Label: lineLabel, Num: true}, {Label: "Problems"}}
 	for _, h := range pv.Header {
 		t.Columns = append(t.Columns, views.Column{Label: h})
 	}
