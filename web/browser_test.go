@@ -490,4 +490,29 @@ func TestBrowserUpload(t *testing.T) {
 	if after, _ := db.Counts(context.Background()); after != before {
 		t.Error("a previewed bad file changed the compilation")
 	}
+	// The fixed file is imported; a contributor's dates wait for a curator, and the change says so.
+	os.WriteFile(file, []byte("province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\n"+
+		"Hvarn Plateau Basalts (invented),Haldruna Flow,UP-1,upb_idtims,eruption,155.37,0.06,2\n"+
+		"Hvarn Plateau Basalts (invented),Haldruna Flow,UP-2,upb_idtims,eruption,155.41,0.06,2\n"), 0o644)
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/import"),
+		chromedp.SetValue(chromedp.CSS(`select[name="kind"]`), "dates"),
+		chromedp.SetUploadFiles(chromedp.CSS(`input[name="file"]`), []string{file}),
+		chromedp.Click(chromedp.CSS(`form.edit button`)),
+		chromedp.WaitVisible(chromedp.CSS(`#preview`))); err != nil {
+		t.Fatal(err)
+	}
+	if body := text(t, ctx, "main"); !strings.Contains(body, "arrive pending a curator's review") {
+		t.Errorf("the preview of a contributor's file does not say its dates arrive pending: %.500q", body)
+	}
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`form[action*="/commit"] button`))); err != nil {
+		t.Fatal(err)
+	}
+	waitPath(t, ctx, "/changes/")
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS(`#records`))); err != nil {
+		t.Fatal(err)
+	}
+	if body := text(t, ctx, "main"); !strings.Contains(body, "2 record(s) this change added wait for a curator's review") {
+		t.Errorf("the change page of a contributor's import reads %.500q", body)
+	}
+	shoot(t, ctx, dir, "imported-pending")
 }
