@@ -28,9 +28,12 @@ type AnomalyDecision struct {
 	EventID   *int64 `json:"event_id"`
 	EventName string `json:"event_name"`
 	Reason    string `json:"reason"`
+	UserID    *int64 `json:"user_id"`
 	User      string `json:"user"`
 	Version   int    `json:"version"`
 	CreatedAt string `json:"created_at"`
+	// ChangeID is the change that took the decision; undoing it withdraws the decision.
+	ChangeID int64 `json:"-"`
 }
 
 // AnomalyDecisionStates lists the decisions a curator can take on a detected anomaly.
@@ -42,14 +45,35 @@ func AnomalyDecisionStates() []Term {
 var ErrDecided = errors.New("the anomaly has already been decided")
 
 const anomalyDecisionSelect = `SELECT a.id, a.section_id, a.series, a.base_height_m, a.top_height_m, a.settings, a.decision,
-	a.event_id, coalesce(e.name, ''), a.reason, coalesce(u.name, ''), a.version, a.created_at
+	a.event_id, coalesce(e.name, ''), a.reason, a.user_id, coalesce(u.name, ''), a.version, a.created_at,
+	coalesce((SELECT min(r.batch_id) FROM revisions r WHERE r.record_type = 'anomaly_decision' AND r.record_id = a.id AND r.before_json IS NULL), 0)
 	FROM anomaly_decisions a LEFT JOIN events e ON e.id = a.event_id LEFT JOIN users u ON u.id = a.user_id`
 
 func scanAnomalyDecision(r interface{ Scan(...any) error }) (AnomalyDecision, error) {
 	var a AnomalyDecision
 	err := r.Scan(&a.ID, &a.SectionID, &a.Series, &a.BaseHeightM, &a.TopHeightM, &a.Settings, &a.Decision, &a.EventID,
-		&a.EventName, &a.Reason, &a.User, &a.Version, &a.CreatedAt)
+		&a.EventName, &a.Reason, &a.UserID, &a.User, &a.Version, &a.CreatedAt, &a.ChangeID)
 	return a, err
+}
+
+// anomalyDecisionType lets a decision be restored and its change undone (which withdraws it).
+func anomalyDecisionType() recordType[AnomalyDecision] {
+	return recordType[AnomalyDecision]{
+		name:  "anomaly_decision",
+		table: "anomaly_decisions",
+		cols:  []string{"section_id", "series", "base_height_m", "top_height_m", "settings", "decision", "event_id", "reason", "user_id"},
+		vals: func(a AnomalyDecision) []any {
+			return []any{a.SectionID, a.Series, a.BaseHeightM, a.TopHeightM, a.Settings, a.Decision, a.EventID, a.Reason, a.UserID}
+		},
+		meta: func(a AnomalyDecision) (int64, int, string) { return a.ID, a.Version, a.CreatedAt },
+		label: func(a AnomalyDecision) string {
+			return fmt.Sprintf("the decision on the %s anomaly %s–%s m", a.Series, formatNumber(a.BaseHeightM), formatNumber(a.TopHeightM))
+		},
+		load: func(ctx context.Context, tx *sql.Tx, id int64) (AnomalyDecision, error) {
+			a, err := scanAnomalyDecision(tx.QueryRowContext(ctx, anomalyDecisionSelect+` WHERE a.id = ?`, id))
+			return a, notFound(err, "anomaly decision", id)
+		},
+	}
 }
 
 // AnomalyDecisions returns the decisions on the anomalies of a section, lowest first.
@@ -95,7 +119,11 @@ func (d *DB) decide(ctx context.Context, tx *sql.Tx, batch int64, k AnomalyKey, 
 	if err != nil {
 		return AnomalyDecision{}, err
 	}
-	return a, addRevision(ctx, tx, batch, "anomaly_decision", id, nil, a)
+	if err := addRevision(ctx, tx, batch, "anomaly_decision", id, nil, a); err != nil {
+		return a, err
+	}
+	a.ChangeID = batch
+	return a, nil
 }
 
 func sectionName(ctx context.Context, tx *sql.Tx, id int64) (string, error) {

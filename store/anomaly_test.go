@@ -130,3 +130,38 @@ func TestAnomalyDecisions(t *testing.T) {
 		t.Errorf("event batch revisions %+v", first)
 	}
 }
+
+// A decision is withdrawn by undoing its change: a rejection goes, and so do an event made from an
+// anomaly and its decision together; the anomaly can then be decided again.
+func TestAnomalyDecisionWithdrawnByUndo(t *testing.T) {
+	db, sid := sectionForEvents(t)
+	ctx := context.Background()
+	before, _ := db.Counts(ctx)
+	k := AnomalyKey{SectionID: sid, Series: "Hg/TOC", BaseHeightM: 20.25, TopHeightM: 23.75, Settings: "host=toc&z_min=3.5"}
+	dec, err := db.RejectAnomaly(ctx, k, "raw Hg follows TOC")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if dec.ChangeID == 0 {
+		t.Fatal("a decision does not know the change that took it")
+	}
+	if n, err := db.UndoBatch(ctx, dec.ChangeID); err != nil || n != 1 {
+		t.Fatalf("undo the rejection: %d (%v), want 1", n, err)
+	}
+	if ds, _ := db.AnomalyDecisions(ctx, sid); len(ds) != 0 {
+		t.Fatalf("after undoing the rejection %d decisions remain", len(ds))
+	}
+	_, dec, err = db.AnomalyToEvent(ctx, k, "Hg anomaly A", "")
+	if err != nil {
+		t.Fatalf("deciding again after the withdrawal: %v", err)
+	}
+	if n, err := db.UndoBatch(ctx, dec.ChangeID); err != nil || n != 2 {
+		t.Fatalf("undo the event made from the anomaly: %d (%v), want 2 (the decision and the event)", n, err)
+	}
+	if ds, _ := db.AnomalyDecisions(ctx, sid); len(ds) != 0 {
+		t.Errorf("after the undo %d decisions remain", len(ds))
+	}
+	if after, _ := db.Counts(ctx); after != before {
+		t.Errorf("after both undos %+v, want %+v", after, before)
+	}
+}

@@ -110,7 +110,7 @@ func (d *DB) leftAsIs(ctx context.Context, tx *sql.Tx, rev Revision) (bool, erro
 	return sameContent(now, rev.After)
 }
 
-// sameContent compares two stored states, leaving out what every write changes and the names and ids
+// sameContent compares two stored states, leaving out version and time stamps and the names and ids
 // joined in from the records a record belongs to (its own unit_id and section_id are compared).
 func sameContent(a, b []byte) (bool, error) {
 	var x, y map[string]any
@@ -121,7 +121,7 @@ func sameContent(a, b []byte) (bool, error) {
 		return false, err
 	}
 	for _, m := range []map[string]any{x, y} {
-		for _, k := range []string{"version", "updated_at", "province_id", "province", "unit", "section"} {
+		for _, k := range []string{"version", "created_at", "updated_at", "province_id", "province", "unit", "section"} {
 			delete(m, k)
 		}
 	}

@@ -258,7 +258,7 @@ func (rt recordType[T]) state(ctx context.Context, tx *sql.Tx, id int64) (any, e
 // reverters gives the record types RevertRevision handles besides dates.
 func reverters() map[string]reverter {
 	return map[string]reverter{"province": provinceType(), "unit": unitType(), "section": sectionType(),
-		"tie_point": tieType(), "event": eventType()}
+		"tie_point": tieType(), "event": eventType(), "anomaly_decision": anomalyDecisionType()}
 }
 
 // Restorable reports whether RevertRevision can restore records of recordType.

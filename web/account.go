@@ -74,9 +74,7 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 			what = "removed"
 		}
 		c := views.Cell{Text: strconv.FormatInt(rev.RecordID, 10), Num: true}
-		if store.Restorable(rev.RecordType) {
-			c.URL = historyURL(rev.RecordType, rev.RecordID)
-		}
+		c.URL = historyURL(rev.RecordType, rev.RecordID)
 		state := rev.After
 		if state == nil {
 			state = rev.Before

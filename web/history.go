@@ -1,6 +1,7 @@
 package web
 
 import (
+	"cmp"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -102,6 +103,6 @@ func (s *Server) handleRevisionRevert(w http.ResponseWriter, r *http.Request) er
 	if err := refusal(strings.ReplaceAll(rev.RecordType, "_", " "), "restored", err); err != nil {
 		return err
 	}
-	http.Redirect(w, r, historyURL(rev.RecordType, rev.RecordID), http.StatusSeeOther)
+	http.Redirect(w, r, cmp.Or(historyURL(rev.RecordType, rev.RecordID), "/changes"), http.StatusSeeOther)
 	return nil
 }

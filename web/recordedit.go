@@ -349,10 +349,14 @@ func revisionForm(e recordEdit, raw json.RawMessage) (store.Form, error) {
 	return f, nil
 }
 
-// historyURL is the history page of a record of any type.
+// historyURL is the history page of a record, or "" for records without one (anomaly decisions are
+// shown on their section's page and in the feed of changes).
 func historyURL(recordType string, id int64) string {
 	paths := map[string]string{"date": "/dates", "province": "/provinces", "unit": "/units", "section": "/sections",
 		"tie_point": "/ties", "event": "/events"}
+	if paths[recordType] == "" {
+		return ""
+	}
 	return fmt.Sprintf("%s/%d/history", paths[recordType], id)
 }
 

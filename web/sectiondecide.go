@@ -110,7 +110,7 @@ func (a *sectionAnalysis) decisionColumn(b *views.Block, ds []store.AnomalyDecis
 func decisionTable(ds []store.AnomalyDecision, current string) views.Table {
 	t := views.Table{ID: "anomaly-decisions", Caption: "Curators' decisions on anomalies of this section", Columns: []views.Column{
 		{Label: "Series"}, {Label: "Base", Unit: "m", Num: true}, {Label: "Top", Unit: "m", Num: true}, {Label: "Decision"},
-		{Label: "By"}, {Label: "When"}, {Label: "Settings that found it"}}}
+		{Label: "By"}, {Label: "When"}, {Label: "Settings that found it"}, {Label: "Change", Title: "the change that took the decision; a curator withdraws the decision by undoing it"}}}
 	for _, d := range ds {
 		dec := views.Cell{Text: "made the event “" + d.EventName + "”"}
 		if d.Decision == "rejected" {
@@ -121,10 +121,19 @@ func decisionTable(ds []store.AnomalyDecision, current string) views.Table {
 			set.Text += " (as on this page)"
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: d.Series}, {Text: num(d.BaseHeightM), Num: true}, {Text: num(d.TopHeightM), Num: true},
-			dec, {Text: orDash(d.User)}, {Text: d.CreatedAt}, set})
+			dec, {Text: orDash(d.User)}, {Text: d.CreatedAt}, set, changeCell(d.ChangeID)})
 	}
-	t.Notes = []string{"An anomaly found with other settings (another host, threshold, baseline, z or run length) is another finding; its decision is listed here and not in the table above."}
+	t.Notes = []string{"A curator withdraws a decision by undoing its change (follow its number); an event made from the anomaly goes with it, unless something was changed since.",
+		"An anomaly found with other settings (another host, threshold, baseline, z or run length) is another finding; its decision is listed here and not in the table above."}
 	return t
+}
+
+// changeCell links to a change by its number.
+func changeCell(id int64) views.Cell {
+	if id == 0 {
+		return views.Cell{Text: "—"}
+	}
+	return views.Cell{Text: strconv.FormatInt(id, 10), Num: true, URL: fmt.Sprintf("/changes/%d", id)}
 }
 
 // defaultAnomalyEventName names the event an anomaly becomes, unique enough within a section.

@@ -2,6 +2,8 @@ package web
 
 import (
 	"context"
+	"encoding/csv"
+	"fmt"
 	"net/http"
 	"net/url"
 	"regexp"
@@ -113,6 +115,37 @@ func TestCuratorDecidesOnAnomalies(t *testing.T) {
 	batches, _ := db.LatestBatches(ctx, 2)
 	if batches[0].Kind != "reject anomaly" || batches[1].Kind != "anomaly to event" {
 		t.Errorf("latest batches %+v", batches)
+	}
+	// The anomalies download carries the decision beside each anomaly.
+	_, csvBody, _ := do(t, client(t), http.MethodGet, srv.URL+sec+"/anomalies?format=csv", nil)
+	recs, err := csv.NewReader(strings.NewReader(csvBody)).ReadAll()
+	if err != nil || len(recs) < 2 {
+		t.Fatalf("anomalies CSV: %v\n%s", err, csvBody)
+	}
+	col := map[string]int{}
+	for i, h := range recs[0] {
+		col[h] = i
+	}
+	var decided bool
+	for _, rec := range recs[1:] {
+		if rec[col["decision"]] == "event" && rec[col["decision_detail"]] == "Hg anomaly X" && rec[col["decided_by"]] == "demo-curator" {
+			decided = true
+		}
+	}
+	if !decided {
+		t.Errorf("the anomalies CSV does not carry the decision:\n%s", csvBody)
+	}
+	// Withdrawing the event decision: the curator undoes its change; the event and the decision go, and
+	// the anomaly is open again.
+	if status, body, _ := do(t, curator, http.MethodPost, fmt.Sprintf("%s/changes/%d/undo", srv.URL, batches[1].ID), url.Values{}); status != http.StatusSeeOther {
+		t.Fatalf("undo of the decision's change: %d\n%.500s", status, body)
+	}
+	if evs, _ := db.Events(ctx, 0); len(evs) != len(events) {
+		t.Errorf("after withdrawing, %d events, want %d", len(evs), len(events))
+	}
+	_, page, _ = do(t, curator, http.MethodGet, srv.URL+sec, nil)
+	if strings.Contains(page, "Hg anomaly X") || !strings.Contains(page, `id="anomaly-1-event"`) {
+		t.Error("after withdrawing the decision, the anomaly is not open for a decision again")
 	}
 }
 

@@ -254,7 +254,8 @@ type sectionAnalysis struct {
 	Model      *ageModelResult
 	ModelNote  string // why there is no model
 	EventAges  []eventAge
-	OtherMatur []string // thermal maturities of the other sections that differ from this one
+	OtherMatur []string                // thermal maturities of the other sections that differ from this one
+	Decisions  []store.AnomalyDecision // curators' decisions on the section's anomalies, under any settings
 }
 
 // loadSectionAnalysis reads a section's data and analyses it with the options.
@@ -285,6 +286,9 @@ func (s *Server) loadSectionAnalysis(ctx context.Context, sec store.Section, o s
 	}
 	a, err := analyseSection(sec, samples, ties, inputs, events, hiatuses, o)
 	if err != nil {
+		return nil, err
+	}
+	if a.Decisions, err = s.store.AnomalyDecisions(ctx, sec.ID); err != nil {
 		return nil, err
 	}
 	for _, other := range all {

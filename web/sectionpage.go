@@ -1,6 +1,7 @@
 package web
 
 import (
+	"cmp"
 	"encoding/csv"
 	"fmt"
 	"io"
@@ -130,10 +131,7 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 		"Crosses in the ratio panel's left strip: samples whose ratio is not evaluable (kept, not dropped). Triangles on each panel's left edge: tie points."
 	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, base+"/figure.svg", "format", "")},
 		{Label: "(PNG)", URL: withPath(r, base+"/figure.png", "format", "")}, {Label: "(PDF, text in ASCII)", URL: withPath(r, base+"/figure.pdf", "format", "")}}
-	decisions, err := s.store.AnomalyDecisions(ctx, sec.ID)
-	if err != nil {
-		return views.SectionView{}, err
-	}
+	decisions := a.Decisions
 	ab := a.anomalyBlock(r, base)
 	a.decisionColumn(&ab, decisions)
 	ab.Forms = a.anomalyForms(r, base, decisions, fs)
@@ -525,7 +523,7 @@ func (a *sectionAnalysis) hostJSON() map[string]any {
 var anomalyColumns = []string{"anomaly", "origin", "series", "host", "base_height_m", "top_height_m", "peak_height_m", "peak_value",
 	"peak_unit", "multiple_of_background_median", "robust_z_log10", "n_samples", "raw_hg_rises", "raw_hg_multiple_of_background_median",
 	"raw_hg_share_of_ratio_rise", "host_residual_samples", "caution", "reading", "age_model", "seed", "draws", "age_median_ma",
-	"age_lo95_ma", "age_hi95_ma"}
+	"age_lo95_ma", "age_hi95_ma", "decision", "decision_detail", "decided_by", "decided_at_utc"}
 
 func (a *sectionAnalysis) anomalyRecords() [][]string {
 	var out [][]string
@@ -538,6 +536,11 @@ func (a *sectionAnalysis) anomalyRecords() [][]string {
 			csvF(an.A.PeakHeightM), csvF(an.A.PeakValue), an.Unit, csvF(an.A.MultipleOfBackground), csvF(an.A.RobustZ), itoa(an.A.N),
 			strconv.FormatBool(an.RawRises), csvF(an.RawMult), csvF(an.RawShare), itoa(an.NExcess), strconv.FormatBool(an.Caution), an.Verdict,
 			a.modelCode(), strconv.FormatUint(a.Opt.Seed, 10), itoa(a.Opt.Draws), csvF(age.Median), csvF(age.Lo95), csvF(age.Hi95)})
+		dec := []string{"open", "", "", ""}
+		if d, ok := a.decisionFor(an, a.Decisions); ok {
+			dec = []string{d.Decision, cmp.Or(d.EventName, d.Reason), d.User, d.CreatedAt}
+		}
+		out[len(out)-1] = append(out[len(out)-1], dec...)
 	}
 	return out
 }
@@ -708,7 +711,11 @@ func (s *Server) handleSectionRatios(w http.ResponseWriter, r *http.Request) err
 
 func (s *Server) handleSectionAnomalies(w http.ResponseWriter, r *http.Request) error {
 	return s.tablePage(w, r, "anomalies", "Anomalies", func(*sectionAnalysis) []string { return anomalyColumns }, (*sectionAnalysis).anomalyRecords,
-		func(a *sectionAnalysis) views.Table { return a.anomalyBlock(r, "").Tables[0] },
+		func(a *sectionAnalysis) views.Table {
+			b := a.anomalyBlock(r, "")
+			a.decisionColumn(&b, a.Decisions)
+			return b.Tables[0]
+		},
 		func(a *sectionAnalysis) string { return strings.Join(a.anomalyBlock(r, "").Paras, " ") })
 }
 
