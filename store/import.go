@@ -20,14 +20,24 @@ type ImportResult struct {
 	Notes   []string       `json:"notes,omitempty"`
 }
 
+var singular = map[string]string{"provinces": "province", "units": "unit", "sections": "section", "dates": "date",
+	"samples": "sample", "measurements": "measurement", "tie points": "tie point", "events": "event"}
+
 func (r ImportResult) String() string {
 	var parts []string
 	for _, k := range []string{"provinces", "units", "sections", "dates", "samples", "measurements", "tie points", "events"} {
-		if n := r.Added[k]; n > 0 {
+		switch n := r.Added[k]; {
+		case n == 1:
+			parts = append(parts, "1 "+singular[k])
+		case n > 1:
 			parts = append(parts, fmt.Sprintf("%d %s", n, k))
 		}
 	}
-	s := fmt.Sprintf("%s: imported %d rows (%s)", r.File, r.Rows, strings.Join(parts, ", "))
+	rows := "rows"
+	if r.Rows == 1 {
+		rows = "row"
+	}
+	s := fmt.Sprintf("%s: imported %d %s (%s)", r.File, r.Rows, rows, strings.Join(parts, ", "))
 	for _, n := range r.Notes {
 		s += "\n  " + n
 	}
