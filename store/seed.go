@@ -48,13 +48,29 @@ func (d *DB) ImportReader(ctx context.Context, kind, section, file string, r io.
 	return ImportResult{}, fmt.Errorf("import: unknown kind %q", kind)
 }
 
+// settingDemoSeeding marks a demo seeding under way: set before the first file, cleared after the demo
+// label. The files are imported one by one, each all-or-nothing, so a seeding stopped midway (killed, or
+// the server stopped with Ctrl-C while it seeded) leaves some of them; the mark makes the next start
+// finish it instead of serving half a scenario without its label and accounts.
+const settingDemoSeeding = "demo_seeding"
+
 // SeedDemo imports the demo scenario in fsys (manifest.csv: kind, section, file, in order) through the
-// ordinary importers, when the compilation is empty. It reports whether it seeded. Each file is its own
-// all-or-nothing import; the demo files are tested, so a failure here is a bug.
+// ordinary importers, when the compilation is empty, or finishes a seeding that was stopped midway
+// (skipping the files whose import is recorded and the accounts that exist). It reports whether it
+// seeded. Each file is its own all-or-nothing import; the demo files are tested, so a failure here is a bug.
 func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []ImportResult, error) {
-	empty, err := d.IsEmpty(ctx)
-	if err != nil || !empty {
+	resume, err := d.Setting(ctx, settingDemoSeeding)
+	if err != nil {
 		return false, nil, err
+	}
+	if resume == "" {
+		empty, err := d.IsEmpty(ctx)
+		if err != nil || !empty {
+			return false, nil, err
+		}
+		if err := d.SetSetting(ctx, settingDemoSeeding, "started"); err != nil {
+			return false, nil, fmt.Errorf("seed demo: %w", err)
+		}
 	}
 	mf, err := fsys.Open("manifest.csv")
 	if err != nil {
@@ -72,19 +88,44 @@ func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []Im
 	var results []ImportResult
 	for i := range t.rows {
 		rw := t.row(i)
-		res, err := d.Import(ctx, rw.str("kind"), rw.str("section"), fsys, rw.str("file"))
+		kind, file := rw.str("kind"), rw.str("file")
+		if resume != "" {
+			var done bool
+			err := d.db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM change_batches WHERE kind = ? AND source = ?)`,
+				"import "+kind, path.Base(file)).Scan(&done)
+			if err != nil {
+				return false, results, fmt.Errorf("seed demo: %w", err)
+			}
+			if done {
+				continue
+			}
+		}
+		res, err := d.Import(ctx, kind, rw.str("section"), fsys, file)
 		if err != nil {
 			return false, results, fmt.Errorf("seed demo: %w", err)
 		}
 		results = append(results, res)
 	}
 	for _, role := range Roles() {
-		if _, err := d.CreateUser(ctx, "demo-"+role, role, DemoPassword); err != nil {
+		name := "demo-" + role
+		if resume != "" {
+			var exists bool
+			if err := d.db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM users WHERE name = ?)`, name).Scan(&exists); err != nil {
+				return false, results, fmt.Errorf("seed demo users: %w", err)
+			}
+			if exists {
+				continue
+			}
+		}
+		if _, err := d.CreateUser(ctx, name, role, DemoPassword); err != nil {
 			return false, results, fmt.Errorf("seed demo users: %w", err)
 		}
 	}
 	if err := d.SetSetting(ctx, SettingDemo, label); err != nil {
 		return false, results, err
+	}
+	if _, err := d.db.ExecContext(ctx, `DELETE FROM settings WHERE key = ?`, settingDemoSeeding); err != nil {
+		return false, results, fmt.Errorf("seed demo: %w", err)
 	}
 	return true, results, nil
 }

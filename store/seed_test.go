@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"testing"
@@ -89,5 +90,62 @@ func TestSeedDemoOnceAndRoundTrip(t *testing.T) {
 		if !bytes.Equal(a, b) {
 			t.Errorf("%s differs after import → export → import", rec[2])
 		}
+	}
+}
+
+// cancelAt is the demo folder, cancelling a seeding's context when the importer opens one file: the
+// seeding stops there, as when the server is stopped (or killed) while it seeds.
+type cancelAt struct {
+	fs.FS
+	file   string
+	cancel context.CancelFunc
+}
+
+func (c cancelAt) Open(name string) (fs.File, error) {
+	if name == c.file {
+		c.cancel()
+	}
+	return c.FS.Open(name)
+}
+
+// A seeding stopped midway is finished by the next one: every file once, the accounts and the label, the
+// same records as a seeding that was never stopped.
+func TestSeedDemoStoppedMidwayIsFinishedNextTime(t *testing.T) {
+	demo := os.DirFS(filepath.Join("..", "testdata", "demo"))
+	whole := mustOpenDB(t)
+	if _, _, err := whole.SeedDemo(context.Background(), demo, "invented"); err != nil {
+		t.Fatal(err)
+	}
+	want, _ := whole.Counts(context.Background())
+	for _, stopAt := range []string{"provinces.csv", "dates.csv", "events-vedholmen.csv", "events-mornesk.csv"} {
+		t.Run(stopAt, func(t *testing.T) {
+			db := mustOpenDB(t)
+			ctx, cancel := context.WithCancel(context.Background())
+			if seeded, _, err := db.SeedDemo(ctx, cancelAt{demo, stopAt, cancel}, "invented"); err == nil || seeded {
+				t.Fatalf("stopped at %s: seeded %v, err %v; want the stop reported", stopAt, seeded, err)
+			}
+			seeded, _, err := db.SeedDemo(context.Background(), demo, "invented")
+			if err != nil || !seeded {
+				t.Fatalf("after the stop: seeded %v, err %v; want the seeding finished", seeded, err)
+			}
+			ctx = context.Background()
+			if got, _ := db.Counts(ctx); got != want {
+				t.Errorf("counts %+v, want those of a whole seeding %+v", got, want)
+			}
+			var imports, files int
+			db.SQL().QueryRowContext(ctx, `SELECT count(*), count(DISTINCT source) FROM change_batches WHERE kind LIKE 'import %'`).Scan(&imports, &files)
+			if imports != files || files != 13 {
+				t.Errorf("%d imports of %d files, want each of the 13 demo files once", imports, files)
+			}
+			if label, _ := db.Setting(ctx, SettingDemo); label != "invented" {
+				t.Errorf("demo label %q", label)
+			}
+			if _, err := db.Authenticate(ctx, "demo-admin", DemoPassword); err != nil {
+				t.Errorf("demo-admin cannot sign in: %v", err)
+			}
+			if again, _, err := db.SeedDemo(ctx, demo, "invented"); again || err != nil {
+				t.Errorf("a third seeding: seeded %v, err %v; want none", again, err)
+			}
+		})
 	}
 }

@@ -131,7 +131,11 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(middleware.RequestID)
 	r.Use(s.logRequests)
 	r.Use(securityHeaders)
-	r.Use(func(next http.Handler) http.Handler { return http.NewCrossOriginProtection().Handler(next) })
+	cop := http.NewCrossOriginProtection()
+	cop.SetDenyHandler(s.handle(func(http.ResponseWriter, *http.Request) error {
+		return forbidden{message: "This form was sent from another site, so it was refused. Open the page on this site and send the form from there."}
+	}))
+	r.Use(cop.Handler)
 	r.Use(s.sessions.LoadAndSave)
 	r.Use(s.identify)
 	r.Use(s.requireLoginSetting)
@@ -158,6 +162,9 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/calibrations", s.handle(s.handleCalibrationList))
 	r.NotFound(s.handle(func(w http.ResponseWriter, r *http.Request) error {
 		return notFoundError{what: "page " + r.URL.Path}
+	}))
+	r.MethodNotAllowed(s.handle(func(w http.ResponseWriter, r *http.Request) error {
+		return wrongMethod{method: r.Method}
 	}))
 	return r
 }
@@ -195,6 +202,11 @@ type notFoundError struct{ what string }
 
 func (e notFoundError) Error() string { return e.what + " not found" }
 
+// wrongMethod is a request with a method its address does not take (a POST to a page).
+type wrongMethod struct{ method string }
+
+func (e wrongMethod) Error() string { return e.method + " not allowed" }
+
 // handle adapts a handler that returns an error: user errors get their status and message, anything else
 // is logged once and shown as a generic 500 without its text.
 func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.HandlerFunc {
@@ -207,6 +219,7 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		var nf notFoundError
 		var fb forbidden
 		var ce conflictError
+		var wm wrongMethod
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
@@ -215,6 +228,9 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 			view.Status, view.Page.Title, view.Message = http.StatusConflict, "Changed meanwhile", ce.message
 		case errors.As(err, &fb):
 			view.Status, view.Page.Title, view.Message = http.StatusForbidden, "Not allowed", fb.message
+		case errors.As(err, &wm):
+			view.Status, view.Page.Title = http.StatusMethodNotAllowed, "Not this way"
+			view.Message = "This address does not take a " + wm.method + " request: open it as a page, or send the form on the page that leads here."
 		case errors.As(err, &nf):
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "There is no "+nf.what+"."
 		case errors.Is(err, store.ErrNotFound):
