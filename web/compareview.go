@@ -46,26 +46,47 @@ func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
 	if err := p.err(); err != nil {
 		return nil, false, err
 	}
-	stamp, err := c.store.DataStamp(ctx)
-	if err != nil {
-		return nil, false, err
+	// The data are read in many queries; a change committed between them would mix two states of the
+	// compilation. Every change moves the data stamp, so the load counts only when the stamp is the same
+	// before and after it; otherwise it is read again (and, should writes never pause, used uncached).
+	base := ch
+	for attempt := 1; ; attempt++ {
+		ch = base
+		stamp, err := c.store.DataStamp(ctx)
+		if err != nil {
+			return nil, false, err
+		}
+		key := ch.cacheKey(stamp)
+		if res, ok := c.cache.get(key); ok {
+			return res, true, nil
+		}
+		d, err := c.loadCompareData(ctx, &ch)
+		if err != nil {
+			return nil, false, err
+		}
+		after, err := c.store.DataStamp(ctx)
+		if err != nil {
+			return nil, false, err
+		}
+		if after != stamp && attempt < maxLoadAttempts {
+			continue
+		}
+		res, err := computeComparison(d, ch, stamp)
+		if err != nil {
+			return nil, false, err
+		}
+		res.At = time.Now().UTC().Format(time.RFC3339)
+		if after == stamp {
+			c.cache.put(key, res)
+		} else {
+			res.Cautions = append(res.Cautions, fmt.Sprintf("The compilation changed %d times while these data were read (data stamp %d → %d), so they may mix records from before and after a change: reload the page for numbers on one state.", maxLoadAttempts, stamp, after))
+		}
+		return res, false, nil
 	}
-	key := ch.cacheKey(stamp)
-	if res, ok := c.cache.get(key); ok {
-		return res, true, nil
-	}
-	d, err := c.loadCompareData(ctx, &ch)
-	if err != nil {
-		return nil, false, err
-	}
-	res, err := computeComparison(d, ch, stamp)
-	if err != nil {
-		return nil, false, err
-	}
-	res.At = time.Now().UTC().Format(time.RFC3339)
-	c.cache.put(key, res)
-	return res, false, nil
 }
+
+// maxLoadAttempts bounds how often a comparison's data are read again while changes keep arriving.
+const maxLoadAttempts = 5
 
 func (c *comparer) handleCompare(w http.ResponseWriter, r *http.Request) error {
 	res, cached, err := c.comparison(r)
