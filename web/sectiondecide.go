@@ -94,11 +94,11 @@ func (a *sectionAnalysis) decisionColumn(b *views.Block, ds []store.AnomalyDecis
 	t := &b.Tables[0]
 	t.Columns = append(t.Columns, views.Column{Label: "Decision", Title: "a curator's decision on the anomaly as found with these settings"})
 	for i, an := range a.Anomalies {
-		c := views.Cell{Text: "open", Class: "pending", Title: "no curator has decided on it yet"}
+		c := views.Cell{Text: "open", Class: "pending decision", Title: "no curator has decided on it yet"}
 		if d, ok := a.decisionFor(an, ds); ok {
-			c = views.Cell{Text: decisionText(d), Title: "decided " + d.CreatedAt}
+			c = views.Cell{Text: decisionText(d), Class: "decision", Title: "decided " + d.CreatedAt}
 			if d.Decision == "rejected" {
-				c.Class = "rejected"
+				c.Class = "rejected decision"
 			}
 		}
 		t.Rows[i] = append(t.Rows[i], c)

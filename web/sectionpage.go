@@ -316,9 +316,9 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 	}
 	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
 	t := views.Table{ID: "anomaly-table", Caption: "Detected anomalies", Empty: "No anomaly: no run of samples stands above the threshold.", Columns: []views.Column{
-		{Label: "No.", Num: true}, {Label: "Origin"}, {Label: "Series"}, {Label: "Base", Unit: "m", Num: true}, {Label: "Top", Unit: "m", Num: true},
+		{Label: "No.", Num: true}, {Label: "Series"}, {Label: "Interval", Unit: "m", Num: true},
 		{Label: "Peak", Unit: "value at height", Num: true}, {Label: "× background", Unit: "median", Num: true}, {Label: "Robust z", Unit: "log10, peak", Num: true},
-		{Label: "n", Unit: "samples", Num: true}, {Label: "Raw Hg", Unit: "× background"}, {Label: "Host residual", Unit: "samples"}, {Label: "Host"}, {Label: "Reading"},
+		{Label: "n", Unit: "samples", Num: true}, {Label: "Raw Hg", Unit: "× background"}, {Label: "Host residual", Unit: "samples, on " + a.Host.String()}, {Label: "Reading"},
 		{Label: "Model age", Unit: "Ma, median (95 %)", Num: true}}}
 	for _, an := range a.Anomalies {
 		raw := "rises (×" + fmtF(an.RawMult, 2) + ")"
@@ -333,11 +333,11 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 		if an.Caution {
 			reading.Class = "caution reading"
 		}
-		t.Rows = append(t.Rows, []views.Cell{{Text: itoa(an.Number), Num: true}, {Text: "detected"}, {Text: an.Series},
-			{Text: num(an.A.BaseHeightM), Num: true}, {Text: num(an.A.TopHeightM), Num: true},
+		t.Rows = append(t.Rows, []views.Cell{{Text: itoa(an.Number), Num: true}, {Text: an.Series},
+			{Text: num(an.A.BaseHeightM) + "–" + num(an.A.TopHeightM), Num: true},
 			{Text: fmtF(an.A.PeakValue, 1) + " " + an.Unit + " at " + num(an.A.PeakHeightM) + " m", Num: true},
 			{Text: fmtF(an.A.MultipleOfBackground, 2), Num: true}, {Text: fmtF(an.A.RobustZ, 1), Num: true}, {Text: itoa(an.A.N), Num: true},
-			{Text: raw}, {Text: fmt.Sprintf("%d of %d", an.NExcess, an.A.N)}, {Text: an.Host}, reading, {Text: age, Num: true}})
+			{Text: raw}, {Text: fmt.Sprintf("%d of %d", an.NExcess, an.A.N)}, reading, {Text: age, Num: true}})
 	}
 	b.Tables = []views.Table{t}
 	return b
