@@ -42,12 +42,12 @@ func (s *Server) tieEdit() recordEdit {
 			sec, err := s.sectionOfPath(r)
 			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2"}, sectionCrumbs(sec), err
 		},
-		create: func(r *http.Request, f store.Form, _ bool) (int64, error) {
+		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
 			id, err := pathID(r, "id")
 			if err != nil {
 				return 0, err
 			}
-			tp, err := s.store.CreateTie(r.Context(), id, f)
+			tp, err := s.store.CreateTie(r.Context(), id, f, curator)
 			return tp.ID, err
 		},
 		load: func(ctx context.Context, id int64) (stored, error) {
@@ -55,8 +55,8 @@ func (s *Server) tieEdit() recordEdit {
 			return stored{form: store.FormOfTie(tp), version: tp.Version, name: tp.Label,
 				crumbs: sectionCrumbs(store.Section{ID: tp.SectionID, Name: tp.Section})}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, _ bool) error {
-			_, err := s.store.UpdateTie(ctx, id, version, f)
+		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
+			_, err := s.store.UpdateTie(ctx, id, version, f, curator)
 			return err
 		},
 		remove:       s.store.DeleteTie,
