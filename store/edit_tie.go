@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"fmt"
 	"io"
+	"strings"
 )
 
 func tieType() recordType[TiePoint] {
@@ -12,10 +13,10 @@ func tieType() recordType[TiePoint] {
 		name:  "tie_point",
 		table: "tie_points",
 		cols: []string{"section_id", "label", "height_m", "kind", "distribution", "age_ma", "sigma_ma", "sigma_level",
-			"age_min_ma", "age_max_ma", "date_id", "notes"},
+			"age_min_ma", "age_max_ma", "date_id", "review_state", "review_note", "notes"},
 		vals: func(t TiePoint) []any {
 			return []any{t.SectionID, t.Label, t.HeightM, t.Kind, t.Distribution, t.AgeMa, t.SigmaMa, t.SigmaLevel,
-				t.AgeMinMa, t.AgeMaxMa, t.DateID, t.Notes}
+				t.AgeMinMa, t.AgeMaxMa, t.DateID, t.ReviewState, t.ReviewNote, t.Notes}
 		},
 		meta:  func(t TiePoint) (int64, int, string) { return t.ID, t.Version, t.CreatedAt },
 		label: func(t TiePoint) string { return fmt.Sprintf("tie point %q", t.Label) },
@@ -35,15 +36,20 @@ func (d *DB) TiePoint(ctx context.Context, id int64) (TiePoint, error) {
 }
 
 // FormOfTie gives the form cells of a stored tie point (the columns of the ties import format, σ at the
-// level it was published at).
+// level it was published at, and its review state).
 func FormOfTie(t TiePoint) Form {
 	return formOf(func(w io.Writer) error { return WriteTiesCSV(w, []TiePoint{t}) })
 }
 
-// parseTieForm checks a form with exactly the rules of the ties importer. Problems name fields.
-func parseTieForm(f Form) (TiePoint, []Problem) {
+// parseTieForm checks a form with exactly the rules of the ties importer, its review state included (a
+// contributor's tie is pending whatever the form says). Problems name fields.
+func parseTieForm(f Form, asCurator bool) (TiePoint, []Problem) {
 	rw, t := formRow(tieColumns, f)
-	return parseTieRow(rw), t.problems
+	tp := parseTieRow(rw)
+	if !asCurator {
+		tp.ReviewState = "pending"
+	}
+	return tp, t.problems
 }
 
 // resolveTie links the date a tie names (by sample code, and method when given) and checks that no other
@@ -64,9 +70,10 @@ func (d *DB) resolveTie(ctx context.Context, tx *sql.Tx, tp *TiePoint) ([]Proble
 	return append(ps, dup...), err
 }
 
-// CreateTie adds one tie point to section sectionID from a form, as the actor of ctx.
-func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form) (TiePoint, error) {
-	tp, problems := parseTieForm(f)
+// CreateTie adds one tie point to section sectionID from a form, as the actor of ctx. A contributor's tie
+// (asCurator false) starts pending; a curator's takes the form's review_state (accepted when empty).
+func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form, asCurator bool) (TiePoint, error) {
+	tp, problems := parseTieForm(f, asCurator)
 	var out TiePoint
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		sec, err := sectionInTx(ctx, tx, sectionID)
@@ -93,9 +100,10 @@ func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form) (TiePoint, 
 }
 
 // UpdateTie replaces tie point id with the form's values when the stored version is still version;
-// otherwise it returns ErrConflict and changes nothing. The tie stays in its section.
-func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form) (TiePoint, error) {
-	tp, problems := parseTieForm(f)
+// otherwise it returns ErrConflict and changes nothing. The tie stays in its section and keeps its review
+// note; a contributor's edit (asCurator false) makes it pending.
+func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form, asCurator bool) (TiePoint, error) {
+	tp, problems := parseTieForm(f, asCurator)
 	var out TiePoint
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := tieInTx(ctx, tx, id)
@@ -108,7 +116,7 @@ func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form) (TieP
 		if len(problems) > 0 {
 			return &ValidationError{problems}
 		}
-		tp.ID, tp.SectionID = id, before.SectionID
+		tp.ID, tp.SectionID, tp.ReviewNote = id, before.SectionID, before.ReviewNote
 		if ps, err := d.resolveTie(ctx, tx, &tp); err != nil || len(ps) > 0 {
 			return orProblems(err, ps)
 		}
@@ -120,6 +128,38 @@ func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form) (TieP
 			return err
 		}
 		return setBatchSummary(ctx, tx, batch, "edited tie point "+out.Label)
+	})
+	return out, err
+}
+
+// ReviewTie accepts or rejects tie point id (at version), as a curator; a rejection needs a reason, which
+// is kept as the review note (an acceptance's note is optional). It returns ErrConflict when the tie
+// changed since version.
+func (d *DB) ReviewTie(ctx context.Context, id int64, version int, accept bool, note string) (TiePoint, error) {
+	note = strings.TrimSpace(note)
+	if !accept && note == "" {
+		return TiePoint{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the tie point is rejected"}}}
+	}
+	var out TiePoint
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := tieInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		x := before
+		x.ReviewState, x.ReviewNote = "rejected", note
+		kind := "reject tie point"
+		if accept {
+			x.ReviewState, kind = "accepted", "accept tie point"
+		}
+		batch, err := d.newBatch(ctx, tx, kind, "review")
+		if err != nil {
+			return err
+		}
+		if out, err = tieType().update(ctx, d, tx, batch, id, version, x); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s %s of %s: %s", kind, before.Label, before.Section, orNone(note)))
 	})
 	return out, err
 }

@@ -81,7 +81,7 @@ func WriteDatesCSV(w io.Writer, ds []Date) error {
 	})
 }
 
-// WriteTiesCSV writes tie points in the ties import format.
+// WriteTiesCSV writes tie points in the ties import format, with their review state.
 func WriteTiesCSV(w io.Writer, ts []TiePoint) error {
 	return writeCSV(w, tieColumns, func(emit func([]string) error) error {
 		for _, t := range ts {
@@ -91,7 +91,7 @@ func WriteTiesCSV(w io.Writer, ts []TiePoint) error {
 				level = strconv.Itoa(*t.SigmaLevel)
 			}
 			if err := emit([]string{t.Label, formatNumber(t.HeightM), t.Kind, t.Distribution, formatOpt(t.AgeMa), sigma,
-				level, formatOpt(t.AgeMinMa), formatOpt(t.AgeMaxMa), t.DateSampleCode, t.DateMethod, t.Notes}); err != nil {
+				level, formatOpt(t.AgeMinMa), formatOpt(t.AgeMaxMa), t.DateSampleCode, t.DateMethod, t.ReviewState, t.Notes}); err != nil {
 				return err
 			}
 		}

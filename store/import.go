@@ -56,7 +56,7 @@ var (
 		"monitor_age_ma", "lambda_per_a", "laboratory", "citation", "doi", "latitude", "longitude",
 		"review_state", "notes"}
 	tieColumns = []string{"label", "height_m", "kind", "distribution", "age_ma", "sigma_ma", "sigma_level",
-		"age_min_ma", "age_max_ma", "date_sample_code", "date_method", "notes"}
+		"age_min_ma", "age_max_ma", "date_sample_code", "date_method", "review_state", "notes"}
 	eventColumns = []string{"name", "kind", "base_height_m", "top_height_m", "notes"}
 )
 
@@ -487,7 +487,8 @@ func sectionIDByName(ctx context.Context, tx *sql.Tx, name, file string) (int64,
 	return 0, &ValidationError{[]Problem{{File: file, Message: fmt.Sprintf("unknown section %q; import it with the sections file first (known sections: %s)", name, known)}}}
 }
 
-// ImportTies imports the tie points of one section.
+// ImportTies imports the tie points of one section. Their review_state (optional column) defaults to
+// accepted; a contribution (AsContribution) makes every one pending whatever the file says.
 func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) (ImportResult, error) {
 	var recs []TiePoint
 	return d.importFile(ctx, "ties", file, r, []string{"label", "height_m", "kind", "distribution"}, tieColumns,
@@ -505,6 +506,7 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 			if err != nil {
 				return err
 			}
+			pendingNote(ctx, res, len(recs), "tie points", func(i int) *string { return &recs[i].ReviewState })
 			for i := range recs {
 				tp := &recs[i]
 				rw := t.row(i)
@@ -529,9 +531,9 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 			now := d.stamp()
 			for _, tp := range recs {
 				r, err := tx.ExecContext(ctx, `INSERT INTO tie_points (section_id, label, height_m, kind, distribution,
-					age_ma, sigma_ma, sigma_level, age_min_ma, age_max_ma, date_id, notes, created_at, updated_at)
-					VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)`, sid, tp.Label, tp.HeightM, tp.Kind, tp.Distribution, tp.AgeMa,
-					tp.SigmaMa, tp.SigmaLevel, tp.AgeMinMa, tp.AgeMaxMa, tp.DateID, tp.Notes, now, now)
+					age_ma, sigma_ma, sigma_level, age_min_ma, age_max_ma, date_id, review_state, notes, created_at, updated_at)
+					VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`, sid, tp.Label, tp.HeightM, tp.Kind, tp.Distribution, tp.AgeMa,
+					tp.SigmaMa, tp.SigmaLevel, tp.AgeMinMa, tp.AgeMaxMa, tp.DateID, tp.ReviewState, tp.Notes, now, now)
 				if err != nil {
 					return fmt.Errorf("insert tie %q: %w", tp.Label, err)
 				}
@@ -687,7 +689,8 @@ func parseSectionRow(rw row) Section {
 func parseTieRow(rw row) TiePoint {
 	tp := TiePoint{Label: rw.requiredStr("label"), Kind: rw.enum("kind", codes(TieKinds()), ""),
 		Distribution:   rw.enum("distribution", []string{"normal", "uniform"}, ""),
-		DateSampleCode: rw.str("date_sample_code"), DateMethod: rw.str("date_method"), Notes: rw.str("notes")}
+		DateSampleCode: rw.str("date_sample_code"), DateMethod: rw.str("date_method"),
+		ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
 	if h, ok := rw.float("height_m"); ok {
 		tp.HeightM = h
 	}

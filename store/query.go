@@ -266,13 +266,14 @@ func (d *DB) Section(ctx context.Context, id int64) (Section, error) {
 
 const tieSelect = `SELECT t.id, t.section_id, s.name, t.label, t.height_m, t.kind, t.distribution, t.age_ma, t.sigma_ma,
 	t.sigma_level, t.age_min_ma, t.age_max_ma, t.date_id, coalesce(d.sample_code, ''), coalesce(d.method, ''),
-	t.notes, t.version, t.created_at, t.updated_at
+	t.review_state, t.review_note, t.notes, t.version, t.created_at, t.updated_at
 	FROM tie_points t JOIN sections s ON s.id = t.section_id LEFT JOIN dates d ON d.id = t.date_id`
 
 func scanTie(r interface{ Scan(...any) error }) (TiePoint, error) {
 	var t TiePoint
 	err := r.Scan(&t.ID, &t.SectionID, &t.Section, &t.Label, &t.HeightM, &t.Kind, &t.Distribution, &t.AgeMa,
-		&t.SigmaMa, &t.SigmaLevel, &t.AgeMinMa, &t.AgeMaxMa, &t.DateID, &t.DateSampleCode, &t.DateMethod, &t.Notes,
+		&t.SigmaMa, &t.SigmaLevel, &t.AgeMinMa, &t.AgeMaxMa, &t.DateID, &t.DateSampleCode, &t.DateMethod, &t.ReviewState,
+		&t.ReviewNote, &t.Notes,
 		&t.Version, &t.CreatedAt, &t.UpdatedAt)
 	return t, err
 }

@@ -133,7 +133,8 @@ type Sample struct {
 	Values  map[string]Measurement `json:"values"`
 }
 
-// TiePoint is a dated horizon of a section.
+// TiePoint is a dated horizon of a section. Like dates and events it is reviewed: a contributor's tie is
+// pending until a curator accepts it.
 type TiePoint struct {
 	ID             int64    `json:"id"`
 	SectionID      int64    `json:"section_id"`
@@ -150,6 +151,8 @@ type TiePoint struct {
 	DateID         *int64   `json:"date_id"`
 	DateSampleCode string   `json:"date_sample_code"`
 	DateMethod     string   `json:"date_method"`
+	ReviewState    string   `json:"review_state"` // pending, accepted, rejected: age models use accepted ties by default
+	ReviewNote     string   `json:"review_note"`
 	Notes          string   `json:"notes"`
 	Version        int      `json:"version"`
 	CreatedAt      string   `json:"created_at"`

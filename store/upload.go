@@ -27,8 +27,8 @@ func isDryRun(ctx context.Context) bool { v, _ := ctx.Value(dryRunKey{}).(bool);
 
 type contributionKey struct{}
 
-// AsContribution marks ctx as an import by someone who is not a curator: its dates and events arrive
-// pending review whatever the file's review_state column says, as they do from the forms.
+// AsContribution marks ctx as an import by someone who is not a curator: its dates, events and tie points
+// arrive pending review whatever the file's review_state column says, as they do from the forms.
 func AsContribution(ctx context.Context) context.Context {
 	return context.WithValue(ctx, contributionKey{}, true)
 }

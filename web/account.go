@@ -99,16 +99,18 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 	return nil
 }
 
-// recordName is how a stored state names its record: a date's sample code, else its name.
+// recordName is how a stored state names its record: a date's sample code, a tie point's label, else its
+// name.
 func recordName(state json.RawMessage) string {
 	var v struct {
 		SampleCode string `json:"sample_code"`
+		Label      string `json:"label"`
 		Name       string `json:"name"`
 	}
 	if json.Unmarshal(state, &v) != nil {
 		return "—"
 	}
-	return orDash(cmp.Or(v.SampleCode, v.Name))
+	return orDash(cmp.Or(v.SampleCode, v.Label, v.Name))
 }
 
 func (s *Server) accountView(r *http.Request, newToken string, errs []string) (views.Edit, error) {

@@ -145,6 +145,7 @@ var routeRoles = map[string]string{
 	"GET /ties/{id}/edit":                      store.RoleCurator,
 	"POST /ties/{id}/edit":                     store.RoleCurator,
 	"POST /ties/{id}/delete":                   store.RoleCurator,
+	"POST /ties/{id}/review":                   store.RoleCurator,
 	"GET /ties/{id}/history":                   "",
 	"GET /account":                             store.RoleReader,
 	"POST /account/tokens":                     store.RoleReader,

@@ -251,7 +251,8 @@ type compareData struct {
 	Dates     []store.Date
 	Sections  []store.Section
 	Samples   map[int64][]store.Sample
-	Ties      map[int64][]store.TiePoint
+	Ties      map[int64][]store.TiePoint // the ties the age models use: those include= lets in
+	TiesOut   map[int64][]store.TiePoint // the ties include= leaves out
 	Events    map[int64][]store.Event
 	Direct    []store.Event // events with a direct age and no section
 	Hiatuses  map[int64][]store.Hiatus
@@ -261,7 +262,7 @@ type compareData struct {
 }
 
 func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compareData, error) {
-	d := &compareData{Samples: map[int64][]store.Sample{}, Ties: map[int64][]store.TiePoint{}, Events: map[int64][]store.Event{},
+	d := &compareData{Samples: map[int64][]store.Sample{}, Ties: map[int64][]store.TiePoint{}, TiesOut: map[int64][]store.TiePoint{}, Events: map[int64][]store.Event{},
 		Hiatuses: map[int64][]store.Hiatus{}, TieIns: map[int64][]tieInput{}, LinkDates: map[int64]store.Date{}}
 	var err error
 	if d.Provinces, err = s.store.Provinces(ctx); err != nil {
@@ -307,8 +308,17 @@ func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compa
 		if d.Samples[sec.ID], _, err = s.store.Samples(ctx, sec.ID); err != nil {
 			return nil, err
 		}
-		if d.Ties[sec.ID], err = s.store.TiePoints(ctx, sec.ID); err != nil {
+		ties, err := s.store.TiePoints(ctx, sec.ID)
+		if err != nil {
 			return nil, err
+		}
+		// The age models rest on the ties the review choice (include=, as for the dates) lets in.
+		for _, t := range ties {
+			if included(ch.Dens.Sum.Include, t.ReviewState) {
+				d.Ties[sec.ID] = append(d.Ties[sec.ID], t)
+			} else {
+				d.TiesOut[sec.ID] = append(d.TiesOut[sec.ID], t)
+			}
 		}
 		if d.Events[sec.ID], err = s.store.Events(ctx, sec.ID); err != nil {
 			return nil, err
@@ -511,7 +521,7 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 	wanted := func(id int64) bool { return len(ch.EventIDs) == 0 || slices.Contains(ch.EventIDs, id) }
 	for _, sec := range d.Sections {
 		o := sectionOptionsFrom(&params{q: url.Values{}}, sec)
-		o.Model, o.Draws, o.Seed = sc.Model, sc.Draws, sc.Seed
+		o.Model, o.Draws, o.Seed, o.Include = sc.Model, sc.Draws, sc.Seed, ch.Dens.Sum.Include
 		if sc.TocMin != nil {
 			o.TocMin = *sc.TocMin
 		}
@@ -820,6 +830,9 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	}
 	res.In = compareInputs{Pulses: pulses, Events: events, Units: unitInputs(sums, ch.Dens), EdgeNote: edgeNote, Notes: enotes}
 	res.Notes = append(res.Notes, enotes...)
+	for _, sec := range d.Sections {
+		res.Cautions = append(res.Cautions, tieReviewCautions(sec.Name, d.Ties[sec.ID], d.TiesOut[sec.ID], ch.Dens.Sum.Include)...)
+	}
 	if len(pulses) == 0 || len(events) == 0 {
 		if len(events) == 0 {
 			res.Cautions = append(res.Cautions, "No event with an age to compare in the chosen sections.")

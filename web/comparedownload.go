@@ -99,6 +99,7 @@ func compareSettings(res *compareResult) [][2]string {
 		{"unit means", "analytical σ, policy " + d.Sum.PolicyCode + ", outlier rule " + d.Sum.Rule.String() + ", " + includeLabel(d.Sum.Include)},
 		{"pulse edge systematics", res.In.EdgeNote},
 		{"age model", ch.Model},
+		{"tie points in the age models", tieIncludeLabel(d.Sum.Include) + " (include=" + d.Sum.Include + ")"},
 		{"age-model draws", strconv.Itoa(ch.ModelDraws)},
 		{"TOC threshold (wt%)", tocText(ch.TocMin)},
 		{"detected anomalies compared", strconv.FormatBool(ch.Anomalies)},

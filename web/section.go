@@ -61,10 +61,11 @@ func (s *Server) handleSectionList(w http.ResponseWriter, r *http.Request) error
 	})
 }
 
-// tieTable lists tie points with ages at the chosen σ level.
+// tieTable lists tie points with ages at the chosen σ level and their review state (pending and rejected
+// marked as for dates and events).
 func tieTable(ts []store.TiePoint, level int, withSection bool) views.Table {
 	cols := []views.Column{{Label: "Tie point"}, {Label: "Height", Unit: "m", Num: true}, {Label: "Kind"},
-		{Label: "Age", Unit: fmt.Sprintf("Ma ± %dσ, or range", level), Num: true}, {Label: "Linked date"}, {Label: "Notes"}}
+		{Label: "Age", Unit: fmt.Sprintf("Ma ± %dσ, or range", level), Num: true}, {Label: "Linked date"}, {Label: "Review"}, {Label: "Notes"}}
 	if withSection {
 		cols = append([]views.Column{{Label: "Section"}}, cols...)
 	}
@@ -82,8 +83,15 @@ func tieTable(ts []store.TiePoint, level int, withSection bool) views.Table {
 		if tp.DateID != nil {
 			linked = views.Cell{Text: tp.DateSampleCode + " (" + methodLabel(tp.DateMethod) + ")", URL: idURL("/dates", *tp.DateID)}
 		}
+		review := views.Cell{Text: store.Label(store.ReviewStates(), tp.ReviewState)}
+		if tp.ReviewState != "accepted" {
+			review.Class = "pending"
+			if tp.ReviewNote != "" {
+				review.Title = tp.ReviewNote
+			}
+		}
 		row := []views.Cell{{Text: tp.Label, URL: idURL("/ties", tp.ID)}, {Text: num(tp.HeightM), Num: true}, {Text: store.Label(store.TieKinds(), tp.Kind)},
-			{Text: age, Num: true}, linked, {Text: orDash(tp.Notes)}}
+			{Text: age, Num: true}, linked, review, {Text: orDash(tp.Notes)}}
 		if withSection {
 			row = append([]views.Cell{{Text: tp.Section, URL: idURL("/sections", tp.SectionID)}}, row...)
 		}

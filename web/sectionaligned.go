@@ -21,6 +21,7 @@ type alignedOptions struct {
 	Seed     uint64
 	AgeMinMa *float64
 	AgeMaxMa *float64
+	Include  string // accepted, pending, all: the tie points the age models use, by review state
 }
 
 func alignedOptionsFrom(p *params) alignedOptions {
@@ -30,6 +31,7 @@ func alignedOptionsFrom(p *params) alignedOptions {
 		Seed:     paramSeed(p, "seed", defaultSectionSeed),
 		AgeMinMa: p.optFloat("age_min", "an age in Ma"),
 		AgeMaxMa: p.optFloat("age_max", "an age in Ma"),
+		Include:  p.oneOf("include", includeCodes(), "accepted"),
 	}
 	if o.AgeMinMa != nil && o.AgeMaxMa != nil && *o.AgeMinMa >= *o.AgeMaxMa {
 		p.problems = append(p.problems, "age_min: must be younger (smaller) than age_max")
@@ -38,7 +40,7 @@ func alignedOptionsFrom(p *params) alignedOptions {
 }
 
 // alignedAnalyses analyses every section with its defaults (suggested host, stored threshold) and the
-// page's model draws and seed.
+// page's model draws, seed and review choice of tie points.
 func (s *Server) alignedAnalyses(ctx context.Context, o alignedOptions) ([]*sectionAnalysis, error) {
 	secs, err := s.store.Sections(ctx)
 	if err != nil {
@@ -47,7 +49,7 @@ func (s *Server) alignedAnalyses(ctx context.Context, o alignedOptions) ([]*sect
 	var out []*sectionAnalysis
 	for _, sec := range secs {
 		so := sectionOptionsFrom(&params{}, sec)
-		so.Draws, so.Seed = o.Draws, o.Seed
+		so.Draws, so.Seed, so.Include = o.Draws, o.Seed, o.Include
 		a, err := s.loadSectionAnalysis(ctx, sec, so)
 		if err != nil {
 			return nil, err
@@ -197,7 +199,11 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 		{Name: "age_max", Label: "Oldest (Ma)", Kind: "number", Value: r.URL.Query().Get("age_max"), Step: "any"},
 		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
+		{Name: "include", Label: "Tie points in the models", Kind: "select", Options: tieIncludeOptions(o.Include)},
 	}}
+	for _, a := range as {
+		v.Cautions = append(v.Cautions, tieReviewCautions(a.Sec.Name, a.Ties, a.TiesLeftOut, o.Include)...)
+	}
 	var matur []string
 	seen := map[string]bool{}
 	for _, a := range as {

@@ -47,6 +47,7 @@ type sectionOptions struct {
 	Seed     uint64
 	Level    int    // σ level of displayed tie ages
 	TieLevel string // analytical, tracer, full: the σ of ties that come from dates
+	Include  string // accepted, pending, all: the review states of the ties the age model uses (as for dates)
 }
 
 // sectionOptionsFrom reads the options; the section's stored threshold is the default of toc_min.
@@ -65,6 +66,7 @@ func sectionOptionsFrom(p *params, sec store.Section) sectionOptions {
 		Seed:     paramSeed(p, "seed", defaultSectionSeed),
 		Level:    p.sigmaLevel(),
 		TieLevel: p.oneOf("tie_level", []string{"analytical", "tracer", "full"}, defaultTieLevel),
+		Include:  p.oneOf("include", includeCodes(), "accepted"),
 	}
 	if o.TocMin == 0 && p.str("toc_min") == "" {
 		o.TocMin = stats.DefaultMinTocWtPct
@@ -226,15 +228,17 @@ func (m *ageModelResult) ageAt(z float64) (stats.DrawSummary, bool) {
 
 // sectionAnalysis is everything a section page, its figure and its downloads show.
 type sectionAnalysis struct {
-	Sec       store.Section
-	Opt       sectionOptions
-	Samples   []sampleRow
-	Has       map[string]bool // proxies measured
-	D13C      string          // d13c_org, else d13c_carb, else ""
-	Ties      []store.TiePoint
-	TieInputs []tieInput // per tie: the age and σ the model uses
-	Events    []store.Event
-	Hiatuses  []store.Hiatus
+	Sec         store.Section
+	Opt         sectionOptions
+	Samples     []sampleRow
+	Has         map[string]bool  // proxies measured
+	D13C        string           // d13c_org, else d13c_carb, else ""
+	AllTies     []store.TiePoint // every tie of the section, whatever its review state
+	Ties        []store.TiePoint // the ties the age model uses: those Opt.Include lets in
+	TieInputs   []tieInput       // per tie of Ties: the age and σ the model uses
+	TiesLeftOut []store.TiePoint // the ties Opt.Include leaves out of the model
+	Events      []store.Event
+	Hiatuses    []store.Hiatus
 
 	Suggestion stats.HostSuggestion
 	Host       stats.Host
@@ -319,17 +323,25 @@ func valueOf(s store.Sample, proxy string) float64 {
 
 // analyseSection runs the numerics of the section page. It returns a badRequest when the options do not
 // fit the section (a host it lacks, a background window without samples).
-// tieInputs gives the age and σ of each tie (nil: as entered).
+// tieInputs gives the age and σ of each tie (nil: as entered). The model uses the ties whose review state
+// o.Include lets in; the others are kept in TiesLeftOut, so the page can say so.
 func analyseSection(sec store.Section, samples []store.Sample, ties []store.TiePoint, tieInputs []tieInput, events []store.Event,
 	hiatuses []store.Hiatus, o sectionOptions) (*sectionAnalysis, error) {
-	a := &sectionAnalysis{Sec: sec, Opt: o, Ties: ties, TieInputs: tieInputs, Events: events, Hiatuses: hiatuses, Has: map[string]bool{}}
-	if a.TieInputs == nil {
-		a.TieInputs = make([]tieInput, len(ties))
-		for i, t := range ties {
-			if t.AgeMa != nil && t.SigmaMa != nil {
-				a.TieInputs[i] = tieInput{AgeMa: *t.AgeMa, SigmaMa: *t.SigmaMa, Level: "as entered with the tie point"}
-			}
+	a := &sectionAnalysis{Sec: sec, Opt: o, AllTies: ties, Events: events, Hiatuses: hiatuses, Has: map[string]bool{}}
+	for i, t := range ties {
+		if !included(o.Include, t.ReviewState) {
+			a.TiesLeftOut = append(a.TiesLeftOut, t)
+			continue
 		}
+		in := tieInput{}
+		switch {
+		case tieInputs != nil:
+			in = tieInputs[i]
+		case t.AgeMa != nil && t.SigmaMa != nil:
+			in = tieInput{AgeMa: *t.AgeMa, SigmaMa: *t.SigmaMa, Level: "as entered with the tie point"}
+		}
+		a.Ties = append(a.Ties, t)
+		a.TieInputs = append(a.TieInputs, in)
 	}
 	n := len(samples)
 	a.Samples = make([]sampleRow, n)
@@ -768,6 +780,10 @@ func x2lin(x []float64) []float64 {
 func (a *sectionAnalysis) fitModel() {
 	if len(a.Ties) < 2 {
 		a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and this section has %d.", len(a.Ties))
+		if len(a.TiesLeftOut) > 0 {
+			a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and include=%s lets in %d of this section's %d.",
+				a.Opt.Include, len(a.Ties), len(a.AllTies))
+		}
 		return
 	}
 	m := &ageModelResult{Kind: a.Opt.Model}

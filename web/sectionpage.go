@@ -94,7 +94,7 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 	case "csv":
 		return writeDownload(w, fmt.Sprintf("section-%d.csv", sec.ID), func(w io.Writer) error { return store.WriteSectionsCSV(w, []store.Section{sec}) })
 	case "json":
-		writeJSON(w, http.StatusOK, map[string]any{"section": sec, "tie_points": a.Ties, "events": a.Events, "hiatuses": a.Hiatuses,
+		writeJSON(w, http.StatusOK, map[string]any{"section": sec, "tie_points": a.AllTies, "events": a.Events, "hiatuses": a.Hiatuses,
 			"settings": a.settingsJSON(), "host": a.hostJSON(), "anomalies": a.anomaliesJSON(), "segments": a.segmentsJSON(),
 			"age_model": a.modelJSON(), "uncertainties": jsonSigmaNote})
 		return nil
@@ -139,8 +139,12 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 		ab.Tables = append(ab.Tables, dt)
 	}
 	v.Blocks = []views.Block{a.hostBlock(), ab, a.segmentBlock(), a.modelBlock(r, base)}
-	tt := tieTable(a.Ties, a.Opt.Level, false)
+	tt := tieTable(a.AllTies, a.Opt.Level, false)
 	tt.Caption = "Tie points"
+	if len(a.TiesLeftOut) > 0 {
+		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s whose review state include=%s does not let in (%s).",
+			count(len(a.TiesLeftOut), "tie point"), a.Opt.Include, tieIncludeLabel(a.Opt.Include)))
+	}
 	et := eventTable(a.Events, false)
 	et.Caption = "Events (entered, imported, or made from detected anomalies)"
 	st := a.sampleTable()
@@ -201,6 +205,7 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 			opt("mc", "Monte Carlo (Beta bridge)", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
 		{Name: "tie_level", Label: "± of ties from dates", Kind: "select", Options: []views.Option{
 			opt("full", "full external (default)", o.TieLevel), opt("tracer", "with tracer (Y)", o.TieLevel), opt("analytical", "analytical (X)", o.TieLevel)}},
+		{Name: "include", Label: "Tie points in the model", Kind: "select", Options: tieIncludeOptions(o.Include)},
 		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
 	}}
@@ -232,6 +237,7 @@ func (a *sectionAnalysis) cautions() []string {
 	if a.Opt.Model == "linear" {
 		out = append(out, "The naive linear age model ignores how irregular deposition is and treats tie errors as independent: its 95 % intervals cover the true age far less often than 95 % in simulation. Use it only for comparison with the Monte Carlo model (model=mc).")
 	}
+	out = append(out, tieReviewCautions("", a.Ties, a.TiesLeftOut, a.Opt.Include)...)
 	if a.ModelNote != "" {
 		out = append(out, a.ModelNote)
 	}
@@ -418,6 +424,7 @@ func (a *sectionAnalysis) modelParas() []string {
 		return []string{
 			fmt.Sprintf("Model: Monte Carlo with superposition. Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
 			a.tieLevelSentence(),
+			a.tieReviewSentence(),
 			fmt.Sprintf("Tie sampler: %s; acceptance %.1f %% of %d attempts (whole draws out of stratigraphic order are rejected, never sorted; below %g %% acceptance a Gibbs sampler of truncated tie ages takes over).",
 				m.MC.Sampler, 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
 			fmt.Sprintf("Between ties: Beta bridges of a Poisson deposition model, rigidity k (deposition events per m) drawn per draw from a log-uniform prior on %g–%g per m, so the intervals average over how regular deposition was instead of trusting one k.",
@@ -428,6 +435,7 @@ func (a *sectionAnalysis) modelParas() []string {
 	return []string{
 		fmt.Sprintf("Model: NAIVE linear interpolation between tie means, from %s; hiatuses ignored. Tie errors are propagated as if independent; interval = mean ± 1.96σ.", ties),
 		a.tieLevelSentence(),
+		a.tieReviewSentence(),
 		"Caution: this model under-covers — in simulation its 95 % intervals hold the true age far less often than 95 %. It is offered only as a labelled comparison; use model=mc.",
 	}
 }
@@ -486,7 +494,8 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 func (a *sectionAnalysis) settingsJSON() map[string]any {
 	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMin,
 		"host_min_wt_pct": a.HostMin, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
-		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed, "tie_level": a.Opt.TieLevel}
+		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed, "tie_level": a.Opt.TieLevel,
+		"include": a.Opt.Include}
 	switch a.Opt.Baseline {
 	case "window":
 		s["bg_base_m"], s["bg_top_m"] = a.Opt.BgBaseM, a.Opt.BgTopM

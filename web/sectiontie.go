@@ -114,6 +114,78 @@ func (s *Server) tieInputs(ctx context.Context, ties []store.TiePoint, level str
 	return out, nil
 }
 
+// tieIncludeLabel says which tie points include= lets into an age model.
+func tieIncludeLabel(include string) string {
+	switch include {
+	case "pending":
+		return "accepted and pending tie points"
+	case "all":
+		return "all tie points, rejected ones too"
+	}
+	return "accepted tie points only"
+}
+
+// tieIncludeOptions are the choices of include= on pages with age models.
+func tieIncludeOptions(cur string) []views.Option {
+	var out []views.Option
+	for _, c := range includeCodes() {
+		label := tieIncludeLabel(c)
+		if c == "accepted" {
+			label += " (default)"
+		}
+		out = append(out, views.Option{Value: c, Label: label, Selected: c == cur})
+	}
+	return out
+}
+
+// tieReviewCautions say what a reader of an age model must know about the review of its tie points: the
+// pending ones include= left out (they wait for a curator, and the model changes once they are accepted),
+// and the unreviewed or rejected ones it let in. where names the section ("" for the section's own page).
+// Rejected ties left out need no caution: that is what rejecting them is for.
+func tieReviewCautions(where string, used, left []store.TiePoint, include string) []string {
+	labels := func(ts []store.TiePoint, state string) []string {
+		var out []string
+		for _, t := range ts {
+			if t.ReviewState == state {
+				out = append(out, t.Label)
+			}
+		}
+		return out
+	}
+	prefix := ""
+	if where != "" {
+		prefix = where + ": "
+	}
+	var out []string
+	if p := labels(left, "pending"); len(p) > 0 {
+		out = append(out, fmt.Sprintf("%sLeft out of the age–height model: %s waiting for a curator's review (%s) — include=%s uses %s. The model ages change when %s accepted; include=pending shows the model with %s now.",
+			prefix, count(len(p), "tie point"), strings.Join(p, ", "), include, tieIncludeLabel(include), itThey(len(p)), itThem(len(p))))
+	}
+	if p := labels(used, "pending"); len(p) > 0 {
+		out = append(out, fmt.Sprintf("%sThe age–height model uses %s that no curator has reviewed yet (include=%s): %s.",
+			prefix, count(len(p), "pending tie point"), include, strings.Join(p, ", ")))
+	}
+	if rj := labels(used, "rejected"); len(rj) > 0 {
+		out = append(out, fmt.Sprintf("%sThe age–height model uses %s (include=%s): %s.",
+			prefix, count(len(rj), "rejected tie point"), include, strings.Join(rj, ", ")))
+	}
+	return out
+}
+
+func itThem(n int) string {
+	if n == 1 {
+		return "it"
+	}
+	return "them"
+}
+
+func itThey(n int) string {
+	if n == 1 {
+		return "it is"
+	}
+	return "they are"
+}
+
 // tieModelTable says, for every tie point, what enters the model: the age and ± at the level used.
 func (a *sectionAnalysis) tieModelTable() views.Table {
 	t := views.Table{ID: "tie-inputs", Caption: "Tie points as the model uses them", Columns: []views.Column{{Label: "Tie point"},
@@ -159,6 +231,19 @@ func (a *sectionAnalysis) tieLevelSentence() string {
 		def = " (the default, as absolute ages need)"
 	}
 	return fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s (tie_level=%s).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def, a.Opt.TieLevel)
+}
+
+// tieReviewSentence is the model statement's account of which tie points it uses by review state.
+func (a *sectionAnalysis) tieReviewSentence() string {
+	s := fmt.Sprintf("Tie points in use: %s (include=%s)", tieIncludeLabel(a.Opt.Include), a.Opt.Include)
+	if len(a.TiesLeftOut) == 0 {
+		return s + "."
+	}
+	var left []string
+	for _, t := range a.TiesLeftOut {
+		left = append(left, t.Label+" ("+t.ReviewState+")")
+	}
+	return s + "; left out: " + strings.Join(left, ", ") + "."
 }
 
 func plural(n int) string {

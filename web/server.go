@@ -69,8 +69,9 @@ type Store interface {
 	ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (store.Event, error)
 	DeleteEvent(ctx context.Context, id int64, version int) error
 	TiePoint(ctx context.Context, id int64) (store.TiePoint, error)
-	CreateTie(ctx context.Context, sectionID int64, f store.Form) (store.TiePoint, error)
-	UpdateTie(ctx context.Context, id int64, version int, f store.Form) (store.TiePoint, error)
+	CreateTie(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.TiePoint, error)
+	UpdateTie(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.TiePoint, error)
+	ReviewTie(ctx context.Context, id int64, version int, accept bool, note string) (store.TiePoint, error)
 	DeleteTie(ctx context.Context, id int64, version int) error
 	CreateProvince(ctx context.Context, f store.Form) (store.Province, error)
 	UpdateProvince(ctx context.Context, id int64, version int, f store.Form) (store.Province, error)

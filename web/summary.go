@@ -71,16 +71,23 @@ func (s *Server) summaryChoice(ctx context.Context, p *params) (summaryChoice, e
 			ch.Policy = pol.Policy
 		}
 	}
-	var inc []string
-	for _, i := range includes {
-		inc = append(inc, i.Code)
-	}
-	ch.Include = p.oneOf("include", inc, "accepted")
+	ch.Include = p.oneOf("include", includeCodes(), "accepted")
 	return ch, nil
 }
 
-func (ch summaryChoice) includes(reviewState string) bool {
-	switch ch.Include {
+// includeCodes are the values of include=.
+func includeCodes() []string {
+	var out []string
+	for _, i := range includes {
+		out = append(out, i.Code)
+	}
+	return out
+}
+
+// included reports whether include= (accepted | pending | all) lets a record of reviewState into a
+// computation: the one rule for dates, events and tie points.
+func included(include, reviewState string) bool {
+	switch include {
 	case "all":
 		return true
 	case "pending":
@@ -88,6 +95,8 @@ func (ch summaryChoice) includes(reviewState string) bool {
 	}
 	return reviewState == "accepted"
 }
+
+func (ch summaryChoice) includes(reviewState string) bool { return included(ch.Include, reviewState) }
 
 // defaultTracerRelSigma is the relative 1σ of the tracer term used when the dates publish no Y: 0.03 %
 // at 2σ, the upper bound for the EARTHTIME tracers (Condon et al. 2015, GCA 164:464).

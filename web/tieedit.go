@@ -11,8 +11,10 @@ import (
 	"coeval/views"
 )
 
-// tieEdit is the editing flow of tie points. Ties have no review state: contributors add ties, and only
-// curators edit or delete an existing one, since every age model of its section rests on it.
+// tieEdit is the editing flow of tie points. Ties are reviewed like dates and events: a contributor's new tie
+// is pending until a curator accepts it, and age models leave pending ties out unless the page's include=
+// says otherwise. Only curators edit, review or delete an existing tie, since every age model of its
+// section rests on it once accepted.
 func (s *Server) tieEdit() recordEdit {
 	sigmaLevels := func() []store.Term {
 		return []store.Term{{Code: "", Label: "— (uniform tie)"}, {Code: "2", Label: "2σ"}, {Code: "1", Label: "1σ"}}
@@ -23,7 +25,7 @@ func (s *Server) tieEdit() recordEdit {
 	return recordEdit{
 		recordType: "tie_point", noun: "tie point", nav: "Tie points", path: "/ties", newPath: "/sections/{id}/ties/new",
 		editRole: store.RoleCurator,
-		intro:    "Heights in metres above the section's base, ages in Ma. A normal tie takes age ± σ at the σ level you choose (stored as 1σ); a uniform one the interval it is confined to. Every field is checked with the rules of the ties import.",
+		intro:    "Heights in metres above the section's base, ages in Ma. A normal tie takes age ± σ at the σ level you choose (stored as 1σ); a uniform one the interval it is confined to. Every field is checked with the rules of the ties import. A contributor's tie is pending until a curator accepts it: until then age models leave it out.",
 		fields: []formField{
 			{"label", "Label", "unique within the section", nil},
 			{"height_m", "Height (m)", "", nil},
@@ -36,27 +38,28 @@ func (s *Server) tieEdit() recordEdit {
 			{"age_max_ma", "Oldest age (Ma)", "uniform ties", nil},
 			{"date_sample_code", "Linked date: sample code", "optional; a date in the compilation", nil},
 			{"date_method", "Linked date: method", "when the sample has dates by several methods", nil},
+			{"review_state", "Review", "curators only; a contributor's tie is pending", store.ReviewStates},
 			{"notes", "Notes", "", nil},
 		},
 		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
 			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2"}, sectionCrumbs(sec), err
+			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": "pending"}, sectionCrumbs(sec), err
 		},
-		create: func(r *http.Request, f store.Form, _ bool) (int64, error) {
+		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
 			id, err := pathID(r, "id")
 			if err != nil {
 				return 0, err
 			}
-			tp, err := s.store.CreateTie(r.Context(), id, f)
+			tp, err := s.store.CreateTie(r.Context(), id, f, curator)
 			return tp.ID, err
 		},
 		load: func(ctx context.Context, id int64) (stored, error) {
 			tp, err := s.store.TiePoint(ctx, id)
-			return stored{form: store.FormOfTie(tp), version: tp.Version, name: tp.Label,
+			return stored{form: store.FormOfTie(tp), version: tp.Version, name: tp.Label, review: tp.ReviewState,
 				crumbs: sectionCrumbs(store.Section{ID: tp.SectionID, Name: tp.Section})}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, _ bool) error {
-			_, err := s.store.UpdateTie(ctx, id, version, f)
+		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
+			_, err := s.store.UpdateTie(ctx, id, version, f, curator)
 			return err
 		},
 		remove:       s.store.DeleteTie,
@@ -67,9 +70,15 @@ func (s *Server) tieEdit() recordEdit {
 func (s *Server) registerTieEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.tieEdit())
 	r.Get("/ties/{id}", s.handle(s.handleTieShow))
+	r.With(s.requireRole(store.RoleCurator)).Post("/ties/{id}/review", s.handle(s.handleReview("tie point", "/ties",
+		func(ctx context.Context, id int64, version int, accept bool, note string) error {
+			_, err := s.store.ReviewTie(ctx, id, version, accept, note)
+			return err
+		})))
 }
 
-// handleTieShow is the page of one tie point: its age as published, its linked date, and its history.
+// handleTieShow is the page of one tie point: its age as published, its linked date, its review (and, for
+// curators, the accept and reject buttons), and its history.
 func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
 	id, err := pathID(r, "id")
@@ -96,7 +105,11 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 	t := tieTable([]store.TiePoint{tp}, level, false)
 	t.Caption = "Tie point"
 	v.Tables = []views.Table{t}
-	v.Groups = []views.FieldGroup{{Title: "Record", Fields: []views.KV{
+	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), tp.ReviewState)}
+	if tp.ReviewState != "accepted" {
+		review.Class = "pending"
+	}
+	v.Groups = []views.FieldGroup{{Title: "Record", Fields: []views.KV{review,
 		{Label: "Section", Value: tp.Section, URL: idURL("/sections", tp.SectionID)},
 		{Label: "Distribution", Value: tp.Distribution},
 		{Label: "Record number", Value: strconv.FormatInt(tp.ID, 10)},
@@ -104,7 +117,19 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Added", Value: when(tp.CreatedAt)},
 		{Label: "Last changed", Value: when(tp.UpdatedAt)},
 	}}}
-	v.Links, v.Actions = recordLinks(r, s.tieEdit(), id, stored{version: tp.Version})
+	switch tp.ReviewState {
+	case "pending":
+		v.Notes = append(v.Notes, "This tie point waits for a curator's review. Until it is accepted, the age–height model of "+tp.Section+
+			" and the comparison leave it out, unless the address says include=pending or include=all.")
+	case "rejected":
+		v.Notes = append(v.Notes, "This tie point was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
+	}
+	if tp.ReviewNote != "" {
+		v.Notes = append(v.Notes, "Review note: "+tp.ReviewNote)
+	}
+	links, acts := recordLinks(r, s.tieEdit(), id, stored{version: tp.Version, review: tp.ReviewState})
+	v.Links = links
+	v.Actions = append(reviewActions(r, "/ties", tp.ID, tp.Version, tp.ReviewState), acts...)
 	v.Links = append(v.Links, views.Link{Label: "Show the age at " + itoa(3-level) + "σ", URL: withQuery(r, "sigma", itoa(3-level))})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil

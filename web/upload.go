@@ -200,8 +200,8 @@ func addedText(res store.ImportResult) string {
 	return out
 }
 
-// uploadCtx is the context an upload is previewed and imported in: a contributor's dates and events
-// arrive pending review, as from the forms; a curator's keep the file's review_state (accepted when absent).
+// uploadCtx is the context an upload is previewed and imported in: a contributor's dates, events and tie
+// points arrive pending review, as from the forms; a curator's keep the file's review_state (accepted when absent).
 func uploadCtx(r *http.Request) context.Context {
 	if isCurator(r) {
 		return r.Context()
@@ -240,7 +240,8 @@ func (s *Server) handleUploadCommit(w http.ResponseWriter, r *http.Request) erro
 	return nil
 }
 
-// handleBatchAccept accepts, as one change, the pending dates and events a change added (an upload's rows).
+// handleBatchAccept accepts, as one change, the pending dates, events and tie points a change added (an
+// upload's rows, or a record added by a form).
 func (s *Server) handleBatchAccept(w http.ResponseWriter, r *http.Request) error {
 	r = actingCtx(r)
 	id, err := pathID(r, "id")
