@@ -455,12 +455,24 @@ func TestBrowserSectionPages(t *testing.T) {
 	if err := chromedp.Do(ctx, chromedp.SetValue(chromedp.CSS(`#event-form input[name="name"]`), "Last ammonite"),
 		chromedp.SetValue(chromedp.CSS(`#event-form select[name="kind"]`), "extinction"),
 		chromedp.SetValue(chromedp.CSS(`#event-form input[name="base_height_m"]`), "20.5"),
-		chromedp.Click(chromedp.CSS(`#event-form button`)), chromedp.WaitVisible(chromedp.CSS(`#records`))); err != nil {
+		chromedp.Click(chromedp.CSS(`#event-form button`))); err != nil {
 		t.Fatal(err)
 	}
-	if got := text(t, ctx, "#events tbody"); !strings.Contains(got, "Last ammonite") {
-		t.Errorf("the events table %q lacks the new event", got)
+	// The form on the old page stays visible until the answer loads: wait for the new event itself.
+	waitText(t, ctx, "#events tbody", "Last ammonite")
+}
+
+// waitText waits until the text of sel contains want (after a post whose answer replaces the page).
+func waitText(t testing.TB, ctx context.Context, sel, want string) {
+	t.Helper()
+	var got string
+	for deadline := time.Now().Add(15 * time.Second); time.Now().Before(deadline); time.Sleep(100 * time.Millisecond) {
+		got, _ = chromedp.Run(ctx, chromedp.Text(chromedp.CSS(sel), chromedp.AtLeast(0)))
+		if strings.Contains(got, want) {
+			return
+		}
 	}
+	t.Errorf("%s does not come to read %q; it reads %.300q", sel, want, got)
 }
 
 // A contributor uploads a file from the browser: the page shows the upload's progress, then the preview
