@@ -11,18 +11,26 @@ import (
 )
 
 // BenchmarkTimeline renders the demo province's timeline page (density, 1000-replicate bootstrap band,
-// pulses, figure) and its downloads, through the whole handler. Figures: BENCHMARKS in web/TIMELINE.md.
+// pulses, figure) and its downloads, through the whole handler, cold: nothing is cached between
+// requests. Figures: BENCHMARKS.md, "Province timeline".
 func BenchmarkTimeline(b *testing.B) {
 	db := mustDemoDB(b)
 	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS)
-	for _, path := range []string{"/provinces/1/timeline", "/provinces/1/timeline?count=date", "/provinces/1/timeline?format=svg",
-		"/provinces/1/timeline?format=png", "/provinces/1/timeline?format=pdf", "/provinces/1/timeline?format=json", "/timescale"} {
-		b.Run(path, func(b *testing.B) {
+	for _, c := range []struct{ name, path string }{
+		{"unit", "/provinces/1/timeline"},            // 17 unit means, exact kernel sums
+		{"date", "/provinces/1/timeline?count=date"}, // 56 dates, ISJ, binned (FFT) path
+		{"svg", "/provinces/1/timeline?format=svg"},
+		{"png", "/provinces/1/timeline?format=png"},
+		{"pdf", "/provinces/1/timeline?format=pdf"},
+		{"json", "/provinces/1/timeline?format=json"},
+		{"timescale", "/timescale"},
+	} {
+		b.Run(c.name, func(b *testing.B) {
 			for b.Loop() {
 				rec := httptest.NewRecorder()
-				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, path, nil))
+				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, c.path, nil))
 				if rec.Code != http.StatusOK {
-					b.Fatalf("%s: status %d", path, rec.Code)
+					b.Fatalf("%s: status %d", c.path, rec.Code)
 				}
 			}
 		})

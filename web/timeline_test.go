@@ -430,25 +430,34 @@ func TestTimelineFigureContent(t *testing.T) {
 }
 
 // TestTimelineGolden keeps the demo timeline's SVG under testdata/ (go test ./web -run Golden -update
-// rewrites it). The bootstrap is seeded, so the figure is the same on every run.
+// rewrites it): the default view (unit means, exact kernel sums) and the per-date view (ISJ bandwidth,
+// the binned FFT path). The bootstrap is seeded, so the figure is the same on every run and with any
+// number of workers.
 func TestTimelineGolden(t *testing.T) {
 	srv, _ := mustServer(t)
-	_, _, svg := get(t, srv, "/provinces/1/timeline?format=svg")
-	golden := filepath.Join("testdata", "timeline-demo.svg")
-	if *update {
-		if err := os.MkdirAll("testdata", 0o755); err != nil {
-			t.Fatal(err)
-		}
-		if err := os.WriteFile(golden, []byte(svg), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want, err := os.ReadFile(golden)
-	if err != nil {
-		t.Fatalf("%v (run go test ./web -run Golden -update)", err)
-	}
-	if svg != string(want) {
-		t.Errorf("demo timeline differs from %s; if the change is intended, run go test ./web -run Golden -update and look at the figure", golden)
+	for _, c := range []struct{ path, golden string }{
+		{"/provinces/1/timeline?format=svg", "timeline-demo.svg"},
+		{"/provinces/1/timeline?count=date&format=svg", "timeline-demo-dates.svg"},
+	} {
+		t.Run(c.golden, func(t *testing.T) {
+			_, _, svg := get(t, srv, c.path)
+			golden := filepath.Join("testdata", c.golden)
+			if *update {
+				if err := os.MkdirAll("testdata", 0o755); err != nil {
+					t.Fatal(err)
+				}
+				if err := os.WriteFile(golden, []byte(svg), 0o644); err != nil {
+					t.Fatal(err)
+				}
+			}
+			want, err := os.ReadFile(golden)
+			if err != nil {
+				t.Fatalf("%v (run go test ./web -run Golden -update)", err)
+			}
+			if svg != string(want) {
+				t.Errorf("%s differs from %s; if the change is intended, run go test ./web -run Golden -update and look at the figure", c.path, golden)
+			}
+		})
 	}
 }
 
