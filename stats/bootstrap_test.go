@@ -2,10 +2,12 @@ package stats
 
 import (
 	"math"
+	"math/rand/v2"
 	"reflect"
 	"runtime"
 	"slices"
 	"testing"
+	"time"
 )
 
 // k10SigmaMa are the 1σ of check K10's PDP (REFERENCES §4).
@@ -140,7 +142,8 @@ func TestBootstrapBandErrors(t *testing.T) {
 // a margin of 2 %), for its 56
 // dates with the ISJ bandwidth held (the binned FFT path, as on the per-date view), for its 17 unit
 // means (ISJ falls back to the robust rule; exact kernel sums, as on the default view), and for the 56
-// dates with ISJ applied afresh in every replicate.
+// dates with ISJ applied afresh in every replicate. It also reports the CPU time of the process (every
+// worker) per op.
 func BenchmarkBootstrapBand(b *testing.B) {
 	for _, c := range []struct {
 		name         string
@@ -167,12 +170,17 @@ func BenchmarkBootstrapBand(b *testing.B) {
 				opts.KDE.Bandwidth = BandwidthOptions{Rule: RuleISJ}
 				opts.ReestimateBandwidth = true
 			}
+			cpu0, n := processCPU(), 0
 			for b.Loop() {
 				if _, err := BootstrapBand(c.ages, c.sigma, opts); err != nil {
 					b.Fatal(err)
 				}
+				n++
 			}
 			b.ReportMetric(float64(grid.Points), "points")
+			if cpu := processCPU(); cpu0 > 0 {
+				b.ReportMetric(float64(cpu-cpu0)/float64(time.Millisecond)/float64(n), "cpu-ms/op")
+			}
 		})
 	}
 }
@@ -194,3 +202,35 @@ var (
 	demoUnitsSigmaMa = []float64{0.0881, 0.2446, 0.1004, 0.223, 0.0889, 0.2664, 0.0918, 0.0887, 0.2099, 0.0878, 0.2432,
 		0.1742, 0.0892, 0.0894, 0.0908, 0.0892, 0.0919}
 )
+
+// TestBandQuantilesAsSorted: the band's quantiles by selection are those of a sort (type 7), bit for
+// bit, with ties and zeros as the far tails of a band have them.
+func TestBandQuantilesAsSorted(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for _, n := range []int{1, 2, 3, 10, 39, 40, 41, 99, 100, 101, 257, 1000, 1001, 4000} {
+		for trial := range 20 {
+			x := make([]float64, n)
+			for i := range x {
+				switch trial % 3 {
+				case 0:
+					x[i] = rng.Float64()
+				case 1:
+					x[i] = float64(rng.IntN(5)) // many ties
+				case 2:
+					x[i] = max(0, rng.NormFloat64()-1) // zeros, then a tail
+				}
+			}
+			s := slices.Clone(x)
+			slices.Sort(s)
+			lo, med, up := bandQuantiles(x)
+			for _, c := range []struct {
+				p         float64
+				got, want float64
+			}{{0.025, lo, sortedQuantile7(s, 0.025)}, {0.5, med, sortedQuantile7(s, 0.5)}, {0.975, up, sortedQuantile7(s, 0.975)}} {
+				if math.Float64bits(c.got) != math.Float64bits(c.want) {
+					t.Fatalf("n = %d, trial %d, p = %v: %v, sorted %v", n, trial, c.p, c.got, c.want)
+				}
+			}
+		}
+	}
+}

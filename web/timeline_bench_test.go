@@ -6,13 +6,15 @@ import (
 	"net/http"
 	"net/http/httptest"
 	"testing"
+	"time"
 
 	"coeval/static"
 )
 
 // BenchmarkTimeline renders the demo province's timeline page (density, 1000-replicate bootstrap band,
 // pulses, figure) and its downloads, through the whole handler, cold: nothing is cached between
-// requests. Figures: BENCHMARKS.md, "Province timeline".
+// requests. Besides ns/op it reports cpu-ms/op, the CPU time of the whole process (every worker) per
+// request. Figures: BENCHMARKS.md, "Province timeline".
 func BenchmarkTimeline(b *testing.B) {
 	db := mustDemoDB(b)
 	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS)
@@ -26,13 +28,23 @@ func BenchmarkTimeline(b *testing.B) {
 		{"timescale", "/timescale"},
 	} {
 		b.Run(c.name, func(b *testing.B) {
+			cpu0, n := processCPU(), 0
 			for b.Loop() {
 				rec := httptest.NewRecorder()
 				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, c.path, nil))
 				if rec.Code != http.StatusOK {
 					b.Fatalf("%s: status %d", c.path, rec.Code)
 				}
+				n++
 			}
+			reportCPU(b, cpu0, n)
 		})
+	}
+}
+
+// reportCPU reports the process's CPU time per op since cpu0, over n ops, where it can be read.
+func reportCPU(b *testing.B, cpu0 time.Duration, n int) {
+	if cpu := processCPU(); cpu0 > 0 && n > 0 {
+		b.ReportMetric(float64(cpu-cpu0)/float64(time.Millisecond)/float64(n), "cpu-ms/op")
 	}
 }
