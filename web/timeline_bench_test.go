@@ -21,6 +21,8 @@ func BenchmarkTimeline(b *testing.B) {
 	for _, c := range []struct{ name, path string }{
 		{"unit", "/provinces/1/timeline"},            // 17 unit means, exact kernel sums
 		{"date", "/provinces/1/timeline?count=date"}, // 56 dates, ISJ, binned (FFT) path
+		{"date-scott", "/provinces/1/timeline?count=date&bw=scott"},
+		{"date-scott-bw_each", "/provinces/1/timeline?count=date&bw=scott&bw_each=1"}, // Scott's rule in every replicate
 		{"svg", "/provinces/1/timeline?format=svg"},
 		{"png", "/provinces/1/timeline?format=png"},
 		{"pdf", "/provinces/1/timeline?format=pdf"},
