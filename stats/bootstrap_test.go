@@ -139,23 +139,24 @@ func TestBootstrapBandErrors(t *testing.T) {
 
 // BenchmarkBootstrapBand is the band of the demo province's timeline: 1000 replicates on the grid the
 // page uses (8 points per bandwidth, at least 256, over the values padded by 4h and their 2σ bars, and
-// a margin of 2 %), for its 56
-// dates with the ISJ bandwidth held (the binned FFT path, as on the per-date view), for its 17 unit
-// means (ISJ falls back to the robust rule; exact kernel sums, as on the default view), and for the 56
-// dates with ISJ applied afresh in every replicate. It also reports the CPU time of the process (every
-// worker) per op.
+// a margin of 2 %), for its 56 dates with the ISJ bandwidth held (the binned FFT path, as on the
+// per-date view), for its 17 unit means (ISJ falls back to the robust rule; exact kernel sums, as on
+// the default view), and for the 56 dates with Scott's rule and with ISJ applied afresh in every
+// replicate. It also reports the CPU time of the process (every worker) per op.
 func BenchmarkBootstrapBand(b *testing.B) {
 	for _, c := range []struct {
 		name         string
 		ages, sigma  []float64
+		rule         BandwidthRule
 		reestimateBW bool
 	}{
-		{"56-dates-isj-binned", demoDatesMa, demoDatesSigmaMa, false},
-		{"17-units-exact", demoUnitsMa, demoUnitsSigmaMa, false},
-		{"56-dates-isj-each", demoDatesMa, demoDatesSigmaMa, true},
+		{"56-dates-isj-binned", demoDatesMa, demoDatesSigmaMa, RuleISJ, false},
+		{"17-units-exact", demoUnitsMa, demoUnitsSigmaMa, RuleISJ, false},
+		{"56-dates-scott-each", demoDatesMa, demoDatesSigmaMa, RuleScott, true},
+		{"56-dates-isj-each", demoDatesMa, demoDatesSigmaMa, RuleISJ, true},
 	} {
 		b.Run(c.name, func(b *testing.B) {
-			bw, err := SelectBandwidth(c.ages, BandwidthOptions{Rule: RuleISJ})
+			bw, err := SelectBandwidth(c.ages, BandwidthOptions{Rule: c.rule})
 			if err != nil {
 				b.Fatal(err)
 			}
@@ -167,7 +168,7 @@ func BenchmarkBootstrapBand(b *testing.B) {
 			grid := AgeGrid{MinMa: lo, MaxMa: hi, Points: min(max(int(math.Ceil(8*(hi-lo)/bw.Ma)), 256), 2048)}
 			opts := BandOptions{KDE: KDEOptions{Bandwidth: BandwidthOptions{Rule: RuleUser, UserMa: bw.Ma}, Grid: grid}, Seed: 1}
 			if c.reestimateBW {
-				opts.KDE.Bandwidth = BandwidthOptions{Rule: RuleISJ}
+				opts.KDE.Bandwidth = BandwidthOptions{Rule: c.rule}
 				opts.ReestimateBandwidth = true
 			}
 			cpu0, n := processCPU(), 0
