@@ -83,6 +83,7 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 	}
 	grid := AgeGrid{MinMa: ref.GridMa[0], MaxMa: ref.GridMa[len(ref.GridMa)-1], Points: len(ref.GridMa)}
 
+	m := grid.Points
 	band := DensityBand{
 		Reference:           ref,
 		GridMa:              ref.GridMa,
@@ -91,11 +92,16 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 		Seed:                opts.Seed,
 		ReestimateBandwidth: opts.ReestimateBandwidth,
 	}
+	// One array holds every replicate's density.
+	all := make([]float64, nRep*m)
+	for r := range band.Replicates {
+		band.Replicates[r] = all[r*m : (r+1)*m : (r+1)*m]
+	}
 	fellBack := make([]bool, nRep)
 	errs := make([]error, nRep)
 
 	// Replicates are independent; each draws from its own stream, so the split over workers
-	// changes nothing in the result.
+	// changes nothing in the result. Each worker reuses its resample, FFT plans and buffers.
 	workers := min(runtime.GOMAXPROCS(0), nRep)
 	var wg sync.WaitGroup
 	for w := range workers {
@@ -108,6 +114,7 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 			if opts.KDE.Weight != nil {
 				weight = make([]float64, n)
 			}
+			var sc kdeScratch
 			for r := w; r < nRep; r += workers {
 				rng := rand.New(rand.NewPCG(opts.Seed, uint64(r)))
 				for i := range ages {
@@ -120,8 +127,6 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 						weight[i] = opts.KDE.Weight[k]
 					}
 				}
-				ko := opts.KDE
-				ko.Weight = weight
 				rbw := bw
 				if opts.ReestimateBandwidth {
 					var err error
@@ -131,12 +136,9 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 					}
 					fellBack[r] = rbw.Fallback()
 				}
-				d, err := kdeWithBandwidth(ages, ko, rbw, &grid)
-				if err != nil {
-					errs[r] = err
+				if errs[r] = replicateKDE(band.Replicates[r], ages, weight, opts.KDE.Adaptive, rbw.Ma, grid, &sc); errs[r] != nil {
 					continue
 				}
-				band.Replicates[r] = d.Density
 				band.BandwidthsMa[r] = rbw.Ma
 			}
 		}()
@@ -152,17 +154,68 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 		}
 	}
 
-	m := grid.Points
 	band.Lower, band.Median, band.Upper = make([]float64, m), make([]float64, m), make([]float64, m)
-	col := make([]float64, nRep)
-	for j := range m {
-		for r := range col {
-			col[r] = band.Replicates[r][j]
-		}
-		slices.Sort(col)
-		band.Lower[j] = sortedQuantile7(col, 0.025)
-		band.Median[j] = sortedQuantile7(col, 0.5)
-		band.Upper[j] = sortedQuantile7(col, 0.975)
+	// The grid points split into contiguous blocks over the workers; each column is its own.
+	for w := range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			col := make([]float64, nRep)
+			for j := w * m / workers; j < (w+1)*m/workers; j++ {
+				for r := range col {
+					col[r] = band.Replicates[r][j]
+				}
+				band.Lower[j], band.Median[j], band.Upper[j] = bandQuantiles(col)
+			}
+		}()
 	}
+	wg.Wait()
 	return band, nil
+}
+
+// bandQuantiles returns the 2.5, 50 and 97.5 % points of x (Hyndman & Fan type 7), the values a sort
+// and sortedQuantile7 give, by selection: the median first, then the lower point among the values
+// below it and the upper among those above. It reorders x.
+func bandQuantiles(x []float64) (lower, median, upper float64) {
+	n := len(x)
+	if n < 40 { // the three order statistics could share neighbours
+		return quantile7(x, 0.025), quantile7(x, 0.5), quantile7(x, 0.975)
+	}
+	// interp is sortedQuantile7's step between the order statistics i and i+1.
+	interp := func(p float64, lo, next float64) float64 {
+		h := float64(n-1) * p
+		return lo + (h-math.Floor(h))*(next-lo)
+	}
+	iMed := int(math.Floor(float64(n-1) * 0.5))
+	selectKth(x, iMed)
+	median = interp(0.5, x[iMed], slices.Min(x[iMed+1:]))
+	below := x[:iMed] // the iMed smallest values
+	iLo := int(math.Floor(float64(n-1) * 0.025))
+	selectKth(below, iLo)
+	lower = interp(0.025, below[iLo], slices.Min(below[iLo+1:]))
+	above := x[iMed+1:] // the largest values; order statistic i is above[i−iMed−1]
+	iUp := int(math.Floor(float64(n-1)*0.975)) - iMed - 1
+	selectKth(above, iUp)
+	upper = interp(0.975, above[iUp], slices.Min(above[iUp+1:]))
+	return lower, median, upper
+}
+
+// replicateKDE writes the KDE of one resample (bandwidth h, or Abramson's per-date bandwidths with
+// pilot h) on the validated grid g to dst, as kdeWithBandwidth would compute it, with the plans and
+// buffers of sc.
+func replicateKDE(dst, agesMa, weight []float64, adaptive bool, h float64, g AgeGrid, sc *kdeScratch) error {
+	m := Mixture{AgeMa: agesMa, BandwidthMa: []float64{h}, Weight: weight}
+	if adaptive {
+		hs, _, err := AbramsonBandwidthsMa(agesMa, weight, h)
+		if err != nil {
+			return fmt.Errorf("kde: %w", err)
+		}
+		m.BandwidthMa = hs
+	}
+	sumW, err := m.validate()
+	if err != nil {
+		return fmt.Errorf("kde: evaluate density on grid: %w", err)
+	}
+	m.evalGrid(dst, g, sumW, sc)
+	return nil
 }

@@ -5,7 +5,7 @@ import (
 	"math"
 	"slices"
 
-	"gonum.org/v1/gonum/dsp/fourier"
+	"coeval/stats/internal/rfft"
 )
 
 // DefaultGridPoints is the number of grid points used when an AgeGrid leaves Points zero.
@@ -236,12 +236,71 @@ func (m Mixture) EvalGrid(g AgeGrid) ([]float64, error) {
 	if err := g.validate(); err != nil {
 		return nil, fmt.Errorf("evaluate density on grid: %w", err)
 	}
-	if len(m.BandwidthMa) == 1 && m.directCost(g) > maxDirectCost {
-		if out, ok := m.refinedBinned(g, sumW); ok {
-			return out, nil
-		}
+	out := make([]float64, g.Points)
+	m.evalGrid(out, g, sumW, new(kdeScratch))
+	return out, nil
+}
+
+// evalGrid is EvalGrid into dst (len g.Points) for a validated mixture and grid, with the FFT plans
+// and buffers of sc.
+func (m Mixture) evalGrid(dst []float64, g AgeGrid, sumW float64, sc *kdeScratch) {
+	if len(m.BandwidthMa) == 1 && m.directCost(g) > maxDirectCost && m.refinedBinned(dst, g, sumW, sc) {
+		return
 	}
-	return m.gridDirect(g, sumW), nil
+	m.gridDirect(dst, g, sumW)
+}
+
+// kdeScratch is what repeated binned KDEs reuse: an FFT plan per padded length, the buffer, and
+// the kernel's spectrum for the last bandwidth, step and length. The results are the same as with
+// fresh ones (a plan's twiddle factors depend on the length alone). Not safe for concurrent use:
+// one per goroutine. The zero value is ready.
+type kdeScratch struct {
+	plans map[int]*rfft.Plan
+	bins  []float64
+	// kernel[k] = exp(−½(2πhk/(dx·size))²) for kernelH, kernelDx, kernelSize.
+	kernel            []float64
+	kernelH, kernelDx float64
+	kernelSize        int
+}
+
+// plan returns the FFT plan for size, a length fastFFTLen gave.
+func (sc *kdeScratch) plan(size int) *rfft.Plan {
+	if sc.plans == nil {
+		sc.plans = map[int]*rfft.Plan{}
+	}
+	p, ok := sc.plans[size]
+	if !ok {
+		var err error
+		if p, err = rfft.New(size); err != nil {
+			panic(err) // fastFFTLen has only the factors 2, 3 and 5
+		}
+		sc.plans[size] = p
+	}
+	return p
+}
+
+// kernelSpectrum returns exp(−½(hθ_k/dx)²) for θ_k = 2πk/size, k = 0..size/2.
+func (sc *kdeScratch) kernelSpectrum(h, dx float64, size int) []float64 {
+	if sc.kernel != nil && sc.kernelH == h && sc.kernelDx == dx && sc.kernelSize == size {
+		return sc.kernel
+	}
+	sc.kernel = resize(sc.kernel, size/2+1)
+	a := 2 * math.Pi * h / (dx * float64(size))
+	for k := range sc.kernel {
+		z := a * float64(k)
+		sc.kernel[k] = math.Exp(-0.5 * z * z)
+	}
+	sc.kernelH, sc.kernelDx, sc.kernelSize = h, dx, size
+	return sc.kernel
+}
+
+// resize returns s with length n, reusing its array when it is large enough; the contents are not
+// cleared.
+func resize[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n)
+	}
+	return s[:n]
 }
 
 // directCost is the number of kernel terms gridDirect would evaluate (an upper bound).
@@ -250,27 +309,22 @@ func (m Mixture) directCost(g AgeGrid) float64 {
 	return float64(len(m.AgeMa)) * math.Min(reach, float64(g.Points))
 }
 
-// refinedBinned bins on a grid refined so that h spans at least minBinnedSteps steps, then keeps
-// every refine-th value. It reports false when the refined grid would be too long.
-func (m Mixture) refinedBinned(g AgeGrid, sumW float64) ([]float64, bool) {
+// refinedBinned bins on a grid refined so that h spans at least minBinnedSteps steps and writes
+// every refine-th value to dst (len g.Points). It reports false, leaving dst as it was, when the
+// refined grid would be too long.
+func (m Mixture) refinedBinned(dst []float64, g AgeGrid, sumW float64, sc *kdeScratch) bool {
 	refine := max(int(math.Ceil(minBinnedSteps*g.StepMa()/m.BandwidthMa[0])), 1)
 	if refine > maxRefine || (g.Points-1)*refine >= maxBinnedLen {
-		return nil, false
+		return false
 	}
 	fine := AgeGrid{MinMa: g.MinMa, MaxMa: g.MaxMa, Points: (g.Points-1)*refine + 1}
-	out, ok := m.binned(fine, sumW)
-	if !ok || refine == 1 {
-		return out, ok
-	}
-	for j := range g.Points {
-		out[j] = out[j*refine]
-	}
-	return out[:g.Points:g.Points], true
+	return m.binned(dst, refine, fine, sumW, sc)
 }
 
-// gridDirect sums each kernel over the grid points within gridExactCutoff bandwidths.
-func (m Mixture) gridDirect(g AgeGrid, sumW float64) []float64 {
-	out := make([]float64, g.Points)
+// gridDirect sets dst (len g.Points) to the sum of each kernel over the grid points within
+// gridExactCutoff bandwidths.
+func (m Mixture) gridDirect(dst []float64, g AgeGrid, sumW float64) {
+	clear(dst)
 	dx := g.StepMa()
 	for i, mu := range m.AgeMa {
 		w := m.weight(i)
@@ -288,34 +342,36 @@ func (m Mixture) gridDirect(g AgeGrid, sumW float64) []float64 {
 		inv := 1 / h
 		for j := j0; j <= j1; j++ {
 			z := (g.MinMa + float64(j)*dx - mu) * inv
-			out[j] += c * math.Exp(-0.5*z*z)
+			dst[j] += c * math.Exp(-0.5*z*z)
 		}
 	}
-	return out
 }
 
 // binned is the linear-binning + FFT convolution KDE for one shared bandwidth, which must span
-// at least 4 grid steps (refinedBinned ensures 16). It reports false when the padded grid would
-// be unreasonably long (bandwidth ≫ grid span).
+// at least 4 grid steps (refinedBinned ensures 16). It writes the density at every stride-th point
+// of g to dst (len(dst) = (g.Points−1)/stride + 1). It reports false, leaving dst as it was, when the
+// padded grid would be unreasonably long (bandwidth ≫ grid span).
 //
 // The kernel's spectrum is taken in closed form: by Poisson summation the DFT of the Gaussian
 // sampled at step dx is exp(−½(hθ/dx)²)/dx plus aliases of relative size exp(−2π²(h/dx)²), which
 // vanish in float64 for h ≥ 4dx; the circular wrap of the kernel reaches only points more than
 // 10 bandwidths away (φ(10)/φ(0) ≈ 2e-22).
-func (m Mixture) binned(g AgeGrid, sumW float64) ([]float64, bool) {
+func (m Mixture) binned(dst []float64, stride int, g AgeGrid, sumW float64, sc *kdeScratch) bool {
 	h := m.BandwidthMa[0]
 	dx := g.StepMa()
 	lf := math.Ceil(binnedCutoff * h / dx)
 	if lf > maxBinnedLen {
-		return nil, false
+		return false
 	}
 	l := int(lf)
 	inner := g.Points + 2*l // grid padded by the kernel's reach on both sides
 	size := fastFFTLen(inner + l)
 	if size > maxBinnedLen {
-		return nil, false
+		return false
 	}
-	bins := make([]float64, size)
+	sc.bins = resize(sc.bins, size)
+	bins := sc.bins
+	clear(bins)
 	origin := g.MinMa - float64(l)*dx
 	last := float64(inner - 1)
 	for i, x := range m.AgeMa {
@@ -333,21 +389,27 @@ func (m Mixture) binned(g AgeGrid, sumW float64) ([]float64, bool) {
 		bins[j] += w * (1 - frac)
 		bins[j+1] += w * frac
 	}
-	fft := fourier.NewFFT(size)
-	spec := fft.Coefficients(nil, bins)
+	// A real FFT (gonum's FFTPACK, transcribed in rfft), the kernel's spectrum applied to the packed
+	// coefficients as the complex products gonum's fourier.FFT would form, and the inverse.
+	fft := sc.plan(size)
+	fft.Forward(bins)
 	// The 1/size undoes the unnormalised inverse transform.
 	c := 1 / (dx * sumW * float64(size))
-	a := 2 * math.Pi * h / (dx * float64(size))
-	for k := range spec {
-		z := a * float64(k)
-		spec[k] *= complex(c*math.Exp(-0.5*z*z), 0)
+	kernel := sc.kernelSpectrum(h, dx, size)
+	bins[0] = real(complex(bins[0], 0) * complex(c*kernel[0], 0))
+	for k := 1; 2*k < size; k++ {
+		v := complex(bins[2*k-1], bins[2*k]) * complex(c*kernel[k], 0)
+		bins[2*k-1], bins[2*k] = real(v), imag(v)
 	}
-	conv := fft.Sequence(bins, spec)
-	out := make([]float64, g.Points)
-	for j := range out {
-		out[j] = max(conv[j+l], 0) // FFT rounding can dip below zero in the far tails
+	if size%2 == 0 {
+		bins[size-1] = real(complex(bins[size-1], 0) * complex(c*kernel[size/2], 0))
 	}
-	return out, true
+	fft.Backward(bins)
+	conv := bins
+	for j := range dst {
+		dst[j] = max(conv[j*stride+l], 0) // FFT rounding can dip below zero in the far tails
+	}
+	return true
 }
 
 // fastFFTLen returns the smallest n' ≥ n of the form 2^a·3^b·5^c, a length FFTPACK handles fast.

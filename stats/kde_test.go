@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"gonum.org/v1/gonum/dsp/fourier"
 )
 
 // k10PointsMa are the evaluation ages of check K10.
@@ -186,7 +188,8 @@ func TestBinnedMatchesExact(t *testing.T) {
 			}
 			// Small samples are summed directly by EvalGrid: force the binned path.
 			g := AgeGrid{MinMa: d.GridMa[0], MaxMa: d.GridMa[len(d.GridMa)-1], Points: len(d.GridMa)}
-			binned, ok := m.refinedBinned(g, float64(len(tt.ages)))
+			binned := make([]float64, g.Points)
+			ok := m.refinedBinned(binned, g, float64(len(tt.ages)), new(kdeScratch))
 			if !ok {
 				t.Fatal("binned path refused the grid")
 			}
@@ -337,5 +340,92 @@ func TestFastFFTLen(t *testing.T) {
 		if got := fastFFTLen(tt.n); got != tt.want {
 			t.Errorf("fastFFTLen(%d) = %d, want %d", tt.n, got, tt.want)
 		}
+	}
+}
+
+// binnedWithGonum is the binned KDE as it was computed with gonum's fourier.FFT (a fresh plan, the
+// spectrum unpacked to complex values): the reference that binned must match bit for bit, so that a
+// seeded band or page stays the same.
+func binnedWithGonum(m Mixture, g AgeGrid, sumW float64) []float64 {
+	h := m.BandwidthMa[0]
+	dx := g.StepMa()
+	l := int(math.Ceil(binnedCutoff * h / dx))
+	inner := g.Points + 2*l
+	size := fastFFTLen(inner + l)
+	bins := make([]float64, size)
+	origin := g.MinMa - float64(l)*dx
+	last := float64(inner - 1)
+	for i, x := range m.AgeMa {
+		pos := (x - origin) / dx
+		if !(pos >= 0 && pos <= last) {
+			continue
+		}
+		w := m.weight(i)
+		j := int(pos)
+		if j == inner-1 {
+			bins[j] += w
+			continue
+		}
+		frac := pos - float64(j)
+		bins[j] += w * (1 - frac)
+		bins[j+1] += w * frac
+	}
+	fft := fourier.NewFFT(size)
+	spec := fft.Coefficients(nil, bins)
+	c := 1 / (dx * sumW * float64(size))
+	a := 2 * math.Pi * h / (dx * float64(size))
+	for k := range spec {
+		z := a * float64(k)
+		spec[k] *= complex(c*math.Exp(-0.5*z*z), 0)
+	}
+	conv := fft.Sequence(bins, spec)
+	out := make([]float64, g.Points)
+	for j := range out {
+		out[j] = max(conv[j+l], 0)
+	}
+	return out
+}
+
+// TestBinnedSameAsGonumFFT: the binned KDE through rfft, with a scratch reused across calls of
+// different lengths and bandwidths, equals the one through gonum's fourier.FFT bit for bit, for
+// padded lengths even and odd.
+func TestBinnedSameAsGonumFFT(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	var sc kdeScratch
+	sizes := map[bool]int{}
+	for trial := range 300 {
+		n := 2 + rng.IntN(80)
+		ages, weight := make([]float64, n), make([]float64, n)
+		for i := range ages {
+			ages[i] = 150 + 3*rng.Float64()
+			weight[i] = rng.Float64()
+		}
+		m := Mixture{AgeMa: ages, BandwidthMa: []float64{0.01 + 0.2*rng.Float64()}}
+		if trial%2 == 1 {
+			m.Weight = weight
+		}
+		sumW, err := m.validate()
+		if err != nil {
+			t.Fatal(err)
+		}
+		g := AgeGrid{MinMa: 149.5 + rng.Float64(), MaxMa: 152 + 2*rng.Float64(), Points: 16 + rng.IntN(1500)}
+		if m.BandwidthMa[0] < 4*g.StepMa() {
+			continue // binned needs h ≥ 4 steps (refinedBinned ensures 16)
+		}
+		want := binnedWithGonum(m, g, sumW)
+		got := make([]float64, g.Points)
+		if !m.binned(got, 1, g, sumW, &sc) {
+			t.Fatalf("trial %d: binned refused the grid", trial)
+		}
+		for j := range want {
+			if math.Float64bits(got[j]) != math.Float64bits(want[j]) {
+				t.Fatalf("trial %d at %d: %v, with gonum's FFT %v", trial, j, got[j], want[j])
+			}
+		}
+		l := int(math.Ceil(binnedCutoff * m.BandwidthMa[0] / g.StepMa()))
+		sizes[fastFFTLen(g.Points+3*l)%2 == 1]++
+	}
+	if sizes[false] < 20 || sizes[true] < 5 {
+		t.Errorf("padded lengths tried: %d even, %d odd; want more of each", sizes[false], sizes[true])
 	}
 }

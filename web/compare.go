@@ -158,7 +158,7 @@ func (ch compareChoice) cacheKey(stamp int64) string {
 	d := ch.Dens
 	k := map[string]any{"stamp": stamp, "cal": d.Sum.Cal.Cal.Code, "policy": d.Sum.PolicyCode, "rule": d.Sum.Rule.String(),
 		"include": d.Sum.Include, "count": d.Count, "weight": d.Weight, "bw": d.Rule.String(), "h": d.UserHMa,
-		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps,
+		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps, "bw_each": d.BWEach,
 		"province": ch.ProvinceID, "pulses": ch.Pulses, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,
 		"anomalies": ch.Anomalies, "delta": ch.DeltaMa, "level": ch.Level.String(), "n": ch.N, "model": ch.Model,
 		"draws": ch.ModelDraws, "toc": ch.TocMin, "sens": ch.Sens, "order": ch.Order}

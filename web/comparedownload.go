@@ -108,6 +108,9 @@ func compareSettings(res *compareResult) [][2]string {
 		{"sensitivity sets", sensSets(res)},
 		{"data stamp", strconv.FormatInt(res.Stamp, 10)},
 	}
+	if d.BWEach {
+		s = append(s, [2]string{"bandwidth in the replicates", "re-estimated by the rule in each (bw_each=1)"})
+	}
 	for _, e := range res.In.Events {
 		s = append(s, [2]string{"event " + e.Code, e.Name + " (" + orDash(e.Section) + "): " + e.How})
 	}

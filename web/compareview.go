@@ -507,9 +507,13 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 		p := res.In.Pulses[row.PulseIdx]
 		ps := p.Summary
 		h := views.How{ID: howID(row.Pulse, row.Event.Code), Title: row.Pulse + " × " + row.Event.Name + " (" + orDash(row.Event.Section) + ")"}
+		eachBW := ""
+		if ch.Dens.BWEach {
+			eachBW = ", the bandwidth re-estimated in each (bw_each=1)"
+		}
 		h.Lines = []views.KV{
-			{Label: "Pulse", Value: fmt.Sprintf("%s of the KDE of %s (%s, h = %s Ma), edges from %d of %d bootstrap replicates (seed %d): onset %s Ma (95 %% %s), end %s Ma (95 %% %s)",
-				row.Pulse, res.Province.Name, res.Density.Bandwidth.Rule.Label(), fixed(res.Density.Bandwidth.Ma, 4), len(p.Edges.StartMa), ch.Dens.Reps, ch.Dens.Seed,
+			{Label: "Pulse", Value: fmt.Sprintf("%s of the KDE of %s (%s, h = %s Ma), edges from %d of %d bootstrap replicates (seed %d%s): onset %s Ma (95 %% %s), end %s Ma (95 %% %s)",
+				row.Pulse, res.Province.Name, res.Density.Bandwidth.Rule.Label(), fixed(res.Density.Bandwidth.Ma, 4), len(p.Edges.StartMa), ch.Dens.Reps, ch.Dens.Seed, eachBW,
 				fixed(ps.StartMa, 3), interval(ps.Start, 3), fixed(ps.EndMa, 3), interval(ps.End, 3))},
 			{Label: "Pulse systematics", Value: res.In.EdgeNote},
 			{Label: "Event", Value: row.Event.How},

@@ -55,6 +55,7 @@ type densityChoice struct {
 	ToMa     *float64
 	Seed     uint64 // seed= (default 1)
 	Reps     int    // reps= bootstrap replicates (default 1000)
+	BWEach   bool   // bw_each=1: the rule applied afresh in every replicate (closed-form rules only: see densityChoice)
 	Format   string // format=html|svg|png|pdf|csv|json
 	Table    string // table=pulses|density|values, for format=csv
 }
@@ -120,6 +121,12 @@ func (s *Server) densityChoice(ctx context.Context, p *params) (densityChoice, e
 	}
 	if ch.FromMa != nil && ch.ToMa != nil && *ch.FromMa == *ch.ToMa {
 		p.problems = append(p.problems, "from, to: the window needs two different ages")
+	}
+	// bw_each=1 lets the band carry the bandwidth's own uncertainty. ISJ is refused there: its root search
+	// on a 2¹⁴-point grid costs milliseconds, seconds over a page's replicates.
+	ch.BWEach = onOff(p, "bw_each")
+	if ch.BWEach && (ch.Rule == stats.RuleISJ || ch.Rule == stats.RuleUser) {
+		p.problems = append(p.problems, fmt.Sprintf("bw_each: re-estimating the bandwidth in every replicate needs bw=scott, silverman or silverman-robust, not %s (ISJ in every replicate would take seconds; a set h has nothing to re-estimate)", ch.Rule))
 	}
 	ch.Seed = uint64(p.int("seed", defaultSeed, 0, math.MaxInt32))
 	ch.Reps = p.int("reps", defaultReps, 100, 10000)
@@ -290,11 +297,16 @@ func computeDensity(sums []unitSummary, ch densityChoice, dateBars [][2]float64)
 		return res, nil
 	}
 	grid := stats.AgeGrid{MinMa: res.MinMa, MaxMa: res.MaxMa, Points: densityPoints(res.MaxMa-res.MinMa, res.Bandwidth.Ma, ch, sigmas)}
+	// The bandwidth chosen above, handed on as set: the rule is not run twice (ISJ is the costly one),
+	// and the replicates keep the reference h. With bw_each=1 the (closed-form) rule goes to the
+	// bootstrap instead, which gives the reference the same h and applies the rule to every replicate.
+	bandBW := stats.BandwidthOptions{Rule: stats.RuleUser, UserMa: res.Bandwidth.Ma}
+	if ch.BWEach {
+		bandBW = stats.BandwidthOptions{Rule: ch.Rule}
+	}
 	band, err := stats.BootstrapBand(ages, sigmas, stats.BandOptions{
-		// The bandwidth chosen above, handed on as set: the rule is not run twice (ISJ is the costly one),
-		// and the replicates keep the reference h either way.
-		KDE:        stats.KDEOptions{Bandwidth: stats.BandwidthOptions{Rule: stats.RuleUser, UserMa: res.Bandwidth.Ma}, Adaptive: ch.Adaptive, Weight: weights, Grid: grid},
-		Replicates: ch.Reps, Seed: ch.Seed})
+		KDE:        stats.KDEOptions{Bandwidth: bandBW, Adaptive: ch.Adaptive, Weight: weights, Grid: grid},
+		Replicates: ch.Reps, Seed: ch.Seed, ReestimateBandwidth: ch.BWEach})
 	if err != nil {
 		return res, fmt.Errorf("density band: %w", err)
 	}

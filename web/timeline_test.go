@@ -154,6 +154,68 @@ func TestTimelineEachBandwidthRule(t *testing.T) {
 	}
 }
 
+// With bw_each=1 the rule is applied afresh to every replicate: the band changes (it carries the
+// bandwidth's own uncertainty) while the reference density does not, the page says so, and a seed still
+// gives one band.
+func TestTimelineBandwidthInEachReplicate(t *testing.T) {
+	srv, _ := mustServer(t)
+	type point struct {
+		KDE   float64 `json:"kde_per_ma"`
+		Lower float64 `json:"band_lower_per_ma"`
+		Upper float64 `json:"band_upper_per_ma"`
+	}
+	density := func(path string) ([]point, string) {
+		t.Helper()
+		status, _, body := get(t, srv, path)
+		if status != http.StatusOK {
+			t.Fatalf("%s: status %d", path, status)
+		}
+		var v struct {
+			Density   []point        `json:"density"`
+			Bandwidth map[string]any `json:"bandwidth"`
+		}
+		if err := json.Unmarshal([]byte(body), &v); err != nil {
+			t.Fatal(err)
+		}
+		if each := v.Bandwidth["reestimated_in_each_replicate"] == true; each != strings.Contains(path, "bw_each=1") {
+			t.Errorf("%s: bandwidth %v", path, v.Bandwidth)
+		}
+		return v.Density, body
+	}
+	for _, q := range []string{"count=date&bw=scott", "bw=silverman-robust", "count=date&bw=silverman&weight=volume&adaptive=1"} {
+		t.Run(q, func(t *testing.T) {
+			held, _ := density("/provinces/1/timeline?format=json&" + q)
+			each, body := density("/provinces/1/timeline?format=json&bw_each=1&" + q)
+			if len(held) != len(each) {
+				t.Fatalf("%d and %d grid points: the grid follows the reference h and must not change", len(held), len(each))
+			}
+			bandMoved := false
+			for j := range held {
+				if held[j].KDE != each[j].KDE {
+					t.Fatalf("at %d the reference density changed: %v → %v", j, held[j].KDE, each[j].KDE)
+				}
+				bandMoved = bandMoved || held[j].Lower != each[j].Lower || held[j].Upper != each[j].Upper
+			}
+			if !bandMoved {
+				t.Error("re-estimating the bandwidth left the band as it was")
+			}
+			if _, again := density("/provinces/1/timeline?format=json&bw_each=1&" + q); again != body {
+				t.Error("the same seed gave another band")
+			}
+			if _, other := density("/provinces/1/timeline?format=json&bw_each=1&seed=2&" + q); other == body {
+				t.Error("another seed gave the same band")
+			}
+		})
+	}
+	_, _, page := get(t, srv, "/provinces/1/timeline?bw=scott&bw_each=1")
+	if !strings.Contains(page, "bandwidth re-estimated by the scott rule in every replicate (bw_each=1)") {
+		t.Error("the figure's subtitle does not say the bandwidth was re-estimated in every replicate")
+	}
+	if !regexp.MustCompile(`<option value="1" selected[^>]*>re-estimated in each`).MatchString(page) {
+		t.Error("the form does not show bw_each=1 as chosen")
+	}
+}
+
 // mustSmallProvince adds a province of ten units with one U–Pb date each, at the K10 ages of REFERENCES §4,
 // and returns its id.
 func mustSmallProvince(t testing.TB, db *store.DB) int64 {
@@ -287,6 +349,9 @@ func TestTimelineBadParameters(t *testing.T) {
 		{"weight=mass", "weight"},
 		{"pdp=yes", "pdp"},
 		{"adaptive=2", "adaptive"},
+		{"bw_each=2", "bw_each"},
+		{"bw_each=1", "bw_each"}, // with the default ISJ
+		{"bw_each=1&bw=user&h=0.1", "bw_each"},
 		{"format=gif", "format"},
 		{"table=ages", "table"},
 		{"sigma=3", "sigma"},
@@ -430,25 +495,34 @@ func TestTimelineFigureContent(t *testing.T) {
 }
 
 // TestTimelineGolden keeps the demo timeline's SVG under testdata/ (go test ./web -run Golden -update
-// rewrites it). The bootstrap is seeded, so the figure is the same on every run.
+// rewrites it): the default view (unit means, exact kernel sums) and the per-date view (ISJ bandwidth,
+// the binned FFT path). The bootstrap is seeded, so the figure is the same on every run and with any
+// number of workers.
 func TestTimelineGolden(t *testing.T) {
 	srv, _ := mustServer(t)
-	_, _, svg := get(t, srv, "/provinces/1/timeline?format=svg")
-	golden := filepath.Join("testdata", "timeline-demo.svg")
-	if *update {
-		if err := os.MkdirAll("testdata", 0o755); err != nil {
-			t.Fatal(err)
-		}
-		if err := os.WriteFile(golden, []byte(svg), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want, err := os.ReadFile(golden)
-	if err != nil {
-		t.Fatalf("%v (run go test ./web -run Golden -update)", err)
-	}
-	if svg != string(want) {
-		t.Errorf("demo timeline differs from %s; if the change is intended, run go test ./web -run Golden -update and look at the figure", golden)
+	for _, c := range []struct{ path, golden string }{
+		{"/provinces/1/timeline?format=svg", "timeline-demo.svg"},
+		{"/provinces/1/timeline?count=date&format=svg", "timeline-demo-dates.svg"},
+	} {
+		t.Run(c.golden, func(t *testing.T) {
+			_, _, svg := get(t, srv, c.path)
+			golden := filepath.Join("testdata", c.golden)
+			if *update {
+				if err := os.MkdirAll("testdata", 0o755); err != nil {
+					t.Fatal(err)
+				}
+				if err := os.WriteFile(golden, []byte(svg), 0o644); err != nil {
+					t.Fatal(err)
+				}
+			}
+			want, err := os.ReadFile(golden)
+			if err != nil {
+				t.Fatalf("%v (run go test ./web -run Golden -update)", err)
+			}
+			if svg != string(want) {
+				t.Errorf("%s differs from %s; if the change is intended, run go test ./web -run Golden -update and look at the figure", c.path, golden)
+			}
+		})
 	}
 }
 
@@ -478,5 +552,16 @@ func TestSavePulsesFromTheTimeline(t *testing.T) {
 	_, body, _ := do(t, c, http.MethodGet, srv.URL+"/provinces/1/timeline?reps=200&seed=3", nil)
 	if !strings.Contains(body, "Pulses saved as records") || !strings.Contains(body, "Found from the density") {
 		t.Error("the timeline does not list the saved pulses")
+	}
+}
+
+// The comparison reads the density's choices with the timeline's parsing, so bw_each=1 reaches its
+// density too: it must be part of the comparison's cache key, or a cached band would be served for the
+// other choice.
+func TestCompareCacheKeyHoldsBandwidthInEachReplicate(t *testing.T) {
+	var held, each compareChoice
+	each.Dens.BWEach = true
+	if held.cacheKey(1) == each.cacheKey(1) {
+		t.Error("bw_each=1 and bw_each=0 share a comparison cache entry")
 	}
 }

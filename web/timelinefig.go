@@ -161,13 +161,21 @@ func countedText(res densityResult, ch densityChoice) string {
 }
 
 // bandText says how the band and the pulse intervals were made.
-func bandText(ch densityChoice) string {
+func bandText(res densityResult, ch densityChoice) string {
 	what := "units"
 	if ch.Count == "date" {
 		what = "dates"
 	}
-	return fmt.Sprintf("95 %% bootstrap band and pulse intervals from %d replicates (reps=%d, seed=%d): %s resampled with replacement and each moved by a normal draw of its own 1σ; bandwidth held at the reference h.",
-		ch.Reps, ch.Reps, ch.Seed, what)
+	bw := "bandwidth held at the reference h."
+	if ch.BWEach {
+		bw = fmt.Sprintf("bandwidth re-estimated by the %s rule in every replicate (bw_each=1), so the band includes the bandwidth's own uncertainty", ch.Rule)
+		if res.Band != nil && res.Band.Fallbacks > 0 {
+			bw += fmt.Sprintf("; the rule fell back in %d replicates", res.Band.Fallbacks)
+		}
+		bw += "."
+	}
+	return fmt.Sprintf("95 %% bootstrap band and pulse intervals from %d replicates (reps=%d, seed=%d): %s resampled with replacement and each moved by a normal draw of its own 1σ; %s",
+		ch.Reps, ch.Reps, ch.Seed, what, bw)
 }
 
 // timelineFigure assembles the figure's view model.
@@ -180,7 +188,7 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 	if res.Band == nil {
 		f.Subtitle = append(f.Subtitle, res.Message)
 	} else {
-		f.Subtitle = append(f.Subtitle, ruleText(res, ch)+". "+bandText(ch))
+		f.Subtitle = append(f.Subtitle, ruleText(res, ch)+". "+bandText(res, ch))
 		if res.Bandwidth.Note != "" {
 			f.Subtitle = append(f.Subtitle, "Bandwidth: "+res.Bandwidth.Note)
 		}
@@ -337,6 +345,8 @@ func timelineForm(action string, ch densityChoice) *views.Form {
 		{Name: "to", Label: "to (Ma)", Kind: "number", Value: to, Step: "any", Placeholder: "auto"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Seed, 10), Step: "1"},
 		{Name: "reps", Label: "Replicates", Kind: "number", Value: itoa(ch.Reps), Step: "1"},
+		{Name: "bw_each", Label: "Bandwidth in the replicates", Kind: "select", Options: []views.Option{
+			opt("0", "held at the reference h", onoff(ch.BWEach)), opt("1", "re-estimated in each (scott, silverman, robust)", onoff(ch.BWEach))}},
 	}
 	fields = append(fields, summaryForm(action, ch.Sum).Fields...)
 	return &views.Form{Action: action, Reset: action, Fields: fields}
@@ -379,7 +389,7 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 // timelineJSON is the density, its pulses and the values counted, with every choice that made them.
 func timelineJSON(r *http.Request, prov store.Province, res densityResult, ch densityChoice) map[string]any {
 	choices := map[string]string{}
-	for _, k := range []string{"count", "weight", "bw", "h", "adaptive", "pdp", "from", "to", "seed", "reps", "cal", "level", "sigma", "policy", "rule", "include"} {
+	for _, k := range []string{"count", "weight", "bw", "h", "adaptive", "pdp", "from", "to", "seed", "reps", "bw_each", "cal", "level", "sigma", "policy", "rule", "include"} {
 		if v := r.URL.Query().Get(k); v != "" {
 			choices[k] = v
 		}
@@ -404,8 +414,13 @@ func timelineJSON(r *http.Request, prov store.Province, res densityResult, ch de
 	}
 	b := res.Band.Reference
 	out["density_kind"] = b.Kind.String()
-	out["bandwidth"] = map[string]any{"h_ma": res.Bandwidth.Ma, "rule": res.Bandwidth.Rule.String(), "requested": res.Bandwidth.Requested.String(),
+	bw := map[string]any{"h_ma": res.Bandwidth.Ma, "rule": res.Bandwidth.Rule.String(), "requested": res.Bandwidth.Requested.String(),
 		"fallback": res.Bandwidth.Fallback(), "note": res.Bandwidth.Note}
+	if ch.BWEach {
+		bw["reestimated_in_each_replicate"] = true
+		bw["replicate_fallbacks"] = res.Band.Fallbacks
+	}
+	out["bandwidth"] = bw
 	type pulseJSON struct {
 		Pulse     string             `json:"pulse"`
 		Frequency float64            `json:"frequency"`
