@@ -253,12 +253,29 @@ type compareData struct {
 	Samples   map[int64][]store.Sample
 	Ties      map[int64][]store.TiePoint // the ties the age models use: those include= lets in
 	TiesOut   map[int64][]store.TiePoint // the ties include= leaves out
+	EventsIn  []store.Event              // the events include= lets in (section and direct), for its cautions
+	EventsOut []store.Event              // the events include= leaves out
 	Events    map[int64][]store.Event
 	Direct    []store.Event // events with a direct age and no section
 	Hiatuses  map[int64][]store.Hiatus
 	TieIns    map[int64][]tieInput // the ties as the age model uses them (dates at the full level)
 	LinkDates map[int64]store.Date // dates linked to tie points
 	Cals      []store.Calibration
+}
+
+// reviewedEvents keeps the events include= lets into the comparison (as for dates and ties) and notes
+// the others, so the page can say what it left out.
+func (d *compareData) reviewedEvents(evs []store.Event, include string) []store.Event {
+	var in []store.Event
+	for _, e := range evs {
+		if included(include, e.ReviewState) {
+			in = append(in, e)
+			d.EventsIn = append(d.EventsIn, e)
+		} else {
+			d.EventsOut = append(d.EventsOut, e)
+		}
+	}
+	return in
 }
 
 func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compareData, error) {
@@ -320,9 +337,11 @@ func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compa
 				d.TiesOut[sec.ID] = append(d.TiesOut[sec.ID], t)
 			}
 		}
-		if d.Events[sec.ID], err = s.store.Events(ctx, sec.ID); err != nil {
+		evs, err := s.store.Events(ctx, sec.ID)
+		if err != nil {
 			return nil, err
 		}
+		d.Events[sec.ID] = d.reviewedEvents(evs, ch.Dens.Sum.Include)
 		if d.Hiatuses[sec.ID], err = s.store.Hiatuses(ctx, sec.ID); err != nil {
 			return nil, err
 		}
@@ -346,7 +365,7 @@ func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compa
 	for _, e := range evs {
 		known[e.ID] = true
 		if e.SectionID == nil && e.AgeMa != nil && e.SigmaMa != nil {
-			d.Direct = append(d.Direct, e)
+			d.Direct = append(d.Direct, d.reviewedEvents([]store.Event{e}, ch.Dens.Sum.Include)...)
 		}
 	}
 	for _, id := range ch.EventIDs {
@@ -790,6 +809,36 @@ type compareResult struct {
 }
 
 // sensRowName names a probability of the sensitivity analysis.
+// eventReviewCautions names the events waiting for review that include= left out of the comparison, and
+// the unreviewed or rejected ones it let in.
+func eventReviewCautions(used, left []store.Event, include string) []string {
+	names := func(es []store.Event, state string) []string {
+		var out []string
+		for _, e := range es {
+			if e.ReviewState == state {
+				name := e.Name
+				if e.Section != "" {
+					name += " (" + e.Section + ")"
+				}
+				out = append(out, name)
+			}
+		}
+		return out
+	}
+	var out []string
+	if p := names(left, "pending"); len(p) > 0 {
+		out = append(out, fmt.Sprintf("Left out of the comparison: %s waiting for a curator's review (%s) — include=%s; include=pending compares %s now.",
+			count(len(p), "event"), strings.Join(p, ", "), include, itThem(len(p))))
+	}
+	if p := names(used, "pending"); len(p) > 0 {
+		out = append(out, fmt.Sprintf("The comparison includes %s that no curator has reviewed yet (include=%s): %s.", count(len(p), "pending event"), include, strings.Join(p, ", ")))
+	}
+	if rj := names(used, "rejected"); len(rj) > 0 {
+		out = append(out, fmt.Sprintf("The comparison includes %s (include=%s): %s.", count(len(rj), "rejected event"), include, strings.Join(rj, ", ")))
+	}
+	return out
+}
+
 func sensRowName(pulse, event, what string) string { return pulse + " × " + event + " · " + what }
 
 // computeComparison builds the inputs and runs the engine.
@@ -833,6 +882,7 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	for _, sec := range d.Sections {
 		res.Cautions = append(res.Cautions, tieReviewCautions(sec.Name, d.Ties[sec.ID], d.TiesOut[sec.ID], ch.Dens.Sum.Include)...)
 	}
+	res.Cautions = append(res.Cautions, eventReviewCautions(d.EventsIn, d.EventsOut, ch.Dens.Sum.Include)...)
 	if len(pulses) == 0 || len(events) == 0 {
 		if len(events) == 0 {
 			res.Cautions = append(res.Cautions, "No event with an age to compare in the chosen sections.")

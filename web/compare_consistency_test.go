@@ -54,3 +54,31 @@ func TestCompareReadsOneStateOfTheCompilation(t *testing.T) {
 		t.Errorf("the comparison read during a change differs from one computed on the changed compilation (stamp %d):\n%.600s\n---\n%.600s", stamp, got, want)
 	}
 }
+
+// A contributor's event waits for review: the comparison leaves it out and says so by name, and
+// include=pending compares it (the same rule as for dates and tie points).
+func TestCompareLeavesPendingEventsOut(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	secs, err := db.Sections(ctx)
+	if err != nil || len(secs) == 0 {
+		t.Fatal(secs, err)
+	}
+	ev, err := db.AddSectionEvent(ctx, secs[0].ID, store.EventForm{Name: "Contributed horizon", Kind: "extinction", BaseHeightM: "40"}, false)
+	if err != nil || ev.ReviewState != "pending" {
+		t.Fatalf("contributor's event %+v (%v), want pending", ev, err)
+	}
+	_, _, page := get(t, srv, "/compare?sens=0&n=2000")
+	_, _, table := get(t, srv, "/compare?sens=0&n=2000&format=csv")
+	if strings.Contains(table, "Contributed horizon") {
+		t.Error("the comparison compares an event no curator has accepted")
+	}
+	if !strings.Contains(page, "Left out of the comparison: 1 event waiting for a curator&#39;s review (Contributed horizon") {
+		t.Error("the comparison page does not name the pending event it left out")
+	}
+	_, _, table = get(t, srv, "/compare?sens=0&n=2000&format=csv&include=pending")
+	_, _, page = get(t, srv, "/compare?sens=0&n=2000&include=pending")
+	if !strings.Contains(table, "Contributed horizon") || !strings.Contains(page, "includes 1 pending event that no curator has reviewed yet") {
+		t.Error("include=pending does not compare the pending event, or does not say it is unreviewed")
+	}
+}
