@@ -140,7 +140,7 @@ func (d *DB) revertTx(ctx context.Context, tx *sql.Tx, batch int64, rev Revision
 	return rt.revert(ctx, d, tx, batch, rev)
 }
 
-// AcceptBatch accepts, as one new change, every date, event and tie point that batch added and that still
+// AcceptBatch accepts, as one new change, every date, event, tie point and hiatus that batch added and that still
 // waits for review as it was added. Records changed since are left for review one by one; the second result names
 // them. It returns how many records were accepted.
 func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, error) {
@@ -148,7 +148,7 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 	var skipped []string
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		n, skipped = 0, nil
-		revs, err := queryAllTx(ctx, tx, revisionSelect+` WHERE r.batch_id = ? AND r.before_json IS NULL AND r.record_type IN ('date', 'event', 'tie_point') ORDER BY r.id`,
+		revs, err := queryAllTx(ctx, tx, revisionSelect+` WHERE r.batch_id = ? AND r.before_json IS NULL AND r.record_type IN ('date', 'event', 'tie_point', 'hiatus') ORDER BY r.id`,
 			[]any{batchID}, scanRevision)
 		if err != nil {
 			return err
@@ -227,6 +227,25 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 				if _, err := tieType().update(ctx, d, tx, accept, rev.RecordID, before.Version, x); err != nil {
 					return err
 				}
+			case "hiatus":
+				before, err := hiatusInTx(ctx, tx, rev.RecordID)
+				if errors.Is(err, ErrNotFound) {
+					continue
+				} else if err != nil {
+					return err
+				}
+				if before.ReviewState != "pending" {
+					continue
+				}
+				if !same {
+					skipped = append(skipped, hiatusLabel(before))
+					continue
+				}
+				x := before
+				x.ReviewState = "accepted"
+				if _, err := hiatusType().update(ctx, d, tx, accept, rev.RecordID, before.Version, x); err != nil {
+					return err
+				}
 			}
 			n++
 		}
@@ -238,7 +257,7 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 	return n, skipped, err
 }
 
-// PendingInBatch counts the dates, events and tie points batch added that wait for review now.
+// PendingInBatch counts the dates, events, tie points and hiatuses batch added that wait for review now.
 func (d *DB) PendingInBatch(ctx context.Context, batchID int64) (int, error) {
 	var n int
 	err := d.db.QueryRowContext(ctx, `SELECT
@@ -247,6 +266,8 @@ func (d *DB) PendingInBatch(ctx context.Context, batchID int64) (int, error) {
 		(SELECT count(*) FROM revisions r JOIN events x ON x.id = r.record_id
 			WHERE r.batch_id = ?1 AND r.record_type = 'event' AND r.before_json IS NULL AND x.review_state = 'pending') +
 		(SELECT count(*) FROM revisions r JOIN tie_points x ON x.id = r.record_id
-			WHERE r.batch_id = ?1 AND r.record_type = 'tie_point' AND r.before_json IS NULL AND x.review_state = 'pending')`, batchID).Scan(&n)
+			WHERE r.batch_id = ?1 AND r.record_type = 'tie_point' AND r.before_json IS NULL AND x.review_state = 'pending') +
+		(SELECT count(*) FROM revisions r JOIN hiatuses x ON x.id = r.record_id
+			WHERE r.batch_id = ?1 AND r.record_type = 'hiatus' AND r.before_json IS NULL AND x.review_state = 'pending')`, batchID).Scan(&n)
 	return n, err
 }

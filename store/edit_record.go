@@ -229,7 +229,7 @@ func (rt recordType[T]) revert(ctx context.Context, d *DB, tx *sql.Tx, batch int
 	case isForeignKeyViolation(err):
 		return &ValidationError{[]Problem{{Message: fmt.Sprintf("%s refers to a record that no longer exists; restore that first", rt.label(old))}}}
 	case isUniqueViolation(err):
-		return &ValidationError{[]Problem{{Message: fmt.Sprintf("another record now has the name of %s; rename it first", rt.label(old))}}}
+		return &ValidationError{[]Problem{{Message: fmt.Sprintf("another record now has the name or place of %s; change that one first", rt.label(old))}}}
 	case err != nil:
 		return fmt.Errorf("restore %s: %w", rt.label(old), err)
 	}
@@ -258,7 +258,7 @@ func (rt recordType[T]) state(ctx context.Context, tx *sql.Tx, id int64) (any, e
 // reverters gives the record types RevertRevision handles besides dates.
 func reverters() map[string]reverter {
 	return map[string]reverter{"province": provinceType(), "unit": unitType(), "section": sectionType(),
-		"tie_point": tieType(), "event": eventType(), "anomaly_decision": anomalyDecisionType()}
+		"tie_point": tieType(), "event": eventType(), "hiatus": hiatusType(), "anomaly_decision": anomalyDecisionType()}
 }
 
 // Restorable reports whether RevertRevision can restore records of recordType.

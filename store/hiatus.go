@@ -1,21 +1,229 @@
 package store
 
-import "context"
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"io"
+	"strings"
+)
 
 // Hiatus is a surface in a section where time is missing: at least MinDurationMa passes at HeightM.
+// Hiatuses are reviewed like tie points, since the age–height model honours them.
 type Hiatus struct {
 	ID            int64   `json:"id"`
 	SectionID     int64   `json:"section_id"`
+	Section       string  `json:"section"`
 	HeightM       float64 `json:"height_m"`
 	MinDurationMa float64 `json:"min_duration_ma"`
+	ReviewState   string  `json:"review_state"` // pending, accepted, rejected: age models use accepted hiatuses by default
+	ReviewNote    string  `json:"review_note"`
 	Notes         string  `json:"notes"`
+	Version       int     `json:"version"`
+	CreatedAt     string  `json:"created_at"`
+	UpdatedAt     string  `json:"updated_at"`
 }
 
-// Hiatuses returns the hiatuses of a section, lowest first.
+// hiatusColumns are the cells of a hiatus, in the shape of an import format (there is no hiatus file yet:
+// hiatuses are entered with the form, which reads these cells with the importers' row reader).
+var hiatusColumns = []string{"height_m", "min_duration_ma", "review_state", "notes"}
+
+const hiatusSelect = `SELECT h.id, h.section_id, s.name, h.height_m, h.min_duration_ma, h.review_state, h.review_note,
+	h.notes, h.version, h.created_at, h.updated_at FROM hiatuses h JOIN sections s ON s.id = h.section_id`
+
+func scanHiatus(r interface{ Scan(...any) error }) (Hiatus, error) {
+	var h Hiatus
+	err := r.Scan(&h.ID, &h.SectionID, &h.Section, &h.HeightM, &h.MinDurationMa, &h.ReviewState, &h.ReviewNote,
+		&h.Notes, &h.Version, &h.CreatedAt, &h.UpdatedAt)
+	return h, err
+}
+
+// Hiatuses returns the hiatuses of a section, whatever their review state, lowest first.
 func (d *DB) Hiatuses(ctx context.Context, sectionID int64) ([]Hiatus, error) {
-	return queryAll(ctx, d.db, `SELECT id, section_id, height_m, min_duration_ma, notes FROM hiatuses
-		WHERE section_id = ? ORDER BY height_m, id`, []any{sectionID}, func(r interface{ Scan(...any) error }) (Hiatus, error) {
-		var h Hiatus
-		return h, r.Scan(&h.ID, &h.SectionID, &h.HeightM, &h.MinDurationMa, &h.Notes)
+	return queryAll(ctx, d.db, hiatusSelect+` WHERE h.section_id = ? ORDER BY h.height_m, h.id`, []any{sectionID}, scanHiatus)
+}
+
+// Hiatus returns one hiatus, or ErrNotFound.
+func (d *DB) Hiatus(ctx context.Context, id int64) (Hiatus, error) {
+	h, err := scanHiatus(d.db.QueryRowContext(ctx, hiatusSelect+` WHERE h.id = ?`, id))
+	return h, notFound(err, "hiatus", id)
+}
+
+func hiatusInTx(ctx context.Context, tx *sql.Tx, id int64) (Hiatus, error) {
+	h, err := scanHiatus(tx.QueryRowContext(ctx, hiatusSelect+` WHERE h.id = ?`, id))
+	return h, notFound(err, "hiatus", id)
+}
+
+func hiatusType() recordType[Hiatus] {
+	return recordType[Hiatus]{
+		name:  "hiatus",
+		table: "hiatuses",
+		cols:  []string{"section_id", "height_m", "min_duration_ma", "review_state", "review_note", "notes"},
+		vals: func(h Hiatus) []any {
+			return []any{h.SectionID, h.HeightM, h.MinDurationMa, h.ReviewState, h.ReviewNote, h.Notes}
+		},
+		meta:  func(h Hiatus) (int64, int, string) { return h.ID, h.Version, h.CreatedAt },
+		label: hiatusLabel,
+		load:  hiatusInTx,
+	}
+}
+
+// hiatusLabel names a hiatus by its height (it has no name), e.g. `hiatus at 31.5 m`.
+func hiatusLabel(h Hiatus) string {
+	return fmt.Sprintf("hiatus at %s m", formatNumber(h.HeightM))
+}
+
+// writeHiatusesCSV writes hiatuses in their columns (hiatusColumns), with their review state.
+func writeHiatusesCSV(w io.Writer, hs []Hiatus) error {
+	return writeCSV(w, hiatusColumns, func(emit func([]string) error) error {
+		for _, h := range hs {
+			if err := emit([]string{formatNumber(h.HeightM), formatNumber(h.MinDurationMa), h.ReviewState, h.Notes}); err != nil {
+				return err
+			}
+		}
+		return nil
 	})
+}
+
+// FormOfHiatus gives the form cells of a stored hiatus: height, minimum duration, review state and notes.
+func FormOfHiatus(h Hiatus) Form {
+	return formOf(func(w io.Writer) error { return writeHiatusesCSV(w, []Hiatus{h}) })
+}
+
+// parseHiatusRow reads one row of hiatus cells: a height in metres above the section's base and the least
+// time the surface represents, in Ma (0 when only the surface is known).
+func parseHiatusRow(rw row) Hiatus {
+	h := Hiatus{ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
+	if z, ok := rw.float("height_m"); ok {
+		h.HeightM = z
+	}
+	if dur, ok := rw.float("min_duration_ma"); ok {
+		switch {
+		case dur < 0:
+			rw.problem("min_duration_ma", "want a duration in Ma of 0 or more, got %s", formatNumber(dur))
+		case dur > 4600:
+			rw.problem("min_duration_ma", "want a duration in Ma of at most 4600, got %s (years instead of Ma?)", formatNumber(dur))
+		default:
+			h.MinDurationMa = dur
+		}
+	}
+	return h
+}
+
+// parseHiatusForm checks a form with the hiatus row parser, its review state included (a contributor's
+// hiatus is pending whatever the form says). Problems name fields.
+func parseHiatusForm(f Form, asCurator bool) (Hiatus, []Problem) {
+	rw, t := formRow(hiatusColumns, f)
+	h := parseHiatusRow(rw)
+	if !asCurator {
+		h.ReviewState = "pending"
+	}
+	return h, t.problems
+}
+
+// hiatusHeightProblem refuses a second hiatus at one height of a section: the age model cannot place two.
+func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h Hiatus) ([]Problem, error) {
+	return uniqueProblem(ctx, tx, "height_m", fmt.Sprintf("the section already has a hiatus at %s m", formatNumber(h.HeightM)),
+		`SELECT id FROM hiatuses WHERE section_id = ? AND height_m = ? AND id <> ?`, h.SectionID, h.HeightM, h.ID)
+}
+
+// CreateHiatus adds one hiatus to section sectionID from a form, as the actor of ctx. A contributor's
+// hiatus (asCurator false) starts pending; a curator's takes the form's review_state (accepted when
+// empty). It returns ErrNotFound for an unknown section and a *ValidationError naming fields.
+func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurator bool) (Hiatus, error) {
+	h, problems := parseHiatusForm(f, asCurator)
+	var out Hiatus
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		sec, err := sectionInTx(ctx, tx, sectionID)
+		if err != nil {
+			return err
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		h.SectionID = sec.ID
+		if ps, err := hiatusHeightProblem(ctx, tx, h); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "add hiatus", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = hiatusType().insert(ctx, d, tx, batch, h); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added %s of %s", hiatusLabel(h), sec.Name))
+	})
+	return out, err
+}
+
+// UpdateHiatus replaces hiatus id with the form's values when the stored version is still version;
+// otherwise it returns ErrConflict and changes nothing. The hiatus stays in its section and keeps its
+// review note; a contributor's edit (asCurator false) makes it pending.
+func (d *DB) UpdateHiatus(ctx context.Context, id int64, version int, f Form, asCurator bool) (Hiatus, error) {
+	h, problems := parseHiatusForm(f, asCurator)
+	var out Hiatus
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := hiatusInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		if before.Version != version {
+			return ErrConflict
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		h.ID, h.SectionID, h.ReviewNote = id, before.SectionID, before.ReviewNote
+		if ps, err := hiatusHeightProblem(ctx, tx, h); err != nil || len(ps) > 0 {
+			return orProblems(err, ps)
+		}
+		batch, err := d.newBatch(ctx, tx, "edit hiatus", "form")
+		if err != nil {
+			return err
+		}
+		if out, err = hiatusType().update(ctx, d, tx, batch, id, version, h); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("edited %s of %s", hiatusLabel(out), out.Section))
+	})
+	return out, err
+}
+
+// ReviewHiatus accepts or rejects hiatus id (at version), as a curator; a rejection needs a reason, which
+// is kept as the review note (an acceptance's note is optional). It returns ErrConflict when the hiatus
+// changed since version.
+func (d *DB) ReviewHiatus(ctx context.Context, id int64, version int, accept bool, note string) (Hiatus, error) {
+	note = strings.TrimSpace(note)
+	if !accept && note == "" {
+		return Hiatus{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the hiatus is rejected"}}}
+	}
+	var out Hiatus
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		before, err := hiatusInTx(ctx, tx, id)
+		if err != nil {
+			return err
+		}
+		x := before
+		x.ReviewState, x.ReviewNote = "rejected", note
+		kind := "reject hiatus"
+		if accept {
+			x.ReviewState, kind = "accepted", "accept hiatus"
+		}
+		batch, err := d.newBatch(ctx, tx, kind, "review")
+		if err != nil {
+			return err
+		}
+		if out, err = hiatusType().update(ctx, d, tx, batch, id, version, x); err != nil {
+			return err
+		}
+		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s at %s m of %s: %s", kind, formatNumber(before.HeightM), before.Section, orNone(note)))
+	})
+	return out, err
+}
+
+// DeleteHiatus removes hiatus id (at version), keeping its last state in the revision; ErrConflict for a
+// stale version.
+func (d *DB) DeleteHiatus(ctx context.Context, id int64, version int) error {
+	return hiatusType().deleteRecord(ctx, d, id, version)
 }
