@@ -147,6 +147,14 @@ var routeRoles = map[string]string{
 	"POST /ties/{id}/delete":                   store.RoleCurator,
 	"POST /ties/{id}/review":                   store.RoleCurator,
 	"GET /ties/{id}/history":                   "",
+	"GET /hiatuses/{id}":                       "",
+	"GET /sections/{id}/hiatuses/new":          store.RoleContributor,
+	"POST /sections/{id}/hiatuses/new":         store.RoleContributor,
+	"GET /hiatuses/{id}/edit":                  store.RoleCurator,
+	"POST /hiatuses/{id}/edit":                 store.RoleCurator,
+	"POST /hiatuses/{id}/delete":               store.RoleCurator,
+	"POST /hiatuses/{id}/review":               store.RoleCurator,
+	"GET /hiatuses/{id}/history":               "",
 	"GET /account":                             store.RoleReader,
 	"POST /account/tokens":                     store.RoleReader,
 	"POST /account/tokens/{id}/revoke":         store.RoleReader,
@@ -172,6 +180,10 @@ func TestAuthorizationMatrix(t *testing.T) {
 	}
 	draft, err := db.CreateEvent(context.Background(), 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
 	if err != nil {
+		t.Fatal(err)
+	}
+	// The demo has no hiatus: this one (record 1) gives the hiatus routes a record to show.
+	if _, err := db.CreateHiatus(context.Background(), 1, store.Form{"height_m": "30", "min_duration_ma": "0.1"}, false); err != nil {
 		t.Fatal(err)
 	}
 	routes, ok := srv.Config.Handler.(chi.Routes)

@@ -31,7 +31,7 @@ type stored struct {
 	review  string
 }
 
-// recordEdit is the editing flow that provinces, units, sections, tie points and events share with the
+// recordEdit is the editing flow that provinces, units, sections, tie points, hiatuses and events share with the
 // dates' (web/dateedit.go): a form checked with the importer's rules, re-shown with its field errors (422),
 // 303 after saving, an edit against an old version answered with both versions side by side (409), a
 // delete refused while other records depend on the record, and a history of field diffs with a restore.
@@ -353,7 +353,7 @@ func revisionForm(e recordEdit, raw json.RawMessage) (store.Form, error) {
 // shown on their section's page and in the feed of changes).
 func historyURL(recordType string, id int64) string {
 	paths := map[string]string{"date": "/dates", "province": "/provinces", "unit": "/units", "section": "/sections",
-		"tie_point": "/ties", "event": "/events"}
+		"tie_point": "/ties", "event": "/events", "hiatus": "/hiatuses"}
 	if paths[recordType] == "" {
 		return ""
 	}

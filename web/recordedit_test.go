@@ -20,9 +20,10 @@ type editFlow struct {
 	form     url.Values // a valid creation form
 	badField string     // a field set to badValue makes the form refused …
 	badValue string
-	badMsg   string   // … with this message
-	text     []string // free-text fields, for the XSS payload
-	notes    string   // the free-text field the edits change ("notes" when empty)
+	badMsg   string     // … with this message
+	text     []string   // free-text fields, for the XSS payload
+	again    url.Values // fields of the second record the flow creates, when what keeps records apart is not text (a hiatus's height)
+	notes    string     // the free-text field the edits change ("notes" when empty)
 	// state reads what the test compares: the stored notes field of record id (false when it is gone).
 	state  func(id int64) (string, bool)
 	recRev string // record_type of its revisions
@@ -109,6 +110,9 @@ func checkEditFlow(t *testing.T, srv *httptest.Server, creator, curator *http.Cl
 	}
 	for _, k := range f.text {
 		xss.Set(k, payload+k)
+	}
+	for k, v := range f.again {
+		xss[k] = v
 	}
 	status, _, h = do(t, creator, http.MethodPost, srv.URL+f.newPath, xss)
 	if status != http.StatusSeeOther {

@@ -199,10 +199,11 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 		{Name: "age_max", Label: "Oldest (Ma)", Kind: "number", Value: r.URL.Query().Get("age_max"), Step: "any"},
 		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
-		{Name: "include", Label: "Tie points in the models", Kind: "select", Options: tieIncludeOptions(o.Include)},
+		{Name: "include", Label: "Tie points and hiatuses in the models", Kind: "select", Options: modelIncludeOptions(o.Include)},
 	}}
 	for _, a := range as {
 		v.Cautions = append(v.Cautions, tieReviewCautions(a.Sec.Name, a.Ties, a.TiesLeftOut, o.Include)...)
+		v.Cautions = append(v.Cautions, hiatusReviewCautions(a.Sec.Name, a.Hiatuses, a.HiatusesOut, o.Include)...)
 	}
 	var matur []string
 	seen := map[string]bool{}

@@ -52,13 +52,14 @@ func (s *Server) sectionEdit() recordEdit {
 func (s *Server) registerSectionEditRoutes(r chi.Router) { s.registerRecordEdit(r, s.sectionEdit()) }
 
 // sectionRecordBlock is the part of a section's page that leads to its history and, for who may, to its
-// edit form (which also deletes) and to the forms adding tie points and events.
+// edit form (which also deletes) and to the forms adding tie points, hiatuses and events.
 func (s *Server) sectionRecordBlock(r *http.Request, sec store.Section) views.Block {
 	links, _ := recordLinks(r, s.sectionEdit(), sec.ID, stored{version: sec.Version})
 	if u, ok := currentUser(r.Context()); ok && store.RoleAtLeast(u.Role, store.RoleContributor) {
 		links = append(links, views.Link{Label: "Add a tie point", URL: fmt.Sprintf("/sections/%d/ties/new", sec.ID)},
+			views.Link{Label: "Add a hiatus", URL: fmt.Sprintf("/sections/%d/hiatuses/new", sec.ID)},
 			views.Link{Label: "Add an event", URL: fmt.Sprintf("/sections/%d/events/new", sec.ID)})
 	}
 	return views.Block{ID: "record", Title: "This record", Links: links,
-		Paras: []string{"Tie points and events have pages of their own (follow a name in the tables above), each with its history."}}
+		Paras: []string{"Tie points, hiatuses and events have pages of their own (follow a name in the tables above), each with its history."}}
 }

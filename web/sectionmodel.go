@@ -238,7 +238,9 @@ type sectionAnalysis struct {
 	TieInputs   []tieInput       // per tie of Ties: the age and σ the model uses
 	TiesLeftOut []store.TiePoint // the ties Opt.Include leaves out of the model
 	Events      []store.Event
-	Hiatuses    []store.Hiatus
+	AllHiatuses []store.Hiatus // every hiatus of the section, whatever its review state
+	Hiatuses    []store.Hiatus // the hiatuses the age model honours: those Opt.Include lets in
+	HiatusesOut []store.Hiatus // the hiatuses Opt.Include leaves out of the model
 
 	Suggestion stats.HostSuggestion
 	Host       stats.Host
@@ -324,10 +326,18 @@ func valueOf(s store.Sample, proxy string) float64 {
 // analyseSection runs the numerics of the section page. It returns a badRequest when the options do not
 // fit the section (a host it lacks, a background window without samples).
 // tieInputs gives the age and σ of each tie (nil: as entered). The model uses the ties whose review state
-// o.Include lets in; the others are kept in TiesLeftOut, so the page can say so.
+// o.Include lets in; the others are kept in TiesLeftOut, so the page can say so. Hiatuses likewise
+// (HiatusesOut).
 func analyseSection(sec store.Section, samples []store.Sample, ties []store.TiePoint, tieInputs []tieInput, events []store.Event,
 	hiatuses []store.Hiatus, o sectionOptions) (*sectionAnalysis, error) {
-	a := &sectionAnalysis{Sec: sec, Opt: o, AllTies: ties, Events: events, Hiatuses: hiatuses, Has: map[string]bool{}}
+	a := &sectionAnalysis{Sec: sec, Opt: o, AllTies: ties, Events: events, AllHiatuses: hiatuses, Has: map[string]bool{}}
+	for _, h := range hiatuses {
+		if included(o.Include, h.ReviewState) {
+			a.Hiatuses = append(a.Hiatuses, h)
+		} else {
+			a.HiatusesOut = append(a.HiatusesOut, h)
+		}
+	}
 	for i, t := range ties {
 		if !included(o.Include, t.ReviewState) {
 			a.TiesLeftOut = append(a.TiesLeftOut, t)

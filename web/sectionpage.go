@@ -94,7 +94,7 @@ func (s *Server) handleSectionShow(w http.ResponseWriter, r *http.Request) error
 	case "csv":
 		return writeDownload(w, fmt.Sprintf("section-%d.csv", sec.ID), func(w io.Writer) error { return store.WriteSectionsCSV(w, []store.Section{sec}) })
 	case "json":
-		writeJSON(w, http.StatusOK, map[string]any{"section": sec, "tie_points": a.AllTies, "events": a.Events, "hiatuses": a.Hiatuses,
+		writeJSON(w, http.StatusOK, map[string]any{"section": sec, "tie_points": a.AllTies, "events": a.Events, "hiatuses": a.AllHiatuses,
 			"settings": a.settingsJSON(), "host": a.hostJSON(), "anomalies": a.anomaliesJSON(), "segments": a.segmentsJSON(),
 			"age_model": a.modelJSON(), "uncertainties": jsonSigmaNote})
 		return nil
@@ -145,10 +145,15 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s whose review state include=%s does not let in (%s).",
 			count(len(a.TiesLeftOut), "tie point"), a.Opt.Include, tieIncludeLabel(a.Opt.Include)))
 	}
+	ht := hiatusTable(a.AllHiatuses)
+	if len(a.HiatusesOut) > 0 {
+		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s whose review state include=%s does not let in (%s).",
+			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], a.Opt.Include, modelIncludeLabel(a.Opt.Include, "hiatuses")))
+	}
 	et := eventTable(a.Events, false)
 	et.Caption = "Events (entered, imported, or made from detected anomalies)"
 	st := a.sampleTable()
-	v.Blocks = append(v.Blocks, views.Block{ID: "records", Title: "Tie points, events and samples", Tables: []views.Table{tt, et, st},
+	v.Blocks = append(v.Blocks, views.Block{ID: "records", Title: "Tie points, hiatuses, events and samples", Tables: []views.Table{tt, ht, et, st},
 		Links: []views.Link{
 			{Label: "Samples with ratios and flags (CSV)", URL: withPath(r, base+"/ratios", "format", "csv")},
 			{Label: "(JSON)", URL: withPath(r, base+"/ratios", "format", "json")},
@@ -205,7 +210,7 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 			opt("mc", "Monte Carlo (Beta bridge)", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
 		{Name: "tie_level", Label: "± of ties from dates", Kind: "select", Options: []views.Option{
 			opt("full", "full external (default)", o.TieLevel), opt("tracer", "with tracer (Y)", o.TieLevel), opt("analytical", "analytical (X)", o.TieLevel)}},
-		{Name: "include", Label: "Tie points in the model", Kind: "select", Options: tieIncludeOptions(o.Include)},
+		{Name: "include", Label: "Tie points and hiatuses in the model", Kind: "select", Options: modelIncludeOptions(o.Include)},
 		{Name: "draws", Label: "Draws", Kind: "number", Value: itoa(o.Draws), Step: "100"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(o.Seed, 10), Step: "1"},
 	}}
@@ -238,6 +243,7 @@ func (a *sectionAnalysis) cautions() []string {
 		out = append(out, "The naive linear age model ignores how irregular deposition is and treats tie errors as independent: its 95 % intervals cover the true age far less often than 95 % in simulation. Use it only for comparison with the Monte Carlo model (model=mc).")
 	}
 	out = append(out, tieReviewCautions("", a.Ties, a.TiesLeftOut, a.Opt.Include)...)
+	out = append(out, hiatusReviewCautions("", a.Hiatuses, a.HiatusesOut, a.Opt.Include)...)
 	if a.ModelNote != "" {
 		out = append(out, a.ModelNote)
 	}
@@ -412,6 +418,17 @@ func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
 	return b
 }
 
+// nonEmpty gives the paragraphs that say something.
+func nonEmpty(paras ...string) []string {
+	var out []string
+	for _, p := range paras {
+		if p != "" {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
 // modelParas states the model and every choice behind it.
 func (a *sectionAnalysis) modelParas() []string {
 	m := a.Model
@@ -421,16 +438,17 @@ func (a *sectionAnalysis) modelParas() []string {
 		hi = fmt.Sprintf("%d hiatuses with minimum durations", len(m.Hiatuses))
 	}
 	if m.MC != nil {
-		return []string{
+		return nonEmpty(
 			fmt.Sprintf("Model: Monte Carlo with superposition. Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
 			a.tieLevelSentence(),
 			a.tieReviewSentence(),
+			a.hiatusReviewSentence(),
 			fmt.Sprintf("Tie sampler: %s; acceptance %.1f %% of %d attempts (whole draws out of stratigraphic order are rejected, never sorted; below %g %% acceptance a Gibbs sampler of truncated tie ages takes over).",
 				m.MC.Sampler, 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
 			fmt.Sprintf("Between ties: Beta bridges of a Poisson deposition model, rigidity k (deposition events per m) drawn per draw from a log-uniform prior on %g–%g per m, so the intervals average over how regular deposition was instead of trusting one k.",
 				float64(stats.DefaultRigidityMinPerM), float64(stats.DefaultRigidityMaxPerM)),
 			"Ages: median and 95 % interval (2.5 and 97.5 percentiles of the draws) at every sample in the tie range. The same seed and draws give the same numbers.",
-		}
+		)
 	}
 	return []string{
 		fmt.Sprintf("Model: NAIVE linear interpolation between tie means, from %s; hiatuses ignored. Tie errors are propagated as if independent; interval = mean ± 1.96σ.", ties),

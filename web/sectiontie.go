@@ -115,21 +115,25 @@ func (s *Server) tieInputs(ctx context.Context, ties []store.TiePoint, level str
 }
 
 // tieIncludeLabel says which tie points include= lets into an age model.
-func tieIncludeLabel(include string) string {
+func tieIncludeLabel(include string) string { return modelIncludeLabel(include, "tie points") }
+
+// modelIncludeLabel says which records (nouns, plural) include= lets into an age model.
+func modelIncludeLabel(include, nouns string) string {
 	switch include {
 	case "pending":
-		return "accepted and pending tie points"
+		return "accepted and pending " + nouns
 	case "all":
-		return "all tie points, rejected ones too"
+		return "all " + nouns + ", rejected ones too"
 	}
-	return "accepted tie points only"
+	return "accepted " + nouns + " only"
 }
 
-// tieIncludeOptions are the choices of include= on pages with age models.
-func tieIncludeOptions(cur string) []views.Option {
+// modelIncludeOptions are the choices of include= on pages with age models: it chooses the tie points
+// and the hiatuses the models use.
+func modelIncludeOptions(cur string) []views.Option {
 	var out []views.Option
 	for _, c := range includeCodes() {
-		label := tieIncludeLabel(c)
+		label := modelIncludeLabel(c, "tie points and hiatuses")
 		if c == "accepted" {
 			label += " (default)"
 		}
@@ -138,39 +142,76 @@ func tieIncludeOptions(cur string) []views.Option {
 	return out
 }
 
-// tieReviewCautions say what a reader of an age model must know about the review of its tie points: the
-// pending ones include= left out (they wait for a curator, and the model changes once they are accepted),
-// and the unreviewed or rejected ones it let in. where names the section ("" for the section's own page).
-// Rejected ties left out need no caution: that is what rejecting them is for.
-func tieReviewCautions(where string, used, left []store.TiePoint, include string) []string {
-	labels := func(ts []store.TiePoint, state string) []string {
+// reviewed is a record an age model uses or leaves out by its review state, as the cautions name it.
+type reviewed struct{ name, state string }
+
+// reviewCautions say what a reader of an age model must know about the review of its records of one kind
+// (noun, nouns: "tie point", "tie points"): the pending ones include= left out (they wait for a curator,
+// and the model changes once they are accepted), and the unreviewed or rejected ones it let in. where
+// names the section ("" for the section's own page). Rejected records left out need no caution: that is
+// what rejecting them is for.
+func reviewCautions(where, noun, nouns string, used, left []reviewed, include string) []string {
+	names := func(rs []reviewed, state string) []string {
 		var out []string
-		for _, t := range ts {
-			if t.ReviewState == state {
-				out = append(out, t.Label)
+		for _, r := range rs {
+			if r.state == state {
+				out = append(out, r.name)
 			}
 		}
 		return out
+	}
+	counted := func(n int, adj string) string {
+		if n == 1 {
+			return "1 " + adj + noun
+		}
+		return fmt.Sprintf("%d %s%s", n, adj, nouns)
 	}
 	prefix := ""
 	if where != "" {
 		prefix = where + ": "
 	}
 	var out []string
-	if p := labels(left, "pending"); len(p) > 0 {
+	if p := names(left, "pending"); len(p) > 0 {
 		out = append(out, fmt.Sprintf("%sLeft out of the age–height model: %s waiting for a curator's review (%s) — include=%s uses %s. The model ages change when %s accepted; include=pending shows the model with %s now.",
-			prefix, count(len(p), "tie point"), strings.Join(p, ", "), include, tieIncludeLabel(include), itThey(len(p)), itThem(len(p))))
+			prefix, counted(len(p), ""), strings.Join(p, ", "), include, modelIncludeLabel(include, nouns), itThey(len(p)), itThem(len(p))))
 	}
-	if p := labels(used, "pending"); len(p) > 0 {
+	if p := names(used, "pending"); len(p) > 0 {
 		out = append(out, fmt.Sprintf("%sThe age–height model uses %s that no curator has reviewed yet (include=%s): %s.",
-			prefix, count(len(p), "pending tie point"), include, strings.Join(p, ", ")))
+			prefix, counted(len(p), "pending "), include, strings.Join(p, ", ")))
 	}
-	if rj := labels(used, "rejected"); len(rj) > 0 {
+	if rj := names(used, "rejected"); len(rj) > 0 {
 		out = append(out, fmt.Sprintf("%sThe age–height model uses %s (include=%s): %s.",
-			prefix, count(len(rj), "rejected tie point"), include, strings.Join(rj, ", ")))
+			prefix, counted(len(rj), "rejected "), include, strings.Join(rj, ", ")))
 	}
 	return out
 }
+
+// tieReviewCautions are reviewCautions of tie points, named by their labels.
+func tieReviewCautions(where string, used, left []store.TiePoint, include string) []string {
+	r := func(ts []store.TiePoint) []reviewed {
+		out := make([]reviewed, len(ts))
+		for i, t := range ts {
+			out[i] = reviewed{t.Label, t.ReviewState}
+		}
+		return out
+	}
+	return reviewCautions(where, "tie point", "tie points", r(used), r(left), include)
+}
+
+// hiatusReviewCautions are reviewCautions of hiatuses, named by their heights.
+func hiatusReviewCautions(where string, used, left []store.Hiatus, include string) []string {
+	r := func(hs []store.Hiatus) []reviewed {
+		out := make([]reviewed, len(hs))
+		for i, h := range hs {
+			out[i] = reviewed{hiatusName(h), h.ReviewState}
+		}
+		return out
+	}
+	return reviewCautions(where, "hiatus", "hiatuses", r(used), r(left), include)
+}
+
+// hiatusName names a hiatus by its height (it has no name of its own).
+func hiatusName(h store.Hiatus) string { return "hiatus at " + num(h.HeightM) + " m" }
 
 func itThem(n int) string {
 	if n == 1 {
@@ -242,6 +283,23 @@ func (a *sectionAnalysis) tieReviewSentence() string {
 	var left []string
 	for _, t := range a.TiesLeftOut {
 		left = append(left, t.Label+" ("+t.ReviewState+")")
+	}
+	return s + "; left out: " + strings.Join(left, ", ") + "."
+}
+
+// hiatusReviewSentence is the model statement's account of which hiatuses it honours by review state;
+// "" for a section without hiatuses.
+func (a *sectionAnalysis) hiatusReviewSentence() string {
+	if len(a.AllHiatuses) == 0 {
+		return ""
+	}
+	s := fmt.Sprintf("Hiatuses honoured: %s (include=%s)", modelIncludeLabel(a.Opt.Include, "hiatuses"), a.Opt.Include)
+	if len(a.HiatusesOut) == 0 {
+		return s + "."
+	}
+	var left []string
+	for _, h := range a.HiatusesOut {
+		left = append(left, hiatusName(h)+" ("+h.ReviewState+")")
 	}
 	return s + "; left out: " + strings.Join(left, ", ") + "."
 }

@@ -73,6 +73,11 @@ type Store interface {
 	UpdateTie(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.TiePoint, error)
 	ReviewTie(ctx context.Context, id int64, version int, accept bool, note string) (store.TiePoint, error)
 	DeleteTie(ctx context.Context, id int64, version int) error
+	Hiatus(ctx context.Context, id int64) (store.Hiatus, error)
+	CreateHiatus(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.Hiatus, error)
+	UpdateHiatus(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Hiatus, error)
+	ReviewHiatus(ctx context.Context, id int64, version int, accept bool, note string) (store.Hiatus, error)
+	DeleteHiatus(ctx context.Context, id int64, version int) error
 	CreateProvince(ctx context.Context, f store.Form) (store.Province, error)
 	UpdateProvince(ctx context.Context, id int64, version int, f store.Form) (store.Province, error)
 	DeleteProvince(ctx context.Context, id int64, version int) error
@@ -150,6 +155,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerSectionEditRoutes(r)
 	s.registerEventEditRoutes(r)
 	s.registerTieEditRoutes(r)
+	s.registerHiatusEditRoutes(r)
 	s.registerUploadRoutes(r)
 	s.registerAccountRoutes(r)
 	s.registerProvinceRoutes(r)

@@ -85,7 +85,7 @@ func includeCodes() []string {
 }
 
 // included reports whether include= (accepted | pending | all) lets a record of reviewState into a
-// computation: the one rule for dates, events and tie points.
+// computation: the one rule for dates, events, tie points and hiatuses.
 func included(include, reviewState string) bool {
 	switch include {
 	case "all":
