@@ -108,13 +108,16 @@ func (d *DB) decide(ctx context.Context, tx *sql.Tx, batch int64, k AnomalyKey, 
 		return AnomalyDecision{}, err
 	}
 	now := d.stamp()
-	r, err := tx.ExecContext(ctx, `INSERT INTO anomaly_decisions (section_id, series, base_height_m, top_height_m, settings,
-		decision, event_id, reason, user_id, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?)`,
-		k.SectionID, k.Series, k.BaseHeightM, k.TopHeightM, k.Settings, decision, eventID, reason, actor(ctx), now, now)
+	id, err := nextID(ctx, tx, "anomaly_decisions", "anomaly_decision")
+	if err != nil {
+		return AnomalyDecision{}, err
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO anomaly_decisions (id, section_id, series, base_height_m, top_height_m, settings,
+		decision, event_id, reason, user_id, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?)`,
+		id, k.SectionID, k.Series, k.BaseHeightM, k.TopHeightM, k.Settings, decision, eventID, reason, actor(ctx), now, now)
 	if err != nil {
 		return AnomalyDecision{}, fmt.Errorf("record anomaly decision: %w", err)
 	}
-	id, _ := r.LastInsertId()
 	a, err := scanAnomalyDecision(tx.QueryRowContext(ctx, anomalyDecisionSelect+` WHERE a.id = ?`, id))
 	if err != nil {
 		return AnomalyDecision{}, err

@@ -92,3 +92,16 @@ func (d *DB) RevisionCount(ctx context.Context, recordType string, id int64) (in
 	err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ?`, recordType, id).Scan(&n)
 	return n, err
 }
+
+// nextID is the id a new record of table gets: one more than any id the table or the history of its
+// record type (recordType in revisions) has ever held. SQLite would otherwise give a new record the id of
+// the last one deleted, and with it that record's history and restore links.
+func nextID(ctx context.Context, tx *sql.Tx, table, recordType string) (int64, error) {
+	var id int64
+	err := tx.QueryRowContext(ctx, `SELECT max(coalesce((SELECT max(id) FROM `+table+`), 0),
+		coalesce((SELECT max(record_id) FROM revisions WHERE record_type = ?), 0)) + 1`, recordType).Scan(&id)
+	if err != nil {
+		return 0, fmt.Errorf("next id of %s: %w", table, err)
+	}
+	return id, nil
+}

@@ -106,16 +106,19 @@ type recordType[T any] struct {
 // insert adds a new record (id 0) and records its creation in batch.
 func (rt recordType[T]) insert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, x T) (T, error) {
 	now := d.stamp()
-	cols := append([]string{}, rt.cols...)
-	cols = append(cols, "created_at", "updated_at")
-	args := append(rt.vals(x), now, now)
-	r, err := tx.ExecContext(ctx, `INSERT INTO `+rt.table+` (`+strings.Join(cols, ", ")+`) VALUES (`+
-		strings.TrimSuffix(strings.Repeat("?, ", len(cols)), ", ")+`)`, args...)
+	id, err := nextID(ctx, tx, rt.table, rt.name)
 	if err != nil {
+		var zero T
+		return zero, err
+	}
+	cols := append([]string{"id"}, rt.cols...)
+	cols = append(cols, "created_at", "updated_at")
+	args := append(append([]any{id}, rt.vals(x)...), now, now)
+	if _, err := tx.ExecContext(ctx, `INSERT INTO `+rt.table+` (`+strings.Join(cols, ", ")+`) VALUES (`+
+		strings.TrimSuffix(strings.Repeat("?, ", len(cols)), ", ")+`)`, args...); err != nil {
 		var zero T
 		return zero, fmt.Errorf("insert %s: %w", rt.label(x), err)
 	}
-	id, _ := r.LastInsertId()
 	after, err := rt.load(ctx, tx, id)
 	if err != nil {
 		return after, err

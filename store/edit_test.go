@@ -133,3 +133,49 @@ func TestEditsByContributorsArePendingAndReviewNeedsAReason(t *testing.T) {
 		t.Errorf("bad form: %v, want a problem naming sigma_ma", err)
 	}
 }
+
+// A deleted record's id is never given to a new one: otherwise the new record would inherit the old
+// one's history and its restore links.
+func TestDeletedIDsAreNotReused(t *testing.T) {
+	db, d := seededDate(t)
+	ctx := context.Background()
+	if err := db.DeleteDate(ctx, d.ID, d.Version); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := importString(t, db, "dates", "", dateHeader+"P,U1,S-2,upb_idtims,zircon,eruption,155.1,0.06,2,,,\n"); err != nil {
+		t.Fatal(err)
+	}
+	fresh, _, err := db.Dates(ctx, DateFilter{Text: "S-2"})
+	if err != nil || len(fresh) != 1 {
+		t.Fatalf("the new date: %v (%v)", fresh, err)
+	}
+	if fresh[0].ID == d.ID {
+		t.Fatalf("the new date took the deleted date's id %d", d.ID)
+	}
+	if revs, _ := db.Revisions(ctx, "date", fresh[0].ID); len(revs) != 1 {
+		t.Errorf("the new date's history has %d revisions, want 1 (its creation)", len(revs))
+	}
+	// The same for a record type written through recordType (a unit) and for events.
+	units, _ := db.Units(ctx, 0)
+	var u1 Unit
+	for _, u := range units {
+		if u.Name == "U1" {
+			u1 = u
+		}
+	}
+	if err := db.DeleteDate(ctx, fresh[0].ID, fresh[0].Version); err != nil {
+		t.Fatal(err)
+	}
+	if err := db.DeleteUnit(ctx, u1.ID, u1.Version); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := importString(t, db, "units", "", "province,unit\nP,U9\n"); err != nil {
+		t.Fatal(err)
+	}
+	units, _ = db.Units(ctx, 0)
+	for _, u := range units {
+		if u.ID == u1.ID {
+			t.Errorf("unit %q took the id %d of the deleted unit %q", u.Name, u.ID, u1.Name)
+		}
+	}
+}

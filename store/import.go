@@ -446,17 +446,21 @@ func parseDateRow(rw row, seen map[[2]string]int) Date {
 
 func (d *DB) insertDate(ctx context.Context, tx *sql.Tx, batch int64, dt *Date) error {
 	now := d.stamp()
-	r, err := tx.ExecContext(ctx, `INSERT INTO dates (unit_id, section_id, height_m, sample_code, method, material,
+	id, err := nextID(ctx, tx, "dates", "date")
+	if err != nil {
+		return err
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO dates (id, unit_id, section_id, height_m, sample_code, method, material,
 		interpretation, age_ma, sigma_ma, sigma_y_ma, sigma_z_ma, sigma_level, tracer, monitor, monitor_age_ma,
 		lambda_per_a, laboratory, citation, doi, latitude, longitude, review_state, notes, created_at, updated_at)
-		VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
-		dt.UnitID, dt.SectionID, dt.HeightM, dt.SampleCode, dt.Method, dt.Material, dt.Interpretation, dt.AgeMa,
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
+		id, dt.UnitID, dt.SectionID, dt.HeightM, dt.SampleCode, dt.Method, dt.Material, dt.Interpretation, dt.AgeMa,
 		dt.SigmaMa, dt.SigmaYMa, dt.SigmaZMa, dt.SigmaLevel, dt.Tracer, dt.Monitor, dt.MonitorAgeMa, dt.LambdaPerA,
 		dt.Laboratory, dt.Citation, dt.DOI, dt.Latitude, dt.Longitude, dt.ReviewState, dt.Notes, now, now)
 	if err != nil {
 		return fmt.Errorf("insert date %q: %w", dt.SampleCode, err)
 	}
-	dt.ID, _ = r.LastInsertId()
+	dt.ID = id
 	dt.Version, dt.CreatedAt, dt.UpdatedAt = 1, now, now
 	return addRevision(ctx, tx, batch, "date", dt.ID, nil, dt)
 }
@@ -530,14 +534,18 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 			}
 			now := d.stamp()
 			for _, tp := range recs {
-				r, err := tx.ExecContext(ctx, `INSERT INTO tie_points (section_id, label, height_m, kind, distribution,
+				id, err := nextID(ctx, tx, "tie_points", "tie_point")
+				if err != nil {
+					return err
+				}
+				_, err = tx.ExecContext(ctx, `INSERT INTO tie_points (id, section_id, label, height_m, kind, distribution,
 					age_ma, sigma_ma, sigma_level, age_min_ma, age_max_ma, date_id, review_state, notes, created_at, updated_at)
-					VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`, sid, tp.Label, tp.HeightM, tp.Kind, tp.Distribution, tp.AgeMa,
+					VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`, id, sid, tp.Label, tp.HeightM, tp.Kind, tp.Distribution, tp.AgeMa,
 					tp.SigmaMa, tp.SigmaLevel, tp.AgeMinMa, tp.AgeMaxMa, tp.DateID, tp.ReviewState, tp.Notes, now, now)
 				if err != nil {
 					return fmt.Errorf("insert tie %q: %w", tp.Label, err)
 				}
-				tp.ID, _ = r.LastInsertId()
+				tp.ID = id
 				tp.Version = 1
 				if err := addRevision(ctx, tx, batch, "tie_point", tp.ID, nil, tp); err != nil {
 					return err
@@ -618,13 +626,17 @@ func (d *DB) ImportEvents(ctx context.Context, section, file string, r io.Reader
 			now := d.stamp()
 			for _, ev := range recs {
 				ev.SectionID = &sid
-				r, err := tx.ExecContext(ctx, `INSERT INTO events (section_id, name, kind, base_height_m, top_height_m,
-					origin, review_state, notes, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?)`,
-					sid, ev.Name, ev.Kind, ev.BaseHeightM, ev.TopHeightM, ev.Origin, ev.ReviewState, ev.Notes, now, now)
+				id, err := nextID(ctx, tx, "events", "event")
+				if err != nil {
+					return err
+				}
+				_, err = tx.ExecContext(ctx, `INSERT INTO events (id, section_id, name, kind, base_height_m, top_height_m,
+					origin, review_state, notes, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?)`,
+					id, sid, ev.Name, ev.Kind, ev.BaseHeightM, ev.TopHeightM, ev.Origin, ev.ReviewState, ev.Notes, now, now)
 				if err != nil {
 					return fmt.Errorf("insert event %q: %w", ev.Name, err)
 				}
-				ev.ID, _ = r.LastInsertId()
+				ev.ID = id
 				ev.Version = 1
 				if err := addRevision(ctx, tx, batch, "event", ev.ID, nil, ev); err != nil {
 					return err

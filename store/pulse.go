@@ -125,12 +125,16 @@ func (d *DB) savePulse(ctx context.Context, tx *sql.Tx, batch int64, p Pulse) (P
 		return p, err
 	}
 	if before == nil {
-		r, err := tx.ExecContext(ctx, `INSERT INTO pulses (province_id, name, start_ma, end_ma, notes, created_at, updated_at) VALUES (?, ?, ?, ?, ?, ?, ?)`,
-			p.ProvinceID, p.Name, p.StartMa, p.EndMa, p.Notes, now, now)
+		id, err := nextID(ctx, tx, "pulses", "pulse")
+		if err != nil {
+			return p, err
+		}
+		_, err = tx.ExecContext(ctx, `INSERT INTO pulses (id, province_id, name, start_ma, end_ma, notes, created_at, updated_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?)`,
+			id, p.ProvinceID, p.Name, p.StartMa, p.EndMa, p.Notes, now, now)
 		if err != nil {
 			return p, fmt.Errorf("insert pulse %q: %w", p.Name, err)
 		}
-		p.ID, _ = r.LastInsertId()
+		p.ID = id
 		p.Version, p.CreatedAt, p.UpdatedAt = 1, now, now
 	} else {
 		p.ID, p.Version, p.CreatedAt, p.UpdatedAt = before.ID, before.Version+1, before.CreatedAt, now

@@ -32,13 +32,17 @@ func (d *DB) AddSectionEvent(ctx context.Context, sectionID int64, f EventForm, 
 // ev.Version.
 func (d *DB) insertEvent(ctx context.Context, tx *sql.Tx, batch int64, ev *Event) error {
 	now := d.stamp()
-	r, err := tx.ExecContext(ctx, `INSERT INTO events (section_id, name, kind, base_height_m, top_height_m,
-		origin, review_state, notes, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?)`,
-		ev.SectionID, ev.Name, ev.Kind, ev.BaseHeightM, ev.TopHeightM, ev.Origin, ev.ReviewState, strings.TrimSpace(ev.Notes), now, now)
+	id, err := nextID(ctx, tx, "events", "event")
+	if err != nil {
+		return err
+	}
+	_, err = tx.ExecContext(ctx, `INSERT INTO events (id, section_id, name, kind, base_height_m, top_height_m,
+		origin, review_state, notes, created_at, updated_at) VALUES (?,?,?,?,?,?,?,?,?,?,?)`,
+		id, ev.SectionID, ev.Name, ev.Kind, ev.BaseHeightM, ev.TopHeightM, ev.Origin, ev.ReviewState, strings.TrimSpace(ev.Notes), now, now)
 	if err != nil {
 		return fmt.Errorf("insert event %q: %w", ev.Name, err)
 	}
-	ev.ID, _ = r.LastInsertId()
+	ev.ID = id
 	ev.Version = 1
 	return addRevision(ctx, tx, batch, "event", ev.ID, nil, *ev)
 }
