@@ -317,8 +317,14 @@ type JointDraws struct {
 	qs   []jdQuantity
 	keys []jdKey
 
-	mu    sync.Mutex
-	cache map[jdCacheKey][]float64
+	mu      sync.Mutex
+	cache   map[jdCacheKey][]float64
+	volumes map[jdVolumeKey][]float64 // volume draws of VolumeFractionBefore, per unit and volume
+}
+
+type jdVolumeKey struct {
+	q int
+	v Volume
 }
 
 type jdQuantity struct {
