@@ -255,14 +255,14 @@ func (j *JointDraws) VolumeFractionBefore(units []int, volumes []Volume, event i
 // shared by every event (the slice is shared: callers must not modify it).
 func (j *JointDraws) volumeDraws(u int, v Volume) []float64 {
 	k := jdVolumeKey{u, v}
-	j.mu.Lock()
-	vols, ok := j.volumes[k]
-	j.mu.Unlock()
-	if ok {
+	c := j.volumes
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if vols, ok := c.m[k]; ok {
 		return vols
 	}
 	r := jdStream(j.Seed, fmt.Sprintf("volume %d", u))
-	vols = make([]float64, j.N)
+	vols := make([]float64, j.N)
 	for d := range vols {
 		vol := v.Km3
 		if v.SigmaKm3 > 0 {
@@ -271,12 +271,7 @@ func (j *JointDraws) volumeDraws(u int, v Volume) []float64 {
 		}
 		vols[d] = vol
 	}
-	j.mu.Lock()
-	if j.volumes == nil {
-		j.volumes = map[jdVolumeKey][]float64{}
-	}
-	j.volumes[k] = vols
-	j.mu.Unlock()
+	c.m[k] = vols
 	return vols
 }
 
@@ -479,7 +474,9 @@ type SensitivityResult struct {
 
 // Sensitivity draws every input set with the same options, applies compare to each, and reports the
 // range of every probability and whether the baseline's conclusion (the first set) survives all the
-// others. compare must return the same names in the same order for every set. The threshold is applied
+// others. compare is called once per set, in the order of sets, never concurrently (so it may collect
+// other values of each set beside the probabilities); it must return the same names in the same order
+// for every set. The threshold is applied
 // to the estimates; a P within about 3 SE of it is not settled by the draws either. It returns an error
 // for no sets, a bad threshold, the errors of DrawJoint and of compare, or names that do not match.
 func Sensitivity(sets []InputSet, opt SensitivityOptions, compare func(*JointDraws) ([]NamedProbability, error)) (SensitivityResult, error) {
@@ -494,12 +491,18 @@ func Sensitivity(sets []InputSet, opt SensitivityOptions, compare func(*JointDra
 		return SensitivityResult{}, fmt.Errorf("sensitivity: threshold %g: want a value in (0.5, 1)", opt.Threshold)
 	}
 	res := SensitivityResult{Sets: make([]string, len(sets)), Threshold: t, Seed: opt.Draws.Seed, Level: opt.Draws.Level}
+	var volumes *jdVolumes
 	for s, set := range sets {
 		res.Sets[s] = set.Name
 		j, err := DrawJoint(set.Quantities, opt.Draws)
 		if err != nil {
 			return SensitivityResult{}, fmt.Errorf("sensitivity: set %q: %w", set.Name, err)
 		}
+		// One seed and N for every set: the volume draws of a unit are the same in each, so draw them once.
+		if volumes == nil {
+			volumes = j.volumes
+		}
+		j.volumes = volumes
 		res.N = j.N
 		ps, err := compare(j)
 		if err != nil {

@@ -571,6 +571,34 @@ func TestSensitivity(t *testing.T) {
 		t.Errorf("set 1: %g, direct %g", r.P[1], c.Older.P)
 	}
 
+	// The volume fraction in the sensitivity: Sensitivity shares the volume draws between its sets (one
+	// seed and N), which must give exactly what each set drawn on its own gives.
+	vsets := []InputSet{
+		{Name: "a", Quantities: []Quantity{NormalAge("u1", 201.6, 0.05), NormalAge("u2", 201.4, 0.05), NormalAge("event", 201.5, 0.05)}},
+		{Name: "b", Quantities: []Quantity{NormalAge("u1", 201.45, 0.05), NormalAge("u2", 201.4, 0.05), NormalAge("event", 201.5, 0.05)}},
+	}
+	vols := []Volume{{1000, 300}, {900, 200}}
+	var medians []float64
+	volume := func(j *JointDraws) ([]NamedProbability, error) {
+		f, err := j.VolumeFractionBefore([]int{0, 1}, vols, 2)
+		medians = append(medians, f.Fraction.Median)
+		return []NamedProbability{{"most before", f.Majority}}, err
+	}
+	vr, err := Sensitivity(vsets, opt, volume)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for s, set := range vsets {
+		j := mustDrawJoint(t, set.Quantities, opt.Draws)
+		f, _ := j.VolumeFractionBefore([]int{0, 1}, vols, 2)
+		if f.Majority.P != vr.Rows[0].P[s] || f.Fraction.Median != medians[s] {
+			t.Errorf("set %s: P(most before) %g and median %g in the sensitivity, %g and %g alone", set.Name, vr.Rows[0].P[s], medians[s], f.Majority.P, f.Fraction.Median)
+		}
+	}
+	if r := vr.Rows[0]; r.Conclusion != 0 && r.Survives {
+		t.Errorf("u1 moved from older to younger than the event, yet the volume conclusion survives: %+v", r)
+	}
+
 	bad := func(j *JointDraws) ([]NamedProbability, error) {
 		return []NamedProbability{{Name: fmt.Sprint(j.Names[0], j.N, len(j.Keys), j.Keys)}}, nil
 	}

@@ -950,10 +950,13 @@ type compareResult struct {
 	OrderCodes  []string
 	Sens        *stats.SensitivityResult
 	SensMissing map[string][]string // row name → sets in which an input was absent
-	Keys        []string
-	MinSamples  int
-	Notes       []string
-	Cautions    []string
+	// SensVolume is the median volume fraction before each event under each sensitivity set
+	// ([set][event]); nil without a volume fraction or sensitivity.
+	SensVolume [][]float64
+	Keys       []string
+	MinSamples int
+	Notes      []string
+	Cautions   []string
 }
 
 // sensRowName names a probability of the sensitivity analysis.
@@ -988,6 +991,14 @@ func eventReviewCautions(used, left []store.Event, include string) []string {
 }
 
 func sensRowName(pulse, event, what string) string { return pulse + " × " + event + " · " + what }
+
+// sensVolumeName names the volume fraction's conclusion for an event in the sensitivity analysis:
+// P(more than half the volume erupted before the event).
+func sensVolumeName(event string) string { return sensRowName("volume", event, "most before") }
+
+// sensVolumeAbsent is the SensMissing entry of the volume fraction: the sets in which a unit with a
+// volume had no mean.
+const sensVolumeAbsent = "volume fraction"
 
 // computeComparison builds the inputs and runs the engine.
 func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareResult, error) {
@@ -1228,7 +1239,10 @@ func itemIndex(code string, in compareInputs, iv []stats.IntervalRef, evIdx, row
 }
 
 // sensitivity recomputes every cell under the alternative calibrations, bandwidth rules, age-model
-// choices and (with anomalies) TOC thresholds, with the same seed and draws (common random numbers).
+// choices and (with anomalies) TOC thresholds, with the same seed and draws (common random numbers):
+// the pulse rows' P(after onset), P(within) and P(|lag| < δ), the unit rows' P(after) and P(|lag| < δ)
+// (a calibration moves the ⁴⁰Ar/³⁹Ar unit means), and each event's volume fraction — its median, and
+// P(more than half the volume before the event) as the conclusion that may flip.
 // An input absent under an alternative (a pulse the alternative density lacks, an anomaly the
 // alternative threshold does not find) keeps its baseline value there and is named in SensMissing.
 func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []stats.Quantity, iv []stats.IntervalRef, evIdx, unitIdx, rowIdx []int) error {
@@ -1295,6 +1309,9 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 					j := slices.IndexFunc(units, func(x compareUnit) bool { return x.ID == u.ID })
 					if j < 0 {
 						absent[k] = append(absent[k], u.Name)
+						if !slices.Contains(absent[k], sensVolumeAbsent) {
+							absent[k] = append(absent[k], sensVolumeAbsent)
+						}
 						continue
 					}
 					q := units[j].Q
@@ -1357,6 +1374,11 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 			missing[n] = append(missing[n], a.name)
 		}
 	}
+	vols := make([]stats.Volume, len(res.In.Units))
+	for i, u := range res.In.Units {
+		vols[i] = u.Volume
+	}
+	var volMedians [][]float64
 	compare := func(j *stats.JointDraws) ([]stats.NamedProbability, error) {
 		var out []stats.NamedProbability
 		if ch.pulseRows() {
@@ -1387,6 +1409,19 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 				}
 			}
 		}
+		if res.Volume != nil {
+			med := make([]float64, len(evIdx))
+			for e, q := range evIdx {
+				vf, err := j.VolumeFractionBefore(unitIdx, vols, q)
+				if err != nil {
+					return nil, err
+				}
+				med[e] = vf.Fraction.Median
+				out = append(out, stats.NamedProbability{Name: sensVolumeName(res.In.Events[e].Code), Probability: vf.Majority})
+			}
+			// Sensitivity calls compare once per set, in order: the medians line up with its sets.
+			volMedians = append(volMedians, med)
+		}
 		return out, nil
 	}
 	sr, err := stats.Sensitivity(sets, stats.SensitivityOptions{Draws: stats.DrawOptions{N: ch.N, Seed: ch.Dens.Seed, Level: ch.Level}}, compare)
@@ -1395,6 +1430,9 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 	}
 	res.Sens = &sr
 	res.SensMissing = missing
+	if res.Volume != nil {
+		res.SensVolume = volMedians
+	}
 	return nil
 }
 

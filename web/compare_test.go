@@ -541,3 +541,105 @@ func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 		}
 	}
 }
+
+// The volume fraction is in the sensitivity analysis: each event's P(more than half the volume before
+// it) is followed across the sets, and a flip is flagged. Constructed: unit A, ⁴⁰Ar/³⁹Ar (1000 km³), whose
+// mean the calibration moves; unit B, U–Pb (900 km³), far younger than every event. More than half the
+// volume is before an event exactly when A is older than it, so an event halfway between A's mean on the
+// chosen calibration and on the calibration that moves it most is a majority conclusion under one and
+// the opposite under the other (the means are about 1 Ma apart, A's full external σ about 0.15 Ma). An
+// event far older than both is a conclusion ("most after") that survives every set.
+func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
+	db := mustDemoDB(t)
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
+	ctx := context.Background()
+	r := httptest.NewRequest(http.MethodGet, "/compare?rows=both&n=4000&reps=200&events=901,902", nil)
+	p := newParams(r)
+	ch, err := c.compareChoiceFrom(ctx, p)
+	if err != nil || p.err() != nil {
+		t.Fatal(err, p.err())
+	}
+	ch.EventIDs = nil // checked against the store; the events are set below
+	d, err := c.loadCompareData(ctx, &ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ptr := func(v float64) *float64 { return &v }
+	a, b := int64(901), int64(902)
+	d.Units = []store.Unit{{ID: a, ProvinceID: ch.ProvinceID, Name: "Argon Flow", Kind: "flow", VolumeKm3: ptr(1000)},
+		{ID: b, ProvinceID: ch.ProvinceID, Name: "Zircon Sill", Kind: "sill", VolumeKm3: ptr(900)}}
+	d.Dates = nil
+	for i := range 2 {
+		d.Dates = append(d.Dates,
+			store.Date{ID: int64(9100 + i), UnitID: &a, Unit: "Argon Flow", SampleCode: fmt.Sprint("AR-", i), Method: "arar_plateau",
+				Interpretation: "eruption", AgeMa: 154.0, SigmaMa: 0.03, SigmaLevel: 1, Monitor: "FCs", MonitorAgeMa: ptr(28.02), LambdaPerA: ptr(5.543e-10), ReviewState: "accepted"},
+			store.Date{ID: int64(9200 + i), UnitID: &b, Unit: "Zircon Sill", SampleCode: fmt.Sprint("ZR-", i), Method: "upb_idtims",
+				Interpretation: "eruption", AgeMa: 150.0, SigmaMa: 0.02, SigmaLevel: 1, Tracer: "ET2535", ReviewState: "accepted"})
+	}
+	a0 := recalculate(d.Dates[0], ch.Dens.Sum.Cal.Stats).AgeMa
+	a1, alt := a0, ""
+	for _, cal := range d.Cals {
+		if x := recalculate(d.Dates[0], statsCalibration(cal)).AgeMa; math.Abs(x-a0) > math.Abs(a1-a0) {
+			a1, alt = x, cal.Code
+		}
+	}
+	ev := func(id int64, age float64) store.Event {
+		sigma := 0.01
+		return store.Event{ID: id, Name: fmt.Sprint("Event ", id), Kind: "other", AgeMa: &age, SigmaMa: &sigma, ReviewState: "accepted"}
+	}
+	d.Direct = []store.Event{ev(901, (a0+a1)/2), ev(902, 160)}
+	ch.EventIDs = []int64{901, 902}
+	res, err := computeComparison(d, ch, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Sens == nil || res.SensVolume == nil || res.Volume == nil {
+		t.Fatalf("no volume sensitivity (sens %v, volume %v)", res.Sens != nil, res.Volume != nil)
+	}
+	row := func(event string) *stats.SensitivityRow {
+		for i := range res.Sens.Rows {
+			if res.Sens.Rows[i].Name == sensVolumeName(event) {
+				return &res.Sens.Rows[i]
+			}
+		}
+		t.Fatalf("no sensitivity row for the volume fraction before %s among %d rows", event, len(res.Sens.Rows))
+		return nil
+	}
+	flip := row("E901")
+	t.Logf("A on %s %.3f Ma, on %s %.3f Ma; P(most before E901) per set %v; medians %v", ch.Dens.Sum.Cal.Cal.Code, a0, alt, a1, flip.P, res.SensVolume)
+	if flip.Conclusion == 0 || flip.Survives || !strings.Contains(flip.Caution, "calibration "+alt) {
+		t.Errorf("halfway event: conclusion %d, survives %v, caution %q; want a flip under calibration %s", flip.Conclusion, flip.Survives, flip.Caution, alt)
+	}
+	if hold := row("E902"); hold.Conclusion != -1 || !hold.Survives || hold.Caution != "" {
+		t.Errorf("far older event: %+v, want P(most before) < 0.05 under every set", hold)
+	}
+	// Shown: the table's sensitivity cell (range of the median and ⚠), the shaded volume cell, the CSV.
+	for _, cr := range compareRows(res) {
+		text, caution, fails := sensText(cr, len(res.Sens.Sets))
+		switch cr.Event.Code {
+		case "E901":
+			if !fails || !strings.Contains(text, "vol. 0–53 %") || !strings.Contains(caution, "most of the volume before the event: ") {
+				t.Errorf("%s × E901: sensitivity %q (%q), fails %v", cr.Pulse, text, caution, fails)
+			}
+		case "E902":
+			if !strings.Contains(text, "vol. 0 %") || strings.Contains(caution, "volume") {
+				t.Errorf("%s × E902: sensitivity %q (%q)", cr.Pulse, text, caution)
+			}
+		}
+	}
+	var b2 strings.Builder
+	if err := writeCompareCSV(&b2, res); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(strings.NewReader(b2.String())).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	col := func(name string) int { return slices.Index(recs[0], name) }
+	for _, rec := range recs[1:] {
+		if rec[col("event_code")] == "E901" && (!strings.Contains(rec[col("sens_caution")], "most of the volume before the event") ||
+			rec[col("sens_volume_min")] != "0" || rec[col("sens_volume_max")] == "0") {
+			t.Errorf("csv row %v", rec)
+		}
+	}
+}

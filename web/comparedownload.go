@@ -23,8 +23,8 @@ type ioWriter = io.Writer
 var compareColumns = []string{"province", "pulse", "event_code", "event", "section",
 	"p_after_onset", "p_after_onset_se", "p_within", "p_within_se",
 	"lag_median_ma", "lag_lo95_ma", "lag_hi95_ma", "delta_ma", "p_near", "p_near_se", "ovl",
-	"volume_before_median", "volume_before_lo95", "volume_before_hi95",
-	"sens_after_min", "sens_after_max", "sens_within_min", "sens_within_max", "sens_caution",
+	"volume_before_median", "volume_before_lo95", "volume_before_hi95", "p_volume_majority", "p_volume_majority_se",
+	"sens_after_min", "sens_after_max", "sens_within_min", "sens_within_max", "sens_volume_min", "sens_volume_max", "sens_caution",
 	"n", "seed", "level", "data_stamp"}
 
 // compareUnitColumns are the columns that rows=units|both adds after the province: what kind of row it is
@@ -77,9 +77,9 @@ func compareRecords(res *compareResult) [][]string {
 			gs(c.LagMa.Median), gs(c.LagMa.Lo95), gs(c.LagMa.Hi95), gs(ch.DeltaMa), gs(c.Near.P), gs(c.Near.SE), gs(c.OVL))
 		if row.Vol != nil {
 			f := row.Vol.Fraction
-			rec = append(rec, gs(f.Median), gs(f.Lo95), gs(f.Hi95))
+			rec = append(rec, gs(f.Median), gs(f.Lo95), gs(f.Hi95), gs(row.Vol.Majority.P), gs(row.Vol.Majority.SE))
 		} else {
-			rec = append(rec, "", "", "")
+			rec = append(rec, "", "", "", "", "")
 		}
 		if len(row.Sens) > 0 && row.Sens[0] != nil {
 			_, caution, _ := sensText(row, sets)
@@ -89,9 +89,14 @@ func compareRecords(res *compareResult) [][]string {
 			} else {
 				rec = append(rec, "", "")
 			}
+			if row.VolSens != nil {
+				rec = append(rec, gs(row.VolMin), gs(row.VolMax))
+			} else {
+				rec = append(rec, "", "")
+			}
 			rec = append(rec, caution)
 		} else {
-			rec = append(rec, "", "", "", "", "")
+			rec = append(rec, "", "", "", "", "", "", "")
 		}
 		rec = append(rec, strconv.Itoa(ch.N), strconv.FormatUint(ch.Dens.Seed, 10), ch.Level.String(), strconv.FormatInt(res.Stamp, 10))
 		out = append(out, rec)

@@ -188,6 +188,11 @@ type compareRow struct {
 	Vol        *stats.VolumeFraction
 	Sens       []*stats.SensitivityRow // after, within, near (within nil for a unit row)
 	SensAbsent []string
+	// VolSens follows P(more than half the volume before the event) across the sensitivity sets, and
+	// VolMin, VolMax are the range of the median volume fraction over them (nil and 0 without).
+	VolSens        *stats.SensitivityRow
+	VolMin, VolMax float64
+	VolAbsent      []string
 }
 
 func (r compareRow) isUnit() bool { return r.Kind == "unit" }
@@ -225,6 +230,14 @@ func compareRows(res *compareResult) []compareRow {
 				item = row.Unit.Name
 			}
 			row.SensAbsent = append(slices.Clone(res.SensMissing[item]), res.SensMissing[ev.Name]...)
+			if res.SensVolume != nil {
+				row.VolSens = sens[sensVolumeName(ev.Code)]
+				row.VolMin, row.VolMax = math.Inf(1), math.Inf(-1)
+				for _, med := range res.SensVolume {
+					row.VolMin, row.VolMax = math.Min(row.VolMin, med[e]), math.Max(row.VolMax, med[e])
+				}
+				row.VolAbsent = res.SensMissing[sensVolumeAbsent] // an absent event is named with the row already
+			}
 		}
 		rows = append(rows, row)
 	}
@@ -305,11 +318,20 @@ func sensText(row compareRow, sets int) (string, string, bool) {
 			cautions = append(cautions, l+": "+s.Caution)
 		}
 	}
+	if v := row.VolSens; v != nil {
+		parts = append(parts, "vol. "+volRangeText(row.VolMin, row.VolMax))
+		if v.Caution != "" {
+			cautions = append(cautions, "most of the volume before the event: "+v.Caution)
+		}
+	}
 	text := strings.Join(parts, " · ")
 	if len(row.SensAbsent) > 0 {
 		cautions = append(cautions, "absent under "+strings.Join(row.SensAbsent, ", ")+" (baseline kept there)")
 	}
-	fails := false
+	if len(row.VolAbsent) > 0 && row.VolSens != nil {
+		cautions = append(cautions, "volume fraction: a unit's mean absent under "+strings.Join(row.VolAbsent, ", ")+" (baseline kept there)")
+	}
+	fails := volFlips(row)
 	for k := range labels {
 		if row.Sens[k].Conclusion != 0 && !row.Sens[k].Survives {
 			fails = true
@@ -320,6 +342,21 @@ func sensText(row compareRow, sets int) (string, string, bool) {
 	}
 	_ = sets
 	return text, strings.Join(cautions, " · "), fails
+}
+
+// volRangeText writes the range of the median volume fraction over the sensitivity sets, in %.
+func volRangeText(lo, hi float64) string {
+	a, b := fixed(100*lo, 0), fixed(100*hi, 0)
+	if a == b {
+		return a + " %"
+	}
+	return a + "–" + b + " %"
+}
+
+// volFlips reports whether the volume fraction's conclusion (P(more than half before) > 0.95 or < 0.05)
+// fails under some sensitivity set.
+func volFlips(row compareRow) bool {
+	return row.VolSens != nil && row.VolSens.Conclusion != 0 && !row.VolSens.Survives
 }
 
 // restsOn names the model choices briefly, for the table; dependsText gives them in full.
@@ -502,6 +539,9 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		if fails || caution != "" {
 			sc.Class = "caution"
 		}
+		if volFlips(row) {
+			cells[8].Class, cells[8].Title = "caution", "most of the volume before the event: "+row.VolSens.Caution
+		}
 		if fails {
 			// The conclusion does not survive: mark the probabilities it concerns too.
 			for k, idx := range []int{3, 4} {
@@ -513,7 +553,7 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
 		t.Rows = append(t.Rows, cells)
 	}
-	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives; ⚠ marks a conclusion (P > 0.95 or P < 0.05) that does not survive every alternative, and the probabilities concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
+	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
 	if ch.unitRows() {
 		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
 			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule))
@@ -527,16 +567,38 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 func eventsTable(res *compareResult) views.Table {
 	t := views.Table{ID: "events", Caption: "Events compared",
 		Columns: []views.Column{{Label: "Code"}, {Label: "Event"}, {Label: "Section"}, {Label: "Age", Unit: "Ma, median", Num: true},
-			{Label: "95 %", Unit: "Ma", Num: true}, {Label: "Volume erupted before", Unit: "%, median [95 %]", Num: true}, {Label: "Age from"}}}
+			{Label: "95 %", Unit: "Ma", Num: true}, {Label: "Volume erupted before", Unit: "%, median [95 %]", Num: true},
+			{Label: "P(most before)", Unit: "± MC SE", Num: true, Title: "P(more than half of the volume erupted before the event)"},
+			{Label: "Vol. sensitivity", Unit: "median, %", Num: true, Title: "the range of the median volume fraction over the sensitivity sets; ⚠ when P(most before) > 0.95 or < 0.05 does not survive every set"},
+			{Label: "Age from"}}}
+	sens := map[string]*stats.SensitivityRow{}
+	if res.Sens != nil {
+		for i := range res.Sens.Rows {
+			sens[res.Sens.Rows[i].Name] = &res.Sens.Rows[i]
+		}
+	}
 	for e, ev := range res.In.Events {
-		vol := "—"
+		vol, most, vs := views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}
 		if res.Volume != nil && res.Volume[e] != nil {
 			f := res.Volume[e].Fraction
-			vol = fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]"
+			vol.Text = fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]"
+			most.Text = probText(res.Volume[e].Majority, res.Volume[e].N)
+		}
+		if r := sens[sensVolumeName(ev.Code)]; r != nil && res.SensVolume != nil {
+			row := compareRow{VolSens: r, VolMin: math.Inf(1), VolMax: math.Inf(-1)}
+			for _, med := range res.SensVolume {
+				row.VolMin, row.VolMax = math.Min(row.VolMin, med[e]), math.Max(row.VolMax, med[e])
+			}
+			vs.Text = volRangeText(row.VolMin, row.VolMax)
+			if volFlips(row) {
+				vs.Text += " ⚠"
+				vs.Class, vs.Title = "caution", "most of the volume before the event: "+r.Caution
+				most.Class, most.Title = "caution", r.Caution
+			}
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: ev.Code}, {Text: ev.Name, URL: ev.URL}, {Text: ev.Section},
 			{Text: fixed(ev.Summary.Median, 3), Num: true}, {Text: fixed(ev.Summary.Hi95, 3) + " – " + fixed(ev.Summary.Lo95, 3), Num: true},
-			{Text: vol, Num: true}, {Text: ev.How}})
+			vol, most, vs, {Text: ev.How}})
 	}
 	return t
 }
@@ -602,15 +664,11 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 			{Label: "OVL", Value: "overlap of the onset's and the event's draws, histogram of 100 bins: " + fixed(row.Cell.OVL, 3)},
 			{Label: "Depends on", Value: dependsText(res, row)},
 		}
-		if row.Vol != nil {
-			f := row.Vol.Fraction
-			h.Lines = append(h.Lines, views.KV{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; %s",
-				fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), res.VolumeNote)})
-		}
+		h.Lines = append(h.Lines, volumeHow(res, row)...)
 		if len(row.Sens) > 0 && row.Sens[0] != nil {
 			var parts []string
 			for k, set := range res.Sens.Sets {
-				parts = append(parts, fmt.Sprintf("%s: after %s, within %s", set, fixed(row.Sens[0].P[k], 3), fixed(row.Sens[1].P[k], 3)))
+				parts = append(parts, fmt.Sprintf("%s: after %s, within %s%s", set, fixed(row.Sens[0].P[k], 3), fixed(row.Sens[1].P[k], 3), volSensPart(res, row, k)))
 			}
 			h.Lines = append(h.Lines, views.KV{Label: "Sensitivity", Value: strings.Join(parts, "; ")})
 		}
@@ -637,19 +695,33 @@ func howUnit(res *compareResult, row compareRow) views.How {
 		{Label: "OVL", Value: "overlap of the unit's and the event's draws, histogram of 100 bins: " + fixed(c.OVL, 3)},
 		{Label: "Depends on", Value: dependsText(res, row)},
 	}
-	if row.Vol != nil {
-		f := row.Vol.Fraction
-		h.Lines = append(h.Lines, views.KV{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; %s",
-			fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), res.VolumeNote)})
-	}
+	h.Lines = append(h.Lines, volumeHow(res, row)...)
 	if len(row.Sens) > 0 && row.Sens[0] != nil {
 		var parts []string
 		for k, set := range res.Sens.Sets {
-			parts = append(parts, fmt.Sprintf("%s: after %s", set, fixed(row.Sens[0].P[k], 3)))
+			parts = append(parts, fmt.Sprintf("%s: after %s%s", set, fixed(row.Sens[0].P[k], 3), volSensPart(res, row, k)))
 		}
 		h.Lines = append(h.Lines, views.KV{Label: "Sensitivity", Value: strings.Join(parts, "; ")})
 	}
 	return h
+}
+
+// volumeHow is the account of the volume fraction before a row's event.
+func volumeHow(res *compareResult, row compareRow) []views.KV {
+	if row.Vol == nil {
+		return nil
+	}
+	f := row.Vol.Fraction
+	return []views.KV{{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; P(more than half of it before the event) %s (SE %s); %s",
+		fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), fixed(row.Vol.Majority.P, 4), fixed(row.Vol.Majority.SE, 4), res.VolumeNote)}}
+}
+
+// volSensPart is the volume fraction under sensitivity set k, for the how-computed line.
+func volSensPart(res *compareResult, row compareRow, k int) string {
+	if row.VolSens == nil || k >= len(res.SensVolume) {
+		return ""
+	}
+	return fmt.Sprintf(", volume before %s %% (P(more than half) %s)", fixed(100*res.SensVolume[k][row.EventIdx], 0), fixed(row.VolSens.P[k], 3))
 }
 
 func compareForm(r *http.Request, res *compareResult) *views.Form {
