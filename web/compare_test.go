@@ -519,7 +519,7 @@ func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 		t.Errorf("xlsx: %d rows, header %v", len(sheet), sheet[0])
 	}
 	_, _, page := get(t, srv, q)
-	for _, want := range []string{"Pulses and units × events", "Haldruna Flow (U7)", "P(after onset / unit)", "Unit rows (code U", "P(event after the unit)",
+	for _, want := range []string{"Pulses and units × events", "Haldruna Flow (U7)", "onset / unit, ±\u00a0MC\u00a0SE", "Unit rows (code U", "P(event after the unit)",
 		"does not apply: the unit&#39;s weighted mean is a point-like age", "Eruptive units (weighted means)", `id="how-U7-E5"`} {
 		if !strings.Contains(page, want) {
 			t.Errorf("page lacks %q", want)
@@ -618,11 +618,11 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 		text, caution, fails := sensText(cr, len(res.Sens.Sets))
 		switch cr.Event.Code {
 		case "E901":
-			if !fails || !strings.Contains(text, "vol. 0–53 %") || !strings.Contains(caution, "most of the volume before the event: ") {
+			if !fails || !strings.Contains(text, "vol.\u00a00\u2060–\u206053\u00a0%") || !strings.Contains(caution, "most of the volume before the event: ") {
 				t.Errorf("%s × E901: sensitivity %q (%q), fails %v", cr.Pulse, text, caution, fails)
 			}
 		case "E902":
-			if !strings.Contains(text, "vol. 0 %") || strings.Contains(caution, "volume") {
+			if !strings.Contains(text, "vol.\u00a00\u00a0%") || strings.Contains(caution, "volume") {
 				t.Errorf("%s × E902: sensitivity %q (%q)", cr.Pulse, text, caution)
 			}
 		}

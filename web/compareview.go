@@ -313,13 +313,13 @@ func sensText(row compareRow, sets int) (string, string, bool) {
 	var parts, cautions []string
 	for k, l := range labels {
 		s := row.Sens[k]
-		parts = append(parts, fixed(s.MinP, 2)+"–"+fixed(s.MaxP, 2))
+		parts = append(parts, fixed(s.MinP, 2)+nbDash+fixed(s.MaxP, 2))
 		if s.Caution != "" {
 			cautions = append(cautions, l+": "+s.Caution)
 		}
 	}
 	if v := row.VolSens; v != nil {
-		parts = append(parts, "vol. "+volRangeText(row.VolMin, row.VolMax))
+		parts = append(parts, "vol.\u00a0"+volRangeText(row.VolMin, row.VolMax))
 		if v.Caution != "" {
 			cautions = append(cautions, "most of the volume before the event: "+v.Caution)
 		}
@@ -338,19 +338,23 @@ func sensText(row compareRow, sets int) (string, string, bool) {
 		}
 	}
 	if fails {
-		text += " ⚠"
+		text += "\u00a0⚠"
 	}
 	_ = sets
 	return text, strings.Join(cautions, " · "), fails
 }
 
+// nbDash is an en dash that a line does not break at (word joiners around it): a range stays whole in a
+// narrow table cell.
+const nbDash = "\u2060–\u2060"
+
 // volRangeText writes the range of the median volume fraction over the sensitivity sets, in %.
 func volRangeText(lo, hi float64) string {
 	a, b := fixed(100*lo, 0), fixed(100*hi, 0)
 	if a == b {
-		return a + " %"
+		return a + "\u00a0%"
 	}
-	return a + "–" + b + " %"
+	return a + nbDash + b + "\u00a0%"
 }
 
 // volFlips reports whether the volume fraction's conclusion (P(more than half before) > 0.95 or < 0.05)
@@ -408,6 +412,14 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		v.Downloads = append(v.Downloads, views.Link{Label: strings.ToUpper(f), URL: withQuery(r, "format", f)})
 	}
 	v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event (positive: the event came after the onset). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	switch ch.Rows {
+	case "units":
+		v.Subtitle = "Single eruptive units against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
+		v.Intro = "Each row compares one eruptive unit's weighted mean (a point-like age, with its decay system's systematic components) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is unit mean − event (positive: the event came after the unit). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	case "both":
+		v.Subtitle = "Eruptive pulses and single units against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
+		v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density), or one eruptive unit's weighted mean (a point-like age), with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event, or unit mean − event (positive: the event came after). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	}
 	v.Form = compareForm(r, res)
 	v.LevelHelp = levelHelp()
 	v.Status = []views.KV{{Label: "seed", Value: strconv.FormatUint(ch.Dens.Seed, 10)}, {Label: "N", Value: strconv.Itoa(ch.N) + " joint draws"},
@@ -444,6 +456,9 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	if len(res.Table.Cells) > 0 || res.Density.Band != nil {
 		v.SVG = string(fig.SVG())
 		v.Caption = "The province's density with its pulses and each event's age distribution (its draws, 95 % interval whiskered), by section, on one age axis with the ICS timescale."
+		if ch.unitRows() && len(res.In.UnitRows) > 0 {
+			v.Caption = "The province's density with its pulses, each unit's weighted mean compared (its analytical spread, 95 % interval whiskered) and each event's age distribution (its draws, 95 % interval whiskered), by section, on one age axis with the ICS timescale."
+		}
 	}
 	rows := compareRows(res)
 	sortRows(rows, sortKey, dir)
@@ -496,6 +511,15 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 	case "both":
 		caption, item, from, empty = "Pulses and units × events", "Pulse / unit", "onset / unit", "Nothing to compare: the table needs at least one pulse or unit and one event with an age."
 	}
+	afterLabel, afterUnit := "P(after "+from+")", "± MC SE"
+	if ch.Rows == "both" {
+		// Short header, the reference on the line under it: the table is wide.
+		afterLabel, afterUnit = "P(after)", "onset / unit, ±\u00a0MC\u00a0SE"
+	}
+	ovlUnit := from + " vs event"
+	if ch.Rows == "both" {
+		ovlUnit = "vs event"
+	}
 	after, lagTitle := "P(event younger than the pulse's onset)", "onset − event; positive: the event came after the onset"
 	if ch.unitRows() {
 		after = "P(event younger than the pulse's onset, or than the unit's weighted mean)"
@@ -503,11 +527,11 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 	}
 	t := views.Table{ID: "comparison", Caption: fmt.Sprintf("%s (%d joint draws, seed %d, level %s)", caption, ch.N, ch.Dens.Seed, ch.Level),
 		Columns: []views.Column{col(item, "", "pulse", ""), col("Event", "", "event", "sorted by age"), {Label: "Section"},
-			col("P(after "+from+")", "± MC SE", "after", after),
+			col(afterLabel, afterUnit, "after", after),
 			col("P(within)", "± MC SE", "within", "P(end ≤ event ≤ onset); does not apply to a unit (—)"),
 			col("Lag", from+" → event, Ma [95 %]", "lag", lagTitle),
 			col("P(|lag| < δ)", fmt.Sprintf("δ = %s Ma", num(ch.DeltaMa)), "near", "chance that "+strings.ReplaceAll(from, " / ", " or ")+" and event lie within δ of each other"),
-			col("OVL", from+" vs event", "ovl", "overlapping coefficient of the two distributions (histogram estimate): how alike they are, not a probability of synchroneity"),
+			col("OVL", ovlUnit, "ovl", "overlapping coefficient of the two distributions (histogram estimate): how alike they are, not a probability of synchroneity"),
 			col("Vol. before", "% [95 %]", "volume", "fraction of the province's volume with unit means older than the event"),
 			{Label: "Sensitivity", Unit: "after · within · vol.", Title: "P(after) and P(within) recomputed under the other calibrations, bandwidth rules, age models (and TOC thresholds with anomalies); vol.: the range of the median volume fraction before the event"},
 			{Label: "Rests on", Title: "the model choices these probabilities rest on (hover for details)"}},
@@ -626,7 +650,7 @@ func orderTable(res *compareResult) views.Table {
 		t.Rows = append(t.Rows, row)
 	}
 	if len(o.Names) > 0 {
-		t.Notes = append(t.Notes, "Choose the items with order= (codes: P1 = onset of pulse 1, P1.end its end, E12 an event, G:kind a group, A3.1 an anomaly). Each pair is drawn at the chosen level, so shared components cancel.")
+		t.Notes = append(t.Notes, "Choose the items with order= (codes: P1 = onset of pulse 1, P1.end its end, U7 a unit's weighted mean, E12 an event, G:kind a group, A3.1 an anomaly); by default the pulse edges and, with rows=units|both, the units, then the events. Each pair is drawn at the chosen level, so shared components cancel.")
 	}
 	return t
 }
@@ -712,7 +736,7 @@ func volumeHow(res *compareResult, row compareRow) []views.KV {
 		return nil
 	}
 	f := row.Vol.Fraction
-	return []views.KV{{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; P(more than half of it before the event) %s (SE %s); %s",
+	return []views.KV{{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; P(more than half of it before the event) %s (SE %s). %s",
 		fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), fixed(row.Vol.Majority.P, 4), fixed(row.Vol.Majority.SE, 4), res.VolumeNote)}}
 }
 
