@@ -78,8 +78,12 @@ func (j *JointDraws) ComparePair(a, b int, opt PairOptions) (PairComparison, err
 	if err := checkDelta(opt.DeltaMa); err != nil {
 		return PairComparison{}, fmt.Errorf("compare pair: %w", err)
 	}
+	return j.comparePair(a, b, opt, make([]float64, j.N)), nil
+}
+
+// comparePair is ComparePair on checked arguments, with a scratch slice of N values for the lags.
+func (j *JointDraws) comparePair(a, b int, opt PairOptions, lag []float64) PairComparison {
 	va, vb := j.pair(a, b)
-	lag := make([]float64, j.N)
 	older, near := 0, 0
 	for d := range lag {
 		x := va[d] - vb[d]
@@ -97,7 +101,7 @@ func (j *JointDraws) ComparePair(a, b int, opt PairOptions) (PairComparison, err
 	if opt.Overlap {
 		r.OVL = cpOverlap(va, vb)
 	}
-	return r, nil
+	return r
 }
 
 func cpOverlap(a, b []float64) float64 {
@@ -183,10 +187,13 @@ type VolumeFraction struct {
 	// Fraction summarises Σ V_j·1[A_j > A_E] / Σ V_j over the draws: median and 2.5/97.5 %.
 	Fraction DrawSummary
 	// Mean is its mean over the draws.
-	Mean  float64
-	N     int
-	Seed  uint64
-	Level ComparisonLevel
+	Mean float64
+	// Majority is P(fraction > ½): the chance that most of the volume was erupted before the event. It
+	// is the fraction's conclusion that Sensitivity can follow across input sets.
+	Majority Probability
+	N        int
+	Seed     uint64
+	Level    ComparisonLevel
 }
 
 // VolumeFractionBefore returns the fraction of the volume of units (indices of their ages) erupted
@@ -217,14 +224,8 @@ func (j *JointDraws) VolumeFractionBefore(units []int, volumes []Volume, event i
 	den := make([]float64, j.N)
 	for i, u := range units {
 		va, xe := j.pair(u, event)
-		r := jdStream(j.Seed, fmt.Sprintf("volume %d", u))
-		v := volumes[i]
-		for d := range num {
-			vol := v.Km3
-			if v.SigmaKm3 > 0 {
-				vol += v.SigmaKm3 * truncStdNormal(r, -v.Km3/v.SigmaKm3, math.Inf(1))
-				vol = math.Max(vol, 0)
-			}
+		vols := j.volumeDraws(u, volumes[i])
+		for d, vol := range vols {
 			den[d] += vol
 			if va[d] > xe[d] {
 				num[d] += vol
@@ -233,6 +234,7 @@ func (j *JointDraws) VolumeFractionBefore(units []int, volumes []Volume, event i
 	}
 	frac := num
 	var sum float64
+	most := 0
 	for d := range frac {
 		if den[d] > 0 {
 			frac[d] /= den[d]
@@ -240,9 +242,37 @@ func (j *JointDraws) VolumeFractionBefore(units []int, volumes []Volume, event i
 			frac[d] = 0
 		}
 		sum += frac[d]
+		if frac[d] > 0.5 {
+			most++
+		}
 	}
 	return VolumeFraction{Event: j.Names[event], Fraction: summarizeDraws(frac), Mean: sum / float64(j.N),
-		N: j.N, Seed: j.Seed, Level: j.Level}, nil
+		Majority: newProbability(most, j.N), N: j.N, Seed: j.Seed, Level: j.Level}, nil
+}
+
+// volumeDraws returns the N draws of the volume of unit u (its quantity index): N(Km3, SigmaKm3²)
+// truncated at 0, from the stream (seed, "volume <u>"). They are drawn once per unit and volume and
+// shared by every event (the slice is shared: callers must not modify it).
+func (j *JointDraws) volumeDraws(u int, v Volume) []float64 {
+	k := jdVolumeKey{u, v}
+	c := j.volumes
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if vols, ok := c.m[k]; ok {
+		return vols
+	}
+	r := jdStream(j.Seed, fmt.Sprintf("volume %d", u))
+	vols := make([]float64, j.N)
+	for d := range vols {
+		vol := v.Km3
+		if v.SigmaKm3 > 0 {
+			vol += v.SigmaKm3 * truncStdNormal(r, -v.Km3/v.SigmaKm3, math.Inf(1))
+			vol = math.Max(vol, 0)
+		}
+		vols[d] = vol
+	}
+	c.m[k] = vols
+	return vols
 }
 
 // OrderMatrix holds P(row older than column) for a set of quantities.
@@ -334,6 +364,47 @@ func (j *JointDraws) Table(intervals []IntervalRef, events []int, opt PairOption
 	return t, nil
 }
 
+// PairTable is the table of point-like ages (such as unit means) × events: each cell compares one item
+// A with one event B (ComparePair), so Older is P(event younger than the item) and the lag is item −
+// event (positive: the event came after the item).
+type PairTable struct {
+	Items, Events []string
+	// Cells[i][e] compares item i with event e.
+	Cells   [][]PairComparison
+	DeltaMa float64
+	N       int
+	Seed    uint64
+	Level   ComparisonLevel
+}
+
+// PairTable compares every item with every event (ComparePair, cell by cell, the level applied pair by
+// pair). It returns an error for a bad index or δ.
+func (j *JointDraws) PairTable(items, events []int, opt PairOptions) (PairTable, error) {
+	if err := checkDelta(opt.DeltaMa); err != nil {
+		return PairTable{}, fmt.Errorf("pair table: %w", err)
+	}
+	t := PairTable{Items: make([]string, len(items)), Events: make([]string, len(events)),
+		Cells: make([][]PairComparison, len(items)), DeltaMa: opt.DeltaMa, N: j.N, Seed: j.Seed, Level: j.Level}
+	for e, q := range events {
+		if err := j.checkIndex(q); err != nil {
+			return PairTable{}, fmt.Errorf("pair table: event %d: %w", e, err)
+		}
+		t.Events[e] = j.Names[q]
+	}
+	lag := make([]float64, j.N)
+	for i, a := range items {
+		if err := j.checkIndex(a); err != nil {
+			return PairTable{}, fmt.Errorf("pair table: item %d: %w", i, err)
+		}
+		t.Items[i] = j.Names[a]
+		t.Cells[i] = make([]PairComparison, len(events))
+		for e, b := range events {
+			t.Cells[i][e] = j.comparePair(a, b, opt, lag)
+		}
+	}
+	return t, nil
+}
+
 // Text formats the table as tab-separated text with a header line that records N, seed, level and δ;
 // probabilities with their SE to 6 decimals, lags in Ma to 6 decimals. The same table always gives the
 // same bytes.
@@ -403,7 +474,9 @@ type SensitivityResult struct {
 
 // Sensitivity draws every input set with the same options, applies compare to each, and reports the
 // range of every probability and whether the baseline's conclusion (the first set) survives all the
-// others. compare must return the same names in the same order for every set. The threshold is applied
+// others. compare is called once per set, in the order of sets, never concurrently (so it may collect
+// other values of each set beside the probabilities); it must return the same names in the same order
+// for every set. The threshold is applied
 // to the estimates; a P within about 3 SE of it is not settled by the draws either. It returns an error
 // for no sets, a bad threshold, the errors of DrawJoint and of compare, or names that do not match.
 func Sensitivity(sets []InputSet, opt SensitivityOptions, compare func(*JointDraws) ([]NamedProbability, error)) (SensitivityResult, error) {
@@ -418,12 +491,18 @@ func Sensitivity(sets []InputSet, opt SensitivityOptions, compare func(*JointDra
 		return SensitivityResult{}, fmt.Errorf("sensitivity: threshold %g: want a value in (0.5, 1)", opt.Threshold)
 	}
 	res := SensitivityResult{Sets: make([]string, len(sets)), Threshold: t, Seed: opt.Draws.Seed, Level: opt.Draws.Level}
+	var volumes *jdVolumes
 	for s, set := range sets {
 		res.Sets[s] = set.Name
 		j, err := DrawJoint(set.Quantities, opt.Draws)
 		if err != nil {
 			return SensitivityResult{}, fmt.Errorf("sensitivity: set %q: %w", set.Name, err)
 		}
+		// One seed and N for every set: the volume draws of a unit are the same in each, so draw them once.
+		if volumes == nil {
+			volumes = j.volumes
+		}
+		j.volumes = volumes
 		res.N = j.N
 		ps, err := compare(j)
 		if err != nil {

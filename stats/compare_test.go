@@ -253,6 +253,10 @@ func TestVolumeFraction(t *testing.T) {
 		if f.Fraction.Lo95 != 0.5 || f.Fraction.Hi95 != 1 {
 			t.Errorf("interval got %+v, want [0.5, 1]", f.Fraction)
 		}
+		// More than half the volume before the event exactly when u2 is older: P = ½.
+		if !within3SE(f.Majority.P, 0.5, n, 0) {
+			t.Errorf("P(fraction > ½) got %.5f, want 0.5", f.Majority.P)
+		}
 	})
 	t.Run("truncated volume", func(t *testing.T) {
 		// u1 (older) has V ~ N(1, 2²) truncated at 0, u2 (younger) V = 1: fraction V₁/(V₁ + 1), whose median
@@ -269,6 +273,108 @@ func TestVolumeFraction(t *testing.T) {
 		}
 		if f.Fraction.Lo95 < 0 || f.Fraction.Hi95 > 1 {
 			t.Errorf("interval %+v outside [0, 1]", f.Fraction)
+		}
+	})
+}
+
+// TestPairTableClosedForms: rows of point-like ages (unit means) against events, cell by cell, against
+// the closed forms of REFERENCES §5 for two normal ages with a shared systematic component: D = A − B ~
+// N(μA − μB, fA² + fB² − 2ρ·fA·fB), fA and fB the full 1σ, ρ·fA·fB the covariance of the shared part.
+func TestPairTableClosedForms(t *testing.T) {
+	const n = 200_000
+	lam := Systematic{Key: KeyLambda238, Kind: SystematicDecayConstant, RelSigma: 0.0005}
+	t.Run("REFERENCES §5 shared systematics cancel", func(t *testing.T) {
+		// REFERENCES §5 [C]: 201.60 and 201.55, X = 0.02 (2σ) each, a shared 0.1 % (2σ) λ term: with the
+		// shared part correlated P = 0.9998 (taken as independent it would be 0.64).
+		qs := []Quantity{NormalAge("unit", 201.60, 0.01).With(lam), NormalAge("event", 201.55, 0.01).With(lam)}
+		for _, level := range []ComparisonLevel{LevelAsNeeded, LevelFull} {
+			j := mustDrawJoint(t, qs, DrawOptions{N: n, Seed: 31, Level: level})
+			tab, err := j.PairTable([]int{0}, []int{1}, PairOptions{DeltaMa: 0.05, Overlap: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			c := tab.Cells[0][0]
+			if !within3SE(c.Older.P, 0.9998, n, 5e-5) {
+				t.Errorf("%v: P(event younger than unit) got %.5f ± %.5f, want 0.9998", level, c.Older.P, c.Older.SE)
+			}
+		}
+	})
+	t.Run("own tracers, shared λ238", func(t *testing.T) {
+		// Each age carries its own tracer (0.03 % 1σ) and both λ238 (0.05 % 1σ): the tracers count, λ238
+		// nearly cancels (REFERENCES §8: U–Pb against another tracer uses Y).
+		const muA, xA, muB, xB, tr = 201.56, 0.02, 201.50, 0.03, 0.0003
+		trA := Systematic{Key: TracerKey("T1"), Kind: SystematicRelative, RelSigma: tr}
+		trB := Systematic{Key: TracerKey("T2"), Kind: SystematicRelative, RelSigma: tr}
+		qs := []Quantity{NormalAge("unit", muA, xA).With(trA, lam), NormalAge("event", muB, xB).With(trB, lam)}
+		lA, lB := muA*lam.RelSigma, muB*lam.RelSigma
+		fA := math.Sqrt(xA*xA + muA*tr*muA*tr + lA*lA)
+		fB := math.Sqrt(xB*xB + muB*tr*muB*tr + lB*lB)
+		rho := lA * lB / (fA * fB)
+		want, _ := POlderNormal(muA, fA, muB, fB, rho)
+		wrong, _ := POlderNormal(muA, fA, muB, fB, 0)
+		if math.Abs(want-wrong) < 20*math.Sqrt(want*(1-want)/n) {
+			t.Fatalf("the shared part does not matter here (%.4f vs %.4f): the test has no power", want, wrong)
+		}
+		sd := math.Sqrt(fA*fA + fB*fB - 2*rho*fA*fB)
+		const delta = 0.05
+		mu := muA - muB
+		wantNear := stdNormalCDF((delta-mu)/sd) - stdNormalCDF((-delta-mu)/sd)
+		for _, level := range []ComparisonLevel{LevelFull, LevelAsNeeded} {
+			j := mustDrawJoint(t, qs, DrawOptions{N: n, Seed: 32, Level: level})
+			tab, err := j.PairTable([]int{0}, []int{1}, PairOptions{DeltaMa: delta})
+			if err != nil {
+				t.Fatal(err)
+			}
+			c := tab.Cells[0][0]
+			t.Logf("%v: P %.5f ± %.5f (closed %.5f, independent %.5f); P(|lag| < δ) %.5f (closed %.5f); lag %.4f [%.4f, %.4f] (closed %.4f [%.4f, %.4f])",
+				level, c.Older.P, c.Older.SE, want, wrong, c.Near.P, wantNear, c.LagMa.Median, c.LagMa.Lo95, c.LagMa.Hi95, mu, mu-1.959964*sd, mu+1.959964*sd)
+			// Full: the second-order remainder of the shared λ term, (A − B)·ε ≈ 3e-5 Ma, is far below
+			// the SE; as-needed sets it to zero.
+			if !within3SE(c.Older.P, want, n, 0) {
+				t.Errorf("%v: P(event younger than unit) got %.5f ± %.5f, closed form %.5f (independent would be %.5f)",
+					level, c.Older.P, c.Older.SE, want, wrong)
+			}
+			if !within3SE(c.Near.P, wantNear, n, 0) {
+				t.Errorf("%v: P(|lag| < δ) got %.5f, closed form %.5f", level, c.Near.P, wantNear)
+			}
+			// The lag unit − event: median μ, 95 % μ ± 1.959964σ_D; 0.03σ_D is above 3 SE of each sample
+			// quantile (sqrt(p(1 − p)/N)/f(x_p) ≤ 0.0093σ_D at N = 200,000).
+			for _, q := range []struct {
+				name      string
+				got, want float64
+			}{{"median", c.LagMa.Median, mu}, {"2.5 %", c.LagMa.Lo95, mu - 1.959964*sd}, {"97.5 %", c.LagMa.Hi95, mu + 1.959964*sd}} {
+				if math.Abs(q.got-q.want) > 0.03*sd {
+					t.Errorf("%v: lag %s got %.5f, closed form %.5f", level, q.name, q.got, q.want)
+				}
+			}
+			if tab.Items[0] != "unit" || tab.Events[0] != "event" || c.N != n || c.Level != level {
+				t.Errorf("table %v × %v, N %d, level %v", tab.Items, tab.Events, c.N, c.Level)
+			}
+		}
+	})
+	t.Run("cells equal ComparePair", func(t *testing.T) {
+		qs, _, evs := compareWorld(t, 2, 6, 300, 3)
+		j := mustDrawJoint(t, qs, DrawOptions{N: 3000, Seed: 9})
+		tab, err := j.PairTable([]int{0, 2}, evs, PairOptions{DeltaMa: 0.05, Overlap: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, a := range []int{0, 2} {
+			for e, b := range evs {
+				c, _ := j.ComparePair(a, b, PairOptions{DeltaMa: 0.05, Overlap: true})
+				if c != tab.Cells[i][e] {
+					t.Errorf("cell %d,%d: %+v, ComparePair %+v", i, e, tab.Cells[i][e], c)
+				}
+			}
+		}
+		if _, err := j.PairTable([]int{99}, evs, PairOptions{}); err == nil {
+			t.Error("PairTable accepted item 99")
+		}
+		if _, err := j.PairTable([]int{0}, []int{-1}, PairOptions{}); err == nil {
+			t.Error("PairTable accepted event −1")
+		}
+		if _, err := j.PairTable([]int{0}, evs, PairOptions{DeltaMa: math.NaN()}); err == nil {
+			t.Error("PairTable accepted δ = NaN")
 		}
 	})
 }
@@ -465,6 +571,34 @@ func TestSensitivity(t *testing.T) {
 		t.Errorf("set 1: %g, direct %g", r.P[1], c.Older.P)
 	}
 
+	// The volume fraction in the sensitivity: Sensitivity shares the volume draws between its sets (one
+	// seed and N), which must give exactly what each set drawn on its own gives.
+	vsets := []InputSet{
+		{Name: "a", Quantities: []Quantity{NormalAge("u1", 201.6, 0.05), NormalAge("u2", 201.4, 0.05), NormalAge("event", 201.5, 0.05)}},
+		{Name: "b", Quantities: []Quantity{NormalAge("u1", 201.45, 0.05), NormalAge("u2", 201.4, 0.05), NormalAge("event", 201.5, 0.05)}},
+	}
+	vols := []Volume{{1000, 300}, {900, 200}}
+	var medians []float64
+	volume := func(j *JointDraws) ([]NamedProbability, error) {
+		f, err := j.VolumeFractionBefore([]int{0, 1}, vols, 2)
+		medians = append(medians, f.Fraction.Median)
+		return []NamedProbability{{"most before", f.Majority}}, err
+	}
+	vr, err := Sensitivity(vsets, opt, volume)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for s, set := range vsets {
+		j := mustDrawJoint(t, set.Quantities, opt.Draws)
+		f, _ := j.VolumeFractionBefore([]int{0, 1}, vols, 2)
+		if f.Majority.P != vr.Rows[0].P[s] || f.Fraction.Median != medians[s] {
+			t.Errorf("set %s: P(most before) %g and median %g in the sensitivity, %g and %g alone", set.Name, vr.Rows[0].P[s], medians[s], f.Majority.P, f.Fraction.Median)
+		}
+	}
+	if r := vr.Rows[0]; r.Conclusion != 0 && r.Survives {
+		t.Errorf("u1 moved from older to younger than the event, yet the volume conclusion survives: %+v", r)
+	}
+
 	bad := func(j *JointDraws) ([]NamedProbability, error) {
 		return []NamedProbability{{Name: fmt.Sprint(j.Names[0], j.N, len(j.Keys), j.Keys)}}, nil
 	}
@@ -562,6 +696,34 @@ func BenchmarkCompareTableNoOVL(b *testing.B) {
 			b.Fatal(err)
 		}
 		if _, err := j.Table(ivs, evs, PairOptions{DeltaMa: 0.05}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkComparePairTable: 20 unit means (half U–Pb with tracer and λ238, half ⁴⁰Ar/³⁹Ar on one
+// calibration) × the 50 events of BenchmarkCompareTable, 10,000 joint draws, from the draws to the
+// finished table with OVL.
+func BenchmarkComparePairTable(b *testing.B) {
+	qs, _, evs := compareWorld(b, 0, 50, 1000, 1)
+	kuiper := mustCalibration(b, "kuiper08")
+	var items []int
+	for u := range 20 {
+		age := 201.0 + 0.1*float64(u)
+		q := UPbDate(fmt.Sprintf("unit %d", u+1), age, 0.02, "ET535", 0.00015)
+		if u%2 == 1 {
+			q = ArArDate(fmt.Sprintf("unit %d", u+1), age, 0.05, kuiper)
+		}
+		items = append(items, len(qs))
+		qs = append(qs, q)
+	}
+	b.ResetTimer()
+	for b.Loop() {
+		j, err := DrawJoint(qs, DrawOptions{N: 10_000, Seed: 1})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if _, err := j.PairTable(items, evs, PairOptions{DeltaMa: 0.05, Overlap: true}); err != nil {
 			b.Fatal(err)
 		}
 	}

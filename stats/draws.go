@@ -317,8 +317,21 @@ type JointDraws struct {
 	qs   []jdQuantity
 	keys []jdKey
 
-	mu    sync.Mutex
-	cache map[jdCacheKey][]float64
+	mu      sync.Mutex
+	cache   map[jdCacheKey][]float64
+	volumes *jdVolumes // volume draws of VolumeFractionBefore; Sensitivity shares them between its sets
+}
+
+// jdVolumes holds volume draws per quantity index and volume. They depend only on the seed, N, the index
+// and the volume, so draws with the same seed and N (the sets of Sensitivity) can share them.
+type jdVolumes struct {
+	mu sync.Mutex
+	m  map[jdVolumeKey][]float64
+}
+
+type jdVolumeKey struct {
+	q int
+	v Volume
 }
 
 type jdQuantity struct {
@@ -383,7 +396,7 @@ func DrawJoint(qs []Quantity, opt DrawOptions) (*JointDraws, error) {
 		return nil, fmt.Errorf("joint draws: %d draws × %d quantities exceed %d values", n, len(qs), maxJointValues)
 	}
 	j := &JointDraws{N: n, Seed: opt.Seed, Level: opt.Level, Names: make([]string, len(qs)),
-		qs: make([]jdQuantity, len(qs)), cache: map[jdCacheKey][]float64{}}
+		qs: make([]jdQuantity, len(qs)), cache: map[jdCacheKey][]float64{}, volumes: &jdVolumes{m: map[jdVolumeKey][]float64{}}}
 
 	// Keys: collect, check agreement, sort.
 	type keySpec struct {

@@ -21,12 +21,17 @@ type FigureEventAge struct {
 	LoMa, HiMa      float64 // 2.5 and 97.5 % (younger and older end)
 	Title           string
 	Colour          string // "#rrggbb"; "" for the default
+	// Unit marks the row of an eruptive unit's weighted mean (rows=units|both) rather than an event: it
+	// is drawn in the units' colour and named in the legend.
+	Unit bool
 }
 
 const (
 	eventRowH    = 26.0
 	eventColour  = "#3b6e8f"
 	eventOutline = "#1f4e79"
+	unitColour   = "#c56a1b"
+	unitOutline  = "#8a4510"
 )
 
 func (f CompareFigure) layout() *timelineLayout {
@@ -84,6 +89,16 @@ func (f CompareFigure) legend(l *timelineLayout) []legendItem {
 		c.poly([]pt{{x + 4, y + 5}, {x + 18, y + 5}}, false, paint{Stroke: inkColour, Width: 1.2})
 		c.poly([]pt{{x + 11, y - 6}, {x + 11, y + 6}}, false, paint{Stroke: inkColour, Width: 1.5})
 	})
+	for _, e := range f.Events {
+		if e.Unit {
+			add("unit weighted mean: its analytical spread, mean and 95 % interval", func(c canvas, x, y float64) {
+				c.poly([]pt{{x + 5, y + 5}, {x + 9, y - 1}, {x + 11, y - 6}, {x + 13, y - 1}, {x + 17, y + 5}}, true, paint{Fill: unitColour, FillAlpha: 0.35, Stroke: unitOutline, Width: 0.8})
+				c.poly([]pt{{x + 7, y + 5}, {x + 15, y + 5}}, false, paint{Stroke: inkColour, Width: 1.2})
+				c.poly([]pt{{x + 11, y - 6}, {x + 11, y + 6}}, false, paint{Stroke: inkColour, Width: 1.5})
+			})
+			break
+		}
+	}
 	return items
 }
 
@@ -131,7 +146,13 @@ func (f CompareFigure) draw(c canvas, l *timelineLayout) {
 			continue
 		}
 		e := f.Events[i]
-		col := e.Colour
+		col, outline := e.Colour, eventOutline
+		if e.Unit {
+			outline = unitOutline
+			if col == "" {
+				col = unitColour
+			}
+		}
 		if col == "" {
 			col = eventColour
 		}
@@ -147,7 +168,7 @@ func (f CompareFigure) draw(c canvas, l *timelineLayout) {
 				pts = append(pts, pt{clampX(a), base - e.Density[k]/peak*(h-8)})
 			}
 			pts = append(pts, pt{clampX(e.AgesMa[len(e.AgesMa)-1]), base}, pt{clampX(e.AgesMa[0]), base})
-			c.poly(pts, true, paint{Fill: col, FillAlpha: 0.35, Stroke: eventOutline, Width: 0.8})
+			c.poly(pts, true, paint{Fill: col, FillAlpha: 0.35, Stroke: outline, Width: 0.8})
 		}
 		lo, hi := clampX(e.HiMa), clampX(e.LoMa)
 		c.poly([]pt{{lo, base}, {hi, base}}, false, paint{Stroke: inkColour, Width: 1.2})

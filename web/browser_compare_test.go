@@ -83,3 +83,33 @@ func TestBrowserCompare(t *testing.T) {
 	}
 	shoot(t, ctx, dir, "22-compare-saved")
 }
+
+// Unit rows in a real headless Chromium: rows=both puts each unit's weighted mean against each event
+// under the pulses, with "—" for P(within), the units drawn in the figure, a unit's row opening how it
+// was computed, and the volume fraction in the sensitivity column. Screenshots of the page and of the
+// how-computed account.
+func TestBrowserCompareUnitRows(t *testing.T) {
+	ctx := newBrowser(t)
+	srv, _ := mustServer(t)
+	dir := screenshotDir(t)
+	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/compare?rows=both"), chromedp.WaitVisible(chromedp.CSS("#comparison"))); err != nil {
+		t.Fatal(err)
+	}
+	body := text(t, ctx, "#comparison tbody")
+	for _, want := range []string{"P1", "Haldruna Flow (U7)", "Ulvaskar Flow Group (U1)", "vol."} {
+		if !strings.Contains(body, want) {
+			t.Errorf("comparison table lacks %q", want)
+		}
+	}
+	if got := text(t, ctx, "#compare-figure"); !strings.Contains(got, "Eruptive units (weighted means)") {
+		t.Error("the figure has no units")
+	}
+	shoot(t, ctx, dir, "23-compare-units")
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`#comparison tbody a[href="#how-U7-E5"]`))); err != nil {
+		t.Fatal(err)
+	}
+	if got := text(t, ctx, "#how-U7-E5"); !strings.Contains(got, "P(event after the unit)") || !strings.Contains(got, "does not apply") {
+		t.Errorf("how U7 × E5: %q", got)
+	}
+	shoot(t, ctx, dir, "24-compare-units-how")
+}

@@ -40,6 +40,8 @@ type compareChoice struct {
 	Dens       densityChoice // the density and its pulses: count, weight, bw, h, adaptive, from, to, reps, cal, policy, rule, include, seed
 	ProvinceID int64         // province= (default: the first province)
 	Pulses     []string      // pulses=P1,P2 (default: all)
+	Rows       string        // rows=pulses|units|both: what the table's rows are (default pulses, both with units=)
+	UnitIDs    []int64       // units=ID,ID: the units compared as rows (default: every unit with a mean)
 	EventIDs   []int64       // events=ID,ID (default: every event with an age in the chosen sections)
 	SectionIDs []int64       // sections=ID,ID (default: all)
 	Groups     []string      // group=KIND (repeatable): the events of that kind across sections as one correlated event
@@ -57,6 +59,10 @@ type compareChoice struct {
 }
 
 var compareFormats = []string{"html", "csv", "json", "xlsx", "svg", "png", "pdf"}
+
+// compareRowKinds are the values of rows=: the table's rows are the pulses of the density, single
+// eruptive units (their weighted means), or both.
+var compareRowKinds = []string{"pulses", "units", "both"}
 
 // compareSorts are the table's sortable columns.
 var compareSorts = []string{"pulse", "event", "after", "within", "lag", "near", "ovl", "volume"}
@@ -90,6 +96,12 @@ func (s *Server) compareChoiceFrom(ctx context.Context, p *params) (compareChoic
 		}
 	}
 	ch.EventIDs = idList(p, "events", "event record numbers such as 3,7")
+	ch.UnitIDs = idList(p, "units", "unit record numbers such as 7,12")
+	defaultRows := "pulses"
+	if len(ch.UnitIDs) > 0 {
+		defaultRows = "both"
+	}
+	ch.Rows = p.oneOf("rows", compareRowKinds, defaultRows)
 	ch.SectionIDs = idList(p, "sections", "section record numbers such as 1,2")
 	for _, g := range p.q["group"] {
 		g = strings.TrimSpace(g)
@@ -126,6 +138,24 @@ func (s *Server) compareChoiceFrom(ctx context.Context, p *params) (compareChoic
 	return ch, nil
 }
 
+func (ch compareChoice) pulseRows() bool { return ch.Rows != "units" }
+func (ch compareChoice) unitRows() bool  { return ch.Rows == "units" || ch.Rows == "both" }
+
+// isUnitCode reports whether an order-matrix code names a unit (U7).
+func isUnitCode(code string) bool {
+	n, err := strconv.ParseInt(strings.TrimPrefix(code, "U"), 10, 64)
+	return strings.HasPrefix(code, "U") && err == nil && n > 0
+}
+
+// unknownUnit says why units= names a unit that cannot be compared.
+func unknownUnit(d *compareData, id int64) string {
+	i := slices.IndexFunc(d.Units, func(u store.Unit) bool { return u.ID == id })
+	if i < 0 {
+		return fmt.Sprintf("units: there is no unit %d in %s", id, d.Province.Name)
+	}
+	return fmt.Sprintf("units: unit %d (%s) has no weighted mean under these choices (no date enters it: see its summary)", id, d.Units[i].Name)
+}
+
 // listParam reads a comma-separated list (also repeated parameters), blanks dropped.
 func listParam(p *params, name string) []string {
 	var out []string
@@ -159,7 +189,7 @@ func (ch compareChoice) cacheKey(stamp int64) string {
 	k := map[string]any{"stamp": stamp, "cal": d.Sum.Cal.Cal.Code, "policy": d.Sum.PolicyCode, "rule": d.Sum.Rule.String(),
 		"include": d.Sum.Include, "count": d.Count, "weight": d.Weight, "bw": d.Rule.String(), "h": d.UserHMa,
 		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps, "bw_each": d.BWEach,
-		"province": ch.ProvinceID, "pulses": ch.Pulses, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,
+		"province": ch.ProvinceID, "pulses": ch.Pulses, "rows": ch.Rows, "units": ch.UnitIDs, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,
 		"anomalies": ch.Anomalies, "delta": ch.DeltaMa, "level": ch.Level.String(), "n": ch.N, "model": ch.Model,
 		"draws": ch.ModelDraws, "toc": ch.TocMin, "sens": ch.Sens, "order": ch.Order}
 	b, _ := json.Marshal(k) // maps marshal with sorted keys: one spelling per choice set
@@ -229,17 +259,38 @@ type comparePulse struct {
 
 // compareUnit is a unit mean with its volume, for the fraction of the volume erupted before an event.
 type compareUnit struct {
+	ID     int64
 	Name   string
 	Q      stats.Quantity
 	Volume stats.Volume
 }
 
+// compareUnitRow is a single eruptive unit compared as a row of the table: its weighted mean, a
+// point-like age, with its decay system's systematic components (as for the volume fraction).
+type compareUnitRow struct {
+	Code    string // U12
+	ID      int64
+	Name    string
+	URL     string
+	System  string  // the decay system of the mean, e.g. U–Pb
+	MeanMa  float64 // weighted mean of the dates include= lets in (all of them: flagged dates are flagged, not dropped)
+	Sigma1s float64 // its analytical 1σ, as the policy leaves it
+	N       int
+	How     string // how the mean is made, in words
+	Syst    string // which systematic components it carries
+	Q       stats.Quantity
+}
+
+// Label names the row in the table: the unit's name with its code.
+func (u compareUnitRow) Label() string { return u.Name + " (" + u.Code + ")" }
+
 // compareInputs is one set of inputs: the pulses, the events and the units.
 type compareInputs struct {
 	Pulses   []comparePulse
 	Events   []compareEvent
-	Units    []compareUnit
-	EdgeNote string // which systematic components the pulse edges carry
+	Units    []compareUnit    // units with a volume, for the volume fraction
+	UnitRows []compareUnitRow // units in the engine as point-like ages: the rows of rows=units|both, and U codes of order=
+	EdgeNote string           // which systematic components the pulse edges carry
 	Notes    []string
 }
 
@@ -501,28 +552,124 @@ func unitInputs(sums []unitSummary, dc densityChoice) []compareUnit {
 		if u.VolumeKm3 == nil {
 			continue
 		}
-		for _, sys := range us.Systems {
-			if !sys.Computed {
-				continue
-			}
-			var q stats.Quantity
-			switch sys.Key {
-			case "upb":
-				q = stats.UPbDate(u.Name, sys.All.MeanMa, sys.All.Sigma1s, tracer, rel)
-			case "arar":
-				q = stats.ArArDate(u.Name, sys.All.MeanMa, sys.All.Sigma1s, dc.Sum.Cal.Stats)
-			default:
-				q = stats.NormalAge(u.Name, sys.All.MeanMa, sys.All.Sigma1s)
-			}
-			v := stats.Volume{Km3: *u.VolumeKm3}
-			if u.VolumeSigmaKm3 != nil {
-				v.SigmaKm3 = *u.VolumeSigmaKm3
-			}
-			out = append(out, compareUnit{Name: u.Name, Q: q, Volume: v})
-			break
+		sys, ok := unitMean(us)
+		if !ok {
+			continue
 		}
+		v := stats.Volume{Km3: *u.VolumeKm3}
+		if u.VolumeSigmaKm3 != nil {
+			v.SigmaKm3 = *u.VolumeSigmaKm3
+		}
+		out = append(out, compareUnit{ID: u.ID, Name: u.Name, Q: unitQuantity(u.Name, sys, tracer, rel, dc), Volume: v})
 	}
 	return out
+}
+
+// unitMean returns the mean that stands for a unit: its first computed system in the order U–Pb,
+// ⁴⁰Ar/³⁹Ar, K–Ar, Re–Os, as the density counts it.
+func unitMean(us unitSummary) (*systemSummary, bool) {
+	for i := range us.Systems {
+		if us.Systems[i].Computed {
+			return &us.Systems[i], true
+		}
+	}
+	return nil, false
+}
+
+// unitQuantity is a unit's weighted mean (all the dates in it, analytical σ as the policy leaves it) as a
+// quantity of the engine, with its decay system's systematic components: U–Pb λ238 and the province's
+// tracer, ⁴⁰Ar/³⁹Ar the chosen calibration's monitor age and λ; other systems none.
+func unitQuantity(name string, sys *systemSummary, tracer string, rel float64, dc densityChoice) stats.Quantity {
+	switch sys.Key {
+	case "upb":
+		return stats.UPbDate(name, sys.All.MeanMa, sys.All.Sigma1s, tracer, rel)
+	case "arar":
+		return stats.ArArDate(name, sys.All.MeanMa, sys.All.Sigma1s, dc.Sum.Cal.Stats)
+	}
+	return stats.NormalAge(name, sys.All.MeanMa, sys.All.Sigma1s)
+}
+
+// unitRowInputs returns every unit of the province with a mean as a point-like age, oldest first, with
+// how its mean is made. Units without a mean are named in the notes.
+func unitRowInputs(sums []unitSummary, dc densityChoice) ([]compareUnitRow, []string) {
+	tracer, rel := upbTracer(sums, dc)
+	var out []compareUnitRow
+	var notes []string
+	for _, us := range sums {
+		u := us.Unit
+		sys, ok := unitMean(us)
+		if !ok {
+			if len(us.Systems) > 0 {
+				notes = append(notes, fmt.Sprintf("unit %s (U%d): no date enters a mean (%s), so it is not compared", u.Name, u.ID, includeLabel(dc.Sum.Include)))
+			}
+			continue
+		}
+		q := unitQuantity(u.Name, sys, tracer, rel, dc)
+		r := compareUnitRow{Code: "U" + strconv.FormatInt(u.ID, 10), ID: u.ID, Name: u.Name, URL: idURL("/units", u.ID),
+			System: sys.Label, MeanMa: sys.All.MeanMa, Sigma1s: sys.All.Sigma1s, N: sys.All.N, Q: q}
+		r.How = unitMeanHow(us, sys, dc)
+		switch {
+		case q.ArAr != nil:
+			r.Syst = "the ⁴⁰Ar/³⁹Ar calibration " + q.ArAr.Name + " (monitor age and λ drawn once per joint draw)"
+		case len(q.Systematics) > 0:
+			r.Syst = "λ238"
+			if tracer != "" {
+				r.Syst += fmt.Sprintf(" and the %s tracer (%.3f %% 2σ)", tracer, 200*rel)
+			}
+			r.Syst += ", drawn once per joint draw"
+		default:
+			r.Syst = "none (no systematic terms are stored for " + sys.Label + ")"
+		}
+		out = append(out, r)
+	}
+	slices.SortStableFunc(out, func(a, b compareUnitRow) int { return cmpF(b.MeanMa, a.MeanMa) })
+	return out, notes
+}
+
+// unitMeanHow says how a unit's mean was made: system, dates, ± and the choices behind it.
+func unitMeanHow(us unitSummary, sys *systemSummary, dc densityChoice) string {
+	var codes []string
+	for _, e := range sys.Entries {
+		codes = append(codes, e.D.SampleCode)
+	}
+	slices.Sort(codes)
+	a := sys.Report.All
+	parts := []string{fmt.Sprintf("%s weighted mean of %s (%s): %s ± %s Ma (1σ analytical",
+		sys.Label, count(sys.All.N, "date"), strings.Join(codes, ", "), fixed(sys.All.MeanMa, 4), fixed(sys.All.Sigma1s, 4))}
+	if a.Inflated {
+		parts[0] += fmt.Sprintf(", inflated by √MSWD = %.2f under policy %s)", a.Factor, dc.Sum.PolicyCode)
+	} else {
+		parts[0] += ", policy " + dc.Sum.PolicyCode + ")"
+	}
+	if a.MSWDDefined {
+		parts = append(parts, fmt.Sprintf("MSWD %s (p %s)", fmtMSWD(a.MSWD), fmtP(a.P)))
+	}
+	if sys.Key == "arar" {
+		parts = append(parts, "recalculated to "+dc.Sum.Cal.Cal.Code)
+	}
+	switch f := flaggedCodes(*sys); {
+	case dc.Sum.Rule == stats.RuleNone:
+	case sys.Report.Skipped != "":
+		parts = append(parts, "outlier rule "+dc.Sum.Rule.String()+" not applied: "+sys.Report.Skipped)
+	case len(f) > 0:
+		parts = append(parts, fmt.Sprintf("outlier rule %s flags %s: flagged, not dropped (the mean is the unit summary's, as the density counts it)", dc.Sum.Rule, strings.Join(f, ", ")))
+	default:
+		parts = append(parts, "outlier rule "+dc.Sum.Rule.String()+": none flagged")
+	}
+	var left int
+	for _, x := range sys.Excluded {
+		if x.Review {
+			left++
+		}
+	}
+	parts = append(parts, includeLabel(dc.Sum.Include))
+	if left > 0 {
+		parts[len(parts)-1] += fmt.Sprintf(" (%s left out by include=%s)", count(left, "date"), dc.Sum.Include)
+	}
+	if us.Mixed {
+		parts = append(parts, "the unit's other systems' means are set aside (one value per unit, first in the order U–Pb, ⁴⁰Ar/³⁹Ar, K–Ar, Re–Os)")
+	}
+	return strings.Join(parts, "; ")
 }
 
 // sectionChoice are the section choices that decide event ages: the age model and the TOC threshold.
@@ -795,17 +942,21 @@ type compareResult struct {
 	Density     densityResult
 	Sums        []unitSummary
 	In          compareInputs
-	Table       stats.ComparisonTable
+	Table       stats.ComparisonTable   // pulse rows (rows=pulses|both)
+	UnitTable   stats.PairTable         // unit rows (rows=units|both): each unit's mean against each event
 	Volume      []*stats.VolumeFraction // per event; nil without volumes
 	VolumeNote  string
 	Order       stats.OrderMatrix
 	OrderCodes  []string
 	Sens        *stats.SensitivityResult
 	SensMissing map[string][]string // row name → sets in which an input was absent
-	Keys        []string
-	MinSamples  int
-	Notes       []string
-	Cautions    []string
+	// SensVolume is the median volume fraction before each event under each sensitivity set
+	// ([set][event]); nil without a volume fraction or sensitivity.
+	SensVolume [][]float64
+	Keys       []string
+	MinSamples int
+	Notes      []string
+	Cautions   []string
 }
 
 // sensRowName names a probability of the sensitivity analysis.
@@ -840,6 +991,14 @@ func eventReviewCautions(used, left []store.Event, include string) []string {
 }
 
 func sensRowName(pulse, event, what string) string { return pulse + " × " + event + " · " + what }
+
+// sensVolumeName names the volume fraction's conclusion for an event in the sensitivity analysis:
+// P(more than half the volume erupted before the event).
+func sensVolumeName(event string) string { return sensRowName("volume", event, "most before") }
+
+// sensVolumeAbsent is the SensMissing entry of the volume fraction: the sets in which a unit with a
+// volume had no mean.
+const sensVolumeAbsent = "volume fraction"
 
 // computeComparison builds the inputs and runs the engine.
 func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareResult, error) {
@@ -879,26 +1038,65 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	}
 	res.In = compareInputs{Pulses: pulses, Events: events, Units: unitInputs(sums, ch.Dens), EdgeNote: edgeNote, Notes: enotes}
 	res.Notes = append(res.Notes, enotes...)
+	if ch.unitRows() || slices.ContainsFunc(ch.Order, isUnitCode) {
+		rows, unotes := unitRowInputs(sums, ch.Dens)
+		if len(ch.UnitIDs) > 0 {
+			var keep []compareUnitRow
+			for _, id := range ch.UnitIDs {
+				i := slices.IndexFunc(rows, func(u compareUnitRow) bool { return u.ID == id })
+				if i < 0 {
+					bad = append(bad, unknownUnit(d, id))
+					continue
+				}
+				keep = append(keep, rows[i])
+			}
+			rows = keep
+		} else if ch.unitRows() {
+			res.Notes = append(res.Notes, unotes...)
+		}
+		res.In.UnitRows = rows
+		if len(bad) > 0 {
+			return nil, badRequest{message: "This address has parameters that cannot be used. Fix them and reload:", problems: bad}
+		}
+	}
 	for _, sec := range d.Sections {
 		res.Cautions = append(res.Cautions, tieReviewCautions(sec.Name, d.Ties[sec.ID], d.TiesOut[sec.ID], ch.Dens.Sum.Include)...)
 	}
 	res.Cautions = append(res.Cautions, eventReviewCautions(d.EventsIn, d.EventsOut, ch.Dens.Sum.Include)...)
-	if len(pulses) == 0 || len(events) == 0 {
+	shownUnits := 0
+	if ch.unitRows() {
+		shownUnits = len(res.In.UnitRows)
+		if shownUnits == 0 {
+			res.Cautions = append(res.Cautions, "No unit of the province has a weighted mean under these choices: there is no unit row to compare.")
+		}
+	}
+	pulseRows := 0
+	if ch.pulseRows() {
+		pulseRows = len(pulses)
+	}
+	if pulseRows+shownUnits == 0 || len(events) == 0 {
 		if len(events) == 0 {
 			res.Cautions = append(res.Cautions, "No event with an age to compare in the chosen sections.")
 		}
 		res.Computed = time.Since(start)
 		return res, nil
 	}
-	qs, iv, evIdx, unitIdx := assemble(res.In)
+	qs, iv, evIdx, unitIdx, rowIdx := assemble(res.In)
 	jd, err := stats.DrawJoint(qs, stats.DrawOptions{N: ch.N, Seed: ch.Dens.Seed, Level: ch.Level})
 	if err != nil {
 		return nil, err
 	}
 	res.Keys, res.MinSamples = jd.Keys, jd.MinSamples
 	opt := stats.PairOptions{DeltaMa: ch.DeltaMa, Overlap: true}
-	if res.Table, err = jd.Table(iv, evIdx, opt); err != nil {
-		return nil, err
+	if ch.pulseRows() {
+		if res.Table, err = jd.Table(iv, evIdx, opt); err != nil {
+			return nil, err
+		}
+	}
+	if ch.unitRows() {
+		if res.UnitTable, err = jd.PairTable(rowIdx, evIdx, opt); err != nil {
+			return nil, err
+		}
 	}
 	// The volume fraction, per event.
 	if len(unitIdx) > 0 {
@@ -925,8 +1123,15 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	// The order matrix.
 	codes := ch.Order
 	if len(codes) == 0 {
-		for _, p := range pulses {
-			codes = append(codes, p.Name, p.Name+".end")
+		if ch.pulseRows() {
+			for _, p := range pulses {
+				codes = append(codes, p.Name, p.Name+".end")
+			}
+		}
+		if ch.unitRows() {
+			for _, u := range res.In.UnitRows {
+				codes = append(codes, u.Code)
+			}
 		}
 		for _, e := range events {
 			codes = append(codes, e.Code)
@@ -934,9 +1139,9 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	}
 	var items []int
 	for _, c := range codes {
-		i, ok := itemIndex(c, res.In, iv, evIdx)
+		i, ok := itemIndex(c, res.In, iv, evIdx, rowIdx)
 		if !ok {
-			bad = append(bad, fmt.Sprintf("order: unknown item %q; want a pulse (P1 for its onset, P1.end), an event (E12), a group (G:cie_onset) or an anomaly (A3.1) of this comparison", c))
+			bad = append(bad, fmt.Sprintf("order: unknown item %q; want a pulse (P1 for its onset, P1.end), a unit (U7), an event (E12), a group (G:cie_onset) or an anomaly (A3.1) of this comparison", c))
 			continue
 		}
 		items = append(items, i)
@@ -949,7 +1154,7 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 		return nil, err
 	}
 	if ch.Sens {
-		if err := res.sensitivity(d, ch, qs, iv, evIdx); err != nil {
+		if err := res.sensitivity(d, ch, qs, iv, evIdx, unitIdx, rowIdx); err != nil {
 			return nil, err
 		}
 	}
@@ -957,8 +1162,11 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	return res, nil
 }
 
-// assemble lays the inputs out as the engine's quantities: pulse onsets and ends, events, units.
-func assemble(in compareInputs) (qs []stats.Quantity, iv []stats.IntervalRef, evIdx, unitIdx []int) {
+// assemble lays the inputs out as the engine's quantities: pulse onsets and ends, events, units with a
+// volume, then the unit rows without one. A unit row with a volume is the volume fraction's quantity
+// (rowIdx points at it), so a unit has one set of draws; and with no unit rows the quantities, and so
+// every draw, are what they were before unit rows existed.
+func assemble(in compareInputs) (qs []stats.Quantity, iv []stats.IntervalRef, evIdx, unitIdx, rowIdx []int) {
 	for _, p := range in.Pulses {
 		iv = append(iv, stats.IntervalRef{Name: p.Name, Onset: len(qs), End: len(qs) + 1})
 		qs = append(qs, p.Onset, p.End)
@@ -971,7 +1179,15 @@ func assemble(in compareInputs) (qs []stats.Quantity, iv []stats.IntervalRef, ev
 		unitIdx = append(unitIdx, len(qs))
 		qs = append(qs, u.Q)
 	}
-	return unifyKeys(qs), iv, evIdx, unitIdx
+	for _, r := range in.UnitRows {
+		if i := slices.IndexFunc(in.Units, func(u compareUnit) bool { return u.ID == r.ID }); i >= 0 {
+			rowIdx = append(rowIdx, unitIdx[i])
+			continue
+		}
+		rowIdx = append(rowIdx, len(qs))
+		qs = append(qs, r.Q)
+	}
+	return unifyKeys(qs), iv, evIdx, unitIdx, rowIdx
 }
 
 // unifyKeys gives every quantity carrying a systematic key the same description of it: the tracer
@@ -1000,7 +1216,12 @@ func unifyKeys(qs []stats.Quantity) []stats.Quantity {
 }
 
 // itemIndex finds the quantity of an order-matrix code.
-func itemIndex(code string, in compareInputs, iv []stats.IntervalRef, evIdx []int) (int, bool) {
+func itemIndex(code string, in compareInputs, iv []stats.IntervalRef, evIdx, rowIdx []int) (int, bool) {
+	for i, u := range in.UnitRows {
+		if u.Code == code {
+			return rowIdx[i], true
+		}
+	}
 	for i, p := range in.Pulses {
 		switch code {
 		case p.Name, p.Name + ".onset":
@@ -1018,10 +1239,13 @@ func itemIndex(code string, in compareInputs, iv []stats.IntervalRef, evIdx []in
 }
 
 // sensitivity recomputes every cell under the alternative calibrations, bandwidth rules, age-model
-// choices and (with anomalies) TOC thresholds, with the same seed and draws (common random numbers).
+// choices and (with anomalies) TOC thresholds, with the same seed and draws (common random numbers):
+// the pulse rows' P(after onset), P(within) and P(|lag| < δ), the unit rows' P(after) and P(|lag| < δ)
+// (a calibration moves the ⁴⁰Ar/³⁹Ar unit means), and each event's volume fraction — its median, and
+// P(more than half the volume before the event) as the conclusion that may flip.
 // An input absent under an alternative (a pulse the alternative density lacks, an anomaly the
 // alternative threshold does not find) keeps its baseline value there and is named in SensMissing.
-func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []stats.Quantity, iv []stats.IntervalRef, evIdx []int) error {
+func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []stats.Quantity, iv []stats.IntervalRef, evIdx, unitIdx, rowIdx []int) error {
 	type alt struct {
 		name string
 		dens *densityChoice
@@ -1074,10 +1298,40 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 		wg.Go(func() {
 			qs := slices.Clone(base)
 			if a.dens != nil {
-				ps, _, _, _, err := pulseInputs(d, *a.dens)
+				ps, _, sums, _, err := pulseInputs(d, *a.dens)
 				if err != nil {
 					errs[k] = err
 					return
+				}
+				// The unit means under the alternative (another calibration moves the ⁴⁰Ar/³⁹Ar ones).
+				units := unitInputs(sums, *a.dens)
+				for i, u := range res.In.Units {
+					j := slices.IndexFunc(units, func(x compareUnit) bool { return x.ID == u.ID })
+					if j < 0 {
+						absent[k] = append(absent[k], u.Name)
+						if !slices.Contains(absent[k], sensVolumeAbsent) {
+							absent[k] = append(absent[k], sensVolumeAbsent)
+						}
+						continue
+					}
+					q := units[j].Q
+					q.Name = u.Q.Name
+					qs[unitIdx[i]] = q
+				}
+				if len(res.In.UnitRows) > 0 {
+					rows, _ := unitRowInputs(sums, *a.dens)
+					for i, u := range res.In.UnitRows {
+						j := slices.IndexFunc(rows, func(x compareUnitRow) bool { return x.ID == u.ID })
+						if j < 0 {
+							if !slices.Contains(absent[k], u.Name) {
+								absent[k] = append(absent[k], u.Name)
+							}
+							continue
+						}
+						q := rows[j].Q
+						q.Name = u.Q.Name
+						qs[rowIdx[i]] = q
+					}
 				}
 				for i, p := range res.In.Pulses {
 					j := nearestPulse(ps, p.Summary.ModeMa)
@@ -1120,19 +1374,53 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 			missing[n] = append(missing[n], a.name)
 		}
 	}
+	vols := make([]stats.Volume, len(res.In.Units))
+	for i, u := range res.In.Units {
+		vols[i] = u.Volume
+	}
+	var volMedians [][]float64
 	compare := func(j *stats.JointDraws) ([]stats.NamedProbability, error) {
-		t, err := j.Table(iv, evIdx, stats.PairOptions{DeltaMa: ch.DeltaMa})
-		if err != nil {
-			return nil, err
-		}
 		var out []stats.NamedProbability
-		for i, row := range t.Cells {
-			for e, c := range row {
-				out = append(out,
-					stats.NamedProbability{Name: sensRowName(t.Intervals[i], res.In.Events[e].Code, "after"), Probability: c.AfterOnset},
-					stats.NamedProbability{Name: sensRowName(t.Intervals[i], res.In.Events[e].Code, "within"), Probability: c.Within},
-					stats.NamedProbability{Name: sensRowName(t.Intervals[i], res.In.Events[e].Code, "near"), Probability: c.Near})
+		if ch.pulseRows() {
+			t, err := j.Table(iv, evIdx, stats.PairOptions{DeltaMa: ch.DeltaMa})
+			if err != nil {
+				return nil, err
 			}
+			for i, row := range t.Cells {
+				for e, c := range row {
+					out = append(out,
+						stats.NamedProbability{Name: sensRowName(t.Intervals[i], res.In.Events[e].Code, "after"), Probability: c.AfterOnset},
+						stats.NamedProbability{Name: sensRowName(t.Intervals[i], res.In.Events[e].Code, "within"), Probability: c.Within},
+						stats.NamedProbability{Name: sensRowName(t.Intervals[i], res.In.Events[e].Code, "near"), Probability: c.Near})
+				}
+			}
+		}
+		if ch.unitRows() && len(rowIdx) > 0 {
+			t, err := j.PairTable(rowIdx, evIdx, stats.PairOptions{DeltaMa: ch.DeltaMa})
+			if err != nil {
+				return nil, err
+			}
+			for i, row := range t.Cells {
+				for e, c := range row {
+					code := res.In.UnitRows[i].Code
+					out = append(out,
+						stats.NamedProbability{Name: sensRowName(code, res.In.Events[e].Code, "after"), Probability: c.Older},
+						stats.NamedProbability{Name: sensRowName(code, res.In.Events[e].Code, "near"), Probability: c.Near})
+				}
+			}
+		}
+		if res.Volume != nil {
+			med := make([]float64, len(evIdx))
+			for e, q := range evIdx {
+				vf, err := j.VolumeFractionBefore(unitIdx, vols, q)
+				if err != nil {
+					return nil, err
+				}
+				med[e] = vf.Fraction.Median
+				out = append(out, stats.NamedProbability{Name: sensVolumeName(res.In.Events[e].Code), Probability: vf.Majority})
+			}
+			// Sensitivity calls compare once per set, in order: the medians line up with its sets.
+			volMedians = append(volMedians, med)
 		}
 		return out, nil
 	}
@@ -1142,6 +1430,9 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 	}
 	res.Sens = &sr
 	res.SensMissing = missing
+	if res.Volume != nil {
+		res.SensVolume = volMedians
+	}
 	return nil
 }
 

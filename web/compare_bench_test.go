@@ -8,7 +8,8 @@ import (
 	"testing"
 )
 
-// The demo comparison page (2 pulses × 10 events, 10,000 joint draws, sensitivity over 7 alternatives).
+// The demo comparison page (2 pulses × 10 events, 10,000 joint draws, sensitivity over 7 alternatives;
+// with rows=both also the 17 units × 10 events).
 // Cold: a new cache every time (density, bootstrap, age models, joint draws, sensitivity, page);
 // warm: the result from the cache, the page rendered (sorting, table, figure SVG).
 func BenchmarkComparePage(b *testing.B) {
@@ -36,6 +37,19 @@ func BenchmarkComparePage(b *testing.B) {
 		serve(c, "/compare")
 		for b.Loop() {
 			serve(c, "/compare")
+		}
+	})
+	// Unit rows too (rows=both: 2 pulses and 17 units × 10 events, the order matrix of 31 items).
+	b.Run("cold-both", func(b *testing.B) {
+		for b.Loop() {
+			serve(&comparer{Server: s, cache: newCompareCache(4)}, "/compare?rows=both")
+		}
+	})
+	b.Run("warm-both", func(b *testing.B) {
+		c := &comparer{Server: s, cache: newCompareCache(4)}
+		serve(c, "/compare?rows=both")
+		for b.Loop() {
+			serve(c, "/compare?rows=both")
 		}
 	})
 	b.Run("warm-csv", func(b *testing.B) {

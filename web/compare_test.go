@@ -4,14 +4,17 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"math"
 	"net/http"
 	"net/http/httptest"
 	"net/url"
+	"slices"
 	"strings"
 	"testing"
 
 	"github.com/xuri/excelize/v2"
+	"gonum.org/v1/gonum/stat/distuv"
 
 	"coeval/stats"
 	"coeval/store"
@@ -319,5 +322,324 @@ func TestCompareLeavesPendingTiesOut(t *testing.T) {
 	}
 	if !strings.Contains(strings.Join(res.Cautions, " "), "no curator has reviewed yet") {
 		t.Errorf("include=pending: no caution says the model rests on an unreviewed tie: %q", res.Cautions)
+	}
+}
+
+// A unit row through the page's own path (choices → data → computeComparison) against the closed form
+// of REFERENCES §5 for two normal ages with a shared systematic component. The unit is a U–Pb weighted
+// mean (tracer ET2535, λ238), the event a section event on the naive linear age model (a normal whose
+// ties' U–Pb dates give it λ238 and the same tracer). D = U − E ~ N(μU − μE, fU² + fE² − 2ρ·fU·fE), with
+// f the full 1σ and ρ·fU·fE = μU·μE·Σ rel² of the shared keys. At level=full the shared keys are drawn
+// once per draw and must cancel (taking them as independent would give a clearly different P); at
+// as-needed they are held fixed. P(event younger than the unit), P(|lag| < δ) and the lag's 2.5, 50 and
+// 97.5 % points within 3 Monte Carlo SE.
+func TestCompareUnitRowClosedFormThroughThePagePath(t *testing.T) {
+	db := mustDemoDB(t)
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
+	ctx := context.Background()
+	const unitID, n, delta = 901, 100_000, 0.1
+	load := func(level string) (*compareData, compareChoice) {
+		t.Helper()
+		r := httptest.NewRequest(http.MethodGet, fmt.Sprintf("/compare?sens=0&reps=100&model=linear&rows=units&units=%d&n=%d&delta=%g&level=%s", unitID, n, delta, level), nil)
+		p := newParams(r)
+		ch, err := c.compareChoiceFrom(ctx, p)
+		if err != nil || p.err() != nil {
+			t.Fatal(err, p.err())
+		}
+		d, err := c.loadCompareData(ctx, &ch)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// A unit of two U–Pb dates (1σ 0.02 Ma each, no Y: the default tracer term), ageMa apart by ±0.005.
+		uid := int64(unitID)
+		d.Units = append(d.Units, store.Unit{ID: uid, ProvinceID: ch.ProvinceID, Name: "Test Flow", Kind: "flow"})
+		for i, off := range []float64{-0.005, 0.005} {
+			d.Dates = append(d.Dates, store.Date{ID: int64(9000 + i), UnitID: &uid, Unit: "Test Flow", SampleCode: fmt.Sprint("TEST-", i),
+				Method: "upb_idtims", Interpretation: "eruption", AgeMa: 155.0 + off, SigmaMa: 0.02, SigmaLevel: 2, Tracer: "ET2535", ReviewState: "accepted"})
+		}
+		return d, ch
+	}
+	setAge := func(d *compareData, ageMa float64) {
+		for i := range d.Dates {
+			if d.Dates[i].ID >= 9000 {
+				d.Dates[i].AgeMa = ageMa + []float64{-0.005, 0.005}[d.Dates[i].ID-9000]
+			}
+		}
+	}
+	// First find a section event and its normal, then put the unit one correlated σ above it.
+	d, ch := load("full")
+	res, err := computeComparison(d, ch, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	e := slices.IndexFunc(res.In.Events, func(ev compareEvent) bool { return ev.SectionID != 0 && ev.Q.Kind == stats.QuantityNormal })
+	if e < 0 {
+		t.Fatal("no section event with a normal age on the linear model")
+	}
+	ev := res.In.Events[e]
+	setAge(d, ev.Q.AgeMa+math.Hypot(ev.Q.SigmaMa, 0.02/math.Sqrt2))
+	for _, level := range []string{"full", "as-needed"} {
+		t.Run(level, func(t *testing.T) {
+			d, ch := load(level)
+			setAge(d, ev.Q.AgeMa+math.Hypot(ev.Q.SigmaMa, 0.02/math.Sqrt2))
+			res, err := computeComparison(d, ch, 0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			rows := compareRows(res)
+			k := slices.IndexFunc(rows, func(r compareRow) bool { return r.isUnit() && r.Event.Code == ev.Code })
+			if k < 0 || len(res.In.UnitRows) != 1 || res.In.UnitRows[0].Code != "U901" {
+				t.Fatalf("no unit row U901 × %s (%d unit rows)", ev.Code, len(res.In.UnitRows))
+			}
+			cell := rows[k].Cell
+			// The quantities as the engine received them (keys unified), for the closed form.
+			qs, _, evIdx, _, rowIdx := assemble(res.In)
+			qu, qe := qs[rowIdx[0]], qs[evIdx[e]]
+			rel2 := func(q stats.Quantity) map[string]float64 {
+				m := map[string]float64{}
+				for _, s := range q.Systematics {
+					m[s.Key] = s.RelSigma * s.RelSigma
+				}
+				return m
+			}
+			ru, re := rel2(qu), rel2(qe)
+			var sumU, sumE, shared float64
+			for k, v := range ru {
+				sumU += v
+				if w, ok := re[k]; ok && w == v {
+					shared += v
+				}
+			}
+			for _, v := range re {
+				sumE += v
+			}
+			if shared == 0 || !strings.Contains(strings.Join(res.Keys, "|"), stats.TracerKey("ET2535")) {
+				t.Fatalf("unit and event share no systematic key: %v, %v", qu.Systematics, qe.Systematics)
+			}
+			muU, muE := qu.AgeMa, qe.AgeMa
+			fU := math.Sqrt(qu.SigmaMa*qu.SigmaMa + muU*muU*sumU)
+			fE := math.Sqrt(qe.SigmaMa*qe.SigmaMa + muE*muE*sumE)
+			rho := muU * muE * shared / (fU * fE)
+			// As-needed holds the shared keys fixed in both: their (second-order) remainder is dropped too.
+			sd := math.Sqrt(fU*fU + fE*fE - 2*rho*fU*fE)
+			if level == "as-needed" {
+				sd = math.Sqrt(qu.SigmaMa*qu.SigmaMa + muU*muU*(sumU-shared) + qe.SigmaMa*qe.SigmaMa + muE*muE*(sumE-shared))
+			}
+			mu := muU - muE
+			want := distuv.UnitNormal.CDF(mu / sd)
+			wrong, _ := stats.POlderNormal(muU, fU, muE, fE, 0)
+			se := math.Sqrt(want * (1 - want) / n)
+			if math.Abs(want-wrong) < 10*se {
+				t.Fatalf("closed forms with and without the shared part are too close (%.4f, %.4f): no power", want, wrong)
+			}
+			wantNear := distuv.UnitNormal.CDF((delta-mu)/sd) - distuv.UnitNormal.CDF((-delta-mu)/sd)
+			t.Logf("%s × %s: P(event after unit) %.5f ± %.5f, closed form %.5f (shared part taken as independent: %.5f); P(|lag| < %g) %.5f, closed %.5f; lag %.4f [%.4f, %.4f], closed %.4f ± 1.96·%.4f",
+				qu.Name, qe.Name, cell.AfterOnset.P, cell.AfterOnset.SE, want, wrong, delta, cell.Near.P, wantNear, cell.LagMa.Median, cell.LagMa.Lo95, cell.LagMa.Hi95, mu, sd)
+			if math.Abs(cell.AfterOnset.P-want) > 3*se {
+				t.Errorf("P(event younger than the unit) = %.5f, closed form %.5f ± %.5f (3 SE)", cell.AfterOnset.P, want, 3*se)
+			}
+			if tol := 3 * math.Sqrt(wantNear*(1-wantNear)/n); math.Abs(cell.Near.P-wantNear) > tol {
+				t.Errorf("P(|lag| < δ) = %.5f, closed form %.5f ± %.5f", cell.Near.P, wantNear, tol)
+			}
+			// SE of a sample quantile: sqrt(p(1 − p)/N)/φ(z_p), in units of σ_D.
+			for _, q := range []struct {
+				p, got float64
+			}{{0.5, cell.LagMa.Median}, {0.025, cell.LagMa.Lo95}, {0.975, cell.LagMa.Hi95}} {
+				z := distuv.UnitNormal.Quantile(q.p)
+				se := math.Sqrt(q.p*(1-q.p)/n) / distuv.UnitNormal.Prob(z) * sd
+				if w := mu + z*sd; math.Abs(q.got-w) > 3*se {
+					t.Errorf("lag %g quantile %.5f, closed form %.5f ± %.5f", q.p, q.got, w, 3*se)
+				}
+			}
+			if !math.IsNaN(cell.Within.P) {
+				t.Errorf("a unit row has P(within) = %g; it does not apply", cell.Within.P)
+			}
+		})
+	}
+}
+
+// Unit rows in every download and on the page: rows=both adds a row per unit and event with the same
+// columns (row_kind, the unit and its mean); rows=units leaves the pulses out; the order matrix takes U
+// codes; units= picks units and a bad one is named.
+func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
+	srv, _ := mustServer(t)
+	const q = "/compare?rows=both&units=7,1&n=2000&reps=200&draws=500"
+	status, _, body := get(t, srv, q+"&format=csv")
+	if status != http.StatusOK {
+		t.Fatalf("csv: status %d: %.300s", status, body)
+	}
+	recs, err := csv.NewReader(strings.NewReader(body)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	hdr := recs[0]
+	col := func(name string) int { return slices.Index(hdr, name) }
+	for _, c := range []string{"row_kind", "unit_code", "unit", "unit_mean_ma", "p_after_onset", "p_within", "ovl", "sens_after_min"} {
+		if col(c) < 0 {
+			t.Fatalf("csv header lacks %s: %v", c, hdr)
+		}
+	}
+	kinds := map[string]int{}
+	for _, r := range recs[1:] {
+		kinds[r[col("row_kind")]]++
+		if r[col("row_kind")] == "unit" {
+			if r[col("p_within")] != "" || r[col("unit_code")] == "" || r[col("p_after_onset")] == "" || r[col("lag_median_ma")] == "" || r[col("pulse")] != "" {
+				t.Errorf("unit row %v", r)
+			}
+		}
+	}
+	if kinds["pulse"] != 20 || kinds["unit"] != 20 {
+		t.Errorf("rows by kind %v, want 20 pulse and 20 unit rows", kinds)
+	}
+	if got := recs[1+20][col("unit")]; got != "Haldruna Flow" {
+		t.Errorf("first unit row is %q, want the first unit chosen (units=7,1: Haldruna Flow)", got)
+	}
+	_, _, js := get(t, srv, q+"&format=json")
+	var doc struct {
+		Settings map[string]string   `json:"settings"`
+		Rows     []map[string]string `json:"rows"`
+		Order    struct {
+			Items []string `json:"items"`
+		} `json:"order"`
+	}
+	if err := json.Unmarshal([]byte(js), &doc); err != nil || len(doc.Rows) != 40 || doc.Rows[39]["row_kind"] != "unit" || doc.Settings["unit U7"] == "" {
+		t.Errorf("json: %v, %d rows, settings %v", err, len(doc.Rows), doc.Settings["unit U7"])
+	}
+	if !slices.Contains(doc.Order.Items, "U7") || !slices.Contains(doc.Order.Items, "P1") {
+		t.Errorf("order items %v lack the units or the pulses", doc.Order.Items)
+	}
+	_, _, x := get(t, srv, q+"&format=xlsx")
+	f, err := excelize.OpenReader(strings.NewReader(x))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	sheet, _ := f.GetRows("Comparison")
+	if len(sheet) != 41 || sheet[0][1] != "row_kind" || sheet[40][1] != "unit" {
+		t.Errorf("xlsx: %d rows, header %v", len(sheet), sheet[0])
+	}
+	_, _, page := get(t, srv, q)
+	for _, want := range []string{"Pulses and units × events", "Haldruna Flow (U7)", "onset / unit, ±\u00a0MC\u00a0SE", "Unit rows (code U", "P(event after the unit)",
+		"does not apply: the unit&#39;s weighted mean is a point-like age", "Eruptive units (weighted means)", `id="how-U7-E5"`} {
+		if !strings.Contains(page, want) {
+			t.Errorf("page lacks %q", want)
+		}
+	}
+	_, _, only := get(t, srv, "/compare?rows=units&units=7&n=2000&reps=200&draws=500&sens=0&format=csv&order=U7,E5")
+	recs, _ = csv.NewReader(strings.NewReader(only)).ReadAll()
+	if len(recs) != 11 || slices.ContainsFunc(recs[1:], func(r []string) bool { return r[1] != "unit" }) {
+		t.Errorf("rows=units: %d rows, want 10 unit rows", len(recs)-1)
+	}
+	_, _, js = get(t, srv, "/compare?rows=units&units=7&n=2000&reps=200&draws=500&sens=0&format=json&order=U7,E5")
+	if err := json.Unmarshal([]byte(js), &doc); err != nil || strings.Join(doc.Order.Items, ",") != "U7,E5" {
+		t.Errorf("order=U7,E5: items %v (%v)", doc.Order.Items, err)
+	}
+	for path, want := range map[string]string{"/compare?rows=sideways": "rows:", "/compare?units=999&sens=0&n=1000": "units: there is no unit 999",
+		"/compare?units=x": "units:", "/compare?order=U999&sens=0&n=1000": "order:"} {
+		if status, _, body := get(t, srv, path); status != http.StatusBadRequest || !strings.Contains(body, want) {
+			t.Errorf("%s: status %d, want 400 naming %q", path, status, want)
+		}
+	}
+}
+
+// The volume fraction is in the sensitivity analysis: each event's P(more than half the volume before
+// it) is followed across the sets, and a flip is flagged. Constructed: unit A, ⁴⁰Ar/³⁹Ar (1000 km³), whose
+// mean the calibration moves; unit B, U–Pb (900 km³), far younger than every event. More than half the
+// volume is before an event exactly when A is older than it, so an event halfway between A's mean on the
+// chosen calibration and on the calibration that moves it most is a majority conclusion under one and
+// the opposite under the other (the means are about 1 Ma apart, A's full external σ about 0.15 Ma). An
+// event far older than both is a conclusion ("most after") that survives every set.
+func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
+	db := mustDemoDB(t)
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
+	ctx := context.Background()
+	r := httptest.NewRequest(http.MethodGet, "/compare?rows=both&n=4000&reps=200&events=901,902", nil)
+	p := newParams(r)
+	ch, err := c.compareChoiceFrom(ctx, p)
+	if err != nil || p.err() != nil {
+		t.Fatal(err, p.err())
+	}
+	ch.EventIDs = nil // checked against the store; the events are set below
+	d, err := c.loadCompareData(ctx, &ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ptr := func(v float64) *float64 { return &v }
+	a, b := int64(901), int64(902)
+	d.Units = []store.Unit{{ID: a, ProvinceID: ch.ProvinceID, Name: "Argon Flow", Kind: "flow", VolumeKm3: ptr(1000)},
+		{ID: b, ProvinceID: ch.ProvinceID, Name: "Zircon Sill", Kind: "sill", VolumeKm3: ptr(900)}}
+	d.Dates = nil
+	for i := range 2 {
+		d.Dates = append(d.Dates,
+			store.Date{ID: int64(9100 + i), UnitID: &a, Unit: "Argon Flow", SampleCode: fmt.Sprint("AR-", i), Method: "arar_plateau",
+				Interpretation: "eruption", AgeMa: 154.0, SigmaMa: 0.03, SigmaLevel: 1, Monitor: "FCs", MonitorAgeMa: ptr(28.02), LambdaPerA: ptr(5.543e-10), ReviewState: "accepted"},
+			store.Date{ID: int64(9200 + i), UnitID: &b, Unit: "Zircon Sill", SampleCode: fmt.Sprint("ZR-", i), Method: "upb_idtims",
+				Interpretation: "eruption", AgeMa: 150.0, SigmaMa: 0.02, SigmaLevel: 1, Tracer: "ET2535", ReviewState: "accepted"})
+	}
+	a0 := recalculate(d.Dates[0], ch.Dens.Sum.Cal.Stats).AgeMa
+	a1, alt := a0, ""
+	for _, cal := range d.Cals {
+		if x := recalculate(d.Dates[0], statsCalibration(cal)).AgeMa; math.Abs(x-a0) > math.Abs(a1-a0) {
+			a1, alt = x, cal.Code
+		}
+	}
+	ev := func(id int64, age float64) store.Event {
+		sigma := 0.01
+		return store.Event{ID: id, Name: fmt.Sprint("Event ", id), Kind: "other", AgeMa: &age, SigmaMa: &sigma, ReviewState: "accepted"}
+	}
+	d.Direct = []store.Event{ev(901, (a0+a1)/2), ev(902, 160)}
+	ch.EventIDs = []int64{901, 902}
+	res, err := computeComparison(d, ch, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Sens == nil || res.SensVolume == nil || res.Volume == nil {
+		t.Fatalf("no volume sensitivity (sens %v, volume %v)", res.Sens != nil, res.Volume != nil)
+	}
+	row := func(event string) *stats.SensitivityRow {
+		for i := range res.Sens.Rows {
+			if res.Sens.Rows[i].Name == sensVolumeName(event) {
+				return &res.Sens.Rows[i]
+			}
+		}
+		t.Fatalf("no sensitivity row for the volume fraction before %s among %d rows", event, len(res.Sens.Rows))
+		return nil
+	}
+	flip := row("E901")
+	t.Logf("A on %s %.3f Ma, on %s %.3f Ma; P(most before E901) per set %v; medians %v", ch.Dens.Sum.Cal.Cal.Code, a0, alt, a1, flip.P, res.SensVolume)
+	if flip.Conclusion == 0 || flip.Survives || !strings.Contains(flip.Caution, "calibration "+alt) {
+		t.Errorf("halfway event: conclusion %d, survives %v, caution %q; want a flip under calibration %s", flip.Conclusion, flip.Survives, flip.Caution, alt)
+	}
+	if hold := row("E902"); hold.Conclusion != -1 || !hold.Survives || hold.Caution != "" {
+		t.Errorf("far older event: %+v, want P(most before) < 0.05 under every set", hold)
+	}
+	// Shown: the table's sensitivity cell (range of the median and ⚠), the shaded volume cell, the CSV.
+	for _, cr := range compareRows(res) {
+		text, caution, fails := sensText(cr, len(res.Sens.Sets))
+		switch cr.Event.Code {
+		case "E901":
+			if !fails || !strings.Contains(text, "vol.\u00a00\u2060–\u206053\u00a0%") || !strings.Contains(caution, "most of the volume before the event: ") {
+				t.Errorf("%s × E901: sensitivity %q (%q), fails %v", cr.Pulse, text, caution, fails)
+			}
+		case "E902":
+			if !strings.Contains(text, "vol.\u00a00\u00a0%") || strings.Contains(caution, "volume") {
+				t.Errorf("%s × E902: sensitivity %q (%q)", cr.Pulse, text, caution)
+			}
+		}
+	}
+	var b2 strings.Builder
+	if err := writeCompareCSV(&b2, res); err != nil {
+		t.Fatal(err)
+	}
+	recs, err := csv.NewReader(strings.NewReader(b2.String())).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	col := func(name string) int { return slices.Index(recs[0], name) }
+	for _, rec := range recs[1:] {
+		if rec[col("event_code")] == "E901" && (!strings.Contains(rec[col("sens_caution")], "most of the volume before the event") ||
+			rec[col("sens_volume_min")] != "0" || rec[col("sens_volume_max")] == "0") {
+			t.Errorf("csv row %v", rec)
+		}
 	}
 }

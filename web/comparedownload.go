@@ -23,9 +23,26 @@ type ioWriter = io.Writer
 var compareColumns = []string{"province", "pulse", "event_code", "event", "section",
 	"p_after_onset", "p_after_onset_se", "p_within", "p_within_se",
 	"lag_median_ma", "lag_lo95_ma", "lag_hi95_ma", "delta_ma", "p_near", "p_near_se", "ovl",
-	"volume_before_median", "volume_before_lo95", "volume_before_hi95",
-	"sens_after_min", "sens_after_max", "sens_within_min", "sens_within_max", "sens_caution",
+	"volume_before_median", "volume_before_lo95", "volume_before_hi95", "p_volume_majority", "p_volume_majority_se",
+	"sens_after_min", "sens_after_max", "sens_within_min", "sens_within_max", "sens_volume_min", "sens_volume_max", "sens_caution",
 	"n", "seed", "level", "data_stamp"}
+
+// compareUnitColumns are the columns that rows=units|both adds after the province: what kind of row it is
+// and, for a unit row, the unit and its mean. The default (rows=pulses) keeps the columns above, so its
+// downloads are what they were.
+var compareUnitColumns = []string{"row_kind", "pulse", "unit_code", "unit", "unit_system", "unit_mean_ma", "unit_sigma_ma_1s"}
+
+// compareTextColumns are the download columns that hold text (the rest are numbers in the workbook).
+var compareTextColumns = []string{"province", "row_kind", "pulse", "unit_code", "unit", "unit_system", "event_code", "event",
+	"section", "sens_caution", "seed", "level"}
+
+// compareColumnsFor returns the download columns for the choice of rows.
+func compareColumnsFor(ch compareChoice) []string {
+	if !ch.unitRows() {
+		return compareColumns
+	}
+	return slices.Concat(compareColumns[:1], compareUnitColumns, compareColumns[2:])
+}
 
 // gs formats a number for a download: shortest round-trip form, "" for NaN.
 func gs(v float64) string {
@@ -46,20 +63,40 @@ func compareRecords(res *compareResult) [][]string {
 	}
 	for _, row := range compareRows(res) {
 		c := row.Cell
-		rec := []string{res.Province.Name, row.Pulse, row.Event.Code, row.Event.Name, row.Event.Section,
+		rec := []string{res.Province.Name, row.Pulse}
+		if ch.unitRows() {
+			rec = []string{res.Province.Name, row.Kind, "", "", "", "", "", ""}
+			if u := row.Unit; u != nil {
+				copy(rec[3:], []string{u.Code, u.Name, u.System, gs(u.MeanMa), gs(u.Sigma1s)})
+			} else {
+				rec[2] = row.Pulse
+			}
+		}
+		rec = append(rec, row.Event.Code, row.Event.Name, row.Event.Section,
 			gs(c.AfterOnset.P), gs(c.AfterOnset.SE), gs(c.Within.P), gs(c.Within.SE),
-			gs(c.LagMa.Median), gs(c.LagMa.Lo95), gs(c.LagMa.Hi95), gs(ch.DeltaMa), gs(c.Near.P), gs(c.Near.SE), gs(c.OVL)}
+			gs(c.LagMa.Median), gs(c.LagMa.Lo95), gs(c.LagMa.Hi95), gs(ch.DeltaMa), gs(c.Near.P), gs(c.Near.SE), gs(c.OVL))
 		if row.Vol != nil {
 			f := row.Vol.Fraction
-			rec = append(rec, gs(f.Median), gs(f.Lo95), gs(f.Hi95))
+			rec = append(rec, gs(f.Median), gs(f.Lo95), gs(f.Hi95), gs(row.Vol.Majority.P), gs(row.Vol.Majority.SE))
 		} else {
-			rec = append(rec, "", "", "")
+			rec = append(rec, "", "", "", "", "")
 		}
 		if len(row.Sens) > 0 && row.Sens[0] != nil {
 			_, caution, _ := sensText(row, sets)
-			rec = append(rec, gs(row.Sens[0].MinP), gs(row.Sens[0].MaxP), gs(row.Sens[1].MinP), gs(row.Sens[1].MaxP), caution)
+			rec = append(rec, gs(row.Sens[0].MinP), gs(row.Sens[0].MaxP))
+			if w := row.Sens[1]; w != nil {
+				rec = append(rec, gs(w.MinP), gs(w.MaxP))
+			} else {
+				rec = append(rec, "", "")
+			}
+			if row.VolSens != nil {
+				rec = append(rec, gs(row.VolMin), gs(row.VolMax))
+			} else {
+				rec = append(rec, "", "")
+			}
+			rec = append(rec, caution)
 		} else {
-			rec = append(rec, "", "", "", "", "")
+			rec = append(rec, "", "", "", "", "", "", "")
 		}
 		rec = append(rec, strconv.Itoa(ch.N), strconv.FormatUint(ch.Dens.Seed, 10), ch.Level.String(), strconv.FormatInt(res.Stamp, 10))
 		out = append(out, rec)
@@ -69,7 +106,7 @@ func compareRecords(res *compareResult) [][]string {
 
 func writeCompareCSV(w io.Writer, res *compareResult) error {
 	cw := csv.NewWriter(w)
-	cw.Write(compareColumns)
+	cw.Write(compareColumnsFor(res.Choice))
 	for _, rec := range compareRecords(res) {
 		cw.Write(rec)
 	}
@@ -110,6 +147,12 @@ func compareSettings(res *compareResult) [][2]string {
 	}
 	if d.BWEach {
 		s = append(s, [2]string{"bandwidth in the replicates", "re-estimated by the rule in each (bw_each=1)"})
+	}
+	if ch.unitRows() {
+		s = append(s, [2]string{"table rows", ch.Rows + " (unit rows: a unit's weighted mean, a point-like age, against each event; p_within does not apply and is empty)"})
+		for _, u := range res.In.UnitRows {
+			s = append(s, [2]string{"unit " + u.Code, u.Name + ": " + u.How + "; systematic components: " + u.Syst})
+		}
 	}
 	for _, e := range res.In.Events {
 		s = append(s, [2]string{"event " + e.Code, e.Name + " (" + orDash(e.Section) + "): " + e.How})
@@ -167,9 +210,10 @@ func compareJSON(res *compareResult) map[string]any {
 		settings[kv[0]] = kv[1]
 	}
 	var rows []map[string]string
+	cols := compareColumnsFor(res.Choice)
 	for _, rec := range compareRecords(res) {
 		m := map[string]string{}
-		for i, c := range compareColumns {
+		for i, c := range cols {
 			m[c] = rec[i]
 		}
 		rows = append(rows, m)
@@ -213,8 +257,9 @@ func compareXLSX(res *compareResult) ([]byte, error) {
 		}
 		return f.SetSheetRow(sheet, cell, &vals)
 	}
-	hdr := make([]any, len(compareColumns))
-	for i, c := range compareColumns {
+	cols := compareColumnsFor(res.Choice)
+	hdr := make([]any, len(cols))
+	for i, c := range cols {
 		hdr[i] = c
 	}
 	if err := row(table, 1, hdr); err != nil {
@@ -223,7 +268,7 @@ func compareXLSX(res *compareResult) ([]byte, error) {
 	for r, rec := range compareRecords(res) {
 		vals := make([]any, len(rec))
 		for i, v := range rec {
-			if x, err := strconv.ParseFloat(v, 64); err == nil && i >= 5 && compareColumns[i] != "seed" {
+			if x, err := strconv.ParseFloat(v, 64); err == nil && !slices.Contains(compareTextColumns, cols[i]) {
 				vals[i] = x
 			} else {
 				vals[i] = v
@@ -262,7 +307,13 @@ func compareXLSX(res *compareResult) ([]byte, error) {
 			return nil, err
 		}
 	}
-	f.SetColWidth(table, "D", "E", 28)
+	for i, c := range cols {
+		if c == "event" || c == "section" || c == "unit" {
+			if col, err := excelize.ColumnNumberToName(i + 1); err == nil {
+				f.SetColWidth(table, col, col, 28)
+			}
+		}
+	}
 	f.SetColWidth(settings, "A", "A", 30)
 	f.SetColWidth(settings, "B", "B", 100)
 	var buf bytes.Buffer

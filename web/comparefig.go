@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 
+	"coeval/stats"
 	"coeval/views"
 )
 
@@ -20,6 +21,13 @@ func compareFigure(res *compareResult) (views.CompareFigure, error) {
 	for _, e := range res.In.Events {
 		lo, hi = math.Min(lo, e.Summary.Lo95), math.Max(hi, e.Summary.Hi95)
 	}
+	var units []compareUnitRow
+	if ch.unitRows() {
+		units = res.In.UnitRows
+	}
+	for _, u := range units {
+		lo, hi = math.Min(lo, u.MeanMa-1.96*u.Sigma1s), math.Max(hi, u.MeanMa+1.96*u.Sigma1s)
+	}
 	if ch.Dens.FromMa == nil && ch.Dens.ToMa == nil && (lo < res.Density.MinMa || hi > res.Density.MaxMa) {
 		m := 0.02 * (hi - lo)
 		lo, hi = lo-m, hi+m
@@ -33,6 +41,17 @@ func compareFigure(res *compareResult) (views.CompareFigure, error) {
 	t.Markers = nil
 	t.SigmaNote = fmt.Sprintf("Event rows: the density of each event's age draws (random part: age-model draws or its direct age; shared systematic components are drawn in the comparison, not here), its median (bar) and 95 %% interval (whisker). Density per Ma, unit means analytical; pulses numbered from the oldest. Seed %d.", ch.Dens.Seed)
 	f := views.CompareFigure{}
+	if len(units) > 0 {
+		t.SigmaNote = "Unit rows: the unit's weighted mean with its analytical 1σ as a normal curve (its systematic components are drawn in the comparison, not here), 95 % interval whiskered. " + t.SigmaNote
+	}
+	// The units first, under the pulses they make, oldest at the top; then the events by section.
+	for _, u := range units {
+		t.Rows = append(t.Rows, views.FigureRow{Label: u.Name, URL: u.URL, Group: "Eruptive units (weighted means)"})
+		ea := views.FigureEventAge{MedianMa: u.MeanMa, LoMa: u.MeanMa - 1.96*u.Sigma1s, HiMa: u.MeanMa + 1.96*u.Sigma1s, Unit: true,
+			Title: fmt.Sprintf("%s (%s): %s weighted mean %s ± %s Ma (1σ analytical), n = %d", u.Name, u.Code, u.System, fixed(u.MeanMa, 3), fixed(u.Sigma1s, 3), u.N)}
+		ea.AgesMa, ea.Density = drawDensity(compareEvent{Q: stats.NormalAge(u.Name, u.MeanMa, u.Sigma1s)})
+		f.Events = append(f.Events, ea)
+	}
 	events := slices.Clone(res.In.Events)
 	slices.SortStableFunc(events, func(a, b compareEvent) int {
 		if a.Section != b.Section {

@@ -172,19 +172,41 @@ func lagText(s stats.DrawSummary) string {
 	return fixed(s.Median, 3) + " [" + fixed(s.Lo95, 3) + ", " + fixed(s.Hi95, 3) + "]"
 }
 
-// compareRow is one cell of the pulse × event table with what goes beside it.
+// compareRow is one cell of the table — a pulse or a unit against an event — with what goes beside it.
+// A unit row's Cell holds its comparison in the pulse's terms: AfterOnset is P(event younger than the
+// unit's mean), the lag is unit − event, OVL is of the unit's and the event's draws, and Within, which
+// does not apply to a point-like age, is NaN.
 type compareRow struct {
-	Pulse      string
-	PulseIdx   int
+	Kind       string // "pulse" or "unit"
+	Pulse      string // the row's item: the pulse (P1) or the unit's label
+	PulseIdx   int    // index of the pulse (pulse rows) or of the unit row (unit rows)
+	Item       int    // place in the table: the pulses, then the units
+	Unit       *compareUnitRow
 	Event      compareEvent
 	EventIdx   int
 	Cell       stats.IntervalComparison
 	Vol        *stats.VolumeFraction
-	Sens       []*stats.SensitivityRow // after, within, near
+	Sens       []*stats.SensitivityRow // after, within, near (within nil for a unit row)
 	SensAbsent []string
+	// VolSens follows P(more than half the volume before the event) across the sensitivity sets, and
+	// VolMin, VolMax are the range of the median volume fraction over them (nil and 0 without).
+	VolSens        *stats.SensitivityRow
+	VolMin, VolMax float64
+	VolAbsent      []string
 }
 
-// compareRows lists the cells, in table order (pulses oldest first, events oldest first).
+func (r compareRow) isUnit() bool { return r.Kind == "unit" }
+
+// code is the row item's code: P1 or U7.
+func (r compareRow) code() string {
+	if r.isUnit() {
+		return r.Unit.Code
+	}
+	return r.Pulse
+}
+
+// compareRows lists the cells, in table order (pulses oldest first, then units oldest first, each with
+// the events oldest first).
 func compareRows(res *compareResult) []compareRow {
 	sens := map[string]*stats.SensitivityRow{}
 	if res.Sens != nil {
@@ -193,24 +215,48 @@ func compareRows(res *compareResult) []compareRow {
 		}
 	}
 	var rows []compareRow
+	add := func(row compareRow, e int) {
+		ev := res.In.Events[e]
+		row.Event, row.EventIdx = ev, e
+		if res.Volume != nil {
+			row.Vol = res.Volume[e]
+		}
+		if res.Sens != nil {
+			for _, what := range []string{"after", "within", "near"} {
+				row.Sens = append(row.Sens, sens[sensRowName(row.code(), ev.Code, what)])
+			}
+			item := row.Pulse
+			if row.isUnit() {
+				item = row.Unit.Name
+			}
+			row.SensAbsent = append(slices.Clone(res.SensMissing[item]), res.SensMissing[ev.Name]...)
+			if res.SensVolume != nil {
+				row.VolSens = sens[sensVolumeName(ev.Code)]
+				row.VolMin, row.VolMax = math.Inf(1), math.Inf(-1)
+				for _, med := range res.SensVolume {
+					row.VolMin, row.VolMax = math.Min(row.VolMin, med[e]), math.Max(row.VolMax, med[e])
+				}
+				row.VolAbsent = res.SensMissing[sensVolumeAbsent] // an absent event is named with the row already
+			}
+		}
+		rows = append(rows, row)
+	}
 	for i, cells := range res.Table.Cells {
 		for e, c := range cells {
-			ev := res.In.Events[e]
-			row := compareRow{Pulse: res.Table.Intervals[i], PulseIdx: i, Event: ev, EventIdx: e, Cell: c}
-			if res.Volume != nil {
-				row.Vol = res.Volume[e]
-			}
-			if res.Sens != nil {
-				for _, what := range []string{"after", "within", "near"} {
-					row.Sens = append(row.Sens, sens[sensRowName(row.Pulse, ev.Code, what)])
-				}
-				row.SensAbsent = append(slices.Clone(res.SensMissing[row.Pulse]), res.SensMissing[ev.Name]...)
-			}
-			rows = append(rows, row)
+			add(compareRow{Kind: "pulse", Pulse: res.Table.Intervals[i], PulseIdx: i, Item: i, Cell: c}, e)
+		}
+	}
+	for i, cells := range res.UnitTable.Cells {
+		u := &res.In.UnitRows[i]
+		for e, c := range cells {
+			cell := stats.IntervalComparison{Interval: u.Name, Event: c.B, AfterOnset: c.Older,
+				Within: stats.Probability{P: math.NaN(), SE: math.NaN()}, LagMa: c.LagMa, Near: c.Near, DeltaMa: c.DeltaMa,
+				OVL: c.OVL, N: c.N, Seed: c.Seed, Level: c.Level}
+			add(compareRow{Kind: "unit", Pulse: u.Label(), PulseIdx: i, Item: len(res.Table.Cells) + i, Unit: u, Cell: cell}, e)
 		}
 	}
 	slices.SortStableFunc(rows, func(a, b compareRow) int {
-		return cmp.Or(cmp.Compare(a.PulseIdx, b.PulseIdx), cmp.Compare(b.Event.Summary.Median, a.Event.Summary.Median))
+		return cmp.Or(cmp.Compare(a.Item, b.Item), cmp.Compare(b.Event.Summary.Median, a.Event.Summary.Median))
 	})
 	return rows
 }
@@ -221,6 +267,9 @@ func sortRows(rows []compareRow, key, dir string) {
 		case "after":
 			return r.Cell.AfterOnset.P
 		case "within":
+			if r.isUnit() {
+				return math.Inf(-1)
+			}
 			return r.Cell.Within.P
 		case "lag":
 			return r.Cell.LagMa.Median
@@ -236,7 +285,7 @@ func sortRows(rows []compareRow, key, dir string) {
 		case "event":
 			return -r.Event.Summary.Median
 		}
-		return float64(r.PulseIdx)
+		return float64(r.Item)
 	}
 	slices.SortStableFunc(rows, func(a, b compareRow) int {
 		c := cmp.Compare(val(a), val(b))
@@ -252,40 +301,75 @@ func howID(pulse, code string) string {
 }
 
 // sensText sums up the sensitivity of a cell: the range of each probability over the alternatives and
-// whether the conclusion survives them.
+// whether the conclusion survives them. A unit row has no "within".
 func sensText(row compareRow, sets int) (string, string, bool) {
 	if len(row.Sens) == 0 || row.Sens[0] == nil {
 		return "—", "", false
 	}
 	labels := []string{"after onset", "within"}
+	if row.isUnit() {
+		labels = []string{"after the unit"}
+	}
 	var parts, cautions []string
 	for k, l := range labels {
 		s := row.Sens[k]
-		parts = append(parts, fixed(s.MinP, 2)+"–"+fixed(s.MaxP, 2))
+		parts = append(parts, fixed(s.MinP, 2)+nbDash+fixed(s.MaxP, 2))
 		if s.Caution != "" {
 			cautions = append(cautions, l+": "+s.Caution)
+		}
+	}
+	if v := row.VolSens; v != nil {
+		parts = append(parts, "vol.\u00a0"+volRangeText(row.VolMin, row.VolMax))
+		if v.Caution != "" {
+			cautions = append(cautions, "most of the volume before the event: "+v.Caution)
 		}
 	}
 	text := strings.Join(parts, " · ")
 	if len(row.SensAbsent) > 0 {
 		cautions = append(cautions, "absent under "+strings.Join(row.SensAbsent, ", ")+" (baseline kept there)")
 	}
-	fails := false
+	if len(row.VolAbsent) > 0 && row.VolSens != nil {
+		cautions = append(cautions, "volume fraction: a unit's mean absent under "+strings.Join(row.VolAbsent, ", ")+" (baseline kept there)")
+	}
+	fails := volFlips(row)
 	for k := range labels {
 		if row.Sens[k].Conclusion != 0 && !row.Sens[k].Survives {
 			fails = true
 		}
 	}
 	if fails {
-		text += " ⚠"
+		text += "\u00a0⚠"
 	}
 	_ = sets
 	return text, strings.Join(cautions, " · "), fails
 }
 
+// nbDash is an en dash that a line does not break at (word joiners around it): a range stays whole in a
+// narrow table cell.
+const nbDash = "\u2060–\u2060"
+
+// volRangeText writes the range of the median volume fraction over the sensitivity sets, in %.
+func volRangeText(lo, hi float64) string {
+	a, b := fixed(100*lo, 0), fixed(100*hi, 0)
+	if a == b {
+		return a + "\u00a0%"
+	}
+	return a + nbDash + b + "\u00a0%"
+}
+
+// volFlips reports whether the volume fraction's conclusion (P(more than half before) > 0.95 or < 0.05)
+// fails under some sensitivity set.
+func volFlips(row compareRow) bool {
+	return row.VolSens != nil && row.VolSens.Conclusion != 0 && !row.VolSens.Survives
+}
+
 // restsOn names the model choices briefly, for the table; dependsText gives them in full.
-func restsOn(ev compareEvent) string {
+func restsOn(row compareRow) string {
+	ev := row.Event
 	parts := []string{"bandwidth"}
+	if row.isUnit() {
+		parts = []string{"unit mean"}
+	}
 	for _, d := range ev.Depends {
 		switch {
 		case strings.HasPrefix(d, "age model"):
@@ -300,13 +384,21 @@ func restsOn(ev compareEvent) string {
 }
 
 // dependsText names the model choices a row's probabilities rest on.
-func dependsText(res *compareResult, ev compareEvent) string {
+func dependsText(res *compareResult, row compareRow) string {
 	d := res.Density
 	parts := []string{"KDE " + d.Bandwidth.Rule.String() + " h = " + fixed(d.Bandwidth.Ma, sigmaDecimals(d.Bandwidth.Ma)+1) + " Ma"}
 	if d.Bandwidth.Note != "" {
 		parts[0] += " (fallback)"
 	}
-	parts = append(parts, ev.Depends...)
+	if row.isUnit() {
+		s := res.Choice.Dens.Sum
+		parts = []string{fmt.Sprintf("%s weighted mean (policy %s, outlier rule %s, %s", row.Unit.System, s.PolicyCode, s.Rule, includeLabel(s.Include))}
+		if row.Unit.Q.ArAr != nil {
+			parts[0] += ", calibration " + s.Cal.Cal.Code
+		}
+		parts[0] += ")"
+	}
+	parts = append(parts, row.Event.Depends...)
 	return strings.Join(parts, "; ")
 }
 
@@ -320,6 +412,14 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		v.Downloads = append(v.Downloads, views.Link{Label: strings.ToUpper(f), URL: withQuery(r, "format", f)})
 	}
 	v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event (positive: the event came after the onset). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	switch ch.Rows {
+	case "units":
+		v.Subtitle = "Single eruptive units against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
+		v.Intro = "Each row compares one eruptive unit's weighted mean (a point-like age, with its decay system's systematic components) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is unit mean − event (positive: the event came after the unit). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	case "both":
+		v.Subtitle = "Eruptive pulses and single units against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
+		v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density), or one eruptive unit's weighted mean (a point-like age), with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event, or unit mean − event (positive: the event came after). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	}
 	v.Form = compareForm(r, res)
 	v.LevelHelp = levelHelp()
 	v.Status = []views.KV{{Label: "seed", Value: strconv.FormatUint(ch.Dens.Seed, 10)}, {Label: "N", Value: strconv.Itoa(ch.N) + " joint draws"},
@@ -356,6 +456,9 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	if len(res.Table.Cells) > 0 || res.Density.Band != nil {
 		v.SVG = string(fig.SVG())
 		v.Caption = "The province's density with its pulses and each event's age distribution (its draws, 95 % interval whiskered), by section, on one age axis with the ICS timescale."
+		if ch.unitRows() && len(res.In.UnitRows) > 0 {
+			v.Caption = "The province's density with its pulses, each unit's weighted mean compared (its analytical spread, 95 % interval whiskered) and each event's age distribution (its draws, 95 % interval whiskered), by section, on one age axis with the ICS timescale."
+		}
 	}
 	rows := compareRows(res)
 	sortRows(rows, sortKey, dir)
@@ -400,28 +503,55 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		}
 		return c
 	}
-	t := views.Table{ID: "comparison", Caption: fmt.Sprintf("Pulses × events (%d joint draws, seed %d, level %s)", ch.N, ch.Dens.Seed, ch.Level),
-		Columns: []views.Column{col("Pulse", "", "pulse", ""), col("Event", "", "event", "sorted by age"), {Label: "Section"},
-			col("P(after onset)", "± MC SE", "after", "P(event younger than the pulse's onset)"),
-			col("P(within)", "± MC SE", "within", "P(end ≤ event ≤ onset)"),
-			col("Lag", "onset → event, Ma [95 %]", "lag", "onset − event; positive: the event came after the onset"),
-			col("P(|lag| < δ)", fmt.Sprintf("δ = %s Ma", num(ch.DeltaMa)), "near", "chance that onset and event lie within δ of each other"),
-			col("OVL", "onset vs event", "ovl", "overlapping coefficient of the two distributions (histogram estimate): how alike they are, not a probability of synchroneity"),
+	// The words of the columns follow the rows: a pulse's onset, a unit's mean, or either.
+	caption, item, from, empty := "Pulses × events", "Pulse", "onset", "Nothing to compare: the table needs at least one pulse and one event with an age."
+	switch ch.Rows {
+	case "units":
+		caption, item, from, empty = "Units × events", "Unit", "unit", "Nothing to compare: the table needs at least one unit with a weighted mean and one event with an age."
+	case "both":
+		caption, item, from, empty = "Pulses and units × events", "Pulse / unit", "onset / unit", "Nothing to compare: the table needs at least one pulse or unit and one event with an age."
+	}
+	afterLabel, afterUnit := "P(after "+from+")", "± MC SE"
+	if ch.Rows == "both" {
+		// Short header, the reference on the line under it: the table is wide.
+		afterLabel, afterUnit = "P(after)", "onset / unit, ±\u00a0MC\u00a0SE"
+	}
+	ovlUnit := from + " vs event"
+	if ch.Rows == "both" {
+		ovlUnit = "vs event"
+	}
+	after, lagTitle := "P(event younger than the pulse's onset)", "onset − event; positive: the event came after the onset"
+	if ch.unitRows() {
+		after = "P(event younger than the pulse's onset, or than the unit's weighted mean)"
+		lagTitle = "onset − event, or unit mean − event; positive: the event came after"
+	}
+	t := views.Table{ID: "comparison", Caption: fmt.Sprintf("%s (%d joint draws, seed %d, level %s)", caption, ch.N, ch.Dens.Seed, ch.Level),
+		Columns: []views.Column{col(item, "", "pulse", ""), col("Event", "", "event", "sorted by age"), {Label: "Section"},
+			col(afterLabel, afterUnit, "after", after),
+			col("P(within)", "± MC SE", "within", "P(end ≤ event ≤ onset); does not apply to a unit (—)"),
+			col("Lag", from+" → event, Ma [95 %]", "lag", lagTitle),
+			col("P(|lag| < δ)", fmt.Sprintf("δ = %s Ma", num(ch.DeltaMa)), "near", "chance that "+strings.ReplaceAll(from, " / ", " or ")+" and event lie within δ of each other"),
+			col("OVL", ovlUnit, "ovl", "overlapping coefficient of the two distributions (histogram estimate): how alike they are, not a probability of synchroneity"),
 			col("Vol. before", "% [95 %]", "volume", "fraction of the province's volume with unit means older than the event"),
-			{Label: "Sensitivity", Unit: "after · within", Title: "P(after onset) and P(within) recomputed under the other calibrations, bandwidth rules, age models (and TOC thresholds with anomalies)"},
+			{Label: "Sensitivity", Unit: "after · within · vol.", Title: "P(after) and P(within) recomputed under the other calibrations, bandwidth rules, age models (and TOC thresholds with anomalies); vol.: the range of the median volume fraction before the event"},
 			{Label: "Rests on", Title: "the model choices these probabilities rest on (hover for details)"}},
-		Empty: "Nothing to compare: the table needs at least one pulse and one event with an age."}
+		Empty: empty}
 	sets := 0
 	if res.Sens != nil {
 		sets = len(res.Sens.Sets)
 	}
 	for _, row := range rows {
 		c := row.Cell
-		link := "#" + howID(row.Pulse, row.Event.Code)
+		link := "#" + howID(row.code(), row.Event.Code)
 		cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: row.Event.Name, URL: row.Event.URL}, {Text: row.Event.Section},
 			{Text: probText(c.AfterOnset, c.N), URL: link, Num: true}, {Text: probText(c.Within, c.N), URL: link, Num: true},
 			{Text: lagText(c.LagMa), URL: link, Num: true}, {Text: probText(c.Near, c.N), URL: link, Num: true},
 			{Text: fixed(c.OVL, 3), URL: link, Num: true}}
+		if row.isUnit() {
+			u := row.Unit
+			cells[0].Title = fmt.Sprintf("unit: %s weighted mean %s ± %s Ma (1σ analytical), n = %d", u.System, fixed(u.MeanMa, 3), fixed(u.Sigma1s, 3), u.N)
+			cells[4] = views.Cell{Text: "—", Num: true, Title: "does not apply: a unit's weighted mean is a point-like age, not an interval"}
+		}
 		if row.Vol != nil {
 			f := row.Vol.Fraction
 			cells = append(cells, views.Cell{Text: fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]", URL: link, Num: true})
@@ -433,18 +563,25 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		if fails || caution != "" {
 			sc.Class = "caution"
 		}
+		if volFlips(row) {
+			cells[8].Class, cells[8].Title = "caution", "most of the volume before the event: "+row.VolSens.Caution
+		}
 		if fails {
 			// The conclusion does not survive: mark the probabilities it concerns too.
 			for k, idx := range []int{3, 4} {
-				if s := row.Sens[k]; s != nil && s.Conclusion != 0 && !s.Survives {
+				if s := row.Sens[k]; s != nil && s.Conclusion != 0 && !s.Survives && !(row.isUnit() && k == 1) {
 					cells[idx].Class, cells[idx].Title = "caution", s.Caution
 				}
 			}
 		}
-		cells = append(cells, sc, views.Cell{Text: restsOn(row.Event), Title: dependsText(res, row.Event)})
+		cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
 		t.Rows = append(t.Rows, cells)
 	}
-	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives; ⚠ marks a conclusion (P > 0.95 or P < 0.05) that does not survive every alternative, and the probabilities concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
+	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
+	if ch.unitRows() {
+		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
+			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule))
+	}
 	if res.Sens != nil {
 		t.Notes = append(t.Notes, "Sensitivity sets: "+strings.Join(res.Sens.Sets, ", ")+". Same seed and draws in every set, so the differences come from the inputs.")
 	}
@@ -454,16 +591,38 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 func eventsTable(res *compareResult) views.Table {
 	t := views.Table{ID: "events", Caption: "Events compared",
 		Columns: []views.Column{{Label: "Code"}, {Label: "Event"}, {Label: "Section"}, {Label: "Age", Unit: "Ma, median", Num: true},
-			{Label: "95 %", Unit: "Ma", Num: true}, {Label: "Volume erupted before", Unit: "%, median [95 %]", Num: true}, {Label: "Age from"}}}
+			{Label: "95 %", Unit: "Ma", Num: true}, {Label: "Volume erupted before", Unit: "%, median [95 %]", Num: true},
+			{Label: "P(most before)", Unit: "± MC SE", Num: true, Title: "P(more than half of the volume erupted before the event)"},
+			{Label: "Vol. sensitivity", Unit: "median, %", Num: true, Title: "the range of the median volume fraction over the sensitivity sets; ⚠ when P(most before) > 0.95 or < 0.05 does not survive every set"},
+			{Label: "Age from"}}}
+	sens := map[string]*stats.SensitivityRow{}
+	if res.Sens != nil {
+		for i := range res.Sens.Rows {
+			sens[res.Sens.Rows[i].Name] = &res.Sens.Rows[i]
+		}
+	}
 	for e, ev := range res.In.Events {
-		vol := "—"
+		vol, most, vs := views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}
 		if res.Volume != nil && res.Volume[e] != nil {
 			f := res.Volume[e].Fraction
-			vol = fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]"
+			vol.Text = fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]"
+			most.Text = probText(res.Volume[e].Majority, res.Volume[e].N)
+		}
+		if r := sens[sensVolumeName(ev.Code)]; r != nil && res.SensVolume != nil {
+			row := compareRow{VolSens: r, VolMin: math.Inf(1), VolMax: math.Inf(-1)}
+			for _, med := range res.SensVolume {
+				row.VolMin, row.VolMax = math.Min(row.VolMin, med[e]), math.Max(row.VolMax, med[e])
+			}
+			vs.Text = volRangeText(row.VolMin, row.VolMax)
+			if volFlips(row) {
+				vs.Text += " ⚠"
+				vs.Class, vs.Title = "caution", "most of the volume before the event: "+r.Caution
+				most.Class, most.Title = "caution", r.Caution
+			}
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: ev.Code}, {Text: ev.Name, URL: ev.URL}, {Text: ev.Section},
 			{Text: fixed(ev.Summary.Median, 3), Num: true}, {Text: fixed(ev.Summary.Hi95, 3) + " – " + fixed(ev.Summary.Lo95, 3), Num: true},
-			{Text: vol, Num: true}, {Text: ev.How}})
+			vol, most, vs, {Text: ev.How}})
 	}
 	return t
 }
@@ -491,7 +650,7 @@ func orderTable(res *compareResult) views.Table {
 		t.Rows = append(t.Rows, row)
 	}
 	if len(o.Names) > 0 {
-		t.Notes = append(t.Notes, "Choose the items with order= (codes: P1 = onset of pulse 1, P1.end its end, E12 an event, G:kind a group, A3.1 an anomaly). Each pair is drawn at the chosen level, so shared components cancel.")
+		t.Notes = append(t.Notes, "Choose the items with order= (codes: P1 = onset of pulse 1, P1.end its end, U7 a unit's weighted mean, E12 an event, G:kind a group, A3.1 an anomaly); by default the pulse edges and, with rows=units|both, the units, then the events. Each pair is drawn at the chosen level, so shared components cancel.")
 	}
 	return t
 }
@@ -501,9 +660,13 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 	var out []views.How
 	sorted := slices.Clone(rows)
 	slices.SortStableFunc(sorted, func(a, b compareRow) int {
-		return cmp.Or(cmp.Compare(a.PulseIdx, b.PulseIdx), cmp.Compare(a.EventIdx, b.EventIdx))
+		return cmp.Or(cmp.Compare(a.Item, b.Item), cmp.Compare(a.EventIdx, b.EventIdx))
 	})
 	for _, row := range sorted {
+		if row.isUnit() {
+			out = append(out, howUnit(res, row))
+			continue
+		}
 		p := res.In.Pulses[row.PulseIdx]
 		ps := p.Summary
 		h := views.How{ID: howID(row.Pulse, row.Event.Code), Title: row.Pulse + " × " + row.Event.Name + " (" + orDash(row.Event.Section) + ")"}
@@ -523,23 +686,66 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 			{Label: "Lag", Value: "onset − event over the draws: median and 2.5/97.5 % " + lagText(row.Cell.LagMa) + " Ma"},
 			{Label: "P(|lag| < δ)", Value: fmt.Sprintf("δ = %s Ma: %s (SE %s)", num(ch.DeltaMa), fixed(row.Cell.Near.P, 4), fixed(row.Cell.Near.SE, 4))},
 			{Label: "OVL", Value: "overlap of the onset's and the event's draws, histogram of 100 bins: " + fixed(row.Cell.OVL, 3)},
-			{Label: "Depends on", Value: dependsText(res, row.Event)},
+			{Label: "Depends on", Value: dependsText(res, row)},
 		}
-		if row.Vol != nil {
-			f := row.Vol.Fraction
-			h.Lines = append(h.Lines, views.KV{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; %s",
-				fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), res.VolumeNote)})
-		}
+		h.Lines = append(h.Lines, volumeHow(res, row)...)
 		if len(row.Sens) > 0 && row.Sens[0] != nil {
 			var parts []string
 			for k, set := range res.Sens.Sets {
-				parts = append(parts, fmt.Sprintf("%s: after %s, within %s", set, fixed(row.Sens[0].P[k], 3), fixed(row.Sens[1].P[k], 3)))
+				parts = append(parts, fmt.Sprintf("%s: after %s, within %s%s", set, fixed(row.Sens[0].P[k], 3), fixed(row.Sens[1].P[k], 3), volSensPart(res, row, k)))
 			}
 			h.Lines = append(h.Lines, views.KV{Label: "Sensitivity", Value: strings.Join(parts, "; ")})
 		}
 		out = append(out, h)
 	}
 	return out
+}
+
+// howUnit is the account of a unit row: the unit's mean and components, the event, and each number.
+func howUnit(res *compareResult, row compareRow) views.How {
+	ch := res.Choice
+	u := row.Unit
+	c := row.Cell
+	h := views.How{ID: howID(u.Code, row.Event.Code), Title: u.Label() + " × " + row.Event.Name + " (" + orDash(row.Event.Section) + ")"}
+	h.Lines = []views.KV{
+		{Label: "Unit", Value: u.Name + " (" + u.Code + "): " + u.How},
+		{Label: "Unit systematics", Value: u.Syst},
+		{Label: "Event", Value: row.Event.How},
+		{Label: "Draws", Value: fmt.Sprintf("stats.DrawJoint: N = %d, seed %d, level %s; shared keys %s", ch.N, ch.Dens.Seed, ch.Level, strings.Join(res.Keys, ", "))},
+		{Label: "P(event after the unit)", Value: fmt.Sprintf("share of draws with unit mean > event: %s (SE %s)", fixed(c.AfterOnset.P, 4), fixed(c.AfterOnset.SE, 4))},
+		{Label: "P(event within pulse)", Value: "does not apply: the unit's weighted mean is a point-like age, not an interval"},
+		{Label: "Lag", Value: "unit mean − event over the draws: median and 2.5/97.5 % " + lagText(c.LagMa) + " Ma"},
+		{Label: "P(|lag| < δ)", Value: fmt.Sprintf("δ = %s Ma: %s (SE %s)", num(ch.DeltaMa), fixed(c.Near.P, 4), fixed(c.Near.SE, 4))},
+		{Label: "OVL", Value: "overlap of the unit's and the event's draws, histogram of 100 bins: " + fixed(c.OVL, 3)},
+		{Label: "Depends on", Value: dependsText(res, row)},
+	}
+	h.Lines = append(h.Lines, volumeHow(res, row)...)
+	if len(row.Sens) > 0 && row.Sens[0] != nil {
+		var parts []string
+		for k, set := range res.Sens.Sets {
+			parts = append(parts, fmt.Sprintf("%s: after %s%s", set, fixed(row.Sens[0].P[k], 3), volSensPart(res, row, k)))
+		}
+		h.Lines = append(h.Lines, views.KV{Label: "Sensitivity", Value: strings.Join(parts, "; ")})
+	}
+	return h
+}
+
+// volumeHow is the account of the volume fraction before a row's event.
+func volumeHow(res *compareResult, row compareRow) []views.KV {
+	if row.Vol == nil {
+		return nil
+	}
+	f := row.Vol.Fraction
+	return []views.KV{{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; P(more than half of it before the event) %s (SE %s). %s",
+		fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), fixed(row.Vol.Majority.P, 4), fixed(row.Vol.Majority.SE, 4), res.VolumeNote)}}
+}
+
+// volSensPart is the volume fraction under sensitivity set k, for the how-computed line.
+func volSensPart(res *compareResult, row compareRow, k int) string {
+	if row.VolSens == nil || k >= len(res.SensVolume) {
+		return ""
+	}
+	return fmt.Sprintf(", volume before %s %% (P(more than half) %s)", fixed(100*res.SensVolume[k][row.EventIdx], 0), fixed(row.VolSens.P[k], 3))
 }
 
 func compareForm(r *http.Request, res *compareResult) *views.Form {
@@ -566,7 +772,9 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 	}
 	return &views.Form{Action: "/compare", Reset: "/compare", Fields: []views.Field{
 		{Name: "province", Label: "Province", Kind: "number", Value: strconv.FormatInt(res.Province.ID, 10), Step: "1"},
+		sel("rows", "Table rows", ch.Rows, "pulses", "pulses", "units", "single units", "both", "pulses and units"),
 		text("pulses", "Pulses", "all (e.g. P1,P2)"),
+		text("units", "Units", "all with a mean (ids)"),
 		text("sections", "Sections", "all (ids, e.g. 1,3)"),
 		text("events", "Events", "all (ids)"),
 		sel("group", "Correlated group", group, kinds...),
