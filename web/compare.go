@@ -1061,6 +1061,15 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	}
 	for _, sec := range d.Sections {
 		res.Cautions = append(res.Cautions, tieReviewCautions(sec.Name, d.Ties[sec.ID], d.TiesOut[sec.ID], ch.Dens.Sum.Include)...)
+		var hIn, hOut []store.Hiatus // analyseSection splits them the same way for the models
+		for _, h := range d.Hiatuses[sec.ID] {
+			if included(ch.Dens.Sum.Include, h.ReviewState) {
+				hIn = append(hIn, h)
+			} else {
+				hOut = append(hOut, h)
+			}
+		}
+		res.Cautions = append(res.Cautions, hiatusReviewCautions(sec.Name, hIn, hOut, ch.Dens.Sum.Include)...)
 	}
 	res.Cautions = append(res.Cautions, eventReviewCautions(d.EventsIn, d.EventsOut, ch.Dens.Sum.Include)...)
 	shownUnits := 0

@@ -76,6 +76,13 @@ func TestCompareLeavesPendingEventsOut(t *testing.T) {
 	if !strings.Contains(page, "Left out of the comparison: 1 event waiting for a curator&#39;s review (Contributed horizon") {
 		t.Error("the comparison page does not name the pending event it left out")
 	}
+	// A contributor's hiatus is named too (the age models leave it out).
+	if _, err := db.CreateHiatus(ctx, secs[0].ID, store.Form{"height_m": "33.3", "min_duration_ma": "0.01"}, false); err != nil {
+		t.Fatal(err)
+	}
+	if _, _, page = get(t, srv, "/compare?sens=0&n=2000"); !strings.Contains(page, "1 hiatus waiting for a curator&#39;s review") {
+		t.Error("the comparison page does not name the pending hiatus its age models leave out")
+	}
 	_, _, table = get(t, srv, "/compare?sens=0&n=2000&format=csv&include=pending")
 	_, _, page = get(t, srv, "/compare?sens=0&n=2000&include=pending")
 	if !strings.Contains(table, "Contributed horizon") || !strings.Contains(page, "includes 1 pending event that no curator has reviewed yet") {
