@@ -4,7 +4,7 @@
 //
 //	coeval [-db FILE] [-addr HOST:PORT] [-demo=false]   serve (the default)
 //	coeval [-db FILE] import KIND [SECTION] FILE         KIND: provinces, units, sections, dates; or, for one
-//	                                                     section: measurements, ties, events
+//	                                                     section: measurements, ties, events, hiatuses
 //	coeval [-db FILE] export KIND [SECTION] [-o FILE]    the same kinds, in the import formats
 //	coeval [-db FILE] target [CODE]                      show or set the target ⁴⁰Ar/³⁹Ar calibration
 package main
@@ -85,7 +85,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
   coeval [-db FILE] user add NAME -role ROLE           add an account (password from the terminal or stdin)
   coeval [-db FILE] backup FILE                        a consistent copy of the database, while it runs
   coeval [-db FILE] target [CODE]                      show the calibrations, or set the target one
-KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events
+KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events, hiatuses
 flags:
 `)
 		fl.PrintDefaults()
@@ -200,12 +200,12 @@ func displayAddr(a net.Addr) string {
 // kindArgs splits KIND [SECTION] and checks that the section is given exactly when the kind needs it.
 func kindArgs(verb string, args []string, wantFile bool) (kind, section string, rest []string, err error) {
 	if len(args) == 0 {
-		return "", "", nil, fmt.Errorf("%s: want KIND (provinces, units, sections, dates, measurements, ties, events)", verb)
+		return "", "", nil, fmt.Errorf("%s: want KIND (provinces, units, sections, dates, measurements, ties, events, hiatuses)", verb)
 	}
 	kind, args = args[0], args[1:]
 	perSection, ok := store.ExportKinds[kind]
 	if !ok {
-		return "", "", nil, fmt.Errorf("%s: unknown kind %q; want provinces, units, sections, dates, measurements, ties or events", verb, kind)
+		return "", "", nil, fmt.Errorf("%s: unknown kind %q; want provinces, units, sections, dates, measurements, ties, events or hiatuses", verb, kind)
 	}
 	if perSection {
 		if len(args) == 0 {

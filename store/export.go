@@ -199,7 +199,7 @@ func (d *DB) SectionByName(ctx context.Context, name string) (Section, error) {
 
 // ExportKinds lists what Export writes; the ones marked true are per section.
 var ExportKinds = map[string]bool{"provinces": false, "units": false, "sections": false, "dates": false,
-	"measurements": true, "ties": true, "events": true}
+	"measurements": true, "ties": true, "events": true, "hiatuses": true}
 
 // Export writes one kind of record ("provinces", "units", "sections", "dates"; or, for one section,
 // "measurements", "ties", "events") in its import format.
@@ -252,6 +252,12 @@ func (d *DB) Export(ctx context.Context, kind, section string, w io.Writer) erro
 			return err
 		}
 		return WriteTiesCSV(w, ts)
+	case "hiatuses":
+		hs, err := d.Hiatuses(ctx, sec.ID)
+		if err != nil {
+			return err
+		}
+		return writeHiatusesCSV(w, hs)
 	default: // events
 		es, err := d.Events(ctx, sec.ID)
 		if err != nil {

@@ -253,3 +253,32 @@ func FuzzDateForm(f *testing.F) {
 		}
 	})
 }
+
+func FuzzImportHiatuses(f *testing.F) {
+	addSeeds(f, "hiatuses", "hiatuses")
+	f.Fuzz(func(t *testing.T, body string) {
+		ctx := context.Background()
+		db := mustOpenDB(t)
+		if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
+			t.Fatal(err)
+		}
+		before, _ := db.Counts(ctx)
+		_, err := db.ImportHiatuses(ctx, "S", "fuzz.csv", strings.NewReader(body))
+		if !checkAllOrNothing(t, db, before, err) {
+			return
+		}
+		var a, b bytes.Buffer
+		if err := db.Export(ctx, "hiatuses", "S", &a); err != nil {
+			t.Fatal(err)
+		}
+		db2 := mustOpenDB(t)
+		importString(t, db2, "sections", "", "section\nS\n")
+		if _, err := db2.ImportHiatuses(ctx, "S", "again.csv", bytes.NewReader(a.Bytes())); err != nil {
+			t.Fatalf("export of accepted hiatuses does not re-import: %v\n%s", err, a.String())
+		}
+		db2.Export(ctx, "hiatuses", "S", &b)
+		if !bytes.Equal(a.Bytes(), b.Bytes()) {
+			t.Fatalf("round trip differs:\n%s\n---\n%s", a.String(), b.String())
+		}
+	})
+}

@@ -24,8 +24,8 @@ type Hiatus struct {
 	UpdatedAt     string  `json:"updated_at"`
 }
 
-// hiatusColumns are the cells of a hiatus, in the shape of an import format (there is no hiatus file yet:
-// hiatuses are entered with the form, which reads these cells with the importers' row reader).
+// hiatusColumns are the columns of the hiatuses file of a section (and the cells of the hiatus form, read
+// with the same row parser).
 var hiatusColumns = []string{"height_m", "min_duration_ma", "review_state", "notes"}
 
 const hiatusSelect = `SELECT h.id, h.section_id, s.name, h.height_m, h.min_duration_ma, h.review_state, h.review_note,
@@ -226,4 +226,47 @@ func (d *DB) ReviewHiatus(ctx context.Context, id int64, version int, accept boo
 // stale version.
 func (d *DB) DeleteHiatus(ctx context.Context, id int64, version int) error {
 	return hiatusType().deleteRecord(ctx, d, id, version)
+}
+
+// ImportHiatuses imports the hiatuses file of one section: height_m and min_duration_ma (required),
+// review_state and notes. Heights must be new to the section and unique in the file. All or nothing.
+func (d *DB) ImportHiatuses(ctx context.Context, section, file string, r io.Reader) (ImportResult, error) {
+	var recs []Hiatus
+	return d.importFile(ctx, "hiatuses", file, r, []string{"height_m", "min_duration_ma"}, hiatusColumns,
+		func(t *csvTable) {
+			seen := firstLines{}
+			for i := range t.rows {
+				rw := t.row(i)
+				h := parseHiatusRow(rw)
+				seen.note(rw, "height_m", rw.str("height_m"))
+				recs = append(recs, h)
+			}
+		},
+		func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error {
+			sid, err := sectionIDByName(ctx, tx, section, file)
+			if err != nil {
+				return err
+			}
+			pendingNote(ctx, res, len(recs), "hiatuses", func(i int) *string { return &recs[i].ReviewState })
+			for i := range recs {
+				recs[i].SectionID = sid
+				ps, err := hiatusHeightProblem(ctx, tx, recs[i])
+				if err != nil {
+					return err
+				}
+				for _, p := range ps {
+					t.row(i).problem(p.Column, "%s", p.Message)
+				}
+			}
+			if t.err() != nil {
+				return nil
+			}
+			for _, h := range recs {
+				if _, err := hiatusType().insert(ctx, d, tx, batch, h); err != nil {
+					return err
+				}
+				res.Added["hiatuses"]++
+			}
+			return nil
+		})
 }

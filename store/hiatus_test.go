@@ -263,3 +263,55 @@ func TestHiatusesBeforeTheReviewMigration(t *testing.T) {
 		t.Fatalf("hiatuses after the migration: %+v (%v), want one accepted", hs, err)
 	}
 }
+
+// The hiatuses file: all or nothing with every problem by line and column; a contribution arrives
+// pending; export → import gives the same file.
+func TestImportHiatusesRoundTrip(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpenDB(t)
+	if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
+		t.Fatal(err)
+	}
+	bad := "height_m,min_duration_ma\n12.5,-1\n12.5,0.01\nabc,5000\n"
+	_, err := db.ImportHiatuses(ctx, "S", "h.csv", strings.NewReader(bad))
+	ve, ok := AsValidation(err)
+	if !ok {
+		t.Fatalf("bad file: %v, want problems", err)
+	}
+	want := map[string]int{"min_duration_ma": 2, "height_m": 2}
+	got := map[string]int{}
+	for _, p := range ve.Problems {
+		got[p.Column]++
+		if p.Line < 2 || p.File != "h.csv" {
+			t.Errorf("problem without its line and file: %+v", p)
+		}
+	}
+	if got["min_duration_ma"] < want["min_duration_ma"] || got["height_m"] < want["height_m"] {
+		t.Errorf("problems by column %v, want at least %v: %+v", got, want, ve.Problems)
+	}
+	if hs, _ := db.Hiatuses(ctx, 1); len(hs) != 0 {
+		t.Fatal("a refused file wrote hiatuses")
+	}
+	good := "height_m,min_duration_ma,review_state,notes\n12.5,0.02,accepted,erosion surface\n30,0,pending,hardground\n"
+	if _, err := db.ImportHiatuses(ctx, "S", "h.csv", strings.NewReader(good)); err != nil {
+		t.Fatal(err)
+	}
+	var out strings.Builder
+	if err := db.Export(ctx, "hiatuses", "S", &out); err != nil {
+		t.Fatal(err)
+	}
+	if out.String() != good {
+		t.Errorf("export differs from the imported file:\n%s---\n%s", out.String(), good)
+	}
+	if _, err := db.ImportHiatuses(ctx, "S", "again.csv", strings.NewReader(good)); err == nil || !strings.Contains(err.Error(), "already has a hiatus at 12.5 m") {
+		t.Errorf("importing the same heights again: %v, want a refusal naming the height", err)
+	}
+	res, err := db.ImportHiatuses(AsContribution(ctx), "S", "c.csv", strings.NewReader("height_m,min_duration_ma,review_state\n40,0.1,accepted\n"))
+	if err != nil || res.Added["hiatuses"] != 1 {
+		t.Fatalf("contributed file: %+v, %v", res, err)
+	}
+	hs, _ := db.Hiatuses(ctx, 1)
+	if len(hs) != 3 || hs[2].ReviewState != "pending" {
+		t.Errorf("a contributor's hiatus arrived %q, want pending", hs[len(hs)-1].ReviewState)
+	}
+}

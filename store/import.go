@@ -21,11 +21,11 @@ type ImportResult struct {
 }
 
 var singular = map[string]string{"provinces": "province", "units": "unit", "sections": "section", "dates": "date",
-	"samples": "sample", "measurements": "measurement", "tie points": "tie point", "events": "event"}
+	"samples": "sample", "measurements": "measurement", "tie points": "tie point", "events": "event", "hiatuses": "hiatus"}
 
 func (r ImportResult) String() string {
 	var parts []string
-	for _, k := range []string{"provinces", "units", "sections", "dates", "samples", "measurements", "tie points", "events"} {
+	for _, k := range []string{"provinces", "units", "sections", "dates", "samples", "measurements", "tie points", "events", "hiatuses"} {
 		switch n := r.Added[k]; {
 		case n == 1:
 			parts = append(parts, "1 "+singular[k])

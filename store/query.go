@@ -19,6 +19,7 @@ type Counts struct {
 	Measurements int `json:"measurements"`
 	TiePoints    int `json:"tie_points"`
 	Events       int `json:"events"`
+	Hiatuses     int `json:"hiatuses"`
 }
 
 // Counts returns how many records of each kind the compilation holds.
@@ -28,8 +29,8 @@ func (d *DB) Counts(ctx context.Context) (Counts, error) {
 		(SELECT count(*) FROM provinces), (SELECT count(*) FROM units), (SELECT count(*) FROM dates),
 		(SELECT count(*) FROM dates WHERE review_state = 'pending'), (SELECT count(*) FROM sections),
 		(SELECT count(*) FROM (SELECT DISTINCT section_id, sample FROM measurements)), (SELECT count(*) FROM measurements),
-		(SELECT count(*) FROM tie_points), (SELECT count(*) FROM events)`).Scan(&c.Provinces, &c.Units, &c.Dates,
-		&c.DatesPending, &c.Sections, &c.Samples, &c.Measurements, &c.TiePoints, &c.Events)
+		(SELECT count(*) FROM tie_points), (SELECT count(*) FROM events), (SELECT count(*) FROM hiatuses)`).Scan(&c.Provinces, &c.Units, &c.Dates,
+		&c.DatesPending, &c.Sections, &c.Samples, &c.Measurements, &c.TiePoints, &c.Events, &c.Hiatuses)
 	if err != nil {
 		return c, fmt.Errorf("counts: %w", err)
 	}

@@ -44,6 +44,8 @@ func (d *DB) ImportReader(ctx context.Context, kind, section, file string, r io.
 		return d.ImportTies(ctx, section, file, r)
 	case "events":
 		return d.ImportEvents(ctx, section, file, r)
+	case "hiatuses":
+		return d.ImportHiatuses(ctx, section, file, r)
 	}
 	return ImportResult{}, fmt.Errorf("import: unknown kind %q", kind)
 }

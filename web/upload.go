@@ -37,10 +37,10 @@ func (s *Server) uploadView(r *http.Request, kind, section string, errs []string
 	e := views.Edit{Page: s.page(r.Context(), "Import a file", ""), Action: "/import", Multipart: true, Submit: "Check the file", Errors: errs}
 	e.Intro = "Upload a CSV file (or an .xlsx workbook: its first sheet) in one of the import formats described in the README. You will first see every row with its problems and warnings; nothing is imported until you confirm, and then all rows or none are."
 	kinds := []views.Option{}
-	for _, k := range []string{"dates", "units", "sections", "provinces", "measurements", "ties", "events"} {
+	for _, k := range []string{"dates", "units", "sections", "provinces", "measurements", "ties", "events", "hiatuses"} {
 		kinds = append(kinds, views.Option{Value: k, Label: k, Selected: k == kind})
 	}
-	secs := []views.Option{{Value: "", Label: "— (for measurements, ties, events)"}}
+	secs := []views.Option{{Value: "", Label: "— (for measurements, ties, events, hiatuses)"}}
 	for _, sec := range sections {
 		secs = append(secs, views.Option{Value: sec.Name, Label: sec.Name, Selected: sec.Name == section})
 	}
