@@ -57,98 +57,51 @@ func checkAllOrNothing(t *testing.T, db *DB, before Counts, err error) bool {
 	return false
 }
 
+// fuzzImport runs an importer of kind on arbitrary files into a compilation holding the named sections:
+// it accepts the file or refuses it whole (checkAllOrNothing), and what it accepted, review states
+// included, exports, imports into a fresh compilation and exports again to the same file.
+func fuzzImport(f *testing.F, kind, section, sections string) {
+	addSeeds(f, kind, kind)
+	f.Fuzz(func(t *testing.T, body string) {
+		ctx := context.Background()
+		db := mustOpenDB(t)
+		if _, err := importString(t, db, "sections", "", sections); err != nil {
+			t.Fatal(err)
+		}
+		before, _ := db.Counts(ctx)
+		_, err := db.ImportReader(ctx, kind, section, "fuzz.csv", strings.NewReader(body))
+		if !checkAllOrNothing(t, db, before, err) {
+			return
+		}
+		var a, b bytes.Buffer
+		if err := db.Export(ctx, kind, section, &a); err != nil {
+			t.Fatal(err)
+		}
+		db2 := mustOpenDB(t)
+		if _, err := importString(t, db2, "sections", "", sections); err != nil {
+			t.Fatal(err)
+		}
+		if _, err := db2.ImportReader(ctx, kind, section, "again.csv", bytes.NewReader(a.Bytes())); err != nil {
+			t.Fatalf("export of accepted %s does not re-import: %v\n%s", kind, err, a.String())
+		}
+		if err := db2.Export(ctx, kind, section, &b); err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(a.Bytes(), b.Bytes()) {
+			t.Fatalf("round trip differs:\n%s\n---\n%s", a.String(), b.String())
+		}
+	})
+}
+
 func FuzzImportDates(f *testing.F) {
-	addSeeds(f, "dates", "dates")
-	f.Fuzz(func(t *testing.T, body string) {
-		ctx := context.Background()
-		db := mustOpenDB(t)
-		if _, err := importString(t, db, "sections", "", "section\nVedholmen-1 Core\nSkarfell Creek\nMornesk Cliffs\n"); err != nil {
-			t.Fatal(err)
-		}
-		before, _ := db.Counts(ctx)
-		_, err := db.ImportDates(ctx, "fuzz.csv", strings.NewReader(body))
-		if !checkAllOrNothing(t, db, before, err) {
-			return
-		}
-		// What was accepted exports and re-imports to the same file.
-		var a, b bytes.Buffer
-		if err := db.Export(ctx, "dates", "", &a); err != nil {
-			t.Fatal(err)
-		}
-		db2 := mustOpenDB(t)
-		importString(t, db2, "sections", "", "section\nVedholmen-1 Core\nSkarfell Creek\nMornesk Cliffs\n")
-		if _, err := db2.ImportDates(ctx, "again.csv", bytes.NewReader(a.Bytes())); err != nil {
-			t.Fatalf("export of accepted dates does not re-import: %v\n%s", err, a.String())
-		}
-		if err := db2.Export(ctx, "dates", "", &b); err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(a.Bytes(), b.Bytes()) {
-			t.Fatalf("round trip differs:\n%s\n---\n%s", a.String(), b.String())
-		}
-	})
+	fuzzImport(f, "dates", "", "section\nVedholmen-1 Core\nSkarfell Creek\nMornesk Cliffs\n")
 }
 
-func FuzzImportMeasurements(f *testing.F) {
-	addSeeds(f, "measurements", "measurements")
-	f.Fuzz(func(t *testing.T, body string) {
-		ctx := context.Background()
-		db := mustOpenDB(t)
-		if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
-			t.Fatal(err)
-		}
-		before, _ := db.Counts(ctx)
-		_, err := db.ImportMeasurements(ctx, "S", "fuzz.csv", strings.NewReader(body))
-		if !checkAllOrNothing(t, db, before, err) {
-			return
-		}
-		var a, b bytes.Buffer
-		if err := db.Export(ctx, "measurements", "S", &a); err != nil {
-			t.Fatal(err)
-		}
-		db2 := mustOpenDB(t)
-		importString(t, db2, "sections", "", "section\nS\n")
-		if _, err := db2.ImportMeasurements(ctx, "S", "again.csv", bytes.NewReader(a.Bytes())); err != nil {
-			t.Fatalf("export of accepted measurements does not re-import: %v\n%s", err, a.String())
-		}
-		db2.Export(ctx, "measurements", "S", &b)
-		if !bytes.Equal(a.Bytes(), b.Bytes()) {
-			t.Fatalf("round trip differs:\n%s\n---\n%s", a.String(), b.String())
-		}
-	})
-}
+func FuzzImportMeasurements(f *testing.F) { fuzzImport(f, "measurements", "S", "section\nS\n") }
 
-func FuzzImportTies(f *testing.F) {
-	addSeeds(f, "ties", "ties")
-	f.Fuzz(func(t *testing.T, body string) {
-		ctx := context.Background()
-		db := mustOpenDB(t)
-		if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
-			t.Fatal(err)
-		}
-		before, _ := db.Counts(ctx)
-		_, err := db.ImportTies(ctx, "S", "fuzz.csv", strings.NewReader(body))
-		if !checkAllOrNothing(t, db, before, err) {
-			return
-		}
-		// What was accepted (review states included) exports and re-imports to the same file.
-		var a, b bytes.Buffer
-		if err := db.Export(ctx, "ties", "S", &a); err != nil {
-			t.Fatal(err)
-		}
-		db2 := mustOpenDB(t)
-		importString(t, db2, "sections", "", "section\nS\n")
-		if _, err := db2.ImportTies(ctx, "S", "again.csv", bytes.NewReader(a.Bytes())); err != nil {
-			t.Fatalf("export of accepted ties does not re-import: %v\n%s", err, a.String())
-		}
-		if err := db2.Export(ctx, "ties", "S", &b); err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(a.Bytes(), b.Bytes()) {
-			t.Fatalf("round trip differs:\n%s\n---\n%s", a.String(), b.String())
-		}
-	})
-}
+func FuzzImportTies(f *testing.F) { fuzzImport(f, "ties", "S", "section\nS\n") }
+
+func FuzzImportHiatuses(f *testing.F) { fuzzImport(f, "hiatuses", "S", "section\nS\n") }
 
 // FuzzParseDates exercises the dates parser alone (no database, so the fuzzer runs fast): it never panics,
 // every problem points at a line of the file, and a row that passes has a usable age and 1σ.
@@ -250,35 +203,6 @@ func FuzzDateForm(f *testing.F) {
 		}
 		if after, _ := db.Counts(ctx); after != before {
 			t.Fatal("a refused form wrote something")
-		}
-	})
-}
-
-func FuzzImportHiatuses(f *testing.F) {
-	addSeeds(f, "hiatuses", "hiatuses")
-	f.Fuzz(func(t *testing.T, body string) {
-		ctx := context.Background()
-		db := mustOpenDB(t)
-		if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
-			t.Fatal(err)
-		}
-		before, _ := db.Counts(ctx)
-		_, err := db.ImportHiatuses(ctx, "S", "fuzz.csv", strings.NewReader(body))
-		if !checkAllOrNothing(t, db, before, err) {
-			return
-		}
-		var a, b bytes.Buffer
-		if err := db.Export(ctx, "hiatuses", "S", &a); err != nil {
-			t.Fatal(err)
-		}
-		db2 := mustOpenDB(t)
-		importString(t, db2, "sections", "", "section\nS\n")
-		if _, err := db2.ImportHiatuses(ctx, "S", "again.csv", bytes.NewReader(a.Bytes())); err != nil {
-			t.Fatalf("export of accepted hiatuses does not re-import: %v\n%s", err, a.String())
-		}
-		db2.Export(ctx, "hiatuses", "S", &b)
-		if !bytes.Equal(a.Bytes(), b.Bytes()) {
-			t.Fatalf("round trip differs:\n%s\n---\n%s", a.String(), b.String())
 		}
 	})
 }
