@@ -77,7 +77,19 @@ func TestBrowserPendingTieAndHiatus(t *testing.T) {
 			t.Fatalf("after the curator's accept the tie is %q", got.ReviewState)
 		}
 	}
-	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+idURL("/sections", sec.ID)), chromedp.WaitVisible(chromedp.CSS("#section-figure svg"))); err != nil {
+	// The accept is a form post answered by a redirect to the tie's page: let that page finish loading
+	// before leaving it, or the browser aborts one of the two navigations.
+	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(100 * time.Millisecond) {
+		page, _ := chromedp.Run(ctx, chromedp.Text(chromedp.CSS("main"), chromedp.AtLeast(0)))
+		if page != "" && !strings.Contains(page, "waits for a curator's review") {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("the tie's page still says it waits for review:\n%.400s", page)
+		}
+	}
+	navigateAfterPost(t, ctx, srv.URL+idURL("/sections", sec.ID))
+	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#section-figure svg"))); err != nil {
 		t.Fatal(err)
 	}
 	if c := text(t, ctx, ".cautions"); strings.Contains(c, "Ash V-2b") {

@@ -318,9 +318,7 @@ func TestBrowserContributorAndCurator(t *testing.T) {
 		t.Fatal(err)
 	}
 	shoot(t, ctx, dir, "22-accepted")
-	if err := chromedp.Do(ctx, chromedp.Navigate(fmt.Sprintf("%s/dates/%d/history", srv.URL, d.ID))); err != nil {
-		t.Fatal(err)
-	}
+	navigateAfterPost(t, ctx, fmt.Sprintf("%s/dates/%d/history", srv.URL, d.ID))
 	hist := text(t, ctx, "main")
 	for _, want := range []string{"demo-contributor", "demo-curator", "accept date", "checked against the lab's data table"} {
 		if !strings.Contains(hist, want) {
@@ -460,6 +458,22 @@ func TestBrowserSectionPages(t *testing.T) {
 	}
 	// The form on the old page stays visible until the answer loads: wait for the new event itself.
 	waitText(t, ctx, "#events tbody", "Last ammonite")
+}
+
+// navigateAfterPost opens url, trying again while the browser is still finishing the redirect of a form
+// post it just made (Chromium then aborts the new navigation with net::ERR_ABORTED).
+func navigateAfterPost(t testing.TB, ctx context.Context, url string) {
+	t.Helper()
+	var err error
+	for range 20 {
+		if err = chromedp.Do(ctx, chromedp.Navigate(url)); err == nil || !strings.Contains(err.Error(), "ERR_ABORTED") {
+			break
+		}
+		time.Sleep(100 * time.Millisecond)
+	}
+	if err != nil {
+		t.Fatalf("open %s: %v", url, err)
+	}
 }
 
 // waitText waits until the text of sel contains want (after a post whose answer replaces the page).
