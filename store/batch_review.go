@@ -162,90 +162,29 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 			if err != nil {
 				return err
 			}
+			var ok bool
+			var skip string
 			switch rev.RecordType {
 			case "date":
-				before, err := dateInTx(ctx, tx, rev.RecordID)
-				if errors.Is(err, ErrNotFound) {
-					continue
-				} else if err != nil {
-					return err
-				}
-				if before.ReviewState != "pending" {
-					continue
-				}
-				if !same {
-					skipped = append(skipped, "date "+before.SampleCode)
-					continue
-				}
-				dt := before
-				dt.ReviewState = "accepted"
-				if err := d.writeDate(ctx, tx, &dt, before.Version); err != nil {
-					return err
-				}
-				after, err := dateInTx(ctx, tx, rev.RecordID)
-				if err != nil {
-					return err
-				}
-				if err := addRevision(ctx, tx, accept, "date", rev.RecordID, before, after); err != nil {
-					return err
-				}
+				ok, skip, err = d.acceptDateIfPending(ctx, tx, accept, rev.RecordID, same)
 			case "event":
-				before, err := eventInTx(ctx, tx, rev.RecordID)
-				if errors.Is(err, ErrNotFound) {
-					continue
-				} else if err != nil {
-					return err
-				}
-				if before.ReviewState != "pending" {
-					continue
-				}
-				if !same {
-					skipped = append(skipped, "event "+before.Name)
-					continue
-				}
-				x := before
-				x.ReviewState = "accepted"
-				if _, err := eventType().update(ctx, d, tx, accept, rev.RecordID, before.Version, x); err != nil {
-					return err
-				}
+				ok, skip, err = acceptIfPending(ctx, d, tx, accept, eventType(), rev.RecordID, same,
+					func(e Event) string { return "event " + e.Name }, func(e *Event) *string { return &e.ReviewState })
 			case "tie_point":
-				before, err := tieInTx(ctx, tx, rev.RecordID)
-				if errors.Is(err, ErrNotFound) {
-					continue
-				} else if err != nil {
-					return err
-				}
-				if before.ReviewState != "pending" {
-					continue
-				}
-				if !same {
-					skipped = append(skipped, "tie point "+before.Label)
-					continue
-				}
-				x := before
-				x.ReviewState = "accepted"
-				if _, err := tieType().update(ctx, d, tx, accept, rev.RecordID, before.Version, x); err != nil {
-					return err
-				}
+				ok, skip, err = acceptIfPending(ctx, d, tx, accept, tieType(), rev.RecordID, same,
+					func(t TiePoint) string { return "tie point " + t.Label }, func(t *TiePoint) *string { return &t.ReviewState })
 			case "hiatus":
-				before, err := hiatusInTx(ctx, tx, rev.RecordID)
-				if errors.Is(err, ErrNotFound) {
-					continue
-				} else if err != nil {
-					return err
-				}
-				if before.ReviewState != "pending" {
-					continue
-				}
-				if !same {
-					skipped = append(skipped, hiatusLabel(before))
-					continue
-				}
-				x := before
-				x.ReviewState = "accepted"
-				if _, err := hiatusType().update(ctx, d, tx, accept, rev.RecordID, before.Version, x); err != nil {
-					return err
-				}
+				ok, skip, err = acceptIfPending(ctx, d, tx, accept, hiatusType(), rev.RecordID, same,
+					hiatusLabel, func(h *Hiatus) *string { return &h.ReviewState })
+			}
+			if err != nil {
+				return err
+			}
+			if skip != "" {
+				skipped = append(skipped, skip)
+			}
+			if !ok {
+				continue
 			}
 			n++
 		}
@@ -255,6 +194,54 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 		return setBatchSummary(ctx, tx, accept, fmt.Sprintf("accepted %d records of change %d", n, batchID))
 	})
 	return n, skipped, err
+}
+
+// acceptDateIfPending is acceptIfPending for dates, which are written by writeDate, not a recordType.
+func (d *DB) acceptDateIfPending(ctx context.Context, tx *sql.Tx, batch int64, id int64, same bool) (bool, string, error) {
+	before, err := dateInTx(ctx, tx, id)
+	if errors.Is(err, ErrNotFound) {
+		return false, "", nil
+	} else if err != nil {
+		return false, "", err
+	}
+	if before.ReviewState != "pending" {
+		return false, "", nil
+	}
+	if !same {
+		return false, "date " + before.SampleCode, nil
+	}
+	dt := before
+	dt.ReviewState = "accepted"
+	if err := d.writeDate(ctx, tx, &dt, before.Version); err != nil {
+		return false, "", err
+	}
+	after, err := dateInTx(ctx, tx, id)
+	if err != nil {
+		return false, "", err
+	}
+	return true, "", addRevision(ctx, tx, batch, "date", id, before, after)
+}
+
+// acceptIfPending accepts record id of rt, in batch, when it still waits for review as it was added
+// (same); a pending record changed since is not accepted, and skip names it (by name).
+func acceptIfPending[T any](ctx context.Context, d *DB, tx *sql.Tx, batch int64, rt recordType[T], id int64, same bool,
+	name func(T) string, state func(*T) *string) (accepted bool, skip string, err error) {
+	x, err := rt.load(ctx, tx, id)
+	if errors.Is(err, ErrNotFound) {
+		return false, "", nil
+	} else if err != nil {
+		return false, "", err
+	}
+	if *state(&x) != "pending" {
+		return false, "", nil
+	}
+	if !same {
+		return false, name(x), nil
+	}
+	_, version, _ := rt.meta(x)
+	*state(&x) = "accepted"
+	_, err = rt.update(ctx, d, tx, batch, id, version, x)
+	return err == nil, "", err
 }
 
 // PendingInBatch counts the dates, events, tie points and hiatuses batch added that wait for review now.

@@ -317,15 +317,8 @@ type compareData struct {
 // reviewedEvents keeps the events include= lets into the comparison (as for dates and ties) and notes
 // the others, so the page can say what it left out.
 func (d *compareData) reviewedEvents(evs []store.Event, include string) []store.Event {
-	var in []store.Event
-	for _, e := range evs {
-		if included(include, e.ReviewState) {
-			in = append(in, e)
-			d.EventsIn = append(d.EventsIn, e)
-		} else {
-			d.EventsOut = append(d.EventsOut, e)
-		}
-	}
+	in, out := partitionReviewed(include, evs, eventState)
+	d.EventsIn, d.EventsOut = append(d.EventsIn, in...), append(d.EventsOut, out...)
 	return in
 }
 
@@ -381,13 +374,7 @@ func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compa
 			return nil, err
 		}
 		// The age models rest on the ties the review choice (include=, as for the dates) lets in.
-		for _, t := range ties {
-			if included(ch.Dens.Sum.Include, t.ReviewState) {
-				d.Ties[sec.ID] = append(d.Ties[sec.ID], t)
-			} else {
-				d.TiesOut[sec.ID] = append(d.TiesOut[sec.ID], t)
-			}
-		}
+		d.Ties[sec.ID], d.TiesOut[sec.ID] = partitionReviewed(ch.Dens.Sum.Include, ties, tieState)
 		evs, err := s.store.Events(ctx, sec.ID)
 		if err != nil {
 			return nil, err
@@ -963,31 +950,18 @@ type compareResult struct {
 // eventReviewCautions names the events waiting for review that include= left out of the comparison, and
 // the unreviewed or rejected ones it let in.
 func eventReviewCautions(used, left []store.Event, include string) []string {
-	names := func(es []store.Event, state string) []string {
-		var out []string
-		for _, e := range es {
-			if e.ReviewState == state {
-				name := e.Name
-				if e.Section != "" {
-					name += " (" + e.Section + ")"
-				}
-				out = append(out, name)
+	r := func(es []store.Event) []reviewed {
+		out := make([]reviewed, len(es))
+		for i, e := range es {
+			name := e.Name
+			if e.Section != "" {
+				name += " (" + e.Section + ")"
 			}
+			out[i] = reviewed{name, e.ReviewState}
 		}
 		return out
 	}
-	var out []string
-	if p := names(left, "pending"); len(p) > 0 {
-		out = append(out, fmt.Sprintf("Left out of the comparison: %s waiting for a curator's review (%s) — include=%s; include=pending compares %s now.",
-			count(len(p), "event"), strings.Join(p, ", "), include, itThem(len(p))))
-	}
-	if p := names(used, "pending"); len(p) > 0 {
-		out = append(out, fmt.Sprintf("The comparison includes %s that no curator has reviewed yet (include=%s): %s.", count(len(p), "pending event"), include, strings.Join(p, ", ")))
-	}
-	if rj := names(used, "rejected"); len(rj) > 0 {
-		out = append(out, fmt.Sprintf("The comparison includes %s (include=%s): %s.", count(len(rj), "rejected event"), include, strings.Join(rj, ", ")))
-	}
-	return out
+	return reviewCautions(compareScope, "", "event", "events", r(used), r(left), include)
 }
 
 func sensRowName(pulse, event, what string) string { return pulse + " × " + event + " · " + what }
@@ -1061,14 +1035,7 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	}
 	for _, sec := range d.Sections {
 		res.Cautions = append(res.Cautions, tieReviewCautions(sec.Name, d.Ties[sec.ID], d.TiesOut[sec.ID], ch.Dens.Sum.Include)...)
-		var hIn, hOut []store.Hiatus // analyseSection splits them the same way for the models
-		for _, h := range d.Hiatuses[sec.ID] {
-			if included(ch.Dens.Sum.Include, h.ReviewState) {
-				hIn = append(hIn, h)
-			} else {
-				hOut = append(hOut, h)
-			}
-		}
+		hIn, hOut := partitionReviewed(ch.Dens.Sum.Include, d.Hiatuses[sec.ID], hiatusState) // as analyseSection splits them
 		res.Cautions = append(res.Cautions, hiatusReviewCautions(sec.Name, hIn, hOut, ch.Dens.Sum.Include)...)
 	}
 	res.Cautions = append(res.Cautions, eventReviewCautions(d.EventsIn, d.EventsOut, ch.Dens.Sum.Include)...)

@@ -331,13 +331,7 @@ func valueOf(s store.Sample, proxy string) float64 {
 func analyseSection(sec store.Section, samples []store.Sample, ties []store.TiePoint, tieInputs []tieInput, events []store.Event,
 	hiatuses []store.Hiatus, o sectionOptions) (*sectionAnalysis, error) {
 	a := &sectionAnalysis{Sec: sec, Opt: o, AllTies: ties, Events: events, AllHiatuses: hiatuses, Has: map[string]bool{}}
-	for _, h := range hiatuses {
-		if included(o.Include, h.ReviewState) {
-			a.Hiatuses = append(a.Hiatuses, h)
-		} else {
-			a.HiatusesOut = append(a.HiatusesOut, h)
-		}
-	}
+	a.Hiatuses, a.HiatusesOut = partitionReviewed(o.Include, hiatuses, hiatusState)
 	for i, t := range ties {
 		if !included(o.Include, t.ReviewState) {
 			a.TiesLeftOut = append(a.TiesLeftOut, t)

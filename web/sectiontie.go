@@ -145,12 +145,30 @@ func modelIncludeOptions(cur string) []views.Option {
 // reviewed is a record an age model uses or leaves out by its review state, as the cautions name it.
 type reviewed struct{ name, state string }
 
-// reviewCautions say what a reader of an age model must know about the review of its records of one kind
-// (noun, nouns: "tie point", "tie points"): the pending ones include= left out (they wait for a curator,
-// and the model changes once they are accepted), and the unreviewed or rejected ones it let in. where
-// names the section ("" for the section's own page). Rejected records left out need no caution: that is
-// what rejecting them is for.
-func reviewCautions(where, noun, nouns string, used, left []reviewed, include string) []string {
+// reviewScope is the computation a review caution speaks of, and how it says so.
+type reviewScope struct {
+	subject string                                    // "age–height model", "comparison"
+	verb    string                                    // how the subject takes a record in: "uses", "includes"
+	then    func(include, nouns string, n int) string // what follows "— " after the records left out
+}
+
+// modelScope is the age–height model's: its ages change once the records left out are accepted.
+var modelScope = reviewScope{subject: "age–height model", verb: "uses", then: func(include, nouns string, n int) string {
+	return fmt.Sprintf("include=%s uses %s. The model ages change when %s accepted; include=pending shows the model with %s now.",
+		include, modelIncludeLabel(include, nouns), itThey(n), itThem(n))
+}}
+
+// compareScope is the comparison's.
+var compareScope = reviewScope{subject: "comparison", verb: "includes", then: func(include, _ string, n int) string {
+	return fmt.Sprintf("include=%s; include=pending compares %s now.", include, itThem(n))
+}}
+
+// reviewCautions say what a reader of a computation (scope) must know about the review of its records of
+// one kind (noun, nouns: "tie point", "tie points"): the pending ones include= left out (they wait for a
+// curator, and the result changes once they are accepted), and the unreviewed or rejected ones it let in.
+// where names the section ("" for the section's own page). Rejected records left out need no caution:
+// that is what rejecting them is for.
+func reviewCautions(scope reviewScope, where, noun, nouns string, used, left []reviewed, include string) []string {
 	names := func(rs []reviewed, state string) []string {
 		var out []string
 		for _, r := range rs {
@@ -172,16 +190,16 @@ func reviewCautions(where, noun, nouns string, used, left []reviewed, include st
 	}
 	var out []string
 	if p := names(left, "pending"); len(p) > 0 {
-		out = append(out, fmt.Sprintf("%sLeft out of the age–height model: %s waiting for a curator's review (%s) — include=%s uses %s. The model ages change when %s accepted; include=pending shows the model with %s now.",
-			prefix, counted(len(p), ""), strings.Join(p, ", "), include, modelIncludeLabel(include, nouns), itThey(len(p)), itThem(len(p))))
+		out = append(out, fmt.Sprintf("%sLeft out of the %s: %s waiting for a curator's review (%s) — %s",
+			prefix, scope.subject, counted(len(p), ""), strings.Join(p, ", "), scope.then(include, nouns, len(p))))
 	}
 	if p := names(used, "pending"); len(p) > 0 {
-		out = append(out, fmt.Sprintf("%sThe age–height model uses %s that no curator has reviewed yet (include=%s): %s.",
-			prefix, counted(len(p), "pending "), include, strings.Join(p, ", ")))
+		out = append(out, fmt.Sprintf("%sThe %s %s %s that no curator has reviewed yet (include=%s): %s.",
+			prefix, scope.subject, scope.verb, counted(len(p), "pending "), include, strings.Join(p, ", ")))
 	}
 	if rj := names(used, "rejected"); len(rj) > 0 {
-		out = append(out, fmt.Sprintf("%sThe age–height model uses %s (include=%s): %s.",
-			prefix, counted(len(rj), "rejected "), include, strings.Join(rj, ", ")))
+		out = append(out, fmt.Sprintf("%sThe %s %s %s (include=%s): %s.",
+			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), include, strings.Join(rj, ", ")))
 	}
 	return out
 }
@@ -195,7 +213,7 @@ func tieReviewCautions(where string, used, left []store.TiePoint, include string
 		}
 		return out
 	}
-	return reviewCautions(where, "tie point", "tie points", r(used), r(left), include)
+	return reviewCautions(modelScope, where, "tie point", "tie points", r(used), r(left), include)
 }
 
 // hiatusReviewCautions are reviewCautions of hiatuses, named by their heights.
@@ -207,7 +225,7 @@ func hiatusReviewCautions(where string, used, left []store.Hiatus, include strin
 		}
 		return out
 	}
-	return reviewCautions(where, "hiatus", "hiatuses", r(used), r(left), include)
+	return reviewCautions(modelScope, where, "hiatus", "hiatuses", r(used), r(left), include)
 }
 
 // hiatusName names a hiatus by its height (it has no name of its own).

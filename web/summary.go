@@ -98,6 +98,23 @@ func included(include, reviewState string) bool {
 
 func (ch summaryChoice) includes(reviewState string) bool { return included(ch.Include, reviewState) }
 
+// partitionReviewed splits records into those include= lets into a computation and those it leaves out
+// (kept, so a page can name them).
+func partitionReviewed[T any](include string, xs []T, state func(T) string) (in, out []T) {
+	for _, x := range xs {
+		if included(include, state(x)) {
+			in = append(in, x)
+		} else {
+			out = append(out, x)
+		}
+	}
+	return in, out
+}
+
+func tieState(t store.TiePoint) string  { return t.ReviewState }
+func hiatusState(h store.Hiatus) string { return h.ReviewState }
+func eventState(e store.Event) string   { return e.ReviewState }
+
 // defaultTracerRelSigma is the relative 1σ of the tracer term used when the dates publish no Y: 0.03 %
 // at 2σ, the upper bound for the EARTHTIME tracers (Condon et al. 2015, GCA 164:464).
 const defaultTracerRelSigma = 0.00015
