@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"sort"
 )
 
 // TieKind is the form of a tie point's age distribution.
@@ -149,6 +150,9 @@ type AgeModel struct {
 	// Gibbs took over); Attempts is their number, 0 when rejection was not tried.
 	Acceptance float64
 	Attempts   int
+
+	inputHeightsM []float64 // the ties' heights in the order given to FitAgeModel
+	hiatuses      []Hiatus  // ascending
 }
 
 // At returns the age in Ma of draw d at the j-th requested height.
@@ -232,6 +236,10 @@ func FitAgeModel(ties []TiePoint, hiatuses []Hiatus, heightsM []float64, opt Age
 	for i, t := range tz {
 		m.TieHeightsM[i] = t.HeightM
 	}
+	for _, t := range ties {
+		m.inputHeightsM = append(m.inputHeightsM, t.HeightM)
+	}
+	m.hiatuses = hz
 	r := rand.New(rand.NewPCG(opt.Seed, 0x9e3779b97f4a7c15))
 	fracs := make([]float64, 0, 16)
 	fill := func(d int, a []float64) {
@@ -753,6 +761,62 @@ func (m *AgeModel) AccumulationRates() []DrawSummary {
 	return out
 }
 
+// Shares returns, for every draw, the share of the age at a requested height that comes from the ages of
+// the ties flagged in carries (indexed like the ties given to FitAgeModel): between ties i (below) and
+// i+1 the age of a draw is (1 − F)·aᵢ + F·aᵢ₊₁ + F·gᵢ − h(z), F the elapsed fraction of the draw, gᵢ the
+// hiatus minima between the two ties and h(z) those below z, so its share is
+// ((1 − F)·aᵢ·cᵢ + F·aᵢ₊₁·cᵢ₊₁)/age with cᵢ = 1 for a flagged tie. A relative shift ε of the flagged
+// ties' ages (a shared decay constant, tracer or calibration) then moves the age by share·ε·age,
+// exactly, since F does not depend on the tie ages. At a tie the share is 0 or 1.
+func (m *AgeModel) Shares(carries []bool, heightM float64) ([]float64, error) {
+	if len(carries) != len(m.inputHeightsM) {
+		return nil, fmt.Errorf("age model: %d flags for %d ties", len(carries), len(m.inputHeightsM))
+	}
+	j, ok := slices.BinarySearch(m.HeightsM, heightM)
+	if !ok {
+		return nil, fmt.Errorf("age model: height %g m was not requested", heightM)
+	}
+	nt, nh := len(m.TieHeightsM), len(m.HeightsM)
+	c := make([]float64, nt)
+	for k, on := range carries {
+		if on {
+			i, _ := slices.BinarySearch(m.TieHeightsM, m.inputHeightsM[k])
+			c[i] = 1
+		}
+	}
+	out := make([]float64, m.NDraws)
+	if i, onTie := slices.BinarySearch(m.TieHeightsM, heightM); onTie {
+		for d := range out {
+			out[d] = c[i]
+		}
+		return out, nil
+	}
+	i := sort.SearchFloat64s(m.TieHeightsM, heightM) - 1 // tie below
+	var gap, below float64
+	for _, h := range m.hiatuses {
+		if h.HeightM > m.TieHeightsM[i] && h.HeightM < m.TieHeightsM[i+1] {
+			gap += h.MinDurationMa
+			if h.HeightM < heightM {
+				below += h.MinDurationMa
+			}
+		}
+	}
+	for d := range out {
+		lo, hi := m.TieAgesMa[d*nt+i], m.TieAgesMa[d*nt+i+1]
+		age := m.AgesMa[d*nh+j]
+		f := 0.5
+		if r := lo - hi - gap; r > 0 {
+			f = min(1, max(0, (lo-age-below)/r))
+		}
+		sh := 0.0
+		if age != 0 {
+			sh = ((1-f)*lo*c[i] + f*hi*c[i+1]) / age
+		}
+		out[d] = min(1, max(0, sh))
+	}
+	return out, nil
+}
+
 // EventAge is the age distribution of an event found in a section, pushed through the model's draws.
 type EventAge struct {
 	BaseM, TopM float64
@@ -796,6 +860,36 @@ type NaiveLinearAgeModel struct {
 	AgeMa      []float64
 	SigmaMa    []float64 // 1σ
 	Lo95, Hi95 []float64 // AgeMa ∓ 1.96σ
+
+	inputHeightsM    []float64 // the ties' heights in the order given to FitNaiveLinear
+	lowerM, upperM   []float64 // per height: the ties it is interpolated between
+	lowerMa, upperMa []float64 // their mean ages
+	w                []float64 // per height: the weight of the upper tie
+}
+
+// Shares returns the share of the interpolated age at a requested height that comes from the ties flagged
+// in carries (indexed like the ties given to FitNaiveLinear): ((1 − w)·m₁·c₁ + w·m₂·c₂)/age.
+func (m *NaiveLinearAgeModel) Shares(carries []bool, heightM float64) (float64, error) {
+	if len(carries) != len(m.inputHeightsM) {
+		return 0, fmt.Errorf("naive linear age model: %d flags for %d ties", len(carries), len(m.inputHeightsM))
+	}
+	j, ok := slices.BinarySearch(m.HeightsM, heightM)
+	if !ok {
+		return 0, fmt.Errorf("naive linear age model: height %g m was not requested", heightM)
+	}
+	var c1, c2 float64
+	for k, on := range carries {
+		if on && m.inputHeightsM[k] == m.lowerM[j] {
+			c1 = 1
+		}
+		if on && m.inputHeightsM[k] == m.upperM[j] {
+			c2 = 1
+		}
+	}
+	if m.AgeMa[j] == 0 {
+		return 0, nil
+	}
+	return min(1, max(0, ((1-m.w[j])*m.lowerMa[j]*c1+m.w[j]*m.upperMa[j]*c2)/m.AgeMa[j])), nil
 }
 
 // FitNaiveLinear interpolates linearly between the two ties around every requested height (ties by
@@ -808,7 +902,11 @@ func FitNaiveLinear(ties []TiePoint, heightsM []float64) (*NaiveLinearAgeModel, 
 	}
 	n := len(heightsM)
 	m := &NaiveLinearAgeModel{HeightsM: slices.Clone(heightsM), AgeMa: make([]float64, n), SigmaMa: make([]float64, n),
-		Lo95: make([]float64, n), Hi95: make([]float64, n)}
+		Lo95: make([]float64, n), Hi95: make([]float64, n), lowerM: make([]float64, n), upperM: make([]float64, n),
+		lowerMa: make([]float64, n), upperMa: make([]float64, n), w: make([]float64, n)}
+	for _, t := range ties {
+		m.inputHeightsM = append(m.inputHeightsM, t.HeightM)
+	}
 	for j, z := range heightsM {
 		i := max(0, min(len(tz)-2, amInterval(tz, z)))
 		if z == tz[len(tz)-1].HeightM {
@@ -817,6 +915,7 @@ func FitNaiveLinear(ties []TiePoint, heightsM []float64) (*NaiveLinearAgeModel, 
 		m1, s1 := tz[i].meanSigma()
 		m2, s2 := tz[i+1].meanSigma()
 		w := (z - tz[i].HeightM) / (tz[i+1].HeightM - tz[i].HeightM)
+		m.lowerM[j], m.upperM[j], m.lowerMa[j], m.upperMa[j], m.w[j] = tz[i].HeightM, tz[i+1].HeightM, m1, m2, w
 		m.AgeMa[j] = (1-w)*m1 + w*m2
 		m.SigmaMa[j] = math.Hypot((1-w)*s1, w*s2)
 		m.Lo95[j] = m.AgeMa[j] - 1.959963984540054*m.SigmaMa[j]

@@ -25,6 +25,11 @@ type BandOptions struct {
 	// ReestimateBandwidth applies the rule afresh to every replicate; false keeps the reference
 	// bandwidth (for an adaptive KDE, the reference pilot; the per-date hᵢ are recomputed).
 	ReestimateBandwidth bool
+	// Shared are systematic components that some dates carry (Carries indexed like the dates): each is
+	// drawn once per replicate, from the stream SharedComponent draws use with Seed, and moves every
+	// resampled date that carries it together. Their terms must not also be in sigmaMa, which is then
+	// each date's random part: a shared λ or tracer moves a whole density, it does not spread it.
+	Shared []SharedComponent
 }
 
 // DensityBand is a bootstrap band around a KDE.
@@ -99,6 +104,15 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 	}
 	fellBack := make([]bool, nRep)
 	errs := make([]error, nRep)
+	shifts := make([][]func(float64) float64, len(opts.Shared))
+	for c, comp := range opts.Shared {
+		if len(comp.Carries) != len(agesMa) {
+			return DensityBand{}, fmt.Errorf("bootstrap band: component %s flags %d of %d dates", comp.key(), len(comp.Carries), len(agesMa))
+		}
+		if shifts[c], err = comp.shifts(nRep, opts.Seed); err != nil {
+			return DensityBand{}, fmt.Errorf("bootstrap band: %w", err)
+		}
+	}
 
 	// Replicates are independent; each draws from its own stream, so the split over workers
 	// changes nothing in the result. Each worker reuses its resample, FFT plans and buffers.
@@ -122,6 +136,11 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 					ages[i] = agesMa[k]
 					if sigmaMa != nil {
 						ages[i] += sigmaMa[k] * rng.NormFloat64()
+					}
+					for c, comp := range opts.Shared {
+						if comp.Carries[k] {
+							ages[i] = shifts[c][r](ages[i])
+						}
 					}
 					if weight != nil {
 						weight[i] = opts.KDE.Weight[k]

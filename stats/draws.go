@@ -174,6 +174,13 @@ type Quantity struct {
 	// normal with the calibration's 1σ) under ArArCalibrationKey and the age is moved to the drawn
 	// calibration by RecalculateAgeMa, before any other component is applied.
 	ArAr *Calibration
+	// Shares give, per systematic key (a key of Systematics, or ArArCalibrationKey of ArAr), the part
+	// of the age that the component moves, between 0 and 1: one value for the whole quantity, or one
+	// per row of SamplesMa. A key without an entry moves the whole age. An event dated by an age model
+	// whose ties carry a component only in part (a U–Pb ash bed below it, a biozone above) carries it
+	// with the shares AgeModel.Shares gives; a drawn component then moves the age by share × the shift
+	// it gives a whole age.
+	Shares map[string][]float64
 }
 
 // NormalAge returns an age N(ageMa, sigmaMa²) with no systematic component (1σ), e.g. a direct event
@@ -335,8 +342,19 @@ type jdVolumeKey struct {
 }
 
 type jdQuantity struct {
-	base []float64 // the random part, N draws
-	keys []int     // indices into JointDraws.keys, ascending
+	base  []float64   // the random part, N draws
+	keys  []int       // indices into JointDraws.keys, ascending
+	share [][]float64 // per entry of keys: nil (the whole age), one value, or one per sample row
+	rows  []int32     // the sample row of every draw, for per-row shares
+}
+
+// shareAt is the share of component b (an index into keys) in draw d.
+func (jq *jdQuantity) shareAt(b, d int) float64 {
+	s := jq.share[b]
+	if len(s) == 1 {
+		return s[0]
+	}
+	return s[jq.rows[d]]
 }
 
 type jdKey struct {
@@ -504,9 +522,11 @@ func DrawJoint(qs []Quantity, opt DrawOptions) (*JointDraws, error) {
 			if q.Group != "" {
 				name = "group " + q.Group
 			}
-			for d, row := range groupRows(name, len(q.SamplesMa)) {
+			rs := groupRows(name, len(q.SamplesMa))
+			for d, row := range rs {
 				jq.base[d] = q.SamplesMa[row]
 			}
+			jq.rows = rs
 		}
 		if q.ArAr != nil {
 			jq.keys = append(jq.keys, keyIndex[ArArCalibrationKey(*q.ArAr)])
@@ -519,9 +539,29 @@ func DrawJoint(qs []Quantity, opt DrawOptions) (*JointDraws, error) {
 		if len(jq.keys) > 64 {
 			return nil, fmt.Errorf("joint draws: quantity %d (%s): %d systematic keys, at most 64", i, q.Name, len(jq.keys))
 		}
+		jq.share = make([][]float64, len(jq.keys))
+		for key, sh := range q.Shares {
+			b := slices.IndexFunc(jq.keys, func(k int) bool { return j.Keys[k] == key })
+			if b < 0 {
+				return nil, fmt.Errorf("joint draws: quantity %d (%s): a share for key %q, which it does not carry", i, q.Name, key)
+			}
+			jq.share[b] = jdShares(sh)
+		}
 		j.qs[i] = jq
 	}
 	return j, nil
+}
+
+// jdShares returns the shares as the draws use them: nil when every one is 1 to within rounding (the
+// whole age moves, and a comparison may hold the component fixed when the other side carries it whole
+// too).
+func jdShares(sh []float64) []float64 {
+	for _, x := range sh {
+		if math.Abs(x-1) > 1e-9 {
+			return slices.Clone(sh)
+		}
+	}
+	return nil
 }
 
 func jdValidate(q Quantity) error {
@@ -563,6 +603,16 @@ func jdValidate(q Quantity) error {
 		}
 		if q.ArAr.Code == "" {
 			return fmt.Errorf("calibration without a code")
+		}
+	}
+	for key, sh := range q.Shares {
+		if len(sh) != 1 && (q.Kind != QuantitySamples || len(sh) != len(q.SamplesMa)) {
+			return fmt.Errorf("key %q: %d shares: want 1 or one per sample row", key, len(sh))
+		}
+		for k, x := range sh {
+			if !(x >= 0 && x <= 1) {
+				return fmt.Errorf("key %q: share %d is %g: want between 0 and 1", key, k, x)
+			}
 		}
 	}
 	for _, s := range q.Systematics {
@@ -611,12 +661,26 @@ func (j *JointDraws) values(q int, mask uint64) []float64 {
 		to := from
 		for d := range v {
 			to.LambdaPerA, to.MonitorAgeMa = key.lam[d], key.mon[d]
-			v[d] = RecalculateAgeMa(v[d], from, to)
+			if jq.share[b] == nil {
+				v[d] = RecalculateAgeMa(v[d], from, to)
+			} else {
+				v[d] += jq.shareAt(b, d) * (RecalculateAgeMa(v[d], from, to) - v[d])
+			}
 		}
 	}
 	for b, k := range jq.keys {
 		key := j.keys[k]
 		if mask&(1<<b) == 0 || key.cal != nil {
+			continue
+		}
+		if jq.share[b] != nil {
+			for d := range v {
+				f := 1 + key.sys.RelSigma*key.dev[d] // relative: the age × f
+				if key.sys.Kind == SystematicDecayConstant {
+					f = 1 / f
+				}
+				v[d] += jq.shareAt(b, d) * (f - 1) * v[d]
+			}
 			continue
 		}
 		switch key.sys.Kind {
@@ -636,7 +700,11 @@ func (j *JointDraws) values(q int, mask uint64) []float64 {
 			continue
 		}
 		for d := range v {
-			v[d] += key.sys.SigmaMa * key.dev[d]
+			sh := 1.0
+			if jq.share[b] != nil {
+				sh = jq.shareAt(b, d)
+			}
+			v[d] += sh * key.sys.SigmaMa * key.dev[d]
 		}
 	}
 	j.mu.Lock()
@@ -654,9 +722,12 @@ func (j *JointDraws) maskAgainst(q, other int) uint64 {
 	case LevelFull:
 		return jdAllKeys(len(keys))
 	}
+	// A key both carry is held fixed only when it moves both whole; carried in part by either, it is
+	// drawn in both (jointly, so the common part still cancels and the rest counts).
 	var m uint64
 	for b, k := range keys {
-		if _, shared := slices.BinarySearch(j.qs[other].keys, k); !shared {
+		c, shared := slices.BinarySearch(j.qs[other].keys, k)
+		if !shared || j.qs[q].share[b] != nil || j.qs[other].share[c] != nil {
 			m |= 1 << b
 		}
 	}

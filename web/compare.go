@@ -46,6 +46,7 @@ type compareChoice struct {
 	SectionIDs []int64       // sections=ID,ID (default: all)
 	Groups     []string      // group=KIND (repeatable): the events of that kind across sections as one correlated event
 	Anomalies  bool          // anomalies=1: detected Hg anomalies as events too
+	Point      string        // point=base|peak|top: the named point of an event that has an extent (default base, its onset)
 	DeltaMa    float64       // delta= tolerance δ of P(|Δ| < δ), Ma
 	Level      stats.ComparisonLevel
 	N          int    // n= joint draws
@@ -121,6 +122,7 @@ func (s *Server) compareChoiceFrom(ctx context.Context, p *params) (compareChoic
 		}
 	}
 	ch.Anomalies = onOff(p, "anomalies")
+	ch.Point = p.oneOf("point", eventPoints, "base")
 	ch.DeltaMa = paramFloatIn(p, "delta", defaultCompareDeltaMa, 0, 100, "a tolerance δ in Ma from 0 to 100")
 	lv := p.oneOf("level", []string{"as-needed", "analytical", "full"}, "as-needed")
 	ch.Level, _ = stats.ParseComparisonLevel(lv)
@@ -190,7 +192,7 @@ func (ch compareChoice) cacheKey(stamp int64) string {
 		"include": d.Sum.Include, "count": d.Count, "weight": d.Weight, "bw": d.Rule.String(), "h": d.UserHMa,
 		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps, "bw_each": d.BWEach,
 		"province": ch.ProvinceID, "pulses": ch.Pulses, "rows": ch.Rows, "units": ch.UnitIDs, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,
-		"anomalies": ch.Anomalies, "delta": ch.DeltaMa, "level": ch.Level.String(), "n": ch.N, "model": ch.Model,
+		"anomalies": ch.Anomalies, "point": ch.Point, "delta": ch.DeltaMa, "level": ch.Level.String(), "n": ch.N, "model": ch.Model,
 		"draws": ch.ModelDraws, "toc": ch.TocMin, "sens": ch.Sens, "order": ch.Order}
 	b, _ := json.Marshal(k) // maps marshal with sorted keys: one spelling per choice set
 	return string(b)
@@ -245,7 +247,30 @@ type compareEvent struct {
 	Summary   stats.DrawSummary
 	Draws     []float64 // the draws of its age (random part) for the figure
 	URL       string
-	groupOnly bool // chosen only as a member of a group
+	Point     string // which point of the event is compared, in words ("base (onset)", "peak", "top", "height")
+	groupOnly bool   // chosen only as a member of a group
+}
+
+// eventPoints are the values of point=: which point of an event with an extent (a carbon-isotope
+// excursion from onset to recovery, an anomaly's run of samples) is compared.
+var eventPoints = []string{"base", "peak", "top"}
+
+// eventPoint returns the height of the chosen point of an event and its name in words. An event at one
+// height is compared there; an event without a recorded peak is compared at its base, and the words say so.
+func eventPoint(ea eventAge, point string) (float64, string) {
+	if ea.BaseM == ea.TopM && (math.IsNaN(ea.PeakM) || ea.PeakM == ea.BaseM) {
+		return ea.BaseM, "height"
+	}
+	switch point {
+	case "top":
+		return ea.TopM, "top"
+	case "peak":
+		if !math.IsNaN(ea.PeakM) {
+			return ea.PeakM, "peak"
+		}
+		return ea.BaseM, "base (onset; no peak height is recorded)"
+	}
+	return ea.BaseM, "base (onset)"
 }
 
 // comparePulse is a pulse of the density with its edge draws.
@@ -675,6 +700,9 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 	for _, sec := range d.Sections {
 		o := sectionOptionsFrom(&params{q: url.Values{}}, sec)
 		o.Model, o.Draws, o.Seed, o.Include = sc.Model, sc.Draws, sc.Seed, ch.Dens.Sum.Include
+		// The ties enter with their random part; their components are the engine's to draw, once per
+		// joint draw, with every other quantity that carries them.
+		o.TieLevel, o.SharedApart = "full", true
 		if sc.TocMin != nil {
 			o.TocMin = *sc.TocMin
 		}
@@ -682,7 +710,10 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 		if err != nil {
 			return nil, nil, err
 		}
-		syst, systNote := sectionSystematics(d, sec)
+		var comps []stats.SharedComponent
+		if a.Model != nil {
+			comps = tieComponents(a.Model.TieIns, "full")
+		}
 		modelText := fmt.Sprintf("Monte Carlo age–height model of %s (%d draws, seed %d)", sec.Name, sc.Draws, sc.Seed)
 		if sc.Model == "linear" {
 			modelText = "naive linear age–height model of " + sec.Name + " (normal with its 95 % interval)"
@@ -696,24 +727,41 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 			}
 			ce := compareEvent{Code: code, Name: name, Section: sec.Name, SectionID: sec.ID, Kind: kind, URL: url,
 				Depends: append(slices.Clone(dep), extra...), Summary: ea.Age, groupOnly: groupOnly}
+			h, where := eventPoint(ea, ch.Point)
+			ce.Point = where
+			var shares func(c stats.SharedComponent) ([]float64, error)
 			if a.Model != nil && a.Model.MC != nil {
-				ag, err := a.Model.MC.EventAge(ea.BaseM, ea.TopM, ea.Seed)
+				ag, err := a.Model.MC.EventAge(h, h, ea.Seed)
 				if err != nil {
 					notes = append(notes, fmt.Sprintf("%s (%s): %v", name, sec.Name, err))
 					return
 				}
 				ce.Draws = ag.AgesMa
+				ce.Summary = ag.Summary
 				ce.Q = stats.SampledAge(name+" · "+sec.Name, ag.AgesMa, group)
-				ce.How = fmt.Sprintf("%s, heights %s–%s m, event seed %d", modelText, num(ea.BaseM), num(ea.TopM), ea.Seed)
+				ce.How = fmt.Sprintf("%s, its %s at %s m", modelText, where, num(h))
+				shares = func(c stats.SharedComponent) ([]float64, error) { return a.Model.MC.Shares(c.Carries, h) }
+			} else if a.Model != nil && a.Model.Linear != nil {
+				j, _ := slices.BinarySearch(a.Model.Linear.HeightsM, h)
+				mu, sd := a.Model.Linear.AgeMa[j], a.Model.Linear.SigmaMa[j]
+				ce.Summary = stats.DrawSummary{Median: mu, Lo95: a.Model.Linear.Lo95[j], Hi95: a.Model.Linear.Hi95[j]}
+				ce.Q = stats.NormalAge(name+" · "+sec.Name, mu, sd)
+				ce.How = fmt.Sprintf("%s, its %s at %s m: N(%s, %s²) Ma", modelText, where, num(h), fixed(mu, 4), fixed(sd, 4))
+				shares = func(c stats.SharedComponent) ([]float64, error) {
+					x, err := a.Model.Linear.Shares(c.Carries, h)
+					return []float64{x}, err
+				}
 			} else {
-				sd := (ea.Age.Hi95 - ea.Age.Lo95) / (2 * 1.959963984540054)
-				ce.Q = stats.NormalAge(name+" · "+sec.Name, ea.Age.Median, sd)
-				ce.How = fmt.Sprintf("%s, heights %s–%s m: N(%s, %s²) Ma", modelText, num(ea.BaseM), num(ea.TopM), fixed(ea.Age.Median, 4), fixed(sd, 4))
+				notes = append(notes, fmt.Sprintf("%s (%s): %s", name, sec.Name, orDash(ea.Note)))
+				return
 			}
-			ce.Q = ce.Q.With(syst...)
-			if systNote != "" {
-				ce.How += "; " + systNote
+			q, note, err := withSharedComponents(ce.Q, comps, shares)
+			if err != nil {
+				notes = append(notes, fmt.Sprintf("%s (%s): %v", name, sec.Name, err))
+				return
 			}
+			ce.Q = q
+			ce.How += "; " + note
 			out = append(out, ce)
 		}
 		k := 0
@@ -753,50 +801,46 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 	return out, notes, nil
 }
 
-// sectionSystematics returns the systematic components of a section's model ages: those of its
-// radiometric tie points' linked U–Pb dates (λ238 and their tracer), when they agree.
-func sectionSystematics(d *compareData, sec store.Section) ([]stats.Systematic, string) {
-	tracers := map[string]bool{}
-	var rel float64
-	nUPb, nOther := 0, 0
-	for _, t := range d.Ties[sec.ID] {
-		if t.DateID == nil {
-			continue
+// withSharedComponents gives an event's age the components of its age model's ties, each with the share of
+// the age its ties make up there (1 between two ties that carry it, less next to a tie that does not),
+// and says so.
+func withSharedComponents(q stats.Quantity, comps []stats.SharedComponent, shares func(stats.SharedComponent) ([]float64, error)) (stats.Quantity, string, error) {
+	if len(comps) == 0 {
+		return q, "its ties carry no shared component (none is linked to a U–Pb or ⁴⁰Ar/³⁹Ar date)", nil
+	}
+	q.Shares = map[string][]float64{}
+	var parts []string
+	for _, c := range comps {
+		sh, err := shares(c)
+		if err != nil {
+			return q, "", err
 		}
-		dt, ok := d.LinkDates[*t.DateID]
-		if !ok {
-			continue
+		key := c.Key
+		if c.Cal != nil {
+			cal := *c.Cal
+			q.ArAr = &cal
+			key = stats.ArArCalibrationKey(cal)
+		} else {
+			q.Systematics = append(q.Systematics, c.Systematic)
 		}
-		if key, _, _ := systemOf(dt.Method); key != "upb" {
-			nOther++
-			continue
+		if !allOne(sh) {
+			q.Shares[key] = sh
 		}
-		nUPb++
-		tracers[dt.Tracer] = true
-		if y := dt.SigmaYMa; y != nil && *y >= dt.SigmaMa && dt.AgeMa > 0 {
-			rel = math.Max(rel, math.Sqrt(*y**y-dt.SigmaMa*dt.SigmaMa)/dt.AgeMa)
-		}
+		med := stats.Median(sh)
+		parts = append(parts, fmt.Sprintf("%s, share %s", componentLabel(c), fixed(med, 2)))
 	}
-	if nUPb == 0 {
-		return nil, "the ties are not linked to radiometric dates: no systematic component"
-	}
-	if rel == 0 {
-		rel = defaultTracerRelSigma
-	}
-	tracer := ""
-	if len(tracers) == 1 {
-		for t := range tracers {
-			tracer = t
+	return q, "its ties enter with their random part and carry " + strings.Join(parts, "; ") +
+		" (the part of the age the ties carrying it make up; each drawn once per joint draw with every quantity that carries it)", nil
+}
+
+// allOne reports whether every share is 1 to within rounding: the component moves the whole age.
+func allOne(sh []float64) bool {
+	for _, x := range sh {
+		if math.Abs(x-1) > 1e-9 {
+			return false
 		}
 	}
-	note := "the ties' U–Pb dates add λ238"
-	if tracer != "" {
-		note += fmt.Sprintf(" and the %s tracer (%.3f %% 2σ)", tracer, 200*rel)
-	}
-	if nOther > 0 {
-		note += "; ties of other systems carry no shared component"
-	}
-	return stats.UPbSystematics(tracer, rel), note
+	return true
 }
 
 // addGroups adds one correlated event per group kind: in each draw the inverse-variance weighted mean

@@ -219,14 +219,16 @@ func TestCompareClosedFormsThroughThePagePath(t *testing.T) {
 	check("§5 precedence 2σ", stats.Probability{P: res.Order.P[1][0]}, 0.9908)
 }
 
-// The page hands the engine the shared keys: the demo's pulse edges (U–Pb units, tracer ET2535) and
-// its section events (ties on U–Pb ashes of the same tracer) carry λ238 and the tracer, so at the
-// default level they cancel and the table equals the analytical one, while level=full differs.
+// The page hands the engine the shared keys: the demo's pulse edges (U–Pb units, tracer ET2535) and its
+// section events (ties on U–Pb ashes of the same tracer) carry λ238 and the tracer. An event between two
+// ash beds carries them whole, so at the default level they cancel and its row equals the analytical one;
+// an event next to a biozone tie carries them only in part (its share), so the rest counts and its row
+// differs; level=full differs everywhere.
 func TestCompareLevelAndKeysThroughThePagePath(t *testing.T) {
 	db := mustDemoDB(t)
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
 	ctx := context.Background()
-	table := func(q string) (*compareResult, string) {
+	table := func(q string) (*compareResult, map[string]string) {
 		t.Helper()
 		r := httptest.NewRequest(http.MethodGet, "/compare?sens=0&n=4000&reps=200&"+q, nil)
 		p := newParams(r)
@@ -242,13 +244,13 @@ func TestCompareLevelAndKeysThroughThePagePath(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// The probability and lag columns (the volume fraction also involves the ⁴⁰Ar/³⁹Ar units, whose
-		// calibration key the events do not share).
-		var b strings.Builder
+		// The probability and lag columns per pulse and event (the volume fraction also involves the
+		// ⁴⁰Ar/³⁹Ar units, whose calibration key the events do not share).
+		rows := map[string]string{}
 		for _, rec := range compareRecords(res) {
-			b.WriteString(strings.Join(rec[5:16], ",") + "\n")
+			rows[rec[1]+" "+rec[2]] = strings.Join(rec[5:16], ",")
 		}
-		return res, b.String()
+		return res, rows
 	}
 	res, asNeeded := table("level=as-needed")
 	for _, k := range []string{stats.KeyLambda238, stats.TracerKey("ET2535")} {
@@ -258,12 +260,38 @@ func TestCompareLevelAndKeysThroughThePagePath(t *testing.T) {
 	}
 	_, analytical := table("level=analytical")
 	_, full := table("level=full")
-	strip := func(s string) string { return s }
-	if strip(asNeeded) != strip(analytical) {
-		t.Error("with every key shared, as-needed and analytical differ: the page does not share the keys")
+	whole, partial := 0, 0
+	for _, e := range res.In.Events {
+		if e.SectionID == 0 {
+			continue
+		}
+		carriesWhole := len(e.Q.Systematics) > 0 && e.Q.Shares[stats.KeyLambda238] == nil && e.Q.Shares[stats.TracerKey("ET2535")] == nil
+		for key, row := range asNeeded {
+			if !strings.HasSuffix(key, " "+e.Code) {
+				continue
+			}
+			switch {
+			case carriesWhole:
+				whole++
+				if row != analytical[key] {
+					t.Errorf("%s (%s, between two ashes): as-needed %s differs from analytical %s: the shared keys do not cancel", key, e.Name, row, analytical[key])
+				}
+				if row == full[key] {
+					t.Errorf("%s: level=full gives the same row: the level does not reach the engine", key)
+				}
+			case len(e.Q.Systematics) > 0:
+				// Carried in part, the keys are drawn on both sides (jointly): as at level=full.
+				if row != analytical[key] {
+					partial++
+				}
+				if row != full[key] {
+					t.Errorf("%s (%s, keys in part): as-needed %s differs from full %s", key, e.Name, row, full[key])
+				}
+			}
+		}
 	}
-	if strip(asNeeded) == strip(full) {
-		t.Error("level=full gives the same table: the level does not reach the engine")
+	if whole == 0 || partial == 0 {
+		t.Errorf("%d rows of events between two ashes, %d rows of events carrying the keys in part that differ from analytical: want both", whole, partial)
 	}
 }
 

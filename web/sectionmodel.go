@@ -46,8 +46,11 @@ type sectionOptions struct {
 	Draws    int
 	Seed     uint64
 	Level    int    // σ level of displayed tie ages
-	TieLevel string // analytical, tracer, full: the σ of ties that come from dates
-	Include  string // accepted, pending, all: the review states of the ties the age model uses (as for dates)
+	TieLevel string // analytical, tracer, full: the components of ties that come from dates
+	// SharedApart leaves the ties' shared components out of the model's draws: the comparison applies
+	// them itself, jointly with every other quantity that carries them.
+	SharedApart bool
+	Include     string // accepted, pending, all: the review states of the ties the age model uses (as for dates)
 }
 
 // sectionOptionsFrom reads the options; the section's stored threshold is the default of toc_min.
@@ -190,6 +193,7 @@ type eventAge struct {
 	Kind        string
 	Origin      string
 	BaseM, TopM float64
+	PeakM       float64 // NaN when no peak height is recorded (entered events)
 	Age         stats.DrawSummary
 	Seed        uint64
 	Note        string
@@ -210,7 +214,9 @@ type ageModelResult struct {
 	HeightsM   []float64
 	Ages       []stats.DrawSummary // at HeightsM
 	Ties       []stats.TiePoint
+	TieIns     []tieInput // of Ties: their dates' components
 	TieLabels  []string
+	SharedNote string // which components were drawn once per draw for the ties that carry them
 	Hiatuses   []stats.Hiatus
 	Rates      []rateRow
 	LowM, TopM float64 // tie range
@@ -795,8 +801,10 @@ func (a *sectionAnalysis) fitModel() {
 		switch {
 		case t.Distribution == "normal" && t.AgeMa != nil && t.SigmaMa != nil:
 			m.Ties = append(m.Ties, stats.NormalTie(t.HeightM, a.TieInputs[i].AgeMa, a.TieInputs[i].SigmaMa))
+			m.TieIns = append(m.TieIns, a.TieInputs[i])
 		case t.AgeMinMa != nil && t.AgeMaxMa != nil:
 			m.Ties = append(m.Ties, stats.UniformTie(t.HeightM, *t.AgeMinMa, *t.AgeMaxMa))
+			m.TieIns = append(m.TieIns, tieInput{})
 		default:
 			continue
 		}
@@ -840,6 +848,12 @@ func (a *sectionAnalysis) fitModel() {
 	var err error
 	if m.Kind == "linear" {
 		m.Linear, err = stats.FitNaiveLinear(m.Ties, m.HeightsM)
+		if err == nil && !a.Opt.SharedApart {
+			comps := tieComponents(m.TieIns, a.Opt.TieLevel)
+			if err = m.Linear.AddShared(comps); err == nil {
+				m.SharedNote = componentsNote(comps, len(m.Ties))
+			}
+		}
 		if err == nil {
 			m.Ages = make([]stats.DrawSummary, len(m.HeightsM))
 			for j := range m.HeightsM {
@@ -848,6 +862,12 @@ func (a *sectionAnalysis) fitModel() {
 		}
 	} else {
 		m.MC, err = stats.FitAgeModel(m.Ties, m.Hiatuses, m.HeightsM, stats.AgeModelOptions{Draws: a.Opt.Draws, Seed: a.Opt.Seed})
+		if err == nil && !a.Opt.SharedApart {
+			comps := tieComponents(m.TieIns, a.Opt.TieLevel)
+			if err = m.MC.ApplyShared(comps, a.Opt.Seed); err == nil {
+				m.SharedNote = componentsNote(comps, len(m.Ties))
+			}
+		}
 		if err == nil {
 			m.Ages = m.MC.Ages
 		}
@@ -882,13 +902,13 @@ func (a *sectionAnalysis) fitModel() {
 	}
 	// Events (entered and detected) pushed through the model.
 	seed := a.Opt.Seed
-	push := func(name, kind, origin string, base, top float64) *eventAge {
+	push := func(name, kind, origin string, base, top, peak float64) *eventAge {
 		if !in(base) || !in(top) {
-			return &eventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, Note: "outside the tie range: no model age",
+			return &eventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, PeakM: peak, Note: "outside the tie range: no model age",
 				Age: stats.DrawSummary{Median: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN()}}
 		}
 		seed++
-		e := &eventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, Seed: seed}
+		e := &eventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, PeakM: peak, Seed: seed}
 		if m.MC != nil {
 			ea, err := m.MC.EventAge(base, top, seed)
 			if err != nil {
@@ -914,11 +934,11 @@ func (a *sectionAnalysis) fitModel() {
 		if ev.TopHeightM != nil {
 			top = *ev.TopHeightM
 		}
-		a.EventAges = append(a.EventAges, *push(ev.Name, store.Label(store.EventKinds(), ev.Kind), ev.Origin, *ev.BaseHeightM, top))
+		a.EventAges = append(a.EventAges, *push(ev.Name, store.Label(store.EventKinds(), ev.Kind), ev.Origin, *ev.BaseHeightM, top, math.NaN()))
 	}
 	for k := range a.Anomalies {
 		an := a.Anomalies[k]
-		e := push(fmt.Sprintf("Anomaly %d (%s)", an.Number, an.Series), "Hg anomaly", "detected", an.A.BaseHeightM, an.A.TopHeightM)
+		e := push(fmt.Sprintf("Anomaly %d (%s)", an.Number, an.Series), "Hg anomaly", "detected", an.A.BaseHeightM, an.A.TopHeightM, an.A.PeakHeightM)
 		a.Anomalies[k].Age = e
 		a.EventAges = append(a.EventAges, *e)
 	}

@@ -3,28 +3,38 @@ package web
 import (
 	"context"
 	"fmt"
+	"math"
 	"strings"
 
+	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
 )
 
 // Tie points that come from a date of the compilation enter the age model with that date's age and its
-// uncertainty at a chosen level (tie_level): analytical (the date's X σ), tracer (Y: X ⊕ tracer) or full
-// (Z: Y ⊕ decay constant; for ⁴⁰Ar/³⁹Ar the date recalculated to the compilation's target calibration,
-// with the monitor-age and decay-constant σ). The default is full: the model's ages are absolute ages,
-// compared with dates of other systems, laboratories and tracers, and only the full external σ is fair
-// there. Ties without a date keep the age and σ entered with them.
+// random part only — the analytical σ (X; ⁴⁰Ar/³⁹Ar: recalculated to the compilation's target calibration)
+// — and carry the date's systematic components by name: U–Pb its tracer and λ238, ⁴⁰Ar/³⁹Ar its
+// calibration (monitor age and λ). tie_level chooses which components an age model shown on its own draws:
+// analytical none, tracer the tracer, full all of them (the default: the model's ages are absolute ages).
+// Each component is drawn once per draw and moves every tie that carries it together
+// (stats.AgeModel.ApplyShared), so a shared decay constant never moves two ash beds apart. The comparison
+// fits the model without them and lets its joint draws apply them, once, to every quantity that carries
+// them. Systems without stored components (K–Ar, Re–Os, …) use the published σ of the level as their
+// random part. Ties without a date keep the age and σ entered with them and carry nothing.
 
 // defaultTieLevel is the level of a tie from a date when the URL does not choose one.
 const defaultTieLevel = "full"
 
 // tieInput is one tie point as the model uses it.
 type tieInput struct {
-	AgeMa, SigmaMa float64 // 1σ; used for normal ties
-	FromDate       bool    // age and σ come from the linked date at the chosen level
+	AgeMa, SigmaMa float64 // 1σ, the random part; used for normal ties
+	FromDate       bool    // age and σ come from the linked date
 	Level          string  // what the σ holds, for the page
 	Note           string  // a fallback or a recalculation, for the page
+	// Syst are the date's relative systematic components (U–Pb tracer and λ238) and Cal its ⁴⁰Ar/³⁹Ar
+	// calibration, whatever the level; Level decides which an age model shown on its own applies.
+	Syst []stats.Systematic
+	Cal  *stats.Calibration
 }
 
 // tieLevelLabel says what each level holds.
@@ -33,51 +43,97 @@ func tieLevelLabel(level string) string {
 	case "analytical":
 		return "analytical (X)"
 	case "tracer":
-		return "with tracer (Y = X ⊕ tracer)"
+		return "with tracer (X, and the tracer drawn once per draw for every tie on it)"
 	}
-	return "full external (Z = Y ⊕ decay constant; ⁴⁰Ar/³⁹Ar: ⊕ monitor age and λ)"
+	return "full external (X, and the tracer, λ238 and ⁴⁰Ar/³⁹Ar calibration each drawn once per draw for every tie that carries it)"
 }
 
-// tieFromDate returns the age and 1σ of a date at level (analytical|tracer|full). ⁴⁰Ar/³⁹Ar dates are
-// recalculated to cal first. A level the date lacks falls back to the next lower one it has, and the
-// note says so.
+// tieComponentsAt returns the components a tie applies at a level: none at analytical, its tracer at
+// tracer, all at full.
+func (in tieInput) componentsAt(level string) ([]stats.Systematic, *stats.Calibration) {
+	switch level {
+	case "analytical":
+		return nil, nil
+	case "tracer":
+		var out []stats.Systematic
+		for _, s := range in.Syst {
+			if s.Key != stats.KeyLambda238 {
+				out = append(out, s)
+			}
+		}
+		return out, nil
+	}
+	return in.Syst, in.Cal
+}
+
+// dateTracerRelSigma is the relative 1σ of a U–Pb date's tracer term: sqrt(Y² − X²)/t from its published
+// X and Y, or defaultTracerRelSigma when it publishes no usable Y.
+func dateTracerRelSigma(d store.Date) (float64, bool) {
+	if y := d.SigmaYMa; y != nil && *y > d.SigmaMa && d.AgeMa > 0 {
+		return math.Sqrt(*y**y-d.SigmaMa*d.SigmaMa) / d.AgeMa, true
+	}
+	return defaultTracerRelSigma, false
+}
+
+// tieFromDate returns the age, random 1σ and components of a date as a tie. ⁴⁰Ar/³⁹Ar dates are
+// recalculated to cal first. level only matters for systems without stored components, whose σ at the
+// level (falling back to the next lower one the date has) is taken as random.
 func tieFromDate(d store.Date, level string, cal calChoice) tieInput {
-	in := tieInput{AgeMa: d.AgeMa, SigmaMa: d.SigmaMa, FromDate: true}
-	if store.IsArAr(d.Method) {
+	in := tieInput{AgeMa: d.AgeMa, SigmaMa: d.SigmaMa, FromDate: true, Level: "analytical (X)"}
+	key, _, _ := systemOf(d.Method)
+	switch {
+	case store.IsArAr(d.Method):
 		rc := recalculate(d, cal.Stats)
 		if !rc.OK {
-			in.Level, in.Note = "analytical (X), as published", rc.Reason+"; the published age and analytical σ are used"
+			in.Level, in.Note = "analytical (X), as published", rc.Reason+"; the published age and analytical σ are used, with no calibration component"
 			if level == "full" && d.SigmaZMa != nil {
-				in.SigmaMa, in.Level = *d.SigmaZMa, "full external, as published"
+				in.SigmaMa, in.Level = *d.SigmaZMa, "full external, as published (taken as independent)"
 			}
 			return in
 		}
-		in.AgeMa, in.SigmaMa, in.Level = rc.AgeMa, rc.AnalyticalSigmaMa, "analytical (X)"
+		c := cal.Stats
+		in.AgeMa, in.SigmaMa, in.Cal = rc.AgeMa, rc.AnalyticalSigmaMa, &c
 		in.Note = "⁴⁰Ar/³⁹Ar recalculated to " + cal.Cal.Name
-		switch level {
-		case "tracer":
-			in.Level, in.Note = "analytical (X)", in.Note+"; ⁴⁰Ar/³⁹Ar has no tracer term, so the analytical σ is used"
-		case "full":
-			in.SigmaMa, in.Level = rc.FullSigmaMa, "full external (⊕ monitor age and λ)"
+		if level == "full" {
+			in.Level = "analytical (X); the calibration's monitor age and λ drawn once per draw"
 			if m := missingSystematics(cal.Stats); m != "" {
 				in.Note += "; " + m
 			}
 		}
 		return in
+	case key == "upb":
+		rel, published := dateTracerRelSigma(d)
+		in.Syst = stats.UPbSystematics(d.Tracer, rel)
+		switch {
+		case d.Tracer == "" && level != "analytical":
+			// No tracer named: its term cannot be shared with other dates, so it stays with this tie.
+			if d.SigmaYMa != nil && *d.SigmaYMa >= d.SigmaMa {
+				in.SigmaMa = *d.SigmaYMa
+			}
+			in.Note = "no tracer is named: the tracer term (Y) is taken as this tie's own"
+		case !published && level != "analytical":
+			in.Note = "the date publishes no Y: tracer term 0.030 % (2σ) assumed (Condon et al. 2015)"
+		}
+		switch level {
+		case "tracer":
+			in.Level = "analytical (X); the tracer drawn once per draw"
+		case "full":
+			in.Level = "analytical (X); the tracer and λ238 drawn once per draw"
+		}
+		return in
 	}
-	in.Level = "analytical (X)"
 	y, z := d.SigmaYMa, d.SigmaZMa
 	switch level {
 	case "tracer":
 		if y != nil {
-			in.SigmaMa, in.Level = *y, "with tracer (Y)"
+			in.SigmaMa, in.Level = *y, "with tracer (Y), taken as independent"
 		} else {
 			in.Note = "the date has no Y σ: its analytical σ is used"
 		}
 	case "full":
 		switch {
 		case z != nil:
-			in.SigmaMa, in.Level = *z, "full external (Z)"
+			in.SigmaMa, in.Level = *z, "full external (Z), taken as independent (no shared components are stored for this system)"
 		case y != nil:
 			in.SigmaMa, in.Level, in.Note = *y, "with tracer (Y)", "the date has no Z σ: its Y σ is used"
 		default:
@@ -289,7 +345,11 @@ func (a *sectionAnalysis) tieLevelSentence() string {
 	if a.Opt.TieLevel == defaultTieLevel {
 		def = " (the default, as absolute ages need)"
 	}
-	return fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s (tie_level=%s).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def, a.Opt.TieLevel)
+	s := fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s (tie_level=%s): each enters with its random part (X).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def, a.Opt.TieLevel)
+	if a.Model != nil && a.Model.SharedNote != "" {
+		s += " " + a.Model.SharedNote + " A shared term moves those ties together, so it widens each age but not the time between them."
+	}
+	return s
 }
 
 // tieReviewSentence is the model statement's account of which tie points it uses by review state.
@@ -327,4 +387,75 @@ func plural(n int) string {
 		return " comes"
 	}
 	return "s come"
+}
+
+// tieComponents gathers the components that the ties apply at a level, one per key, with the ties that
+// carry it. A key described with different σ by different ties (a tracer term estimated from different
+// dates) takes the largest, the conservative choice.
+func tieComponents(ins []tieInput, level string) []stats.SharedComponent {
+	var out []stats.SharedComponent
+	index := map[string]int{}
+	for i, in := range ins {
+		syst, cal := in.componentsAt(level)
+		var comps []stats.SharedComponent
+		for _, s := range syst {
+			comps = append(comps, stats.SharedComponent{Systematic: s})
+		}
+		if cal != nil {
+			comps = append(comps, stats.SharedComponent{Systematic: stats.Systematic{Key: stats.ArArCalibrationKey(*cal)}, Cal: cal})
+		}
+		for _, c := range comps {
+			k, ok := index[c.Key]
+			if !ok {
+				k = len(out)
+				index[c.Key] = k
+				c.Carries = make([]bool, len(ins))
+				out = append(out, c)
+			}
+			if c.RelSigma > out[k].RelSigma {
+				out[k].RelSigma = c.RelSigma
+			}
+			out[k].Carries[i] = true
+		}
+	}
+	return out
+}
+
+// componentsNote says which components an age model drew once per draw, and for how many ties.
+func componentsNote(comps []stats.SharedComponent, nTies int) string {
+	if len(comps) == 0 {
+		return ""
+	}
+	var parts []string
+	for _, c := range comps {
+		n := 0
+		for _, on := range c.Carries {
+			if on {
+				n++
+			}
+		}
+		parts = append(parts, fmt.Sprintf("%s (%d of %d ties)", componentLabel(c), n, nTies))
+	}
+	return "Drawn once per draw and shared by the ties that carry them: " + strings.Join(parts, ", ") + "."
+}
+
+// componentLabel names a component for a reader, with its 1σ.
+func componentLabel(c stats.SharedComponent) string {
+	switch {
+	case c.Cal != nil:
+		return "the ⁴⁰Ar/³⁹Ar calibration " + c.Cal.Name + " (monitor age and λ)"
+	case c.Key == stats.KeyLambda238:
+		return fmt.Sprintf("λ238 (%.3f %% 2σ)", 200*c.RelSigma)
+	case strings.HasPrefix(c.Key, "tracer "):
+		return fmt.Sprintf("the %s tracer (%.3f %% 2σ)", strings.TrimPrefix(c.Key, "tracer "), 200*c.RelSigma)
+	}
+	return c.Key
+}
+
+// componentName is a component's short name: λ238, tracer ET535, the ⁴⁰Ar/³⁹Ar calibration.
+func componentName(c stats.SharedComponent) string {
+	if c.Cal != nil {
+		return "the ⁴⁰Ar/³⁹Ar calibration"
+	}
+	return c.Key
 }

@@ -158,7 +158,8 @@ type systemSummary struct {
 	LevelShort  bool   // the chosen level does not exist for this system; LevelLabel says what is shown
 	Cautions    []string
 	Notes       []string
-	TracerNote  string // how the U–Pb tracer term was found, when the level uses it
+	TracerNote  string  // how the U–Pb tracer term was found, when the level uses it
+	TracerRel   float64 // the U–Pb tracer term's relative 1σ at the level (0 at analytical)
 	MinMa       float64
 	MaxMa       float64
 }
@@ -346,6 +347,7 @@ func (s *systemSummary) compute(ch summaryChoice) error {
 		s.Entries[i].Flagged = true
 	}
 	tracer := s.tracerRelSigma(ch)
+	s.TracerRel = tracer
 	if s.All, err = s.levelled(rep.All, ch, tracer); err != nil {
 		return err
 	}
@@ -400,6 +402,22 @@ func (s *systemSummary) tracerRelSigma(ch summaryChoice) float64 {
 	s.TracerNote = fmt.Sprintf("tracer term %.3f %% (2σ), from the dates' published X and Y; λ238 term %.3f %% (2σ, Jaffey et al. 1971); both added after averaging",
 		200*rel, 200*stats.Lambda238RelSigma)
 	return rel
+}
+
+// tracerName is the tracer all the system's U–Pb dates name, or "" when they name none or several.
+func (s *systemSummary) tracerName() string {
+	name := ""
+	for _, e := range s.Entries {
+		switch {
+		case e.D.Tracer == "":
+			return ""
+		case name == "":
+			name = e.D.Tracer
+		case e.D.Tracer != name:
+			return ""
+		}
+	}
+	return name
 }
 
 // levelled gives a weighted mean's ± at the chosen level (1σ). Systematic terms are added after

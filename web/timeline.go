@@ -144,6 +144,68 @@ type densityValue struct {
 	Sigma1s float64 `json:"sigma_ma_1s"`
 	Weight  float64 `json:"weight"`
 	N       int     `json:"n_dates"`
+	// Random1s is the part of Sigma1s that is the value's own (the bootstrap's jitter); syst and cal
+	// are the components the level puts in common with other values, drawn once per replicate.
+	Random1s float64            `json:"-"`
+	syst     []stats.Systematic `json:"-"`
+	cal      *stats.Calibration `json:"-"`
+}
+
+// withParts sets the value's random 1σ and the components its level shares with other values: at the
+// tracer level a U–Pb value's tracer (when its dates name one), at full also λ238, and an ⁴⁰Ar/³⁹Ar
+// value's calibration. A term the level includes but no component names (a tracer not named, a system
+// without stored components) stays in the value's own σ. analytical is the value's analytical 1σ.
+func (v densityValue) withParts(sys *systemSummary, analytical float64, ch summaryChoice) densityValue {
+	v.Random1s = v.Sigma1s
+	switch {
+	case ch.Level == stats.Analytical:
+		v.Random1s = analytical
+	case sys.Key == "upb":
+		tracer := sys.tracerName()
+		v.Random1s = analytical
+		if tracer == "" {
+			v.Random1s = math.Hypot(analytical, sys.TracerRel*v.AgeMa)
+		}
+		syst := stats.UPbSystematics(tracer, sys.TracerRel)
+		if ch.Level == stats.WithTracer {
+			syst = slices.DeleteFunc(syst, func(s stats.Systematic) bool { return s.Key == stats.KeyLambda238 })
+		}
+		v.syst = syst
+	case sys.Key == "arar" && ch.Level == stats.FullExternal:
+		cal := ch.Cal.Stats
+		v.Random1s, v.cal = analytical, &cal
+	case sys.Key == "arar":
+		v.Random1s = analytical
+	}
+	return v
+}
+
+// sharedComponents gathers the values' components, one per key with the values that carry it (the
+// largest σ where two values describe one key differently).
+func sharedComponents(vals []densityValue) []stats.SharedComponent {
+	var out []stats.SharedComponent
+	index := map[string]int{}
+	for i, v := range vals {
+		var comps []stats.SharedComponent
+		for _, s := range v.syst {
+			comps = append(comps, stats.SharedComponent{Systematic: s})
+		}
+		if v.cal != nil {
+			comps = append(comps, stats.SharedComponent{Systematic: stats.Systematic{Key: stats.ArArCalibrationKey(*v.cal)}, Cal: v.cal})
+		}
+		for _, c := range comps {
+			k, ok := index[c.Key]
+			if !ok {
+				k = len(out)
+				index[c.Key] = k
+				c.Carries = make([]bool, len(vals))
+				out = append(out, c)
+			}
+			out[k].RelSigma = max(out[k].RelSigma, c.RelSigma)
+			out[k].Carries[i] = true
+		}
+	}
+	return out
 }
 
 // densityResult is the density of a province and what went into it.
@@ -156,6 +218,7 @@ type densityResult struct {
 	Band      *stats.DensityBand // nil when there is no density
 	PDP       *stats.Density
 	Pulses    []stats.PulseSummary
+	Shared    []stats.SharedComponent // drawn once per bootstrap replicate
 	MinMa     float64
 	MaxMa     float64
 	Message   string // why there is no density, when there is none
@@ -186,6 +249,7 @@ func countedValues(sums []unitSummary, ch densityChoice, res *densityResult) {
 			}
 			sys := us.Systems[first]
 			v := densityValue{UnitID: u.ID, Unit: u.Name, System: sys.Label, AgeMa: sys.All.MeanMa, Sigma1s: sys.All.Sigma1s, N: sys.All.N, Weight: 1}
+			v = v.withParts(&sys, sys.Report.All.SigmaReported, ch.Sum)
 			for _, e := range sys.Entries {
 				v.DateIDs = append(v.DateIDs, e.D.ID)
 			}
@@ -194,7 +258,7 @@ func countedValues(sums []unitSummary, ch densityChoice, res *densityResult) {
 			for _, sys := range us.Systems {
 				for _, e := range sys.Entries {
 					vals = append(vals, densityValue{UnitID: u.ID, Unit: u.Name, DateIDs: []int64{e.D.ID}, Sample: e.D.SampleCode,
-						System: sys.Label, AgeMa: e.AgeMa, Sigma1s: e.Sigma1s, N: 1, Weight: 1})
+						System: sys.Label, AgeMa: e.AgeMa, Sigma1s: e.Sigma1s, N: 1, Weight: 1}.withParts(&sys, e.Sigma1s, ch.Sum))
 				}
 			}
 		}
@@ -304,9 +368,16 @@ func computeDensity(sums []unitSummary, ch densityChoice, dateBars [][2]float64)
 	if ch.BWEach {
 		bandBW = stats.BandwidthOptions{Rule: ch.Rule}
 	}
-	band, err := stats.BootstrapBand(ages, sigmas, stats.BandOptions{
+	// The bootstrap jitters each value by its own random part and draws the shared components once per
+	// replicate, so a decay constant or tracer common to many units moves them together.
+	randoms := make([]float64, len(res.Values))
+	for i, v := range res.Values {
+		randoms[i] = v.Random1s
+	}
+	res.Shared = sharedComponents(res.Values)
+	band, err := stats.BootstrapBand(ages, randoms, stats.BandOptions{
 		KDE:        stats.KDEOptions{Bandwidth: bandBW, Adaptive: ch.Adaptive, Weight: weights, Grid: grid},
-		Replicates: ch.Reps, Seed: ch.Seed, ReestimateBandwidth: ch.BWEach})
+		Replicates: ch.Reps, Seed: ch.Seed, ReestimateBandwidth: ch.BWEach, Shared: res.Shared})
 	if err != nil {
 		return res, fmt.Errorf("density band: %w", err)
 	}
