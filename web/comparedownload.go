@@ -25,7 +25,7 @@ var compareColumns = []string{"province", "pulse", "event_code", "event", "secti
 	"lag_median_ma", "lag_lo95_ma", "lag_hi95_ma", "delta_ma", "p_near", "p_near_se", "ovl",
 	"volume_before_median", "volume_before_lo95", "volume_before_hi95", "p_volume_majority", "p_volume_majority_se",
 	"sens_after_min", "sens_after_max", "sens_within_min", "sens_within_max", "sens_volume_min", "sens_volume_max", "sens_caution",
-	"n", "seed", "level", "data_stamp"}
+	"n", "seed", "level", "data_stamp", "event_point"}
 
 // compareUnitColumns are the columns that rows=units|both adds after the province: what kind of row it is
 // and, for a unit row, the unit and its mean. The default (rows=pulses) keeps the columns above, so its
@@ -34,7 +34,7 @@ var compareUnitColumns = []string{"row_kind", "pulse", "unit_code", "unit", "uni
 
 // compareTextColumns are the download columns that hold text (the rest are numbers in the workbook).
 var compareTextColumns = []string{"province", "row_kind", "pulse", "unit_code", "unit", "unit_system", "event_code", "event",
-	"section", "sens_caution", "seed", "level"}
+	"section", "sens_caution", "seed", "level", "event_point"}
 
 // compareColumnsFor returns the download columns for the choice of rows.
 func compareColumnsFor(ch compareChoice) []string {
@@ -98,7 +98,7 @@ func compareRecords(res *compareResult) [][]string {
 		} else {
 			rec = append(rec, "", "", "", "", "", "", "")
 		}
-		rec = append(rec, strconv.Itoa(ch.N), strconv.FormatUint(ch.Dens.Seed, 10), ch.Level.String(), strconv.FormatInt(res.Stamp, 10))
+		rec = append(rec, strconv.Itoa(ch.N), strconv.FormatUint(ch.Dens.Seed, 10), ch.Level.String(), strconv.FormatInt(res.Stamp, 10), orDash(row.Event.Point))
 		out = append(out, rec)
 	}
 	return out
@@ -140,6 +140,7 @@ func compareSettings(res *compareResult) [][2]string {
 		{"age-model draws", strconv.Itoa(ch.ModelDraws)},
 		{"TOC threshold (wt%)", tocText(ch.TocMin)},
 		{"detected anomalies compared", strconv.FormatBool(ch.Anomalies)},
+		{"event point compared", pointLabel(ch.Point)},
 		{"correlated groups", strings.Join(ch.Groups, ", ")},
 		{"shared systematic keys", strings.Join(res.Keys, ", ")},
 		{"sensitivity sets", sensSets(res)},
@@ -173,6 +174,17 @@ func compareSettings(res *compareResult) [][2]string {
 	}
 	s = append(s, [2]string{"timescale", timescaleCredit})
 	return s
+}
+
+// pointLabel says which point of an event with an extent is compared.
+func pointLabel(point string) string {
+	switch point {
+	case "top":
+		return "top: an event with an extent (an excursion, an anomaly's run of samples) is compared at its top (its end)"
+	case "peak":
+		return "peak: an event with an extent is compared at its peak (detected anomalies: the highest sample; entered events record no peak and are compared at their base)"
+	}
+	return "base: an event with an extent (an excursion, an anomaly's run of samples) is compared at its base (its onset)"
 }
 
 func calCodes(res *compareResult) string {

@@ -525,8 +525,9 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		after = "P(event younger than the pulse's onset, or than the unit's weighted mean)"
 		lagTitle = "onset − event, or unit mean − event; positive: the event came after"
 	}
-	t := views.Table{ID: "comparison", Caption: fmt.Sprintf("%s (%d joint draws, seed %d, level %s)", caption, ch.N, ch.Dens.Seed, ch.Level),
-		Columns: []views.Column{col(item, "", "pulse", ""), col("Event", "", "event", "sorted by age"), {Label: "Section"},
+	at := map[string]string{"base": "events with an extent at their base (onset)", "peak": "events with an extent at their peak", "top": "events with an extent at their top (end)"}[ch.Point]
+	t := views.Table{ID: "comparison", Caption: fmt.Sprintf("%s (%d joint draws, seed %d, level %s; %s)", caption, ch.N, ch.Dens.Seed, ch.Level, at),
+		Columns: []views.Column{col(item, "", "pulse", ""), col("Event", "at", "event", "sorted by age; the point of the event compared"), {Label: "Section"},
 			col(afterLabel, afterUnit, "after", after),
 			col("P(within)", "± MC SE", "within", "P(end ≤ event ≤ onset); does not apply to a unit (—)"),
 			col("Lag", from+" → event, Ma [95 %]", "lag", lagTitle),
@@ -543,7 +544,11 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 	for _, row := range rows {
 		c := row.Cell
 		link := "#" + howID(row.code(), row.Event.Code)
-		cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: row.Event.Name, URL: row.Event.URL}, {Text: row.Event.Section},
+		evName := row.Event.Name
+		if p := row.Event.Point; p != "" && p != "height" {
+			evName += " · " + strings.SplitN(p, " ", 2)[0]
+		}
+		cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: evName, URL: row.Event.URL, Title: row.Event.Point}, {Text: row.Event.Section},
 			{Text: probText(c.AfterOnset, c.N), URL: link, Num: true}, {Text: probText(c.Within, c.N), URL: link, Num: true},
 			{Text: lagText(c.LagMa), URL: link, Num: true}, {Text: probText(c.Near, c.N), URL: link, Num: true},
 			{Text: fixed(c.OVL, 3), URL: link, Num: true}}
@@ -785,6 +790,7 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 		sel("bw", "Bandwidth", ch.Dens.Rule.String(), "isj", "ISJ", "scott", "Scott", "silverman", "Silverman", "silverman-robust", "Silverman (robust)"),
 		sel("model", "Age model", ch.Model, "mc", "Monte Carlo", "linear", "naive linear"),
 		sel("anomalies", "Detected anomalies", map[bool]string{true: "1", false: "0"}[ch.Anomalies], "0", "not compared", "1", "compared"),
+		sel("point", "Events with an extent compared at", ch.Point, "base", "their base (onset)", "peak", "their peak", "top", "their top (end)"),
 		sel("sens", "Sensitivity", map[bool]string{true: "1", false: "0"}[ch.Sens], "1", "computed", "0", "off"),
 	}}
 }
