@@ -353,136 +353,91 @@ func TestCompareLeavesPendingTiesOut(t *testing.T) {
 	}
 }
 
-// A unit row through the page's own path (choices → data → computeComparison) against the closed form
-// of REFERENCES §5 for two normal ages with a shared systematic component. The unit is a U–Pb weighted
-// mean (tracer ET2535, λ238), the event a section event on the naive linear age model (a normal whose
-// ties' U–Pb dates give it λ238 and the same tracer). D = U − E ~ N(μU − μE, fU² + fE² − 2ρ·fU·fE), with
-// f the full 1σ and ρ·fU·fE = μU·μE·Σ rel² of the shared keys. At level=full the shared keys are drawn
-// once per draw and must cancel (taking them as independent would give a clearly different P); at
-// as-needed they are held fixed. P(event younger than the unit), P(|lag| < δ) and the lag's 2.5, 50 and
-// 97.5 % points within 3 Monte Carlo SE.
+// A unit row through the page's own path (choices → data → computeComparison) against closed forms built
+// from the raw dates only. REFERENCES §5 "Through an age model" [C]: a U–Pb unit mean 201.50 (X 0.040, 2σ)
+// and an event at the height of an ash tie dated 201.45 (X 0.060, Z 0.23, 2σ), same tracer:
+// P(event younger than the unit) = Φ(0.05/hypot(0.02, 0.03)) = 0.917241; taking each Z as independent
+// gives 0.623312. The tie enters the age model with its X and carries λ238 and the tracer, which the unit
+// carries too: they cancel, at level=as-needed (held fixed) and at level=full (drawn once, for both).
+// The unit is two dates of 201.50 ± 0.0282843 (1σ), whose weighted mean has σ 0.02; the section has the
+// ash at 10 m and a biozone far below at 0 m (uniform 203.0–203.5 Ma, no component). Both age models.
 func TestCompareUnitRowClosedFormThroughThePagePath(t *testing.T) {
 	db := mustDemoDB(t)
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
 	ctx := context.Background()
-	const unitID, n, delta = 901, 100_000, 0.1
-	load := func(level string) (*compareData, compareChoice) {
-		t.Helper()
-		r := httptest.NewRequest(http.MethodGet, fmt.Sprintf("/compare?sens=0&reps=100&model=linear&rows=units&units=%d&n=%d&delta=%g&level=%s", unitID, n, delta, level), nil)
-		p := newParams(r)
-		ch, err := c.compareChoiceFrom(ctx, p)
-		if err != nil || p.err() != nil {
-			t.Fatal(err, p.err())
-		}
-		d, err := c.loadCompareData(ctx, &ch)
-		if err != nil {
-			t.Fatal(err)
-		}
-		// A unit of two U–Pb dates (1σ 0.02 Ma each, no Y: the default tracer term), ageMa apart by ±0.005.
-		uid := int64(unitID)
-		d.Units = append(d.Units, store.Unit{ID: uid, ProvinceID: ch.ProvinceID, Name: "Test Flow", Kind: "flow"})
-		for i, off := range []float64{-0.005, 0.005} {
-			d.Dates = append(d.Dates, store.Date{ID: int64(9000 + i), UnitID: &uid, Unit: "Test Flow", SampleCode: fmt.Sprint("TEST-", i),
-				Method: "upb_idtims", Interpretation: "eruption", AgeMa: 155.0 + off, SigmaMa: 0.02, SigmaLevel: 2, Tracer: "ET2535", ReviewState: "accepted"})
-		}
-		return d, ch
-	}
-	setAge := func(d *compareData, ageMa float64) {
-		for i := range d.Dates {
-			if d.Dates[i].ID >= 9000 {
-				d.Dates[i].AgeMa = ageMa + []float64{-0.005, 0.005}[d.Dates[i].ID-9000]
-			}
-		}
-	}
-	// First find a section event and its normal, then put the unit one correlated σ above it.
-	d, ch := load("full")
-	res, err := computeComparison(d, ch, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
-	e := slices.IndexFunc(res.In.Events, func(ev compareEvent) bool { return ev.SectionID != 0 && ev.Q.Kind == stats.QuantityNormal })
-	if e < 0 {
-		t.Fatal("no section event with a normal age on the linear model")
-	}
-	ev := res.In.Events[e]
-	setAge(d, ev.Q.AgeMa+math.Hypot(ev.Q.SigmaMa, 0.02/math.Sqrt2))
-	for _, level := range []string{"full", "as-needed"} {
-		t.Run(level, func(t *testing.T) {
-			d, ch := load(level)
-			setAge(d, ev.Q.AgeMa+math.Hypot(ev.Q.SigmaMa, 0.02/math.Sqrt2))
-			res, err := computeComparison(d, ch, 0)
-			if err != nil {
-				t.Fatal(err)
-			}
-			rows := compareRows(res)
-			k := slices.IndexFunc(rows, func(r compareRow) bool { return r.isUnit() && r.Event.Code == ev.Code })
-			if k < 0 || len(res.In.UnitRows) != 1 || res.In.UnitRows[0].Code != "U901" {
-				t.Fatalf("no unit row U901 × %s (%d unit rows)", ev.Code, len(res.In.UnitRows))
-			}
-			cell := rows[k].Cell
-			// The quantities as the engine received them (keys unified), for the closed form.
-			qs, _, evIdx, _, rowIdx := assemble(res.In)
-			qu, qe := qs[rowIdx[0]], qs[evIdx[e]]
-			rel2 := func(q stats.Quantity) map[string]float64 {
-				m := map[string]float64{}
-				for _, s := range q.Systematics {
-					m[s.Key] = s.RelSigma * s.RelSigma
+	const unitID, secID, evID, ashID, n, delta = 901, 901, 9901, 9100, 100_000, 0.1
+	f := func(v float64) *float64 { return &v }
+	for _, model := range []string{"linear", "mc"} {
+		for _, level := range []string{"as-needed", "full"} {
+			t.Run(model+"/"+level, func(t *testing.T) {
+				r := httptest.NewRequest(http.MethodGet, fmt.Sprintf("/compare?sens=0&reps=100&model=%s&draws=5000&rows=units&units=%d&events=%d&n=%d&delta=%g&level=%s",
+					model, unitID, evID, n, delta, level), nil)
+				p := newParams(r)
+				ch, err := c.compareChoiceFrom(ctx, p)
+				if err != nil || p.err() != nil {
+					t.Fatal(err, p.err())
 				}
-				return m
-			}
-			ru, re := rel2(qu), rel2(qe)
-			var sumU, sumE, shared float64
-			for k, v := range ru {
-				sumU += v
-				if w, ok := re[k]; ok && w == v {
-					shared += v
+				ch.EventIDs = nil // the test event is added below, after the data are loaded
+				d, err := c.loadCompareData(ctx, &ch)
+				if err != nil {
+					t.Fatal(err)
 				}
-			}
-			for _, v := range re {
-				sumE += v
-			}
-			if shared == 0 || !strings.Contains(strings.Join(res.Keys, "|"), stats.TracerKey("ET2535")) {
-				t.Fatalf("unit and event share no systematic key: %v, %v", qu.Systematics, qe.Systematics)
-			}
-			muU, muE := qu.AgeMa, qe.AgeMa
-			fU := math.Sqrt(qu.SigmaMa*qu.SigmaMa + muU*muU*sumU)
-			fE := math.Sqrt(qe.SigmaMa*qe.SigmaMa + muE*muE*sumE)
-			rho := muU * muE * shared / (fU * fE)
-			// As-needed holds the shared keys fixed in both: their (second-order) remainder is dropped too.
-			sd := math.Sqrt(fU*fU + fE*fE - 2*rho*fU*fE)
-			if level == "as-needed" {
-				sd = math.Sqrt(qu.SigmaMa*qu.SigmaMa + muU*muU*(sumU-shared) + qe.SigmaMa*qe.SigmaMa + muE*muE*(sumE-shared))
-			}
-			mu := muU - muE
-			want := distuv.UnitNormal.CDF(mu / sd)
-			wrong, _ := stats.POlderNormal(muU, fU, muE, fE, 0)
-			se := math.Sqrt(want * (1 - want) / n)
-			if math.Abs(want-wrong) < 10*se {
-				t.Fatalf("closed forms with and without the shared part are too close (%.4f, %.4f): no power", want, wrong)
-			}
-			wantNear := distuv.UnitNormal.CDF((delta-mu)/sd) - distuv.UnitNormal.CDF((-delta-mu)/sd)
-			t.Logf("%s × %s: P(event after unit) %.5f ± %.5f, closed form %.5f (shared part taken as independent: %.5f); P(|lag| < %g) %.5f, closed %.5f; lag %.4f [%.4f, %.4f], closed %.4f ± 1.96·%.4f",
-				qu.Name, qe.Name, cell.AfterOnset.P, cell.AfterOnset.SE, want, wrong, delta, cell.Near.P, wantNear, cell.LagMa.Median, cell.LagMa.Lo95, cell.LagMa.Hi95, mu, sd)
-			if math.Abs(cell.AfterOnset.P-want) > 3*se {
-				t.Errorf("P(event younger than the unit) = %.5f, closed form %.5f ± %.5f (3 SE)", cell.AfterOnset.P, want, 3*se)
-			}
-			if tol := 3 * math.Sqrt(wantNear*(1-wantNear)/n); math.Abs(cell.Near.P-wantNear) > tol {
-				t.Errorf("P(|lag| < δ) = %.5f, closed form %.5f ± %.5f", cell.Near.P, wantNear, tol)
-			}
-			// SE of a sample quantile: sqrt(p(1 − p)/N)/φ(z_p), in units of σ_D.
-			for _, q := range []struct {
-				p, got float64
-			}{{0.5, cell.LagMa.Median}, {0.025, cell.LagMa.Lo95}, {0.975, cell.LagMa.Hi95}} {
-				z := distuv.UnitNormal.Quantile(q.p)
-				se := math.Sqrt(q.p*(1-q.p)/n) / distuv.UnitNormal.Prob(z) * sd
-				if w := mu + z*sd; math.Abs(q.got-w) > 3*se {
-					t.Errorf("lag %g quantile %.5f, closed form %.5f ± %.5f", q.p, q.got, w, 3*se)
+				ch.EventIDs = []int64{evID}
+				uid, sid, did := int64(unitID), int64(secID), int64(ashID)
+				d.Units = append(d.Units, store.Unit{ID: uid, ProvinceID: ch.ProvinceID, Name: "Test Flow", Kind: "flow"})
+				for i := range 2 {
+					d.Dates = append(d.Dates, store.Date{ID: int64(9000 + i), UnitID: &uid, Unit: "Test Flow", SampleCode: fmt.Sprint("TEST-", i),
+						Method: "upb_idtims", Interpretation: "eruption", AgeMa: 201.50, SigmaMa: 0.02 * math.Sqrt2, SigmaLevel: 2, Tracer: "ET2535", ReviewState: "accepted"})
 				}
-			}
-			if !math.IsNaN(cell.Within.P) {
-				t.Errorf("a unit row has P(within) = %g; it does not apply", cell.Within.P)
-			}
-		})
+				ash := store.Date{ID: did, Method: "upb_idtims", AgeMa: 201.45, SigmaMa: 0.03, SigmaZMa: f(0.115), SigmaLevel: 2, Tracer: "ET2535", ReviewState: "accepted"}
+				sec := store.Section{ID: sid, Name: "Test Section", TocThresholdWtPct: 0.2}
+				d.Sections = append(d.Sections, sec)
+				d.Ties[sid] = []store.TiePoint{
+					{ID: 9200, SectionID: sid, Label: "biozone", HeightM: 0, Kind: "biostratigraphic", Distribution: "uniform", AgeMinMa: f(203.0), AgeMaxMa: f(203.5), ReviewState: "accepted"},
+					{ID: 9201, SectionID: sid, Label: "ash", HeightM: 10, Kind: "radiometric", Distribution: "normal", AgeMa: f(201.45), SigmaMa: f(0.03), DateID: &did, ReviewState: "accepted"},
+				}
+				d.LinkDates[did] = ash
+				d.TieIns[sid] = []tieInput{{AgeMa: 203.25, SigmaMa: 0.5 / math.Sqrt(12)}, tieFromDate(ash, "full", ch.Dens.Sum.Cal)}
+				d.Events[sid] = []store.Event{{ID: evID, SectionID: &sid, Name: "Test event", Kind: "cie_onset", BaseHeightM: f(10), Origin: "entered", ReviewState: "accepted"}}
+				res, err := computeComparison(d, ch, 0)
+				if err != nil {
+					t.Fatal(err)
+				}
+				rows := compareRows(res)
+				k := slices.IndexFunc(rows, func(r compareRow) bool { return r.isUnit() && r.Event.Code == fmt.Sprint("E", evID) })
+				if k < 0 {
+					t.Fatalf("no unit row U%d × E%d", unitID, evID)
+				}
+				cell := rows[k].Cell
+				const want, wrong = 0.917241, 0.623312 // REFERENCES §5 [C]
+				mu, sd := 0.05, math.Hypot(0.02, 0.03)
+				m := float64(n)
+				if model == "mc" {
+					m = 5000 // the age model's rows, resampled
+				}
+				se := math.Sqrt(want * (1 - want) * (1/float64(n) + 1/m))
+				t.Logf("P(event after unit) %.5f ± %.5f, closed form %.6f (Z as independent: %.6f); lag %.4f [%.4f, %.4f]",
+					cell.AfterOnset.P, cell.AfterOnset.SE, want, wrong, cell.LagMa.Median, cell.LagMa.Lo95, cell.LagMa.Hi95)
+				if math.Abs(cell.AfterOnset.P-want) > 3*se+2e-4 {
+					t.Errorf("P(event younger than the unit) = %.5f, closed form %.6f ± %.5f (3 SE); double counting gives %.6f", cell.AfterOnset.P, want, 3*se, wrong)
+				}
+				wantNear := distuv.UnitNormal.CDF((delta-mu)/sd) - distuv.UnitNormal.CDF((-delta-mu)/sd)
+				if tol := 3*math.Sqrt(wantNear*(1-wantNear)*(1/float64(n)+1/m)) + 2e-4; math.Abs(cell.Near.P-wantNear) > tol {
+					t.Errorf("P(|lag| < δ) = %.5f, closed form %.5f ± %.5f", cell.Near.P, wantNear, tol)
+				}
+				// The lag's 95 % points: 0.05 ∓ 1.96·sd; SE of a sample quantile sqrt(p(1 − p)/N)/φ(z)·sd.
+				for _, q := range []struct{ p, got float64 }{{0.5, cell.LagMa.Median}, {0.025, cell.LagMa.Lo95}, {0.975, cell.LagMa.Hi95}} {
+					z := distuv.UnitNormal.Quantile(q.p)
+					qse := math.Sqrt(q.p*(1-q.p)*(1/float64(n)+1/m)) / distuv.UnitNormal.Prob(z) * sd
+					if w := mu + z*sd; math.Abs(q.got-w) > 3*qse+2e-4 {
+						t.Errorf("lag %g quantile %.5f, closed form %.5f ± %.5f", q.p, q.got, w, 3*qse)
+					}
+				}
+				if !math.IsNaN(cell.Within.P) {
+					t.Errorf("a unit row has P(within) = %g; it does not apply", cell.Within.P)
+				}
+			})
+		}
 	}
 }
 
