@@ -35,7 +35,7 @@ func tieLevelLabel(level string) string {
 	case "tracer":
 		return "with tracer (Y = X ⊕ tracer)"
 	}
-	return "full external (Z = Y ⊕ decay constant; ⁴⁰Ar/³⁹Ar: ⊕ monitor age and λ)"
+	return "full external (Z = Y ⊕ decay constant; ⁴⁰Ar/³⁹Ar: ⊕ monitor age and λ, with their covariance where the calibration's source gives one)"
 }
 
 // tieFromDate returns the age and 1σ of a date at level (analytical|tracer|full). ⁴⁰Ar/³⁹Ar dates are
@@ -58,7 +58,7 @@ func tieFromDate(d store.Date, level string, cal calChoice) tieInput {
 		case "tracer":
 			in.Level, in.Note = "analytical (X)", in.Note+"; ⁴⁰Ar/³⁹Ar has no tracer term, so the analytical σ is used"
 		case "full":
-			in.SigmaMa, in.Level = rc.FullSigmaMa, "full external (⊕ monitor age and λ)"
+			in.SigmaMa, in.Level = rc.FullSigmaMa, "full external (⊕ "+calTerms(cal.Stats)+")"
 			if m := missingSystematics(cal.Stats); m != "" {
 				in.Note += "; " + m
 			}
