@@ -13,6 +13,13 @@ const yearsPerMa = 1e6
 // Calibration is a ⁴⁰Ar/³⁹Ar calibration: a total ⁴⁰K decay constant and the age of the neutron-fluence
 // monitor the J values were measured against. Uncertainties are 1σ; a zero σ means the source gives
 // none that this package can use, and contributes nothing to a full external uncertainty.
+//
+// λ and the monitor age are jointly normal with correlation LambdaMonitorCorrelation. A calibration fitted
+// jointly (Renne et al. 2010, 2011: the partial decay constants λε, λβ and the FCs ⁴⁰Ar*/⁴⁰K ratio κ from
+// one optimisation) publishes the covariance of (κ, λε, λβ); an age depends on those three only through
+// λ = λε + λβ and t_s = ln(1 + λκ/λε)/λ, so the first-order reduction of that covariance to (λ, t_s) is all a
+// recalculation needs, and is what is stored. Independent sources (λ from one paper, the monitor age from
+// another) have correlation 0.
 type Calibration struct {
 	Code            string  // short stable key for URLs and storage, e.g. "kuiper08"
 	Name            string  // human label
@@ -22,6 +29,9 @@ type Calibration struct {
 	MonitorName     string  // e.g. "FCs" (Fish Canyon sanidine)
 	MonitorAgeMa    float64 // age of the monitor (Ma)
 	MonitorSigmaMa  float64 // 1σ of MonitorAgeMa (Ma); 0 if not used
+	// LambdaMonitorCorrelation is the correlation coefficient of λ and the monitor age, in [−1, 1];
+	// 0 when they come from independent sources.
+	LambdaMonitorCorrelation float64
 }
 
 // Calibrations returns the calibrations the app offers, as a fresh slice the caller owns, oldest first.
@@ -33,12 +43,26 @@ type Calibration struct {
 //     available (it equals the analytical one).
 //   - "kuiper08": λ of Min et al. (2000) with FCs 28.201 ± 0.046 Ma of Kuiper et al. (2008). The published
 //     ± 0.046 Ma and ± 0.107e-10 a⁻¹ are taken as 2σ (the level is from memory), so 1σ = 0.023 Ma and
-//     0.0535e-10 a⁻¹, as in the propagation check of REFERENCES §3.
-//   - "renne11": Renne et al. (2011) λ and FCs 28.294 ± 0.036 Ma, values from memory; ± 0.036 taken as 1σ
-//     (level from memory). λ σ left 0: Renne et al. fit λ and the FCs age jointly, their errors are
-//     correlated, and adding them as independent terms would overstate the full external σ.
-//   - "renne10": Renne et al. (2010) λ and FCs 28.305 ± 0.036 Ma (published); ± 0.036 taken as 1σ. λ σ
-//     left 0 for the same reason as "renne11".
+//     0.0535e-10 a⁻¹, as in the propagation check of REFERENCES §3. Independent sources: correlation 0.
+//   - "renne10": Renne et al. (2010) λ and FCs 28.305 ± 0.036 Ma with the joint uncertainty of its
+//     optimisation. Published (abstract, GCA 74:5349): κ = (1.6418 ± 0.0045)e-3, λε = (0.5755 ±
+//     0.0016)e-10 a⁻¹, λβ = (4.9737 ± 0.0093)e-10 a⁻¹, cov(κ, λε) = 7.1889e-19, cov(κ, λβ) = −7.1390e-19,
+//     cov(λε, λβ) = −3.4497e-26. Reduced here (first order, renneReduction in the tests):
+//     σ(λ) = √(σε² + σβ² + 2cov(λε, λβ)) = 0.00906e-10 a⁻¹; cov(λ, t_s) = 3.3e-15 to 4.1e-15 Ma·a⁻¹ over
+//     the rounding of the published σ. σ(t_s) is ill-conditioned: κ and λε correlate at 0.998, and the
+//     printed digits give σ(t_s) anywhere from 0.004 to 0.023 Ma, never 0.036 — so the published ± 0.036 Ma
+//     cannot be a 1σ on the same footing as the covariance; it is taken as 2σ (σ(t_s) = 0.018 Ma), which
+//     lies in that range and matches what the K–Pg full uncertainty implies (see "renne11"). Correlation
+//     ρ(λ, t_s) = 4.1e-15/(0.00906e-10 × 0.018) ≈ 0.25 (0.20 at the low end of the rounding).
+//   - "renne11": Renne et al. (2011) λ and FCs 28.294 ± 0.036 Ma, values from memory (REFERENCES §3 [M]).
+//     The revised covariance of that paper was not reachable, so the joint uncertainty is derived: σ(λ) =
+//     0.0132e-10 a⁻¹ from σ(λε) = 0.0016e-10 and σ(λβ) = 0.0134e-10 (Renne et al. 2011, from memory) with
+//     cov(λε, λβ) of Renne et al. (2010); ρ = 0.25 as for "renne10"; and σ(t_s) fitted so that the full
+//     external σ of the K–Pg sanidine age on this calibration, 66.043 ± 0.010 Ma analytical, is the published
+//     ± 0.043 Ma (Sprain et al. 2015, GSAB 127:393; Renne et al. 2013, Science 339:684; both taken as 1σ, the
+//     level from memory): σ(t_s) = 0.0183 Ma, i.e. the published ± 0.036 read as 2σ. Fitting ρ instead
+//     cannot work: at 66 Ma the λ term is 0.0016 Ma, so with σ(t_s) = 0.036 any ρ in [−1, 1] leaves the full
+//     σ between 0.081 and 0.085 Ma.
 func Calibrations() []Calibration {
 	return []Calibration{
 		{
@@ -60,22 +84,32 @@ func Calibrations() []Calibration {
 			MonitorSigmaMa:  0.023,
 		},
 		{
-			Code:           "renne11",
-			Name:           "Renne et al. 2011, FCs 28.294 Ma",
-			Source:         "Renne et al. 2011, GCA 75:5097 (values from memory; λ σ not stored, correlated with the monitor age)",
-			LambdaPerA:     5.5305e-10,
-			MonitorName:    "FCs",
-			MonitorAgeMa:   28.294,
-			MonitorSigmaMa: 0.036,
+			Code: "renne11",
+			Name: "Renne et al. 2011, FCs 28.294 Ma",
+			Source: "Renne et al. 2011, GCA 75:5097 (values from memory). Joint uncertainty derived: σ(λ) from the " +
+				"σ of λε and λβ (from memory) with their covariance in Renne et al. 2010; correlation of λ and the FCs " +
+				"age 0.25 as for Renne et al. 2010; σ of the FCs age fitted so that the K–Pg sanidine age 66.043 ± " +
+				"0.010 Ma has the published full ± 0.043 Ma (Sprain et al. 2015, GSAB 127:393; 1σ, level from memory), " +
+				"i.e. the published ± 0.036 Ma read as 2σ",
+			LambdaPerA:               5.5305e-10,
+			LambdaSigmaPerA:          0.0132e-10,
+			MonitorName:              "FCs",
+			MonitorAgeMa:             28.294,
+			MonitorSigmaMa:           0.0183,
+			LambdaMonitorCorrelation: 0.25,
 		},
 		{
-			Code:           "renne10",
-			Name:           "Renne et al. 2010, FCs 28.305 Ma",
-			Source:         "Renne et al. 2010, GCA 74:5349 (λ σ not stored, correlated with the monitor age)",
-			LambdaPerA:     5.5492e-10,
-			MonitorName:    "FCs",
-			MonitorAgeMa:   28.305,
-			MonitorSigmaMa: 0.036,
+			Code: "renne10",
+			Name: "Renne et al. 2010, FCs 28.305 Ma",
+			Source: "Renne et al. 2010, GCA 74:5349: σ(λ) and the correlation of λ and the FCs age reduced from the " +
+				"published covariance of κ, λε and λβ; the published ± 0.036 Ma of the FCs age read as 2σ (its " +
+				"covariance cannot give a 1σ that large)",
+			LambdaPerA:               5.5492e-10,
+			LambdaSigmaPerA:          0.00906e-10,
+			MonitorName:              "FCs",
+			MonitorAgeMa:             28.305,
+			MonitorSigmaMa:           0.018,
+			LambdaMonitorCorrelation: 0.25,
 		},
 	}
 }
@@ -102,8 +136,22 @@ func (c Calibration) Validate() error {
 		return fmt.Errorf("calibration %q: decay constant σ %g must be finite and ≥ 0", c.Code, c.LambdaSigmaPerA)
 	case !(c.MonitorSigmaMa >= 0) || math.IsInf(c.MonitorSigmaMa, 0):
 		return fmt.Errorf("calibration %q: monitor σ %g must be finite and ≥ 0", c.Code, c.MonitorSigmaMa)
+	case !(c.LambdaMonitorCorrelation >= -1 && c.LambdaMonitorCorrelation <= 1):
+		return fmt.Errorf("calibration %q: correlation of λ and the monitor age %g must be between −1 and 1", c.Code, c.LambdaMonitorCorrelation)
 	}
 	return nil
+}
+
+// Draw turns two independent standard normal deviates into one joint draw of (λ, monitor age) on c,
+// by the Cholesky factor of their covariance: λ = λ̄ + σ_λ·z1, t_s = t̄_s + σ_s·(ρ·z1 + √(1 − ρ²)·z2).
+// With ρ = 0 it is exactly λ̄ + σ_λ·z1 and t̄_s + σ_s·z2, the independent draw. c is not validated here.
+func (c Calibration) Draw(z1, z2 float64) (lambdaPerA, monitorAgeMa float64) {
+	lambdaPerA = c.LambdaPerA + c.LambdaSigmaPerA*z1
+	rho := c.LambdaMonitorCorrelation
+	if rho == 0 {
+		return lambdaPerA, c.MonitorAgeMa + c.MonitorSigmaMa*z2
+	}
+	return lambdaPerA, c.MonitorAgeMa + c.MonitorSigmaMa*(rho*z1+math.Sqrt(1-rho*rho)*z2)
 }
 
 // ArArJ returns the irradiation parameter J = (e^{λ t_s} − 1)/R_s from a monitor of age monitorAgeMa whose
@@ -144,8 +192,8 @@ type Recalculated struct {
 	// AnalyticalSigmaMa is the input analytical σ scaled through ∂t'/∂𝓡: use it to compare with
 	// ⁴⁰Ar/³⁹Ar ages on the same calibration.
 	AnalyticalSigmaMa float64
-	// FullSigmaMa adds in quadrature the monitor-age and decay-constant σ of To: use it to compare with
-	// any other system (Renne et al. 1998; Min et al. 2000).
+	// FullSigmaMa adds the monitor-age and decay-constant terms of To, with their covariance, to the
+	// analytical σ: use it to compare with any other system (Renne et al. 1998; Min et al. 2000).
 	FullSigmaMa float64
 	Ratio       float64 // sample/monitor ratio 𝓡 = J·R/(e^{λ t_s} − 1), invariant across calibrations
 	From, To    string  // calibration codes
@@ -155,7 +203,8 @@ type Recalculated struct {
 // decay-constant uncertainty of from) from one calibration to another and propagates the σ to first
 // order with the partial derivatives of t' = ln(1 + E𝓡)/λ', E = e^{λ' t_s'} − 1, D = 1 + E𝓡:
 // ∂t'/∂𝓡 = E/(λ'D), ∂t'/∂t_s' = 𝓡e^{λ' t_s'}/D, ∂t'/∂λ' = −t'/λ' + 𝓡 t_s' e^{λ' t_s'}/(λ'D).
-// The monitor-age and λ' terms are taken as independent. With from == to it returns the age unchanged
+// The monitor-age and λ' terms are combined with their correlation ρ (To.LambdaMonitorCorrelation):
+// σ² = σ_a² + a² + b² + 2ρab, a = ∂t'/∂t_s'·σ(t_s'), b = ∂t'/∂λ'·σ(λ'). With from == to it returns the age unchanged
 // with its full external σ on that calibration: use it so on a weighted mean of ages already on one
 // calibration, since the systematic terms are shared and belong after averaging. It returns an error
 // for an invalid calibration, a non-finite or negative age, or a non-finite or negative σ.
@@ -180,7 +229,13 @@ func Recalculate(ageMa, sigmaMa float64, from, to Calibration) (Recalculated, er
 	dtdL := -t/l + r*ts*ets/(l*d)
 
 	analytical := math.Abs(dtdR) * sigmaR / yearsPerMa
-	full := Quadrature(analytical, dtdTs*to.MonitorSigmaMa, dtdL*to.LambdaSigmaPerA/yearsPerMa)
+	a := dtdTs * to.MonitorSigmaMa              // Ma
+	b := dtdL * to.LambdaSigmaPerA / yearsPerMa // Ma
+	full := Quadrature(analytical, a, b)
+	if rho := to.LambdaMonitorCorrelation; rho != 0 {
+		// a² + b² + 2ρab ≥ (1 − |ρ|)(a² + b²) ≥ 0, so the root is real.
+		full = math.Sqrt(analytical*analytical + a*a + b*b + 2*rho*a*b)
+	}
 	return Recalculated{
 		AgeMa:             t / yearsPerMa,
 		AnalyticalSigmaMa: analytical,
@@ -212,7 +267,7 @@ func checkRecalcInput(ageMa, sigmaMa float64, from, to Calibration) error {
 type RecalculatedMC struct {
 	MeanAgeMa         float64
 	AnalyticalSigmaMa float64 // sd of t' when only the input age is drawn
-	FullSigmaMa       float64 // sd of t' when the input age, the monitor age and λ' are drawn
+	FullSigmaMa       float64 // sd of t' when the input age and, jointly, the monitor age and λ' are drawn
 	// MeanSEMa is the standard error of MeanAgeMa, FullSigmaMa/sqrt(N).
 	MeanSEMa float64
 	// SigmaSEMa is the standard error of FullSigmaMa for normal draws, sd/sqrt(2(N−1)) (that of
@@ -223,8 +278,9 @@ type RecalculatedMC struct {
 	From, To  string
 }
 
-// RecalculateMC propagates the same uncertainties as Recalculate by drawing n times, independently and
-// normally, the input age (analytical σ), the monitor age of to and its λ, and evaluating the exact
+// RecalculateMC propagates the same uncertainties as Recalculate by drawing n times, normally, the input
+// age (analytical σ) and, jointly with their correlation (Calibration.Draw), λ and the monitor age of to,
+// and evaluating the exact
 // recalculation on each draw. It exists to check the first-order propagation of Recalculate. The draws
 // come from math/rand/v2's PCG seeded with (seed, 0); the seed is recorded in the result. It returns an error for n < 2 or
 // for the inputs Recalculate rejects.
@@ -240,9 +296,9 @@ func RecalculateMC(ageMa, sigmaMa float64, from, to Calibration, n int, seed uin
 	for i := 0; i < n; i++ {
 		r := arArRatio(ageMa+sigmaMa*rng.NormFloat64(), from)
 		ana := ageFromRatio(r, to.LambdaPerA, to.MonitorAgeMa)
-		full := ageFromRatio(r,
-			to.LambdaPerA+to.LambdaSigmaPerA*rng.NormFloat64(),
-			to.MonitorAgeMa+to.MonitorSigmaMa*rng.NormFloat64())
+		z1 := rng.NormFloat64()
+		lam, mon := to.Draw(z1, rng.NormFloat64())
+		full := ageFromRatio(r, lam, mon)
 		k := float64(i + 1)
 		d := ana - anaMean
 		anaMean += d / k

@@ -477,8 +477,8 @@ func DrawJoint(qs []Quantity, opt DrawOptions) (*JointDraws, error) {
 		if s.cal != nil {
 			kk.lam, kk.mon = make([]float64, n), make([]float64, n)
 			for d := range n {
-				kk.lam[d] = s.cal.LambdaPerA + s.cal.LambdaSigmaPerA*r.NormFloat64()
-				kk.mon[d] = s.cal.MonitorAgeMa + s.cal.MonitorSigmaMa*r.NormFloat64()
+				z1 := r.NormFloat64()
+				kk.lam[d], kk.mon[d] = s.cal.Draw(z1, r.NormFloat64())
 			}
 		} else {
 			kk.dev = make([]float64, n)

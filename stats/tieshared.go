@@ -43,8 +43,8 @@ func (c SharedComponent) shifts(n int, seed uint64) ([]func(float64) float64, er
 		from := *c.Cal
 		for d := range out {
 			to := from
-			to.LambdaPerA = from.LambdaPerA + from.LambdaSigmaPerA*r.NormFloat64()
-			to.MonitorAgeMa = from.MonitorAgeMa + from.MonitorSigmaMa*r.NormFloat64()
+			z1 := r.NormFloat64()
+			to.LambdaPerA, to.MonitorAgeMa = from.Draw(z1, r.NormFloat64())
 			out[d] = func(a float64) float64 { return RecalculateAgeMa(a, from, to) }
 		}
 	case c.Kind == SystematicRelative || c.Kind == SystematicDecayConstant:

@@ -228,11 +228,11 @@ func (d *DB) Materials(ctx context.Context) ([]string, error) {
 // Calibrations returns the ⁴⁰Ar/³⁹Ar calibrations, the target first.
 func (d *DB) Calibrations(ctx context.Context) ([]Calibration, error) {
 	return queryAll(ctx, d.db, `SELECT id, code, name, lambda_per_a, lambda_sigma_per_a, monitor, monitor_age_ma,
-		monitor_sigma_ma, source, is_target FROM calibrations ORDER BY is_target DESC, id`, nil,
+		monitor_sigma_ma, lambda_monitor_correlation, source, is_target FROM calibrations ORDER BY is_target DESC, id`, nil,
 		func(s interface{ Scan(...any) error }) (Calibration, error) {
 			var c Calibration
 			err := s.Scan(&c.ID, &c.Code, &c.Name, &c.LambdaPerA, &c.LambdaSigmaPerA, &c.Monitor, &c.MonitorAgeMa,
-				&c.MonitorSigmaMa, &c.Source, &c.IsTarget)
+				&c.MonitorSigmaMa, &c.LambdaMonitorCorrelation, &c.Source, &c.IsTarget)
 			return c, err
 		})
 }

@@ -80,8 +80,10 @@ type Calibration struct {
 	Monitor         string   `json:"monitor"`
 	MonitorAgeMa    float64  `json:"monitor_age_ma"`
 	MonitorSigmaMa  *float64 `json:"monitor_sigma_ma_1s"`
-	Source          string   `json:"source"`
-	IsTarget        bool     `json:"is_target"`
+	// LambdaMonitorCorrelation is the correlation of λ and the monitor age (0 for independent sources).
+	LambdaMonitorCorrelation float64 `json:"lambda_monitor_correlation"`
+	Source                   string  `json:"source"`
+	IsTarget                 bool    `json:"is_target"`
 }
 
 // Section is an outcrop or core.

@@ -509,7 +509,7 @@ func edgeSystematics(sums []unitSummary, res densityResult, dc densityChoice) (f
 	case "⁴⁰Ar/³⁹Ar":
 		cal := dc.Sum.Cal.Stats
 		apply = func(q stats.Quantity) stats.Quantity { q.ArAr = &cal; return q }
-		note = "pulse edges carry the ⁴⁰Ar/³⁹Ar calibration " + cal.Name + " (monitor age and λ drawn once per draw)"
+		note = "pulse edges carry the ⁴⁰Ar/³⁹Ar calibration " + cal.Name + " " + calDrawn(cal, "draw")
 	default:
 		apply = func(q stats.Quantity) stats.Quantity { return q }
 		note = "pulse edges carry no systematic component (no U–Pb or ⁴⁰Ar/³⁹Ar value counted)"
@@ -622,7 +622,7 @@ func unitRowInputs(sums []unitSummary, dc densityChoice) ([]compareUnitRow, []st
 		r.How = unitMeanHow(us, sys, dc)
 		switch {
 		case q.ArAr != nil:
-			r.Syst = "the ⁴⁰Ar/³⁹Ar calibration " + q.ArAr.Name + " (monitor age and λ drawn once per joint draw)"
+			r.Syst = "the ⁴⁰Ar/³⁹Ar calibration " + q.ArAr.Name + " " + calDrawn(*q.ArAr, "joint draw")
 		case len(q.Systematics) > 0:
 			r.Syst = "λ238"
 			if tracer != "" {

@@ -13,7 +13,7 @@ import (
 // becomes 0, which stats reads as "contributes no systematic term".
 func statsCalibration(c store.Calibration) stats.Calibration {
 	sc := stats.Calibration{Code: c.Code, Name: c.Name, Source: c.Source, LambdaPerA: c.LambdaPerA,
-		MonitorName: c.Monitor, MonitorAgeMa: c.MonitorAgeMa}
+		MonitorName: c.Monitor, MonitorAgeMa: c.MonitorAgeMa, LambdaMonitorCorrelation: c.LambdaMonitorCorrelation}
 	if c.LambdaSigmaPerA != nil {
 		sc.LambdaSigmaPerA = *c.LambdaSigmaPerA
 	}
@@ -115,11 +115,34 @@ func missingSystematics(c stats.Calibration) string {
 	case c.MonitorSigmaMa == 0 && c.LambdaSigmaPerA == 0:
 		return "this calibration stores no σ for its monitor age or decay constant, so its full external ± equals the analytical one"
 	case c.LambdaSigmaPerA == 0:
-		return "this calibration stores no σ for its decay constant (correlated with the monitor age in its source), so the full external ± holds the monitor-age term only"
+		return "this calibration stores no σ for its decay constant, so the full external ± holds the monitor-age term only"
 	case c.MonitorSigmaMa == 0:
 		return "this calibration stores no σ for its monitor age, so the full external ± holds the decay-constant term only"
 	}
 	return ""
+}
+
+// correlated reports whether a calibration's monitor age and decay constant both have a σ and are
+// correlated in its source (Renne et al. 2010, 2011), so that their covariance enters the full external σ.
+func correlated(c stats.Calibration) bool {
+	return c.LambdaMonitorCorrelation != 0 && c.MonitorSigmaMa > 0 && c.LambdaSigmaPerA > 0
+}
+
+// calTerms names the systematic terms of a calibration for a level's label: "monitor age and λ", with
+// their covariance when the source gives a correlation.
+func calTerms(c stats.Calibration) string {
+	if correlated(c) {
+		return fmt.Sprintf("monitor age and λ, with their covariance (correlation %.2f)", c.LambdaMonitorCorrelation)
+	}
+	return "monitor age and λ"
+}
+
+// calDrawn says how the comparison draws a calibration's terms.
+func calDrawn(c stats.Calibration, per string) string {
+	if correlated(c) {
+		return fmt.Sprintf("(monitor age and λ drawn together, with their correlation %.2f, once per %s)", c.LambdaMonitorCorrelation, per)
+	}
+	return "(monitor age and λ drawn once per " + per + ")"
 }
 
 // recalcGroup is the date page's account of an ⁴⁰Ar/³⁹Ar date on the view's calibration.
@@ -132,9 +155,14 @@ func recalcGroup(d store.Date, cal calChoice, level int) views.FieldGroup {
 		return g
 	}
 	_, full := ageSigma(rc.AgeMa, rc.FullSigmaMa, level)
+	terms := "with the calibration's monitor-age and decay-constant terms"
+	if correlated(cal.Stats) {
+		terms = fmt.Sprintf("with the calibration's monitor-age and decay-constant terms and their covariance (correlation %.2f, from its source)",
+			cal.Stats.LambdaMonitorCorrelation)
+	}
 	g.Fields = []views.KV{
 		{Label: "Recalculated age", Value: plusMinus(rc.AgeMa, rc.AnalyticalSigmaMa, level) + " Ma, analytical"},
-		{Label: "± full external", Value: fmt.Sprintf("%s Ma (%dσ, with the calibration's monitor-age and decay-constant terms)", full, level)},
+		{Label: "± full external", Value: fmt.Sprintf("%s Ma (%dσ, %s)", full, level, terms)},
 		calKV,
 		{Label: "How", Value: "exact relation keeping the sample/monitor ratio (never linear scaling); σ by first-order propagation"},
 		{Label: "Use", Value: "analytical ± against ⁴⁰Ar/³⁹Ar ages on the same calibration; full external ± against any other system"},

@@ -45,7 +45,7 @@ func tieLevelLabel(level string) string {
 	case "tracer":
 		return "with tracer (X, and the tracer drawn once per draw for every tie on it)"
 	}
-	return "full external (X, and the tracer, λ238 and ⁴⁰Ar/³⁹Ar calibration each drawn once per draw for every tie that carries it)"
+	return "full external (X, and the tracer, λ238 and ⁴⁰Ar/³⁹Ar calibration — monitor age and λ with their covariance — each drawn once per draw for every tie that carries it)"
 }
 
 // tieComponentsAt returns the components a tie applies at a level: none at analytical, its tracer at

@@ -457,7 +457,7 @@ func levelLabel(key string, ch summaryChoice) (string, bool) {
 		case stats.WithTracer:
 			return "analytical (⁴⁰Ar/³⁹Ar has no tracer term)", true
 		case stats.FullExternal:
-			l := "full external (⊕ monitor age and λ)"
+			l := "full external (⊕ " + calTerms(ch.Cal.Stats) + ")"
 			if m := missingSystematics(ch.Cal.Stats); m != "" {
 				return l + "; " + m, true
 			}

@@ -151,7 +151,7 @@ func summaryTable(sums []unitSummary, ch summaryChoice) views.Table {
 		}
 	}
 	t.Notes = []string{summaryIntro(ch),
-		"U–Pb Y and Z: the tracer term of each unit is the one its dates' published X and Y imply (0.03 % at 2σ assumed where they publish no Y); the λ238 term is 0.107 % (2σ, Jaffey et al. 1971). ⁴⁰Ar/³⁹Ar full external: the monitor-age and λ σ of the calibration, added to the mean.",
+		"U–Pb Y and Z: the tracer term of each unit is the one its dates' published X and Y imply (0.03 % at 2σ assumed where they publish no Y); the λ238 term is 0.107 % (2σ, Jaffey et al. 1971). ⁴⁰Ar/³⁹Ar full external: the monitor-age and λ σ of the calibration, with their covariance where its source fits them jointly, added to the mean.",
 		"MSWD outside the Wendt & Carl range, a unit mixing decay systems, ⁴⁰Ar/³⁹Ar dates not recalculable and a single date are marked ⚠ in the row."}
 	return t
 }
