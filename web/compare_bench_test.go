@@ -6,6 +6,7 @@ import (
 	"net/http"
 	"net/http/httptest"
 	"testing"
+	"time"
 )
 
 // The demo comparison page (2 pulses × 10 events, 10,000 joint draws, sensitivity over 7 alternatives;
@@ -23,9 +24,12 @@ func BenchmarkComparePage(b *testing.B) {
 		}
 	}
 	b.Run("cold", func(b *testing.B) {
+		cpu0, n := processCPU(), 0
 		for b.Loop() {
 			serve(&comparer{Server: s, cache: newCompareCache(4)}, "/compare")
+			n++
 		}
+		b.ReportMetric(float64(processCPU()-cpu0)/float64(time.Millisecond)/float64(n), "cpu-ms/op")
 	})
 	b.Run("cold-nosens", func(b *testing.B) {
 		for b.Loop() {

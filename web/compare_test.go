@@ -626,3 +626,65 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 		}
 	}
 }
+
+// An event with an extent is compared at a named point: its base (onset, the default), its peak or its top.
+// Below is older (superposition, common practice): a detected anomaly's age at its base is older than at
+// its peak, and that older than at its top; each download says which point its rows compare, and an
+// entered event, which records no peak, says that it is compared at its base.
+func TestCompareEventPoint(t *testing.T) {
+	db := mustDemoDB(t)
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
+	ctx := context.Background()
+	run := func(point string) *compareResult {
+		t.Helper()
+		r := httptest.NewRequest(http.MethodGet, "/compare?sens=0&n=2000&reps=100&draws=500&anomalies=1&point="+point, nil)
+		p := newParams(r)
+		ch, err := c.compareChoiceFrom(ctx, p)
+		if err != nil || p.err() != nil {
+			t.Fatal(err, p.err())
+		}
+		d, err := c.loadCompareData(ctx, &ch)
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := computeComparison(d, ch, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	ages := map[string]map[string]float64{}
+	for _, point := range []string{"base", "peak", "top"} {
+		res := run(point)
+		for _, e := range res.In.Events {
+			if ages[e.Code] == nil {
+				ages[e.Code] = map[string]float64{}
+			}
+			ages[e.Code][point] = e.Summary.Median
+			switch {
+			case strings.HasPrefix(e.Code, "A") && e.Point != "height" && !strings.HasPrefix(e.Point, point):
+				t.Errorf("point=%s: anomaly %s is compared at %q", point, e.Code, e.Point)
+			case point == "peak" && strings.HasPrefix(e.Code, "E") && e.Point != "height" && !strings.Contains(e.Point, "no peak height is recorded"):
+				t.Errorf("point=peak: entered event %s (%s) says %q, not that it records no peak", e.Code, e.Name, e.Point)
+			}
+		}
+		for _, rec := range compareRecords(res) {
+			if got := rec[len(rec)-1]; got == "" || got == "—" {
+				t.Errorf("point=%s: a download row without its event point: %v", point, rec[:4])
+			}
+		}
+	}
+	n := 0
+	for code, a := range ages {
+		if !strings.HasPrefix(code, "A") || a["base"] == a["top"] {
+			continue
+		}
+		n++
+		if !(a["base"] >= a["peak"] && a["peak"] >= a["top"] && a["base"] > a["top"]) {
+			t.Errorf("anomaly %s: median ages base %.4f, peak %.4f, top %.4f Ma: want older below", code, a["base"], a["peak"], a["top"])
+		}
+	}
+	if n == 0 {
+		t.Fatal("no detected anomaly with an extent in the demo")
+	}
+}
