@@ -579,8 +579,8 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 	}
 	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
 	if ch.unitRows() {
-		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
-			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule))
+		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s against the %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
+			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule, mswdRangeName(ch.Dens.Sum.Range)))
 	}
 	if res.Sens != nil {
 		t.Notes = append(t.Notes, "Sensitivity sets: "+strings.Join(res.Sens.Sets, ", ")+". Same seed and draws in every set, so the differences come from the inputs.")
