@@ -311,7 +311,8 @@ type JointDraws struct {
 	Keys []string
 	// MinSamples is the smallest number of rows of any sampled quantity (0 if none). When it is below N
 	// the draws resample those rows, and a probability cannot be known better than the rows allow,
-	// whatever N: its Monte Carlo SE is then at least about sqrt(p(1 − p)/MinSamples).
+	// whatever N: the SE of every Probability counts the rows of the sampled quantities it is read from
+	// (see Probability).
 	MinSamples int
 
 	qs   []jdQuantity
@@ -337,6 +338,10 @@ type jdVolumeKey struct {
 type jdQuantity struct {
 	base []float64 // the random part, N draws
 	keys []int     // indices into JointDraws.keys, ascending
+	// nrows is the number of rows of a sampled quantity (0 otherwise), and rowsOf the stream its rows
+	// are chosen from: quantities with the same rowsOf (one group) share their rows. effectiveN reads them.
+	nrows  int
+	rowsOf string
 }
 
 type jdKey struct {
@@ -507,6 +512,7 @@ func DrawJoint(qs []Quantity, opt DrawOptions) (*JointDraws, error) {
 			for d, row := range groupRows(name, len(q.SamplesMa)) {
 				jq.base[d] = q.SamplesMa[row]
 			}
+			jq.nrows, jq.rowsOf = len(q.SamplesMa), name
 		}
 		if q.ArAr != nil {
 			jq.keys = append(jq.keys, keyIndex[ArArCalibrationKey(*q.ArAr)])

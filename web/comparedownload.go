@@ -143,6 +143,7 @@ func compareSettings(res *compareResult) [][2]string {
 		{"correlated groups", strings.Join(ch.Groups, ", ")},
 		{"shared systematic keys", strings.Join(res.Keys, ", ")},
 		{"sensitivity sets", sensSets(res)},
+		{"Monte Carlo SE", seRuleText},
 		{"data stamp", strconv.FormatInt(res.Stamp, 10)},
 	}
 	if d.BWEach {

@@ -152,6 +152,9 @@ func levelHelp() []views.KV {
 	}
 }
 
+// seRuleText says how the Monte Carlo SE of every probability of a comparison is made (stats.Probability).
+const seRuleText = "± is the Monte Carlo standard error sqrt(P(1 − P)/Neff), Neff the effective number of independent draws: 1/Neff = 1/N + 1/M for each input given by only M draws that are resampled (a pulse's bootstrap replicates, an age model's draws), so an input's own draws count, not N alone. It is an upper bound, close when such an input decides the outcome."
+
 // probText formats a probability with its Monte Carlo SE; 0 and 1 read as below 3/N and above 1 − 3/N.
 func probText(p stats.Probability, n int) string {
 	switch {
@@ -444,7 +447,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	}
 	v.Cautions = append(v.Cautions, res.Cautions...)
 	if res.MinSamples > 0 && res.MinSamples < ch.N {
-		v.Cautions = append(v.Cautions, fmt.Sprintf("Some inputs are given by only %d draws (bootstrap replicates or age-model draws) and are resampled to %d: a probability cannot be known better than about ±sqrt(P(1 − P)/%d), whatever N.", res.MinSamples, ch.N, res.MinSamples))
+		v.Cautions = append(v.Cautions, fmt.Sprintf("Some inputs are given by only %d draws (bootstrap replicates or age-model draws) and are resampled to %d: a probability cannot be known better than about ±sqrt(P(1 − P)/%d), whatever N. Every ± on this page and in the downloads counts those draws.", res.MinSamples, ch.N, res.MinSamples))
 	}
 	if res.Density.Bandwidth.Note != "" {
 		v.Cautions = append(v.Cautions, "Bandwidth: "+res.Density.Bandwidth.Note)
@@ -577,7 +580,7 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
 		t.Rows = append(t.Rows, cells)
 	}
-	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
+	t.Notes = append(t.Notes, fmt.Sprintf(seRuleText+" “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
 	if ch.unitRows() {
 		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s against the %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
 			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule, mswdRangeName(ch.Dens.Sum.Range)))
