@@ -21,12 +21,14 @@ import (
 type Probability struct {
 	P  float64
 	SE float64
+	// NEff is the effective number of independent draws the SE is from (N without sampled inputs).
+	NEff float64
 }
 
 // newProbability is count of n draws with the SE of neff effective draws.
 func newProbability(count, n int, neff float64) Probability {
 	p := float64(count) / float64(n)
-	return Probability{P: p, SE: math.Sqrt(p * (1 - p) / neff)}
+	return Probability{P: p, SE: math.Sqrt(p * (1 - p) / neff), NEff: neff}
 }
 
 // effectiveN is the effective number of independent draws behind a probability read from the draws of

@@ -135,8 +135,8 @@ func TestProbabilitySEWithoutSampledInputs(t *testing.T) {
 	binom := func(p float64) float64 { return math.Sqrt(p * (1 - p) / n) }
 	check := func(what string, p Probability) {
 		t.Helper()
-		if p.SE != binom(p.P) {
-			t.Errorf("%s: SE %g, want sqrt(P(1 − P)/N) = %g", what, p.SE, binom(p.P))
+		if p.SE != binom(p.P) || p.NEff != n {
+			t.Errorf("%s: SE %g from %g effective draws, want sqrt(P(1 − P)/N) = %g from N", what, p.SE, p.NEff, binom(p.P))
 		}
 	}
 	c, _ := j.ComparePair(3, 2, PairOptions{DeltaMa: 0.05})
@@ -155,7 +155,7 @@ func TestProbabilitySEWithoutSampledInputs(t *testing.T) {
 	for i := range o.P {
 		for k := range o.P {
 			if i != k {
-				check("order", Probability{P: o.P[i][k], SE: o.SE[i][k]})
+				check("order", Probability{P: o.P[i][k], SE: o.SE[i][k], NEff: n})
 			}
 		}
 	}
@@ -189,6 +189,9 @@ func TestEffectiveNCountsEachSampleOnce(t *testing.T) {
 	o, _ := j.Order([]int{0, 2, 3})
 	if p := o.P[0][1]; math.Abs(o.SE[0][1]-math.Sqrt(p*(1-p)*(1./2000+1./100+1./400))) > 1e-15 {
 		t.Errorf("order SE %g for P %g", o.SE[0][1], p)
+	}
+	if c, _ := j.ComparePair(0, 2, PairOptions{}); math.Abs(c.Older.NEff-1/(1./2000+1./100+1./400)) > 1e-9 {
+		t.Errorf("pair NEff %g", c.Older.NEff)
 	}
 	vf, _ := j.VolumeFractionBefore([]int{0, 3}, []Volume{{1, 0}, {1, 0}}, 2)
 	if p := vf.Majority.P; math.Abs(vf.Majority.SE-math.Sqrt(p*(1-p)*(1./2000+1./100+1./400))) > 1e-15 {

@@ -49,21 +49,21 @@ func TestCompareDownloadSECountsTheInputDraws(t *testing.T) {
 	if checked < 10 {
 		t.Fatalf("only %d probabilities strictly between 0 and 1 checked", checked)
 	}
+	// The page's account of each row says how many effective draws its SE rests on.
+	if _, _, page := get(t, srv, q); !strings.Contains(page, "effective draws of the N = 20000 joint draws: 1/Neff = 1/N + 1/M") {
+		t.Error("the page's account of a row does not say how its SE is made")
+	}
 	_, _, js := get(t, srv, q+"&format=json")
 	var doc struct {
-		Rows []map[string]any `json:"rows"`
+		Rows []map[string]string `json:"rows"`
 	}
 	if err := json.Unmarshal([]byte(js), &doc); err != nil || len(doc.Rows) != len(recs)-1 {
 		t.Fatalf("JSON rows %d, CSV rows %d, %v", len(doc.Rows), len(recs)-1, err)
 	}
 	for i, row := range doc.Rows {
 		for _, name := range []string{"p_after_onset_se", "p_within_se", "p_near_se", "p_volume_majority_se"} {
-			v, ok := row[name].(float64)
-			if !ok {
-				continue
-			}
-			if c := num(recs[i+1], name); math.Abs(v-c) > 1e-12*math.Max(1, c) {
-				t.Errorf("row %d: JSON %s %g, CSV %g", i, name, v, c)
+			if v, c := row[name], recs[i+1][col[name]]; v != c {
+				t.Errorf("row %d: JSON %s %q, CSV %q", i, name, v, c)
 			}
 		}
 	}
