@@ -11,18 +11,47 @@ import (
 // relations, the volume fraction, the order matrix and the sensitivity of all of them to the inputs.
 // Ages are in Ma, older = larger; "A older than B" means A > B.
 
-// Probability is a Monte Carlo estimate of a probability with its standard error sqrt(P(1 − P)/N),
-// N the number of joint draws. The SE is the error of drawing, not of the inputs; see
-// JointDraws.MinSamples for sampled inputs. P = 0 or 1 has SE 0: read it as "below about 3/N" or
-// "above about 1 − 3/N" (the rule of three), not as certainty.
+// Probability is a Monte Carlo estimate of a probability with its standard error sqrt(P(1 − P)/Neff),
+// Neff the effective number of independent draws behind it (effectiveN): 1/Neff = 1/N + Σ 1/M over
+// the sampled inputs it is read from, M the rows of each (age-model draws, bootstrap replicates) —
+// rows resampled to N draws are no more than M independent values. Without a sampled input Neff = N and
+// the SE is the binomial sqrt(P(1 − P)/N). It is the error of drawing, the rows' included, not of the
+// inputs themselves. P = 0 or 1 has SE 0: read it as "below about 3/N" or "above about 1 − 3/N" (the
+// rule of three), not as certainty.
 type Probability struct {
 	P  float64
 	SE float64
+	// NEff is the effective number of independent draws the SE is from (N without sampled inputs).
+	NEff float64
 }
 
-func newProbability(count, n int) Probability {
+// newProbability is count of n draws with the SE of neff effective draws.
+func newProbability(count, n int, neff float64) Probability {
 	p := float64(count) / float64(n)
-	return Probability{P: p, SE: math.Sqrt(p * (1 - p) / float64(n))}
+	return Probability{P: p, SE: math.Sqrt(p * (1 - p) / neff), NEff: neff}
+}
+
+// effectiveN is the effective number of independent draws behind a probability read from the draws of
+// quantities qs: 1/Neff = 1/N + Σ_s 1/M_s over the distinct row streams s among qs (a sample group, or a
+// sampled quantity of its own), M_s its rows. Why: the estimate P̂ is a mean of N indicators whose rows
+// are drawn from M_s fixed rows, which are themselves one sample of the input. Conditional on the rows,
+// Var P̂ = P_M(1 − P_M)/N; over the rows, P_M = E[1 | rows] varies by Var(g)/M for one input, g(row) the
+// chance of the event given the row, and Var(g) ≤ P(1 − P) since 0 ≤ g ≤ 1 (for several independent
+// inputs the first-order terms add and their variances sum to at most P(1 − P)). So
+// SE² = P(1 − P)(1/N + Σ 1/M_s) is an upper bound, reached when the row decides the outcome (the other
+// inputs narrow next to the sampled one), and close when M ≪ N is the larger term.
+func (j *JointDraws) effectiveN(qs ...int) float64 {
+	inv := 1 / float64(j.N)
+	var seen []string
+	for _, q := range qs {
+		jq := j.qs[q]
+		if jq.nrows == 0 || slices.Contains(seen, jq.rowsOf) {
+			continue
+		}
+		seen = append(seen, jq.rowsOf)
+		inv += 1 / float64(jq.nrows)
+	}
+	return 1 / inv
 }
 
 // PairOptions configures ComparePair, CompareInterval and Table.
@@ -95,8 +124,9 @@ func (j *JointDraws) comparePair(a, b int, opt PairOptions, lag []float64) PairC
 			near++
 		}
 	}
-	r := PairComparison{A: j.Names[a], B: j.Names[b], Older: newProbability(older, j.N),
-		Near: newProbability(near, j.N), DeltaMa: opt.DeltaMa, LagMa: summarizeDraws(lag), OVL: math.NaN(),
+	neff := j.effectiveN(a, b)
+	r := PairComparison{A: j.Names[a], B: j.Names[b], Older: newProbability(older, j.N, neff),
+		Near: newProbability(near, j.N, neff), DeltaMa: opt.DeltaMa, LagMa: summarizeDraws(lag), OVL: math.NaN(),
 		N: j.N, Seed: j.Seed, Level: j.Level}
 	if opt.Overlap {
 		r.OVL = cpOverlap(va, vb)
@@ -168,7 +198,8 @@ func (j *JointDraws) compareInterval(onset, end, event int, opt PairOptions, lag
 		}
 	}
 	r := IntervalComparison{Interval: j.Names[onset], Event: j.Names[event],
-		AfterOnset: newProbability(after, j.N), Within: newProbability(within, j.N), Near: newProbability(near, j.N),
+		AfterOnset: newProbability(after, j.N, j.effectiveN(onset, event)), Within: newProbability(within, j.N, j.effectiveN(onset, end, event)),
+		Near:    newProbability(near, j.N, j.effectiveN(onset, event)),
 		DeltaMa: opt.DeltaMa, LagMa: summarizeDraws(lag), OVL: math.NaN(), N: j.N, Seed: j.Seed, Level: j.Level}
 	if opt.Overlap {
 		r.OVL = cpOverlap(vs, xs)
@@ -247,7 +278,7 @@ func (j *JointDraws) VolumeFractionBefore(units []int, volumes []Volume, event i
 		}
 	}
 	return VolumeFraction{Event: j.Names[event], Fraction: summarizeDraws(frac), Mean: sum / float64(j.N),
-		Majority: newProbability(most, j.N), N: j.N, Seed: j.Seed, Level: j.Level}, nil
+		Majority: newProbability(most, j.N, j.effectiveN(append(slices.Clone(units), event)...)), N: j.N, Seed: j.Seed, Level: j.Level}, nil
 }
 
 // volumeDraws returns the N draws of the volume of unit u (its quantity index): N(Km3, SigmaKm3²)
@@ -278,7 +309,8 @@ func (j *JointDraws) volumeDraws(u int, v Volume) []float64 {
 // OrderMatrix holds P(row older than column) for a set of quantities.
 type OrderMatrix struct {
 	Names []string
-	// P[i][k] is P(item i older than item k), SE[i][k] its Monte Carlo SE; the diagonal is NaN.
+	// P[i][k] is P(item i older than item k), SE[i][k] its Monte Carlo SE (as Probability's); the
+	// diagonal is NaN.
 	// P[i][k] + P[k][i] = 1 unless the two can be equal in a draw (shared samples).
 	P, SE [][]float64
 	N     int
@@ -312,7 +344,8 @@ func (j *JointDraws) Order(items []int) (OrderMatrix, error) {
 					younger++
 				}
 			}
-			p, q := newProbability(older, j.N), newProbability(younger, j.N)
+			neff := j.effectiveN(items[i], items[k])
+			p, q := newProbability(older, j.N, neff), newProbability(younger, j.N, neff)
 			o.P[i][k], o.SE[i][k] = p.P, p.SE
 			o.P[k][i], o.SE[k][i] = q.P, q.SE
 		}

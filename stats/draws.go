@@ -318,7 +318,8 @@ type JointDraws struct {
 	Keys []string
 	// MinSamples is the smallest number of rows of any sampled quantity (0 if none). When it is below N
 	// the draws resample those rows, and a probability cannot be known better than the rows allow,
-	// whatever N: its Monte Carlo SE is then at least about sqrt(p(1 − p)/MinSamples).
+	// whatever N: the SE of every Probability counts the rows of the sampled quantities it is read from
+	// (see Probability).
 	MinSamples int
 
 	qs   []jdQuantity
@@ -346,6 +347,10 @@ type jdQuantity struct {
 	keys  []int       // indices into JointDraws.keys, ascending
 	share [][]float64 // per entry of keys: nil (the whole age), one value, or one per sample row
 	rows  []int32     // the sample row of every draw, for per-row shares
+	// nrows is the number of rows of a sampled quantity (0 otherwise), and rowsOf the stream its rows
+	// are chosen from: quantities with the same rowsOf (one group) share their rows. effectiveN reads them.
+	nrows  int
+	rowsOf string
 }
 
 // shareAt is the share of component b (an index into keys) in draw d.
@@ -527,6 +532,7 @@ func DrawJoint(qs []Quantity, opt DrawOptions) (*JointDraws, error) {
 				jq.base[d] = q.SamplesMa[row]
 			}
 			jq.rows = rs
+			jq.nrows, jq.rowsOf = len(q.SamplesMa), name
 		}
 		if q.ArAr != nil {
 			jq.keys = append(jq.keys, keyIndex[ArArCalibrationKey(*q.ArAr)])

@@ -39,7 +39,7 @@ type RejectionStep struct {
 	Index    int     // index in the input of the date removed
 	Residual float64 // its weighted residual in that set
 	MSWD     float64 // MSWD of the set before removal
-	MSWDHigh float64 // Wendt & Carl upper limit of that set, which MSWD exceeded
+	MSWDHigh float64 // upper limit of that set's MSWD range (the rule's), which MSWD exceeded
 }
 
 // IterativeResult is the outcome of IterativeRejection.
@@ -50,10 +50,11 @@ type IterativeResult struct {
 }
 
 // IterativeRejection removes, one at a time, the date with the largest |weighted residual| while the MSWD of
-// the remaining set exceeds its Wendt & Carl upper limit 1 + 2·sqrt(2/f). It stops when the MSWD is
-// acceptable or when two dates remain (two dates that disagree do not say which is wrong). Ties go to
-// the lower index. It needs at least two values and returns the errors of WeightedMean otherwise.
-func IterativeRejection(values, sigmas1s []float64) (IterativeResult, error) {
+// the remaining set exceeds the upper limit of its acceptable range under rule (MSWDRange: the 97.5 %
+// quantile of χ²_f/f, or Wendt & Carl's 1 + 2·sqrt(2/f)). It stops when the MSWD is acceptable or when
+// two dates remain (two dates that disagree do not say which is wrong). Ties go to the lower index. It
+// needs at least two values and returns the errors of WeightedMean otherwise.
+func IterativeRejection(values, sigmas1s []float64, rule MSWDRangeRule) (IterativeResult, error) {
 	if err := checkDates(values, sigmas1s); err != nil {
 		return IterativeResult{}, fmt.Errorf("iterative rejection: %w", err)
 	}
@@ -71,7 +72,7 @@ func IterativeRejection(values, sigmas1s []float64) (IterativeResult, error) {
 		for _, i := range kept {
 			xs, ss = append(xs, values[i]), append(ss, sigmas1s[i])
 		}
-		m, err := WeightedMean(xs, ss, WeightedMeanOptions{})
+		m, err := WeightedMean(xs, ss, WeightedMeanOptions{Range: rule})
 		if err != nil {
 			return IterativeResult{}, fmt.Errorf("iterative rejection: %w", err)
 		}
@@ -226,7 +227,7 @@ type OutlierRule int
 // Rules. The zero value, RuleNone, flags nothing.
 const (
 	RuleNone      OutlierRule = iota // flag nothing
-	RuleMSWD                         // IterativeRejection: weighted, against the Wendt & Carl limit
+	RuleMSWD                         // IterativeRejection: weighted, against the upper limit of the MSWD range
 	RuleChauvenet                    // Chauvenet: unweighted, one pass
 	RuleGESD                         // GeneralizedESD: unweighted, Rosner 1983
 )
@@ -273,6 +274,8 @@ type OutlierOptions struct {
 	Alpha float64
 	// Policy is the overdispersion policy of both weighted means in the report.
 	Policy Policy
+	// Range is the rule of the acceptable MSWD range of both weighted means and of RuleMSWD's limit.
+	Range MSWDRangeRule
 }
 
 // OutlierReport says which dates a rule flagged and gives the weighted mean with and without them. Dates
@@ -301,7 +304,7 @@ type OutlierReport struct {
 // input, and an error for an unknown rule or invalid ESD parameters. Unweighted rules ignore sigmas1s
 // when flagging.
 func FlagOutliers(values, sigmas1s []float64, opts OutlierOptions) (OutlierReport, error) {
-	wopts := WeightedMeanOptions{Policy: opts.Policy}
+	wopts := WeightedMeanOptions{Policy: opts.Policy, Range: opts.Range}
 	all, err := WeightedMean(values, sigmas1s, wopts)
 	if err != nil {
 		return OutlierReport{}, fmt.Errorf("flag outliers: %w", err)
@@ -318,7 +321,7 @@ func FlagOutliers(values, sigmas1s []float64, opts OutlierOptions) (OutlierRepor
 			rep.Skipped = "needs at least 2 dates"
 			break
 		}
-		it, err := IterativeRejection(values, sigmas1s)
+		it, err := IterativeRejection(values, sigmas1s, opts.Range)
 		if err != nil {
 			return OutlierReport{}, fmt.Errorf("flag outliers: %w", err)
 		}

@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"math"
 	"math/rand/v2"
 	"slices"
 	"testing"
@@ -25,7 +26,15 @@ func TestWeightedResidualsCheckB(t *testing.T) {
 // TestIterativeRejectionCheckB: on Check B the rule removes 201.700 and returns Check A
 // (REFERENCES §1 outlier flags [C]).
 func TestIterativeRejectionCheckB(t *testing.T) {
-	got, err := IterativeRejection(checkBAges, oneSigma(checkB2s))
+	for _, rule := range []MSWDRangeRule{RangeChi2, RangeWendtCarl} {
+		t.Run(rule.String(), func(t *testing.T) { iterativeCheckB(t, rule) })
+	}
+}
+
+// iterativeCheckB: under either range rule, Check B loses 201.700 (MSWD 8.39 is above both upper limits
+// for f = 7) and Check A is then accepted (1.896 is below both for f = 6).
+func iterativeCheckB(t *testing.T, rule MSWDRangeRule) {
+	got, err := IterativeRejection(checkBAges, oneSigma(checkB2s), rule)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -36,15 +45,54 @@ func TestIterativeRejectionCheckB(t *testing.T) {
 	if !nearDecimals(step.Residual, 6.8828, 4) || !nearDecimals(step.MSWD, 8.392417, 6) { // REFERENCES §1 Check B [C]
 		t.Errorf("step = %+v, want residual 6.8828, MSWD 8.392417", step)
 	}
-	a := mustWeightedMean(t, checkAAges, oneSigma(checkA2s), PolicyNever)
+	a, err := WeightedMean(checkAAges, oneSigma(checkA2s), WeightedMeanOptions{Range: rule})
+	if err != nil {
+		t.Fatal(err)
+	}
 	if got, want := got.Kept, a; got != want { // REFERENCES §1 [C]: returns A
 		t.Errorf("Kept = %+v, want Check A %+v", got, want)
 	}
 	// An acceptable set loses nothing; two discordant dates are both kept.
-	c, _ := IterativeRejection(checkCAges, oneSigma(checkC2s))
-	two, _ := IterativeRejection([]float64{200, 210}, []float64{0.1, 0.1})
+	c, _ := IterativeRejection(checkCAges, oneSigma(checkC2s), rule)
+	two, _ := IterativeRejection([]float64{200, 210}, []float64{0.1, 0.1}, rule)
 	if len(c.Flagged) != 0 || len(two.Flagged) != 0 || two.Kept.N != 2 {
 		t.Errorf("Check C flagged %v; two dates flagged %v", c.Flagged, two.Flagged)
+	}
+}
+
+// TestIterativeRejectionUsesTheChosenRange: three dates 0, 0, x (σ 1) have MSWD x²/3 for f = 2 (mean x/3,
+// S = 2(x/3)² + (2x/3)² = 2x²/3). At MSWD 3.3 the set is above Wendt & Carl's 1 + 2·sqrt(2/2) = 3 but
+// below the exact 97.5 % quantile of χ²₂/2, 3.688879 (REFERENCES §1 [C] scipy chi2.ppf): the rule flags x
+// under the approximation and nothing under the exact range, in the rule and in FlagOutliers.
+func TestIterativeRejectionUsesTheChosenRange(t *testing.T) {
+	x := math.Sqrt(3 * 3.3)
+	xs, ss := []float64{0, 0, x}, []float64{1, 1, 1}
+	for _, tt := range []struct {
+		rule MSWDRangeRule
+		want []int
+		high float64
+	}{
+		{RangeChi2, nil, 3.688879},    // REFERENCES §1 [C] scipy chi2.ppf(0.975, 2)/2
+		{RangeWendtCarl, []int{2}, 3}, // Wendt & Carl 1991 [P]: 1 + 2·sqrt(2/2)
+	} {
+		it, err := IterativeRejection(xs, ss, tt.rule)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(it.Flagged, tt.want) {
+			t.Errorf("%v: flagged %v, want %v", tt.rule, it.Flagged, tt.want)
+		}
+		if len(it.Steps) > 0 && !nearDecimals(it.Steps[0].MSWDHigh, tt.high, 6) {
+			t.Errorf("%v: step's upper limit %g, want %g", tt.rule, it.Steps[0].MSWDHigh, tt.high)
+		}
+		rep, err := FlagOutliers(xs, ss, OutlierOptions{Rule: RuleMSWD, Range: tt.rule})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(rep.Flagged, tt.want) || !nearDecimals(rep.All.MSWD, 3.3, 9) || !nearDecimals(rep.All.MSWDHigh, tt.high, 6) ||
+			rep.All.InRange != (tt.want == nil) {
+			t.Errorf("%v: FlagOutliers flagged %v, MSWD %g, upper %g, in range %v", tt.rule, rep.Flagged, rep.All.MSWD, rep.All.MSWDHigh, rep.All.InRange)
+		}
 	}
 }
 

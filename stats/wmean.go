@@ -46,9 +46,48 @@ func ParsePolicy(s string) (Policy, error) {
 	return 0, fmt.Errorf("parse policy %q: want never, mswd>1 or p<0.05", s)
 }
 
-// WeightedMeanOptions are the choices of WeightedMean. The zero value never inflates.
+// MSWDRangeRule says how the acceptable MSWD range of a weighted mean is made. The zero value,
+// RangeChi2, is the exact rule.
+type MSWDRangeRule int
+
+// Range rules.
+const (
+	// RangeChi2 takes the 2.5 % and 97.5 % quantiles of χ²_f/f, the distribution of the MSWD of f + 1
+	// values whose σ are right: a two-sided 95 % range, exact for any f.
+	RangeChi2 MSWDRangeRule = iota
+	// RangeWendtCarl is the published normal approximation 1 ± 2·sqrt(2/f), lower limit floored at 0
+	// (Wendt & Carl 1991, Chem. Geol. 86:275). It is close to RangeChi2 for large f only: for f = 1 its
+	// upper limit is 3.83 against the exact 5.02. Kept to compare with papers that used it.
+	RangeWendtCarl
+)
+
+// String returns "chi2" or "wendt-carl", the spellings ParseMSWDRangeRule reads (meant for URL queries).
+func (r MSWDRangeRule) String() string {
+	switch r {
+	case RangeChi2:
+		return "chi2"
+	case RangeWendtCarl:
+		return "wendt-carl"
+	}
+	return fmt.Sprintf("MSWDRangeRule(%d)", int(r))
+}
+
+// ParseMSWDRangeRule reads a rule from its String form, case-insensitively.
+func ParseMSWDRangeRule(s string) (MSWDRangeRule, error) {
+	t := strings.ToLower(strings.TrimSpace(s))
+	for _, r := range []MSWDRangeRule{RangeChi2, RangeWendtCarl} {
+		if t == r.String() {
+			return r, nil
+		}
+	}
+	return 0, fmt.Errorf("parse MSWD range rule %q: want chi2 or wendt-carl", s)
+}
+
+// WeightedMeanOptions are the choices of WeightedMean. The zero value never inflates and judges the MSWD
+// by the exact χ² range.
 type WeightedMeanOptions struct {
 	Policy Policy
+	Range  MSWDRangeRule
 }
 
 // WeightedMeanResult is an inverse-variance weighted mean with its dispersion statistics. Mean and the σ
@@ -63,14 +102,15 @@ type WeightedMeanResult struct {
 	MSWDDefined bool
 	MSWD        float64 // S/f
 	P           float64 // P(χ²_f > S)
-	// MSWDLow and MSWDHigh bound the acceptable MSWD, 1 ± 2·sqrt(2/f) with the lower bound floored at 0
-	// (Wendt & Carl 1991); InRange reports MSWDLow ≤ MSWD ≤ MSWDHigh.
+	// MSWDLow and MSWDHigh bound the acceptable MSWD under Range (MSWDRange); InRange reports
+	// MSWDLow ≤ MSWD ≤ MSWDHigh.
 	MSWDLow, MSWDHigh float64
 	InRange           bool
-	Policy            Policy  // the policy applied
-	Inflated          bool    // whether the policy inflated the σ
-	Factor            float64 // sqrt(MSWD) if Inflated, else 1
-	SigmaReported     float64 // Sigma·Factor, the σ to report under Policy
+	Range             MSWDRangeRule // the rule of the range
+	Policy            Policy        // the policy applied
+	Inflated          bool          // whether the policy inflated the σ
+	Factor            float64       // sqrt(MSWD) if Inflated, else 1
+	SigmaReported     float64       // Sigma·Factor, the σ to report under Policy
 }
 
 // ErrNoValues is returned by WeightedMean and the outlier rules when given no values.
@@ -90,6 +130,9 @@ func WeightedMean(values, sigmas1s []float64, opts WeightedMeanOptions) (Weighte
 	}
 	if opts.Policy < PolicyNever || opts.Policy > PolicyWhenPBelow005 {
 		return WeightedMeanResult{}, fmt.Errorf("weighted mean: unknown policy %d", int(opts.Policy))
+	}
+	if opts.Range < RangeChi2 || opts.Range > RangeWendtCarl {
+		return WeightedMeanResult{}, fmt.Errorf("weighted mean: unknown MSWD range rule %d", int(opts.Range))
 	}
 	n := len(values)
 	// Centre on the first value so that S does not lose digits to a large common offset (ages ~ 200 Ma
@@ -114,6 +157,7 @@ func WeightedMean(values, sigmas1s []float64, opts WeightedMeanOptions) (Weighte
 		DoF:    n - 1,
 		S:      s,
 		Policy: opts.Policy,
+		Range:  opts.Range,
 		Factor: 1,
 	}
 	if n == 1 {
@@ -123,7 +167,7 @@ func WeightedMean(values, sigmas1s []float64, opts WeightedMeanOptions) (Weighte
 		r.MSWDDefined = true
 		r.MSWD = s / f
 		r.P = distuv.ChiSquared{K: f}.Survival(s)
-		r.MSWDLow, r.MSWDHigh = WendtCarlRange(r.DoF)
+		r.MSWDLow, r.MSWDHigh = MSWDRange(r.DoF, opts.Range)
 		r.InRange = r.MSWD >= r.MSWDLow && r.MSWD <= r.MSWDHigh
 		switch opts.Policy {
 		case PolicyWhenMSWDAbove1:
@@ -137,6 +181,29 @@ func WeightedMean(values, sigmas1s []float64, opts WeightedMeanOptions) (Weighte
 	}
 	r.SigmaReported = r.Sigma * r.Factor
 	return r, nil
+}
+
+// MSWDRange returns the acceptable MSWD range for f degrees of freedom under rule (Chi2Range or
+// WendtCarlRange). For f < 1 or an unknown rule both are NaN.
+func MSWDRange(dof int, rule MSWDRangeRule) (low, high float64) {
+	switch rule {
+	case RangeChi2:
+		return Chi2Range(dof)
+	case RangeWendtCarl:
+		return WendtCarlRange(dof)
+	}
+	return math.NaN(), math.NaN()
+}
+
+// Chi2Range returns the 2.5 % and 97.5 % quantiles of χ²_f/f for f degrees of freedom: the range that
+// holds the MSWD of f + 1 values with right σ 95 % of the time. For f < 1 both are NaN.
+func Chi2Range(dof int) (low, high float64) {
+	if dof < 1 {
+		return math.NaN(), math.NaN()
+	}
+	f := float64(dof)
+	c := distuv.ChiSquared{K: f}
+	return c.Quantile(0.025) / f, c.Quantile(0.975) / f
 }
 
 // WendtCarlRange returns the acceptable MSWD range 1 ± 2·sqrt(2/f) for f degrees of freedom, the lower

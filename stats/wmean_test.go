@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 	"slices"
 	"sort"
+	"strings"
 	"testing"
 )
 
@@ -46,6 +47,14 @@ func TestWeightedMeanChecks(t *testing.T) {
 	a := mustWeightedMean(t, checkAAges, oneSigma(checkA2s), PolicyNever)
 	b := mustWeightedMean(t, checkBAges, oneSigma(checkB2s), PolicyNever)
 	c := mustWeightedMean(t, checkCAges, oneSigma(checkC2s), PolicyNever)
+	aWC, err := WeightedMean(checkAAges, oneSigma(checkA2s), WeightedMeanOptions{Range: RangeWendtCarl})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cWC, err := WeightedMean(checkCAges, oneSigma(checkC2s), WeightedMeanOptions{Range: RangeWendtCarl})
+	if err != nil {
+		t.Fatal(err)
+	}
 	aLow, aHigh := WendtCarlRange(a.DoF)
 	tests := []struct {
 		name     string
@@ -53,24 +62,26 @@ func TestWeightedMeanChecks(t *testing.T) {
 		decimals int
 		want     float64
 	}{
-		{"A mean", a.Mean, 9, 201.549755197},                                  // REFERENCES §1 Check A [C]: numpy 1.24
-		{"A σ 1σ", a.Sigma, 6, 0.008747},                                      // REFERENCES §1 Check A [C] prints 0.008747193; see TestCheckASigmaDigits
-		{"A σ 2σ", From1Sigma(a.Sigma, TwoSigma), 6, 0.017494},                // REFERENCES §1 Check A [C] prints 0.017494386; see TestCheckASigmaDigits
-		{"A S", a.S, 6, 11.374267},                                            // REFERENCES §1 Check A [C]
-		{"A f", float64(a.DoF), 0, 6},                                         // REFERENCES §1 Check A [C]
-		{"A MSWD", a.MSWD, 6, 1.895711},                                       // REFERENCES §1 Check A [C]
-		{"A p", a.P, 6, 0.077475},                                             // REFERENCES §1 Check A [C]: scipy 1.10 chi2.sf
-		{"A W&C upper", a.MSWDHigh, 6, 2.154701},                              // REFERENCES §1 Check A [C]; Wendt & Carl 1991 [P]
-		{"A W&C upper, helper", aHigh, 6, 2.154701},                           // REFERENCES §1 Check A [C]
-		{"A W&C lower floored", aLow, 9, 0},                                   // 1 − 2·sqrt(2/6) < 0, floored (Wendt & Carl 1991 [P])
-		{"B mean", b.Mean, 6, 201.573879},                                     // REFERENCES §1 Check B [C]
-		{"B MSWD", b.MSWD, 6, 8.392417},                                       // REFERENCES §1 Check B [C]
-		{"B p ×1e10", b.P * 1e10, 3, 2.684},                                   // REFERENCES §1 Check B [C]: 2.684e-10
-		{"C mean", c.Mean, 5, 201.56206},                                      // REFERENCES §1 Check C [C]
-		{"C σ 2σ", From1Sigma(c.Sigma, TwoSigma), 5, 0.01755},                 // REFERENCES §1 Check C [C]
-		{"C MSWD", c.MSWD, 3, 0.222},                                          // REFERENCES §1 Check C [C]
-		{"C W&C lower", c.MSWDLow, 9, 0},                                      // f = 3: 1 − 2·sqrt(2/3) < 0, floored
-		{"C W&C upper", c.MSWDHigh, 9, roundDecimals(1+2*math.Sqrt(2./3), 9)}, // Wendt & Carl 1991 [P]
+		{"A mean", a.Mean, 9, 201.549755197},                                    // REFERENCES §1 Check A [C]: numpy 1.24
+		{"A σ 1σ", a.Sigma, 6, 0.008747},                                        // REFERENCES §1 Check A [C] prints 0.008747193; see TestCheckASigmaDigits
+		{"A σ 2σ", From1Sigma(a.Sigma, TwoSigma), 6, 0.017494},                  // REFERENCES §1 Check A [C] prints 0.017494386; see TestCheckASigmaDigits
+		{"A S", a.S, 6, 11.374267},                                              // REFERENCES §1 Check A [C]
+		{"A f", float64(a.DoF), 0, 6},                                           // REFERENCES §1 Check A [C]
+		{"A MSWD", a.MSWD, 6, 1.895711},                                         // REFERENCES §1 Check A [C]
+		{"A p", a.P, 6, 0.077475},                                               // REFERENCES §1 Check A [C]: scipy 1.10 chi2.sf
+		{"A W&C upper", aWC.MSWDHigh, 6, 2.154701},                              // REFERENCES §1 Check A [C]; Wendt & Carl 1991 [P]
+		{"A W&C upper, helper", aHigh, 6, 2.154701},                             // REFERENCES §1 Check A [C]
+		{"A W&C lower floored", aLow, 9, 0},                                     // 1 − 2·sqrt(2/6) < 0, floored (Wendt & Carl 1991 [P])
+		{"B mean", b.Mean, 6, 201.573879},                                       // REFERENCES §1 Check B [C]
+		{"B MSWD", b.MSWD, 6, 8.392417},                                         // REFERENCES §1 Check B [C]
+		{"B p ×1e10", b.P * 1e10, 3, 2.684},                                     // REFERENCES §1 Check B [C]: 2.684e-10
+		{"C mean", c.Mean, 5, 201.56206},                                        // REFERENCES §1 Check C [C]
+		{"C σ 2σ", From1Sigma(c.Sigma, TwoSigma), 5, 0.01755},                   // REFERENCES §1 Check C [C]
+		{"C MSWD", c.MSWD, 3, 0.222},                                            // REFERENCES §1 Check C [C]
+		{"C W&C lower", cWC.MSWDLow, 9, 0},                                      // f = 3: 1 − 2·sqrt(2/3) < 0, floored
+		{"C W&C upper", cWC.MSWDHigh, 9, roundDecimals(1+2*math.Sqrt(2./3), 9)}, // Wendt & Carl 1991 [P]
+		{"C χ² lower (default)", c.MSWDLow, 6, 0.071932},                        // REFERENCES §1 [C] scipy chi2.ppf(0.025, 3)/3
+		{"C χ² upper (default)", c.MSWDHigh, 6, 3.116135},                       // REFERENCES §1 [C] scipy chi2.ppf(0.975, 3)/3
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -79,8 +90,71 @@ func TestWeightedMeanChecks(t *testing.T) {
 			}
 		})
 	}
-	if !a.InRange || b.InRange || !c.InRange {
-		t.Errorf("InRange A, B, C = %v, %v, %v; want true, false, true", a.InRange, b.InRange, c.InRange)
+	if !a.InRange || b.InRange || !c.InRange || !aWC.InRange || !cWC.InRange {
+		t.Errorf("InRange A, B, C = %v, %v, %v, under W&C A, C = %v, %v; want true, false, true, true, true",
+			a.InRange, b.InRange, c.InRange, aWC.InRange, cWC.InRange)
+	}
+	if a.Range != RangeChi2 || aWC.Range != RangeWendtCarl {
+		t.Errorf("recorded range rules %v, %v; want chi2, wendt-carl", a.Range, aWC.Range)
+	}
+}
+
+// TestMSWDRanges: the exact range (2.5 % and 97.5 % quantiles of χ²_f/f) and Wendt & Carl's normal
+// approximation against REFERENCES §1, and the default is the exact one.
+func TestMSWDRanges(t *testing.T) {
+	tests := []struct {
+		dof               int
+		low, high, wcHigh float64
+	}{
+		{1, 0.000982, 5.023886, 3.828427},  // [C] scipy chi2.ppf (REFERENCES §1); W&C 1 + 2·sqrt(2/1) [P]
+		{2, 0.025318, 3.688879, 3.0},       // [C] scipy chi2.ppf (REFERENCES §1); W&C [P]
+		{3, 0.071932, 3.116135, 2.632993},  // [C] scipy chi2.ppf (REFERENCES §1); W&C [P]
+		{5, 0.166242, 2.566500, 2.264911},  // [C] scipy chi2.ppf (REFERENCES §1); W&C [P]
+		{10, 0.324697, 2.048318, 1.894427}, // [C] scipy chi2.ppf (REFERENCES §1); W&C [P]
+		{30, 0.559692, 1.565975, 1.516398}, // [C] scipy chi2.ppf (REFERENCES §1); W&C [P]
+	}
+	for _, tt := range tests {
+		low, high := Chi2Range(tt.dof)
+		if !nearDecimals(low, tt.low, 6) || !nearDecimals(high, tt.high, 6) {
+			t.Errorf("f = %d: χ² range %.7f–%.7f, want %.6f–%.6f", tt.dof, low, high, tt.low, tt.high)
+		}
+		if l, h := MSWDRange(tt.dof, RangeChi2); l != low || h != high {
+			t.Errorf("f = %d: MSWDRange(chi2) %g–%g, Chi2Range %g–%g", tt.dof, l, h, low, high)
+		}
+		wl, wh := MSWDRange(tt.dof, RangeWendtCarl)
+		if !nearDecimals(wh, tt.wcHigh, 6) || math.Abs(wl-math.Max(0, 2-wh)) > 1e-12 {
+			t.Errorf("f = %d: Wendt & Carl %.7f–%.7f, want upper %.6f", tt.dof, wl, wh, tt.wcHigh)
+		}
+		// The default of WeightedMean is the exact range: f + 1 values spread so that MSWD = 1.
+		xs, ss := make([]float64, tt.dof+1), make([]float64, tt.dof+1)
+		for i := range xs {
+			xs[i], ss[i] = float64(i%2), 1
+		}
+		r, err := WeightedMean(xs, ss, WeightedMeanOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if r.MSWDLow != low || r.MSWDHigh != high || r.Range != RangeChi2 {
+			t.Errorf("f = %d: WeightedMean's default range %g–%g (%v), want the χ² range", tt.dof, r.MSWDLow, r.MSWDHigh, r.Range)
+		}
+	}
+	for _, f := range []int{0, -1} {
+		for _, rule := range []MSWDRangeRule{RangeChi2, RangeWendtCarl, MSWDRangeRule(7)} {
+			if l, h := MSWDRange(f, rule); !math.IsNaN(l) || !math.IsNaN(h) {
+				t.Errorf("MSWDRange(%d, %v) = %g–%g, want NaN", f, rule, l, h)
+			}
+		}
+	}
+	for _, rule := range []MSWDRangeRule{RangeChi2, RangeWendtCarl} {
+		if got, err := ParseMSWDRangeRule(" " + strings.ToUpper(rule.String())); err != nil || got != rule {
+			t.Errorf("ParseMSWDRangeRule(%q) = %v, %v", rule.String(), got, err)
+		}
+	}
+	if _, err := ParseMSWDRangeRule("normal"); err == nil {
+		t.Error(`ParseMSWDRangeRule("normal"): no error`)
+	}
+	if _, err := WeightedMean([]float64{1, 2}, []float64{1, 1}, WeightedMeanOptions{Range: MSWDRangeRule(5)}); err == nil {
+		t.Error("unknown range rule: no error")
 	}
 }
 

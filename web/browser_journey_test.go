@@ -61,7 +61,7 @@ func TestBrowserNewcomerJourney(t *testing.T) {
 	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+idURL("/units", brennholt)), chromedp.WaitVisible(chromedp.CSS(".groups"))); err != nil {
 		t.Fatal(err)
 	}
-	if got := text(t, ctx, "main"); !strings.Contains(got, "Wendt & Carl") {
+	if got := text(t, ctx, "main"); !strings.Contains(got, "outside the 95 % range of χ²_f/f") {
 		t.Error("the unit with scattered dates shows no MSWD caution")
 	}
 	shoot(t, ctx, dir, "2-unit-caution")

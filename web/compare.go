@@ -188,7 +188,7 @@ func idList(p *params, name, what string) []int64 {
 // the compilation's stamp.
 func (ch compareChoice) cacheKey(stamp int64) string {
 	d := ch.Dens
-	k := map[string]any{"stamp": stamp, "cal": d.Sum.Cal.Cal.Code, "policy": d.Sum.PolicyCode, "rule": d.Sum.Rule.String(),
+	k := map[string]any{"stamp": stamp, "cal": d.Sum.Cal.Cal.Code, "policy": d.Sum.PolicyCode, "rule": d.Sum.Rule.String(), "mswd_range": d.Sum.Range.String(),
 		"include": d.Sum.Include, "count": d.Count, "weight": d.Weight, "bw": d.Rule.String(), "h": d.UserHMa,
 		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps, "bw_each": d.BWEach,
 		"province": ch.ProvinceID, "pulses": ch.Pulses, "rows": ch.Rows, "units": ch.UnitIDs, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,

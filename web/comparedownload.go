@@ -133,7 +133,7 @@ func compareSettings(res *compareResult) [][2]string {
 		{"bandwidth note", bw.Note},
 		{"adaptive", strconv.FormatBool(d.Adaptive)},
 		{"bootstrap replicates", strconv.Itoa(d.Reps)},
-		{"unit means", "analytical σ, policy " + d.Sum.PolicyCode + ", outlier rule " + d.Sum.Rule.String() + ", " + includeLabel(d.Sum.Include)},
+		{"unit means", "analytical σ, policy " + d.Sum.PolicyCode + ", outlier rule " + d.Sum.Rule.String() + ", MSWD judged against the " + mswdRangeName(d.Sum.Range) + ", " + includeLabel(d.Sum.Include)},
 		{"pulse edge systematics", res.In.EdgeNote},
 		{"age model", ch.Model},
 		{"tie points in the age models", tieIncludeLabel(d.Sum.Include) + " (include=" + d.Sum.Include + ")"},
@@ -144,6 +144,7 @@ func compareSettings(res *compareResult) [][2]string {
 		{"correlated groups", strings.Join(ch.Groups, ", ")},
 		{"shared systematic keys", strings.Join(res.Keys, ", ")},
 		{"sensitivity sets", sensSets(res)},
+		{"Monte Carlo SE", seRuleText},
 		{"data stamp", strconv.FormatInt(res.Stamp, 10)},
 	}
 	if d.BWEach {

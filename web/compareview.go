@@ -152,6 +152,22 @@ func levelHelp() []views.KV {
 	}
 }
 
+// seRuleText says how the Monte Carlo SE of every probability of a comparison is made (stats.Probability).
+const seRuleText = "± is the Monte Carlo standard error sqrt(P(1 − P)/Neff), Neff the effective number of independent draws: 1/Neff = 1/N + 1/M for each input given by only M draws that are resampled (a pulse's bootstrap replicates, an age model's draws), so an input's own draws count, not N alone. It is an upper bound, close when such an input decides the outcome."
+
+// seHow says, for one row's account, how many effective draws its SEs rest on: after for P(after) and
+// P(|lag| < δ), within for P(within) (NaN when it does not apply).
+func seHow(n int, after, within float64) string {
+	s := fmt.Sprintf("sqrt(P(1 − P)/Neff) with Neff = %.0f effective draws", after)
+	if !math.IsNaN(within) && math.Round(within) != math.Round(after) {
+		s = fmt.Sprintf("sqrt(P(1 − P)/Neff) with Neff = %.0f effective draws for P(after) and P(|lag| < δ), %.0f for P(within)", after, within)
+	}
+	if math.Round(after) >= float64(n) {
+		return s + fmt.Sprintf(": the N = %d joint draws, no input being resampled from fewer", n)
+	}
+	return s + fmt.Sprintf(" of the N = %d joint draws: 1/Neff = 1/N + 1/M for each input resampled from only M draws (the pulse's replicates, the event's age-model draws)", n)
+}
+
 // probText formats a probability with its Monte Carlo SE; 0 and 1 read as below 3/N and above 1 − 3/N.
 func probText(p stats.Probability, n int) string {
 	switch {
@@ -444,7 +460,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	}
 	v.Cautions = append(v.Cautions, res.Cautions...)
 	if res.MinSamples > 0 && res.MinSamples < ch.N {
-		v.Cautions = append(v.Cautions, fmt.Sprintf("Some inputs are given by only %d draws (bootstrap replicates or age-model draws) and are resampled to %d: a probability cannot be known better than about ±sqrt(P(1 − P)/%d), whatever N.", res.MinSamples, ch.N, res.MinSamples))
+		v.Cautions = append(v.Cautions, fmt.Sprintf("Some inputs are given by only %d draws (bootstrap replicates or age-model draws) and are resampled to %d: a probability cannot be known better than about ±sqrt(P(1 − P)/%d), whatever N. Every ± on this page and in the downloads counts those draws.", res.MinSamples, ch.N, res.MinSamples))
 	}
 	if res.Density.Bandwidth.Note != "" {
 		v.Cautions = append(v.Cautions, "Bandwidth: "+res.Density.Bandwidth.Note)
@@ -582,10 +598,10 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
 		t.Rows = append(t.Rows, cells)
 	}
-	t.Notes = append(t.Notes, fmt.Sprintf("± is the Monte Carlo standard error sqrt(P(1 − P)/N); “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
+	t.Notes = append(t.Notes, fmt.Sprintf(seRuleText+" “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
 	if ch.unitRows() {
-		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
-			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule))
+		t.Notes = append(t.Notes, fmt.Sprintf("Unit rows (code U and the unit's number): the unit's weighted mean of the dates include= lets in (%s; policy %s, outlier rule %s against the %s, flagged dates flagged, not dropped), a point-like age with its decay system's systematic components drawn once per joint draw, as for the volume fraction. P(after unit) is P(event younger than the unit's mean); the lag is mean − event; P(within) does not apply (—): a single unit's mean has no duration here. Hover a unit for its mean.",
+			includeLabel(ch.Dens.Sum.Include), ch.Dens.Sum.PolicyCode, ch.Dens.Sum.Rule, mswdRangeName(ch.Dens.Sum.Range)))
 	}
 	if res.Sens != nil {
 		t.Notes = append(t.Notes, "Sensitivity sets: "+strings.Join(res.Sens.Sets, ", ")+". Same seed and draws in every set, so the differences come from the inputs.")
@@ -691,6 +707,7 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 			{Label: "Lag", Value: "onset − event over the draws: median and 2.5/97.5 % " + lagText(row.Cell.LagMa) + " Ma"},
 			{Label: "P(|lag| < δ)", Value: fmt.Sprintf("δ = %s Ma: %s (SE %s)", num(ch.DeltaMa), fixed(row.Cell.Near.P, 4), fixed(row.Cell.Near.SE, 4))},
 			{Label: "OVL", Value: "overlap of the onset's and the event's draws, histogram of 100 bins: " + fixed(row.Cell.OVL, 3)},
+			{Label: "Monte Carlo SE", Value: seHow(ch.N, row.Cell.AfterOnset.NEff, row.Cell.Within.NEff)},
 			{Label: "Depends on", Value: dependsText(res, row)},
 		}
 		h.Lines = append(h.Lines, volumeHow(res, row)...)
@@ -722,6 +739,7 @@ func howUnit(res *compareResult, row compareRow) views.How {
 		{Label: "Lag", Value: "unit mean − event over the draws: median and 2.5/97.5 % " + lagText(c.LagMa) + " Ma"},
 		{Label: "P(|lag| < δ)", Value: fmt.Sprintf("δ = %s Ma: %s (SE %s)", num(ch.DeltaMa), fixed(c.Near.P, 4), fixed(c.Near.SE, 4))},
 		{Label: "OVL", Value: "overlap of the unit's and the event's draws, histogram of 100 bins: " + fixed(c.OVL, 3)},
+		{Label: "Monte Carlo SE", Value: seHow(ch.N, c.AfterOnset.NEff, math.NaN())},
 		{Label: "Depends on", Value: dependsText(res, row)},
 	}
 	h.Lines = append(h.Lines, volumeHow(res, row)...)
@@ -741,8 +759,8 @@ func volumeHow(res *compareResult, row compareRow) []views.KV {
 		return nil
 	}
 	f := row.Vol.Fraction
-	return []views.KV{{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; P(more than half of it before the event) %s (SE %s). %s",
-		fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), fixed(row.Vol.Majority.P, 4), fixed(row.Vol.Majority.SE, 4), res.VolumeNote)}}
+	return []views.KV{{Label: "Volume before", Value: fmt.Sprintf("Σ V·1[unit older than event] / Σ V per draw: median %s, 95 %% [%s, %s], mean %s; P(more than half of it before the event) %s (SE %s, from %.0f effective draws). %s",
+		fixed(f.Median, 3), fixed(f.Lo95, 3), fixed(f.Hi95, 3), fixed(row.Vol.Mean, 3), fixed(row.Vol.Majority.P, 4), fixed(row.Vol.Majority.SE, 4), row.Vol.Majority.NEff, res.VolumeNote)}}
 }
 
 // volSensPart is the volume fraction under sensitivity set k, for the how-computed line.

@@ -11,7 +11,7 @@ import (
 )
 
 // A unit summary combines the dates of one unit into one weighted mean per decay system (never one
-// across systems), with its MSWD, p, Wendt & Carl range, outlier flags and the ± at the chosen level.
+// across systems), with its MSWD, p, acceptable MSWD range, outlier flags and the ± at the chosen level.
 // Every choice comes from the URL (summaryChoice); the numerics are stats'.
 
 // summaryChoice is every display choice of a unit summary, read from the URL.
@@ -23,6 +23,29 @@ type summaryChoice struct {
 	PolicyCode string            // policy=never|mswd-gt-1|p-lt-0.05 (default p-lt-0.05)
 	Rule       stats.OutlierRule // rule=none|mswd|chauvenet|gesd (default mswd)
 	Include    string            // include=accepted|pending|all (default accepted)
+	// Range is the acceptable MSWD range and the iterative rule's limit: mswd_range=chi2 (default, the
+	// exact 2.5–97.5 % quantiles of χ²_f/f) or wendt-carl (the published 1 ± 2√(2/f)).
+	Range stats.MSWDRangeRule
+}
+
+// mswdRanges are the acceptable MSWD ranges a reader can choose, with how the page names them.
+var mswdRanges = []struct {
+	Rule  stats.MSWDRangeRule
+	Label string // the choice, in the settings
+	Name  string // the range, in a sentence
+}{
+	{stats.RangeChi2, "exact: 2.5–97.5 % quantiles of χ²_f/f", "95 % range of χ²_f/f"},
+	{stats.RangeWendtCarl, "Wendt & Carl 1991: 1 ± 2√(2/f) (approximation)", "Wendt & Carl range 1 ± 2√(2/f)"},
+}
+
+// mswdRangeName names the acceptable MSWD range of rule in a sentence.
+func mswdRangeName(rule stats.MSWDRangeRule) string {
+	for _, m := range mswdRanges {
+		if m.Rule == rule {
+			return m.Name
+		}
+	}
+	return rule.String()
 }
 
 // policies are the URL spellings of the overdispersion policies (stats' own "mswd>1" and "p<0.05" need
@@ -72,6 +95,11 @@ func (s *Server) summaryChoice(ctx context.Context, p *params) (summaryChoice, e
 		}
 	}
 	ch.Include = p.oneOf("include", includeCodes(), "accepted")
+	var ranges []string
+	for _, m := range mswdRanges {
+		ranges = append(ranges, m.Rule.String())
+	}
+	ch.Range, _ = stats.ParseMSWDRangeRule(p.oneOf("mswd_range", ranges, stats.RangeChi2.String()))
 	return ch, nil
 }
 
@@ -333,7 +361,7 @@ func (s *systemSummary) compute(ch summaryChoice) error {
 		xs[i], ss[i] = e.AgeMa, e.Sigma1s
 		s.MinMa, s.MaxMa = math.Min(s.MinMa, e.AgeMa), math.Max(s.MaxMa, e.AgeMa)
 	}
-	rep, err := stats.FlagOutliers(xs, ss, stats.OutlierOptions{Rule: ch.Rule, Policy: ch.Policy})
+	rep, err := stats.FlagOutliers(xs, ss, stats.OutlierOptions{Rule: ch.Rule, Policy: ch.Policy, Range: ch.Range})
 	if err != nil {
 		return err
 	}
@@ -362,8 +390,8 @@ func (s *systemSummary) compute(ch summaryChoice) error {
 		if a.MSWD < a.MSWDLow {
 			how = "less than their uncertainties allow (the uncertainties may be overestimated)"
 		}
-		s.Cautions = append(s.Cautions, fmt.Sprintf("MSWD %s outside the Wendt & Carl range %s–%s for f = %d: the dates scatter %s",
-			fmtMSWD(a.MSWD), fmtMSWD(a.MSWDLow), fmtMSWD(a.MSWDHigh), a.DoF, how))
+		s.Cautions = append(s.Cautions, fmt.Sprintf("MSWD %s outside the %s, %s–%s for f = %d: the dates scatter %s",
+			fmtMSWD(a.MSWD), mswdRangeName(a.Range), fmtMSWD(a.MSWDLow), fmtMSWD(a.MSWDHigh), a.DoF, how))
 	}
 	if a.Inflated {
 		s.Notes = append(s.Notes, fmt.Sprintf("± inflated by √MSWD = %.2f (policy %s)", a.Factor, ch.PolicyCode))

@@ -190,9 +190,14 @@ func TestProvincePageSummaryCautions(t *testing.T) {
 		if err != nil || mswd < 15 || mswd > 19 {
 			t.Errorf("MSWD cell %q, want ⚠ and about 17", r.cells[colMSWD])
 		}
-		if !strings.HasPrefix(r.cells[colMSWD], "⚠") || !strings.Contains(r.cells[colRemarks], "outside the Wendt & Carl range 0.00–2.26 for f = 5") {
-			// Wendt & Carl (1991), Chem. Geol. 86:275: upper limit 1 + 2·sqrt(2/5) = 2.26 for 6 dates.
+		if !strings.HasPrefix(r.cells[colMSWD], "⚠") || !strings.Contains(r.cells[colRemarks], "outside the 95 % range of χ²_f/f, 0.17–2.57 for f = 5") {
+			// REFERENCES §1 [C] scipy chi2.ppf: f = 5, 0.166242–2.566500 (the default, exact range).
 			t.Errorf("MSWD caution missing: MSWD %q, remarks %q", r.cells[colMSWD], r.cells[colRemarks])
+		}
+		wc := rowsOf(htmlTable(t, mustFetch(t, h, provinceURL(t, db)+"?mswd_range=wendt-carl"), "summaries"), "Brennholt Flow Group")
+		if len(wc) != 1 || !strings.Contains(wc[0].cells[colRemarks], "outside the Wendt & Carl range 1 ± 2√(2/f), 0.00–2.26 for f = 5") {
+			// Wendt & Carl (1991), Chem. Geol. 86:275: upper limit 1 + 2·sqrt(2/5) = 2.26 for 6 dates.
+			t.Errorf("under the Wendt & Carl choice: rows %v", wc)
 		}
 		if r.cells[colFlagged] == "none flagged" || !strings.Contains(r.cells[colFlagged], "HV-12-0") {
 			// testdata/demo/README.md: two of its dates have an older, inheritance-like tail.
@@ -269,7 +274,7 @@ func TestUnitPageSummaryCautions(t *testing.T) {
 		unit, group, caution string
 		source               string
 	}{
-		{"Brennholt Flow Group", "Summary · U–Pb", "outside the Wendt & Carl range", "README: MSWD ≈ 17"},
+		{"Brennholt Flow Group", "Summary · U–Pb", "outside the 95 % range of χ²_f/f", "README: MSWD ≈ 17"},
 		{"Tindravik Flow Group", "Summary · U–Pb", "unit mixes decay systems", "README: mixes U–Pb and Ar/Ar"},
 		{"Tindravik Flow Group", "Summary · ⁴⁰Ar/³⁹Ar", "unit mixes decay systems", "README: mixes U–Pb and Ar/Ar"},
 		{"Haldruna Flow", "Summary · U–Pb", "single date", "README: a single date"},
@@ -465,9 +470,9 @@ func TestDatesCSVCarriesRecalculatedAgesAndReimports(t *testing.T) {
 
 func TestSummaryDownloadsCarryTheChoices(t *testing.T) {
 	h, db := summaryTestServer(t)
-	q := "cal=sj77-fcs2802&level=analytical&sigma=1&policy=never&rule=chauvenet&include=pending"
+	q := "cal=sj77-fcs2802&level=analytical&sigma=1&policy=never&rule=chauvenet&mswd_range=wendt-carl&include=pending"
 	want := map[string]string{"calibration": "sj77-fcs2802", "level": "analytical", "sigma_level": "1",
-		"policy": "never", "rule": "chauvenet", "include": "pending"}
+		"policy": "never", "rule": "chauvenet", "mswd_range": "wendt-carl", "include": "pending"}
 	for _, path := range []string{provinceURL(t, db) + "/summary", idURL("/units", unitID(t, db, "Tindravik Flow Group")) + "/summary"} {
 		t.Run(path+" csv", func(t *testing.T) {
 			recs, err := csv.NewReader(strings.NewReader(mustFetch(t, h, path+"?format=csv&"+q))).ReadAll()
@@ -477,7 +482,7 @@ func TestSummaryDownloadsCarryTheChoices(t *testing.T) {
 			if len(recs) < 3 {
 				t.Fatalf("%d records, want a header and rows", len(recs))
 			}
-			for i, name := range []string{"calibration", "level", "sigma_level", "policy", "rule", "include"} {
+			for i, name := range []string{"calibration", "level", "sigma_level", "policy", "rule", "mswd_range", "include"} {
 				if recs[0][i] != name {
 					t.Fatalf("column %d is %q, want %q", i, recs[0][i], name)
 				}
@@ -494,7 +499,7 @@ func TestSummaryDownloadsCarryTheChoices(t *testing.T) {
 				t.Fatal(err)
 			}
 			got := map[string]string{"calibration": doc.Calibration, "level": doc.Level, "sigma_level": strconv.Itoa(doc.SigmaLevel),
-				"policy": doc.Policy, "rule": doc.Rule, "include": doc.Include}
+				"policy": doc.Policy, "rule": doc.Rule, "mswd_range": doc.MSWDRange, "include": doc.Include}
 			for k, v := range want {
 				if got[k] != v {
 					t.Errorf("%s = %q, want %q", k, got[k], v)
@@ -518,6 +523,7 @@ func TestBadSummaryParametersAre400(t *testing.T) {
 		{prov + "?policy=mswd>1", "policy"},
 		{prov + "?rule=drop", "rule"},
 		{prov + "?include=some", "include"},
+		{prov + "?mswd_range=normal", "mswd_range"},
 		{unit + "?level=foo", "level"},
 		{unit + "?cal=nope", "cal"},
 		{prov + "/summary?level=foo", "level"},

@@ -17,13 +17,13 @@ import (
 //
 // CSV: no comment lines (the import formats allow none, and spreadsheets mangle them). Instead the
 // choices a row depends on are its first columns, repeated on every row, so a row copied out of the
-// file still says how it was made: calibration, level, sigma_level, policy, rule, include. Every σ column
+// file still says how it was made: calibration, level, sigma_level, policy, rule, mswd_range, include. Every σ column
 // (sigma_ma, sigma_kept_ma) is at sigma_level and at level (sigma_is says what that means for the row's
 // system). Lists inside a cell (flagged, excluded, cautions, notes) are separated by " | ".
 //
 // JSON: the same rows as objects under "items"; the choices are fields of the envelope, not of each row.
 
-var summaryColumns = []string{"calibration", "level", "sigma_level", "policy", "rule", "include",
+var summaryColumns = []string{"calibration", "level", "sigma_level", "policy", "rule", "mswd_range", "include",
 	"province", "unit_id", "unit", "pile_position", "system", "decay_system", "n", "mean_ma", "sigma_ma", "sigma_is",
 	"mswd", "dof", "mswd_low", "mswd_high", "mswd_in_range", "p", "age_min_ma", "age_max_ma", "flagged",
 	"n_kept", "mean_kept_ma", "sigma_kept_ma", "inflated", "inflation_factor", "excluded", "cautions", "notes"}
@@ -136,7 +136,7 @@ func writeSummaryCSV(w io.Writer, rows []summaryRow, ch summaryChoice) error {
 	}
 	list := func(xs []string) string { return strings.Join(xs, " | ") }
 	for _, r := range rows {
-		rec := []string{ch.Cal.Cal.Code, ch.Level.String(), strconv.Itoa(ch.Sigma), ch.PolicyCode, ch.Rule.String(), ch.Include,
+		rec := []string{ch.Cal.Cal.Code, ch.Level.String(), strconv.Itoa(ch.Sigma), ch.PolicyCode, ch.Rule.String(), ch.Range.String(), ch.Include,
 			r.Province, strconv.FormatInt(r.UnitID, 10), r.Unit, oi(r.PilePosition), r.System, r.DecaySystem, strconv.Itoa(r.N),
 			f(r.MeanMa), f(r.SigmaMa), r.SigmaIs, g(r.MSWD), oi(r.DoF), g(r.MSWDLow), g(r.MSWDHigh), ob(r.MSWDInRange), g(r.P),
 			f(r.AgeMinMa), f(r.AgeMaxMa), list(r.Flagged), oi(r.NKept), f(r.MeanKeptMa), f(r.SigmaKeptMa),
@@ -159,6 +159,7 @@ type summaryJSON struct {
 	SigmaLevel      int          `json:"sigma_level"`
 	Policy          string       `json:"policy"`
 	Rule            string       `json:"rule"`
+	MSWDRange       string       `json:"mswd_range"`
 	Include         string       `json:"include"`
 	Uncertainties   string       `json:"uncertainties"`
 	Count           int          `json:"count"`
@@ -171,7 +172,7 @@ func writeSummary(w http.ResponseWriter, format, name string, sums []unitSummary
 	if format == "json" {
 		writeJSON(w, http.StatusOK, summaryJSON{Kind: "unit summaries", Calibration: ch.Cal.Cal.Code, CalibrationName: ch.Cal.Cal.Name,
 			CalibrationNote: ch.Cal.label(), Level: ch.Level.String(), SigmaLevel: ch.Sigma, Policy: ch.PolicyCode, Rule: ch.Rule.String(),
-			Include: ch.Include, Count: len(rows), Items: rows,
+			MSWDRange: ch.Range.String(), Include: ch.Include, Count: len(rows), Items: rows,
 			Uncertainties: fmt.Sprintf("sigma_ma and sigma_kept_ma are at %dσ and at level %s (sigma_is says what that is for each row's system); ⁴⁰Ar/³⁹Ar means are on calibration %s",
 				ch.Sigma, ch.Level, ch.Cal.Cal.Code)})
 		return nil

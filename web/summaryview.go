@@ -33,23 +33,36 @@ func summaryForm(action string, ch summaryChoice) *views.Form {
 	}
 	rule := views.Field{Name: "rule", Label: "Outlier flags", Kind: "select", Options: []views.Option{
 		opt("none", "none", ch.Rule.String()),
-		opt("mswd", "iterative, to the Wendt & Carl limit", ch.Rule.String()),
+		opt("mswd", "iterative, to the upper limit of the MSWD range", ch.Rule.String()),
 		opt("chauvenet", "Chauvenet (unweighted)", ch.Rule.String()),
 		opt("gesd", "generalized ESD (unweighted)", ch.Rule.String())}}
 	inc := views.Field{Name: "include", Label: "Dates", Kind: "select"}
 	for _, i := range includes {
 		inc.Options = append(inc.Options, opt(i.Code, i.Label, ch.Include))
 	}
-	return &views.Form{Action: action, Reset: action, Fields: []views.Field{calibrationField(ch.Cal), level, sig, pol, rule, inc}}
+	rng := views.Field{Name: "mswd_range", Label: "MSWD range", Kind: "select"}
+	for _, m := range mswdRanges {
+		rng.Options = append(rng.Options, opt(m.Rule.String(), m.Label, ch.Range.String()))
+	}
+	return &views.Form{Action: action, Reset: action, Fields: []views.Field{calibrationField(ch.Cal), level, sig, pol, rule, rng, inc}}
 }
 
 // summaryIntro says in one paragraph what the summaries on a page are made of.
 func summaryIntro(ch summaryChoice) string {
 	return fmt.Sprintf("Weighted means per unit and decay system of %s (include=%s). ⁴⁰Ar/³⁹Ar dates enter recalculated to %s; "+
 		"± at the %s level, %dσ (level=%s, sigma=%d); systematic terms added after averaging. Overdispersion: %s (policy=%s). "+
-		"Outlier flags: %s (rule=%s) — flagged dates stay in the mean and the mean without them is shown beside it.",
+		"Outlier flags: %s (rule=%s) — flagged dates stay in the mean and the mean without them is shown beside it. "+
+		"MSWD judged against %s.",
 		includeLabel(ch.Include), ch.Include, ch.Cal.label(), levelNames[ch.Level], ch.Sigma, ch.Level, ch.Sigma,
-		policyLabel(ch.PolicyCode), ch.PolicyCode, ruleLabel(ch.Rule), ch.Rule)
+		policyLabel(ch.PolicyCode), ch.PolicyCode, ruleLabel(ch.Rule), ch.Rule, mswdRangeText(ch.Range))
+}
+
+// mswdRangeText says in a sentence how the acceptable MSWD range is made.
+func mswdRangeText(rule stats.MSWDRangeRule) string {
+	if rule == stats.RangeWendtCarl {
+		return "the Wendt & Carl (1991) range 1 ± 2√(2/f), lower limit floored at 0: a normal approximation, much narrower than the exact range for few dates (f = 1: up to 3.83 instead of 5.02), kept to compare with papers that use it"
+	}
+	return "the exact 95 % range of the MSWD of dates whose uncertainties are right, the 2.5 % and 97.5 % quantiles of χ²_f/f (f = n − 1); Wendt & Carl's 1 ± 2√(2/f) is available among the choices for comparison with papers"
 }
 
 func policyLabel(code string) string {
@@ -66,7 +79,7 @@ func ruleLabel(r stats.OutlierRule) string {
 	case stats.RuleNone:
 		return "none"
 	case stats.RuleMSWD:
-		return "iterative rejection while the MSWD exceeds the Wendt & Carl limit"
+		return "iterative rejection while the MSWD exceeds the upper limit of its range"
 	case stats.RuleChauvenet:
 		return "Chauvenet's criterion (unweighted)"
 	case stats.RuleGESD:
@@ -131,7 +144,7 @@ func summaryTable(sums []unitSummary, ch summaryChoice) views.Table {
 			{Label: "Weighted mean", Unit: "Ma", Num: true},
 			{Label: fmt.Sprintf("± %dσ", ch.Sigma), Unit: "Ma", Num: true},
 			{Label: "± level", Title: "which uncertainty the ± holds, for this row"},
-			{Label: "MSWD", Num: true}, {Label: "W&C range", Num: true, Title: "Wendt & Carl (1991): 1 ± 2√(2/f)"},
+			{Label: "MSWD", Num: true}, {Label: "MSWD range", Num: true, Title: mswdRangeName(ch.Range)},
 			{Label: "p", Num: true},
 			{Label: "Cautions and notes", Title: "next to the numbers they qualify"},
 			{Label: "Dates span", Unit: "Ma", Num: true},
@@ -152,7 +165,7 @@ func summaryTable(sums []unitSummary, ch summaryChoice) views.Table {
 	}
 	t.Notes = []string{summaryIntro(ch),
 		"U–Pb Y and Z: the tracer term of each unit is the one its dates' published X and Y imply (0.03 % at 2σ assumed where they publish no Y); the λ238 term is 0.107 % (2σ, Jaffey et al. 1971). ⁴⁰Ar/³⁹Ar full external: the monitor-age and λ σ of the calibration, with their covariance where its source fits them jointly, added to the mean.",
-		"MSWD outside the Wendt & Carl range, a unit mixing decay systems, ⁴⁰Ar/³⁹Ar dates not recalculable and a single date are marked ⚠ in the row."}
+		"MSWD outside its range, a unit mixing decay systems, ⁴⁰Ar/³⁹Ar dates not recalculable and a single date are marked ⚠ in the row."}
 	return t
 }
 
@@ -180,7 +193,7 @@ func summaryCells(unit views.Cell, s systemSummary, ch summaryChoice) []views.Ce
 		p.Text = fmtP(a.P)
 		if !a.InRange {
 			mswd.Class, mswd.Text = "caution", "⚠ "+mswd.Text
-			mswd.Title = "outside the Wendt & Carl range"
+			mswd.Title = "outside the " + mswdRangeName(a.Range)
 		}
 	} else {
 		mswd.Class = "caution"
@@ -223,7 +236,7 @@ func summaryGroups(us unitSummary, ch summaryChoice) []views.FieldGroup {
 					kv.Class = "caution"
 				}
 				g.Fields = append(g.Fields, kv,
-					views.KV{Label: "Wendt & Carl range", Value: fmtMSWD(a.MSWDLow) + "–" + fmtMSWD(a.MSWDHigh)},
+					views.KV{Label: "MSWD range", Value: fmtMSWD(a.MSWDLow) + "–" + fmtMSWD(a.MSWDHigh) + " (" + mswdRangeName(a.Range) + ")"},
 					views.KV{Label: "p", Value: fmtP(a.P)})
 			} else {
 				g.Fields = append(g.Fields, views.KV{Label: "MSWD", Value: "none: a single date", Class: "caution"})

@@ -30,7 +30,7 @@ func (s *Server) registerTimelineRoutes(r chi.Router) {
 // timelineURL is the province's timeline with the summary choices of the current view kept.
 func timelineURL(r *http.Request, id int64) string {
 	q := url.Values{}
-	for _, k := range []string{"cal", "level", "sigma", "policy", "rule", "include"} {
+	for _, k := range []string{"cal", "level", "sigma", "policy", "rule", "mswd_range", "include"} {
 		if v := r.URL.Query().Get(k); v != "" {
 			q.Set(k, v)
 		}

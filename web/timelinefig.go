@@ -397,7 +397,7 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 // timelineJSON is the density, its pulses and the values counted, with every choice that made them.
 func timelineJSON(r *http.Request, prov store.Province, res densityResult, ch densityChoice) map[string]any {
 	choices := map[string]string{}
-	for _, k := range []string{"count", "weight", "bw", "h", "adaptive", "pdp", "from", "to", "seed", "reps", "bw_each", "cal", "level", "sigma", "policy", "rule", "include"} {
+	for _, k := range []string{"count", "weight", "bw", "h", "adaptive", "pdp", "from", "to", "seed", "reps", "bw_each", "cal", "level", "sigma", "policy", "rule", "mswd_range", "include"} {
 		if v := r.URL.Query().Get(k); v != "" {
 			choices[k] = v
 		}

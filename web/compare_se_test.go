@@ -1,0 +1,70 @@
+package web
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// The SE in the downloads counts the draws the inputs are given by, not only N: with N = 20,000 joint
+// draws resampling 100 bootstrap replicates of the pulses, every pulse row's SE is at least
+// sqrt(P(1 − P)(1/N + 1/100)) (a pulse's edges exist in at most 100 replicates), about 14 times the
+// binomial sqrt(P(1 − P)/N) the downloads used to give; and the JSON gives the same SE as the CSV.
+func TestCompareDownloadSECountsTheInputDraws(t *testing.T) {
+	srv, _ := mustServer(t)
+	const n, reps = 20000, 100
+	q := "/compare?sens=0&n=" + strconv.Itoa(n) + "&reps=" + strconv.Itoa(reps) + "&draws=200"
+	_, _, body := get(t, srv, q+"&format=csv")
+	recs, err := csv.NewReader(strings.NewReader(body)).ReadAll()
+	if err != nil || len(recs) < 2 {
+		t.Fatalf("%d records, %v", len(recs), err)
+	}
+	col := map[string]int{}
+	for i, h := range recs[0] {
+		col[h] = i
+	}
+	num := func(r []string, name string) float64 {
+		v, err := strconv.ParseFloat(r[col[name]], 64)
+		if err != nil {
+			t.Fatalf("%s = %q: %v", name, r[col[name]], err)
+		}
+		return v
+	}
+	checked := 0
+	for _, r := range recs[1:] {
+		for _, name := range []string{"p_after_onset", "p_within"} {
+			p, se := num(r, name), num(r, name+"_se")
+			if p == 0 || p == 1 {
+				continue
+			}
+			if floor := math.Sqrt(p * (1 - p) * (1./n + 1./reps)); se < floor*(1-1e-12) {
+				t.Errorf("%s × %s: %s %g ± %g, want SE ≥ %g (1/N + 1/replicates)", r[col["pulse"]], r[col["event_code"]], name, p, se, floor)
+			}
+			checked++
+		}
+	}
+	if checked < 10 {
+		t.Fatalf("only %d probabilities strictly between 0 and 1 checked", checked)
+	}
+	// The page's account of each row says how many effective draws its SE rests on.
+	if _, _, page := get(t, srv, q); !strings.Contains(page, "effective draws of the N = 20000 joint draws: 1/Neff = 1/N + 1/M") {
+		t.Error("the page's account of a row does not say how its SE is made")
+	}
+	_, _, js := get(t, srv, q+"&format=json")
+	var doc struct {
+		Rows []map[string]string `json:"rows"`
+	}
+	if err := json.Unmarshal([]byte(js), &doc); err != nil || len(doc.Rows) != len(recs)-1 {
+		t.Fatalf("JSON rows %d, CSV rows %d, %v", len(doc.Rows), len(recs)-1, err)
+	}
+	for i, row := range doc.Rows {
+		for _, name := range []string{"p_after_onset_se", "p_within_se", "p_near_se", "p_volume_majority_se"} {
+			if v, c := row[name], recs[i+1][col[name]]; v != c {
+				t.Errorf("row %d: JSON %s %q, CSV %q", i, name, v, c)
+			}
+		}
+	}
+}
