@@ -7,9 +7,12 @@ import (
 	"database/sql/driver"
 	"errors"
 	"log/slog"
+	"reflect"
 	"strconv"
 	"sync"
 	"time"
+
+	"github.com/alexedwards/scs/v2"
 
 	"coeval/store"
 )
@@ -105,7 +108,7 @@ func (s *sessionStore) CommitCtx(ctx context.Context, token string, b []byte, ex
 	if err != nil && !errors.Is(err, sql.ErrNoRows) {
 		return err
 	}
-	if err == nil && bytes.Equal(stored, b) {
+	if err == nil && sameSession(stored, b) {
 		if behindDays*24*float64(time.Hour) < float64(s.touchEvery) {
 			return nil
 		}
@@ -124,6 +127,18 @@ func (s *sessionStore) CommitCtx(ctx context.Context, token string, b []byte, ex
 		return nil
 	}
 	return err
+}
+
+// sameSession reports whether two encoded sessions hold the same deadline and values. The gob encoding
+// of a map follows its random iteration order, so equal sessions of several values may differ in bytes.
+func sameSession(a, b []byte) bool {
+	if bytes.Equal(a, b) {
+		return true
+	}
+	var codec scs.GobCodec
+	da, va, errA := codec.Decode(a)
+	db, vb, errB := codec.Decode(b)
+	return errA == nil && errB == nil && da.Equal(db) && reflect.DeepEqual(va, vb)
 }
 
 // touch moves a stored session's expiry on if the write lock is free at once; it never waits.

@@ -10,6 +10,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/alexedwards/scs/v2"
+
 	"coeval/store"
 )
 
@@ -57,5 +59,36 @@ func TestSessionKeptInMemoryWhenTheDiskIsFull(t *testing.T) {
 	db.SQL().QueryRowContext(ctx, `SELECT count(*) FROM sessions`).Scan(&after)
 	if after != before {
 		t.Errorf("the sessions table went from %d to %d rows", before, after)
+	}
+}
+
+// A session of several values whose encoding differs only in the order of its map (gob follows the map's
+// random iteration order) is the same session: committing it again is a touch, and writes nothing while
+// its expiry is recent.
+func TestSessionTouchIgnoresTheOrderOfValues(t *testing.T) {
+	deadline := time.Now().Add(time.Hour).UTC()
+	values := map[string]any{}
+	for i := range 20 {
+		values[fmt.Sprintf("key-%d", i)] = int64(i)
+	}
+	var codec scs.GobCodec
+	first, err := codec.Encode(deadline, values)
+	if err != nil {
+		t.Fatal(err)
+	}
+	differs := false
+	for range 50 {
+		again, _ := codec.Encode(deadline, values)
+		if !sameSession(first, again) {
+			t.Fatal("the same session's values encoded again are not recognised as the same")
+		}
+		differs = differs || !bytes.Equal(first, again)
+	}
+	if !differs {
+		t.Log("the encodings happened to be identical in every try")
+	}
+	values["key-0"] = int64(99)
+	if changed, _ := codec.Encode(deadline, values); sameSession(first, changed) {
+		t.Error("a changed value is taken for the same session")
 	}
 }
