@@ -4,7 +4,6 @@ go 1.26.8
 
 require (
 	github.com/a-h/templ v0.3.1100
-	github.com/alexedwards/scs/sqlite3store v0.0.0-20251002162104-209de6e426de
 	github.com/alexedwards/scs/v2 v2.9.0
 	github.com/chromedp/chromedp v0.23.0
 	github.com/go-chi/chi/v5 v5.5.0

@@ -141,13 +141,39 @@ func demoFS() fs.FS {
 	return sub
 }
 
+// openForServing opens and migrates the database; when it cannot be written (read-only storage, a full
+// disk) but is already migrated, it opens it read-only instead, so the compilation can still be read.
+func openForServing(ctx context.Context, path string, logger *slog.Logger) (*store.DB, error) {
+	db, err := openStore(ctx, path)
+	if err == nil || !store.IsUnwritable(err) {
+		return db, err
+	}
+	ro, roErr := store.OpenReadOnly(ctx, path)
+	if roErr != nil {
+		return nil, err
+	}
+	pending, perr := ro.PendingMigrations(ctx, migrations.FS)
+	if perr != nil || len(pending) > 0 {
+		ro.Close()
+		if perr != nil {
+			return nil, perr
+		}
+		return nil, fmt.Errorf("the database %s cannot be written (%v) and needs updating to this version of coeval (migrations %v): make it writable and start again", path, err, pending)
+	}
+	logger.Warn("the database cannot be written: serving it read-only; sign-ins last until the server stops", "db", path, "err", err)
+	return ro, nil
+}
+
 func serve(ctx context.Context, cfg config, logger *slog.Logger, stdout io.Writer) error {
-	db, err := openStore(ctx, cfg.dbPath)
+	db, err := openForServing(ctx, cfg.dbPath, logger)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
-	if cfg.demo {
+	if db.ReadOnly() {
+		fmt.Fprintf(stdout, "coeval: %s cannot be written (read-only storage or a full disk); serving it for reading only\n", cfg.dbPath)
+	}
+	if cfg.demo && !db.ReadOnly() {
 		seeded, results, err := db.SeedDemo(ctx, demoFS(), demoLabel)
 		if err != nil {
 			return err

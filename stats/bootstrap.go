@@ -30,6 +30,9 @@ type BandOptions struct {
 	// resampled date that carries it together. Their terms must not also be in sigmaMa, which is then
 	// each date's random part: a shared λ or tracer moves a whole density, it does not spread it.
 	Shared []SharedComponent
+	// Stop, when set, is asked before every replicate; a non-nil error ends the band with that error
+	// (an abandoned request: pass its context's Err).
+	Stop func() error
 }
 
 // DensityBand is a bootstrap band around a KDE.
@@ -130,6 +133,11 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 			}
 			var sc kdeScratch
 			for r := w; r < nRep; r += workers {
+				if opts.Stop != nil {
+					if errs[r] = opts.Stop(); errs[r] != nil {
+						return
+					}
+				}
 				rng := rand.New(rand.NewPCG(opts.Seed, uint64(r)))
 				for i := range ages {
 					k := rng.IntN(n)
@@ -163,6 +171,11 @@ func BootstrapBand(agesMa, sigmaMa []float64, opts BandOptions) (DensityBand, er
 		}()
 	}
 	wg.Wait()
+	if opts.Stop != nil {
+		if err := opts.Stop(); err != nil {
+			return DensityBand{}, fmt.Errorf("bootstrap band: %w", err)
+		}
+	}
 	for r, err := range errs {
 		if err != nil {
 			// Only zero resampled weights can get here (every drawn unit has weight 0).

@@ -26,44 +26,69 @@ const TimeFormat = time.RFC3339
 type DB struct {
 	db         *sql.DB
 	now        func() time.Time
-	bcryptCost int // 0 = bcrypt.DefaultCost
+	bcryptCost int  // 0 = bcrypt.DefaultCost
+	readOnly   bool // opened with OpenReadOnly: every write fails with SQLITE_READONLY
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:
 // WAL, a busy timeout, foreign keys on, and immediate transactions so that read-then-write transactions
 // do not fail with SQLITE_BUSY under concurrency. It does not migrate; call Migrate.
 func Open(ctx context.Context, path string) (*DB, error) {
-	return open(ctx, path, false)
+	return open(ctx, path, "")
 }
 
 // OpenReadOnly opens the database file for reading only (SQLite's mode=ro): every write fails with
-// SQLITE_READONLY, which IsUnwritable recognises.
+// SQLITE_READONLY, which IsUnwritable recognises. On read-only storage, where SQLite cannot create the
+// WAL's shared-memory file beside the database, it opens the file as immutable (nothing can change it
+// there anyway). ReadOnly reports true.
 func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
-	return open(ctx, path, true)
+	db, err := open(ctx, path, "ro")
+	if err != nil && isCantOpen(err) {
+		if db, err2 := open(ctx, path, "immutable"); err2 == nil {
+			return db, nil
+		}
+	}
+	return db, err
 }
 
-func open(ctx context.Context, path string, readOnly bool) (*DB, error) {
+// ReadOnly reports whether the database was opened for reading only.
+func (d *DB) ReadOnly() bool { return d.readOnly }
+
+// open opens the file in mode "" (read and write, creating it), "ro" or "immutable" (read-only storage).
+func open(ctx context.Context, path string, mode string) (*DB, error) {
 	q := url.Values{}
-	if readOnly {
+	switch mode {
+	case "ro":
 		q.Set("mode", "ro")
+	case "immutable":
+		q.Set("mode", "ro")
+		q.Set("immutable", "1")
 	}
 	q.Add("_pragma", "busy_timeout(5000)")
-	q.Add("_pragma", "journal_mode(WAL)")
+	if mode != "immutable" {
+		q.Add("_pragma", "journal_mode(WAL)")
+	}
 	q.Add("_pragma", "foreign_keys(1)")
 	q.Add("_pragma", "synchronous(NORMAL)")
 	q.Set("_txlock", "immediate")
-	// SQLite reads the name as a URI: escape the characters that would end the path or be decoded.
-	escaped := strings.NewReplacer("%", "%25", "?", "%3F", "#", "%23").Replace(path)
-	dsn := "file:" + escaped + "?" + q.Encode()
+	dsn := "file:" + escapePath(path) + "?" + q.Encode()
 	sqldb, err := sql.Open("sqlite", dsn)
 	if err != nil {
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
-	if err := sqldb.PingContext(ctx); err != nil {
+	// A read of the schema, not only a ping: a read-only file in WAL mode fails only when first read.
+	var n int
+	if err := sqldb.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema`).Scan(&n); err != nil {
 		sqldb.Close()
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
-	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }}, nil
+	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != ""}, nil
+}
+
+// escapePath escapes the characters that would end a path in a URI or be decoded (a "#" in a path once
+// truncated it): SQLite reads the name as a URI.
+func escapePath(path string) string {
+	return strings.NewReplacer("%", "%25", "?", "%3F", "#", "%23").Replace(path)
 }
 
 // Close closes the database.
@@ -114,6 +139,43 @@ func (d *DB) Migrate(ctx context.Context, fsys fs.FS) ([]int, error) {
 		}
 	}
 	return applied, nil
+}
+
+// PendingMigrations lists, in order, the versions of fsys's migrations not yet recorded in the database,
+// without writing anything (a read-only database can be served only when the list is empty).
+func (d *DB) PendingMigrations(ctx context.Context, fsys fs.FS) ([]int, error) {
+	entries, err := fs.ReadDir(fsys, ".")
+	if err != nil {
+		return nil, fmt.Errorf("migrations: %w", err)
+	}
+	done := map[int]bool{}
+	var has int
+	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE name = 'schema_migrations'`).Scan(&has); err != nil {
+		return nil, fmt.Errorf("migrations: %w", err)
+	}
+	if has > 0 {
+		vs, err := queryAll(ctx, d.db, `SELECT version FROM schema_migrations`, nil,
+			func(r interface{ Scan(...any) error }) (int, error) { var v int; return v, r.Scan(&v) })
+		if err != nil {
+			return nil, fmt.Errorf("migrations: %w", err)
+		}
+		for _, v := range vs {
+			done[v] = true
+		}
+	}
+	var pending []int
+	for _, e := range entries {
+		num, _, ok := strings.Cut(e.Name(), "_")
+		v, err := strconv.Atoi(num)
+		if !strings.HasSuffix(e.Name(), ".sql") || !ok || err != nil {
+			continue
+		}
+		if !done[v] {
+			pending = append(pending, v)
+		}
+	}
+	sort.Ints(pending)
+	return pending, nil
 }
 
 func (d *DB) applyMigration(ctx context.Context, fsys fs.FS, version int, name string) (bool, error) {

@@ -79,13 +79,28 @@ func isForeignKeyViolation(err error) bool {
 }
 
 // IsUnwritable reports whether err is SQLite refusing a write because the database is read-only
-// (SQLITE_READONLY, 8) or the disk or the database's page limit is full (SQLITE_FULL, 13), whatever the
-// extended code. Reads still work then; callers say so instead of reporting an internal error.
+// (SQLITE_READONLY, 8), the disk or the database's page limit is full (SQLITE_FULL, 13), or a file it
+// needs to write cannot be opened (SQLITE_CANTOPEN, 14: read-only storage), whatever the extended code.
+// Reads still work then; callers say so instead of reporting an internal error.
 func IsUnwritable(err error) bool {
+	primary := sqliteCode(err) & 0xff
+	return primary == 8 || primary == 13 || primary == 14
+}
+
+// IsBusy reports whether err is SQLite giving up on a lock another connection held for longer than the
+// busy timeout (SQLITE_BUSY, 5, or SQLITE_LOCKED, 6): the request may succeed when tried again.
+func IsBusy(err error) bool {
+	primary := sqliteCode(err) & 0xff
+	return primary == 5 || primary == 6
+}
+
+func isCantOpen(err error) bool { return sqliteCode(err)&0xff == 14 }
+
+// sqliteCode is err's SQLite result code, or 0 when err is not from SQLite.
+func sqliteCode(err error) int {
 	var se *sqlite.Error
 	if !errors.As(err, &se) {
-		return false
+		return 0
 	}
-	primary := se.Code() & 0xff
-	return primary == 8 || primary == 13
+	return se.Code()
 }

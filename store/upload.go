@@ -7,7 +7,10 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"net/url"
+	"os"
 	"path"
+	"path/filepath"
 	"strings"
 
 	"github.com/xuri/excelize/v2"
@@ -162,19 +165,55 @@ func (d *DB) UploadByID(ctx context.Context, id int64) (Upload, error) {
 	return u, notFound(err, "upload", id)
 }
 
-// PreviewUpload runs the upload's import without writing anything.
+// PreviewUpload runs the upload's import without writing anything. It runs on a snapshot of the
+// database in a temporary file (see snapshot), so a long preview holds no lock of the database: signed-in
+// readers and other writers go on meanwhile.
 func (d *DB) PreviewUpload(ctx context.Context, u Upload) (Preview, error) {
 	p := Preview{Upload: u}
 	if t, err := readCSV(u.FileName, bytes.NewReader(u.Body)); err == nil {
 		p.Header, p.Rows, p.Lines = t.header, t.rows, t.lines
 	}
-	res, err := d.ImportReader(withDryRun(ctx), u.Kind, u.Section, u.FileName, bytes.NewReader(u.Body))
+	snap, done, err := d.snapshot(ctx)
+	if err != nil {
+		return p, err
+	}
+	defer done()
+	res, err := snap.ImportReader(withDryRun(ctx), u.Kind, u.Section, u.FileName, bytes.NewReader(u.Body))
 	p.Result = res
 	if ve, ok := AsValidation(err); ok {
 		p.Problems = ve.Problems
 		return p, nil
 	}
 	return p, err
+}
+
+// snapshot copies the database into a temporary file with VACUUM INTO, which reads in one read
+// transaction (in WAL mode it waits for no writer and blocks none), and opens the copy for a dry run:
+// the dry run's inserts then take the copy's write lock, not the database's. done closes and removes
+// the copy. The copy costs a read of the whole database and as much temporary disk space.
+func (d *DB) snapshot(ctx context.Context) (*DB, func(), error) {
+	dir, err := os.MkdirTemp("", "coeval-preview-*")
+	if err != nil {
+		return nil, nil, fmt.Errorf("snapshot for a preview: %w", err)
+	}
+	path := filepath.Join(dir, "snapshot.db")
+	if _, err := d.db.ExecContext(ctx, `VACUUM INTO ?`, path); err != nil {
+		os.RemoveAll(dir)
+		return nil, nil, fmt.Errorf("snapshot for a preview: %w", err)
+	}
+	// A scratch copy: no journal to keep, nothing to sync.
+	q := url.Values{}
+	q.Add("_pragma", "foreign_keys(1)")
+	q.Add("_pragma", "journal_mode(MEMORY)")
+	q.Add("_pragma", "synchronous(OFF)")
+	sqldb, err := sql.Open("sqlite", "file:"+escapePath(path)+"?"+q.Encode())
+	if err != nil {
+		os.RemoveAll(dir)
+		return nil, nil, fmt.Errorf("snapshot for a preview: %w", err)
+	}
+	sqldb.SetMaxOpenConns(1) // one dry run on its own copy: one connection is all it needs
+	snap := &DB{db: sqldb, now: d.now, bcryptCost: d.bcryptCost}
+	return snap, func() { sqldb.Close(); os.RemoveAll(dir) }, nil
 }
 
 // CommitUpload imports a previewed upload for real, as one change batch, and marks the upload used.

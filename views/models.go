@@ -21,6 +21,7 @@ type Page struct {
 	Crumbs    []Link
 	Downloads []Link
 	Demo      string
+	ReadOnly  string // a banner: the database cannot be written
 }
 
 // Stat is one figure of the home page.

@@ -3,6 +3,7 @@ package web
 import (
 	"context"
 	"errors"
+	"log/slog"
 	"net"
 	"net/http"
 	"net/url"
@@ -10,7 +11,6 @@ import (
 	"sync"
 	"time"
 
-	"github.com/alexedwards/scs/sqlite3store"
 	"github.com/alexedwards/scs/v2"
 	"github.com/go-chi/chi/v5"
 
@@ -47,9 +47,9 @@ func currentUser(ctx context.Context) (store.User, bool) {
 	return u, ok
 }
 
-func newSessions(st Store, o options) *scs.SessionManager {
+func newSessions(st Store, log *slog.Logger, o options) *scs.SessionManager {
 	sm := scs.New()
-	sm.Store = sqlite3store.NewWithCleanupInterval(st.SQL(), o.sessionCleanup)
+	sm.Store = newSessionStore(st.SQL(), st.ReadOnly(), log, o.sessionCleanup)
 	sm.Lifetime = 7 * 24 * time.Hour
 	sm.IdleTimeout = 24 * time.Hour
 	sm.Cookie.Name = "coeval_session"

@@ -337,6 +337,7 @@ type compareData struct {
 	TieIns    map[int64][]tieInput // the ties as the age model uses them (dates at the full level)
 	LinkDates map[int64]store.Date // dates linked to tie points
 	Cals      []store.Calibration
+	stop      func() error // the request's context's Err, asked between the steps of the computation (nil: never)
 }
 
 // reviewedEvents keeps the events include= lets into the comparison (as for dates and ties) and notes
@@ -445,6 +446,7 @@ func (s *Server) loadCompareData(ctx context.Context, ch *compareChoice) (*compa
 // pulseInputs computes the density with the choice and returns its pulses with their edge draws, the
 // density (for the figure) and the unit summaries.
 func pulseInputs(d *compareData, dc densityChoice) ([]comparePulse, densityResult, []unitSummary, string, error) {
+	dc.stop = d.stop
 	sums, err := summarizeUnits(d.Units, d.Dates, dc.Sum)
 	if err != nil {
 		return nil, densityResult{}, nil, "", err
@@ -698,6 +700,9 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 	var notes []string
 	wanted := func(id int64) bool { return len(ch.EventIDs) == 0 || slices.Contains(ch.EventIDs, id) }
 	for _, sec := range d.Sections {
+		if err := d.stopped(); err != nil {
+			return nil, nil, err
+		}
 		o := sectionOptionsFrom(&params{q: url.Values{}}, sec)
 		o.Model, o.Draws, o.Seed, o.Include = sc.Model, sc.Draws, sc.Seed, ch.Dens.Sum.Include
 		// The ties enter with their random part; their components are the engine's to draw, once per
@@ -1102,6 +1107,9 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 		return res, nil
 	}
 	qs, iv, evIdx, unitIdx, rowIdx := assemble(res.In)
+	if err := d.stopped(); err != nil {
+		return nil, err
+	}
 	jd, err := stats.DrawJoint(qs, stats.DrawOptions{N: ch.N, Seed: ch.Dens.Seed, Level: ch.Level})
 	if err != nil {
 		return nil, err
@@ -1171,6 +1179,9 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 	}
 	res.OrderCodes = codes
 	if res.Order, err = jd.Order(items); err != nil {
+		return nil, err
+	}
+	if err := d.stopped(); err != nil {
 		return nil, err
 	}
 	if ch.Sens {
@@ -1316,6 +1327,9 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 	var wg sync.WaitGroup
 	for k, a := range alts {
 		wg.Go(func() {
+			if errs[k] = d.stopped(); errs[k] != nil {
+				return
+			}
 			qs := slices.Clone(base)
 			if a.dens != nil {
 				ps, _, sums, _, err := pulseInputs(d, *a.dens)
@@ -1400,6 +1414,9 @@ func (res *compareResult) sensitivity(d *compareData, ch compareChoice, base []s
 	}
 	var volMedians [][]float64
 	compare := func(j *stats.JointDraws) ([]stats.NamedProbability, error) {
+		if err := d.stopped(); err != nil {
+			return nil, err
+		}
 		var out []stats.NamedProbability
 		if ch.pulseRows() {
 			t, err := j.Table(iv, evIdx, stats.PairOptions{DeltaMa: ch.DeltaMa})

@@ -46,6 +46,9 @@ func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
 	if err := p.err(); err != nil {
 		return nil, false, err
 	}
+	if err := anonymousComputeLimits(ctx, ch); err != nil {
+		return nil, false, err
+	}
 	// The data are read in many queries; a change committed between them would mix two states of the
 	// compilation. Every change moves the data stamp, so the load counts only when the stamp is the same
 	// before and after it; otherwise it is read again (and, should writes never pause, used uncached).
@@ -64,6 +67,7 @@ func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
 		if err != nil {
 			return nil, false, err
 		}
+		d.stop = ctx.Err
 		after, err := c.store.DataStamp(ctx)
 		if err != nil {
 			return nil, false, err

@@ -49,6 +49,7 @@ type Store interface {
 	UserByID(ctx context.Context, id int64) (store.User, error)
 	UserByToken(ctx context.Context, token string) (store.User, error)
 	SQL() *sql.DB
+	ReadOnly() bool
 	CreateDate(ctx context.Context, f store.DateForm, asCurator bool) (store.Date, error)
 	UpdateDate(ctx context.Context, id int64, version int, f store.DateForm, asCurator bool) (store.Date, error)
 	ReviewDate(ctx context.Context, id int64, version int, accept bool, note string) (store.Date, error)
@@ -126,7 +127,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	for _, opt := range opts {
 		opt(&o)
 	}
-	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, o),
+	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
 		limiter: newLoginLimiter(5, 15*time.Minute, o.now)}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
@@ -244,6 +245,12 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "That record is not in the compilation."
 		case errors.Is(err, context.Canceled):
 			return
+		case store.IsBusy(err):
+			// Another change holds the database for longer than the busy timeout: try again shortly.
+			s.log.Warn("database busy", "method", r.Method, "path", r.URL.Path, "err", err)
+			w.Header().Set("Retry-After", "5")
+			view.Status, view.Page.Title = http.StatusServiceUnavailable, "Busy: try again in a few seconds"
+			view.Message = "The database is busy with another change, so this request was not done and nothing was saved. Try again in a few seconds."
 		case store.IsUnwritable(err):
 			s.log.Warn("write refused by the database", "method", r.Method, "path", r.URL.Path, "err", err)
 			view.Status, view.Page.Title = http.StatusServiceUnavailable, "Changes are not possible right now"
@@ -277,6 +284,9 @@ func (s *Server) render(w http.ResponseWriter, r *http.Request, status int, c te
 	w.Write(buf.Bytes())
 }
 
+// readOnlyBanner is shown on every page while the database is open for reading only.
+const readOnlyBanner = "The database is on storage that cannot be written, so the compilation is open for reading only: nothing can be added, edited or imported. Signing in works, but lasts only until the server restarts. An administrator can make the storage writable again."
+
 // page builds the common part of a page's view model.
 func (s *Server) page(ctx context.Context, title, nav string) views.Page {
 	p := views.Page{Title: title, Nav: nav}
@@ -292,6 +302,9 @@ func (s *Server) page(ctx context.Context, title, nav string) views.Page {
 	}
 	if demo, err := s.store.Setting(ctx, store.SettingDemo); err == nil && demo != "" {
 		p.Demo = demo
+	}
+	if s.store.ReadOnly() {
+		p.ReadOnly = readOnlyBanner
 	}
 	return p
 }

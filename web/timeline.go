@@ -44,6 +44,7 @@ func timelineURL(r *http.Request, id int64) string {
 
 // densityChoice is every choice of the density and its figure, read from the URL.
 type densityChoice struct {
+	stop     func() error        // asked between replicates: the request's context's Err (nil: never stops)
 	Sum      summaryChoice       // cal, level, sigma, policy, rule, include: how unit means are made
 	Count    string              // count=unit|date (default unit)
 	Weight   string              // weight=none|volume (default none)
@@ -63,6 +64,7 @@ type densityChoice struct {
 const (
 	defaultSeed = 1
 	defaultReps = 1000
+	maxReps     = 10000
 	// minPoints and maxPoints bound the density grid; between them it has 8 points per bandwidth (or
 	// per smallest σ of a PDP), enough for a smooth curve and no more: every bootstrap replicate is
 	// evaluated on it.
@@ -129,7 +131,7 @@ func (s *Server) densityChoice(ctx context.Context, p *params) (densityChoice, e
 		p.problems = append(p.problems, fmt.Sprintf("bw_each: re-estimating the bandwidth in every replicate needs bw=scott, silverman or silverman-robust, not %s (ISJ in every replicate would take seconds; a set h has nothing to re-estimate)", ch.Rule))
 	}
 	ch.Seed = uint64(p.int("seed", defaultSeed, 0, math.MaxInt32))
-	ch.Reps = p.int("reps", defaultReps, 100, 10000)
+	ch.Reps = p.int("reps", defaultReps, 100, maxReps)
 	return ch, nil
 }
 
@@ -377,7 +379,7 @@ func computeDensity(sums []unitSummary, ch densityChoice, dateBars [][2]float64)
 	res.Shared = sharedComponents(res.Values)
 	band, err := stats.BootstrapBand(ages, randoms, stats.BandOptions{
 		KDE:        stats.KDEOptions{Bandwidth: bandBW, Adaptive: ch.Adaptive, Weight: weights, Grid: grid},
-		Replicates: ch.Reps, Seed: ch.Seed, ReestimateBandwidth: ch.BWEach, Shared: res.Shared})
+		Replicates: ch.Reps, Seed: ch.Seed, ReestimateBandwidth: ch.BWEach, Shared: res.Shared, Stop: ch.stop})
 	if err != nil {
 		return res, fmt.Errorf("density band: %w", err)
 	}
