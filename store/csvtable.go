@@ -9,6 +9,8 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+
+	"coeval/stats"
 )
 
 // csvTable is a parsed CSV file with a header, and the problems found while reading its cells. Readers of
@@ -214,6 +216,22 @@ func (r row) positive(col string, v *float64, allowZero bool) {
 		}
 		r.problem(col, "want a number %s, got %s", want, formatNumber(*v))
 	}
+}
+
+// plausibleSigma checks that an uncertainty sigma (Ma, at σ level level; 0 when the level is not known,
+// then read as 1σ) of a positive age can be weighted: at least 10⁻⁶ × the age at 1σ (stats.SigmaFloorMa),
+// so that its weight 1/σ² is a finite number. Smaller ones are typing or unit mistakes.
+func (r row) plausibleSigma(col string, age, sigma float64, level int) {
+	k := float64(max(level, 1))
+	if stats.UsableSigma(age, sigma/k) {
+		return
+	}
+	at := ""
+	if level > 0 {
+		at = fmt.Sprintf(" at %dσ", level)
+	}
+	r.problem(col, "want an uncertainty of at least 10⁻⁶ × the age (%s Ma%s for %s Ma), got %s: a smaller one is not a plausible measurement and cannot be weighted",
+		formatNumber(k*stats.SigmaFloorMa(age)), at, formatNumber(age), formatNumber(sigma))
 }
 
 // within checks lo ≤ *v ≤ hi when v is present.

@@ -1,0 +1,61 @@
+package store
+
+import (
+	"context"
+	"strings"
+	"testing"
+)
+
+// wantProblem fails unless err is a validation error with a problem on column col containing msg.
+func wantProblem(t *testing.T, err error, col, msg string) {
+	t.Helper()
+	ve, ok := AsValidation(err)
+	if !ok {
+		t.Fatalf("got %v, want a validation error on %s", err, col)
+	}
+	for _, p := range ve.Problems {
+		if p.Column == col && strings.Contains(p.Message, msg) {
+			return
+		}
+	}
+	t.Errorf("problems %v: want one on column %q containing %q", ve.Problems, col, msg)
+}
+
+// A σ too small to weigh (1e-320 gives 1/σ² = +Inf and a NaN mean on every page) or implausibly fine
+// (below 10⁻⁶ of the age) is refused by imports and forms alike, with the rule in the message.
+func TestImplausibleSigmaRefused(t *testing.T) {
+	const rule = "at least 10⁻⁶ × the age"
+	for _, c := range []struct{ name, row string }{
+		{"subnormal", "P,U1,S-2,upb_idtims,zircon,eruption,155.4,1e-320,2,,,\n"},
+		{"1e-200 pending", "P,U1,S-2,upb_idtims,zircon,eruption,155.4,1e-200,2,,,\n"},
+		{"below 1 ppm at 2σ", "P,U1,S-2,upb_idtims,zircon,eruption,155.4,0.0003,2,,,\n"}, // 1σ 0.00015 < 0.0001554
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			db := mustOpenDB(t)
+			_, err := importString(t, db, "dates", "", dateHeader+goodDate+c.row)
+			wantProblem(t, err, "sigma_ma", rule)
+		})
+	}
+	db, d := seededDate(t)
+	ctx := context.Background()
+	// 1 ppm exactly is accepted (the floor is inclusive): 155.4 Ma × 10⁻⁶ × 2 = 0.0003108 at 2σ.
+	f := FormOfDate(d)
+	f["sigma_ma"] = "0.0003108"
+	if _, err := db.UpdateDate(ctx, d.ID, d.Version, f, true); err != nil {
+		t.Fatalf("σ of exactly 10⁻⁶ × the age refused: %v", err)
+	}
+	f = FormOfDate(d)
+	f["sample_code"], f["sigma_ma"] = "S-9", "1e-320"
+	_, err := db.CreateDate(WithActor(ctx, 0), f, false)
+	wantProblem(t, err, "sigma_ma", rule)
+
+	if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
+		t.Fatal(err)
+	}
+	ties := "label,height_m,kind,distribution,age_ma,sigma_ma,sigma_level\nash,12.5,radiometric,normal,155.2,1e-200,2\n"
+	_, err = importString(t, db, "ties", "S", ties)
+	wantProblem(t, err, "sigma_ma", rule)
+	_, err = db.CreateTie(ctx, 1, Form{"label": "ash", "height_m": "1", "kind": "radiometric", "distribution": "normal",
+		"age_ma": "155.2", "sigma_ma": "1e-320", "sigma_level": "1"}, true)
+	wantProblem(t, err, "sigma_ma", rule)
+}
