@@ -166,13 +166,63 @@ func (r row) requiredStr(col string) string {
 	return s
 }
 
-// parseNumber parses a finite decimal number.
+// parseNumber parses a finite number in decimal notation (ParseDecimal).
 func parseNumber(s string) (float64, error) {
-	v, err := strconv.ParseFloat(s, 64)
-	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("want a number, got %q", s)
+	v, ok := ParseDecimal(s)
+	if !ok {
+		return 0, fmt.Errorf("want a number, got %q (decimal notation, e.g. 155.4 or 1.2e-3)", s)
 	}
 	return v, nil
+}
+
+// ParseDecimal reads a finite number written in decimal notation: an optional sign, digits with an
+// optional decimal point (at least one digit), and an optional exponent (e or E, optional sign, digits).
+// Everything else strconv.ParseFloat would also take is refused: hexadecimal (0x1p10), digit separators
+// (1_000), Inf, NaN, and values beyond the float64 range. Every number read from a file, a form or an
+// address goes through it.
+func ParseDecimal(s string) (float64, bool) {
+	if !isDecimal(s) {
+		return 0, false
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, false
+	}
+	return v, true
+}
+
+// isDecimal reports whether s is [+-]? (digits [. digits?] | . digits) ([eE] [+-]? digits)?.
+func isDecimal(s string) bool {
+	i := 0
+	if i < len(s) && (s[i] == '+' || s[i] == '-') {
+		i++
+	}
+	digits := func() int {
+		n := 0
+		for i < len(s) && s[i] >= '0' && s[i] <= '9' {
+			i++
+			n++
+		}
+		return n
+	}
+	n := digits()
+	if i < len(s) && s[i] == '.' {
+		i++
+		n += digits()
+	}
+	if n == 0 {
+		return false
+	}
+	if i < len(s) && (s[i] == 'e' || s[i] == 'E') {
+		i++
+		if i < len(s) && (s[i] == '+' || s[i] == '-') {
+			i++
+		}
+		if digits() == 0 {
+			return false
+		}
+	}
+	return i == len(s)
 }
 
 // optFloat returns the number in col, nil when empty; a non-number is recorded as a problem.

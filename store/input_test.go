@@ -59,3 +59,39 @@ func TestImplausibleSigmaRefused(t *testing.T) {
 		"age_ma": "155.2", "sigma_ma": "1e-320", "sigma_level": "1"}, true)
 	wantProblem(t, err, "sigma_ma", rule)
 }
+
+// Numbers are read in decimal notation only, in files and forms alike: strconv.ParseFloat would also take
+// hexadecimal floats, digit separators, Inf and NaN (Go syntax, not a number a scientist types).
+func TestNumbersDecimalOnly(t *testing.T) {
+	for _, c := range []struct {
+		in   string
+		want float64
+		ok   bool
+	}{
+		{"155.4", 155.4, true}, {"-1.5", -1.5, true}, {"+2", 2, true}, {".5", 0.5, true}, {"5.", 5, true},
+		{"1.2e-3", 0.0012, true}, {"1E+2", 100, true}, {"0", 0, true}, {"007", 7, true},
+		{"0x1p10", 0, false}, {"0X1P10", 0, false}, {"1_000", 0, false}, {"Inf", 0, false}, {"+Inf", 0, false},
+		{"infinity", 0, false}, {"NaN", 0, false}, {"nan", 0, false}, {"1e400", 0, false}, {"", 0, false},
+		{".", 0, false}, {"-", 0, false}, {"e5", 0, false}, {"1e", 0, false}, {"1e+", 0, false}, {"1.2.3", 0, false},
+		{"1,5", 0, false}, {" 1", 0, false}, {"1 ", 0, false}, {"١٢", 0, false}, {"1d", 0, false},
+	} {
+		got, ok := ParseDecimal(c.in)
+		if ok != c.ok || got != c.want {
+			t.Errorf("ParseDecimal(%q) = %v, %v; want %v, %v", c.in, got, ok, c.want, c.ok)
+		}
+	}
+	for _, bad := range []string{"0x1p10", "1_000", "Inf", "NaN"} {
+		t.Run(bad, func(t *testing.T) {
+			db := mustOpenDB(t)
+			_, err := importString(t, db, "dates", "", dateHeader+"P,U1,S-1,upb_idtims,zircon,eruption,"+bad+",0.06,2,,,\n")
+			wantProblem(t, err, "age_ma", `want a number, got "`+bad+`"`)
+			_, err = importString(t, db, "units", "", "province,unit,volume_km3\nP,U,"+bad+"\n")
+			wantProblem(t, err, "volume_km3", `want a number, got "`+bad+`"`)
+		})
+	}
+	db, d := seededDate(t)
+	f := FormOfDate(d)
+	f["age_ma"] = "0x1p10"
+	_, err := db.UpdateDate(context.Background(), d.ID, d.Version, f, true)
+	wantProblem(t, err, "age_ma", `want a number, got "0x1p10"`)
+}

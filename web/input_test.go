@@ -44,3 +44,29 @@ func TestUnusableSigmaIsACautionNotAFailure(t *testing.T) {
 		}
 	}
 }
+
+// Numbers in the address are read in decimal notation only, like numbers in files and forms: each value
+// below is within its parameter's range once read as Go syntax (0x1p7 = 128, 1_000 = 1000, 0x1p-3 =
+// 0.125, 3_5 = 35), so only the notation can refuse it; Inf and NaN are refused too.
+func TestAddressNumbersDecimalOnly(t *testing.T) {
+	srv, _ := mustServer(t)
+	for _, c := range []struct{ path, param string }{
+		{"/dates?age_min=0x1p7", "age_min"},
+		{"/dates?age_max=1_000", "age_max"},
+		{"/dates?age_max=Inf", "age_max"},
+		{"/dates?age_min=NaN", "age_min"},
+		{"/provinces/1/timeline?bw=user&h=0x1p-3", "h"},
+		{"/compare?delta=0x1p-4&" + cheap, "delta"},
+		{"/sections/1?z_min=3_5", "z_min"},
+		{"/sections/1?toc_min=1_0", "toc_min"},
+	} {
+		status, _, body := get(t, srv, c.path)
+		if status != http.StatusBadRequest || !strings.Contains(body, c.param+": want") {
+			t.Errorf("%s: status %d, want 400 naming %s", c.path, status, c.param)
+		}
+	}
+	// Decimal notation with an exponent is read.
+	if status, _, _ := get(t, srv, "/dates?age_min=1.5e2&age_max=+160.0"); status != http.StatusOK {
+		t.Errorf("decimal notation refused: %d", status)
+	}
+}
