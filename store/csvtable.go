@@ -9,6 +9,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"coeval/stats"
 )
@@ -81,11 +82,51 @@ func readCSV(file string, r io.Reader) (*csvTable, error) {
 		}
 		t.rows = append(t.rows, rec)
 		t.lines = append(t.lines, line)
+		t.checkText(len(t.rows) - 1)
 	}
 	if len(t.rows) == 0 && len(t.problems) == 0 {
 		t.problems = append(t.problems, Problem{File: file, Message: "the file has a header but no data rows"})
 	}
 	return t, nil
+}
+
+// multiline reports whether a column holds free text that may run over lines: notes and descriptions
+// (typed in a text box) may hold tabs and line breaks, no other column may.
+func multiline(col string) bool { return col == "notes" || col == "description" }
+
+// checkText records a problem for each cell of row i that is not UTF-8 text or holds a control character
+// (U+0000–U+001F; tab, line feed and carriage return are allowed in notes and descriptions). Such
+// characters cannot be shown, and they make the figures' SVG, which carry names and notes, malformed XML.
+func (t *csvTable) checkText(i int) {
+	for j, c := range t.rows[i] {
+		col := ""
+		if j < len(t.header) {
+			col = t.header[j]
+		}
+		if msg := textProblem(c, multiline(col)); msg != "" {
+			t.problems = append(t.problems, Problem{File: t.file, Line: t.lines[i], Column: col, Message: msg})
+		}
+	}
+}
+
+// textProblem says what is wrong with s as the text of a cell, or "" when nothing is.
+func textProblem(s string, multiline bool) string {
+	if !utf8.ValidString(s) {
+		return "is not UTF-8 text; save the file as UTF-8 (in a spreadsheet: CSV UTF-8)"
+	}
+	n := 0
+	for _, r := range s {
+		n++
+		if r >= 0x20 || (multiline && (r == '\t' || r == '\n' || r == '\r')) {
+			continue
+		}
+		allowed := "no control characters are allowed here (not even tabs or line breaks)"
+		if multiline {
+			allowed = "only tabs and line breaks are allowed among the control characters"
+		}
+		return fmt.Sprintf("holds the control character U+%04X at character %d: %s", r, n, allowed)
+	}
+	return ""
 }
 
 func csvErrText(err error) string {

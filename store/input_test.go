@@ -95,3 +95,49 @@ func TestNumbersDecimalOnly(t *testing.T) {
 	_, err := db.UpdateDate(context.Background(), d.ID, d.Version, f, true)
 	wantProblem(t, err, "age_ma", `want a number, got "0x1p10"`)
 }
+
+// Control characters (U+0000–U+001F) are refused in every text field of files and forms, naming the
+// field: they made the figures' SVG malformed XML. Notes and descriptions may hold tabs and line breaks.
+func TestControlCharactersRefused(t *testing.T) {
+	const ctl = "control character"
+	cases := []struct{ name, kind, body, col, msg string }{
+		{"NUL in sample code", "dates", dateHeader + "P,U1,S\x00-1,upb_idtims,zircon,eruption,155.4,0.06,2,,,\n", "sample_code", ctl + " U+0000 at character 2"},
+		{"escape in unit name", "units", "province,unit\nP,U\x1b[31m\n", "unit", ctl + " U+001B"},
+		{"tab in province name", "provinces", "province,description\n\"P\tQ\",d\n", "province", "not even tabs"},
+		{"line break in a province name", "units", "province,unit\n\"P\nQ\",U\n", "province", ctl + " U+000A"},
+		{"bell in notes", "units", "province,unit,notes\nP,U,ring\x07\n", "notes", ctl + " U+0007"},
+		{"not UTF-8", "provinces", "province\nM\xfcnster\n", "province", "not UTF-8"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			db := mustOpenDB(t)
+			_, err := importString(t, db, c.kind, "", c.body)
+			wantProblem(t, err, c.col, c.msg)
+		})
+	}
+	db := mustOpenDB(t)
+	if _, err := importString(t, db, "units", "", "province,unit,notes\nP,U,\"a\tb\r\nc\"\n"); err != nil {
+		t.Fatalf("tab and line break in notes refused: %v", err)
+	}
+	if _, err := importString(t, db, "provinces", "", "province,description\nQ,\"two\tcolumns\nand lines\"\n"); err != nil {
+		t.Fatalf("tab and line break in a description refused: %v", err)
+	}
+	// Forms are checked by the same parser and name the field.
+	db, d := seededDate(t)
+	ctx := context.Background()
+	f := FormOfDate(d)
+	f["material"] = "zir\x00con"
+	_, err := db.UpdateDate(ctx, d.ID, d.Version, f, true)
+	wantProblem(t, err, "material", ctl+" U+0000")
+	f = FormOfDate(d)
+	f["notes"] = "line one\r\nline\ttwo"
+	if _, err := db.UpdateDate(ctx, d.ID, d.Version, f, true); err != nil {
+		t.Errorf("notes with a tab and a line break refused in a form: %v", err)
+	}
+	if _, err := importString(t, db, "sections", "", "section\nS\n"); err != nil {
+		t.Fatal(err)
+	}
+	_, err = db.CreateTie(ctx, 1, Form{"label": "ash\x0b1", "height_m": "1", "kind": "radiometric", "distribution": "normal",
+		"age_ma": "155.2", "sigma_ma": "0.1", "sigma_level": "1"}, true)
+	wantProblem(t, err, "label", ctl+" U+000B")
+}
