@@ -80,6 +80,9 @@ func readCSV(file string, r io.Reader) (*csvTable, error) {
 				Message: fmt.Sprintf("has %d cells, the header has %d", len(rec), len(header))})
 			continue
 		}
+		for j := range rec {
+			rec[j] = csvUnquote(rec[j])
+		}
 		t.rows = append(t.rows, rec)
 		t.lines = append(t.lines, line)
 		t.checkText(len(t.rows) - 1)

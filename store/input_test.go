@@ -141,3 +141,91 @@ func TestControlCharactersRefused(t *testing.T) {
 		"age_ma": "155.2", "sigma_ma": "0.1", "sigma_level": "1"}, true)
 	wantProblem(t, err, "label", ctl+" U+000B")
 }
+
+// CSVSafe quotes what a spreadsheet would run as a formula, and reading undoes exactly that: a cell
+// written and read back is unchanged, whatever it holds.
+func TestCSVSafeRule(t *testing.T) {
+	for _, c := range []struct{ in, out string }{
+		{"=1+1", "'=1+1"}, {"+cmd|' /C calc'!A0", "'+cmd|' /C calc'!A0"}, {"@SUM(A1)", "'@SUM(A1)"},
+		{"-2+3", "'-2+3"}, {"-", "'-"}, {"\t=x", "'\t=x"}, {"\r=x", "'\r=x"}, // formulas: OWASP CSV Injection (common practice)
+		{"-1.5", "-1.5"}, {"+2", "+2"}, {"-1.2e-3", "-1.2e-3"}, // numbers stay as they are
+		{"'=x", "''=x"}, {"''@x", "'''@x"}, // quoted already: one more quote, so reading gives it back
+		{"'t Hooft", "'t Hooft"}, {"'-1.5", "'-1.5"}, {"'", "'"}, {"''", "''"}, {"", ""}, {"Hvarn", "Hvarn"}, {"a=b", "a=b"},
+	} {
+		if got := CSVSafe(c.in); got != c.out {
+			t.Errorf("CSVSafe(%q) = %q, want %q", c.in, got, c.out)
+		}
+		if got := csvUnquote(CSVSafe(c.in)); got != c.in {
+			t.Errorf("read back of %q: %q", c.in, got)
+		}
+		if CSVSafe(c.in) == c.in && csvUnquote(c.in) != c.in {
+			t.Errorf("%q is written as it is but read as %q", c.in, csvUnquote(c.in))
+		}
+	}
+}
+
+// A downloaded file holding names and notes that begin like formulas has them quoted, and is imported
+// again as it is: the same records come back.
+func TestFormulaLikeCellsRoundTrip(t *testing.T) {
+	ctx := context.Background()
+	db := mustOpenDB(t)
+	units := "province,unit,notes\n" +
+		"\"=HYPERLINK(\"\"http://example.invalid\"\")\",@unit,+1+2\n" +
+		"P,-U,''=already quoted\n" + // stored as '=already quoted
+		"P,U2,-1.5\n"
+	if _, err := importString(t, db, "units", "", units); err != nil {
+		t.Fatal(err)
+	}
+	dates := dateHeader + "P,U2,=S-1,upb_idtims,zircon,eruption,155.4,0.06,2,,,\n"
+	if _, err := importString(t, db, "dates", "", dates); err != nil {
+		t.Fatal(err)
+	}
+	var ub, db1 strings.Builder
+	us, err := db.Units(ctx, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, _, err := db.Dates(ctx, DateFilter{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteUnitsCSV(&ub, us); err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteDatesCSV(&db1, ds); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`"'=HYPERLINK(""http://example.invalid"")"`, "'@unit", "'+1+2", "'-U", "''=already quoted", ",-1.5\n"} {
+		if !strings.Contains(ub.String(), want) {
+			t.Errorf("units download lacks %q:\n%s", want, ub.String())
+		}
+	}
+	if !strings.Contains(db1.String(), ",'=S-1,") {
+		t.Errorf("dates download lacks '=S-1:\n%s", db1.String())
+	}
+	again := mustOpenDB(t)
+	if _, err := importString(t, again, "units", "", ub.String()); err != nil {
+		t.Fatalf("re-import of the units download: %v", err)
+	}
+	if _, err := importString(t, again, "dates", "", db1.String()); err != nil {
+		t.Fatalf("re-import of the dates download: %v", err)
+	}
+	us2, _ := again.Units(ctx, 0)
+	ds2, _, _ := again.Dates(ctx, DateFilter{})
+	name := func(u Unit) string { return u.Province + "|" + u.Name + "|" + u.Notes }
+	got, want := map[string]bool{}, map[string]bool{}
+	for _, u := range us {
+		want[name(u)] = true
+	}
+	for _, u := range us2 {
+		got[name(u)] = true
+	}
+	for k := range want {
+		if !got[k] {
+			t.Errorf("unit %q did not come back; got %v", k, got)
+		}
+	}
+	if len(ds2) != 1 || ds2[0].SampleCode != "=S-1" {
+		t.Errorf("date came back as %+v, want sample code =S-1", ds2)
+	}
+}

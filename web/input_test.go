@@ -1,9 +1,12 @@
 package web
 
 import (
+	"encoding/csv"
 	"net/http"
 	"strings"
 	"testing"
+
+	"coeval/store"
 )
 
 // A date whose σ cannot be weighted (stored directly in SQL, as older databases may hold: imports and
@@ -68,5 +71,53 @@ func TestAddressNumbersDecimalOnly(t *testing.T) {
 	// Decimal notation with an exponent is read.
 	if status, _, _ := get(t, srv, "/dates?age_min=1.5e2&age_max=+160.0"); status != http.StatusOK {
 		t.Errorf("decimal notation refused: %d", status)
+	}
+}
+
+// No CSV download hands a spreadsheet a formula: names and notes that begin with =, +, -, @ (planted in
+// SQL) come out with a quote before them, numbers such as -1.5 as they are (store.CSVSafe).
+func TestCSVDownloadsHoldNoFormulas(t *testing.T) {
+	srv, db := mustServer(t)
+	for _, q := range []string{
+		`UPDATE units SET name = '=1+2', notes = '@SUM(A1)' WHERE id = 1`,
+		`UPDATE dates SET sample_code = '+cmd|x', notes = '-2+3' WHERE id = 2`,
+		`UPDATE provinces SET description = '=HYPERLINK("http://example.invalid")' WHERE id = 1`,
+		`UPDATE events SET name = '@event' WHERE id = 1`,
+		`UPDATE tie_points SET label = '-tie' WHERE id = 1`,
+	} {
+		if _, err := db.SQL().Exec(q); err != nil {
+			t.Fatal(err)
+		}
+	}
+	planted := 0
+	for _, path := range []string{"/dates?format=csv", "/provinces?format=csv", "/provinces/1?format=csv",
+		"/provinces/1/summary?format=csv", "/provinces/1/timeline?format=csv&table=values", "/ties?format=csv",
+		"/events?format=csv", "/sections/1?format=csv", "/compare?format=csv&rows=both&" + cheap} {
+		status, _, body := get(t, srv, path)
+		if status != http.StatusOK {
+			t.Errorf("%s: status %d", path, status)
+			continue
+		}
+		recs, err := csv.NewReader(strings.NewReader(body)).ReadAll()
+		if err != nil {
+			t.Errorf("%s: %v", path, err)
+			continue
+		}
+		for i, rec := range recs {
+			for _, c := range rec {
+				if c == "" {
+					continue
+				}
+				if _, num := store.ParseDecimal(c); !num && strings.ContainsRune("=+-@\t\r", rune(c[0])) {
+					t.Errorf("%s line %d: cell %q begins like a formula", path, i+1, c)
+				}
+				if strings.HasPrefix(c, "'=1+2") || strings.HasPrefix(c, "'+cmd") || strings.HasPrefix(c, "'@") || strings.HasPrefix(c, "'-2+3") || strings.HasPrefix(c, "'-tie") || strings.HasPrefix(c, "'=HYPERLINK") {
+					planted++
+				}
+			}
+		}
+	}
+	if planted < 9 {
+		t.Errorf("only %d planted cells found quoted in the downloads; the check saw too little", planted)
 	}
 }
