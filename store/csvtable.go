@@ -112,6 +112,15 @@ func (t *csvTable) checkText(i int) {
 	}
 }
 
+// freeText checks text typed outside a record's form (a review note, a name) as checkText checks cells:
+// it returns a validation error naming field col, or nil.
+func freeText(col, s string, multiline bool) error {
+	if msg := textProblem(s, multiline); msg != "" {
+		return &ValidationError{[]Problem{{Column: col, Message: msg}}}
+	}
+	return nil
+}
+
 // textProblem says what is wrong with s as the text of a cell, or "" when nothing is.
 func textProblem(s string, multiline bool) string {
 	if !utf8.ValidString(s) {

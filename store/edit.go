@@ -200,6 +200,9 @@ func (d *DB) ReviewDate(ctx context.Context, id int64, version int, accept bool,
 	if !accept && note == "" {
 		return Date{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the date is rejected"}}}
 	}
+	if err := freeText("note", note, true); err != nil {
+		return Date{}, err
+	}
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := dateInTx(ctx, tx, id)
 		if err != nil {

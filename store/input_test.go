@@ -229,3 +229,27 @@ func TestFormulaLikeCellsRoundTrip(t *testing.T) {
 		t.Errorf("date came back as %+v, want sample code =S-1", ds2)
 	}
 }
+
+// Text typed outside a record's form is held to the same rule: review notes, an anomaly's event name and
+// notes and its rejection reason, a saved comparison's name.
+func TestControlCharactersRefusedInOtherText(t *testing.T) {
+	const ctl = "control character U+0000"
+	db, d := seededDate(t)
+	ctx := context.Background()
+	_, err := db.ReviewDate(ctx, d.ID, d.Version, false, "dup\x00licate")
+	wantProblem(t, err, "note", ctl)
+	if _, err := db.ReviewDate(ctx, d.ID, d.Version, false, "duplicate of\nHV-1"); err != nil {
+		t.Errorf("a review note over two lines refused: %v", err)
+	}
+	_, err = db.SaveComparison(ctx, Comparison{Name: "demo\x00", Query: "seed=1"})
+	wantProblem(t, err, "name", ctl)
+
+	db, sid := sectionForEvents(t)
+	k := AnomalyKey{SectionID: sid, Series: "Hg/TOC", BaseHeightM: 20.25, TopHeightM: 23.75, Settings: "host=toc&z_min=3.5"}
+	_, _, err = db.AnomalyToEvent(ctx, k, "Hg\x00 A", "")
+	wantProblem(t, err, "name", ctl)
+	_, _, err = db.AnomalyToEvent(ctx, k, "Hg A", "see\x00core log")
+	wantProblem(t, err, "notes", ctl)
+	_, err = db.RejectAnomaly(ctx, k, "noise\x00")
+	wantProblem(t, err, "reason", ctl)
+}
