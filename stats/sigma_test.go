@@ -111,3 +111,31 @@ func FuzzParseSigmaLevel(f *testing.F) {
 		}
 	})
 }
+
+// TestUsableSigma: a σ below 1 ppm of the age, or one whose weight 1/σ² overflows, cannot be weighted;
+// a weighted mean refuses it with an error instead of answering NaN.
+func TestUsableSigma(t *testing.T) {
+	tests := []struct {
+		age, sigma float64
+		want       bool
+	}{
+		{155.449, 0.0305, true},      // an ordinary CA-ID-TIMS date (demo HV-12-01, 1σ)
+		{155.449, 155.449e-6, true},  // exactly 1 ppm: the floor is inclusive
+		{155.449, 155.448e-6, false}, // just below 1 ppm
+		{155.449, 1e-320, false},     // subnormal: 1/σ² = +Inf
+		{155.449, 1e-200, false},     // 1/σ² = +Inf
+		{1e-200, 1e-160, false},      // relative rule passes, but 1/σ² = 1e320 overflows
+		{1e-200, 1e-150, true},       // the absolute floor: 1/σ² = 1e300
+		{math.NaN(), 1, false},       // NaN age
+		{155, math.Inf(1), false},    // infinite σ
+		{155, math.NaN(), false},     // NaN σ
+	}
+	for _, tt := range tests {
+		if got := UsableSigma(tt.age, tt.sigma); got != tt.want {
+			t.Errorf("UsableSigma(%g, %g) = %v, want %v", tt.age, tt.sigma, got, tt.want)
+		}
+	}
+	if _, err := WeightedMean([]float64{155.4, 155.5}, []float64{0.03, 1e-320}, WeightedMeanOptions{}); err == nil {
+		t.Error("WeightedMean with σ = 1e-320: no error (1/σ² is +Inf, the mean NaN)")
+	}
+}

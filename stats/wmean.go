@@ -230,6 +230,8 @@ func checkDates(values, sigmas1s []float64) error {
 		}
 		if s := sigmas1s[i]; !(s > 0) || math.IsInf(s, 0) {
 			return fmt.Errorf("uncertainty %d is %g, want finite and > 0", i, s)
+		} else if math.IsInf(1/(s*s), 0) {
+			return fmt.Errorf("uncertainty %d is %g: too small to weigh (1/σ² is not finite)", i, s)
 		}
 	}
 	return nil

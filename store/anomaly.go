@@ -163,6 +163,12 @@ func (d *DB) AnomalyToEvent(ctx context.Context, k AnomalyKey, name, notes strin
 				ps = append(ps, Problem{Column: "name", Message: fmt.Sprintf("section %s already has an event named %q", sec, name)})
 			}
 		}
+		if msg := textProblem(name, false); msg != "" && name != "" {
+			ps = append(ps, Problem{Column: "name", Message: msg})
+		}
+		if msg := textProblem(notes, true); msg != "" {
+			ps = append(ps, Problem{Column: "notes", Message: msg})
+		}
 		if len(ps) > 0 {
 			return &ValidationError{ps}
 		}
@@ -209,6 +215,8 @@ func (d *DB) RejectAnomaly(ctx context.Context, k AnomalyKey, reason string) (An
 		ps := k.check()
 		if reason == "" {
 			ps = append(ps, Problem{Column: "reason", Message: "is empty; say why the anomaly is rejected"})
+		} else if msg := textProblem(reason, true); msg != "" {
+			ps = append(ps, Problem{Column: "reason", Message: msg})
 		}
 		if len(ps) > 0 {
 			return &ValidationError{ps}

@@ -36,6 +36,8 @@ func (d *DB) SaveComparison(ctx context.Context, c Comparison) (int64, error) {
 	c.Name = strings.TrimSpace(c.Name)
 	if c.Name == "" || len([]rune(c.Name)) > 200 {
 		probs = append(probs, Problem{Column: "name", Message: "give the comparison a name of 1 to 200 characters"})
+	} else if msg := textProblem(c.Name, false); msg != "" {
+		probs = append(probs, Problem{Column: "name", Message: msg})
 	}
 	if len(c.Query) > 4000 {
 		probs = append(probs, Problem{Column: "query", Message: "the settings are longer than 4000 characters"})

@@ -9,6 +9,9 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
+
+	"coeval/stats"
 )
 
 // csvTable is a parsed CSV file with a header, and the problems found while reading its cells. Readers of
@@ -77,13 +80,65 @@ func readCSV(file string, r io.Reader) (*csvTable, error) {
 				Message: fmt.Sprintf("has %d cells, the header has %d", len(rec), len(header))})
 			continue
 		}
+		for j := range rec {
+			rec[j] = csvUnquote(rec[j])
+		}
 		t.rows = append(t.rows, rec)
 		t.lines = append(t.lines, line)
+		t.checkText(len(t.rows) - 1)
 	}
 	if len(t.rows) == 0 && len(t.problems) == 0 {
 		t.problems = append(t.problems, Problem{File: file, Message: "the file has a header but no data rows"})
 	}
 	return t, nil
+}
+
+// multiline reports whether a column holds free text that may run over lines: notes and descriptions
+// (typed in a text box) may hold tabs and line breaks, no other column may.
+func multiline(col string) bool { return col == "notes" || col == "description" }
+
+// checkText records a problem for each cell of row i that is not UTF-8 text or holds a control character
+// (U+0000–U+001F; tab, line feed and carriage return are allowed in notes and descriptions). Such
+// characters cannot be shown, and they make the figures' SVG, which carry names and notes, malformed XML.
+func (t *csvTable) checkText(i int) {
+	for j, c := range t.rows[i] {
+		col := ""
+		if j < len(t.header) {
+			col = t.header[j]
+		}
+		if msg := textProblem(c, multiline(col)); msg != "" {
+			t.problems = append(t.problems, Problem{File: t.file, Line: t.lines[i], Column: col, Message: msg})
+		}
+	}
+}
+
+// freeText checks text typed outside a record's form (a review note, a name) as checkText checks cells:
+// it returns a validation error naming field col, or nil.
+func freeText(col, s string, multiline bool) error {
+	if msg := textProblem(s, multiline); msg != "" {
+		return &ValidationError{[]Problem{{Column: col, Message: msg}}}
+	}
+	return nil
+}
+
+// textProblem says what is wrong with s as the text of a cell, or "" when nothing is.
+func textProblem(s string, multiline bool) string {
+	if !utf8.ValidString(s) {
+		return "is not UTF-8 text; save the file as UTF-8 (in a spreadsheet: CSV UTF-8)"
+	}
+	n := 0
+	for _, r := range s {
+		n++
+		if r >= 0x20 || (multiline && (r == '\t' || r == '\n' || r == '\r')) {
+			continue
+		}
+		allowed := "no control characters are allowed here (not even tabs or line breaks)"
+		if multiline {
+			allowed = "only tabs and line breaks are allowed among the control characters"
+		}
+		return fmt.Sprintf("holds the control character U+%04X at character %d: %s", r, n, allowed)
+	}
+	return ""
 }
 
 func csvErrText(err error) string {
@@ -164,13 +219,63 @@ func (r row) requiredStr(col string) string {
 	return s
 }
 
-// parseNumber parses a finite decimal number.
+// parseNumber parses a finite number in decimal notation (ParseDecimal).
 func parseNumber(s string) (float64, error) {
-	v, err := strconv.ParseFloat(s, 64)
-	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("want a number, got %q", s)
+	v, ok := ParseDecimal(s)
+	if !ok {
+		return 0, fmt.Errorf("want a number, got %q (decimal notation, e.g. 155.4 or 1.2e-3)", s)
 	}
 	return v, nil
+}
+
+// ParseDecimal reads a finite number written in decimal notation: an optional sign, digits with an
+// optional decimal point (at least one digit), and an optional exponent (e or E, optional sign, digits).
+// Everything else strconv.ParseFloat would also take is refused: hexadecimal (0x1p10), digit separators
+// (1_000), Inf, NaN, and values beyond the float64 range. Every number read from a file, a form or an
+// address goes through it.
+func ParseDecimal(s string) (float64, bool) {
+	if !isDecimal(s) {
+		return 0, false
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, false
+	}
+	return v, true
+}
+
+// isDecimal reports whether s is [+-]? (digits [. digits?] | . digits) ([eE] [+-]? digits)?.
+func isDecimal(s string) bool {
+	i := 0
+	if i < len(s) && (s[i] == '+' || s[i] == '-') {
+		i++
+	}
+	digits := func() int {
+		n := 0
+		for i < len(s) && s[i] >= '0' && s[i] <= '9' {
+			i++
+			n++
+		}
+		return n
+	}
+	n := digits()
+	if i < len(s) && s[i] == '.' {
+		i++
+		n += digits()
+	}
+	if n == 0 {
+		return false
+	}
+	if i < len(s) && (s[i] == 'e' || s[i] == 'E') {
+		i++
+		if i < len(s) && (s[i] == '+' || s[i] == '-') {
+			i++
+		}
+		if digits() == 0 {
+			return false
+		}
+	}
+	return i == len(s)
 }
 
 // optFloat returns the number in col, nil when empty; a non-number is recorded as a problem.
@@ -214,6 +319,22 @@ func (r row) positive(col string, v *float64, allowZero bool) {
 		}
 		r.problem(col, "want a number %s, got %s", want, formatNumber(*v))
 	}
+}
+
+// plausibleSigma checks that an uncertainty sigma (Ma, at σ level level; 0 when the level is not known,
+// then read as 1σ) of a positive age can be weighted: at least 10⁻⁶ × the age at 1σ (stats.SigmaFloorMa),
+// so that its weight 1/σ² is a finite number. Smaller ones are typing or unit mistakes.
+func (r row) plausibleSigma(col string, age, sigma float64, level int) {
+	k := float64(max(level, 1))
+	if stats.UsableSigma(age, sigma/k) {
+		return
+	}
+	at := ""
+	if level > 0 {
+		at = fmt.Sprintf(" at %dσ", level)
+	}
+	r.problem(col, "want an uncertainty of at least 10⁻⁶ × the age (%s Ma%s for %s Ma), got %s: a smaller one is not a plausible measurement and cannot be weighted",
+		formatNumber(k*stats.SigmaFloorMa(age)), at, formatNumber(age), formatNumber(sigma))
 }
 
 // within checks lo ≤ *v ≤ hi when v is present.

@@ -40,14 +40,8 @@ func FormOfDate(d Date) DateForm {
 
 // parseDateForm checks a form with exactly the rules of the dates importer. Problems name fields.
 func parseDateForm(f DateForm) (Date, []Problem) {
-	t := &csvTable{file: "", idx: map[string]int{}, header: dateColumns}
-	rec := make([]string, len(dateColumns))
-	for i, c := range dateColumns {
-		t.idx[c] = i
-		rec[i] = f[c]
-	}
-	t.rows, t.lines = [][]string{rec}, []int{0}
-	d := parseDateRow(t.row(0), map[[2]string]int{})
+	rw, t := formRow(dateColumns, Form(f))
+	d := parseDateRow(rw, map[[2]string]int{})
 	return d, t.problems
 }
 
@@ -205,6 +199,9 @@ func (d *DB) ReviewDate(ctx context.Context, id int64, version int, accept bool,
 	note = strings.TrimSpace(note)
 	if !accept && note == "" {
 		return Date{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the date is rejected"}}}
+	}
+	if err := freeText("note", note, true); err != nil {
+		return Date{}, err
 	}
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := dateInTx(ctx, tx, id)

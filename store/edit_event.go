@@ -135,6 +135,9 @@ func (d *DB) ReviewEvent(ctx context.Context, id int64, version int, accept bool
 	if !accept && note == "" {
 		return Event{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the event is rejected"}}}
 	}
+	if err := freeText("note", note, true); err != nil {
+		return Event{}, err
+	}
 	var out Event
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := eventInTx(ctx, tx, id)

@@ -26,6 +26,7 @@ func formRow(columns []string, f Form) (row, *csvTable) {
 		rec[i] = f[c]
 	}
 	t.rows, t.lines = [][]string{rec}, []int{0}
+	t.checkText(0)
 	return t.row(0), t
 }
 

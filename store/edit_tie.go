@@ -140,6 +140,9 @@ func (d *DB) ReviewTie(ctx context.Context, id int64, version int, accept bool, 
 	if !accept && note == "" {
 		return TiePoint{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the tie point is rejected"}}}
 	}
+	if err := freeText("note", note, true); err != nil {
+		return TiePoint{}, err
+	}
 	var out TiePoint
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := tieInTx(ctx, tx, id)

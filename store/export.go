@@ -15,7 +15,7 @@ import (
 // gives back the same records. Uncertainties are written at the σ level they were published at.
 
 func writeCSV(w io.Writer, header []string, rows func(emit func([]string) error) error) error {
-	cw := csv.NewWriter(w)
+	cw := NewCSVWriter(w)
 	if err := cw.Write(header); err != nil {
 		return err
 	}
@@ -278,7 +278,7 @@ func WriteWithSection[T any](w io.Writer, items []T, section func(T) string, wri
 	if err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := NewCSVWriter(w)
 	for i, rec := range recs {
 		first := "section"
 		if i > 0 {

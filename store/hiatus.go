@@ -198,6 +198,9 @@ func (d *DB) ReviewHiatus(ctx context.Context, id int64, version int, accept boo
 	if !accept && note == "" {
 		return Hiatus{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the hiatus is rejected"}}}
 	}
+	if err := freeText("note", note, true); err != nil {
+		return Hiatus{}, err
+	}
 	var out Hiatus
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := hiatusInTx(ctx, tx, id)

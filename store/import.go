@@ -387,6 +387,9 @@ func parseDateRow(rw row, seen map[[2]string]int) Date {
 	if okSigma && okAge && age > 0 && sigma >= age {
 		rw.problem("sigma_ma", "uncertainty %s is not smaller than the age %s; both must be in Ma", formatNumber(sigma), formatNumber(age))
 	}
+	if okSigma && okAge && age > 0 {
+		rw.plausibleSigma("sigma_ma", age, sigma, level)
+	}
 	if sy != nil && okSigma && *sy < sigma {
 		rw.problem("sigma_y_ma", "want X ⊕ tracer ≥ the analytical sigma_ma %s, got %s", formatNumber(sigma), formatNumber(*sy))
 	}
@@ -716,6 +719,9 @@ func parseTieRow(rw row) TiePoint {
 		}
 		if okA && (age <= 0 || age > 4600) {
 			rw.problem("age_ma", "want an age in Ma between 0 and 4600, got %s", formatNumber(age))
+		}
+		if okA && okS && age > 0 && sigma > 0 {
+			rw.plausibleSigma("sigma_ma", age, sigma, level)
 		}
 		for _, c := range []string{"age_min_ma", "age_max_ma"} {
 			if rw.str(c) != "" {

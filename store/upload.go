@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"database/sql"
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"net/url"
@@ -133,7 +132,7 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 		return nil, refuse("the first sheet cannot be read: " + err.Error())
 	}
 	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
+	w := NewCSVWriter(&buf) // quoted as downloads are, so that reading gives each cell back
 	for _, r := range rows {
 		for len(r) < width {
 			r = append(r, "")

@@ -2,7 +2,6 @@ package web
 
 import (
 	"cmp"
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -19,7 +18,7 @@ import (
 )
 
 func writeBatchesCSV(w io.Writer, rows []store.BatchRow) error {
-	cw := csv.NewWriter(w)
+	cw := store.NewCSVWriter(w)
 	cw.Write([]string{"change_id", "at_utc", "user", "kind", "source", "records", "summary"})
 	for _, b := range rows {
 		cw.Write([]string{strconv.FormatInt(b.ID, 10), b.At, b.User, b.Kind, b.Source, strconv.Itoa(b.Revisions), b.Summary})

@@ -1088,6 +1088,7 @@ func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareR
 		res.Cautions = append(res.Cautions, hiatusReviewCautions(sec.Name, hIn, hOut, ch.Dens.Sum.Include)...)
 	}
 	res.Cautions = append(res.Cautions, eventReviewCautions(d.EventsIn, d.EventsOut, ch.Dens.Sum.Include)...)
+	res.Cautions = append(res.Cautions, unusableSigmaCautions(sums)...)
 	shownUnits := 0
 	if ch.unitRows() {
 		shownUnits = len(res.In.UnitRows)

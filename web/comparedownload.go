@@ -2,7 +2,6 @@ package web
 
 import (
 	"bytes"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
@@ -11,6 +10,8 @@ import (
 	"strings"
 
 	"github.com/xuri/excelize/v2"
+
+	"coeval/store"
 )
 
 // Downloads of a comparison: the table as CSV, JSON and XLSX (with a sheet of settings and sources).
@@ -105,7 +106,7 @@ func compareRecords(res *compareResult) [][]string {
 }
 
 func writeCompareCSV(w io.Writer, res *compareResult) error {
-	cw := csv.NewWriter(w)
+	cw := store.NewCSVWriter(w)
 	cw.Write(compareColumnsFor(res.Choice))
 	for _, rec := range compareRecords(res) {
 		cw.Write(rec)

@@ -24,7 +24,7 @@ func writeDatesCSV(w io.Writer, ds []store.Date, cal calChoice) error {
 	if err != nil {
 		return err
 	}
-	cw := csv.NewWriter(w)
+	cw := store.NewCSVWriter(w)
 	for i, rec := range recs {
 		var extra []string
 		if i == 0 {

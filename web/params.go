@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
 )
 
 // params reads URL query parameters, collecting a problem for each bad one so a page can say at once
@@ -39,8 +41,8 @@ func (p *params) optFloat(name, what string) *float64 {
 	if v == "" {
 		return nil
 	}
-	f, err := strconv.ParseFloat(v, 64)
-	if err != nil || f != f || f > 1e300 || f < -1e300 {
+	f, ok := store.ParseDecimal(v)
+	if !ok || f > 1e300 || f < -1e300 {
 		p.problems = append(p.problems, fmt.Sprintf("%s: want %s, got %q", name, what, v))
 		return nil
 	}

@@ -213,9 +213,9 @@ func (s *Server) postedAnomaly(r *http.Request) (*sectionAnalysis, anomalyReport
 		return nil, anomalyReport{}, conflictError{fmt.Sprintf("With these settings the section has %d anomalies, not %d: the data or the settings changed. Reload the page.", len(a.Anomalies), n)}
 	}
 	an := a.Anomalies[n-1]
-	base, e1 := strconv.ParseFloat(r.PostFormValue("base_height_m"), 64)
-	top, e2 := strconv.ParseFloat(r.PostFormValue("top_height_m"), 64)
-	if e1 != nil || e2 != nil || base != an.A.BaseHeightM || top != an.A.TopHeightM || r.PostFormValue("series") != an.Series ||
+	base, ok1 := store.ParseDecimal(r.PostFormValue("base_height_m"))
+	top, ok2 := store.ParseDecimal(r.PostFormValue("top_height_m"))
+	if !ok1 || !ok2 || base != an.A.BaseHeightM || top != an.A.TopHeightM || r.PostFormValue("series") != an.Series ||
 		r.PostFormValue("settings") != a.detectionSettings() {
 		return nil, anomalyReport{}, conflictError{fmt.Sprintf("Anomaly %d is no longer the one the form was made for (now %s, %s–%s m): the data or the settings changed. Nothing was saved; reload the page.",
 			n, an.Series, num(an.A.BaseHeightM), num(an.A.TopHeightM))}

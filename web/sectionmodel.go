@@ -98,8 +98,8 @@ func paramFloatIn(p *params, name string, def, lo, hi float64, what string) floa
 	if v == "" {
 		return def
 	}
-	f, err := strconv.ParseFloat(v, 64)
-	if err != nil || math.IsNaN(f) || f < lo || f > hi {
+	f, ok := store.ParseDecimal(v)
+	if !ok || f < lo || f > hi {
 		p.problems = append(p.problems, fmt.Sprintf("%s: want %s, got %q", name, what, v))
 		return def
 	}

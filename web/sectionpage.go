@@ -2,7 +2,6 @@ package web
 
 import (
 	"cmp"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
@@ -680,7 +679,7 @@ func (a *sectionAnalysis) ratioRecords() [][]string {
 }
 
 func writeRecords(w io.Writer, cols []string, recs [][]string) error {
-	cw := csv.NewWriter(w)
+	cw := store.NewCSVWriter(w)
 	if err := cw.Write(cols); err != nil {
 		return err
 	}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"coeval/stats"
@@ -163,6 +164,8 @@ type exclusion struct {
 	D      *store.Date
 	Reason string
 	Review bool // left out by the include= choice rather than for a reason of its own
+	// Unusable: its σ cannot be weighted (a record stored before imports and forms refused such a σ)
+	Unusable bool
 }
 
 // levelled is a weighted mean with its ± at the chosen level, 1σ.
@@ -279,8 +282,8 @@ func summarizeUnit(u store.Unit, ds []*store.Date, ch summaryChoice) (unitSummar
 			}
 			e.AgeMa, e.Sigma1s = rc.AgeMa, rc.AnalyticalSigmaMa
 		}
-		if !(e.Sigma1s > 0) || math.IsInf(e.Sigma1s, 0) || math.IsNaN(e.AgeMa) {
-			sys.Excluded = append(sys.Excluded, exclusion{D: d, Reason: "no usable uncertainty: cannot be weighted"})
+		if !(e.Sigma1s > 0) || !stats.UsableSigma(e.AgeMa, e.Sigma1s) {
+			sys.Excluded = append(sys.Excluded, exclusion{D: d, Reason: unusableSigma(d.ID, e.AgeMa, e.Sigma1s), Unusable: true})
 			continue
 		}
 		sys.Entries = append(sys.Entries, e)
@@ -312,6 +315,29 @@ func summarizeUnit(u store.Unit, ds []*store.Date, ch summaryChoice) (unitSummar
 		}
 	}
 	return us, nil
+}
+
+// unusableSigma says why a stored date cannot be weighted: its σ is not a number, 0, or below
+// 10⁻⁶ × its age (stats.UsableSigma; imports and forms refuse such a σ, but older records may hold one).
+func unusableSigma(id int64, ageMa, sigma1s float64) string {
+	return fmt.Sprintf("(date %d) no usable uncertainty: 1σ %s Ma for %s Ma is not at least 10⁻⁶ × the age, so it cannot be weighted; correct the record",
+		id, strconv.FormatFloat(sigma1s, 'g', 4, 64), strconv.FormatFloat(ageMa, 'g', 8, 64))
+}
+
+// unusableSigmaCautions names, for pages that show no unit summaries (the timeline, the comparison),
+// each date left out of its unit's mean because its σ cannot be weighted.
+func unusableSigmaCautions(sums []unitSummary) []string {
+	var out []string
+	for _, us := range sums {
+		for _, sys := range us.Systems {
+			for _, x := range sys.Excluded {
+				if x.Unusable {
+					out = append(out, fmt.Sprintf("Date %s of %s left out: %s.", x.D.SampleCode, us.Unit.Name, x.Reason))
+				}
+			}
+		}
+	}
+	return out
 }
 
 func sortSystems(ss []systemSummary) {

@@ -1,7 +1,6 @@
 package web
 
 import (
-	"encoding/csv"
 	"fmt"
 	"io"
 	"net/http"
@@ -106,7 +105,7 @@ func summaryRows(sums []unitSummary, ch summaryChoice) []summaryRow {
 }
 
 func writeSummaryCSV(w io.Writer, rows []summaryRow, ch summaryChoice) error {
-	cw := csv.NewWriter(w)
+	cw := store.NewCSVWriter(w)
 	if err := cw.Write(summaryColumns); err != nil {
 		return err
 	}

@@ -496,6 +496,7 @@ func (s *Server) handleTimeline(w http.ResponseWriter, r *http.Request) error {
 		return nil
 	}
 	v := s.timelinePage(r, prov, fig, res, ch)
+	v.Cautions = append(v.Cautions, unusableSigmaCautions(sums)...)
 	saved, err := s.store.Pulses(ctx, id)
 	if err != nil {
 		return err

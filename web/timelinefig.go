@@ -2,7 +2,6 @@ package web
 
 import (
 	"cmp"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"net/http"
@@ -468,7 +467,7 @@ func g(v float64) string { return strconv.FormatFloat(v, 'g', 10, 64) }
 // writeTimelineCSV writes one of the timeline's tables as CSV.
 func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResult, ch densityChoice) error {
 	return writeDownload(w, name, func(w io.Writer) error {
-		cw := csv.NewWriter(w)
+		cw := store.NewCSVWriter(w)
 		switch table {
 		case "values":
 			cw.Write([]string{"unit_id", "unit", "sample_code", "system", "age_ma", "sigma_ma_1s", "weight", "n_dates", "date_ids"})

@@ -14,6 +14,7 @@ import (
 	"sync"
 	"unicode"
 
+	"coeval/store"
 	"coeval/views"
 )
 
@@ -180,7 +181,7 @@ func (s *Server) handleTimescale(w http.ResponseWriter, r *http.Request) error {
 	switch format {
 	case "csv":
 		return writeDownload(w, "ics-chart-2024-12.csv", func(w io.Writer) error {
-			cw := csv.NewWriter(w)
+			cw := store.NewCSVWriter(w)
 			cw.Write([]string{"id", "name", "rank", "parent_id", "base_ma", "base_pm_ma", "base_note", "top_ma", "top_pm_ma", "boundary_status", "colour_hex"})
 			for _, u := range units {
 				note := ""
