@@ -9,13 +9,13 @@ import (
 	"testing"
 )
 
-// The SE in the downloads counts the draws the inputs are given by, not only N: with N = 20,000 joint
+// The SE in the downloads counts the draws the inputs are given by, not only N: with N = 10,000 joint
 // draws resampling 100 bootstrap replicates of the pulses, every pulse row's SE is at least
-// sqrt(P(1 − P)(1/N + 1/100)) (a pulse's edges exist in at most 100 replicates), about 14 times the
+// sqrt(P(1 − P)(1/N + 1/100)) (a pulse's edges exist in at most 100 replicates), about 10 times the
 // binomial sqrt(P(1 − P)/N) the downloads used to give; and the JSON gives the same SE as the CSV.
 func TestCompareDownloadSECountsTheInputDraws(t *testing.T) {
 	srv, _ := mustServer(t)
-	const n, reps = 20000, 100
+	const n, reps = 10000, 100 // the defaults and below: open to visitors
 	q := "/compare?sens=0&n=" + strconv.Itoa(n) + "&reps=" + strconv.Itoa(reps) + "&draws=200"
 	_, _, body := get(t, srv, q+"&format=csv")
 	recs, err := csv.NewReader(strings.NewReader(body)).ReadAll()
