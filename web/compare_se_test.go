@@ -50,7 +50,7 @@ func TestCompareDownloadSECountsTheInputDraws(t *testing.T) {
 		t.Fatalf("only %d probabilities strictly between 0 and 1 checked", checked)
 	}
 	// The page's account of each row says how many effective draws its SE rests on.
-	if _, _, page := get(t, srv, q); !strings.Contains(page, "effective draws of the N = 20000 joint draws: 1/Neff = 1/N + 1/M") {
+	if _, _, page := get(t, srv, q); !strings.Contains(page, "effective draws of the N = 10000 joint draws: 1/Neff = 1/N + 1/M") {
 		t.Error("the page's account of a row does not say how its SE is made")
 	}
 	_, _, js := get(t, srv, q+"&format=json")
