@@ -30,12 +30,12 @@ func writeBatchesCSV(w io.Writer, rows []store.BatchRow) error {
 
 func (s *Server) registerAccountRoutes(r chi.Router) {
 	r.Get("/changes/{id}", s.handle(s.handleChangeShow))
-	r.With(s.requireRole(store.RoleReader)).Group(func(r chi.Router) {
+	r.With(s.sessionOnly, s.requireRole(store.RoleReader)).Group(func(r chi.Router) {
 		r.Get("/account", s.handle(s.handleAccount))
 		r.Post("/account/tokens", s.handle(s.handleTokenCreate))
 		r.Post("/account/tokens/{id}/revoke", s.handle(s.handleTokenRevoke))
 	})
-	r.With(s.requireRole(store.RoleAdmin)).Group(func(r chi.Router) {
+	r.With(s.sessionOnly, s.requireRole(store.RoleAdmin)).Group(func(r chi.Router) {
 		r.Get("/admin", s.handle(s.handleAdmin))
 		r.Post("/admin/users", s.handle(s.handleUserCreate))
 		r.Post("/admin/settings", s.handle(s.handleSettings))
@@ -121,7 +121,7 @@ func (s *Server) accountView(r *http.Request, newToken string, errs []string) (v
 		return views.Edit{}, err
 	}
 	e := views.Edit{Page: s.page(ctx, "Your account", ""), Action: "/account/tokens", Submit: "Make a token", Errors: errs}
-	e.Intro = fmt.Sprintf("Signed in as %s (%s). Personal access tokens let scripts read the JSON and CSV endpoints (send 'Authorization: Bearer TOKEN') with your role. A token is shown once; only a hash is kept.", u.Name, u.Role)
+	e.Intro = fmt.Sprintf("Signed in as %s (%s). Personal access tokens let scripts read the JSON and CSV downloads with your role (send 'Authorization: Bearer TOKEN'); a token only reads: it cannot change records, open this page or the administration, or make further tokens. A token is shown once; only a hash is kept.", u.Name, u.Role)
 	if newToken != "" {
 		e.Intro = "New token (copy it now; it will not be shown again): " + newToken
 	}

@@ -39,7 +39,10 @@ func WithSecureCookies(on bool) Option { return func(o *options) { o.secureCooki
 
 type ctxKey int
 
-const userKey ctxKey = 1
+const (
+	userKey ctxKey = iota + 1
+	tokenKey
+)
 
 // currentUser returns the signed-in user of the request (ok false when anonymous).
 func currentUser(ctx context.Context) (store.User, bool) {
@@ -61,7 +64,10 @@ func newSessions(st Store, o options) *scs.SessionManager {
 }
 
 // identify puts the request's user in its context: from a personal access token (Authorization: Bearer)
-// or from the session. A bad token is refused outright rather than treated as anonymous.
+// or from the session. A bad token is refused outright rather than treated as anonymous. A token only
+// reads: any other method than GET or HEAD is refused (403), and the account and administration pages
+// refuse tokens too (sessionOnly), so a leaked token can neither change the compilation nor make
+// further tokens.
 func (s *Server) identify(next http.Handler) http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		ctx := r.Context()
@@ -72,6 +78,11 @@ func (s *Server) identify(next http.Handler) http.Handler {
 				writeJSON(w, http.StatusUnauthorized, map[string]any{"error": "the access token is not valid (revoked, mistyped, or not sent as 'Authorization: Bearer TOKEN')"})
 				return
 			}
+			if r.Method != http.MethodGet && r.Method != http.MethodHead {
+				writeJSON(w, http.StatusForbidden, map[string]any{"error": errTokenReadOnly})
+				return
+			}
+			ctx = context.WithValue(ctx, tokenKey, true)
 			next.ServeHTTP(w, r.WithContext(context.WithValue(ctx, userKey, u)))
 			return
 		}
@@ -81,6 +92,27 @@ func (s *Server) identify(next http.Handler) http.Handler {
 			}
 		}
 		next.ServeHTTP(w, r.WithContext(ctx))
+	})
+}
+
+// errTokenReadOnly is the refusal of a change sent with an access token.
+const errTokenReadOnly = "an access token only reads (GET requests); sign in to make changes"
+
+// viaToken reports whether the request was identified by a personal access token.
+func viaToken(ctx context.Context) bool {
+	v, _ := ctx.Value(tokenKey).(bool)
+	return v
+}
+
+// sessionOnly refuses requests identified by an access token: the account and administration pages
+// (tokens, accounts, settings, backups) need a signed-in session.
+func (s *Server) sessionOnly(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if viaToken(r.Context()) {
+			writeJSON(w, http.StatusForbidden, map[string]any{"error": "an access token cannot open account or administration pages; sign in instead"})
+			return
+		}
+		next.ServeHTTP(w, r)
 	})
 }
 

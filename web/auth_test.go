@@ -171,14 +171,56 @@ var routeRoles = map[string]string{
 	"POST /sections/{id}/anomalies/{n}/reject": store.RoleCurator,
 }
 
-// Every route × {anonymous, reader, contributor, curator, admin} → allowed or refused as routeRoles says.
-func TestAuthorizationMatrix(t *testing.T) {
-	srv, db := mustServer(t)
-	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
-	if err != nil || len(pending) == 0 {
-		t.Fatal("the demo has no pending date")
+type route struct{ method, pattern string }
+
+// routesOf lists every route of the server's chi router.
+func routesOf(t testing.TB, srv *httptest.Server) []route {
+	t.Helper()
+	routes, ok := srv.Config.Handler.(chi.Routes)
+	if !ok {
+		t.Fatal("the handler is not a chi router")
 	}
-	draft, err := db.CreateEvent(context.Background(), 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
+	var all []route
+	chi.Walk(routes, func(method, pattern string, _ http.Handler, _ ...func(http.Handler) http.Handler) error {
+		all = append(all, route{method, pattern})
+		return nil
+	})
+	return all
+}
+
+// userID returns the id of the account named name.
+func userID(t testing.TB, db *store.DB, name string) int64 {
+	t.Helper()
+	users, err := db.Users(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, u := range users {
+		if u.Name == name {
+			return u.ID
+		}
+	}
+	t.Fatalf("no account %s", name)
+	return 0
+}
+
+// matrixPaths adds the records the routes of the matrix need and returns how a route's pattern becomes a
+// path: contributors edit their own drafts, so the date and event edit routes get a pending date and a
+// draft event added by demo-contributor.
+func matrixPaths(t testing.TB, db *store.DB) func(pattern string) string {
+	t.Helper()
+	ctx := store.WithActor(context.Background(), userID(t, db, "demo-contributor"))
+	d1, err := db.Date(ctx, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := store.FormOfDate(d1)
+	f["sample_code"] = "MATRIX-1"
+	pending, err := db.CreateDate(ctx, f, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	draft, err := db.CreateEvent(ctx, 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -186,16 +228,22 @@ func TestAuthorizationMatrix(t *testing.T) {
 	if _, err := db.CreateHiatus(context.Background(), 1, store.Form{"height_m": "30", "min_duration_ma": "0.1"}, false); err != nil {
 		t.Fatal(err)
 	}
-	routes, ok := srv.Config.Handler.(chi.Routes)
-	if !ok {
-		t.Fatal("the handler is not a chi router")
+	return func(pattern string) string {
+		id := "1"
+		if pattern == "/dates/{id}/edit" {
+			id = fmt.Sprint(pending.ID)
+		}
+		if pattern == "/events/{id}/edit" {
+			id = fmt.Sprint(draft.ID)
+		}
+		return strings.NewReplacer("{id}", id, "{n}", "1", "*", "style.css").Replace(pattern)
 	}
-	type route struct{ method, pattern string }
-	var all []route
-	chi.Walk(routes, func(method, pattern string, _ http.Handler, _ ...func(http.Handler) http.Handler) error {
-		all = append(all, route{method, pattern})
-		return nil
-	})
+}
+
+// Every route × {anonymous, reader, contributor, curator, admin} → allowed or refused as routeRoles says.
+func TestAuthorizationMatrix(t *testing.T) {
+	srv, db := mustServer(t)
+	pathOf := matrixPaths(t, db)
 	clients := map[string]*http.Client{}
 	for _, role := range append([]string{""}, store.Roles()...) {
 		c := client(t)
@@ -204,21 +252,14 @@ func TestAuthorizationMatrix(t *testing.T) {
 		}
 		clients[role] = c
 	}
-	for _, rt := range all {
+	for _, rt := range routesOf(t, srv) {
 		key := rt.method + " " + rt.pattern
 		min, listed := routeRoles[key]
 		if !listed {
 			t.Errorf("route %s has no expected role in routeRoles: add it", key)
 			continue
 		}
-		id := "1"
-		if rt.pattern == "/dates/{id}/edit" { // contributors may edit drafts: use a pending date
-			id = fmt.Sprint(pending[0].ID)
-		}
-		if rt.pattern == "/events/{id}/edit" { // and events that are not accepted
-			id = fmt.Sprint(draft.ID)
-		}
-		path := strings.NewReplacer("{id}", id, "{n}", "1", "*", "style.css").Replace(rt.pattern)
+		path := pathOf(rt.pattern)
 		for role, c := range clients {
 			var form url.Values
 			if rt.method == http.MethodPost {
@@ -241,6 +282,100 @@ func TestAuthorizationMatrix(t *testing.T) {
 				t.Errorf("%s as %q: status %d, want 403", key, role, status)
 			}
 		}
+	}
+}
+
+// tokenRefusedReads are the pages an access token may not read whatever its role: the account (tokens)
+// and the administration (accounts, settings, backups).
+func tokenRefusedRead(pattern string) bool {
+	return pattern == "/account" || strings.HasPrefix(pattern, "/account/") || pattern == "/admin" || strings.HasPrefix(pattern, "/admin/")
+}
+
+// Every route × a token of each role: a token reads what its role may read (GET), and nothing else — no
+// POST anywhere (403 saying a token only reads), no account or administration page even for an admin's
+// token. Before, an admin's token added accounts and changed settings, and a reader's made new tokens.
+func TestAccessTokensOnlyRead(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	pathOf := matrixPaths(t, db)
+	tokens := map[string]string{}
+	for _, role := range store.Roles() {
+		tok, err := db.CreateToken(ctx, userID(t, db, "demo-"+role), "script")
+		if err != nil {
+			t.Fatal(err)
+		}
+		tokens[role] = tok
+	}
+	send := func(method, path, token string, form url.Values) (int, string, http.Header) {
+		var body io.Reader
+		if form != nil {
+			body = strings.NewReader(form.Encode())
+		}
+		req, _ := http.NewRequest(method, srv.URL+path, body)
+		if form != nil {
+			req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+		}
+		req.Header.Set("Authorization", "Bearer "+token)
+		res, err := client(t).Do(req)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer res.Body.Close()
+		b, _ := io.ReadAll(res.Body)
+		return res.StatusCode, string(b), res.Header
+	}
+	for _, rt := range routesOf(t, srv) {
+		key := rt.method + " " + rt.pattern
+		min, listed := routeRoles[key]
+		if !listed {
+			continue // TestAuthorizationMatrix names it
+		}
+		path := pathOf(rt.pattern)
+		for role, tok := range tokens {
+			var form url.Values
+			if rt.method != http.MethodGet {
+				form = url.Values{"name": {"from-a-token"}, "role": {"admin"}, "password": {"a-long-password"}, SettingRequireLogin: {"true"}, "version": {"1"}}
+			}
+			status, body, h := send(rt.method, path, tok, form)
+			switch {
+			case status >= 500:
+				t.Errorf("%s with a %s's token: status %d: %.200s", key, role, status, body)
+			case rt.method != http.MethodGet:
+				if status != http.StatusForbidden || !strings.Contains(body, "only reads") {
+					t.Errorf("%s with a %s's token: status %d %.200q, want 403 saying a token only reads", key, role, status, body)
+				}
+			case tokenRefusedRead(rt.pattern):
+				if status != http.StatusForbidden || !strings.Contains(body, "cannot open account or administration pages") {
+					t.Errorf("%s with a %s's token: status %d %.200q, want 403 (a token does not open account or administration pages)", key, role, status, body)
+				}
+			case min == "" || store.RoleAtLeast(role, min):
+				if status == http.StatusForbidden || status == http.StatusUnauthorized || (status == http.StatusSeeOther && strings.HasPrefix(h.Get("Location"), "/login")) {
+					t.Errorf("%s with a %s's token: refused (%d), want allowed", key, role, status)
+				}
+			default:
+				if status != http.StatusForbidden {
+					t.Errorf("%s with a %s's token: status %d, want 403 (the role may not)", key, role, status)
+				}
+			}
+		}
+	}
+	// What the attacks of the issue did, checked by their effect: no account, no setting, no new token.
+	users, _ := db.Users(ctx)
+	if len(users) != 4 {
+		t.Errorf("%d accounts after the tokens' requests, want the demo's 4", len(users))
+	}
+	if v, _ := db.Setting(ctx, SettingRequireLogin); v == "true" {
+		t.Error("an admin's token made the compilation private")
+	}
+	toks, _ := db.Tokens(ctx, userID(t, db, "demo-reader"))
+	if len(toks) != 1 {
+		t.Errorf("the reader has %d tokens, want the 1 made here (a token made another)", len(toks))
+	}
+	// A signed-in session still makes tokens.
+	c := client(t)
+	signIn(t, c, srv, "demo-reader")
+	if status, body, _ := do(t, c, http.MethodPost, srv.URL+"/account/tokens", url.Values{"name": {"by hand"}}); status != http.StatusOK || !strings.Contains(body, "coeval_") {
+		t.Errorf("a signed-in reader making a token: status %d, want 200 with the token", status)
 	}
 }
 
