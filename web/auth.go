@@ -9,6 +9,8 @@ import (
 	"strings"
 	"sync"
 	"time"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/alexedwards/scs/sqlite3store"
 	"github.com/alexedwards/scs/v2"
@@ -238,9 +240,21 @@ func (s *Server) registerAuthRoutes(r chi.Router) {
 	r.Post("/logout", s.handle(s.handleLogout))
 }
 
-// safeNext keeps a post-login redirect on this site.
+// safeNext keeps a post-login redirect on this site: a path that begins with one slash, holds no
+// control character and no backslash (browsers drop tabs and line breaks and read a backslash as a slash,
+// so "/<tab>/evil.example" and "/\\evil.example" lead to another site), and has neither scheme nor host
+// once parsed. Anything else goes to the home page.
 func safeNext(next string) string {
-	if !strings.HasPrefix(next, "/") || strings.HasPrefix(next, "//") || strings.HasPrefix(next, "/\\") {
+	if !strings.HasPrefix(next, "/") || strings.HasPrefix(next, "//") || !utf8.ValidString(next) {
+		return "/"
+	}
+	for _, c := range next {
+		if unicode.IsControl(c) || c == '\\' {
+			return "/"
+		}
+	}
+	u, err := url.Parse(next)
+	if err != nil || u.Scheme != "" || u.Host != "" || u.User != nil || u.Opaque != "" || !strings.HasPrefix(u.Path, "/") {
 		return "/"
 	}
 	return next

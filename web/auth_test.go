@@ -6,17 +6,20 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"log/slog"
 	"mime/multipart"
 	"net/http"
 	"net/http/cookiejar"
 	"net/http/httptest"
 	"net/url"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
 	"github.com/go-chi/chi/v5"
 
+	"coeval/static"
 	"coeval/store"
 )
 
@@ -679,4 +682,104 @@ func TestUploadPreviewCommitUndo(t *testing.T) {
 	if final, _ := db.Counts(ctx); final != before {
 		t.Errorf("after undo %+v, want %+v", final, before)
 	}
+}
+
+// hostileNext are values of the sign-in page's next parameter that lead a browser to another site (or run
+// a script) if sent back as they are. Browsers drop tabs and line breaks anywhere in a URL, trim leading
+// and trailing control characters and spaces, and read a backslash as a slash (WHATWG URL Standard, basic
+// URL parser; common practice in open-redirect testing).
+var hostileNext = []string{
+	"/\t/evil.example", "/\n/evil.example", "/\r\n/evil.example", "/\t\t/evil.example/x?y=1",
+	"//evil.example", "///evil.example", "/\\evil.example", "\\/evil.example", "\\\\evil.example", "/\\/evil.example",
+	"https://evil.example", "http:evil.example", "http:/evil.example", "javascript:alert(1)", "evil.example",
+	" //evil.example", "\x00//evil.example", "/\x00/evil.example", "/\x7f/evil.example", "/\u0085/evil.example",
+	"/\xff/evil.example", "//user@evil.example", "/%zz",
+}
+
+// sameSiteLocation reports why a Location sent to a browser on base leaves base's site ("" if it stays):
+// it reads loc as a browser does (see hostileNext), then resolves it against base.
+func sameSiteLocation(base *url.URL, loc string) string {
+	browser := strings.TrimFunc(loc, func(r rune) bool { return r <= ' ' })
+	browser = strings.Map(func(r rune) rune {
+		switch r {
+		case '\t', '\n', '\r':
+			return -1
+		case '\\':
+			return '/'
+		}
+		return r
+	}, browser)
+	if !strings.HasPrefix(browser, "/") || strings.HasPrefix(browser, "//") {
+		return "not a path of this site as a browser reads it: " + strconv.Quote(browser)
+	}
+	u, err := url.Parse(browser)
+	if err != nil {
+		return "not a URL: " + err.Error()
+	}
+	if to := base.ResolveReference(u); to.Scheme != base.Scheme || to.Host != base.Host {
+		return "leads to " + to.Scheme + "://" + to.Host
+	}
+	return ""
+}
+
+// After signing in, next sends the browser back where it was — but only to a page of this site. Before,
+// next=/%09/evil.example sent it to evil.example.
+func TestSignInNextStaysOnThisSite(t *testing.T) {
+	srv, _ := mustServer(t)
+	base, _ := url.Parse(srv.URL)
+	signInWith := func(next string) string {
+		t.Helper()
+		status, _, h := do(t, client(t), http.MethodPost, srv.URL+"/login",
+			url.Values{"name": {"demo-reader"}, "password": {store.DemoPassword}, "next": {next}})
+		if status != http.StatusSeeOther {
+			t.Fatalf("sign in with next=%q: status %d, want 303", next, status)
+		}
+		return h.Get("Location")
+	}
+	for _, next := range hostileNext {
+		if loc := signInWith(next); loc != "/" {
+			t.Errorf("next=%q: Location %q, want / (the home page)", next, loc)
+		}
+	}
+	for _, next := range []string{"/", "/dates?unit=3&sort=-age", "/provinces/1/summary", "/compare?include=all#pulses", "/dates/%2F%2Fx"} {
+		loc := signInWith(next)
+		if loc != next {
+			t.Errorf("next=%q: Location %q, want it kept", next, loc)
+		}
+		if why := sameSiteLocation(base, loc); why != "" {
+			t.Errorf("next=%q: Location %q %s", next, loc, why)
+		}
+	}
+	// The sign-in form carries next only when it is safe.
+	_, body, _ := do(t, client(t), http.MethodGet, srv.URL+"/login?next="+url.QueryEscape("/\t/evil.example"), nil)
+	if strings.Contains(body, "evil.example") {
+		t.Error("the sign-in form carries a next that leads to another site")
+	}
+}
+
+// FuzzSignInNext signs in with arbitrary next values: the Location is always a path of this site as a
+// browser reads it.
+func FuzzSignInNext(f *testing.F) {
+	for _, s := range hostileNext {
+		f.Add(s)
+	}
+	for _, s := range []string{"/", "/dates?unit=3", "/%09/evil.example", "/./evil.example", "/..//evil.example", "/a/../../evil.example"} {
+		f.Add(s)
+	}
+	db := mustDemoDB(f)
+	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
+	base, _ := url.Parse("http://coeval.test")
+	f.Fuzz(func(t *testing.T, next string) {
+		form := url.Values{"name": {"demo-reader"}, "password": {store.DemoPassword}, "next": {next}}
+		req := httptest.NewRequest(http.MethodPost, base.String()+"/login", strings.NewReader(form.Encode()))
+		req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+		rec := httptest.NewRecorder()
+		h.ServeHTTP(rec, req)
+		if rec.Code != http.StatusSeeOther {
+			t.Fatalf("next=%q: status %d, want 303", next, rec.Code)
+		}
+		if loc := rec.Header().Get("Location"); sameSiteLocation(base, loc) != "" {
+			t.Fatalf("next=%q: Location %q %s", next, loc, sameSiteLocation(base, loc))
+		}
+	})
 }
