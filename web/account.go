@@ -204,7 +204,7 @@ func (s *Server) adminView(r *http.Request, errs []string) (views.Edit, error) {
 	e.Inputs = []views.Input{
 		{Name: "name", Label: "Account name", Kind: "text"},
 		{Name: "role", Label: "Role", Kind: "select", Options: roles},
-		{Name: "password", Label: "Password", Kind: "password", Help: fmt.Sprintf("at least %d characters", store.MinPasswordLength)},
+		{Name: "password", Label: "Password", Kind: "password", Help: store.PasswordRule()},
 	}
 	t := views.Table{ID: "users", Caption: "Accounts", Columns: []views.Column{{Label: "Name"}, {Label: "Role"}, {Label: "Since"}}}
 	for _, u := range users {

@@ -783,3 +783,43 @@ func FuzzSignInNext(f *testing.F) {
 		}
 	})
 }
+
+// A password longer than bcrypt's 72 bytes (golang.org/x/crypto/bcrypt: GenerateFromPassword refuses
+// more) is refused on the form with the limit; before, the account form answered 500. The form states the
+// limit before anyone tries.
+func TestOverlongPasswordIsRefusedWithTheLimit(t *testing.T) {
+	srv, db := mustServer(t)
+	admin := client(t)
+	signIn(t, admin, srv, "demo-admin")
+	if _, body, _ := do(t, admin, http.MethodGet, srv.URL+"/admin", nil); !strings.Contains(body, "at most 72 bytes") {
+		t.Error("the account form does not say the longest password")
+	}
+	for _, tc := range []struct {
+		name, password string
+		ok             bool
+	}{
+		{"exactly72", strings.Repeat("a", 72), true},
+		{"ascii73", strings.Repeat("a", 73), false},
+		{"accented36", strings.Repeat("é", 36), true},  // 36 characters, 72 bytes
+		{"accented37", strings.Repeat("é", 37), false}, // 37 characters, 74 bytes
+		{"long1000", strings.Repeat("long-password ", 1000), false},
+	} {
+		status, body, _ := do(t, admin, http.MethodPost, srv.URL+"/admin/users", url.Values{"name": {tc.name}, "role": {"reader"}, "password": {tc.password}})
+		switch {
+		case tc.ok && status != http.StatusSeeOther:
+			t.Errorf("%s: status %d, want 303 (the account made)", tc.name, status)
+		case !tc.ok && (status != http.StatusUnprocessableEntity || !strings.Contains(body, "password: want at most 72 bytes")):
+			t.Errorf("%s: status %d, want 422 naming the password and its limit", tc.name, status)
+		}
+		if tc.ok {
+			c := client(t)
+			if s, _, _ := do(t, c, http.MethodPost, srv.URL+"/login", url.Values{"name": {tc.name}, "password": {tc.password}}); s != http.StatusSeeOther {
+				t.Errorf("%s: signing in with the accepted password: status %d", tc.name, s)
+			}
+		}
+	}
+	users, _ := db.Users(context.Background())
+	if len(users) != 4+2 {
+		t.Errorf("%d accounts, want the demo's 4 and the 2 accepted", len(users))
+	}
+}
