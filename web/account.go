@@ -39,7 +39,8 @@ func (s *Server) registerAccountRoutes(r chi.Router) {
 		r.Get("/admin", s.handle(s.handleAdmin))
 		r.Post("/admin/users", s.handle(s.handleUserCreate))
 		r.Post("/admin/settings", s.handle(s.handleSettings))
-		r.Get("/admin/backup", s.handle(s.handleBackup))
+		// A POST (a button on the administration page), so another site cannot start a download by a link.
+		r.Post("/admin/backup", s.handle(s.handleBackup))
 	})
 }
 
@@ -210,11 +211,12 @@ func (s *Server) adminView(r *http.Request, errs []string) (views.Edit, error) {
 	for _, u := range users {
 		t.Rows = append(t.Rows, []views.Cell{{Text: u.Name}, {Text: u.Role}, {Text: when(u.CreatedAt)}})
 	}
-	t.Notes = []string{"Backup: GET /admin/backup downloads a consistent snapshot of the database, made while the server runs (SQLite VACUUM INTO). Restore: stop the server, replace the database file with the snapshot, start again."}
+	t.Notes = []string{"Backup: the button “Download a backup of the database” gives a consistent snapshot of the database, made while the server runs (SQLite VACUUM INTO). It leaves out who is signed in (after a restore everyone signs in again) and files uploaded but not imported; it holds the accounts with their password hashes, so keep it private. Restore: stop the server, replace the database file with the snapshot, start again."}
 	e.Tables = []views.Table{t}
 	next := map[bool]string{true: "false", false: "true"}[private == "true"]
 	label := map[bool]string{true: "Make reading public", false: "Require signing in to read"}[private == "true"]
-	e.Actions = []views.Action{{Label: label, URL: "/admin/settings", Hidden: []views.KV{{Label: SettingRequireLogin, Value: next}}}}
+	e.Actions = []views.Action{{Label: label, URL: "/admin/settings", Hidden: []views.KV{{Label: SettingRequireLogin, Value: next}}},
+		{Label: "Download a backup of the database", URL: "/admin/backup"}}
 	return e, nil
 }
 

@@ -12,6 +12,8 @@ import (
 	"net/http/cookiejar"
 	"net/http/httptest"
 	"net/url"
+	"os"
+	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
@@ -164,7 +166,7 @@ var routeRoles = map[string]string{
 	"GET /admin":                               store.RoleAdmin,
 	"POST /admin/users":                        store.RoleAdmin,
 	"POST /admin/settings":                     store.RoleAdmin,
-	"GET /admin/backup":                        store.RoleAdmin,
+	"POST /admin/backup":                       store.RoleAdmin,
 	"GET /sections/{id}/figure.png":            "",
 	"GET /sections/{id}/figure.pdf":            "",
 	"GET /sections/aligned/figure.png":         "",
@@ -822,4 +824,97 @@ func TestOverlongPasswordIsRefusedWithTheLimit(t *testing.T) {
 	if len(users) != 4+2 {
 		t.Errorf("%d accounts, want the demo's 4 and the 2 accepted", len(users))
 	}
+}
+
+// A backup is a POST from the administration page (a link or image on another site cannot start one), and
+// it holds neither sign-in sessions nor uploaded files waiting for their import. Before, a restored copy
+// accepted the admin's cookie of the moment of the backup, and previews' bodies were in it.
+func TestBackupIsAPostWithoutSessionsOrUploads(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	admin, contrib := client(t), client(t)
+	signIn(t, admin, srv, "demo-admin")
+	signIn(t, contrib, srv, "demo-contributor")
+	base, _ := url.Parse(srv.URL)
+	var cookie string
+	for _, c := range admin.Jar.Cookies(base) {
+		if c.Name == "coeval_session" {
+			cookie = c.Value
+		}
+	}
+	if cookie == "" {
+		t.Fatal("no session cookie after signing in")
+	}
+	const marker = "PREVIEWONLY-7Q3"
+	if status, _ := upload(t, contrib, srv, "dates", "p.csv", "province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\nP,U,"+marker+",upb_idtims,eruption,150.1,0.1,2\n"); status != http.StatusOK {
+		t.Fatalf("preview: status %d", status)
+	}
+	var live []byte
+	db.SQL().QueryRow(`SELECT body FROM uploads ORDER BY id DESC LIMIT 1`).Scan(&live)
+	if !strings.Contains(string(live), marker) {
+		t.Fatalf("the preview's body is not in the live database: %q", live)
+	}
+
+	if status, _, _ := do(t, admin, http.MethodGet, srv.URL+"/admin/backup", nil); status != http.StatusMethodNotAllowed {
+		t.Errorf("GET of the backup: status %d, want 405", status)
+	}
+	req, _ := http.NewRequest(http.MethodPost, srv.URL+"/admin/backup", nil)
+	req.Header.Set("Sec-Fetch-Site", "cross-site")
+	if res, err := admin.Do(req); err != nil || res.StatusCode != http.StatusForbidden {
+		t.Errorf("a backup asked from another site: %v %v, want 403", res.StatusCode, err)
+	}
+	if _, body, _ := do(t, admin, http.MethodGet, srv.URL+"/admin", nil); !strings.Contains(body, `action="/admin/backup"`) {
+		t.Error("the administration page has no backup button")
+	}
+	status, snap, h := do(t, admin, http.MethodPost, srv.URL+"/admin/backup", url.Values{})
+	if status != http.StatusOK || !strings.HasPrefix(snap, "SQLite format 3\x00") || !strings.Contains(h.Get("Content-Disposition"), "attachment") {
+		t.Fatalf("backup: status %d, %d bytes, want 200 and an SQLite file", status, len(snap))
+	}
+	// Neither the cookie nor the preview's text is anywhere in the file's bytes (deleted pages included).
+	for what, s := range map[string]string{"the admin's session token": cookie, "the preview's body": marker} {
+		if strings.Contains(snap, s) {
+			t.Errorf("the backup's bytes hold %s", what)
+		}
+	}
+	path := filepath.Join(t.TempDir(), "restored.db")
+	if err := os.WriteFile(path, []byte(snap), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	restored, err := store.Open(ctx, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { restored.Close() })
+	var sessions, uploads int
+	restored.SQL().QueryRow(`SELECT count(*) FROM sessions`).Scan(&sessions)
+	restored.SQL().QueryRow(`SELECT count(*) FROM uploads`).Scan(&uploads)
+	if sessions != 0 || uploads != 0 {
+		t.Errorf("the backup holds %d sessions and %d uploads, want none", sessions, uploads)
+	}
+	if got, want := mustCounts(t, restored), mustCounts(t, db); got != want {
+		t.Errorf("the backup holds %+v, want the live %+v", got, want)
+	}
+	// The restored copy, served: the old admin cookie is a stranger's; the admin signs in again.
+	rsrv := httptest.NewServer(NewHandler(restored, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0)))
+	t.Cleanup(rsrv.Close)
+	req, _ = http.NewRequest(http.MethodGet, rsrv.URL+"/admin", nil)
+	req.AddCookie(&http.Cookie{Name: "coeval_session", Value: cookie})
+	res, err := client(t).Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res.Body.Close()
+	if res.StatusCode != http.StatusSeeOther || !strings.HasPrefix(res.Header.Get("Location"), "/login") {
+		t.Errorf("the restored copy with the old admin cookie: status %d, want a redirect to sign in", res.StatusCode)
+	}
+	signIn(t, client(t), rsrv, "demo-admin")
+}
+
+func mustCounts(t testing.TB, db *store.DB) store.Counts {
+	t.Helper()
+	c, err := db.Counts(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	return c
 }
