@@ -222,6 +222,21 @@ func (d *DB) RevokeToken(ctx context.Context, userID, tokenID int64) error {
 	return nil
 }
 
+// RecordAuthor returns the id of the account that added a record (the account of the change that
+// created it: a form, an upload or an import), or 0 when none did (command line, demo seeding).
+func (d *DB) RecordAuthor(ctx context.Context, recordType string, id int64) (int64, error) {
+	var uid sql.NullInt64
+	err := d.db.QueryRowContext(ctx, `SELECT b.user_id FROM revisions r JOIN change_batches b ON b.id = r.batch_id
+		WHERE r.record_type = ? AND r.record_id = ? AND r.before_json IS NULL ORDER BY r.id LIMIT 1`, recordType, id).Scan(&uid)
+	if errors.Is(err, sql.ErrNoRows) {
+		return 0, nil
+	}
+	if err != nil {
+		return 0, fmt.Errorf("author of %s %d: %w", recordType, id, err)
+	}
+	return uid.Int64, nil
+}
+
 // SQL returns the underlying *sql.DB for components that keep their own tables in it (the session store).
 func (d *DB) SQL() *sql.DB { return d.db }
 

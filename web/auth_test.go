@@ -918,3 +918,117 @@ func mustCounts(t testing.TB, db *store.DB) store.Counts {
 	}
 	return c
 }
+
+// A contributor edits only the drafts they added; another contributor's pending record (or one from the
+// command line or the demo seeding) is for its author or a curator. Before, any contributor could rewrite
+// any pending record. Every record kind a contributor may edit (routeRoles) has a case.
+func TestContributorEditsOnlyTheirOwnDrafts(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	if _, err := db.CreateUser(ctx, "other-contributor", store.RoleContributor, store.DemoPassword); err != nil {
+		t.Fatal(err)
+	}
+	author, other, curator := client(t), client(t), client(t)
+	signIn(t, author, srv, "demo-contributor")
+	signIn(t, other, srv, "other-contributor")
+	signIn(t, curator, srv, "demo-curator")
+	d1, _ := db.Date(ctx, 1)
+	newDate := url.Values{}
+	for k, v := range store.FormOfDate(d1) {
+		newDate.Set(k, v)
+	}
+	newDate.Set("sample_code", "DRAFT-OWN-1")
+	type kind struct {
+		newPath string
+		form    url.Values
+		// edit gives the posted form of a change to the record, from its current state.
+		edit func(id int64) url.Values
+		// seeded is a pending record no account added.
+		seeded func() int64
+	}
+	kinds := map[string]kind{
+		"dates": {"/dates/new", newDate,
+			func(id int64) url.Values {
+				d, _ := db.Date(ctx, id)
+				v := url.Values{"version": {fmt.Sprint(d.Version)}}
+				for k, x := range store.FormOfDate(d) {
+					v.Set(k, x)
+				}
+				v.Set("notes", "changed by "+fmt.Sprint(d.Version))
+				return v
+			},
+			func() int64 {
+				p, _, _ := db.Dates(ctx, store.DateFilter{ReviewState: "pending", Limit: 100})
+				for _, d := range p {
+					if d.SampleCode != "DRAFT-OWN-1" {
+						return d.ID
+					}
+				}
+				t.Fatal("the demo has no pending date")
+				return 0
+			}},
+		"events": {"/sections/1/events/new", url.Values{"name": {"own draft"}, "kind": {"other"}, "base_height_m": {"2"}},
+			func(id int64) url.Values {
+				e, _ := db.Event(ctx, id)
+				v := url.Values{"version": {fmt.Sprint(e.Version)}}
+				for k, x := range store.FormOfEvent(e) {
+					v.Set(k, x)
+				}
+				v.Set("notes", "changed by "+fmt.Sprint(e.Version))
+				return v
+			},
+			func() int64 {
+				e, err := db.CreateEvent(ctx, 1, store.Form{"name": "seeded draft", "kind": "other", "base_height_m": "3"}, false)
+				if err != nil {
+					t.Fatal(err)
+				}
+				return e.ID
+			}},
+	}
+	for key, min := range routeRoles {
+		method, pattern, _ := strings.Cut(key, " ")
+		if method == http.MethodGet && strings.HasSuffix(pattern, "/{id}/edit") && min == store.RoleContributor {
+			if _, ok := kinds[strings.Split(pattern, "/")[1]]; !ok {
+				t.Errorf("contributors may edit %s: add its kind to this test", pattern)
+			}
+		}
+	}
+	for name, k := range kinds {
+		t.Run(name, func(t *testing.T) {
+			status, _, h := do(t, author, http.MethodPost, srv.URL+k.newPath, k.form)
+			var id int64
+			if _, err := fmt.Sscanf(h.Get("Location"), "/"+name+"/%d", &id); status != http.StatusSeeOther || err != nil {
+				t.Fatalf("the author's new draft: status %d, Location %q", status, h.Get("Location"))
+			}
+			page := fmt.Sprintf("%s/%s/%d", srv.URL, name, id)
+			if _, body, _ := do(t, other, http.MethodGet, page, nil); strings.Contains(body, "/edit\"") {
+				t.Error("another contributor's page of the draft offers to edit it")
+			}
+			if status, body, _ := do(t, other, http.MethodGet, page+"/edit", nil); status != http.StatusForbidden || !strings.Contains(body, "only its author or a curator") {
+				t.Errorf("another contributor opening the edit form: status %d, want 403 naming who may", status)
+			}
+			if status, _, _ := do(t, other, http.MethodPost, page+"/edit", k.edit(id)); status != http.StatusForbidden {
+				t.Errorf("another contributor saving an edit: status %d, want 403", status)
+			}
+			if _, body, _ := do(t, author, http.MethodGet, page, nil); !strings.Contains(body, "/edit\"") {
+				t.Error("the author's page of the draft does not offer to edit it")
+			}
+			for who, c := range map[string]*http.Client{"the author": author, "a curator": curator} {
+				if status, _, _ := do(t, c, http.MethodGet, page+"/edit", nil); status != http.StatusOK {
+					t.Errorf("%s opening the edit form: status %d, want 200", who, status)
+				}
+				if status, _, _ := do(t, c, http.MethodPost, page+"/edit", k.edit(id)); status != http.StatusSeeOther {
+					t.Errorf("%s saving an edit: status %d, want 303", who, status)
+				}
+			}
+			revs, _ := db.Revisions(ctx, strings.TrimSuffix(name, "s"), id)
+			if len(revs) != 3 {
+				t.Errorf("%d revisions of the draft, want 3 (added, the author's edit, the curator's)", len(revs))
+			}
+			seeded := fmt.Sprintf("%s/%s/%d/edit", srv.URL, name, k.seeded())
+			if status, _, _ := do(t, author, http.MethodGet, seeded, nil); status != http.StatusForbidden {
+				t.Errorf("a contributor opening a pending record no account added: status %d, want 403", status)
+			}
+		})
+	}
+}

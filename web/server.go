@@ -95,6 +95,7 @@ type Store interface {
 	CreateToken(ctx context.Context, userID int64, name string) (string, error)
 	RevokeToken(ctx context.Context, userID, tokenID int64) error
 	Tokens(ctx context.Context, userID int64) ([]store.Token, error)
+	RecordAuthor(ctx context.Context, recordType string, id int64) (int64, error)
 	SetSetting(ctx context.Context, key, value string) error
 	Backup(ctx context.Context, path string) error
 	SavePulses(ctx context.Context, provinceID int64, source string, ps []store.Pulse) ([]store.Pulse, error)
