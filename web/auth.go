@@ -3,9 +3,12 @@ package web
 import (
 	"context"
 	"errors"
+	"fmt"
+	"math"
 	"net"
 	"net/http"
 	"net/url"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -163,61 +166,84 @@ type forbidden struct{ message string }
 
 func (e forbidden) Error() string { return e.message }
 
-// loginLimiter counts failed sign-ins per account and per address and refuses more than max in window.
+// loginLimiter slows down password guessing without letting anyone lock an account. It counts the
+// failed sign-ins of each pair of account name and address; after freeAttempts failures the pair waits
+// before its next try, firstDelay after the first failure beyond, then twice as long after each further
+// one, up to maxDelay. Only that pair is slowed: the same account from another address, and other
+// accounts from the same address (a group behind one proxy), sign in as usual. A pair is forgotten at a
+// successful sign-in, or forgetAfter its last failure.
 type loginLimiter struct {
-	mu     sync.Mutex
-	max    int
-	window time.Duration
-	fails  map[string][]time.Time
-	now    func() time.Time
+	mu    sync.Mutex
+	fails map[string]failures
+	now   func() time.Time
 }
 
-func newLoginLimiter(max int, window time.Duration, now func() time.Time) *loginLimiter {
-	return &loginLimiter{max: max, window: window, fails: map[string][]time.Time{}, now: now}
+type failures struct {
+	n    int
+	last time.Time
 }
 
-func (l *loginLimiter) recent(key string) []time.Time {
-	cut := l.now().Add(-l.window)
-	ts := l.fails[key]
-	i := 0
-	for i < len(ts) && ts[i].Before(cut) {
-		i++
+const (
+	freeAttempts = 3
+	firstDelay   = time.Second
+	maxDelay     = 15 * time.Minute
+	forgetAfter  = time.Hour
+	// sweepAbove is the number of pairs above which forgotten ones are removed at each failure.
+	sweepAbove = 10000
+)
+
+func newLoginLimiter(now func() time.Time) *loginLimiter {
+	return &loginLimiter{fails: map[string]failures{}, now: now}
+}
+
+// loginKey is the pair an attempt is counted under.
+func loginKey(name, addr string) string { return strings.ToLower(name) + "\x00" + addr }
+
+// delayAfter is the wait before the next attempt after n failures: none for the first freeAttempts, then
+// firstDelay doubling with each failure, at most maxDelay.
+func delayAfter(n int) time.Duration {
+	if n < freeAttempts {
+		return 0
 	}
-	ts = ts[i:]
-	if len(ts) == 0 {
+	if n-freeAttempts >= 20 { // 2^20 s is far beyond maxDelay; also keeps the shift small
+		return maxDelay
+	}
+	return min(firstDelay<<(n-freeAttempts), maxDelay)
+}
+
+// wait is how long key must wait before its next attempt (0: it may try now).
+func (l *loginLimiter) wait(key string) time.Duration {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	f, ok := l.fails[key]
+	if !ok {
+		return 0
+	}
+	now := l.now()
+	if now.Sub(f.last) >= forgetAfter {
 		delete(l.fails, key)
-	} else {
-		l.fails[key] = ts
+		return 0
 	}
-	return ts
+	return max(f.last.Add(delayAfter(f.n)).Sub(now), 0)
 }
 
-// blocked reports whether any of the keys has used up its attempts; address keys ("addr:…") allow
-// perAddress attempts, since a whole group may sign in from one address.
-func (l *loginLimiter) blocked(keys ...string) bool {
+// fail records a failed attempt of key.
+func (l *loginLimiter) fail(key string) {
 	l.mu.Lock()
 	defer l.mu.Unlock()
-	for _, k := range keys {
-		limit := l.max
-		if strings.HasPrefix(k, "addr:") {
-			limit = l.max * perAddressFactor
-		}
-		if len(l.recent(k)) >= limit {
-			return true
+	now := l.now()
+	if len(l.fails) > sweepAbove {
+		for k, f := range l.fails {
+			if now.Sub(f.last) >= forgetAfter {
+				delete(l.fails, k)
+			}
 		}
 	}
-	return false
-}
-
-// perAddressFactor multiplies the per-account limit for one address.
-const perAddressFactor = 4
-
-func (l *loginLimiter) fail(keys ...string) {
-	l.mu.Lock()
-	defer l.mu.Unlock()
-	for _, k := range keys {
-		l.fails[k] = append(l.recent(k), l.now())
+	f := l.fails[key]
+	if now.Sub(f.last) >= forgetAfter {
+		f.n = 0
 	}
+	l.fails[key] = failures{n: f.n + 1, last: now}
 }
 
 func (l *loginLimiter) reset(key string) {
@@ -276,22 +302,24 @@ func (s *Server) handleLoginForm(w http.ResponseWriter, r *http.Request) error {
 func (s *Server) handleLogin(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
 	name, password := strings.TrimSpace(r.FormValue("name")), r.FormValue("password")
-	keys := []string{"name:" + strings.ToLower(name), "addr:" + clientAddr(r)}
-	if s.limiter.blocked(keys...) {
+	key := loginKey(name, clientAddr(r))
+	if wait := s.limiter.wait(key); wait > 0 {
+		secs := int(math.Ceil(wait.Seconds()))
+		w.Header().Set("Retry-After", strconv.Itoa(secs))
 		s.render(w, r, http.StatusTooManyRequests, views.LoginPage(s.loginView(r, name,
-			"Too many failed attempts. Wait 15 minutes, then try again.")))
+			fmt.Sprintf("Too many failed attempts for this account from your address. Wait %s, then try again.", waitWords(secs)))))
 		return nil
 	}
 	u, err := s.store.Authenticate(ctx, name, password)
 	if errors.Is(err, store.ErrBadLogin) {
-		s.limiter.fail(keys...)
+		s.limiter.fail(key)
 		s.render(w, r, http.StatusUnprocessableEntity, views.LoginPage(s.loginView(r, name, "Wrong name or password.")))
 		return nil
 	}
 	if err != nil {
 		return err
 	}
-	s.limiter.reset(keys[0])
+	s.limiter.reset(key)
 	// A new session token at sign-in, so a token planted before cannot ride the new session.
 	if err := s.sessions.RenewToken(ctx); err != nil {
 		return err
@@ -299,6 +327,18 @@ func (s *Server) handleLogin(w http.ResponseWriter, r *http.Request) error {
 	s.sessions.Put(ctx, "user_id", u.ID)
 	http.Redirect(w, r, safeNext(r.FormValue("next")), http.StatusSeeOther)
 	return nil
+}
+
+// waitWords says a wait of secs seconds in words.
+func waitWords(secs int) string {
+	switch {
+	case secs == 1:
+		return "1 second"
+	case secs < 120:
+		return strconv.Itoa(secs) + " seconds"
+	default:
+		return strconv.Itoa((secs+59)/60) + " minutes"
+	}
 }
 
 func (s *Server) handleLogout(w http.ResponseWriter, r *http.Request) error {

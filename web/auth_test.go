@@ -18,6 +18,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/go-chi/chi/v5"
 
@@ -1049,4 +1050,95 @@ func FuzzSafeNextRedirect(f *testing.F) {
 			t.Fatalf("next=%q: Location %q %s", next, loc, sameSiteLocation(base, loc))
 		}
 	})
+}
+
+// The delays of failed sign-ins, on a clock the test moves: none for the first freeAttempts failures,
+// then 1 s doubling with each failure up to 15 minutes (exponential backoff, common practice), counted per
+// account and address only, cleared by a success and forgotten an hour after the last failure.
+func TestSignInDelaysGrowPerAccountAndAddress(t *testing.T) {
+	now := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	l := newLoginLimiter(func() time.Time { return now })
+	a := loginKey("Demo-Admin", "192.0.2.1")
+	want := []time.Duration{0, 0, time.Second, 2 * time.Second, 4 * time.Second, 8 * time.Second, 16 * time.Second,
+		32 * time.Second, 64 * time.Second, 128 * time.Second, 256 * time.Second, 512 * time.Second, 15 * time.Minute, 15 * time.Minute}
+	for i, w := range want {
+		if got := l.wait(a); got != 0 {
+			t.Fatalf("before attempt %d: wait %v, want 0 (the previous delay has passed)", i+1, got)
+		}
+		l.fail(a)
+		if got := l.wait(a); got != w {
+			t.Errorf("after %d failures: wait %v, want %v", i+1, got, w)
+		}
+		now = now.Add(w / 2)
+		if got := l.wait(a); got != w-w/2 {
+			t.Errorf("after %d failures and half the delay: wait %v, want %v", i+1, got, w-w/2)
+		}
+		now = now.Add(w - w/2)
+	}
+	if got := delayAfter(1 << 20); got != maxDelay {
+		t.Errorf("after 2^20 failures: delay %v, want the largest, %v", got, maxDelay)
+	}
+	l.fail(a)
+	for _, other := range []string{loginKey("demo-admin", "198.51.100.7"), loginKey("demo-reader", "192.0.2.1")} {
+		if got := l.wait(other); got != 0 {
+			t.Errorf("%q waits %v for another pair's failures, want 0", other, got)
+		}
+	}
+	if got := l.wait(loginKey("DEMO-ADMIN", "192.0.2.1")); got != maxDelay {
+		t.Errorf("the same account in other capitals: wait %v, want %v", got, maxDelay)
+	}
+	now = now.Add(forgetAfter)
+	if got := l.wait(a); got != 0 {
+		t.Errorf("an hour after the last failure: wait %v, want 0", got)
+	}
+	l.fail(a)
+	if got := l.wait(a); got != 0 {
+		t.Errorf("the first failure after being forgotten: wait %v, want 0 (counted from 1)", got)
+	}
+	l.fail(a)
+	l.fail(a)
+	l.reset(a)
+	if got := l.wait(a); got != 0 {
+		t.Errorf("after a successful sign-in: wait %v, want 0", got)
+	}
+}
+
+// Failed sign-ins from one address do not stop the right password from another, nor another account from
+// the same address; the address that failed is told how long to wait. Before, five failures from anywhere
+// locked the account for everyone (429), and everyone behind one address shared one limit.
+func TestFailuresFromOneAddressDoNotLockOthersOut(t *testing.T) {
+	db := mustDemoDB(t)
+	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
+	signInFrom := func(addr, name, password string) *httptest.ResponseRecorder {
+		form := url.Values{"name": {name}, "password": {password}}
+		req := httptest.NewRequest(http.MethodPost, "/login", strings.NewReader(form.Encode()))
+		req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+		req.RemoteAddr = addr + ":40000"
+		rec := httptest.NewRecorder()
+		h.ServeHTTP(rec, req)
+		return rec
+	}
+	refused := 0
+	for range 30 {
+		switch rec := signInFrom("192.0.2.1", "demo-admin", "a-wrong-guess"); rec.Code {
+		case http.StatusUnprocessableEntity:
+		case http.StatusTooManyRequests:
+			refused++
+		default:
+			t.Fatalf("a wrong password: status %d", rec.Code)
+		}
+	}
+	if refused == 0 {
+		t.Error("30 quick wrong guesses from one address were never slowed down")
+	}
+	rec := signInFrom("192.0.2.1", "demo-admin", store.DemoPassword)
+	if rec.Code != http.StatusTooManyRequests || rec.Header().Get("Retry-After") == "" || !strings.Contains(rec.Body.String(), "Too many failed attempts for this account from your address. Wait") {
+		t.Errorf("the right password from the guessing address at once: status %d, Retry-After %q; want 429 saying how long to wait", rec.Code, rec.Header().Get("Retry-After"))
+	}
+	if rec := signInFrom("198.51.100.7", "demo-admin", store.DemoPassword); rec.Code != http.StatusSeeOther {
+		t.Errorf("the right password from another address: status %d, want 303 (signed in)", rec.Code)
+	}
+	if rec := signInFrom("192.0.2.1", "demo-reader", store.DemoPassword); rec.Code != http.StatusSeeOther {
+		t.Errorf("another account from the guessing address: status %d, want 303 (signed in)", rec.Code)
+	}
 }

@@ -128,7 +128,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 		opt(&o)
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, o),
-		limiter: newLoginLimiter(5, 15*time.Minute, o.now)}
+		limiter: newLoginLimiter(o.now)}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
