@@ -42,8 +42,19 @@ func RoleAtLeast(role, min string) bool {
 	return rank(role) >= rank(min) && rank(min) >= 0
 }
 
-// MinPasswordLength is the shortest password accepted.
+// MinPasswordLength is the shortest password accepted, in characters.
 const MinPasswordLength = 10
+
+// MaxPasswordBytes is the longest password accepted, in bytes of UTF-8: bcrypt uses only the first 72
+// (golang.org/x/crypto/bcrypt refuses longer ones). A plain Latin letter takes one byte; accented letters
+// and those of other scripts two to four.
+const MaxPasswordBytes = 72
+
+// PasswordRule says what a password must be, for forms.
+func PasswordRule() string {
+	return fmt.Sprintf("at least %d characters and at most %d bytes (%d plain letters, digits or signs; an accented letter or a letter of another script counts as two to four)",
+		MinPasswordLength, MaxPasswordBytes, MaxPasswordBytes)
+}
 
 // User is an account.
 type User struct {
@@ -74,8 +85,11 @@ func (d *DB) CreateUser(ctx context.Context, name, role, password string) (User,
 	if !RoleAtLeast(role, RoleReader) {
 		problems = append(problems, Problem{Column: "role", Message: "want one of " + strings.Join(Roles(), ", ")})
 	}
-	if len([]rune(password)) < MinPasswordLength {
+	if n := len([]rune(password)); n < MinPasswordLength {
 		problems = append(problems, Problem{Column: "password", Message: fmt.Sprintf("want at least %d characters", MinPasswordLength)})
+	} else if len(password) > MaxPasswordBytes {
+		problems = append(problems, Problem{Column: "password", Message: fmt.Sprintf("want at most %d bytes; this one has %d characters taking %d bytes (%s)",
+			MaxPasswordBytes, n, len(password), PasswordRule())})
 	}
 	if len(problems) > 0 {
 		return User{}, &ValidationError{problems}
@@ -206,6 +220,21 @@ func (d *DB) RevokeToken(ctx context.Context, userID, tokenID int64) error {
 		return fmt.Errorf("token %d: %w", tokenID, ErrNotFound)
 	}
 	return nil
+}
+
+// RecordAuthor returns the id of the account that added a record (the account of the change that
+// created it: a form, an upload or an import), or 0 when none did (command line, demo seeding).
+func (d *DB) RecordAuthor(ctx context.Context, recordType string, id int64) (int64, error) {
+	var uid sql.NullInt64
+	err := d.db.QueryRowContext(ctx, `SELECT b.user_id FROM revisions r JOIN change_batches b ON b.id = r.batch_id
+		WHERE r.record_type = ? AND r.record_id = ? AND r.before_json IS NULL ORDER BY r.id LIMIT 1`, recordType, id).Scan(&uid)
+	if errors.Is(err, sql.ErrNoRows) {
+		return 0, nil
+	}
+	if err != nil {
+		return 0, fmt.Errorf("author of %s %d: %w", recordType, id, err)
+	}
+	return uid.Int64, nil
 }
 
 // SQL returns the underlying *sql.DB for components that keep their own tables in it (the session store).

@@ -29,16 +29,17 @@ func writeBatchesCSV(w io.Writer, rows []store.BatchRow) error {
 
 func (s *Server) registerAccountRoutes(r chi.Router) {
 	r.Get("/changes/{id}", s.handle(s.handleChangeShow))
-	r.With(s.requireRole(store.RoleReader)).Group(func(r chi.Router) {
+	r.With(s.sessionOnly, s.requireRole(store.RoleReader)).Group(func(r chi.Router) {
 		r.Get("/account", s.handle(s.handleAccount))
 		r.Post("/account/tokens", s.handle(s.handleTokenCreate))
 		r.Post("/account/tokens/{id}/revoke", s.handle(s.handleTokenRevoke))
 	})
-	r.With(s.requireRole(store.RoleAdmin)).Group(func(r chi.Router) {
+	r.With(s.sessionOnly, s.requireRole(store.RoleAdmin)).Group(func(r chi.Router) {
 		r.Get("/admin", s.handle(s.handleAdmin))
 		r.Post("/admin/users", s.handle(s.handleUserCreate))
 		r.Post("/admin/settings", s.handle(s.handleSettings))
-		r.Get("/admin/backup", s.handle(s.handleBackup))
+		// A POST (a button on the administration page), so another site cannot start a download by a link.
+		r.Post("/admin/backup", s.handle(s.handleBackup))
 	})
 }
 
@@ -120,7 +121,7 @@ func (s *Server) accountView(r *http.Request, newToken string, errs []string) (v
 		return views.Edit{}, err
 	}
 	e := views.Edit{Page: s.page(ctx, "Your account", ""), Action: "/account/tokens", Submit: "Make a token", Errors: errs}
-	e.Intro = fmt.Sprintf("Signed in as %s (%s). Personal access tokens let scripts read the JSON and CSV endpoints (send 'Authorization: Bearer TOKEN') with your role. A token is shown once; only a hash is kept.", u.Name, u.Role)
+	e.Intro = fmt.Sprintf("Signed in as %s (%s). Personal access tokens let scripts read the JSON and CSV downloads with your role (send 'Authorization: Bearer TOKEN'); a token only reads: it cannot change records, open this page or the administration, or make further tokens. A token is shown once; only a hash is kept.", u.Name, u.Role)
 	if newToken != "" {
 		e.Intro = "New token (copy it now; it will not be shown again): " + newToken
 	}
@@ -203,17 +204,18 @@ func (s *Server) adminView(r *http.Request, errs []string) (views.Edit, error) {
 	e.Inputs = []views.Input{
 		{Name: "name", Label: "Account name", Kind: "text"},
 		{Name: "role", Label: "Role", Kind: "select", Options: roles},
-		{Name: "password", Label: "Password", Kind: "password", Help: fmt.Sprintf("at least %d characters", store.MinPasswordLength)},
+		{Name: "password", Label: "Password", Kind: "password", Help: store.PasswordRule()},
 	}
 	t := views.Table{ID: "users", Caption: "Accounts", Columns: []views.Column{{Label: "Name"}, {Label: "Role"}, {Label: "Since"}}}
 	for _, u := range users {
 		t.Rows = append(t.Rows, []views.Cell{{Text: u.Name}, {Text: u.Role}, {Text: when(u.CreatedAt)}})
 	}
-	t.Notes = []string{"Backup: GET /admin/backup downloads a consistent snapshot of the database, made while the server runs (SQLite VACUUM INTO). Restore: stop the server, replace the database file with the snapshot, start again."}
+	t.Notes = []string{"Backup: the button “Download a backup of the database” gives a consistent snapshot of the database, made while the server runs (SQLite VACUUM INTO). It leaves out who is signed in (after a restore everyone signs in again) and files uploaded but not imported; it holds the accounts with their password hashes, so keep it private. Restore: stop the server, replace the database file with the snapshot, start again."}
 	e.Tables = []views.Table{t}
 	next := map[bool]string{true: "false", false: "true"}[private == "true"]
 	label := map[bool]string{true: "Make reading public", false: "Require signing in to read"}[private == "true"]
-	e.Actions = []views.Action{{Label: label, URL: "/admin/settings", Hidden: []views.KV{{Label: SettingRequireLogin, Value: next}}}}
+	e.Actions = []views.Action{{Label: label, URL: "/admin/settings", Hidden: []views.KV{{Label: SettingRequireLogin, Value: next}}},
+		{Label: "Download a backup of the database", URL: "/admin/backup"}}
 	return e, nil
 }
 

@@ -3,13 +3,18 @@ package web
 import (
 	"context"
 	"errors"
+	"fmt"
 	"log/slog"
+	"math"
 	"net"
 	"net/http"
 	"net/url"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/alexedwards/scs/v2"
 	"github.com/go-chi/chi/v5"
@@ -39,7 +44,10 @@ func WithSecureCookies(on bool) Option { return func(o *options) { o.secureCooki
 
 type ctxKey int
 
-const userKey ctxKey = 1
+const (
+	userKey ctxKey = iota + 1
+	tokenKey
+)
 
 // currentUser returns the signed-in user of the request (ok false when anonymous).
 func currentUser(ctx context.Context) (store.User, bool) {
@@ -61,7 +69,10 @@ func newSessions(st Store, log *slog.Logger, o options) *scs.SessionManager {
 }
 
 // identify puts the request's user in its context: from a personal access token (Authorization: Bearer)
-// or from the session. A bad token is refused outright rather than treated as anonymous.
+// or from the session. A bad token is refused outright rather than treated as anonymous. A token only
+// reads: any other method than GET or HEAD is refused (403), and the account and administration pages
+// refuse tokens too (sessionOnly), so a leaked token can neither change the compilation nor make
+// further tokens.
 func (s *Server) identify(next http.Handler) http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		ctx := r.Context()
@@ -72,6 +83,11 @@ func (s *Server) identify(next http.Handler) http.Handler {
 				writeJSON(w, http.StatusUnauthorized, map[string]any{"error": "the access token is not valid (revoked, mistyped, or not sent as 'Authorization: Bearer TOKEN')"})
 				return
 			}
+			if r.Method != http.MethodGet && r.Method != http.MethodHead {
+				writeJSON(w, http.StatusForbidden, map[string]any{"error": errTokenReadOnly})
+				return
+			}
+			ctx = context.WithValue(ctx, tokenKey, true)
 			next.ServeHTTP(w, r.WithContext(context.WithValue(ctx, userKey, u)))
 			return
 		}
@@ -81,6 +97,27 @@ func (s *Server) identify(next http.Handler) http.Handler {
 			}
 		}
 		next.ServeHTTP(w, r.WithContext(ctx))
+	})
+}
+
+// errTokenReadOnly is the refusal of a change sent with an access token.
+const errTokenReadOnly = "an access token only reads (GET requests); sign in to make changes"
+
+// viaToken reports whether the request was identified by a personal access token.
+func viaToken(ctx context.Context) bool {
+	v, _ := ctx.Value(tokenKey).(bool)
+	return v
+}
+
+// sessionOnly refuses requests identified by an access token: the account and administration pages
+// (tokens, accounts, settings, backups) need a signed-in session.
+func (s *Server) sessionOnly(next http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if viaToken(r.Context()) {
+			writeJSON(w, http.StatusForbidden, map[string]any{"error": "an access token cannot open account or administration pages; sign in instead"})
+			return
+		}
+		next.ServeHTTP(w, r)
 	})
 }
 
@@ -129,61 +166,84 @@ type forbidden struct{ message string }
 
 func (e forbidden) Error() string { return e.message }
 
-// loginLimiter counts failed sign-ins per account and per address and refuses more than max in window.
+// loginLimiter slows down password guessing without letting anyone lock an account. It counts the
+// failed sign-ins of each pair of account name and address; after freeAttempts failures the pair waits
+// before its next try, firstDelay after the first failure beyond, then twice as long after each further
+// one, up to maxDelay. Only that pair is slowed: the same account from another address, and other
+// accounts from the same address (a group behind one proxy), sign in as usual. A pair is forgotten at a
+// successful sign-in, or forgetAfter its last failure.
 type loginLimiter struct {
-	mu     sync.Mutex
-	max    int
-	window time.Duration
-	fails  map[string][]time.Time
-	now    func() time.Time
+	mu    sync.Mutex
+	fails map[string]failures
+	now   func() time.Time
 }
 
-func newLoginLimiter(max int, window time.Duration, now func() time.Time) *loginLimiter {
-	return &loginLimiter{max: max, window: window, fails: map[string][]time.Time{}, now: now}
+type failures struct {
+	n    int
+	last time.Time
 }
 
-func (l *loginLimiter) recent(key string) []time.Time {
-	cut := l.now().Add(-l.window)
-	ts := l.fails[key]
-	i := 0
-	for i < len(ts) && ts[i].Before(cut) {
-		i++
+const (
+	freeAttempts = 3
+	firstDelay   = time.Second
+	maxDelay     = 15 * time.Minute
+	forgetAfter  = time.Hour
+	// sweepAbove is the number of pairs above which forgotten ones are removed at each failure.
+	sweepAbove = 10000
+)
+
+func newLoginLimiter(now func() time.Time) *loginLimiter {
+	return &loginLimiter{fails: map[string]failures{}, now: now}
+}
+
+// loginKey is the pair an attempt is counted under.
+func loginKey(name, addr string) string { return strings.ToLower(name) + "\x00" + addr }
+
+// delayAfter is the wait before the next attempt after n failures: none for the first freeAttempts, then
+// firstDelay doubling with each failure, at most maxDelay.
+func delayAfter(n int) time.Duration {
+	if n < freeAttempts {
+		return 0
 	}
-	ts = ts[i:]
-	if len(ts) == 0 {
+	if n-freeAttempts >= 20 { // 2^20 s is far beyond maxDelay; also keeps the shift small
+		return maxDelay
+	}
+	return min(firstDelay<<(n-freeAttempts), maxDelay)
+}
+
+// wait is how long key must wait before its next attempt (0: it may try now).
+func (l *loginLimiter) wait(key string) time.Duration {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	f, ok := l.fails[key]
+	if !ok {
+		return 0
+	}
+	now := l.now()
+	if now.Sub(f.last) >= forgetAfter {
 		delete(l.fails, key)
-	} else {
-		l.fails[key] = ts
+		return 0
 	}
-	return ts
+	return max(f.last.Add(delayAfter(f.n)).Sub(now), 0)
 }
 
-// blocked reports whether any of the keys has used up its attempts; address keys ("addr:…") allow
-// perAddress attempts, since a whole group may sign in from one address.
-func (l *loginLimiter) blocked(keys ...string) bool {
+// fail records a failed attempt of key.
+func (l *loginLimiter) fail(key string) {
 	l.mu.Lock()
 	defer l.mu.Unlock()
-	for _, k := range keys {
-		limit := l.max
-		if strings.HasPrefix(k, "addr:") {
-			limit = l.max * perAddressFactor
-		}
-		if len(l.recent(k)) >= limit {
-			return true
+	now := l.now()
+	if len(l.fails) > sweepAbove {
+		for k, f := range l.fails {
+			if now.Sub(f.last) >= forgetAfter {
+				delete(l.fails, k)
+			}
 		}
 	}
-	return false
-}
-
-// perAddressFactor multiplies the per-account limit for one address.
-const perAddressFactor = 4
-
-func (l *loginLimiter) fail(keys ...string) {
-	l.mu.Lock()
-	defer l.mu.Unlock()
-	for _, k := range keys {
-		l.fails[k] = append(l.recent(k), l.now())
+	f := l.fails[key]
+	if now.Sub(f.last) >= forgetAfter {
+		f.n = 0
 	}
+	l.fails[key] = failures{n: f.n + 1, last: now}
 }
 
 func (l *loginLimiter) reset(key string) {
@@ -206,9 +266,21 @@ func (s *Server) registerAuthRoutes(r chi.Router) {
 	r.Post("/logout", s.handle(s.handleLogout))
 }
 
-// safeNext keeps a post-login redirect on this site.
+// safeNext keeps a post-login redirect on this site: a path that begins with one slash, holds no
+// control character and no backslash (browsers drop tabs and line breaks and read a backslash as a slash,
+// so "/<tab>/evil.example" and "/\\evil.example" lead to another site), and has neither scheme nor host
+// once parsed. Anything else goes to the home page.
 func safeNext(next string) string {
-	if !strings.HasPrefix(next, "/") || strings.HasPrefix(next, "//") || strings.HasPrefix(next, "/\\") {
+	if !strings.HasPrefix(next, "/") || strings.HasPrefix(next, "//") || !utf8.ValidString(next) {
+		return "/"
+	}
+	for _, c := range next {
+		if unicode.IsControl(c) || c == '\\' {
+			return "/"
+		}
+	}
+	u, err := url.Parse(next)
+	if err != nil || u.Scheme != "" || u.Host != "" || u.User != nil || u.Opaque != "" || !strings.HasPrefix(u.Path, "/") {
 		return "/"
 	}
 	return next
@@ -230,22 +302,24 @@ func (s *Server) handleLoginForm(w http.ResponseWriter, r *http.Request) error {
 func (s *Server) handleLogin(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
 	name, password := strings.TrimSpace(r.FormValue("name")), r.FormValue("password")
-	keys := []string{"name:" + strings.ToLower(name), "addr:" + clientAddr(r)}
-	if s.limiter.blocked(keys...) {
+	key := loginKey(name, clientAddr(r))
+	if wait := s.limiter.wait(key); wait > 0 {
+		secs := int(math.Ceil(wait.Seconds()))
+		w.Header().Set("Retry-After", strconv.Itoa(secs))
 		s.render(w, r, http.StatusTooManyRequests, views.LoginPage(s.loginView(r, name,
-			"Too many failed attempts. Wait 15 minutes, then try again.")))
+			fmt.Sprintf("Too many failed attempts for this account from your address. Wait %s, then try again.", waitWords(secs)))))
 		return nil
 	}
 	u, err := s.store.Authenticate(ctx, name, password)
 	if errors.Is(err, store.ErrBadLogin) {
-		s.limiter.fail(keys...)
+		s.limiter.fail(key)
 		s.render(w, r, http.StatusUnprocessableEntity, views.LoginPage(s.loginView(r, name, "Wrong name or password.")))
 		return nil
 	}
 	if err != nil {
 		return err
 	}
-	s.limiter.reset(keys[0])
+	s.limiter.reset(key)
 	// A new session token at sign-in, so a token planted before cannot ride the new session.
 	if err := s.sessions.RenewToken(ctx); err != nil {
 		return err
@@ -253,6 +327,18 @@ func (s *Server) handleLogin(w http.ResponseWriter, r *http.Request) error {
 	s.sessions.Put(ctx, "user_id", u.ID)
 	http.Redirect(w, r, safeNext(r.FormValue("next")), http.StatusSeeOther)
 	return nil
+}
+
+// waitWords says a wait of secs seconds in words.
+func waitWords(secs int) string {
+	switch {
+	case secs == 1:
+		return "1 second"
+	case secs < 120:
+		return strconv.Itoa(secs) + " seconds"
+	default:
+		return strconv.Itoa((secs+59)/60) + " minutes"
+	}
 }
 
 func (s *Server) handleLogout(w http.ResponseWriter, r *http.Request) error {

@@ -6,17 +6,23 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"log/slog"
 	"mime/multipart"
 	"net/http"
 	"net/http/cookiejar"
 	"net/http/httptest"
 	"net/url"
+	"os"
+	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/go-chi/chi/v5"
 
+	"coeval/static"
 	"coeval/store"
 )
 
@@ -161,7 +167,7 @@ var routeRoles = map[string]string{
 	"GET /admin":                               store.RoleAdmin,
 	"POST /admin/users":                        store.RoleAdmin,
 	"POST /admin/settings":                     store.RoleAdmin,
-	"GET /admin/backup":                        store.RoleAdmin,
+	"POST /admin/backup":                       store.RoleAdmin,
 	"GET /sections/{id}/figure.png":            "",
 	"GET /sections/{id}/figure.pdf":            "",
 	"GET /sections/aligned/figure.png":         "",
@@ -171,14 +177,56 @@ var routeRoles = map[string]string{
 	"POST /sections/{id}/anomalies/{n}/reject": store.RoleCurator,
 }
 
-// Every route × {anonymous, reader, contributor, curator, admin} → allowed or refused as routeRoles says.
-func TestAuthorizationMatrix(t *testing.T) {
-	srv, db := mustServer(t)
-	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
-	if err != nil || len(pending) == 0 {
-		t.Fatal("the demo has no pending date")
+type route struct{ method, pattern string }
+
+// routesOf lists every route of the server's chi router.
+func routesOf(t testing.TB, srv *httptest.Server) []route {
+	t.Helper()
+	routes, ok := srv.Config.Handler.(chi.Routes)
+	if !ok {
+		t.Fatal("the handler is not a chi router")
 	}
-	draft, err := db.CreateEvent(context.Background(), 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
+	var all []route
+	chi.Walk(routes, func(method, pattern string, _ http.Handler, _ ...func(http.Handler) http.Handler) error {
+		all = append(all, route{method, pattern})
+		return nil
+	})
+	return all
+}
+
+// userID returns the id of the account named name.
+func userID(t testing.TB, db *store.DB, name string) int64 {
+	t.Helper()
+	users, err := db.Users(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, u := range users {
+		if u.Name == name {
+			return u.ID
+		}
+	}
+	t.Fatalf("no account %s", name)
+	return 0
+}
+
+// matrixPaths adds the records the routes of the matrix need and returns how a route's pattern becomes a
+// path: contributors edit their own drafts, so the date and event edit routes get a pending date and a
+// draft event added by demo-contributor.
+func matrixPaths(t testing.TB, db *store.DB) func(pattern string) string {
+	t.Helper()
+	ctx := store.WithActor(context.Background(), userID(t, db, "demo-contributor"))
+	d1, err := db.Date(ctx, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := store.FormOfDate(d1)
+	f["sample_code"] = "MATRIX-1"
+	pending, err := db.CreateDate(ctx, f, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	draft, err := db.CreateEvent(ctx, 1, store.Form{"name": "draft", "kind": "other", "base_height_m": "1"}, false)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -186,16 +234,22 @@ func TestAuthorizationMatrix(t *testing.T) {
 	if _, err := db.CreateHiatus(context.Background(), 1, store.Form{"height_m": "30", "min_duration_ma": "0.1"}, false); err != nil {
 		t.Fatal(err)
 	}
-	routes, ok := srv.Config.Handler.(chi.Routes)
-	if !ok {
-		t.Fatal("the handler is not a chi router")
+	return func(pattern string) string {
+		id := "1"
+		if pattern == "/dates/{id}/edit" {
+			id = fmt.Sprint(pending.ID)
+		}
+		if pattern == "/events/{id}/edit" {
+			id = fmt.Sprint(draft.ID)
+		}
+		return strings.NewReplacer("{id}", id, "{n}", "1", "*", "style.css").Replace(pattern)
 	}
-	type route struct{ method, pattern string }
-	var all []route
-	chi.Walk(routes, func(method, pattern string, _ http.Handler, _ ...func(http.Handler) http.Handler) error {
-		all = append(all, route{method, pattern})
-		return nil
-	})
+}
+
+// Every route × {anonymous, reader, contributor, curator, admin} → allowed or refused as routeRoles says.
+func TestAuthorizationMatrix(t *testing.T) {
+	srv, db := mustServer(t)
+	pathOf := matrixPaths(t, db)
 	clients := map[string]*http.Client{}
 	for _, role := range append([]string{""}, store.Roles()...) {
 		c := client(t)
@@ -204,21 +258,14 @@ func TestAuthorizationMatrix(t *testing.T) {
 		}
 		clients[role] = c
 	}
-	for _, rt := range all {
+	for _, rt := range routesOf(t, srv) {
 		key := rt.method + " " + rt.pattern
 		min, listed := routeRoles[key]
 		if !listed {
 			t.Errorf("route %s has no expected role in routeRoles: add it", key)
 			continue
 		}
-		id := "1"
-		if rt.pattern == "/dates/{id}/edit" { // contributors may edit drafts: use a pending date
-			id = fmt.Sprint(pending[0].ID)
-		}
-		if rt.pattern == "/events/{id}/edit" { // and events that are not accepted
-			id = fmt.Sprint(draft.ID)
-		}
-		path := strings.NewReplacer("{id}", id, "{n}", "1", "*", "style.css").Replace(rt.pattern)
+		path := pathOf(rt.pattern)
 		for role, c := range clients {
 			var form url.Values
 			if rt.method == http.MethodPost {
@@ -241,6 +288,100 @@ func TestAuthorizationMatrix(t *testing.T) {
 				t.Errorf("%s as %q: status %d, want 403", key, role, status)
 			}
 		}
+	}
+}
+
+// tokenRefusedReads are the pages an access token may not read whatever its role: the account (tokens)
+// and the administration (accounts, settings, backups).
+func tokenRefusedRead(pattern string) bool {
+	return pattern == "/account" || strings.HasPrefix(pattern, "/account/") || pattern == "/admin" || strings.HasPrefix(pattern, "/admin/")
+}
+
+// Every route × a token of each role: a token reads what its role may read (GET), and nothing else — no
+// POST anywhere (403 saying a token only reads), no account or administration page even for an admin's
+// token. Before, an admin's token added accounts and changed settings, and a reader's made new tokens.
+func TestAccessTokensOnlyRead(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	pathOf := matrixPaths(t, db)
+	tokens := map[string]string{}
+	for _, role := range store.Roles() {
+		tok, err := db.CreateToken(ctx, userID(t, db, "demo-"+role), "script")
+		if err != nil {
+			t.Fatal(err)
+		}
+		tokens[role] = tok
+	}
+	send := func(method, path, token string, form url.Values) (int, string, http.Header) {
+		var body io.Reader
+		if form != nil {
+			body = strings.NewReader(form.Encode())
+		}
+		req, _ := http.NewRequest(method, srv.URL+path, body)
+		if form != nil {
+			req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+		}
+		req.Header.Set("Authorization", "Bearer "+token)
+		res, err := client(t).Do(req)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer res.Body.Close()
+		b, _ := io.ReadAll(res.Body)
+		return res.StatusCode, string(b), res.Header
+	}
+	for _, rt := range routesOf(t, srv) {
+		key := rt.method + " " + rt.pattern
+		min, listed := routeRoles[key]
+		if !listed {
+			continue // TestAuthorizationMatrix names it
+		}
+		path := pathOf(rt.pattern)
+		for role, tok := range tokens {
+			var form url.Values
+			if rt.method != http.MethodGet {
+				form = url.Values{"name": {"from-a-token"}, "role": {"admin"}, "password": {"a-long-password"}, SettingRequireLogin: {"true"}, "version": {"1"}}
+			}
+			status, body, h := send(rt.method, path, tok, form)
+			switch {
+			case status >= 500:
+				t.Errorf("%s with a %s's token: status %d: %.200s", key, role, status, body)
+			case rt.method != http.MethodGet:
+				if status != http.StatusForbidden || !strings.Contains(body, "only reads") {
+					t.Errorf("%s with a %s's token: status %d %.200q, want 403 saying a token only reads", key, role, status, body)
+				}
+			case tokenRefusedRead(rt.pattern):
+				if status != http.StatusForbidden || !strings.Contains(body, "cannot open account or administration pages") {
+					t.Errorf("%s with a %s's token: status %d %.200q, want 403 (a token does not open account or administration pages)", key, role, status, body)
+				}
+			case min == "" || store.RoleAtLeast(role, min):
+				if status == http.StatusForbidden || status == http.StatusUnauthorized || (status == http.StatusSeeOther && strings.HasPrefix(h.Get("Location"), "/login")) {
+					t.Errorf("%s with a %s's token: refused (%d), want allowed", key, role, status)
+				}
+			default:
+				if status != http.StatusForbidden {
+					t.Errorf("%s with a %s's token: status %d, want 403 (the role may not)", key, role, status)
+				}
+			}
+		}
+	}
+	// What the attacks of the issue did, checked by their effect: no account, no setting, no new token.
+	users, _ := db.Users(ctx)
+	if len(users) != 4 {
+		t.Errorf("%d accounts after the tokens' requests, want the demo's 4", len(users))
+	}
+	if v, _ := db.Setting(ctx, SettingRequireLogin); v == "true" {
+		t.Error("an admin's token made the compilation private")
+	}
+	toks, _ := db.Tokens(ctx, userID(t, db, "demo-reader"))
+	if len(toks) != 1 {
+		t.Errorf("the reader has %d tokens, want the 1 made here (a token made another)", len(toks))
+	}
+	// A signed-in session still makes tokens.
+	c := client(t)
+	signIn(t, c, srv, "demo-reader")
+	if status, body, _ := do(t, c, http.MethodPost, srv.URL+"/account/tokens", url.Values{"name": {"by hand"}}); status != http.StatusOK || !strings.Contains(body, "coeval_") {
+		t.Errorf("a signed-in reader making a token: status %d, want 200 with the token", status)
 	}
 }
 
@@ -543,5 +684,461 @@ func TestUploadPreviewCommitUndo(t *testing.T) {
 	}
 	if final, _ := db.Counts(ctx); final != before {
 		t.Errorf("after undo %+v, want %+v", final, before)
+	}
+}
+
+// hostileNext are values of the sign-in page's next parameter that lead a browser to another site (or run
+// a script) if sent back as they are. Browsers drop tabs and line breaks anywhere in a URL, trim leading
+// and trailing control characters and spaces, and read a backslash as a slash (WHATWG URL Standard, basic
+// URL parser; common practice in open-redirect testing).
+var hostileNext = []string{
+	"/\t/evil.example", "/\n/evil.example", "/\r\n/evil.example", "/\t\t/evil.example/x?y=1",
+	"//evil.example", "///evil.example", "/\\evil.example", "\\/evil.example", "\\\\evil.example", "/\\/evil.example",
+	"https://evil.example", "http:evil.example", "http:/evil.example", "javascript:alert(1)", "evil.example",
+	" //evil.example", "\x00//evil.example", "/\x00/evil.example", "/\x7f/evil.example", "/\u0085/evil.example",
+	"/\xff/evil.example", "//user@evil.example", "/%zz",
+}
+
+// sameSiteLocation reports why a Location sent to a browser on base leaves base's site ("" if it stays):
+// it reads loc as a browser does (see hostileNext), then resolves it against base.
+func sameSiteLocation(base *url.URL, loc string) string {
+	browser := strings.TrimFunc(loc, func(r rune) bool { return r <= ' ' })
+	browser = strings.Map(func(r rune) rune {
+		switch r {
+		case '\t', '\n', '\r':
+			return -1
+		case '\\':
+			return '/'
+		}
+		return r
+	}, browser)
+	if !strings.HasPrefix(browser, "/") || strings.HasPrefix(browser, "//") {
+		return "not a path of this site as a browser reads it: " + strconv.Quote(browser)
+	}
+	u, err := url.Parse(browser)
+	if err != nil {
+		return "not a URL: " + err.Error()
+	}
+	if to := base.ResolveReference(u); to.Scheme != base.Scheme || to.Host != base.Host {
+		return "leads to " + to.Scheme + "://" + to.Host
+	}
+	return ""
+}
+
+// After signing in, next sends the browser back where it was — but only to a page of this site. Before,
+// next=/%09/evil.example sent it to evil.example.
+func TestSignInNextStaysOnThisSite(t *testing.T) {
+	srv, _ := mustServer(t)
+	base, _ := url.Parse(srv.URL)
+	signInWith := func(next string) string {
+		t.Helper()
+		status, _, h := do(t, client(t), http.MethodPost, srv.URL+"/login",
+			url.Values{"name": {"demo-reader"}, "password": {store.DemoPassword}, "next": {next}})
+		if status != http.StatusSeeOther {
+			t.Fatalf("sign in with next=%q: status %d, want 303", next, status)
+		}
+		return h.Get("Location")
+	}
+	for _, next := range hostileNext {
+		if loc := signInWith(next); loc != "/" {
+			t.Errorf("next=%q: Location %q, want / (the home page)", next, loc)
+		}
+	}
+	for _, next := range []string{"/", "/dates?unit=3&sort=-age", "/provinces/1/summary", "/compare?include=all#pulses", "/dates/%2F%2Fx"} {
+		loc := signInWith(next)
+		if loc != next {
+			t.Errorf("next=%q: Location %q, want it kept", next, loc)
+		}
+		if why := sameSiteLocation(base, loc); why != "" {
+			t.Errorf("next=%q: Location %q %s", next, loc, why)
+		}
+	}
+	// The sign-in form carries next only when it is safe.
+	_, body, _ := do(t, client(t), http.MethodGet, srv.URL+"/login?next="+url.QueryEscape("/\t/evil.example"), nil)
+	if strings.Contains(body, "evil.example") {
+		t.Error("the sign-in form carries a next that leads to another site")
+	}
+}
+
+// FuzzSignInNext signs in with arbitrary next values: the Location is always a path of this site as a
+// browser reads it.
+func FuzzSignInNext(f *testing.F) {
+	for _, s := range hostileNext {
+		f.Add(s)
+	}
+	for _, s := range []string{"/", "/dates?unit=3", "/%09/evil.example", "/./evil.example", "/..//evil.example", "/a/../../evil.example"} {
+		f.Add(s)
+	}
+	db := mustDemoDB(f)
+	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
+	base, _ := url.Parse("http://coeval.test")
+	f.Fuzz(func(t *testing.T, next string) {
+		form := url.Values{"name": {"demo-reader"}, "password": {store.DemoPassword}, "next": {next}}
+		req := httptest.NewRequest(http.MethodPost, base.String()+"/login", strings.NewReader(form.Encode()))
+		req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+		rec := httptest.NewRecorder()
+		h.ServeHTTP(rec, req)
+		if rec.Code != http.StatusSeeOther {
+			t.Fatalf("next=%q: status %d, want 303", next, rec.Code)
+		}
+		if loc := rec.Header().Get("Location"); sameSiteLocation(base, loc) != "" {
+			t.Fatalf("next=%q: Location %q %s", next, loc, sameSiteLocation(base, loc))
+		}
+	})
+}
+
+// A password longer than bcrypt's 72 bytes (golang.org/x/crypto/bcrypt: GenerateFromPassword refuses
+// more) is refused on the form with the limit; before, the account form answered 500. The form states the
+// limit before anyone tries.
+func TestOverlongPasswordIsRefusedWithTheLimit(t *testing.T) {
+	srv, db := mustServer(t)
+	admin := client(t)
+	signIn(t, admin, srv, "demo-admin")
+	if _, body, _ := do(t, admin, http.MethodGet, srv.URL+"/admin", nil); !strings.Contains(body, "at most 72 bytes") {
+		t.Error("the account form does not say the longest password")
+	}
+	for _, tc := range []struct {
+		name, password string
+		ok             bool
+	}{
+		{"exactly72", strings.Repeat("a", 72), true},
+		{"ascii73", strings.Repeat("a", 73), false},
+		{"accented36", strings.Repeat("é", 36), true},  // 36 characters, 72 bytes
+		{"accented37", strings.Repeat("é", 37), false}, // 37 characters, 74 bytes
+		{"long1000", strings.Repeat("long-password ", 1000), false},
+	} {
+		status, body, _ := do(t, admin, http.MethodPost, srv.URL+"/admin/users", url.Values{"name": {tc.name}, "role": {"reader"}, "password": {tc.password}})
+		switch {
+		case tc.ok && status != http.StatusSeeOther:
+			t.Errorf("%s: status %d, want 303 (the account made)", tc.name, status)
+		case !tc.ok && (status != http.StatusUnprocessableEntity || !strings.Contains(body, "password: want at most 72 bytes")):
+			t.Errorf("%s: status %d, want 422 naming the password and its limit", tc.name, status)
+		}
+		if tc.ok {
+			c := client(t)
+			if s, _, _ := do(t, c, http.MethodPost, srv.URL+"/login", url.Values{"name": {tc.name}, "password": {tc.password}}); s != http.StatusSeeOther {
+				t.Errorf("%s: signing in with the accepted password: status %d", tc.name, s)
+			}
+		}
+	}
+	users, _ := db.Users(context.Background())
+	if len(users) != 4+2 {
+		t.Errorf("%d accounts, want the demo's 4 and the 2 accepted", len(users))
+	}
+}
+
+// A backup is a POST from the administration page (a link or image on another site cannot start one), and
+// it holds neither sign-in sessions nor uploaded files waiting for their import. Before, a restored copy
+// accepted the admin's cookie of the moment of the backup, and previews' bodies were in it.
+func TestBackupIsAPostWithoutSessionsOrUploads(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	admin, contrib := client(t), client(t)
+	signIn(t, admin, srv, "demo-admin")
+	signIn(t, contrib, srv, "demo-contributor")
+	base, _ := url.Parse(srv.URL)
+	var cookie string
+	for _, c := range admin.Jar.Cookies(base) {
+		if c.Name == "coeval_session" {
+			cookie = c.Value
+		}
+	}
+	if cookie == "" {
+		t.Fatal("no session cookie after signing in")
+	}
+	const marker = "PREVIEWONLY-7Q3"
+	if status, _ := upload(t, contrib, srv, "dates", "p.csv", "province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\nP,U,"+marker+",upb_idtims,eruption,150.1,0.1,2\n"); status != http.StatusOK {
+		t.Fatalf("preview: status %d", status)
+	}
+	var live []byte
+	db.SQL().QueryRow(`SELECT body FROM uploads ORDER BY id DESC LIMIT 1`).Scan(&live)
+	if !strings.Contains(string(live), marker) {
+		t.Fatalf("the preview's body is not in the live database: %q", live)
+	}
+
+	if status, _, _ := do(t, admin, http.MethodGet, srv.URL+"/admin/backup", nil); status != http.StatusMethodNotAllowed {
+		t.Errorf("GET of the backup: status %d, want 405", status)
+	}
+	req, _ := http.NewRequest(http.MethodPost, srv.URL+"/admin/backup", nil)
+	req.Header.Set("Sec-Fetch-Site", "cross-site")
+	if res, err := admin.Do(req); err != nil || res.StatusCode != http.StatusForbidden {
+		t.Errorf("a backup asked from another site: %v %v, want 403", res.StatusCode, err)
+	}
+	if _, body, _ := do(t, admin, http.MethodGet, srv.URL+"/admin", nil); !strings.Contains(body, `action="/admin/backup"`) {
+		t.Error("the administration page has no backup button")
+	}
+	status, snap, h := do(t, admin, http.MethodPost, srv.URL+"/admin/backup", url.Values{})
+	if status != http.StatusOK || !strings.HasPrefix(snap, "SQLite format 3\x00") || !strings.Contains(h.Get("Content-Disposition"), "attachment") {
+		t.Fatalf("backup: status %d, %d bytes, want 200 and an SQLite file", status, len(snap))
+	}
+	// Neither the cookie nor the preview's text is anywhere in the file's bytes (deleted pages included).
+	for what, s := range map[string]string{"the admin's session token": cookie, "the preview's body": marker} {
+		if strings.Contains(snap, s) {
+			t.Errorf("the backup's bytes hold %s", what)
+		}
+	}
+	path := filepath.Join(t.TempDir(), "restored.db")
+	if err := os.WriteFile(path, []byte(snap), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	restored, err := store.Open(ctx, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { restored.Close() })
+	var sessions, uploads int
+	restored.SQL().QueryRow(`SELECT count(*) FROM sessions`).Scan(&sessions)
+	restored.SQL().QueryRow(`SELECT count(*) FROM uploads`).Scan(&uploads)
+	if sessions != 0 || uploads != 0 {
+		t.Errorf("the backup holds %d sessions and %d uploads, want none", sessions, uploads)
+	}
+	if got, want := mustCounts(t, restored), mustCounts(t, db); got != want {
+		t.Errorf("the backup holds %+v, want the live %+v", got, want)
+	}
+	// The restored copy, served: the old admin cookie is a stranger's; the admin signs in again.
+	rsrv := httptest.NewServer(NewHandler(restored, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0)))
+	t.Cleanup(rsrv.Close)
+	req, _ = http.NewRequest(http.MethodGet, rsrv.URL+"/admin", nil)
+	req.AddCookie(&http.Cookie{Name: "coeval_session", Value: cookie})
+	res, err := client(t).Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res.Body.Close()
+	if res.StatusCode != http.StatusSeeOther || !strings.HasPrefix(res.Header.Get("Location"), "/login") {
+		t.Errorf("the restored copy with the old admin cookie: status %d, want a redirect to sign in", res.StatusCode)
+	}
+	signIn(t, client(t), rsrv, "demo-admin")
+}
+
+func mustCounts(t testing.TB, db *store.DB) store.Counts {
+	t.Helper()
+	c, err := db.Counts(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	return c
+}
+
+// A contributor edits only the drafts they added; another contributor's pending record (or one from the
+// command line or the demo seeding) is for its author or a curator. Before, any contributor could rewrite
+// any pending record. Every record kind a contributor may edit (routeRoles) has a case.
+func TestContributorEditsOnlyTheirOwnDrafts(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	if _, err := db.CreateUser(ctx, "other-contributor", store.RoleContributor, store.DemoPassword); err != nil {
+		t.Fatal(err)
+	}
+	author, other, curator := client(t), client(t), client(t)
+	signIn(t, author, srv, "demo-contributor")
+	signIn(t, other, srv, "other-contributor")
+	signIn(t, curator, srv, "demo-curator")
+	d1, _ := db.Date(ctx, 1)
+	newDate := url.Values{}
+	for k, v := range store.FormOfDate(d1) {
+		newDate.Set(k, v)
+	}
+	newDate.Set("sample_code", "DRAFT-OWN-1")
+	type kind struct {
+		newPath string
+		form    url.Values
+		// edit gives the posted form of a change to the record, from its current state.
+		edit func(id int64) url.Values
+		// seeded is a pending record no account added.
+		seeded func() int64
+	}
+	kinds := map[string]kind{
+		"dates": {"/dates/new", newDate,
+			func(id int64) url.Values {
+				d, _ := db.Date(ctx, id)
+				v := url.Values{"version": {fmt.Sprint(d.Version)}}
+				for k, x := range store.FormOfDate(d) {
+					v.Set(k, x)
+				}
+				v.Set("notes", "changed by "+fmt.Sprint(d.Version))
+				return v
+			},
+			func() int64 {
+				p, _, _ := db.Dates(ctx, store.DateFilter{ReviewState: "pending", Limit: 100})
+				for _, d := range p {
+					if d.SampleCode != "DRAFT-OWN-1" {
+						return d.ID
+					}
+				}
+				t.Fatal("the demo has no pending date")
+				return 0
+			}},
+		"events": {"/sections/1/events/new", url.Values{"name": {"own draft"}, "kind": {"other"}, "base_height_m": {"2"}},
+			func(id int64) url.Values {
+				e, _ := db.Event(ctx, id)
+				v := url.Values{"version": {fmt.Sprint(e.Version)}}
+				for k, x := range store.FormOfEvent(e) {
+					v.Set(k, x)
+				}
+				v.Set("notes", "changed by "+fmt.Sprint(e.Version))
+				return v
+			},
+			func() int64 {
+				e, err := db.CreateEvent(ctx, 1, store.Form{"name": "seeded draft", "kind": "other", "base_height_m": "3"}, false)
+				if err != nil {
+					t.Fatal(err)
+				}
+				return e.ID
+			}},
+	}
+	for key, min := range routeRoles {
+		method, pattern, _ := strings.Cut(key, " ")
+		if method == http.MethodGet && strings.HasSuffix(pattern, "/{id}/edit") && min == store.RoleContributor {
+			if _, ok := kinds[strings.Split(pattern, "/")[1]]; !ok {
+				t.Errorf("contributors may edit %s: add its kind to this test", pattern)
+			}
+		}
+	}
+	for name, k := range kinds {
+		t.Run(name, func(t *testing.T) {
+			status, _, h := do(t, author, http.MethodPost, srv.URL+k.newPath, k.form)
+			var id int64
+			if _, err := fmt.Sscanf(h.Get("Location"), "/"+name+"/%d", &id); status != http.StatusSeeOther || err != nil {
+				t.Fatalf("the author's new draft: status %d, Location %q", status, h.Get("Location"))
+			}
+			page := fmt.Sprintf("%s/%s/%d", srv.URL, name, id)
+			if _, body, _ := do(t, other, http.MethodGet, page, nil); strings.Contains(body, "/edit\"") {
+				t.Error("another contributor's page of the draft offers to edit it")
+			}
+			if status, body, _ := do(t, other, http.MethodGet, page+"/edit", nil); status != http.StatusForbidden || !strings.Contains(body, "only its author or a curator") {
+				t.Errorf("another contributor opening the edit form: status %d, want 403 naming who may", status)
+			}
+			if status, _, _ := do(t, other, http.MethodPost, page+"/edit", k.edit(id)); status != http.StatusForbidden {
+				t.Errorf("another contributor saving an edit: status %d, want 403", status)
+			}
+			if _, body, _ := do(t, author, http.MethodGet, page, nil); !strings.Contains(body, "/edit\"") {
+				t.Error("the author's page of the draft does not offer to edit it")
+			}
+			for who, c := range map[string]*http.Client{"the author": author, "a curator": curator} {
+				if status, _, _ := do(t, c, http.MethodGet, page+"/edit", nil); status != http.StatusOK {
+					t.Errorf("%s opening the edit form: status %d, want 200", who, status)
+				}
+				if status, _, _ := do(t, c, http.MethodPost, page+"/edit", k.edit(id)); status != http.StatusSeeOther {
+					t.Errorf("%s saving an edit: status %d, want 303", who, status)
+				}
+			}
+			revs, _ := db.Revisions(ctx, strings.TrimSuffix(name, "s"), id)
+			if len(revs) != 3 {
+				t.Errorf("%d revisions of the draft, want 3 (added, the author's edit, the curator's)", len(revs))
+			}
+			seeded := fmt.Sprintf("%s/%s/%d/edit", srv.URL, name, k.seeded())
+			if status, _, _ := do(t, author, http.MethodGet, seeded, nil); status != http.StatusForbidden {
+				t.Errorf("a contributor opening a pending record no account added: status %d, want 403", status)
+			}
+		})
+	}
+}
+
+// FuzzSafeNextRedirect is FuzzSignInNext without the sign-in (no password check, no session written), so
+// it tries many more values a second: the redirect that safeNext's answer makes is always a path of this
+// site as a browser reads it.
+func FuzzSafeNextRedirect(f *testing.F) {
+	for _, s := range hostileNext {
+		f.Add(s)
+	}
+	f.Add("/dates?unit=3")
+	base, _ := url.Parse("http://coeval.test")
+	f.Fuzz(func(t *testing.T, next string) {
+		rec := httptest.NewRecorder()
+		http.Redirect(rec, httptest.NewRequest(http.MethodPost, "http://coeval.test/login", nil), safeNext(next), http.StatusSeeOther)
+		if loc := rec.Header().Get("Location"); sameSiteLocation(base, loc) != "" {
+			t.Fatalf("next=%q: Location %q %s", next, loc, sameSiteLocation(base, loc))
+		}
+	})
+}
+
+// The delays of failed sign-ins, on a clock the test moves: none for the first freeAttempts failures,
+// then 1 s doubling with each failure up to 15 minutes (exponential backoff, common practice), counted per
+// account and address only, cleared by a success and forgotten an hour after the last failure.
+func TestSignInDelaysGrowPerAccountAndAddress(t *testing.T) {
+	now := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	l := newLoginLimiter(func() time.Time { return now })
+	a := loginKey("Demo-Admin", "192.0.2.1")
+	want := []time.Duration{0, 0, time.Second, 2 * time.Second, 4 * time.Second, 8 * time.Second, 16 * time.Second,
+		32 * time.Second, 64 * time.Second, 128 * time.Second, 256 * time.Second, 512 * time.Second, 15 * time.Minute, 15 * time.Minute}
+	for i, w := range want {
+		if got := l.wait(a); got != 0 {
+			t.Fatalf("before attempt %d: wait %v, want 0 (the previous delay has passed)", i+1, got)
+		}
+		l.fail(a)
+		if got := l.wait(a); got != w {
+			t.Errorf("after %d failures: wait %v, want %v", i+1, got, w)
+		}
+		now = now.Add(w / 2)
+		if got := l.wait(a); got != w-w/2 {
+			t.Errorf("after %d failures and half the delay: wait %v, want %v", i+1, got, w-w/2)
+		}
+		now = now.Add(w - w/2)
+	}
+	if got := delayAfter(1 << 20); got != maxDelay {
+		t.Errorf("after 2^20 failures: delay %v, want the largest, %v", got, maxDelay)
+	}
+	l.fail(a)
+	for _, other := range []string{loginKey("demo-admin", "198.51.100.7"), loginKey("demo-reader", "192.0.2.1")} {
+		if got := l.wait(other); got != 0 {
+			t.Errorf("%q waits %v for another pair's failures, want 0", other, got)
+		}
+	}
+	if got := l.wait(loginKey("DEMO-ADMIN", "192.0.2.1")); got != maxDelay {
+		t.Errorf("the same account in other capitals: wait %v, want %v", got, maxDelay)
+	}
+	now = now.Add(forgetAfter)
+	if got := l.wait(a); got != 0 {
+		t.Errorf("an hour after the last failure: wait %v, want 0", got)
+	}
+	l.fail(a)
+	if got := l.wait(a); got != 0 {
+		t.Errorf("the first failure after being forgotten: wait %v, want 0 (counted from 1)", got)
+	}
+	l.fail(a)
+	l.fail(a)
+	l.reset(a)
+	if got := l.wait(a); got != 0 {
+		t.Errorf("after a successful sign-in: wait %v, want 0", got)
+	}
+}
+
+// Failed sign-ins from one address do not stop the right password from another, nor another account from
+// the same address; the address that failed is told how long to wait. Before, five failures from anywhere
+// locked the account for everyone (429), and everyone behind one address shared one limit.
+func TestFailuresFromOneAddressDoNotLockOthersOut(t *testing.T) {
+	db := mustDemoDB(t)
+	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
+	signInFrom := func(addr, name, password string) *httptest.ResponseRecorder {
+		form := url.Values{"name": {name}, "password": {password}}
+		req := httptest.NewRequest(http.MethodPost, "/login", strings.NewReader(form.Encode()))
+		req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+		req.RemoteAddr = addr + ":40000"
+		rec := httptest.NewRecorder()
+		h.ServeHTTP(rec, req)
+		return rec
+	}
+	refused := 0
+	for range 30 {
+		switch rec := signInFrom("192.0.2.1", "demo-admin", "a-wrong-guess"); rec.Code {
+		case http.StatusUnprocessableEntity:
+		case http.StatusTooManyRequests:
+			refused++
+		default:
+			t.Fatalf("a wrong password: status %d", rec.Code)
+		}
+	}
+	if refused == 0 {
+		t.Error("30 quick wrong guesses from one address were never slowed down")
+	}
+	rec := signInFrom("192.0.2.1", "demo-admin", store.DemoPassword)
+	if rec.Code != http.StatusTooManyRequests || rec.Header().Get("Retry-After") == "" || !strings.Contains(rec.Body.String(), "Too many failed attempts for this account from your address. Wait") {
+		t.Errorf("the right password from the guessing address at once: status %d, Retry-After %q; want 429 saying how long to wait", rec.Code, rec.Header().Get("Retry-After"))
+	}
+	if rec := signInFrom("198.51.100.7", "demo-admin", store.DemoPassword); rec.Code != http.StatusSeeOther {
+		t.Errorf("the right password from another address: status %d, want 303 (signed in)", rec.Code)
+	}
+	if rec := signInFrom("192.0.2.1", "demo-reader", store.DemoPassword); rec.Code != http.StatusSeeOther {
+		t.Errorf("another account from the guessing address: status %d, want 303 (signed in)", rec.Code)
 	}
 }

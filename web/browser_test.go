@@ -247,17 +247,24 @@ func signInBrowser(t testing.TB, ctx context.Context, base, name string) {
 	}
 }
 
-// A curator's path: a contributor edits a draft date (it stays pending), a curator accepts it, reads the
-// history and restores the earlier state — all through the pages, with screenshots.
+// A curator's path: a contributor edits a draft date they added (it stays pending), a curator accepts it,
+// reads the history and restores the earlier state — all through the pages, with screenshots.
 func TestBrowserContributorAndCurator(t *testing.T) {
 	ctx := newBrowser(t)
 	srv, db := mustServer(t)
 	dir := screenshotDir(t)
-	pending, _, err := db.Dates(context.Background(), store.DateFilter{ReviewState: "pending", Limit: 1})
-	if err != nil || len(pending) == 0 {
-		t.Fatal("no pending date in the demo")
+	// The draft is the contributor's own: contributors edit only the drafts they added.
+	actor := store.WithActor(context.Background(), userID(t, db, "demo-contributor"))
+	d1, err := db.Date(actor, 1)
+	if err != nil {
+		t.Fatal(err)
 	}
-	d := pending[0]
+	f := store.FormOfDate(d1)
+	f["sample_code"] = "DRAFT-BROWSER-1"
+	d, err := db.CreateDate(actor, f, false)
+	if err != nil {
+		t.Fatal(err)
+	}
 	signInBrowser(t, ctx, srv.URL, "demo-contributor")
 	if err := chromedp.Do(ctx, chromedp.Navigate(fmt.Sprintf("%s/dates/%d/edit", srv.URL, d.ID)),
 		chromedp.SetValue(chromedp.CSS(`textarea[name="notes"]`), "checked against the lab's data table"),

@@ -396,7 +396,7 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	}})
 	v.Links = append(v.Links, views.Link{Label: "History of this date", URL: fmt.Sprintf("/dates/%d/history", d.ID)})
 	v.Actions = dateActions(r, d)
-	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) && mayEdit(r, d) == nil {
+	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) && s.mayEdit(r, d) == nil {
 		v.Links = append(v.Links, views.Link{Label: "Edit this date", URL: fmt.Sprintf("/dates/%d/edit", d.ID)})
 	}
 	if d.ReviewNote != "" {

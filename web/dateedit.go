@@ -150,13 +150,32 @@ func (s *Server) handleDateCreate(w http.ResponseWriter, r *http.Request) error 
 	return nil
 }
 
-// mayEdit says whether the user may edit d: curators anything, contributors their drafts (pending or
-// rejected dates).
-func mayEdit(r *http.Request, d store.Date) error {
-	if isCurator(r) || d.ReviewState != "accepted" {
+// mayEditDraft refuses (forbidden) an edit of a reviewed record the user may not make: curators edit
+// anything, a contributor only the drafts (pending or rejected records) they added themselves.
+func (s *Server) mayEditDraft(r *http.Request, recordType, noun string, id int64, review string) error {
+	if isCurator(r) {
 		return nil
 	}
-	return forbidden{"This date is accepted: only a curator may change it. Ask a curator, or add a corrected date as a new record."}
+	if review == "accepted" {
+		return forbidden{fmt.Sprintf("This %s is accepted: only a curator may change it. Ask a curator, or add a corrected %s as a new record.", noun, noun)}
+	}
+	u, ok := currentUser(r.Context())
+	if !ok {
+		return forbidden{"Sign in to do this."}
+	}
+	author, err := s.store.RecordAuthor(r.Context(), recordType, id)
+	if err != nil {
+		return err
+	}
+	if author != u.ID {
+		return forbidden{fmt.Sprintf("This %s was added by someone else: only its author or a curator may change it. Ask a curator, or add your version as a new record.", noun)}
+	}
+	return nil
+}
+
+// mayEdit says whether the user may edit date d (see mayEditDraft).
+func (s *Server) mayEdit(r *http.Request, d store.Date) error {
+	return s.mayEditDraft(r, "date", "date", d.ID, d.ReviewState)
 }
 
 func (s *Server) handleDateEdit(w http.ResponseWriter, r *http.Request) error {
@@ -168,7 +187,7 @@ func (s *Server) handleDateEdit(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
-	if err := mayEdit(r, d); err != nil {
+	if err := s.mayEdit(r, d); err != nil {
 		return err
 	}
 	e := s.dateEditView(r, "Edit "+d.SampleCode, fmt.Sprintf("/dates/%d/edit", id), d.Version, store.FormOfDate(d), nil, isCurator(r))
@@ -191,7 +210,7 @@ func (s *Server) handleDateUpdate(w http.ResponseWriter, r *http.Request) error 
 	if err != nil {
 		return err
 	}
-	if err := mayEdit(r, current); err != nil {
+	if err := s.mayEdit(r, current); err != nil {
 		return err
 	}
 	values := formValues(r)

@@ -52,11 +52,8 @@ func (s *Server) eventEdit() recordEdit {
 		},
 		remove:       s.store.DeleteEvent,
 		fromRevision: fromJSON(store.FormOfEvent),
-		mayEdit: func(r *http.Request, st stored) error {
-			if isCurator(r) || st.review != "accepted" {
-				return nil
-			}
-			return forbidden{"This event is accepted: only a curator may change it. Ask a curator, or add a corrected event."}
+		mayEdit: func(r *http.Request, id int64, st stored) error {
+			return s.mayEditDraft(r, "event", "event", id, st.review)
 		},
 	}
 }

@@ -57,7 +57,7 @@ type recordEdit struct {
 	// fromRevision turns a revision's JSON state into form cells.
 	fromRevision func(raw json.RawMessage) (store.Form, error)
 	// mayEdit refuses (forbidden) an edit the user may not make beyond the route's role; nil allows it.
-	mayEdit func(r *http.Request, st stored) error
+	mayEdit func(r *http.Request, id int64, st stored) error
 }
 
 // registerRecordEdit adds the routes of one record's editing flow: creation for contributors, edits for
@@ -166,7 +166,7 @@ func (s *Server) loadEditable(r *http.Request, e recordEdit) (int64, stored, err
 		return 0, stored{}, err
 	}
 	if e.mayEdit != nil {
-		if err := e.mayEdit(r, st); err != nil {
+		if err := e.mayEdit(r, id, st); err != nil {
 			return 0, stored{}, err
 		}
 	}
@@ -368,7 +368,7 @@ func recordLinks(r *http.Request, e recordEdit, id int64, st stored) ([]views.Li
 	if !ok {
 		return links, nil
 	}
-	if store.RoleAtLeast(u.Role, e.editRole) && (e.mayEdit == nil || e.mayEdit(r, st) == nil) {
+	if store.RoleAtLeast(u.Role, e.editRole) && (e.mayEdit == nil || e.mayEdit(r, id, st) == nil) {
 		links = append(links, views.Link{Label: "Edit this " + e.noun, URL: fmt.Sprintf("%s/%d/edit", e.path, id)})
 	}
 	var acts []views.Action

@@ -96,6 +96,7 @@ type Store interface {
 	CreateToken(ctx context.Context, userID int64, name string) (string, error)
 	RevokeToken(ctx context.Context, userID, tokenID int64) error
 	Tokens(ctx context.Context, userID int64) ([]store.Token, error)
+	RecordAuthor(ctx context.Context, recordType string, id int64) (int64, error)
 	SetSetting(ctx context.Context, key, value string) error
 	Backup(ctx context.Context, path string) error
 	SavePulses(ctx context.Context, provinceID int64, source string, ps []store.Pulse) ([]store.Pulse, error)
@@ -128,7 +129,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 		opt(&o)
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
-		limiter: newLoginLimiter(5, 15*time.Minute, o.now)}
+		limiter: newLoginLimiter(o.now)}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
