@@ -157,3 +157,34 @@ func (m *NaiveLinearAgeModel) AddShared(comps []SharedComponent) error {
 	}
 	return nil
 }
+
+// GatherShared collects the components of n ages, one per key, with the ages that carry it: parts(i)
+// gives age i's relative components and its ⁴⁰Ar/³⁹Ar calibration (nil if none). A key described with
+// different σ by different ages (a tracer term estimated from different dates) takes the largest, the
+// conservative choice.
+func GatherShared(n int, parts func(i int) ([]Systematic, *Calibration)) []SharedComponent {
+	var out []SharedComponent
+	index := map[string]int{}
+	for i := range n {
+		syst, cal := parts(i)
+		comps := make([]SharedComponent, 0, len(syst)+1)
+		for _, s := range syst {
+			comps = append(comps, SharedComponent{Systematic: s})
+		}
+		if cal != nil {
+			comps = append(comps, SharedComponent{Systematic: Systematic{Key: ArArCalibrationKey(*cal)}, Cal: cal})
+		}
+		for _, c := range comps {
+			k, ok := index[c.Key]
+			if !ok {
+				k = len(out)
+				index[c.Key] = k
+				c.Carries = make([]bool, n)
+				out = append(out, c)
+			}
+			out[k].RelSigma = max(out[k].RelSigma, c.RelSigma)
+			out[k].Carries[i] = true
+		}
+	}
+	return out
+}

@@ -227,23 +227,9 @@ func TestCompareClosedFormsThroughThePagePath(t *testing.T) {
 func TestCompareLevelAndKeysThroughThePagePath(t *testing.T) {
 	db := mustDemoDB(t)
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
-	ctx := context.Background()
 	table := func(q string) (*compareResult, map[string]string) {
 		t.Helper()
-		r := httptest.NewRequest(http.MethodGet, "/compare?sens=0&n=4000&reps=200&"+q, nil)
-		p := newParams(r)
-		ch, err := c.compareChoiceFrom(ctx, p)
-		if err != nil || p.err() != nil {
-			t.Fatal(err, p.err())
-		}
-		d, err := c.loadCompareData(ctx, &ch)
-		if err != nil {
-			t.Fatal(err)
-		}
-		res, err := computeComparison(d, ch, 0)
-		if err != nil {
-			t.Fatal(err)
-		}
+		res := comparePath(t, c, "/compare?sens=0&n=4000&reps=200&"+q)
 		// The probability and lag columns per pulse and event (the volume fraction also involves the
 		// ⁴⁰Ar/³⁹Ar units, whose calibration key the events do not share).
 		rows := map[string]string{}
@@ -313,21 +299,7 @@ func TestCompareLeavesPendingTiesOut(t *testing.T) {
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
 	run := func(q string) (*compareData, *compareResult) {
 		t.Helper()
-		r := httptest.NewRequest(http.MethodGet, "/compare?sens=0&n=1000&reps=200&draws=200&sections="+itoa(int(sec.ID))+q, nil)
-		p := newParams(r)
-		ch, err := c.compareChoiceFrom(ctx, p)
-		if err != nil || p.err() != nil {
-			t.Fatal(err, p.err())
-		}
-		d, err := c.loadCompareData(ctx, &ch)
-		if err != nil {
-			t.Fatal(err)
-		}
-		res, err := computeComparison(d, ch, 0)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return d, res
+		return comparePathData(t, c, "/compare?sens=0&n=1000&reps=200&draws=200&sections="+itoa(int(sec.ID))+q)
 	}
 	has := func(ts []store.TiePoint) bool {
 		for _, x := range ts {
@@ -634,24 +606,9 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 func TestCompareEventPoint(t *testing.T) {
 	db := mustDemoDB(t)
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
-	ctx := context.Background()
 	run := func(point string) *compareResult {
 		t.Helper()
-		r := httptest.NewRequest(http.MethodGet, "/compare?sens=0&n=2000&reps=100&draws=500&anomalies=1&point="+point, nil)
-		p := newParams(r)
-		ch, err := c.compareChoiceFrom(ctx, p)
-		if err != nil || p.err() != nil {
-			t.Fatal(err, p.err())
-		}
-		d, err := c.loadCompareData(ctx, &ch)
-		if err != nil {
-			t.Fatal(err)
-		}
-		res, err := computeComparison(d, ch, 0)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return res
+		return comparePath(t, c, "/compare?sens=0&n=2000&reps=100&draws=500&anomalies=1&point="+point)
 	}
 	ages := map[string]map[string]float64{}
 	for _, point := range []string{"base", "peak", "top"} {
@@ -687,4 +644,31 @@ func TestCompareEventPoint(t *testing.T) {
 	if n == 0 {
 		t.Fatal("no detected anomaly with an extent in the demo")
 	}
+}
+
+// comparePath runs a comparison address through the page's own path: choices, data, computation.
+func comparePath(t *testing.T, c *comparer, address string) *compareResult {
+	t.Helper()
+	_, res := comparePathData(t, c, address)
+	return res
+}
+
+// comparePathData is comparePath that also returns the data the comparison was computed from.
+func comparePathData(t *testing.T, c *comparer, address string) (*compareData, *compareResult) {
+	t.Helper()
+	ctx := context.Background()
+	p := newParams(httptest.NewRequest(http.MethodGet, address, nil))
+	ch, err := c.compareChoiceFrom(ctx, p)
+	if err != nil || p.err() != nil {
+		t.Fatal(err, p.err())
+	}
+	d, err := c.loadCompareData(ctx, &ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := computeComparison(d, ch, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d, res
 }

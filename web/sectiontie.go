@@ -393,32 +393,7 @@ func plural(n int) string {
 // carry it. A key described with different σ by different ties (a tracer term estimated from different
 // dates) takes the largest, the conservative choice.
 func tieComponents(ins []tieInput, level string) []stats.SharedComponent {
-	var out []stats.SharedComponent
-	index := map[string]int{}
-	for i, in := range ins {
-		syst, cal := in.componentsAt(level)
-		var comps []stats.SharedComponent
-		for _, s := range syst {
-			comps = append(comps, stats.SharedComponent{Systematic: s})
-		}
-		if cal != nil {
-			comps = append(comps, stats.SharedComponent{Systematic: stats.Systematic{Key: stats.ArArCalibrationKey(*cal)}, Cal: cal})
-		}
-		for _, c := range comps {
-			k, ok := index[c.Key]
-			if !ok {
-				k = len(out)
-				index[c.Key] = k
-				c.Carries = make([]bool, len(ins))
-				out = append(out, c)
-			}
-			if c.RelSigma > out[k].RelSigma {
-				out[k].RelSigma = c.RelSigma
-			}
-			out[k].Carries[i] = true
-		}
-	}
-	return out
+	return stats.GatherShared(len(ins), func(i int) ([]stats.Systematic, *stats.Calibration) { return ins[i].componentsAt(level) })
 }
 
 // componentsNote says which components an age model drew once per draw, and for how many ties.

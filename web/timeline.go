@@ -185,29 +185,7 @@ func (v densityValue) withParts(sys *systemSummary, analytical float64, ch summa
 // sharedComponents gathers the values' components, one per key with the values that carry it (the
 // largest σ where two values describe one key differently).
 func sharedComponents(vals []densityValue) []stats.SharedComponent {
-	var out []stats.SharedComponent
-	index := map[string]int{}
-	for i, v := range vals {
-		var comps []stats.SharedComponent
-		for _, s := range v.syst {
-			comps = append(comps, stats.SharedComponent{Systematic: s})
-		}
-		if v.cal != nil {
-			comps = append(comps, stats.SharedComponent{Systematic: stats.Systematic{Key: stats.ArArCalibrationKey(*v.cal)}, Cal: v.cal})
-		}
-		for _, c := range comps {
-			k, ok := index[c.Key]
-			if !ok {
-				k = len(out)
-				index[c.Key] = k
-				c.Carries = make([]bool, len(vals))
-				out = append(out, c)
-			}
-			out[k].RelSigma = max(out[k].RelSigma, c.RelSigma)
-			out[k].Carries[i] = true
-		}
-	}
-	return out
+	return stats.GatherShared(len(vals), func(i int) ([]stats.Systematic, *stats.Calibration) { return vals[i].syst, vals[i].cal })
 }
 
 // densityResult is the density of a province and what went into it.
