@@ -27,6 +27,8 @@ type DB struct {
 	db         *sql.DB
 	now        func() time.Time
 	bcryptCost int // 0 = bcrypt.DefaultCost
+	// uploadQuota is the bytes of checked but not imported uploads one account may keep (0 = default).
+	uploadQuota int64
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:

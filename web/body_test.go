@@ -160,3 +160,20 @@ func TestUploadOverMemoryThresholdLeavesNoFile(t *testing.T) {
 		}
 	}
 }
+
+// Issue 14, Medium 5: files checked and not imported count against the account's quota; the upload over
+// it is refused on the form with the sizes and the quota named.
+func TestUploadOverQuotaIsRefusedOnTheForm(t *testing.T) {
+	srv, db := mustServer(t)
+	db.SetUploadQuota(3 << 19) // 1.5 MiB
+	c := client(t)
+	signIn(t, c, srv, "demo-contributor")
+	body, ct := multipartBody(t, "dates", "dates.csv", 1<<20)
+	if status, page := send(t, c, http.MethodPost, srv.URL+"/import", ct, bytes.NewReader(body)); status != http.StatusUnprocessableEntity || !strings.Contains(page, "nothing can be imported") {
+		t.Fatalf("first upload: status %d, want 422 listing its problems: %.300s", status, page)
+	}
+	status, page := send(t, c, http.MethodPost, srv.URL+"/import", ct, bytes.NewReader(body))
+	if want := "with this one (1.0 MiB) they would pass the 1.5 MiB one account may keep waiting"; status != http.StatusUnprocessableEntity || !strings.Contains(page, want) {
+		t.Errorf("second upload: status %d, want 422 saying %q: %.300s", status, want, page)
+	}
+}

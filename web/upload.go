@@ -127,7 +127,9 @@ func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) err
 		return err
 	}
 	id, err := s.store.SaveUpload(ctx, store.Upload{UserID: u.ID, Kind: kind, Section: section, FileName: hdr.Filename, Body: csvBody})
-	if err != nil {
+	if ve, ok := store.AsValidation(err); ok {
+		return refuse(ve.Problems[0].String()) // over the account's quota of files kept waiting
+	} else if err != nil {
 		return err
 	}
 	up, err := s.store.UploadByID(ctx, id)
