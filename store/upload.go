@@ -82,6 +82,7 @@ type Preview struct {
 const (
 	maxSheetColumns = 500
 	maxSheetCells   = 1_000_000
+	maxFormatTags   = 200_000
 	maxUnzipBytes   = 64 << 20
 )
 
@@ -201,60 +202,75 @@ func (d *DB) PurgeUploads(ctx context.Context) (int64, error) {
 
 func (d *DB) uploadCutoff() string { return d.now().Add(-uploadKeep).UTC().Format(TimeFormat) }
 
-// countWorkbookCells streams the sheets' XML (and the shared strings) once, counting cell elements (and
-// strings), and says what is wrong when there are more than maxSheetCells: excelize decodes every cell,
-// empty ones included, at about 5 µs each, so 16 M empty cells in 64 MiB of XML would take over a minute
-// before the row-by-row count in ToCSV saw a single one. The scan stops as soon as the count passes the
-// cap. Anything it cannot read is left for excelize to refuse.
+// countWorkbookCells streams every part of the workbook once, counting XML start tags, and says what is
+// wrong when there are too many; excelize decodes each (a cell in about 5 µs, empty ones included, a
+// style in about 12 µs), so the 64 MiB unpacked limit alone would still allow minutes of work: 16 M empty
+// cells, or a 100 kB workbook whose 60 MiB of styles took 154 s. Each count stops at its cap.
+//   - parts excelize reads whole at fixed names on opening (styles, theme, calculation chain, content
+//     types, package relationships): at most maxFormatTags tags together;
+//   - the shared strings: at most 3 tags per possible cell;
+//   - every other part (the sheets, and the workbook and its relationships, which name the sheets'
+//     parts): at most maxSheetCells cell elements and 4 tags per possible cell in all.
+//
+// Anything the scan cannot read is left for excelize to refuse.
 func countWorkbookCells(zr *zip.Reader) string {
-	cells, strs := 0, 0
+	fixed := map[string]bool{"xl/styles.xml": true, "xl/calcchain.xml": true, "xl/theme/theme1.xml": true, "[content_types].xml": true, "_rels/.rels": true}
+	formatTags, cells, tags := 0, 0, 0
 	for _, zf := range zr.File {
-		name := strings.ToLower(strings.ReplaceAll(zf.Name, "\\", "/"))
-		switch {
-		case strings.HasPrefix(name, "xl/worksheets/") && strings.HasSuffix(name, ".xml"):
-			n, _ := countElements(zf, "c", maxSheetCells-cells)
-			if cells += n; cells > maxSheetCells {
-				return fmt.Sprintf("the workbook's sheets hold more than %d cells, the most a workbook upload may hold: keep only the table to import (in the first sheet), delete what lies below or beside it, or save it as CSV", maxSheetCells)
+		switch name := strings.ToLower(strings.ReplaceAll(zf.Name, "\\", "/")); {
+		case fixed[name]:
+			n, _, _ := countElements(zf, "", maxFormatTags-formatTags, 0)
+			if formatTags += n; formatTags > maxFormatTags {
+				return fmt.Sprintf("the workbook's formatting holds more than %d entries, the most a workbook upload may hold: copy the table into a new workbook, or save it as CSV", maxFormatTags)
 			}
 		case name == "xl/sharedstrings.xml":
-			n, _ := countElements(zf, "si", maxSheetCells)
-			if strs = n; strs > maxSheetCells {
-				return fmt.Sprintf("the workbook holds more than %d different texts, the most a workbook upload may hold: keep only the table to import, or save it as CSV", maxSheetCells)
+			if n, _, _ := countElements(zf, "", 3*maxSheetCells, 0); n > 3*maxSheetCells {
+				return fmt.Sprintf("the workbook's texts take more than %d entries, the most a workbook upload may hold: keep only the table to import, or save it as CSV", 3*maxSheetCells)
+			}
+		default:
+			n, c, _ := countElements(zf, "c", 4*maxSheetCells-tags, maxSheetCells-cells)
+			tags, cells = tags+n, cells+c
+			if cells > maxSheetCells || tags > 4*maxSheetCells {
+				return fmt.Sprintf("the workbook's sheets hold more than %d cells, the most a workbook upload may hold: keep only the table to import (in the first sheet), delete what lies below or beside it, or save it as CSV", maxSheetCells)
 			}
 		}
 	}
 	return ""
 }
 
-// countElements counts the start tags of an XML part whose local name (after any prefix) is local,
-// stopping once the count passes limit. Text cannot hold a bare "<", so outside comments and CDATA (where
-// counting too many only refuses sooner) every "<" starts a tag.
-func countElements(zf *zip.File, local string, limit int) (int, error) {
+// countElements counts the start tags of an XML part (all) and those whose local name (after any prefix)
+// is local (matched), stopping once all passes maxAll or matched passes maxMatched. Text cannot hold a
+// bare "<", so outside comments and CDATA (where counting too many only refuses sooner) every "<" that
+// is not followed by "/", "?" or "!" starts a tag.
+func countElements(zf *zip.File, local string, maxAll, maxMatched int) (all, matched int, err error) {
 	rc, err := zf.Open()
 	if err != nil {
-		return 0, err
+		return 0, 0, err
 	}
 	defer rc.Close()
 	br := bufio.NewReaderSize(rc, 64<<10)
-	n := 0
-	for n <= limit {
+	for all <= maxAll && (local == "" || matched <= maxMatched) {
 		if _, err := br.ReadSlice('<'); err == bufio.ErrBufferFull {
 			continue
 		} else if err != nil {
-			return n, err
+			return all, matched, err
 		}
-		// The tag's name up to a delimiter; only what follows its last ':' matters.
-		match, seen := true, 0
+		// The tag's name up to a delimiter; only what follows its last ':' is matched.
+		match, seen, first := local != "", 0, true
 		for {
 			b, err := br.ReadByte()
 			if err != nil {
-				return n, err
+				return all, matched, err
 			}
-			if b == ' ' || b == '>' || b == '/' || b == '\t' || b == '\n' || b == '\r' {
+			if b == ' ' || b == '>' || b == '/' || b == '\t' || b == '\n' || b == '\r' || (first && (b == '?' || b == '!')) {
+				if !first {
+					all++
+				}
 				break
 			}
+			first = false
 			if b == ':' {
-				match, seen = true, 0
+				match, seen = local != "", 0
 				continue
 			}
 			if seen >= len(local) || b != local[seen] {
@@ -263,10 +279,10 @@ func countElements(zf *zip.File, local string, limit int) (int, error) {
 			seen++
 		}
 		if match && seen == len(local) {
-			n++
+			matched++
 		}
 	}
-	return n, nil
+	return all, matched, nil
 }
 
 // SaveUpload keeps an uploaded file (already converted to CSV) for its preview and commit. It first purges

@@ -17,6 +17,14 @@ import (
 // sheetData writes between <sheetData> and </sheetData>: the way a hostile or broken file is made.
 func craftedWorkbook(t testing.TB, sheetData func(w io.Writer)) []byte {
 	t.Helper()
+	return craftedPart(t, "xl/worksheets/sheet1.xml",
+		`<?xml version="1.0" encoding="UTF-8" standalone="yes"?><worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><sheetData>`,
+		`</sheetData></worksheet>`, sheetData)
+}
+
+// craftedPart is a real workbook whose part name is replaced by head, what body writes, and tail.
+func craftedPart(t testing.TB, name, head, tail string, body func(w io.Writer)) []byte {
+	t.Helper()
 	base := workbook(t, [][]string{{"section"}})
 	zr, err := zip.NewReader(bytes.NewReader(base), int64(len(base)))
 	if err != nil {
@@ -29,11 +37,11 @@ func craftedWorkbook(t testing.TB, sheetData func(w io.Writer)) []byte {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if f.Name == "xl/worksheets/sheet1.xml" {
+		if f.Name == name {
 			bw := bufio.NewWriterSize(w, 1<<20)
-			io.WriteString(bw, `<?xml version="1.0" encoding="UTF-8" standalone="yes"?><worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><sheetData>`)
-			sheetData(bw)
-			io.WriteString(bw, `</sheetData></worksheet>`)
+			io.WriteString(bw, head)
+			body(bw)
+			io.WriteString(bw, tail)
 			if err := bw.Flush(); err != nil {
 				t.Fatal(err)
 			}
@@ -57,7 +65,8 @@ func craftedWorkbook(t testing.TB, sheetData func(w io.Writer)) []byte {
 // refused from the zip's directory, before anything is unpacked, with the limit named. A sheet within the
 // unpacked limit but with more cells than the cap (empty ones too: excelize decodes each) is refused by
 // a scan of its XML that stops at the cap; one with a stray cell a million rows down at the row where
-// rows × width passes the cap.
+// rows × width passes the cap. Styles, which excelize decodes whole on opening (60 MiB of them took
+// 154 s), have a cap of their own.
 func TestToCSVRefusesWorkbooksThatExpand(t *testing.T) {
 	row := []byte(`<row><c t="inlineStr"><is><t>x</t></is></c></row>`)
 	bomb := craftedWorkbook(t, func(w io.Writer) {
@@ -88,11 +97,15 @@ func TestToCSVRefusesWorkbooksThatExpand(t *testing.T) {
 		fmt.Fprint(w, `<row r="1"><c r="A1" t="inlineStr"><is><t>section</t></is></c></row>`)
 		fmt.Fprint(w, `<row r="1048576"><c r="A1048576" t="inlineStr"><is><t>stray</t></is></c></row>`)
 	})
+	styles := craftedPart(t, "xl/styles.xml",
+		`<?xml version="1.0" encoding="UTF-8" standalone="yes"?><styleSheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><cellXfs>`,
+		`</cellXfs></styleSheet>`, func(w io.Writer) { w.Write(bytes.Repeat([]byte(`<xf/>`), maxFormatTags)) })
 	for _, c := range []struct {
 		name string
 		body []byte
 		want string
 	}{
+		{"200,000 styles", styles, "the workbook's formatting holds more than 200000 entries"},
 		{"65 MiB of sheet XML", bomb, "unpacks to more than 64 MiB"},
 		{"1,000,500 cells", wide, "the workbook's sheets hold more than 1000000 cells"},
 		{"1,000,500 empty cells, prefixed", empty, "the workbook's sheets hold more than 1000000 cells"},
