@@ -2,16 +2,24 @@ package web
 
 import (
 	"bytes"
+	"fmt"
 	"io"
 	"io/fs"
+	"log/slog"
+	"mime"
 	"mime/multipart"
 	"net/http"
+	"net/http/httptest"
+	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
 	"github.com/go-chi/chi/v5"
+
+	"coeval/static"
+	"coeval/store"
 )
 
 // multipartBody is a form with one file part of size bytes (and a kind field), as a browser sends it.
@@ -176,4 +184,129 @@ func TestUploadOverQuotaIsRefusedOnTheForm(t *testing.T) {
 	if want := "with this one (1.0 MiB) they would pass the 1.5 MiB one account may keep waiting"; status != http.StatusUnprocessableEntity || !strings.Contains(page, want) {
 		t.Errorf("second upload: status %d, want 422 saying %q: %.300s", status, want, page)
 	}
+}
+
+// repeated reads head, then chunk n times, then tail, without holding the whole body.
+func repeated(head, chunk []byte, n int, tail []byte) io.Reader {
+	rs := []io.Reader{bytes.NewReader(head)}
+	if len(chunk) > 0 && n > 0 {
+		rs = append(rs, io.LimitReader(&cycle{b: chunk}, int64(len(chunk))*int64(n)))
+	}
+	return io.MultiReader(append(rs, bytes.NewReader(tail))...)
+}
+
+type cycle struct {
+	b []byte
+	i int
+}
+
+func (c *cycle) Read(p []byte) (int, error) {
+	n := 0
+	for n < len(p) {
+		k := copy(p[n:], c.b[c.i:])
+		n += k
+		c.i = (c.i + k) % len(c.b)
+	}
+	return n, nil
+}
+
+// FuzzRequestBodies sends arbitrary bodies (head + chunk × repeat + tail, up to a few MiB over the upload
+// limit), with arbitrary content types, declared or chunked, to the sign-in page, the upload route and
+// a few forms, as a signed-in contributor. Every answer is below 500 and says nothing internal; a body
+// declared over its route's limit is answered 413, a multipart body on a route that takes no file 413
+// or 415; and no file is ever left in the temporary directory.
+func FuzzRequestBodies(f *testing.F) {
+	const boundary = "XyZ"
+	ct := "multipart/form-data; boundary=" + boundary
+	filePart := func(kind, name string) []byte {
+		return []byte("--" + boundary + "\r\nContent-Disposition: form-data; name=\"kind\"\r\n\r\n" + kind + "\r\n--" + boundary +
+			"\r\nContent-Disposition: form-data; name=\"file\"; filename=\"" + name + "\"\r\nContent-Type: text/csv\r\n\r\n")
+	}
+	end := []byte("\r\n--" + boundary + "--\r\n")
+	form := "application/x-www-form-urlencoded"
+	for _, s := range []struct {
+		route       uint8
+		contentType string
+		head, chunk []byte
+		repeat      uint32
+		tail        []byte
+		sized       bool
+	}{
+		{0, form, []byte("name=demo-reader&password=wrong"), nil, 0, nil, true},
+		{0, form, []byte("name=demo-reader&password="), []byte("x"), 2 << 20, nil, false},
+		{0, ct, filePart("dates", "a.csv"), []byte("x"), 100, end, true},
+		{1, ct, filePart("dates", "a.csv"), []byte("x"), 100, end, false},
+		{2, ct, filePart("sections", "s.csv"), []byte("section\nS\n"), 1, end, true},
+		{2, ct, filePart("dates", "d.xlsx"), []byte("PK\x03\x04"), 10, end, true},
+		{2, ct, filePart("nonsense", "big.csv"), []byte("0123456789abcdef"), (uploadMemoryBytes + 1<<20) / 16, end, true},
+		{2, ct, filePart("dates", "big.csv"), []byte("0123456789abcdef"), 1 << 10, nil, false},
+		{2, form, []byte("kind=dates"), nil, 0, nil, true},
+		{2, "multipart/form-data", []byte("--"), nil, 0, nil, true},
+		{3, form, []byte("province=P&unit=U"), []byte("&x=1"), 1000, nil, true},
+		{4, "text/plain", []byte("hello"), nil, 0, nil, true},
+	} {
+		f.Add(s.route, s.contentType, s.head, s.chunk, s.repeat, s.tail, s.sized)
+	}
+	tmp := f.TempDir()
+	db := mustDemoDB(f)
+	f.Setenv("TMPDIR", tmp)
+	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
+	rec := httptest.NewRecorder()
+	login := httptest.NewRequest(http.MethodPost, "/login", strings.NewReader("name=demo-contributor&password="+url.QueryEscape(store.DemoPassword)))
+	login.Header.Set("Content-Type", form)
+	h.ServeHTTP(rec, login)
+	cookies := rec.Result().Cookies()
+	if rec.Code != http.StatusSeeOther || len(cookies) == 0 {
+		f.Fatalf("sign in: status %d", rec.Code)
+	}
+	routes := []struct{ method, path string }{
+		{http.MethodPost, "/login"}, {http.MethodGet, "/login"}, {http.MethodPost, "/import"},
+		{http.MethodPost, "/dates/new"}, {http.MethodPost, "/compare/saved"},
+	}
+	f.Fuzz(func(t *testing.T, route uint8, contentType string, head, chunk []byte, repeat uint32, tail []byte, sized bool) {
+		rt := routes[int(route)%len(routes)]
+		upload := isUploadRoute(rt.method + " " + rt.path)
+		limit := int64(maxFormBytes)
+		if upload {
+			limit = maxUploadBodyBytes
+		}
+		n := int64(len(chunk)) * int64(repeat)
+		if n > limit+4<<20 { // a little over the largest limit is enough
+			repeat = uint32((limit + 4<<20) / int64(len(chunk)))
+			n = int64(len(chunk)) * int64(repeat)
+		}
+		size := int64(len(head)) + n + int64(len(tail))
+		req := httptest.NewRequest(rt.method, rt.path, repeated(head, chunk, int(repeat), tail))
+		req.ContentLength = -1
+		if sized {
+			req.ContentLength = size
+		}
+		req.Header.Set("Content-Type", contentType)
+		for _, c := range cookies {
+			req.AddCookie(c)
+		}
+		rec := httptest.NewRecorder()
+		h.ServeHTTP(rec, req)
+		body := rec.Body.String()
+		what := fmt.Sprintf("%s %s (%q, %d bytes, sized %v)", rt.method, rt.path, contentType, size, sized)
+		if rec.Code >= 500 {
+			t.Fatalf("%s: status %d: %.300s", what, rec.Code, body)
+		}
+		if strings.Contains(body, "goroutine ") || strings.Contains(body, "runtime error") {
+			t.Fatalf("%s: internal text in the answer", what)
+		}
+		if sized && size > limit && rec.Code != http.StatusRequestEntityTooLarge {
+			t.Fatalf("%s: over the %d-byte limit, status %d, want 413", what, limit, rec.Code)
+		}
+		if mt, _, _ := mime.ParseMediaType(contentType); mt == "multipart/form-data" && !upload &&
+			rec.Code != http.StatusUnsupportedMediaType && rec.Code != http.StatusRequestEntityTooLarge {
+			t.Fatalf("%s: a multipart body where no file is taken: status %d, want 415 or 413", what, rec.Code)
+		}
+		if left := filesUnder(t, tmp); len(left) > 0 {
+			for _, p := range left {
+				os.Remove(p)
+			}
+			t.Fatalf("%s: files left in the temporary directory: %v", what, left)
+		}
+	})
 }
