@@ -60,7 +60,11 @@ func (s *Server) limitBodies(mux *chi.Mux) func(http.Handler) http.Handler {
 				w.Header().Set("Connection", "close")
 				s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
 			}
-			upload := isUploadRoute(r.Method + " " + mux.Find(chi.NewRouteContext(), r.Method, r.URL.Path))
+			path := r.URL.RawPath // the path chi routes by
+			if path == "" {
+				path = r.URL.Path
+			}
+			upload := isUploadRoute(r.Method + " " + mux.Find(chi.NewRouteContext(), r.Method, path))
 			limit := int64(maxFormBytes)
 			if upload {
 				limit = maxUploadBodyBytes

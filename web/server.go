@@ -229,7 +229,7 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		var ce conflictError
 		var wm wrongMethod
 		var tl bodyTooLarge
-		var nf2 notAForm
+		var naf notAForm
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
@@ -244,7 +244,7 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		case errors.As(err, &tl):
 			view.Status, view.Page.Title = http.StatusRequestEntityTooLarge, "Too much sent"
 			view.Message = tl.message()
-		case errors.As(err, &nf2):
+		case errors.As(err, &naf):
 			view.Status, view.Page.Title = http.StatusUnsupportedMediaType, "No file is taken here"
 			view.Message = "This page takes a form without files, so what was sent was refused and nothing was kept. Files are sent on the Import page."
 		case errors.As(err, &nf):
