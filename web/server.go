@@ -119,8 +119,8 @@ type Server struct {
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
-// security headers, body limits, cross-origin protection, session, identification (session or access token), and the
-// site-wide sign-in requirement. staticFS holds the files served under /static/.
+// security headers, body limits, cross-origin protection, session, identification (session or access
+// token), and the site-wide sign-in requirement. staticFS holds the files served under /static/.
 func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http.Handler {
 	o := options{sessionCleanup: 5 * time.Minute, now: time.Now}
 	for _, opt := range opts {
