@@ -182,6 +182,13 @@ func serve(ctx context.Context, cfg config, logger *slog.Logger, stdout io.Write
 			fmt.Fprintf(stdout, "coeval: %s was empty; seeded the invented demo scenario (%d files)\n", cfg.dbPath, len(results))
 		}
 	}
+	// Uploads checked more than a day ago and never imported are dropped (also on every new upload). A
+	// database that cannot be written keeps them; serving goes on.
+	if n, err := db.PurgeUploads(ctx); err != nil {
+		logger.Warn("uploads not purged", "err", err)
+	} else if n > 0 {
+		logger.Info("purged uploads checked more than a day ago and never imported", "count", n)
+	}
 	ln, err := net.Listen("tcp", cfg.addr)
 	if err != nil {
 		return fmt.Errorf("listen on %s: %w", cfg.addr, err)

@@ -28,6 +28,8 @@ type DB struct {
 	now        func() time.Time
 	bcryptCost int  // 0 = bcrypt.DefaultCost
 	readOnly   bool // opened with OpenReadOnly: every write fails with SQLITE_READONLY
+	// uploadQuota is the bytes of checked but not imported uploads one account may keep (0 = default).
+	uploadQuota int64
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:

@@ -1,6 +1,8 @@
 package store
 
 import (
+	"archive/zip"
+	"bufio"
 	"bytes"
 	"context"
 	"database/sql"
@@ -11,6 +13,7 @@ import (
 	"path"
 	"path/filepath"
 	"strings"
+	"time"
 
 	"github.com/xuri/excelize/v2"
 )
@@ -70,11 +73,19 @@ type Preview struct {
 	Lines    []int
 }
 
-// Limits on a workbook upload: a stray cell far to the right or far down would otherwise make a sheet of
-// millions of empty cells.
+// Limits on a workbook upload. A stray cell far to the right or far down would otherwise make a sheet of
+// millions of empty cells, and a few MB of zip can unpack to gigabytes of sheet XML (a 2 MB workbook
+// holding 955 MB took 95 s and 5 GB of memory). maxUnzipBytes bounds what the workbook unpacks to, read
+// from the zip's directory before anything is unpacked (archive/zip refuses an entry that unpacks to more
+// than its directory says); maxSheetCells bounds the cells of the first sheet, counted row by row as the
+// sheet is streamed, as the padded CSV will hold them (rows × the widest row so far). A million cells is
+// 50,000 rows of 20 columns, far more than a file of dates or measurements holds (common practice: limits
+// a few times above the largest real input).
 const (
 	maxSheetColumns = 500
-	maxUnzipBytes   = 1 << 30
+	maxSheetCells   = 1_000_000
+	maxFormatTags   = 200_000
+	maxUnzipBytes   = 64 << 20
 )
 
 // ToCSV turns an uploaded file into CSV: .xlsx files (first sheet) are converted, anything else is taken
@@ -90,7 +101,23 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 			out, err = nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
 		}
 	}()
-	f, err := excelize.OpenReader(bytes.NewReader(body), excelize.Options{UnzipSizeLimit: maxUnzipBytes})
+	zr, err := zip.NewReader(bytes.NewReader(body), int64(len(body)))
+	if err != nil {
+		return nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
+	}
+	var unzipped uint64
+	for _, zf := range zr.File {
+		unzipped += zf.UncompressedSize64
+		if unzipped > maxUnzipBytes || zf.UncompressedSize64 > maxUnzipBytes {
+			return nil, refuse(fmt.Sprintf("the workbook unpacks to more than %d MiB, the most a workbook upload may unpack to: save its first sheet as CSV (a CSV file may be up to the upload limit), or split it into several files", maxUnzipBytes>>20))
+		}
+	}
+	if msg := countWorkbookCells(zr); msg != "" {
+		return nil, refuse(msg)
+	}
+	// The same limit for excelize, and no part is unpacked to a temporary file (XML size limit = the
+	// whole): the workbook is held in memory only, within maxUnzipBytes.
+	f, err := excelize.OpenReader(bytes.NewReader(body), excelize.Options{UnzipSizeLimit: maxUnzipBytes, UnzipXMLSizeLimit: maxUnzipBytes})
 	if err != nil {
 		return nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
 	}
@@ -119,6 +146,9 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 			return nil, refuse(fmt.Sprintf("row %d has a cell in column %s: a file holds at most %d columns; delete what lies beyond the table", n, col, maxSheetColumns))
 		}
 		width = max(width, len(r))
+		if cells := n * max(width, 1); cells > maxSheetCells {
+			return nil, refuse(fmt.Sprintf("the first sheet holds more than %d cells by row %d (%d columns wide), the most a workbook upload may hold: delete what lies below or beside the table, or save it as CSV", maxSheetCells, n, max(width, 1)))
+		}
 		size += 1 + width
 		for _, c := range r {
 			size += len(c)
@@ -143,18 +173,159 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 	return buf.Bytes(), w.Error()
 }
 
-// SaveUpload keeps an uploaded file (already converted to CSV) for its preview and commit.
+// An upload that is checked but never imported is kept for uploadKeep, then purged; while kept, its body
+// counts against its account's quota (DefaultUploadQuota unless SetUploadQuota says otherwise), so that
+// nobody can fill the disk with files checked and left. Four uploads of the largest size fit the default.
+const (
+	uploadKeep         = 24 * time.Hour
+	DefaultUploadQuota = 256 << 20
+)
+
+// SetUploadQuota sets how many bytes of checked but not imported uploads one account may keep (0: the
+// default).
+func (d *DB) SetUploadQuota(bytes int64) { d.uploadQuota = bytes }
+
+func (d *DB) quota() int64 {
+	if d.uploadQuota > 0 {
+		return d.uploadQuota
+	}
+	return DefaultUploadQuota
+}
+
+// PurgeUploads deletes the bodies of uploads checked more than a day ago and never imported, and returns
+// how many it deleted. SaveUpload calls it; the server also calls it on start.
+func (d *DB) PurgeUploads(ctx context.Context) (int64, error) {
+	r, err := d.db.ExecContext(ctx, `DELETE FROM uploads WHERE batch_id IS NULL AND created_at < ?`, d.uploadCutoff())
+	if err != nil {
+		return 0, fmt.Errorf("purge uploads: %w", err)
+	}
+	return r.RowsAffected()
+}
+
+func (d *DB) uploadCutoff() string { return d.now().Add(-uploadKeep).UTC().Format(TimeFormat) }
+
+// countWorkbookCells streams every part of the workbook once, counting XML start tags, and says what is
+// wrong when there are too many; excelize decodes each (a cell in about 5 µs, empty ones included, a
+// style in about 12 µs), so the 64 MiB unpacked limit alone would still allow minutes of work: 16 M empty
+// cells, or a 100 kB workbook whose 60 MiB of styles took 154 s. Each count stops at its cap.
+//   - parts excelize reads whole at fixed names on opening (styles, theme, calculation chain, content
+//     types, package relationships): at most maxFormatTags tags together;
+//   - the shared strings: at most 3 tags per possible cell;
+//   - every other part (the sheets, and the workbook and its relationships, which name the sheets'
+//     parts): at most maxSheetCells cell elements and 4 tags per possible cell in all.
+//
+// Anything the scan cannot read is left for excelize to refuse.
+func countWorkbookCells(zr *zip.Reader) string {
+	fixed := map[string]bool{"xl/styles.xml": true, "xl/calcchain.xml": true, "xl/theme/theme1.xml": true, "[content_types].xml": true, "_rels/.rels": true}
+	formatTags, cells, tags := 0, 0, 0
+	for _, zf := range zr.File {
+		switch name := strings.ToLower(strings.ReplaceAll(zf.Name, "\\", "/")); {
+		case fixed[name]:
+			n, _, _ := countElements(zf, "", maxFormatTags-formatTags, 0)
+			if formatTags += n; formatTags > maxFormatTags {
+				return fmt.Sprintf("the workbook's formatting holds more than %d entries, the most a workbook upload may hold: copy the table into a new workbook, or save it as CSV", maxFormatTags)
+			}
+		case name == "xl/sharedstrings.xml":
+			if n, _, _ := countElements(zf, "", 3*maxSheetCells, 0); n > 3*maxSheetCells {
+				return fmt.Sprintf("the workbook's texts take more than %d entries, the most a workbook upload may hold: keep only the table to import, or save it as CSV", 3*maxSheetCells)
+			}
+		default:
+			n, c, _ := countElements(zf, "c", 4*maxSheetCells-tags, maxSheetCells-cells)
+			tags, cells = tags+n, cells+c
+			if cells > maxSheetCells || tags > 4*maxSheetCells {
+				return fmt.Sprintf("the workbook's sheets hold more than %d cells, the most a workbook upload may hold: keep only the table to import (in the first sheet), delete what lies below or beside it, or save it as CSV", maxSheetCells)
+			}
+		}
+	}
+	return ""
+}
+
+// countElements counts the start tags of an XML part (all) and those whose local name (after any prefix)
+// is local (matched), stopping once all passes maxAll or matched passes maxMatched. Text cannot hold a
+// bare "<", so outside comments and CDATA (where counting too many only refuses sooner) every "<" that
+// is not followed by "/", "?" or "!" starts a tag.
+func countElements(zf *zip.File, local string, maxAll, maxMatched int) (all, matched int, err error) {
+	rc, err := zf.Open()
+	if err != nil {
+		return 0, 0, err
+	}
+	defer rc.Close()
+	br := bufio.NewReaderSize(rc, 64<<10)
+	for all <= maxAll && (local == "" || matched <= maxMatched) {
+		if _, err := br.ReadSlice('<'); err == bufio.ErrBufferFull {
+			continue
+		} else if err != nil {
+			return all, matched, err
+		}
+		// The tag's name up to a delimiter; only what follows its last ':' is matched.
+		match, seen, first := local != "", 0, true
+		for {
+			b, err := br.ReadByte()
+			if err != nil {
+				return all, matched, err
+			}
+			if b == ' ' || b == '>' || b == '/' || b == '\t' || b == '\n' || b == '\r' || (first && (b == '?' || b == '!')) {
+				if !first {
+					all++
+				}
+				break
+			}
+			first = false
+			if b == ':' {
+				match, seen = local != "", 0
+				continue
+			}
+			if seen >= len(local) || b != local[seen] {
+				match = false
+			}
+			seen++
+		}
+		if match && seen == len(local) {
+			matched++
+		}
+	}
+	return all, matched, nil
+}
+
+// SaveUpload keeps an uploaded file (already converted to CSV) for its preview and commit. It first purges
+// uploads left for more than a day, then refuses (a ValidationError naming the file and the quota) an
+// upload that would take its account's kept uploads over the quota.
 func (d *DB) SaveUpload(ctx context.Context, u Upload) (int64, error) {
 	if _, ok := ExportKinds[u.Kind]; !ok {
 		return 0, &ValidationError{[]Problem{{Column: "kind", Message: "choose what the file holds"}}}
 	}
-	r, err := d.db.ExecContext(ctx, `INSERT INTO uploads (user_id, kind, section, file_name, body, created_at) VALUES (?,?,?,?,?,?)`,
-		u.UserID, u.Kind, u.Section, u.FileName, u.Body, d.stamp())
-	if err != nil {
-		return 0, fmt.Errorf("save upload: %w", err)
-	}
-	return r.LastInsertId()
+	var id int64
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
+		if _, err := tx.ExecContext(ctx, `DELETE FROM uploads WHERE batch_id IS NULL AND created_at < ?`, d.uploadCutoff()); err != nil {
+			return fmt.Errorf("purge uploads: %w", err)
+		}
+		var kept int64
+		var oldest sql.NullString
+		if err := tx.QueryRowContext(ctx, `SELECT coalesce(sum(length(body)), 0), min(created_at) FROM uploads WHERE user_id = ? AND batch_id IS NULL`, u.UserID).
+			Scan(&kept, &oldest); err != nil {
+			return fmt.Errorf("upload quota: %w", err)
+		}
+		if q := d.quota(); kept+int64(len(u.Body)) > q {
+			msg := fmt.Sprintf("not kept: the files you checked in the last day but did not import take %s, and with this one (%s) they would pass the %s one account may keep waiting. Import the files you checked, or wait: a file not imported is dropped a day after it was checked",
+				mebibytes(kept), mebibytes(int64(len(u.Body))), mebibytes(q))
+			if t, err := time.Parse(TimeFormat, oldest.String); err == nil && kept > 0 {
+				msg += fmt.Sprintf(" (the oldest at %s UTC)", t.Add(uploadKeep).UTC().Format("2006-01-02 15:04"))
+			}
+			return &ValidationError{[]Problem{{File: u.FileName, Message: msg}}}
+		}
+		r, err := tx.ExecContext(ctx, `INSERT INTO uploads (user_id, kind, section, file_name, body, created_at) VALUES (?,?,?,?,?,?)`,
+			u.UserID, u.Kind, u.Section, u.FileName, u.Body, d.stamp())
+		if err != nil {
+			return fmt.Errorf("save upload: %w", err)
+		}
+		id, err = r.LastInsertId()
+		return err
+	})
+	return id, err
 }
+
+// mebibytes writes a byte count in MiB with one decimal.
+func mebibytes(n int64) string { return fmt.Sprintf("%.1f MiB", float64(n)/(1<<20)) }
 
 // UploadByID returns a kept upload, or ErrNotFound.
 func (d *DB) UploadByID(ctx context.Context, id int64) (Upload, error) {

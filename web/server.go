@@ -121,8 +121,8 @@ type Server struct {
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
-// security headers, cross-origin protection, session, identification (session or access token), and the
-// site-wide sign-in requirement. staticFS holds the files served under /static/.
+// security headers, body limits, cross-origin protection, session, identification (session or access
+// token), and the site-wide sign-in requirement. staticFS holds the files served under /static/.
 func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http.Handler {
 	o := options{sessionCleanup: 5 * time.Minute, now: time.Now}
 	for _, opt := range opts {
@@ -139,6 +139,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(middleware.RequestID)
 	r.Use(s.logRequests)
 	r.Use(securityHeaders)
+	r.Use(s.limitBodies(r))
 	cop := http.NewCrossOriginProtection()
 	cop.SetDenyHandler(s.handle(func(http.ResponseWriter, *http.Request) error {
 		return forbidden{message: "This form was sent from another site, so it was refused. Open the page on this site and send the form from there."}
@@ -229,6 +230,8 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		var fb forbidden
 		var ce conflictError
 		var wm wrongMethod
+		var tl bodyTooLarge
+		var naf notAForm
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
@@ -240,6 +243,12 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		case errors.As(err, &wm):
 			view.Status, view.Page.Title = http.StatusMethodNotAllowed, "Not this way"
 			view.Message = "This address does not take a " + wm.method + " request: open it as a page, or send the form on the page that leads here."
+		case errors.As(err, &tl):
+			view.Status, view.Page.Title = http.StatusRequestEntityTooLarge, "Too much sent"
+			view.Message = tl.message()
+		case errors.As(err, &naf):
+			view.Status, view.Page.Title = http.StatusUnsupportedMediaType, "No file is taken here"
+			view.Message = "This page takes a form without files, so what was sent was refused and nothing was kept. Files are sent on the Import page."
 		case errors.As(err, &nf):
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "There is no "+nf.what+"."
 		case errors.Is(err, store.ErrNotFound):

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"mime/multipart"
 	"net/http"
 	"strconv"
 	"strings"
@@ -15,8 +16,12 @@ import (
 	"coeval/views"
 )
 
-// maxUploadBytes bounds a browser upload.
-const maxUploadBytes = 64 << 20
+// maxUploadBytes bounds a browser upload's file; up to uploadMemoryBytes of a multipart body is parsed in
+// memory, the rest goes to temporary files that handleUploadPreview removes.
+const (
+	maxUploadBytes    = 64 << 20
+	uploadMemoryBytes = 32 << 20
+)
 
 func (s *Server) registerUploadRoutes(r chi.Router) {
 	r.With(s.requireRole(store.RoleContributor)).Group(func(r chi.Router) {
@@ -64,24 +69,51 @@ func (s *Server) handleUploadForm(w http.ResponseWriter, r *http.Request) error 
 func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
 	u, _ := currentUser(ctx)
-	r.Body = http.MaxBytesReader(w, r.Body, maxUploadBytes)
-	kind, section := r.FormValue("kind"), r.FormValue("section")
-	refuse := func(msg string) error {
+	// The body limit is set by limitBodies. The form is parsed here, once and explicitly, so that the
+	// temporary files a large file part spills to are removed when this handler returns: net/http's own
+	// cleanup only reaches the request it made, not the copies the middleware hands on. Nothing below
+	// reads the body again (FormValue and FormFile would re-parse it after a failed parse).
+	parseErr := r.ParseMultipartForm(uploadMemoryBytes)
+	defer func() {
+		if r.MultipartForm != nil {
+			r.MultipartForm.RemoveAll()
+		}
+	}()
+	var kind, section string
+	if parseErr == nil {
+		kind, section = firstValue(r.MultipartForm.Value["kind"]), firstValue(r.MultipartForm.Value["section"])
+	}
+	refuseWith := func(status int, msg string) error {
 		e, err := s.uploadView(r, kind, section, []string{msg})
 		if err != nil {
 			return err
 		}
-		s.render(w, r, http.StatusUnprocessableEntity, views.EditPage(e))
+		s.render(w, r, status, views.EditPage(e))
 		return nil
 	}
-	file, hdr, err := r.FormFile("file")
+	refuse := func(msg string) error { return refuseWith(http.StatusUnprocessableEntity, msg) }
+	if mbe := (*http.MaxBytesError)(nil); errors.As(parseErr, &mbe) {
+		w.Header().Set("Connection", "close")
+		return refuseWith(http.StatusRequestEntityTooLarge, fmt.Sprintf("The file is larger than %s; nothing was kept. Split it into several files.", mib(maxUploadBytes)))
+	}
+	var hdr *multipart.FileHeader
+	if parseErr == nil && len(r.MultipartForm.File["file"]) > 0 {
+		hdr = r.MultipartForm.File["file"][0]
+	}
+	if hdr == nil {
+		return refuse(fmt.Sprintf("Choose a file to upload (at most %s).", mib(maxUploadBytes)))
+	}
+	file, err := hdr.Open()
 	if err != nil {
-		return refuse("Choose a file to upload (at most 64 MiB).")
+		return err
 	}
 	defer file.Close()
-	body, err := io.ReadAll(file)
+	body, err := io.ReadAll(io.LimitReader(file, maxUploadBytes+1))
 	if err != nil {
-		return refuse("The file could not be read completely (is it larger than 64 MiB?).")
+		return refuse("The file could not be read completely; send it again.")
+	}
+	if len(body) > maxUploadBytes {
+		return refuseWith(http.StatusRequestEntityTooLarge, fmt.Sprintf("The file is larger than %s; nothing was kept. Split it into several files.", mib(maxUploadBytes)))
 	}
 	if perSection, ok := store.ExportKinds[kind]; !ok {
 		return refuse("Choose what the file holds.")
@@ -95,7 +127,9 @@ func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) err
 		return err
 	}
 	id, err := s.store.SaveUpload(ctx, store.Upload{UserID: u.ID, Kind: kind, Section: section, FileName: hdr.Filename, Body: csvBody})
-	if err != nil {
+	if ve, ok := store.AsValidation(err); ok {
+		return refuse(ve.Problems[0].String()) // over the account's quota of files kept waiting
+	} else if err != nil {
 		return err
 	}
 	up, err := s.store.UploadByID(ctx, id)
@@ -171,6 +205,13 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 	}
 	v.Tables = []views.Table{t}
 	return v
+}
+
+func firstValue(vs []string) string {
+	if len(vs) == 0 {
+		return ""
+	}
+	return vs[0]
 }
 
 func joinSemi(ss []string) string {
