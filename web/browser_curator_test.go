@@ -122,7 +122,7 @@ func TestBrowserCuratorJourney(t *testing.T) {
 		chromedp.Click(chromedp.CSS(`form.action.danger button`))); err != nil {
 		t.Fatal(err)
 	}
-	waitPath(t, ctx, "/changes")
+	waitFeed(t, ctx, "/changes")
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("main table"))); err != nil {
 		t.Fatal(err)
 	}

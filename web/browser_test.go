@@ -101,6 +101,24 @@ func waitPath(t testing.TB, ctx context.Context, prefix string) string {
 	}
 }
 
+// waitFeed waits until the browser is on path itself (with or without a query), not on a page below it:
+// after a form posted from /changes/12 redirects to /changes, waitPath("/changes") would already match the
+// page being left.
+func waitFeed(t testing.TB, ctx context.Context, path string) {
+	t.Helper()
+	deadline := time.Now().Add(15 * time.Second)
+	for {
+		got := waitPath(t, ctx, path)
+		if got == path || strings.HasPrefix(got, path+"?") {
+			return
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("page did not reach %s (at %s)", path, got)
+		}
+		time.Sleep(50 * time.Millisecond)
+	}
+}
+
 func shoot(t testing.TB, ctx context.Context, dir, name string) {
 	t.Helper()
 	png, err := chromedp.Run(ctx, chromedp.FullScreenshot(100))
