@@ -137,11 +137,19 @@ func shotPath(t testing.TB, dir, name string) string {
 
 func text(t testing.TB, ctx context.Context, sel string) string {
 	t.Helper()
-	s, err := chromedp.Run(ctx, chromedp.Text(chromedp.CSS(sel)))
-	if err != nil {
-		t.Fatalf("text of %s: %v", sel, err)
+	// Right after a form's redirect the address is the new page's while its document is still being
+	// replaced: a node found in one moment may be gone the next. Ask again for a short while.
+	deadline := time.Now().Add(10 * time.Second)
+	for {
+		s, err := chromedp.Run(ctx, chromedp.Text(chromedp.CSS(sel)))
+		if err == nil {
+			return s
+		}
+		if !strings.Contains(err.Error(), "No node") || time.Now().After(deadline) {
+			t.Fatalf("text of %s: %v", sel, err)
+		}
+		time.Sleep(100 * time.Millisecond)
 	}
-	return s
 }
 
 // A newcomer's first path through the demo, in a real headless Chromium over real HTTP: home → province →
