@@ -251,6 +251,14 @@ type compareEvent struct {
 	groupOnly bool   // chosen only as a member of a group
 }
 
+// pointWords says where an event is read, for its account: "its base (onset)", or "the event" at one height.
+func pointWords(where string) string {
+	if where == "height" {
+		return "the event"
+	}
+	return "its " + where
+}
+
 // eventPoints are the values of point=: which point of an event with an extent (a carbon-isotope
 // excursion from onset to recovery, an anomaly's run of samples) is compared.
 var eventPoints = []string{"base", "peak", "top"}
@@ -744,14 +752,14 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 				ce.Draws = ag.AgesMa
 				ce.Summary = ag.Summary
 				ce.Q = stats.SampledAge(name+" · "+sec.Name, ag.AgesMa, group)
-				ce.How = fmt.Sprintf("%s, its %s at %s m", modelText, where, num(h))
+				ce.How = fmt.Sprintf("%s, %s at %s m", modelText, pointWords(where), num(h))
 				shares = func(c stats.SharedComponent) ([]float64, error) { return a.Model.MC.Shares(c.Carries, h) }
 			} else if a.Model != nil && a.Model.Linear != nil {
 				j, _ := slices.BinarySearch(a.Model.Linear.HeightsM, h)
 				mu, sd := a.Model.Linear.AgeMa[j], a.Model.Linear.SigmaMa[j]
 				ce.Summary = stats.DrawSummary{Median: mu, Lo95: a.Model.Linear.Lo95[j], Hi95: a.Model.Linear.Hi95[j]}
 				ce.Q = stats.NormalAge(name+" · "+sec.Name, mu, sd)
-				ce.How = fmt.Sprintf("%s, its %s at %s m: N(%s, %s²) Ma", modelText, where, num(h), fixed(mu, 4), fixed(sd, 4))
+				ce.How = fmt.Sprintf("%s, %s at %s m: N(%s, %s²) Ma", modelText, pointWords(where), num(h), fixed(mu, 4), fixed(sd, 4))
 				shares = func(c stats.SharedComponent) ([]float64, error) {
 					x, err := a.Model.Linear.Shares(c.Carries, h)
 					return []float64{x}, err
@@ -832,7 +840,7 @@ func withSharedComponents(q stats.Quantity, comps []stats.SharedComponent, share
 			q.Shares[key] = sh
 		}
 		med := stats.Median(sh)
-		parts = append(parts, fmt.Sprintf("%s, share %s", componentLabel(c), fixed(med, 2)))
+		parts = append(parts, fmt.Sprintf("%s (share %s)", componentLabel(c), fixed(med, 2)))
 	}
 	return q, "its ties enter with their random part and carry " + strings.Join(parts, "; ") +
 		" (the part of the age the ties carrying it make up; each drawn once per joint draw with every quantity that carries it)", nil

@@ -409,9 +409,9 @@ func componentsNote(comps []stats.SharedComponent, nTies int) string {
 				n++
 			}
 		}
-		parts = append(parts, fmt.Sprintf("%s (%d of %d ties)", componentLabel(c), n, nTies))
+		parts = append(parts, fmt.Sprintf("%s, on %d of %d ties", componentLabel(c), n, nTies))
 	}
-	return "Drawn once per draw and shared by the ties that carry them: " + strings.Join(parts, ", ") + "."
+	return "Drawn once per draw and shared by the ties that carry them: " + strings.Join(parts, "; ") + "."
 }
 
 // componentLabel names a component for a reader, with its 1σ.
@@ -420,17 +420,20 @@ func componentLabel(c stats.SharedComponent) string {
 	case c.Cal != nil:
 		return "the ⁴⁰Ar/³⁹Ar calibration " + c.Cal.Name + " (monitor age and λ)"
 	case c.Key == stats.KeyLambda238:
-		return fmt.Sprintf("λ238 (%.3f %% 2σ)", 200*c.RelSigma)
+		return fmt.Sprintf("λ238, %.3f %% (2σ)", 200*c.RelSigma)
 	case strings.HasPrefix(c.Key, "tracer "):
-		return fmt.Sprintf("the %s tracer (%.3f %% 2σ)", strings.TrimPrefix(c.Key, "tracer "), 200*c.RelSigma)
+		return fmt.Sprintf("the %s tracer, %.3f %% (2σ)", strings.TrimPrefix(c.Key, "tracer "), 200*c.RelSigma)
 	}
 	return c.Key
 }
 
 // componentName is a component's short name: λ238, tracer ET535, the ⁴⁰Ar/³⁹Ar calibration.
 func componentName(c stats.SharedComponent) string {
-	if c.Cal != nil {
+	switch {
+	case c.Cal != nil:
 		return "the ⁴⁰Ar/³⁹Ar calibration"
+	case strings.HasPrefix(c.Key, "tracer "):
+		return "the " + strings.TrimPrefix(c.Key, "tracer ") + " tracer"
 	}
 	return c.Key
 }

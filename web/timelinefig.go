@@ -179,7 +179,7 @@ func bandText(res densityResult, ch densityChoice) string {
 		for _, c := range res.Shared {
 			names = append(names, componentName(c))
 		}
-		own = "each moved by a normal draw of its own random 1σ, with " + strings.Join(names, ", ") + " drawn once per replicate for all that share them"
+		own = "each moved by a normal draw of its own random 1σ, with " + strings.Join(names, ", ") + " drawn once per replicate for all the values that share them"
 	}
 	return fmt.Sprintf("95 %% bootstrap band and pulse intervals from %d replicates (reps=%d, seed=%d): %s resampled with replacement and %s; %s",
 		ch.Reps, ch.Reps, ch.Seed, what, own, bw)
