@@ -814,6 +814,42 @@ func eventInputs(d *compareData, ch compareChoice, sc sectionChoice) ([]compareE
 	return out, notes, nil
 }
 
+// eventsAtLeast counts, without computing anything, the events a comparison will surely have: the
+// chosen events of each section that lie within the heights of its tie points with an age (at least two),
+// and the chosen direct ages. Detected anomalies and correlated groups come on top; members used only by
+// a group are not counted. Unless an age model fails to fit, it never counts more than the comparison
+// will have.
+func eventsAtLeast(d *compareData, ch compareChoice) int {
+	n := 0
+	chosen := func(id int64) bool { return len(ch.EventIDs) == 0 || slices.Contains(ch.EventIDs, id) }
+	for _, sec := range d.Sections {
+		lo, hi, k := math.Inf(1), math.Inf(-1), 0
+		for _, t := range d.Ties[sec.ID] {
+			if (t.Distribution == "normal" && t.AgeMa != nil && t.SigmaMa != nil) || (t.AgeMinMa != nil && t.AgeMaxMa != nil) {
+				lo, hi, k = math.Min(lo, t.HeightM), math.Max(hi, t.HeightM), k+1
+			}
+		}
+		if k < 2 {
+			continue
+		}
+		for _, e := range d.Events[sec.ID] {
+			if e.BaseHeightM == nil || !chosen(e.ID) || *e.BaseHeightM < lo || *e.BaseHeightM > hi {
+				continue
+			}
+			if e.TopHeightM != nil && (*e.TopHeightM < lo || *e.TopHeightM > hi) {
+				continue
+			}
+			n++
+		}
+	}
+	for _, e := range d.Direct {
+		if chosen(e.ID) {
+			n++
+		}
+	}
+	return n
+}
+
 // withSharedComponents gives an event's age the components of its age model's ties, each with the share of
 // the age its ties make up there (1 between two ties that carry it, less next to a tie that does not),
 // and says so.
@@ -1035,6 +1071,11 @@ const sensVolumeAbsent = "volume fraction"
 func computeComparison(d *compareData, ch compareChoice, stamp int64) (*compareResult, error) {
 	start := time.Now()
 	res := &compareResult{Province: d.Province, Choice: ch, Stamp: stamp}
+	// The limit on events is checked before anything is computed, from what the data already say.
+	if n := eventsAtLeast(d, ch); n > maxCompareEvents {
+		return nil, badRequest{message: "This address has parameters that cannot be used. Fix them and reload:",
+			problems: []string{fmt.Sprintf("events: at least %d events chosen, at most %d (choose with events= or sections=)", n, maxCompareEvents)}}
+	}
 	pulses, dens, sums, edgeNote, err := pulseInputs(d, ch.Dens)
 	if err != nil {
 		return nil, err

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"net/http"
@@ -671,4 +672,35 @@ func comparePathData(t *testing.T, c *comparer, address string) (*compareData, *
 		t.Fatal(err)
 	}
 	return d, res
+}
+
+// Too many events are refused before anything is computed: the count comes from the data as read (here 61
+// direct ages), so the answer names the limit without a density, a bootstrap or an age model behind it.
+func TestCompareEventLimitCheckedFirst(t *testing.T) {
+	db := mustDemoDB(t)
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
+	ctx := context.Background()
+	p := newParams(httptest.NewRequest(http.MethodGet, "/compare?sens=0", nil))
+	ch, err := c.compareChoiceFrom(ctx, p)
+	if err != nil || p.err() != nil {
+		t.Fatal(err, p.err())
+	}
+	d, err := c.loadCompareData(ctx, &ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range maxCompareEvents + 1 - eventsAtLeast(d, ch) {
+		age, sigma := 155.0+0.01*float64(i), 0.05
+		d.Direct = append(d.Direct, store.Event{ID: int64(90000 + i), Name: fmt.Sprint("direct ", i), Kind: "other", AgeMa: &age, SigmaMa: &sigma})
+	}
+	computed := false
+	d.stop = func() error { computed = true; return nil }
+	_, err = computeComparison(d, ch, 0)
+	var br badRequest
+	if !errors.As(err, &br) || !strings.Contains(strings.Join(br.problems, " "), fmt.Sprintf("at least %d events chosen, at most %d", maxCompareEvents+1, maxCompareEvents)) {
+		t.Fatalf("61 events: %v, want a 400 naming the limit", err)
+	}
+	if computed {
+		t.Error("the comparison started computing before it refused too many events")
+	}
 }
