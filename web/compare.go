@@ -2,6 +2,8 @@ package web
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/json"
 	"fmt"
 	"hash/fnv"
@@ -198,18 +200,69 @@ func (ch compareChoice) cacheKey(stamp int64) string {
 	return string(b)
 }
 
+// cacheKeyData is the choice set with a digest of the data read instead of the compilation's stamp.
+func (ch compareChoice) cacheKeyData(digest string) string {
+	return "data " + digest + " " + ch.cacheKey(0)
+}
+
+// digest is a version of exactly the data a comparison reads: a hash of the records loaded for it (the
+// province's units and dates, the chosen sections' samples, ties, hiatuses and events, the linked dates,
+// the calibrations, the direct ages). An edit elsewhere in the compilation leaves it unchanged, so the
+// cached comparison is still used; an edit to anything it reads changes it.
+func (d *compareData) digest() string {
+	h := sha256.New()
+	enc := json.NewEncoder(h)
+	for _, v := range []any{d.Province, d.Units, d.Dates, d.Sections, d.Samples, d.Ties, d.TiesOut, d.EventsIn,
+		d.EventsOut, d.Events, d.Direct, d.Hiatuses, d.TieIns, d.LinkDates, d.Cals} {
+		if err := enc.Encode(v); err != nil {
+			return "" // never cached by content then
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil))
+}
+
 // compareCache keeps computed comparisons keyed by the full choice set and the compilation's stamp
 // (cacheKey). A change to the records makes a new change batch and so a new stamp: old entries are
 // never read again and fall out by age. It holds at most max entries, dropping the oldest.
 type compareCache struct {
-	mu    sync.Mutex
-	max   int
-	order []string
-	m     map[string]*compareResult
+	mu     sync.Mutex
+	max    int
+	order  []string
+	m      map[string]*compareResult
+	flying map[string]*compareFlight
+}
+
+// compareFlight is a comparison being computed: identical requests meanwhile wait for it instead of
+// computing it again.
+type compareFlight struct {
+	done chan struct{}
+	res  *compareResult
+	err  error
 }
 
 func newCompareCache(max int) *compareCache {
-	return &compareCache{max: max, m: map[string]*compareResult{}}
+	return &compareCache{max: max, m: map[string]*compareResult{}, flying: map[string]*compareFlight{}}
+}
+
+// join returns the flight computing key and whether the caller leads it (and must call land).
+func (c *compareCache) join(key string) (*compareFlight, bool) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if f, ok := c.flying[key]; ok {
+		return f, false
+	}
+	f := &compareFlight{done: make(chan struct{})}
+	c.flying[key] = f
+	return f, true
+}
+
+// land ends a flight with its result and lets the waiting requests go.
+func (c *compareCache) land(key string, f *compareFlight, res *compareResult, err error) {
+	c.mu.Lock()
+	delete(c.flying, key)
+	c.mu.Unlock()
+	f.res, f.err = res, err
+	close(f.done)
 }
 
 func (c *compareCache) get(k string) (*compareResult, bool) {

@@ -12,6 +12,7 @@ import (
 	"net/url"
 	"slices"
 	"strings"
+	"sync"
 	"testing"
 
 	"github.com/xuri/excelize/v2"
@@ -702,5 +703,74 @@ func TestCompareEventLimitCheckedFirst(t *testing.T) {
 	}
 	if computed {
 		t.Error("the comparison started computing before it refused too many events")
+	}
+}
+
+// A comparison is cached by what it read: an edit to a section it does not read leaves it in the cache
+// (served without computing again), an edit to one it reads computes anew; and identical requests in
+// flight together are computed once.
+func TestCompareCacheByDataReadAndComputedOnce(t *testing.T) {
+	db := mustDemoDB(t)
+	ctx := context.Background()
+	secs, err := db.Sections(ctx)
+	if err != nil || len(secs) < 2 {
+		t.Fatal(err, len(secs))
+	}
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(8)}
+	get := func(q string) bool {
+		t.Helper()
+		_, cached, err := c.comparison(httptest.NewRequest(http.MethodGet, q, nil))
+		if err != nil {
+			t.Fatal(err)
+		}
+		return cached
+	}
+	only := fmt.Sprintf("/compare?sens=0&n=1000&reps=100&draws=200&sections=%d", secs[0].ID)
+	if get(only) {
+		t.Fatal("the first request was served from the cache")
+	}
+	// An edit to another section: the data this comparison reads are unchanged.
+	other := secs[1]
+	form := store.FormOfSection(other)
+	form["notes"] = "edited elsewhere"
+	if _, err := db.UpdateSection(ctx, other.ID, other.Version, form); err != nil {
+		t.Fatal(err)
+	}
+	if !get(only) {
+		t.Error("an edit to a section the comparison does not read threw its cached result away")
+	}
+	// An edit to the section it reads: computed anew.
+	mine := secs[0]
+	form = store.FormOfSection(mine)
+	form["notes"] = "edited here"
+	if _, err := db.UpdateSection(ctx, mine.ID, mine.Version, form); err != nil {
+		t.Fatal(err)
+	}
+	if get(only) {
+		t.Error("an edit to the section the comparison reads was served from the cache")
+	}
+	// Identical requests together: one computes, the others wait for it.
+	c = &comparer{Server: &Server{store: db}, cache: newCompareCache(8)}
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	computed := 0
+	for range 4 {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			_, cached, err := c.comparison(httptest.NewRequest(http.MethodGet, only+"&seed=7", nil))
+			if err != nil {
+				t.Error(err)
+			}
+			mu.Lock()
+			if !cached {
+				computed++
+			}
+			mu.Unlock()
+		}()
+	}
+	wg.Wait()
+	if computed != 1 {
+		t.Errorf("4 identical requests together were computed %d times, want once", computed)
 	}
 }

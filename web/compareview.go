@@ -2,6 +2,8 @@ package web
 
 import (
 	"cmp"
+	"context"
+	"errors"
 	"fmt"
 	"math"
 	"net/http"
@@ -75,15 +77,52 @@ func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
 		if after != stamp && attempt < maxLoadAttempts {
 			continue
 		}
-		res, err := computeComparison(d, ch, stamp)
+		if after != stamp {
+			res, err := computeComparison(d, ch, stamp)
+			if err != nil {
+				return nil, false, err
+			}
+			res.At = time.Now().UTC().Format(time.RFC3339)
+			res.Cautions = append(res.Cautions, fmt.Sprintf("The compilation changed %d times while these data were read (data stamp %d → %d), so they may mix records from before and after a change: reload the page for numbers on one state.", maxLoadAttempts, stamp, after))
+			return res, false, nil
+		}
+		// Keyed also by what it read: a change elsewhere in the compilation keeps the result.
+		dataKey := ""
+		if dg := d.digest(); dg != "" {
+			dataKey = ch.cacheKeyData(dg)
+			if res, ok := c.cache.get(dataKey); ok {
+				c.cache.put(key, res)
+				return res, true, nil
+			}
+		}
+		// Identical requests meanwhile wait for this one instead of computing it again.
+		f, lead := c.cache.join(key)
+		if !lead {
+			select {
+			case <-f.done:
+			case <-ctx.Done():
+				return nil, false, ctx.Err()
+			}
+			if f.err != nil && ctx.Err() == nil && (errors.Is(f.err, context.Canceled) || errors.Is(f.err, context.DeadlineExceeded)) {
+				continue // its request went away; this one computes
+			}
+			return f.res, f.err == nil, f.err
+		}
+		var res *compareResult
+		func() {
+			defer func() { c.cache.land(key, f, res, err) }() // also when the computation panics
+			if res, err = computeComparison(d, ch, stamp); err == nil {
+				res.At = time.Now().UTC().Format(time.RFC3339)
+			}
+		}()
+		if err == nil {
+			c.cache.put(key, res)
+			if dataKey != "" {
+				c.cache.put(dataKey, res)
+			}
+		}
 		if err != nil {
 			return nil, false, err
-		}
-		res.At = time.Now().UTC().Format(time.RFC3339)
-		if after == stamp {
-			c.cache.put(key, res)
-		} else {
-			res.Cautions = append(res.Cautions, fmt.Sprintf("The compilation changed %d times while these data were read (data stamp %d → %d), so they may mix records from before and after a change: reload the page for numbers on one state.", maxLoadAttempts, stamp, after))
 		}
 		return res, false, nil
 	}
