@@ -878,7 +878,7 @@ func eventsAtLeast(d *compareData, ch compareChoice) int {
 	for _, sec := range d.Sections {
 		lo, hi, k := math.Inf(1), math.Inf(-1), 0
 		for _, t := range d.Ties[sec.ID] {
-			if (t.Distribution == "normal" && t.AgeMa != nil && t.SigmaMa != nil) || (t.AgeMinMa != nil && t.AgeMaxMa != nil) {
+			if tieHasAge(t) {
 				lo, hi, k = math.Min(lo, t.HeightM), math.Max(hi, t.HeightM), k+1
 			}
 		}

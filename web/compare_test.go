@@ -658,16 +658,7 @@ func comparePath(t *testing.T, c *comparer, address string) *compareResult {
 // comparePathData is comparePath that also returns the data the comparison was computed from.
 func comparePathData(t *testing.T, c *comparer, address string) (*compareData, *compareResult) {
 	t.Helper()
-	ctx := context.Background()
-	p := newParams(httptest.NewRequest(http.MethodGet, address, nil))
-	ch, err := c.compareChoiceFrom(ctx, p)
-	if err != nil || p.err() != nil {
-		t.Fatal(err, p.err())
-	}
-	d, err := c.loadCompareData(ctx, &ch)
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, ch := compareLoad(t, c, address)
 	res, err := computeComparison(d, ch, 0)
 	if err != nil {
 		t.Fatal(err)
@@ -680,23 +671,14 @@ func comparePathData(t *testing.T, c *comparer, address string) (*compareData, *
 func TestCompareEventLimitCheckedFirst(t *testing.T) {
 	db := mustDemoDB(t)
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
-	ctx := context.Background()
-	p := newParams(httptest.NewRequest(http.MethodGet, "/compare?sens=0", nil))
-	ch, err := c.compareChoiceFrom(ctx, p)
-	if err != nil || p.err() != nil {
-		t.Fatal(err, p.err())
-	}
-	d, err := c.loadCompareData(ctx, &ch)
-	if err != nil {
-		t.Fatal(err)
-	}
+	d, ch := compareLoad(t, c, "/compare?sens=0")
 	for i := range maxCompareEvents + 1 - eventsAtLeast(d, ch) {
 		age, sigma := 155.0+0.01*float64(i), 0.05
 		d.Direct = append(d.Direct, store.Event{ID: int64(90000 + i), Name: fmt.Sprint("direct ", i), Kind: "other", AgeMa: &age, SigmaMa: &sigma})
 	}
 	computed := false
 	d.stop = func() error { computed = true; return nil }
-	_, err = computeComparison(d, ch, 0)
+	_, err := computeComparison(d, ch, 0)
 	var br badRequest
 	if !errors.As(err, &br) || !strings.Contains(strings.Join(br.problems, " "), fmt.Sprintf("at least %d events chosen, at most %d", maxCompareEvents+1, maxCompareEvents)) {
 		t.Fatalf("61 events: %v, want a 400 naming the limit", err)
@@ -773,4 +755,20 @@ func TestCompareCacheByDataReadAndComputedOnce(t *testing.T) {
 	if computed != 1 {
 		t.Errorf("4 identical requests together were computed %d times, want once", computed)
 	}
+}
+
+// compareLoad reads a comparison address's choices and data, as the page does, without computing.
+func compareLoad(t *testing.T, c *comparer, address string) (*compareData, compareChoice) {
+	t.Helper()
+	ctx := context.Background()
+	p := newParams(httptest.NewRequest(http.MethodGet, address, nil))
+	ch, err := c.compareChoiceFrom(ctx, p)
+	if err != nil || p.err() != nil {
+		t.Fatal(err, p.err())
+	}
+	d, err := c.loadCompareData(ctx, &ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d, ch
 }

@@ -786,6 +786,12 @@ func x2lin(x []float64) []float64 {
 	return out
 }
 
+// tieHasAge reports whether a tie point has an age an age model can use: normal with age and σ, or a
+// range. The model and the comparison's count of events before computing share this rule.
+func tieHasAge(t store.TiePoint) bool {
+	return (t.Distribution == "normal" && t.AgeMa != nil && t.SigmaMa != nil) || (t.AgeMinMa != nil && t.AgeMaxMa != nil)
+}
+
 // fitModel fits the age–height model over the tie range and pushes events and anomalies through it.
 func (a *sectionAnalysis) fitModel() {
 	if len(a.Ties) < 2 {
