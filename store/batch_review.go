@@ -245,23 +245,11 @@ func acceptIfPending[T any](ctx context.Context, d *DB, tx *sql.Tx, batch int64,
 }
 
 // PendingInBatch counts the dates, events, tie points and hiatuses batch added that wait for review now.
-// Dates are counted from whichever side is smaller: the change's revisions (index revisions_batch) or
-// the pending dates of the whole compilation (index dates_pending), so that neither a large change of
-// accepted dates nor a large queue of pending dates from other changes makes the count scan them all.
 func (d *DB) PendingInBatch(ctx context.Context, batchID int64) (int, error) {
-	var revs, pending int
-	if err := d.db.QueryRowContext(ctx, `SELECT (SELECT count(*) FROM revisions WHERE batch_id = ?1 AND record_type = 'date'),
-		(SELECT count(*) FROM dates WHERE review_state = 'pending')`, batchID).Scan(&revs, &pending); err != nil {
-		return 0, err
-	}
-	dates := `(SELECT count(*) FROM revisions r JOIN dates x ON x.id = r.record_id
-			WHERE r.batch_id = ?1 AND r.record_type = 'date' AND r.before_json IS NULL AND x.review_state = 'pending')`
-	if pending < revs {
-		dates = `(SELECT count(*) FROM dates x WHERE x.review_state = 'pending' AND EXISTS (SELECT 1 FROM revisions r
-			WHERE r.record_type = 'date' AND r.record_id = x.id AND r.batch_id = ?1 AND r.before_json IS NULL))`
-	}
 	var n int
-	err := d.db.QueryRowContext(ctx, `SELECT `+dates+` +
+	err := d.db.QueryRowContext(ctx, `SELECT
+		(SELECT count(*) FROM revisions r JOIN dates x ON x.id = r.record_id
+			WHERE r.batch_id = ?1 AND r.record_type = 'date' AND r.before_json IS NULL AND x.review_state = 'pending') +
 		(SELECT count(*) FROM revisions r JOIN events x ON x.id = r.record_id
 			WHERE r.batch_id = ?1 AND r.record_type = 'event' AND r.before_json IS NULL AND x.review_state = 'pending') +
 		(SELECT count(*) FROM revisions r JOIN tie_points x ON x.id = r.record_id
