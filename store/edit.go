@@ -392,3 +392,21 @@ func currentVersion(ctx context.Context, tx *sql.Tx, id int64) int {
 func (d *DB) BatchRevisions(ctx context.Context, batchID int64) ([]Revision, error) {
 	return queryAll(ctx, d.db, revisionSelect+` WHERE r.batch_id = ? ORDER BY r.id`, []any{batchID}, scanRevision)
 }
+
+// BatchRevisionsAfter returns up to limit revisions of one change batch made after revision after (0: from
+// the first), in the order they were made: one page of a change, keyset on the revision id (index
+// revisions_batch), so that every page costs the same.
+func (d *DB) BatchRevisionsAfter(ctx context.Context, batchID, after int64, limit int) ([]Revision, error) {
+	return queryAll(ctx, d.db, revisionSelect+` WHERE r.batch_id = ? AND r.id > ? ORDER BY r.id LIMIT ?`,
+		[]any{batchID, after, max(limit, 1)}, scanRevision)
+}
+
+// BatchByID returns one change batch with who made it and how many revisions it holds, or ErrNotFound.
+func (d *DB) BatchByID(ctx context.Context, id int64) (BatchRow, error) {
+	var b BatchRow
+	err := d.db.QueryRowContext(ctx, `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, ''),
+		(SELECT count(*) FROM revisions r WHERE r.batch_id = b.id)
+		FROM change_batches b LEFT JOIN users u ON u.id = b.user_id WHERE b.id = ?`, id).
+		Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User, &b.Revisions)
+	return b, notFound(err, "change", id)
+}

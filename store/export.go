@@ -8,6 +8,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"slices"
 	"strconv"
 )
 
@@ -68,17 +69,26 @@ func WriteSectionsCSV(w io.Writer, ss []Section) error {
 func WriteDatesCSV(w io.Writer, ds []Date) error {
 	return writeCSV(w, dateColumns, func(emit func([]string) error) error {
 		for _, d := range ds {
-			k := float64(d.SigmaLevel)
-			if err := emit([]string{d.Province, d.Unit, d.Section, formatOpt(d.HeightM), d.SampleCode, d.Method,
-				d.Material, d.Interpretation, formatNumber(d.AgeMa), formatNumber(d.SigmaMa * k),
-				formatOptScaled(d.SigmaYMa, k), formatOptScaled(d.SigmaZMa, k), strconv.Itoa(d.SigmaLevel), d.Tracer,
-				d.Monitor, formatOpt(d.MonitorAgeMa), formatOpt(d.LambdaPerA), d.Laboratory, d.Citation, d.DOI,
-				formatOpt(d.Latitude), formatOpt(d.Longitude), d.ReviewState, d.Notes}); err != nil {
+			if err := emit(DateCSVRecord(d)); err != nil {
 				return err
 			}
 		}
 		return nil
 	})
+}
+
+// DateCSVColumns returns the columns of the dates import format, in order (a copy).
+func DateCSVColumns() []string { return slices.Clone(dateColumns) }
+
+// DateCSVRecord gives the cells of one date in the dates import format (DateCSVColumns), uncertainties at
+// its published σ level, before CSVSafe (write them with NewCSVWriter).
+func DateCSVRecord(d Date) []string {
+	k := float64(d.SigmaLevel)
+	return []string{d.Province, d.Unit, d.Section, formatOpt(d.HeightM), d.SampleCode, d.Method,
+		d.Material, d.Interpretation, formatNumber(d.AgeMa), formatNumber(d.SigmaMa * k),
+		formatOptScaled(d.SigmaYMa, k), formatOptScaled(d.SigmaZMa, k), strconv.Itoa(d.SigmaLevel), d.Tracer,
+		d.Monitor, formatOpt(d.MonitorAgeMa), formatOpt(d.LambdaPerA), d.Laboratory, d.Citation, d.DOI,
+		formatOpt(d.Latitude), formatOpt(d.Longitude), d.ReviewState, d.Notes}
 }
 
 // WriteTiesCSV writes tie points in the ties import format, with their review state.

@@ -3,8 +3,11 @@ package store
 import (
 	"context"
 	"database/sql"
+	"encoding/base64"
+	"encoding/json"
 	"errors"
 	"fmt"
+	"slices"
 	"strings"
 )
 
@@ -136,13 +139,21 @@ type DateFilter struct {
 	ReviewState string
 	Sort        string // one of DateSorts; "-" prefix for descending
 	Limit       int    // 0 = no limit
-	Offset      int
+	Offset      int    // rows skipped (ignored with After or Before)
+	// After and Before are keyset cursors (DatePage.Next, DatePage.Prev): the page of Limit dates just
+	// after, or just before, the date the cursor was taken from, in the order of Sort. Each page costs the
+	// same however deep it is, unlike Offset.
+	After, Before string
 }
 
-// DateSorts lists the sort keys of DateFilter.Sort.
-var dateSorts = map[string]string{
-	"age": "d.age_ma", "sample": "d.sample_code", "method": "d.method", "unit": "p.name, u.name",
-	"material": "d.material", "sigma": "d.sigma_ma / d.age_ma", "lab": "d.laboratory", "added": "d.id",
+// dateSorts gives the SQL sort key of each key of DateFilter.Sort; the keyset pages on (key…, d.id). The
+// keys are never NULL, so that row values compare: a date of a section has no unit or province (the empty name sorts
+// where NULL did, unit and province names are never empty), and an age of 0 gives σ/age the smallest
+// number (where NULL sorted).
+var dateSorts = map[string][]string{
+	"age": {"d.age_ma"}, "sample": {"d.sample_code"}, "method": {"d.method"},
+	"unit":     {"coalesce(p.name, '')", "coalesce(u.name, '')"},
+	"material": {"d.material"}, "sigma": {"coalesce(d.sigma_ma / d.age_ma, -1e308)"}, "lab": {"d.laboratory"}, "added": {"d.id"},
 }
 
 // DateSortKeys returns the accepted sort keys.
@@ -150,8 +161,11 @@ func DateSortKeys() []string {
 	return []string{"age", "sigma", "sample", "unit", "method", "material", "lab", "added"}
 }
 
-// Dates returns the dates selected by f (a page of them when f.Limit > 0) and how many match in all.
-func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
+const dateFrom = ` FROM dates d LEFT JOIN units u ON u.id = d.unit_id
+		LEFT JOIN provinces p ON p.id = u.province_id LEFT JOIN sections s ON s.id = d.section_id`
+
+// dateWhere gives the WHERE clause (with its leading space, or empty) and its arguments of f's filters.
+func dateWhere(f DateFilter) (string, []any) {
 	var where []string
 	var args []any
 	add := func(cond string, a ...any) { where = append(where, cond); args = append(args, a...) }
@@ -186,30 +200,242 @@ func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
 			OR lower(d.doi) LIKE ? ESCAPE '\' OR lower(d.notes) LIKE ? ESCAPE '\' OR lower(coalesce(s.name, '')) LIKE ? ESCAPE '\')`,
 			like, like, like, like, like, like, like)
 	}
-	cond := ""
-	if len(where) > 0 {
-		cond = " WHERE " + strings.Join(where, " AND ")
+	if len(where) == 0 {
+		return "", nil
 	}
-	var total int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM dates d LEFT JOIN units u ON u.id = d.unit_id
-		LEFT JOIN provinces p ON p.id = u.province_id LEFT JOIN sections s ON s.id = d.section_id`+cond, args...).Scan(&total); err != nil {
-		return nil, 0, fmt.Errorf("count dates: %w", err)
-	}
+	return " WHERE " + strings.Join(where, " AND "), args
+}
+
+// dateOrder gives f's sort key expressions and whether it is descending (default: age, oldest first).
+func dateOrder(f DateFilter) ([]string, bool) {
 	key, desc := strings.CutPrefix(f.Sort, "-")
-	col, ok := dateSorts[key]
+	cols, ok := dateSorts[key]
 	if !ok {
-		col, desc = "d.age_ma", true
+		return dateSorts["age"], true
 	}
-	dir := " ASC"
-	if desc {
+	return cols, desc
+}
+
+// orderBy is the ORDER BY clause of sort keys cols (descending if desc), ties by id ascending; reverse
+// turns the whole order around (to read the page before a cursor).
+func orderBy(cols []string, desc, reverse bool) string {
+	dir, idDir := " ASC", " ASC"
+	if desc != reverse {
 		dir = " DESC"
 	}
-	q := dateSelect + cond + " ORDER BY " + col + dir + ", d.id"
+	if reverse {
+		idDir = " DESC"
+	}
+	var parts []string
+	for _, c := range cols {
+		parts = append(parts, c+dir)
+	}
+	return " ORDER BY " + strings.Join(append(parts, "d.id"+idDir), ", ")
+}
+
+// ErrBadCursor is returned for a paging cursor the app did not make (DateFilter.After or Before).
+var ErrBadCursor = errors.New("not a page position this list gave")
+
+// dateCursor is a keyset position: the sort key values, the id and the place (0 = first) of one date.
+type dateCursor struct {
+	Key []any `json:"k"`
+	ID  int64 `json:"i"`
+	Pos int   `json:"n"`
+}
+
+func encodeCursor(c dateCursor) string {
+	b, _ := json.Marshal(c)
+	return base64.RawURLEncoding.EncodeToString(b)
+}
+
+func decodeCursor(s string, keys int) (dateCursor, error) {
+	var c dateCursor
+	b, err := base64.RawURLEncoding.DecodeString(s)
+	if err != nil || json.Unmarshal(b, &c) != nil || len(c.Key) != keys {
+		return c, ErrBadCursor
+	}
+	for _, k := range c.Key {
+		switch k.(type) {
+		case string, float64:
+		default:
+			return c, ErrBadCursor
+		}
+	}
+	return c, nil
+}
+
+// keysetCond is the condition "after the cursor" (or before it, when reverse) in the order of cols.
+func keysetCond(cols []string, desc, reverse bool, c dateCursor) (string, []any) {
+	op := ">"
+	if desc != reverse {
+		op = "<"
+	}
+	idOp := ">"
+	if reverse {
+		idOp = "<"
+	}
+	tuple := "(" + strings.Join(cols, ", ") + ")"
+	ph := "(" + strings.TrimSuffix(strings.Repeat("?, ", len(cols)), ", ") + ")"
+	args := append(append(append([]any{}, c.Key...), c.Key...), c.ID)
+	return "(" + tuple + " " + op + " " + ph + " OR (" + tuple + " = " + ph + " AND d.id " + idOp + " ?))", args
+}
+
+// DatePage is one page of dates with the cursors of the pages before and after it ("" at either end).
+type DatePage struct {
+	Dates      []Date
+	Total      int
+	First      int // the place of the first date shown among all that match (0 = first)
+	Prev, Next string
+}
+
+// DatesPage returns one page of f.Limit dates: the first page, the one after f.After or the one before
+// f.Before, with how many match in all and the cursors of its neighbours.
+func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
+	var pg DatePage
+	cond, args := dateWhere(f)
+	if err := d.db.QueryRowContext(ctx, `SELECT count(*)`+dateFrom+cond, args...).Scan(&pg.Total); err != nil {
+		return pg, fmt.Errorf("count dates: %w", err)
+	}
+	cols, desc := dateOrder(f)
+	reverse := f.Before != ""
+	cur := f.After
+	if reverse {
+		cur = f.Before
+	}
+	if cur != "" {
+		c, err := decodeCursor(cur, len(cols))
+		if err != nil {
+			return pg, err
+		}
+		kc, kargs := keysetCond(cols, desc, reverse, c)
+		if cond == "" {
+			cond = " WHERE " + kc
+		} else {
+			cond += " AND " + kc
+		}
+		args = append(args, kargs...)
+	}
+	limit := max(f.Limit, 1)
+	q := `SELECT ` + strings.Join(cols, ", ") + `, ` + strings.TrimPrefix(dateSelect, "SELECT ") + cond +
+		orderBy(cols, desc, reverse) + fmt.Sprintf(" LIMIT %d", limit+1)
+	offset := 0
+	if cur == "" && f.Offset > 0 {
+		offset = f.Offset
+		q += fmt.Sprintf(" OFFSET %d", offset)
+	}
+	rows, err := d.db.QueryContext(ctx, q, args...)
+	if err != nil {
+		return pg, fmt.Errorf("dates page: %w", err)
+	}
+	defer rows.Close()
+	var keys [][]any
+	for rows.Next() {
+		k := make([]any, len(cols))
+		pre := make([]any, len(cols))
+		for i := range k {
+			pre[i] = &k[i]
+		}
+		dt, err := scanDate(prefixScan{rows, pre})
+		if err != nil {
+			return pg, err
+		}
+		for i, v := range k {
+			switch x := v.(type) {
+			case []byte:
+				k[i] = string(x)
+			case int64:
+				k[i] = float64(x)
+			}
+		}
+		keys = append(keys, k)
+		pg.Dates = append(pg.Dates, dt)
+	}
+	if err := rows.Err(); err != nil {
+		return pg, err
+	}
+	more := len(pg.Dates) > limit
+	if more {
+		pg.Dates, keys = pg.Dates[:limit], keys[:limit]
+	}
+	if reverse {
+		slices.Reverse(pg.Dates)
+		slices.Reverse(keys)
+	}
+	// The place of the first date shown (0 = first of all).
+	switch {
+	case f.After != "":
+		c, _ := decodeCursor(f.After, len(cols))
+		pg.First = c.Pos + 1
+	case reverse:
+		c, _ := decodeCursor(f.Before, len(cols))
+		pg.First = c.Pos - len(pg.Dates)
+	default:
+		pg.First = offset
+	}
+	pg.First = max(pg.First, 0)
+	n := len(pg.Dates)
+	if n == 0 {
+		return pg, nil
+	}
+	at := func(i int) string {
+		return encodeCursor(dateCursor{Key: keys[i], ID: pg.Dates[i].ID, Pos: pg.First + i})
+	}
+	if (!reverse && more) || reverse {
+		pg.Next = at(n - 1)
+	}
+	if (reverse && more) || (!reverse && (f.After != "" || offset > 0)) {
+		pg.Prev = at(0)
+	}
+	return pg, nil
+}
+
+// prefixScan scans the first columns of a row into pre and the rest into what Scan is given.
+type prefixScan struct {
+	rows *sql.Rows
+	pre  []any
+}
+
+func (p prefixScan) Scan(dest ...any) error {
+	return p.rows.Scan(append(append([]any{}, p.pre...), dest...)...)
+}
+
+// Dates returns the dates selected by f (a page of them when f.Limit > 0, from f.Offset) and how many match
+// in all.
+func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
+	cond, args := dateWhere(f)
+	var total int
+	if err := d.db.QueryRowContext(ctx, `SELECT count(*)`+dateFrom+cond, args...).Scan(&total); err != nil {
+		return nil, 0, fmt.Errorf("count dates: %w", err)
+	}
+	cols, desc := dateOrder(f)
+	q := dateSelect + cond + orderBy(cols, desc, false)
 	if f.Limit > 0 {
 		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
 	}
 	out, err := queryAll(ctx, d.db, q, args, scanDate)
 	return out, total, err
+}
+
+// EachDate calls fn with every date selected by f, in f's order, one row at a time (nothing is held but
+// the row), and stops at fn's first error.
+func (d *DB) EachDate(ctx context.Context, f DateFilter, fn func(Date) error) error {
+	cond, args := dateWhere(f)
+	cols, desc := dateOrder(f)
+	rows, err := d.db.QueryContext(ctx, dateSelect+cond+orderBy(cols, desc, false), args...)
+	if err != nil {
+		return fmt.Errorf("dates: %w", err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		dt, err := scanDate(rows)
+		if err != nil {
+			return err
+		}
+		if err := fn(dt); err != nil {
+			return err
+		}
+	}
+	return rows.Err()
 }
 
 func escapeLike(s string) string {

@@ -3,6 +3,7 @@ package web
 import (
 	"cmp"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"net/http"
@@ -43,6 +44,9 @@ func (s *Server) registerAccountRoutes(r chi.Router) {
 	})
 }
 
+// changePageSize is how many records of a change its page lists at a time.
+const changePageSize = 500
+
 // handleChangeShow shows one change batch: what it did, record by record, and (for curators) its undo.
 func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
@@ -50,21 +54,37 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 	if err != nil {
 		return err
 	}
-	revs, err := s.store.BatchRevisions(ctx, id)
+	p := newParams(r)
+	after := p.id("after")
+	per := p.int("per", changePageSize, 1, 1000)
+	if err := p.err(); err != nil {
+		return err
+	}
+	b, err := s.store.BatchByID(ctx, id)
+	if errors.Is(err, store.ErrNotFound) || (err == nil && b.Revisions == 0) {
+		return notFoundError{what: fmt.Sprintf("change %d", id)}
+	}
 	if err != nil {
 		return err
 	}
-	if len(revs) == 0 {
-		return notFoundError{what: fmt.Sprintf("change %d", id)}
+	revs, err := s.store.BatchRevisionsAfter(ctx, id, after, per+1)
+	if err != nil {
+		return err
 	}
-	v := views.Detail{Page: s.page(ctx, fmt.Sprintf("Change %d: %s", id, revs[0].Kind), "")}
+	more := len(revs) > per
+	revs = revs[:min(len(revs), per)]
+	v := views.Detail{Page: s.page(ctx, fmt.Sprintf("Change %d: %s", id, b.Kind), "")}
 	v.Page.Crumbs = []views.Link{{Label: "Changes", URL: "/changes"}}
 	v.Groups = []views.FieldGroup{{Title: "Change", Fields: []views.KV{
-		{Label: "When", Value: when(revs[0].At)}, {Label: "Who", Value: orDash(revs[0].User)},
-		{Label: "What", Value: revs[0].Kind}, {Label: "Source", Value: orDash(revs[0].Source)},
-		{Label: "Records", Value: strconv.Itoa(len(revs))},
+		{Label: "When", Value: when(b.At)}, {Label: "Who", Value: orDash(b.User)},
+		{Label: "What", Value: b.Kind}, {Label: "Source", Value: orDash(b.Source)},
+		{Label: "Records", Value: strconv.Itoa(b.Revisions)},
 	}}}
-	t := views.Table{ID: "records", Columns: []views.Column{{Label: "Record"}, {Label: "Number", Num: true}, {Label: "Which"}, {Label: "Change"}}}
+	t := views.Table{ID: "records", Columns: []views.Column{{Label: "Record"}, {Label: "Number", Num: true}, {Label: "Which"}, {Label: "Change"}},
+		Empty: "No further record: this change holds no record after the one this page starts from."}
+	if b.Revisions > per || after > 0 {
+		t.Caption = fmt.Sprintf("Records of this change in the order they were made, %d a page", per)
+	}
 	for _, rev := range revs {
 		what := "changed"
 		switch {
@@ -80,6 +100,13 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 			state = rev.Before
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: strings.ReplaceAll(rev.RecordType, "_", " ")}, c, {Text: recordName(state)}, {Text: what}})
+	}
+	if after > 0 {
+		v.Links = append(v.Links, views.Link{Label: "← first records of this change", URL: withQuery(r, "after", "")})
+	}
+	if more {
+		v.Links = append(v.Links, views.Link{Label: fmt.Sprintf("next %d records →", per),
+			URL: withQuery(r, "after", strconv.FormatInt(revs[len(revs)-1].ID, 10))})
 	}
 	v.Tables = []views.Table{t}
 	pending, err := s.store.PendingInBatch(ctx, id)

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"net/http"
@@ -81,7 +82,7 @@ func dateTable(r *http.Request, ds []store.Date, level int, sortable bool, cal c
 			case "-" + k:
 				mark = "desc"
 			}
-			cols[i].SortURL = withQuery(r, "sort", next, "page", "")
+			cols[i].SortURL = withQuery(r, "sort", next, "page", "", "after", "", "before", "")
 			cols[i].Sorted = mark
 		}
 	}
@@ -163,18 +164,22 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 	if err := p.err(); err != nil {
 		return err
 	}
-	if format != "csv" {
-		f.Limit, f.Offset = per, (page-1)*per
+	if format == "csv" { // every matching date, streamed
+		return writeDatesCSVStream(ctx, s.store, w, f, cal)
 	}
-	ds, total, err := s.store.Dates(ctx, f)
+	// Pages go by keyset (after= and before= carry the position of the last or first date shown), so a
+	// page deep in the list costs what the first does; page= (rows skipped) still works for old links.
+	f.Limit, f.Offset, f.After, f.Before = per, (page-1)*per, p.str("after"), p.str("before")
+	pg, err := s.store.DatesPage(ctx, f)
+	if errors.Is(err, store.ErrBadCursor) {
+		return badRequest{problems: []string{"after/before: not a page position this list gave (the list may have been sorted otherwise since); start again from the first page"}}
+	}
 	if err != nil {
 		return err
 	}
-	switch format {
-	case "csv":
-		return writeDownload(w, "dates.csv", func(w io.Writer) error { return writeDatesCSV(w, ds, cal) })
-	case "json":
-		return writeList(w, "dates", total, f.Offset, len(ds), datesJSON(ds, cal))
+	ds, total := pg.Dates, pg.Total
+	if format == "json" {
+		return writeList(w, "dates", total, pg.First, len(ds), datesJSON(ds, cal))
 	}
 	form, err := s.dateFilterForm(r, f, level, per, cal)
 	if err != nil {
@@ -183,7 +188,7 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 	l := views.List{Page: s.page(ctx, "Dates", "Dates"), Form: form, Table: dateTable(r, ds, level, true, cal)}
 	l.Page.Downloads = toLinks(downloads(r))
 	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. CSV downloads hold every matching date in the import format, followed by the derived columns " + strings.Join(store.DerivedDateColumns, ", ") + " (the ⁴⁰Ar/³⁹Ar age on the view's calibration; ignored on import)."
-	l.Pager = pagerFor(r, total, page, per, len(ds))
+	l.Pager = keysetPager(r, pg)
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
 }
@@ -192,6 +197,21 @@ func sortChoices(keys []string) []string {
 	out := make([]string, 0, 2*len(keys))
 	for _, k := range keys {
 		out = append(out, k, "-"+k)
+	}
+	return out
+}
+
+// keysetPager links the pages before and after pg by their cursors.
+func keysetPager(r *http.Request, pg store.DatePage) *views.Pager {
+	out := &views.Pager{Summary: fmt.Sprintf("%d–%d of %d", pg.First+1, pg.First+len(pg.Dates), pg.Total)}
+	if len(pg.Dates) == 0 {
+		out.Summary = fmt.Sprintf("none of %d", pg.Total)
+	}
+	if pg.Prev != "" {
+		out.Prev = withQuery(r, "before", pg.Prev, "after", "", "page", "")
+	}
+	if pg.Next != "" {
+		out.Next = withQuery(r, "after", pg.Next, "before", "", "page", "")
 	}
 	return out
 }

@@ -1,43 +1,71 @@
 package web
 
 import (
-	"bytes"
-	"encoding/csv"
+	"context"
+	"fmt"
 	"io"
 	"math"
+	"net/http"
 	"strconv"
 
 	"coeval/store"
 )
 
-// writeDatesCSV writes dates in the import format (store.WriteDatesCSV, columns first and unchanged) with
+// writeDatesCSV writes dates in the import format (store.DateCSVRecord, columns first and unchanged) with
 // store.DerivedDateColumns appended: for ⁴⁰Ar/³⁹Ar dates, the age recalculated to the view's calibration,
 // its analytical and full external σ at the row's sigma_level (like sigma_ma), the calibration code, and
 // a note when the date is not recalculable; empty for other methods. The importer accepts and ignores
 // exactly these columns, so the file still re-imports.
 func writeDatesCSV(w io.Writer, ds []store.Date, cal calChoice) error {
-	var buf bytes.Buffer
-	if err := store.WriteDatesCSV(&buf, ds); err != nil {
-		return err
-	}
-	recs, err := csv.NewReader(&buf).ReadAll()
-	if err != nil {
-		return err
-	}
 	cw := store.NewCSVWriter(w)
-	for i, rec := range recs {
-		var extra []string
-		if i == 0 {
-			extra = store.DerivedDateColumns
-		} else {
-			extra = derivedCells(ds[i-1], cal)
-		}
-		if err := cw.Write(append(rec, extra...)); err != nil {
+	if err := cw.Write(append(store.DateCSVColumns(), store.DerivedDateColumns...)); err != nil {
+		return err
+	}
+	for _, d := range ds {
+		if err := cw.Write(append(store.DateCSVRecord(d), derivedCells(d, cal)...)); err != nil {
 			return err
 		}
 	}
 	cw.Flush()
 	return cw.Error()
+}
+
+// writeDatesCSVStream writes the dates f selects as writeDatesCSV does, straight to the response one row
+// at a time (memory stays flat in the number of dates). A failure before the first row is an ordinary
+// error page; after it, the response is cut off (the client sees an incomplete download, never a file
+// that looks whole).
+func writeDatesCSVStream(ctx context.Context, st Store, w http.ResponseWriter, f store.DateFilter, cal calChoice) error {
+	f.Limit, f.Offset, f.After, f.Before = 0, 0, "", ""
+	cw := store.NewCSVWriter(w)
+	started := false
+	err := st.EachDate(ctx, f, func(d store.Date) error {
+		if !started {
+			started = true
+			w.Header().Set("Content-Type", "text/csv; charset=utf-8")
+			w.Header().Set("Content-Disposition", `attachment; filename="dates.csv"`)
+			if err := cw.Write(append(store.DateCSVColumns(), store.DerivedDateColumns...)); err != nil {
+				return err
+			}
+		}
+		return cw.Write(append(store.DateCSVRecord(d), derivedCells(d, cal)...))
+	})
+	if err == nil && !started { // no date matches: the header alone
+		return writeDownload(w, "dates.csv", func(w io.Writer) error { return writeDatesCSV(w, nil, cal) })
+	}
+	if err != nil && !started {
+		return fmt.Errorf("write dates.csv: %w", err)
+	}
+	if err == nil {
+		cw.Flush()
+		err = cw.Error()
+	}
+	if err != nil {
+		if ctx.Err() != nil { // the client went away
+			return ctx.Err()
+		}
+		panic(http.ErrAbortHandler) // headers and part of the file are sent: cut the response off
+	}
+	return nil
 }
 
 func derivedCells(d store.Date, cal calChoice) []string {

@@ -83,6 +83,10 @@ type Store interface {
 	UpdateProvince(ctx context.Context, id int64, version int, f store.Form) (store.Province, error)
 	DeleteProvince(ctx context.Context, id int64, version int) error
 	BatchRevisions(ctx context.Context, batchID int64) ([]store.Revision, error)
+	BatchRevisionsAfter(ctx context.Context, batchID, after int64, limit int) ([]store.Revision, error)
+	BatchByID(ctx context.Context, id int64) (store.BatchRow, error)
+	DatesPage(ctx context.Context, f store.DateFilter) (store.DatePage, error)
+	EachDate(ctx context.Context, f store.DateFilter, fn func(store.Date) error) error
 	SaveUpload(ctx context.Context, u store.Upload) (int64, error)
 	UploadByID(ctx context.Context, id int64) (store.Upload, error)
 	PreviewUpload(ctx context.Context, u store.Upload) (store.Preview, error)

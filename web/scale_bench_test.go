@@ -1,0 +1,113 @@
+package web
+
+import (
+	"fmt"
+	"html"
+	"net/http"
+	"net/http/httptest"
+	"runtime"
+	"runtime/metrics"
+	"sync"
+	"testing"
+	"time"
+)
+
+// scaleDates is the size of the invented compilation of the scale benchmarks (issue 13's targets).
+const scaleDates = 100_000
+
+// BenchmarkScaleLists measures the feed of changes, a change's pages and the dates list's pages, first
+// and deep, on an invented compilation of 100,000 dates, through the whole handler chain.
+// go test ./web -run '^$' -bench BenchmarkScaleLists -benchtime 20x
+func BenchmarkScaleLists(b *testing.B) {
+	s := newScaleDB(b, scaleDates)
+	h := s.handler()
+	fetch := func(b *testing.B, path string) string {
+		rec := httptest.NewRecorder()
+		h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, path, nil))
+		if rec.Code != http.StatusOK {
+			b.Fatalf("%s: status %d", path, rec.Code)
+		}
+		return rec.Body.String()
+	}
+	// A deep page by its cursor: the next link of page n-1 (reached once by rows skipped).
+	deep := func(b *testing.B, n int, query string) string {
+		body := fetch(b, fmt.Sprintf("/dates?page=%d&%s", n-1, query))
+		m := nextLink.FindStringSubmatch(body)
+		if m == nil {
+			b.Fatalf("%s: page %d has no next link", query, n-1)
+		}
+		return html.UnescapeString(m[1])
+	}
+	paths := []string{"/changes", "/changes?page=5",
+		fmt.Sprintf("/changes/%d", s.importBatch),
+		fmt.Sprintf("/changes/%d?after=%d", s.importBatch, scaleDates-1500),
+		fmt.Sprintf("/changes/%d", s.uploadBatch),
+		"/dates", "/dates?page=2000"}
+	for _, sort := range []string{"-age", "sample", "-unit", "method", "material", "sigma", "lab", "added"} {
+		paths = append(paths, deep(b, 2000, "sort="+sort))
+	}
+	paths = append(paths, deep(b, 40, "province=7&sort=-age"), deep(b, 600, "method=arar_plateau&sort=sample"))
+	for _, path := range paths {
+		b.Run(path, func(b *testing.B) {
+			for b.Loop() {
+				fetch(b, path)
+			}
+		})
+	}
+}
+
+// discard is a ResponseWriter that keeps nothing of the body but its length, so that the memory measured
+// is the server's, not a recorder's copy of the answer.
+type discard struct {
+	h http.Header
+	n int64
+}
+
+func (d *discard) Header() http.Header         { return d.h }
+func (d *discard) WriteHeader(int)             {}
+func (d *discard) Write(p []byte) (int, error) { d.n += int64(len(p)); return len(p), nil }
+
+// BenchmarkScaleDatesCSV measures the download of all 100,000 dates as CSV: time, and the most heap the
+// server holds during the answer above what it held before (peak-heap-MB, sampled every millisecond).
+// go test ./web -run '^$' -bench BenchmarkScaleDatesCSV -benchtime 5x
+func BenchmarkScaleDatesCSV(b *testing.B) {
+	s := newScaleDB(b, scaleDates)
+	h := s.handler()
+	var peak float64
+	sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+	heap := func() float64 { metrics.Read(sample); return float64(sample[0].Value.Uint64()) }
+	var size int64
+	for b.Loop() {
+		runtime.GC()
+		base := heap()
+		done := make(chan struct{})
+		var wg sync.WaitGroup
+		var top float64
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			t := time.NewTicker(time.Millisecond)
+			defer t.Stop()
+			for {
+				if v := heap() - base; v > top {
+					top = v
+				}
+				select {
+				case <-done:
+					return
+				case <-t.C:
+				}
+			}
+		}()
+		w := &discard{h: http.Header{}}
+		h.ServeHTTP(w, httptest.NewRequest(http.MethodGet, "/dates?format=csv", nil))
+		close(done)
+		wg.Wait()
+		peak, size = max(peak, top), w.n
+	}
+	if size < 10_000_000 {
+		b.Fatalf("the download is %d bytes: not every date", size)
+	}
+	b.ReportMetric(peak/1e6, "peak-heap-MB")
+	b.ReportMetric(float64(size)/1e6, "body-MB")
+}
