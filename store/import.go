@@ -64,20 +64,39 @@ var (
 // resolve references, check against what is stored, and write. Nothing is written unless every row passes.
 func (d *DB) importFile(ctx context.Context, kind, file string, r io.Reader, required, allowed []string,
 	parse func(t *csvTable), write func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error) (ImportResult, error) {
-	res := ImportResult{Kind: kind, File: file, Added: map[string]int{}}
 	t, err := readCSV(file, r)
 	if err != nil {
-		return res, err
+		return ImportResult{Kind: kind, File: file, Added: map[string]int{}}, err
 	}
 	t.requireColumns(required, allowed)
 	if err := t.err(); err != nil {
-		return res, err
+		return ImportResult{Kind: kind, File: file, Added: map[string]int{}}, err
 	}
 	// Rows are checked against what is stored even when some have problems already, so that one run
 	// lists every error; the transaction is then rolled back.
 	parse(t)
+	return d.importTable(ctx, kind, t, write)
+}
+
+// importFileRows is importFile for long files: each row is parsed as it is read (parseRow may drop its
+// cells), so memory holds the records, not the file's cells too. Problems and results are importFile's.
+func (d *DB) importFileRows(ctx context.Context, kind, file string, r io.Reader, required, allowed []string,
+	parseRow func(t *csvTable, i int), write func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error) (ImportResult, error) {
+	res := ImportResult{Kind: kind, File: file, Added: map[string]int{}}
+	t, err := readCSVEach(file, r, required, allowed, parseRow)
+	if err != nil {
+		return res, err
+	}
+	return d.importTable(ctx, kind, t, write)
+}
+
+// importTable runs the write of an import of the read and parsed t in one transaction.
+func (d *DB) importTable(ctx context.Context, kind string, t *csvTable,
+	write func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error) (ImportResult, error) {
+	file := t.file
+	res := ImportResult{Kind: kind, File: file, Added: map[string]int{}}
 	res.Rows = len(t.rows)
-	err = d.inTx(ctx, func(tx *sql.Tx) error {
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		batch, err := d.newBatch(ctx, tx, "import "+kind, file)
 		if err != nil {
 			return err
@@ -249,22 +268,18 @@ var doiRE = regexp.MustCompile(`^10\.\d{4,9}/\S+$`)
 // codes must be unique per method across the compilation. Uncertainties are read at sigma_level and stored
 // as 1σ.
 func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
-	var recs []Date
-	var ignored string
-	return d.importFile(ctx, "dates", file, r,
+	var recs []*Date // one allocation each: no copy of every record when the slice grows
+	seen := map[[2]string]int{}
+	return d.importFileRows(ctx, "dates", file, r,
 		[]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"},
 		append(dateColumns[:len(dateColumns):len(dateColumns)], DerivedDateColumns...),
-		func(t *csvTable) {
-			ignored = ignoredDerived(t)
-			seen := map[[2]string]int{}
-			for i := range t.rows {
-				rw := t.row(i)
-				recs = append(recs, parseDateRow(rw, seen))
-				t.rows[i] = nil // the record holds what it needs; let the row's cell slice go
-			}
+		func(t *csvTable, i int) {
+			dt := parseDateRow(t.row(i), seen)
+			recs = append(recs, &dt)
+			t.rows[i] = nil // the record holds what it needs; let the row's cells go
 		},
 		func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error {
-			if ignored != "" {
+			if ignored := ignoredDerived(t); ignored != "" {
 				res.Notes = append(res.Notes, ignored)
 			}
 			pendingNote(ctx, res, len(recs), "dates", func(i int) *string { return &recs[i].ReviewState })
@@ -275,7 +290,7 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 			defer w.close()
 			sections := map[string]int64{}
 			for i := range recs {
-				dt := &recs[i]
+				dt := recs[i]
 				rw := t.row(i)
 				if id, err := w.lookup(ctx, w.bySample, dt.SampleCode, dt.Method); err != nil {
 					return err
@@ -303,7 +318,7 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 			}
 			units := map[[2]string]int64{}
 			for i := range recs {
-				dt := &recs[i]
+				dt := recs[i]
 				if dt.Unit != "" {
 					key := [2]string{dt.Province, dt.Unit}
 					uid, known := units[key]

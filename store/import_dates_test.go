@@ -129,3 +129,48 @@ func TestImportDatesWarnsAboutDuplicatesWithinTheFile(t *testing.T) {
 		t.Errorf("date ids %v, want 1 to 4", ids)
 	}
 }
+
+// Dates are parsed while the file is read; the problems an import lists are still those of reading the
+// whole file, checking its header and then parsing every row: a problem of reading or of the header alone
+// when there is one (wherever it is in the file), else every problem of every row, in order.
+func TestImportDatesStreamingListsTheProblemsOfAWholeRead(t *testing.T) {
+	bad := "P,U1,S-2,upb_idtims,zircon,eruption,-3,0.06,2,,,\n"
+	files := map[string]string{
+		"row problems only":          dateHeader + goodDate + bad + "P,U1,S-1,upb_idtims,zircon,eruption,155.4,0.06,2,,,\n",
+		"short row after a bad row":  dateHeader + bad + goodDate + "P,U1,S-3,upb_idtims\n",
+		"short row before a bad row": dateHeader + "P,U1,S-3,upb_idtims\n" + bad,
+		"control character late":     dateHeader + bad + "P,U1,S-4,upb_idtims,zir\x01con,eruption,155.4,0.06,2,,,\n",
+		"missing column":             "province,unit,sample_code,method,age_ma,sigma_ma,sigma_level\nP,U1,S-1,upb_idtims,-1,0.06,2\n",
+		"unknown column":             "colour," + dateHeader + "red," + bad,
+		"header only":                dateHeader,
+	}
+	for name, body := range files {
+		// The reference: read the whole file, check the header, then parse every row.
+		var want []Problem
+		tb, err := readCSV("in.csv", strings.NewReader(body))
+		if err != nil {
+			t.Fatal(err)
+		}
+		tb.requireColumns([]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"},
+			append(dateColumns[:len(dateColumns):len(dateColumns)], DerivedDateColumns...))
+		if tb.err() == nil {
+			seen := map[[2]string]int{}
+			for i := range tb.rows {
+				parseDateRow(tb.row(i), seen)
+			}
+		}
+		want = tb.problems
+		db := mustOpenDB(t)
+		_, err = importString(t, db, "dates", "", body)
+		ve, ok := AsValidation(err)
+		if !ok {
+			t.Fatalf("%s: %v, want problems", name, err)
+		}
+		if fmt.Sprint(ve.Problems) != fmt.Sprint(want) {
+			t.Errorf("%s: problems\n%v\nwant\n%v", name, ve.Problems, want)
+		}
+		if n, _ := db.Counts(context.Background()); n.Dates != 0 {
+			t.Errorf("%s: %d dates written", name, n.Dates)
+		}
+	}
+}
