@@ -12,6 +12,8 @@ import (
 // transaction, and hands out date ids in sequence (nothing else writes dates inside the transaction).
 type dateWriter struct {
 	d                                  *DB
+	tx                                 *sql.Tx
+	cacheSize                          int64
 	batch                              int64
 	nextID                             int64
 	bySample, section, unit, duplicate *sql.Stmt
@@ -24,7 +26,15 @@ const likelyDuplicateQuery = `SELECT coalesce(min(id), 0) FROM dates WHERE unit_
 	AND age_ma BETWEEN ? AND ? AND abs(age_ma - ?) <= 1e-9 * age_ma`
 
 func (d *DB) newDateWriter(ctx context.Context, tx *sql.Tx, batch int64) (*dateWriter, error) {
-	w := &dateWriter{d: d, batch: batch}
+	w := &dateWriter{d: d, batch: batch, tx: tx}
+	// A long import touches index pages all over the file; with SQLite's default 2 MB page cache it reads
+	// them back from disk again and again. The connection's cache grows for the import and is put back.
+	if err := tx.QueryRowContext(ctx, `PRAGMA cache_size`).Scan(&w.cacheSize); err != nil {
+		return nil, err
+	}
+	if _, err := tx.ExecContext(ctx, fmt.Sprintf(`PRAGMA cache_size = %d`, importCacheKiB)); err != nil {
+		return nil, err
+	}
 	id, err := nextID(ctx, tx, "dates", "date")
 	if err != nil {
 		return nil, err
@@ -55,7 +65,13 @@ func (d *DB) newDateWriter(ctx context.Context, tx *sql.Tx, batch int64) (*dateW
 	return w, nil
 }
 
+// importCacheKiB is the page cache of a connection running a dates import (negative: KiB, SQLite's rule).
+const importCacheKiB = -16384
+
 func (w *dateWriter) close() {
+	if w.cacheSize != 0 {
+		w.tx.Exec(fmt.Sprintf(`PRAGMA cache_size = %d`, w.cacheSize))
+	}
 	for _, st := range []*sql.Stmt{w.bySample, w.section, w.unit, w.duplicate, w.insertDate, w.insertRevision} {
 		if st != nil {
 			st.Close()

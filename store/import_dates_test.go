@@ -174,3 +174,28 @@ func TestImportDatesStreamingListsTheProblemsOfAWholeRead(t *testing.T) {
 		}
 	}
 }
+
+// A dates import enlarges its connection's page cache and puts it back: the pooled connection that ran it
+// (the only one here) has SQLite's default again afterwards, whether the import was taken or refused.
+func TestImportDatesPutsThePageCacheBack(t *testing.T) {
+	db := mustOpenDB(t)
+	db.db.SetMaxOpenConns(1)
+	ctx := context.Background()
+	var before int64
+	if err := db.db.QueryRowContext(ctx, `PRAGMA cache_size`).Scan(&before); err != nil {
+		t.Fatal(err)
+	}
+	if before == importCacheKiB {
+		t.Fatalf("the default cache (%d) is the import's: the test cannot tell", before)
+	}
+	for _, body := range []string{dateHeader + goodDate, dateHeader + goodDate /* refused: already stored */} {
+		importString(t, db, "dates", "", body)
+		var after int64
+		if err := db.db.QueryRowContext(ctx, `PRAGMA cache_size`).Scan(&after); err != nil {
+			t.Fatal(err)
+		}
+		if after != before {
+			t.Errorf("cache_size %d after an import, want %d as before", after, before)
+		}
+	}
+}
