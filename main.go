@@ -33,6 +33,7 @@ import (
 	"coeval/migrations"
 	"coeval/static"
 	"coeval/store"
+	"coeval/testdata/demo/large"
 	"coeval/web"
 )
 
@@ -85,6 +86,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
   coeval [-db FILE] user add NAME -role ROLE           add an account (password from the terminal or stdin)
   coeval [-db FILE] backup FILE                        a consistent copy of the database, while it runs
   coeval [-db FILE] target [CODE]                      show the calibrations, or set the target one
+  coeval demo large -o DIR [-provinces N …]            write a large invented compilation to import
 KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events, hiatuses
 flags:
 `)
@@ -115,6 +117,8 @@ flags:
 		return backupCmd(ctx, cfg, rest, stdout)
 	case "target":
 		return targetCmd(ctx, cfg, rest, stdout)
+	case "demo":
+		return demoCmd(rest, stdout, stderr)
 	}
 	fl.Usage()
 	return fmt.Errorf("unknown command %q", cmd)
@@ -418,5 +422,38 @@ func targetCmd(ctx context.Context, cfg config, args []string, stdout io.Writer)
 		}
 		fmt.Fprintf(stdout, "%s %-18s %s\n", mark, c.Code, c.Name)
 	}
+	return nil
+}
+
+// demoCmd writes a large invented compilation (testdata/demo/large) as import files with a manifest.
+func demoCmd(args []string, stdout, stderr io.Writer) error {
+	if len(args) == 0 || args[0] != "large" {
+		return fmt.Errorf("demo: want \"demo large -o DIR\" (the small demo is seeded by serve)")
+	}
+	sz := large.Default()
+	fl := flag.NewFlagSet("demo large", flag.ContinueOnError)
+	fl.SetOutput(stderr)
+	out := fl.String("o", "", "folder to write the files into (created if needed)")
+	fl.IntVar(&sz.Provinces, "provinces", sz.Provinces, "provinces")
+	fl.IntVar(&sz.Units, "units", sz.Units, "units, spread over the provinces")
+	fl.IntVar(&sz.Dates, "dates", sz.Dates, "dates (U–Pb and ⁴⁰Ar/³⁹Ar), spread over the units")
+	fl.IntVar(&sz.Sections, "sections", sz.Sections, "sedimentary sections")
+	fl.IntVar(&sz.SamplesPerSection, "samples", sz.SamplesPerSection, "samples per section")
+	fl.IntVar(&sz.Ties, "ties", sz.Ties, "tie points, spread over the sections")
+	fl.IntVar(&sz.Events, "events", sz.Events, "events, spread over the sections")
+	fl.Uint64Var(&sz.Seed, "seed", sz.Seed, "random seed: the same seed and sizes write the same files")
+	if err := fl.Parse(args[1:]); err != nil {
+		return err
+	}
+	if *out == "" || fl.NArg() > 0 {
+		return fmt.Errorf("demo large: want -o DIR and no other arguments")
+	}
+	files, err := large.Write(*out, sz)
+	if err != nil {
+		return fmt.Errorf("demo large: %w", err)
+	}
+	fmt.Fprintf(stdout, "wrote %d import files, manifest.csv and README.md of an INVENTED compilation to %s (%d provinces, %d units, %d dates, %d sections × %d samples, %d ties, %d events, seed %d)\n",
+		len(files), *out, sz.Provinces, sz.Units, sz.Dates, sz.Sections, sz.SamplesPerSection, sz.Ties, sz.Events, sz.Seed)
+	fmt.Fprintf(stdout, "load them in the order of %s, e.g. coeval import provinces %s\n", filepath.Join(*out, "manifest.csv"), filepath.Join(*out, "provinces.csv"))
 	return nil
 }

@@ -30,7 +30,46 @@ const maxImportBytes = 256 << 20
 
 // readCSV reads the whole of r as CSV with a header row. It fails only when the file cannot be read as CSV
 // at all (the error names the line); cell problems are collected later by the row accessors.
-func readCSV(file string, r io.Reader) (*csvTable, error) {
+func readCSV(file string, r io.Reader) (*csvTable, error) { return readCSVEach(file, r, nil, nil, nil) }
+
+// readCSVEach reads r as readCSV does and, when each is non-nil, hands each data row to each as soon as it
+// is read (each may then drop the row's cells: t.rows[i] = nil), so a long file is not held whole. The
+// header is checked against required and allowed. The result is what reading the whole file, checking its
+// header and then parsing every row would give: a problem of reading or of the header is returned as the
+// error (with no problem of parsing); otherwise t holds the problems each recorded. each is called only
+// while reading and the header have found no problem.
+func readCSVEach(file string, r io.Reader, required, allowed []string, each func(t *csvTable, i int)) (*csvTable, error) {
+	var parsed []Problem
+	headerOK := false
+	t, err := readCSVRows(file, r, func(t *csvTable) {
+		if each != nil { // checked here to know whether to parse; recorded at the end, in readCSV's order
+			n := len(t.problems)
+			t.requireColumns(required, allowed)
+			headerOK = len(t.problems) == n
+			t.problems = t.problems[:n]
+		}
+	}, func(t *csvTable, i int) {
+		if each == nil || !headerOK || len(t.problems) > 0 {
+			return
+		}
+		read := t.problems
+		t.problems = parsed
+		each(t, i)
+		parsed, t.problems = t.problems, read
+	})
+	if err != nil || each == nil {
+		return t, err
+	}
+	t.requireColumns(required, allowed)
+	if err := t.err(); err != nil {
+		return nil, err
+	}
+	t.problems = parsed
+	return t, nil
+}
+
+// readCSVRows reads r, calling onHeader once the header is read and onRow after each data row is added.
+func readCSVRows(file string, r io.Reader, onHeader func(t *csvTable), onRow func(t *csvTable, i int)) (*csvTable, error) {
 	cr := csv.NewReader(io.LimitReader(r, maxImportBytes))
 	cr.FieldsPerRecord = -1
 	t := &csvTable{file: file, idx: map[string]int{}}
@@ -58,6 +97,7 @@ func readCSV(file string, r io.Reader) (*csvTable, error) {
 		t.idx[h] = i
 	}
 	t.header = header
+	onHeader(t)
 	for {
 		rec, err := cr.Read()
 		if errors.Is(err, io.EOF) {
@@ -86,6 +126,7 @@ func readCSV(file string, r io.Reader) (*csvTable, error) {
 		t.rows = append(t.rows, rec)
 		t.lines = append(t.lines, line)
 		t.checkText(len(t.rows) - 1)
+		onRow(t, len(t.rows)-1)
 	}
 	if len(t.rows) == 0 && len(t.problems) == 0 {
 		t.problems = append(t.problems, Problem{File: file, Message: "the file has a header but no data rows"})

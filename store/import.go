@@ -64,20 +64,39 @@ var (
 // resolve references, check against what is stored, and write. Nothing is written unless every row passes.
 func (d *DB) importFile(ctx context.Context, kind, file string, r io.Reader, required, allowed []string,
 	parse func(t *csvTable), write func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error) (ImportResult, error) {
-	res := ImportResult{Kind: kind, File: file, Added: map[string]int{}}
 	t, err := readCSV(file, r)
 	if err != nil {
-		return res, err
+		return ImportResult{Kind: kind, File: file, Added: map[string]int{}}, err
 	}
 	t.requireColumns(required, allowed)
 	if err := t.err(); err != nil {
-		return res, err
+		return ImportResult{Kind: kind, File: file, Added: map[string]int{}}, err
 	}
 	// Rows are checked against what is stored even when some have problems already, so that one run
 	// lists every error; the transaction is then rolled back.
 	parse(t)
+	return d.importTable(ctx, kind, t, write)
+}
+
+// importFileRows is importFile for long files: each row is parsed as it is read (parseRow may drop its
+// cells), so memory holds the records, not the file's cells too. Problems and results are importFile's.
+func (d *DB) importFileRows(ctx context.Context, kind, file string, r io.Reader, required, allowed []string,
+	parseRow func(t *csvTable, i int), write func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error) (ImportResult, error) {
+	res := ImportResult{Kind: kind, File: file, Added: map[string]int{}}
+	t, err := readCSVEach(file, r, required, allowed, parseRow)
+	if err != nil {
+		return res, err
+	}
+	return d.importTable(ctx, kind, t, write)
+}
+
+// importTable runs the write of an import of the read and parsed t in one transaction.
+func (d *DB) importTable(ctx context.Context, kind string, t *csvTable,
+	write func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error) (ImportResult, error) {
+	file := t.file
+	res := ImportResult{Kind: kind, File: file, Added: map[string]int{}}
 	res.Rows = len(t.rows)
-	err = d.inTx(ctx, func(tx *sql.Tx) error {
+	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		batch, err := d.newBatch(ctx, tx, "import "+kind, file)
 		if err != nil {
 			return err
@@ -249,37 +268,43 @@ var doiRE = regexp.MustCompile(`^10\.\d{4,9}/\S+$`)
 // codes must be unique per method across the compilation. Uncertainties are read at sigma_level and stored
 // as 1σ.
 func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
-	var recs []Date
-	var ignored string
-	return d.importFile(ctx, "dates", file, r,
+	var recs []*Date // one allocation each: no copy of every record when the slice grows
+	seen := map[[2]string]int{}
+	return d.importFileRows(ctx, "dates", file, r,
 		[]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"},
 		append(dateColumns[:len(dateColumns):len(dateColumns)], DerivedDateColumns...),
-		func(t *csvTable) {
-			ignored = ignoredDerived(t)
-			seen := map[[2]string]int{}
-			for i := range t.rows {
-				rw := t.row(i)
-				recs = append(recs, parseDateRow(rw, seen))
-			}
+		func(t *csvTable, i int) {
+			dt := parseDateRow(t.row(i), seen)
+			recs = append(recs, &dt)
+			t.rows[i] = nil // the record holds what it needs; let the row's cells go
 		},
 		func(tx *sql.Tx, t *csvTable, batch int64, res *ImportResult) error {
-			if ignored != "" {
+			if ignored := ignoredDerived(t); ignored != "" {
 				res.Notes = append(res.Notes, ignored)
 			}
 			pendingNote(ctx, res, len(recs), "dates", func(i int) *string { return &recs[i].ReviewState })
+			w, err := d.newDateWriter(ctx, tx, batch)
+			if err != nil {
+				return err
+			}
+			defer w.close()
+			sections := map[string]int64{}
 			for i := range recs {
-				dt := &recs[i]
+				dt := recs[i]
 				rw := t.row(i)
-				if id, err := lookupID(ctx, tx, `SELECT id FROM dates WHERE sample_code = ? AND method = ?`, dt.SampleCode, dt.Method); err != nil {
+				if id, err := w.lookup(ctx, w.bySample, dt.SampleCode, dt.Method); err != nil {
 					return err
 				} else if id != 0 {
 					rw.problem("sample_code", "a %s date of sample %q is already in the compilation (date %d)",
 						Label(methodTerms(), dt.Method), dt.SampleCode, id)
 				}
 				if dt.Section != "" {
-					sid, err := lookupID(ctx, tx, `SELECT id FROM sections WHERE name = ?`, dt.Section)
-					if err != nil {
-						return err
+					sid, known := sections[dt.Section]
+					if !known {
+						if sid, err = w.lookup(ctx, w.section, dt.Section); err != nil {
+							return err
+						}
+						sections[dt.Section] = sid
 					}
 					if sid == 0 {
 						rw.problem("section", "unknown section %q; import it with the sections file first", dt.Section)
@@ -291,30 +316,35 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 			if t.err() != nil {
 				return nil
 			}
+			units := map[[2]string]int64{}
 			for i := range recs {
-				dt := &recs[i]
+				dt := recs[i]
 				if dt.Unit != "" {
-					pid, err := d.provinceID(ctx, tx, batch, dt.Province, res)
-					if err != nil {
-						return err
-					}
-					uid, err := lookupID(ctx, tx, `SELECT id FROM units WHERE province_id = ? AND name = ?`, pid, dt.Unit)
-					if err != nil {
-						return err
-					}
-					if uid == 0 {
-						uid, err = d.insertUnit(ctx, tx, batch, Unit{ProvinceID: pid, Name: dt.Unit, Kind: "other"})
+					key := [2]string{dt.Province, dt.Unit}
+					uid, known := units[key]
+					if !known {
+						pid, err := d.provinceID(ctx, tx, batch, dt.Province, res)
 						if err != nil {
 							return err
 						}
-						res.Added["units"]++
-						res.Notes = append(res.Notes, fmt.Sprintf("created unit %q of %q (kind other; import units to describe it)", dt.Unit, dt.Province))
+						uid, err = w.lookup(ctx, w.unit, pid, dt.Unit)
+						if err != nil {
+							return err
+						}
+						if uid == 0 {
+							uid, err = d.insertUnit(ctx, tx, batch, Unit{ProvinceID: pid, Name: dt.Unit, Kind: "other"})
+							if err != nil {
+								return err
+							}
+							res.Added["units"]++
+							res.Notes = append(res.Notes, fmt.Sprintf("created unit %q of %q (kind other; import units to describe it)", dt.Unit, dt.Province))
+						}
+						units[key] = uid
 					}
 					dt.UnitID = &uid
 					// A likely duplicate: the unit already has a date by the same method at the same age
 					// (a republished date under another sample code). Kept, and said.
-					if other, err := lookupID(ctx, tx, `SELECT id FROM dates WHERE unit_id = ? AND method = ? AND abs(age_ma - ?) <= 1e-9 * age_ma`,
-						uid, dt.Method, dt.AgeMa); err != nil {
+					if other, err := w.likelyDuplicate(ctx, uid, dt.Method, dt.AgeMa); err != nil {
 						return err
 					} else if other != 0 {
 						res.Notes = append(res.Notes, fmt.Sprintf("line %d: likely a duplicate of date %d (same unit, method and age %s Ma); check before committing", t.lines[i], other, formatNumber(dt.AgeMa)))
@@ -323,7 +353,7 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 				if IsArAr(dt.Method) && (dt.MonitorAgeMa == nil || dt.LambdaPerA == nil) {
 					res.Notes = append(res.Notes, fmt.Sprintf("line %d: ⁴⁰Ar/³⁹Ar date %s has no monitor age or decay constant: it will be listed as not recalculable", t.lines[i], dt.SampleCode))
 				}
-				if err := d.insertDate(ctx, tx, batch, dt); err != nil {
+				if err := w.insert(ctx, dt); err != nil {
 					return err
 				}
 				res.Added["dates"]++
