@@ -26,7 +26,7 @@ type Hiatus struct {
 
 // hiatusColumns are the columns of the hiatuses file of a section (and the cells of the hiatus form, read
 // with the same row parser).
-var hiatusColumns = []string{"height_m", "min_duration_ma", "review_state", "notes"}
+var hiatusColumns = mustFormat("hiatuses").ColumnNames()
 
 const hiatusSelect = `SELECT h.id, h.section_id, s.name, h.height_m, h.min_duration_ma, h.review_state, h.review_note,
 	h.notes, h.version, h.created_at, h.updated_at FROM hiatuses h JOIN sections s ON s.id = h.section_id`
@@ -235,7 +235,7 @@ func (d *DB) DeleteHiatus(ctx context.Context, id int64, version int) error {
 // review_state and notes. Heights must be new to the section and unique in the file. All or nothing.
 func (d *DB) ImportHiatuses(ctx context.Context, section, file string, r io.Reader) (ImportResult, error) {
 	var recs []Hiatus
-	return d.importFile(ctx, "hiatuses", file, r, []string{"height_m", "min_duration_ma"}, hiatusColumns,
+	return d.importFile(ctx, "hiatuses", file, r, mustFormat("hiatuses").RequiredNames(), hiatusColumns,
 		func(t *csvTable) {
 			seen := firstLines{}
 			for i := range t.rows {

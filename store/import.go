@@ -44,20 +44,15 @@ func (r ImportResult) String() string {
 	return s
 }
 
-// Column lists of the import files, in the order exports write them.
+// Column lists of the import files, in the order exports write them: from the file formats (formats.go)
+// that the help pages and templates show.
 var (
-	provinceColumns = []string{"province", "description"}
-	unitColumns     = []string{"province", "unit", "kind", "pile_position", "volume_km3", "volume_sigma_km3",
-		"latitude", "longitude", "notes"}
-	sectionColumns = []string{"section", "kind", "latitude", "longitude", "palaeolatitude", "thermal_maturity",
-		"toc_threshold_wt_pct", "notes"}
-	dateColumns = []string{"province", "unit", "section", "height_m", "sample_code", "method", "material",
-		"interpretation", "age_ma", "sigma_ma", "sigma_y_ma", "sigma_z_ma", "sigma_level", "tracer", "monitor",
-		"monitor_age_ma", "lambda_per_a", "laboratory", "citation", "doi", "latitude", "longitude",
-		"review_state", "notes"}
-	tieColumns = []string{"label", "height_m", "kind", "distribution", "age_ma", "sigma_ma", "sigma_level",
-		"age_min_ma", "age_max_ma", "date_sample_code", "date_method", "review_state", "notes"}
-	eventColumns = []string{"name", "kind", "base_height_m", "top_height_m", "notes"}
+	provinceColumns = mustFormat("provinces").ColumnNames()
+	unitColumns     = mustFormat("units").ColumnNames()
+	sectionColumns  = mustFormat("sections").ColumnNames()
+	dateColumns     = mustFormat("dates").ColumnNames()
+	tieColumns      = mustFormat("ties").ColumnNames()
+	eventColumns    = mustFormat("events").ColumnNames()
 )
 
 // importFile is the shape shared by every import: read and check the file, then, in one transaction,
@@ -129,7 +124,7 @@ func (d *DB) importTable(ctx context.Context, kind string, t *csvTable,
 // ImportProvinces imports provinces.csv (province, description). A province that exists is an error.
 func (d *DB) ImportProvinces(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
 	var recs []Province
-	return d.importFile(ctx, "provinces", file, r, []string{"province"}, provinceColumns,
+	return d.importFile(ctx, "provinces", file, r, mustFormat("provinces").RequiredNames(), provinceColumns,
 		func(t *csvTable) {
 			seen := firstLines{}
 			for i := range t.rows {
@@ -182,7 +177,7 @@ func (d *DB) provinceID(ctx context.Context, tx *sql.Tx, batch int64, name strin
 // ImportUnits imports units.csv. Provinces not yet known are created; a unit that exists is an error.
 func (d *DB) ImportUnits(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
 	var recs []Unit
-	return d.importFile(ctx, "units", file, r, []string{"province", "unit"}, unitColumns,
+	return d.importFile(ctx, "units", file, r, mustFormat("units").RequiredNames(), unitColumns,
 		func(t *csvTable) {
 			seen := map[[2]string]int{}
 			for i := range t.rows {
@@ -230,7 +225,7 @@ func (d *DB) insertUnit(ctx context.Context, tx *sql.Tx, batch int64, u Unit) (i
 // ImportSections imports sections.csv. A section that exists is an error.
 func (d *DB) ImportSections(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
 	var recs []Section
-	return d.importFile(ctx, "sections", file, r, []string{"section"}, sectionColumns,
+	return d.importFile(ctx, "sections", file, r, mustFormat("sections").RequiredNames(), sectionColumns,
 		func(t *csvTable) {
 			seen := firstLines{}
 			for i := range t.rows {
@@ -271,7 +266,7 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 	var recs []*Date // one allocation each: no copy of every record when the slice grows
 	seen := map[[2]string]int{}
 	return d.importFileRows(ctx, "dates", file, r,
-		[]string{"sample_code", "method", "interpretation", "age_ma", "sigma_ma", "sigma_level"},
+		mustFormat("dates").RequiredNames(),
 		append(dateColumns[:len(dateColumns):len(dateColumns)], DerivedDateColumns...),
 		func(t *csvTable, i int) {
 			dt := parseDateRow(t.row(i), seen)
@@ -528,7 +523,7 @@ func sectionIDByName(ctx context.Context, tx *sql.Tx, name, file string) (int64,
 // accepted; a contribution (AsContribution) makes every one pending whatever the file says.
 func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) (ImportResult, error) {
 	var recs []TiePoint
-	return d.importFile(ctx, "ties", file, r, []string{"label", "height_m", "kind", "distribution"}, tieColumns,
+	return d.importFile(ctx, "ties", file, r, mustFormat("ties").RequiredNames(), tieColumns,
 		func(t *csvTable) {
 			seen := firstLines{}
 			for i := range t.rows {
@@ -630,7 +625,7 @@ func methodSuffix(m string) string {
 // ImportEvents imports the entered events of one section.
 func (d *DB) ImportEvents(ctx context.Context, section, file string, r io.Reader) (ImportResult, error) {
 	var recs []Event
-	return d.importFile(ctx, "events", file, r, []string{"name", "kind", "base_height_m"}, eventColumns,
+	return d.importFile(ctx, "events", file, r, mustFormat("events").RequiredNames(), eventColumns,
 		func(t *csvTable) {
 			seen := firstLines{}
 			for i := range t.rows {

@@ -172,7 +172,7 @@ func (d *DB) ImportMeasurements(ctx context.Context, section, file string, r io.
 	var pc proxyColumns
 	var recs []Measurement
 	var samples int
-	return d.importFile(ctx, "measurements", file, r, []string{"sample", "height_m"}, nil,
+	return d.importFile(ctx, "measurements", file, r, mustFormat("measurements").RequiredNames(), nil,
 		func(t *csvTable) {
 			pc = mapProxyColumns(t)
 			if t.err() != nil {
