@@ -181,6 +181,7 @@ type Input struct {
 type Edit struct {
 	Page
 	Intro     string
+	Links     []Link // related pages, shown under the intro (e.g. the file formats of an upload)
 	Action    string
 	Multipart bool
 	Hidden    []KV

@@ -97,6 +97,8 @@ var routeRoles = map[string]string{
 	"GET /sections/aligned/figure.svg":         "",
 	"GET /provinces/{id}/timeline":             "",
 	"GET /timescale":                           "",
+	"GET /help":                                "",
+	"GET /help/files/{kind}":                    "",
 	"GET /compare":                             "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",
@@ -242,7 +244,7 @@ func matrixPaths(t testing.TB, db *store.DB) func(pattern string) string {
 		if pattern == "/events/{id}/edit" {
 			id = fmt.Sprint(draft.ID)
 		}
-		return strings.NewReplacer("{id}", id, "{n}", "1", "*", "style.css").Replace(pattern)
+		return strings.NewReplacer("{id}", id, "{n}", "1", "{kind}", "dates", "*", "style.css").Replace(pattern)
 	}
 }
 

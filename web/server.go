@@ -171,6 +171,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerDateRoutes(r)
 	s.registerSectionRoutes(r)
 	s.registerCompareRoutes(r)
+	s.registerHelpRoutes(r)
 	r.Get("/ties", s.handle(s.handleTieList))
 	r.Get("/events", s.handle(s.handleEventList))
 	r.Get("/calibrations", s.handle(s.handleCalibrationList))

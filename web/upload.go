@@ -40,10 +40,11 @@ func (s *Server) uploadView(r *http.Request, kind, section string, errs []string
 		return views.Edit{}, err
 	}
 	e := views.Edit{Page: s.page(r.Context(), "Import a file", ""), Action: "/import", Multipart: true, Submit: "Check the file", Errors: errs}
-	e.Intro = "Upload a CSV file (or an .xlsx workbook: its first sheet) in one of the import formats described in the README. You will first see every row with its problems and warnings; nothing is imported until you confirm, and then all rows or none are."
+	e.Intro = "Upload a CSV file (or an .xlsx workbook: its first sheet) in one of the file formats below; each has a page of its columns and a template to download. You will first see every row with its problems and warnings; nothing is imported until you confirm, and then all rows or none are."
 	kinds := []views.Option{}
-	for _, k := range []string{"dates", "units", "sections", "provinces", "measurements", "ties", "events", "hiatuses"} {
-		kinds = append(kinds, views.Option{Value: k, Label: k, Selected: k == kind})
+	for _, f := range store.FileFormats() {
+		kinds = append(kinds, views.Option{Value: f.Kind, Label: f.Title, Selected: f.Kind == kind || kind == "" && f.Kind == "dates"})
+		e.Links = append(e.Links, views.Link{Label: f.Title, URL: "/help/files/" + f.Kind})
 	}
 	secs := []views.Option{{Value: "", Label: "— (for measurements, ties, events, hiatuses)"}}
 	for _, sec := range sections {

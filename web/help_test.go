@@ -1,0 +1,89 @@
+package web
+
+import (
+	"bytes"
+	"context"
+	"html"
+	"net/http"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"testing"
+
+	"coeval/migrations"
+	"coeval/store"
+)
+
+// Each file kind's help page lists exactly the importer's columns (those store's importer reads its header
+// with), in order, and its template, downloaded over HTTP, imports cleanly into an empty compilation
+// through the real importer, kind after kind.
+func TestFileFormatPagesListTheImportersColumnsAndTheirTemplatesImport(t *testing.T) {
+	srv, _ := mustServer(t)
+	ctx := context.Background()
+	empty, err := store.Open(ctx, filepath.Join(t.TempDir(), "empty.db"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer empty.Close()
+	if _, err := empty.Migrate(ctx, migrations.FS); err != nil {
+		t.Fatal(err)
+	}
+	status, _, index := get(t, srv, "/help")
+	if status != http.StatusOK {
+		t.Fatalf("/help: status %d", status)
+	}
+	for _, f := range store.FileFormats() {
+		if !strings.Contains(index, `href="/help/files/`+f.Kind+`"`) {
+			t.Errorf("/help does not link the %s format", f.Kind)
+		}
+		status, _, body := get(t, srv, "/help/files/"+f.Kind)
+		if status != http.StatusOK {
+			t.Fatalf("%s: status %d", f.Kind, status)
+		}
+		if got, want := firstColumn(t, body), f.ColumnNames(); strings.Join(got, ",") != strings.Join(want, ",") {
+			t.Errorf("%s page lists columns\n%v\nthe importer reads\n%v", f.Kind, got, want)
+		}
+		status, h, tmpl := get(t, srv, "/help/files/"+f.Kind+"?format=csv")
+		if status != http.StatusOK || !strings.Contains(h.Get("Content-Disposition"), "attachment") {
+			t.Fatalf("%s template: status %d, disposition %q", f.Kind, status, h.Get("Content-Disposition"))
+		}
+		section := ""
+		if f.PerSection {
+			section = store.FileFormats()[2].Columns[0].Example // the sections template's section
+		}
+		res, err := empty.ImportReader(ctx, f.Kind, section, "template.csv", bytes.NewReader([]byte(tmpl)))
+		if err != nil || res.Rows != 1 {
+			t.Errorf("%s template: %d rows, %v", f.Kind, res.Rows, err)
+		}
+	}
+	if status, _, _ := get(t, srv, "/help/files/nonsense"); status != http.StatusNotFound {
+		t.Errorf("unknown file kind: status %d, want 404", status)
+	}
+	// The import page points to these pages, not to a file a web user cannot open.
+	c := client(t)
+	signIn(t, c, srv, "demo-contributor")
+	_, upload, _ := do(t, c, http.MethodGet, srv.URL+"/import", nil)
+	if strings.Contains(upload, "README") || !strings.Contains(upload, `href="/help/files/dates"`) {
+		t.Error("the import page must link the file formats' help pages, not the README")
+	}
+}
+
+var (
+	tbodyRE = regexp.MustCompile(`(?s)<tbody>(.*?)</tbody>`)
+	rowRE   = regexp.MustCompile(`(?s)<tr[^>]*>\s*<t[dh][^>]*>(.*?)</t[dh]>`)
+	tagRE   = regexp.MustCompile(`<[^>]+>`)
+)
+
+// firstColumn returns the text of the first cell of each body row of the page's first table.
+func firstColumn(t *testing.T, page string) []string {
+	t.Helper()
+	body := tbodyRE.FindStringSubmatch(page)
+	if body == nil {
+		t.Fatal("no table body on the page")
+	}
+	var out []string
+	for _, m := range rowRE.FindAllStringSubmatch(body[1], -1) {
+		out = append(out, strings.TrimSpace(html.UnescapeString(tagRE.ReplaceAllString(m[1], ""))))
+	}
+	return out
+}
