@@ -98,7 +98,7 @@ var routeRoles = map[string]string{
 	"GET /provinces/{id}/timeline":             "",
 	"GET /timescale":                           "",
 	"GET /help":                                "",
-	"GET /help/files/{kind}":                    "",
+	"GET /help/files/{kind}":                   "",
 	"GET /compare":                             "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",
