@@ -99,6 +99,7 @@ var routeRoles = map[string]string{
 	"GET /timescale":                           "",
 	"GET /help":                                "",
 	"GET /help/files/{kind}":                   "",
+	"GET /help/addresses":                      "",
 	"GET /compare":                             "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",

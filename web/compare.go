@@ -106,7 +106,7 @@ func (s *Server) compareChoiceFrom(ctx context.Context, p *params) (compareChoic
 	}
 	ch.Rows = p.oneOf("rows", compareRowKinds, defaultRows)
 	ch.SectionIDs = idList(p, "sections", "section record numbers such as 1,2")
-	for _, g := range p.q["group"] {
+	for _, g := range p.all("group") {
 		g = strings.TrimSpace(g)
 		if g == "" {
 			continue
@@ -163,7 +163,7 @@ func unknownUnit(d *compareData, id int64) string {
 // listParam reads a comma-separated list (also repeated parameters), blanks dropped.
 func listParam(p *params, name string) []string {
 	var out []string
-	for _, v := range p.q[name] {
+	for _, v := range p.all(name) {
 		for _, f := range strings.Split(v, ",") {
 			if f = strings.TrimSpace(f); f != "" && !slices.Contains(out, f) {
 				out = append(out, f)

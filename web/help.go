@@ -17,6 +17,7 @@ import (
 func (s *Server) registerHelpRoutes(r chi.Router) {
 	r.Get("/help", s.handle(s.handleHelp))
 	r.Get("/help/files/{kind}", s.handle(s.handleFileFormat))
+	r.Get("/help/addresses", s.handle(s.handleHelpAddresses))
 }
 
 func (s *Server) handleHelp(w http.ResponseWriter, r *http.Request) error {
@@ -37,6 +38,7 @@ func (s *Server) handleHelp(w http.ResponseWriter, r *http.Request) error {
 		})
 	}
 	v.Tables = []views.Table{t}
+	v.Links = []views.Link{{Label: "Addresses for scripts: the choices every page's address can carry", URL: "/help/addresses"}}
 	v.Notes = []string{
 		"Every file: UTF-8, comma-separated, the first row the header. Column names are exact and an unknown column is refused, so a misspelt or wrongly-unitised column is never silently dropped. Column order is free. An empty cell is no value. Numbers use a point as the decimal mark. Uncertainties are given at the σ level the row states and stored as 1σ.",
 		"Files are imported from the Import page (signed in as a contributor or curator) or from the command line; each file is imported whole or not at all.",

@@ -7,8 +7,12 @@ import (
 	"net/http"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strings"
+	"sync"
 	"testing"
+
+	"github.com/go-chi/chi/v5"
 
 	"coeval/migrations"
 	"coeval/store"
@@ -86,4 +90,66 @@ func firstColumn(t *testing.T, page string) []string {
 		out = append(out, strings.TrimSpace(html.UnescapeString(tagRE.ReplaceAllString(m[1], ""))))
 	}
 	return out
+}
+
+// Every parameter a page reads is described on the reference page for scripts, and the reference
+// describes nothing no page reads: each GET route is requested (as an admin, so nothing is hidden), plain
+// and with each parameter that needs another set, in each format, and the names read are recorded.
+func TestEveryParameterAPageReadsIsDocumented(t *testing.T) {
+	var mu sync.Mutex
+	read := map[string][]string{}
+	route := ""
+	paramRead = func(name string) {
+		mu.Lock()
+		defer mu.Unlock()
+		if !slices.Contains(read[name], route) {
+			read[name] = append(read[name], route)
+		}
+	}
+	defer func() { paramRead = func(string) {} }()
+	srv, _ := mustServer(t)
+	admin := client(t)
+	signIn(t, admin, srv, "demo-admin")
+	var patterns []string
+	chi.Walk(srv.Config.Handler.(chi.Routes), func(method, pattern string, _ http.Handler, _ ...func(http.Handler) http.Handler) error {
+		if method == http.MethodGet {
+			patterns = append(patterns, pattern)
+		}
+		return nil
+	})
+	for _, pattern := range patterns {
+		path := strings.NewReplacer("{id}", "1", "{n}", "1", "{kind}", "dates", "*", "style.css").Replace(pattern)
+		queries := []string{"", "format=csv", "format=json", cheap}
+		for _, extra := range needs {
+			queries = append(queries, extra+"&"+cheap)
+		}
+		for _, q := range queries {
+			mu.Lock()
+			route = pattern
+			mu.Unlock()
+			do(t, admin, http.MethodGet, srv.URL+path+"?"+q, nil)
+		}
+	}
+	documented := paramNamesDocumented()
+	for name, routes := range read {
+		if !slices.Contains(documented, name) {
+			t.Errorf("parameter %q, read by %v, is not described in paramDocs", name, routes)
+		}
+	}
+	for _, name := range documented {
+		if _, ok := read[name]; !ok {
+			t.Errorf("paramDocs describes %q, which no page read", name)
+		}
+	}
+	slices.Sort(documented)
+	names := slices.Sorted(slices.Values(paramNames))
+	if !slices.Equal(documented, names) {
+		t.Errorf("paramNames (tried with bad values by TestEveryUserErrorSaysWhatToFix) and paramDocs differ:\n%v\n%v", names, documented)
+	}
+	_, body, _ := do(t, admin, http.MethodGet, srv.URL+"/help/addresses", nil)
+	for _, name := range documented {
+		if !strings.Contains(body, ">"+name+"<") {
+			t.Errorf("the reference page does not list %q", name)
+		}
+	}
 }

@@ -22,7 +22,20 @@ type params struct {
 
 func newParams(r *http.Request) *params { return &params{q: r.URL.Query()} }
 
-func (p *params) str(name string) string { return strings.TrimSpace(p.q.Get(name)) }
+func (p *params) str(name string) string {
+	paramRead(name)
+	return strings.TrimSpace(p.q.Get(name))
+}
+
+// all returns every value of a repeatable parameter.
+func (p *params) all(name string) []string {
+	paramRead(name)
+	return p.q[name]
+}
+
+// paramRead is told the name of every parameter a page reads; tests use it to check that the reference
+// of parameters (paramDocs) names each one.
+var paramRead = func(string) {}
 
 func (p *params) oneOf(name string, allowed []string, def string) string {
 	v := p.str(name)
