@@ -11,6 +11,7 @@ import (
 	"fmt"
 	"io/fs"
 	"net/url"
+	"os"
 	"sort"
 	"strconv"
 	"strings"
@@ -51,6 +52,15 @@ func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
 		}
 	}
 	return db, err
+}
+
+// OpenSnapshot opens a file that never changes (a release's snapshot) for reading: immutable, so SQLite
+// takes no locks and writes nothing beside it.
+func OpenSnapshot(ctx context.Context, path string) (*DB, error) {
+	if _, err := os.Stat(path); err != nil {
+		return nil, fmt.Errorf("open snapshot: %w", err)
+	}
+	return open(ctx, path, "immutable")
 }
 
 // ReadOnly reports whether the database was opened for reading only.
