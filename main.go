@@ -86,6 +86,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
   coeval [-db FILE] user add NAME -role ROLE           add an account (password from the terminal or stdin)
   coeval [-db FILE] backup FILE                        a consistent copy of the database, while it runs
   coeval [-db FILE] target [CODE]                      show the calibrations, or set the target one
+  coeval [-db FILE] release create VERSION -title T    freeze the accepted records as a citable release
+  coeval [-db FILE] release list | bundle VERSION -o F.zip | load F.zip   list, bundle, load into an empty database
   coeval demo large -o DIR [-provinces N …]            write a large invented compilation to import
 KIND: provinces, units, sections, dates; for one SECTION: measurements, ties, events, hiatuses
 flags:
@@ -119,6 +121,8 @@ flags:
 		return targetCmd(ctx, cfg, rest, stdout)
 	case "demo":
 		return demoCmd(rest, stdout, stderr)
+	case "release":
+		return releaseCmd(ctx, cfg, rest, stdout, stderr)
 	}
 	fl.Usage()
 	return fmt.Errorf("unknown command %q", cmd)

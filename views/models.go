@@ -22,6 +22,10 @@ type Page struct {
 	Downloads []Link
 	Demo      string
 	ReadOnly  string // a banner: the database cannot be written
+	// Release names the release a page shows the compilation as of ("" for the current compilation);
+	// CurrentURL is the same page in the current compilation.
+	Release    string
+	CurrentURL string
 }
 
 // Stat is one figure of the home page.
@@ -33,6 +37,9 @@ type Stat struct {
 
 // Home is the home page: what is in the compilation.
 type Home struct {
+	// Citation is the latest release's citation, ready to copy, with its page ("" when none was cut).
+	Citation    string
+	CitationURL string
 	Page
 	Stats     []Stat
 	Provinces Table

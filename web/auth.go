@@ -34,6 +34,8 @@ type options struct {
 	sessionCleanup time.Duration
 	secureCookies  bool
 	now            func() time.Time
+	release        string // the release a handler serves as of ("" for the live compilation)
+	prefix         string // the path it is served under
 }
 
 // WithSessionCleanup sets how often expired sessions are deleted (0: never, for tests).

@@ -99,6 +99,13 @@ var routeRoles = map[string]string{
 	"GET /timescale":                           "",
 	"GET /help":                                "",
 	"GET /help/files/{kind}":                   "",
+	"GET /releases":                            "",
+	"GET /releases/new":                        store.RoleCurator,
+	"POST /releases":                           store.RoleCurator,
+	"GET /releases/{version}":                  "",
+	"GET /releases/{version}/bundle.zip":       "",
+	"POST /releases/{version}/doi":             store.RoleCurator,
+	"GET /releases/{version}/view/*":           "",
 	"GET /help/addresses":                      "",
 	"GET /compare":                             "",
 	"GET /compare/saved":                       "",
@@ -245,7 +252,7 @@ func matrixPaths(t testing.TB, db *store.DB) func(pattern string) string {
 		if pattern == "/events/{id}/edit" {
 			id = fmt.Sprint(draft.ID)
 		}
-		return strings.NewReplacer("{id}", id, "{n}", "1", "{kind}", "dates", "*", "style.css").Replace(pattern)
+		return strings.NewReplacer("{id}", id, "{n}", "1", "{kind}", "dates", "{version}", "2027.1", "*", "style.css").Replace(pattern)
 	}
 }
 

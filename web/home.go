@@ -2,6 +2,7 @@ package web
 
 import (
 	"net/http"
+	"net/url"
 
 	"coeval/views"
 )
@@ -45,6 +46,12 @@ func (s *Server) handleHome(w http.ResponseWriter, r *http.Request) error {
 		{Label: "samples", Value: itoa(c.Samples), URL: "/sections"},
 		{Label: "tie points", Value: itoa(c.TiePoints), URL: "/ties"},
 		{Label: "events", Value: itoa(c.Events), URL: "/events"},
+	}
+	if rs, ok := s.releaseStore(); ok {
+		if rels, err := rs.Releases(ctx); err == nil && len(rels) > 0 {
+			h.Citation = citation(rels[0])
+			h.CitationURL = "/releases/" + url.PathEscape(rels[0].Version)
+		}
 	}
 	h.Provinces = provinceTable(provinces)
 	h.Sections = sectionTable(sections)

@@ -92,6 +92,8 @@ var paramDocs = []paramDoc{
 	{"z_min", "section pages", "0.5 to 50", "3.5", "Modified z-score above which a sample is anomalous."},
 	{"min_run", "section pages", "1 to 50", "2", "Anomalous samples in a row that make an anomaly."},
 	{"penalty", "section pages", "above 0, up to 1e6", "2·ln n", "Penalty of the change-point search (larger: fewer changes)."},
+	{"release", "every page", "a release's version", "", "Show the page as of that release: the compilation as it was when the release was made."},
+	{"against", "a release's page", "another release's version", "the release before", "The release the changes are listed against."},
 	{"series", "aligned sections", "ratio, hg", "ratio", "What the aligned figure shows: Hg/TOC or Hg."},
 }
 

@@ -122,6 +122,9 @@ type Server struct {
 	static   fs.FS
 	sessions *scs.SessionManager
 	limiter  *loginLimiter
+	release  string        // the release this server shows the compilation as of ("" = live)
+	prefix   string        // the path it is served under (a release's view)
+	releases *releaseViews // the handlers of releases opened from the live site
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
@@ -133,7 +136,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 		opt(&o)
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
-		limiter: newLoginLimiter(o.now)}
+		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
@@ -152,6 +155,8 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(s.sessions.LoadAndSave)
 	r.Use(s.identify)
 	r.Use(s.requireLoginSetting)
+	r.Use(s.asOfRelease)
+	r.Use(rememberPath)
 
 	r.Get("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)).ServeHTTP)
 	r.Get("/", s.handle(s.handleHome))
@@ -172,6 +177,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerSectionRoutes(r)
 	s.registerCompareRoutes(r)
 	s.registerHelpRoutes(r)
+	s.registerReleaseRoutes(r)
 	r.Get("/ties", s.handle(s.handleTieList))
 	r.Get("/events", s.handle(s.handleEventList))
 	r.Get("/calibrations", s.handle(s.handleCalibrationList))
@@ -294,9 +300,13 @@ func (s *Server) render(w http.ResponseWriter, r *http.Request, status int, c te
 		http.Error(w, "The page could not be rendered.", http.StatusInternalServerError)
 		return
 	}
+	page := buf.Bytes()
+	if s.prefix != "" {
+		page = prefixLinks(page, s.prefix)
+	}
 	w.Header().Set("Content-Type", "text/html; charset=utf-8")
 	w.WriteHeader(status)
-	w.Write(buf.Bytes())
+	w.Write(page)
 }
 
 // readOnlyBanner is shown on every page while the database is open for reading only.
@@ -318,7 +328,10 @@ func (s *Server) page(ctx context.Context, title, nav string) views.Page {
 	if demo, err := s.store.Setting(ctx, store.SettingDemo); err == nil && demo != "" {
 		p.Demo = demo
 	}
-	if s.store.ReadOnly() {
+	switch {
+	case s.release != "":
+		p.Release, p.CurrentURL = s.release, requestPath(ctx)
+	case s.store.ReadOnly():
 		p.ReadOnly = readOnlyBanner
 	}
 	return p
