@@ -85,6 +85,14 @@ func TestReleaseFreezesTheAcceptedRecords(t *testing.T) {
 			t.Errorf("%s = %d (%v), want %d", q, n, err, want)
 		}
 	}
+	// Nothing private left in the file's free pages either: no password hash, no left-out sample code.
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if bytes.Contains(raw, []byte("$2a$")) || bytes.Contains(raw, []byte("$2b$")) {
+		t.Error("the release's file still holds a password hash")
+	}
 	if v, _ := snap.Setting(ctx, SettingRelease); v != "2027.1" {
 		t.Errorf("the snapshot says release %q", v)
 	}
