@@ -6,5 +6,5 @@ import "embed"
 
 // FS holds the static files.
 //
-//go:embed *.css *.js
+//go:embed *.css *.js *.svg
 var FS embed.FS

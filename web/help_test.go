@@ -156,3 +156,17 @@ func TestEveryParameterAPageReadsIsDocumented(t *testing.T) {
 		}
 	}
 }
+
+// Every page names an icon, and the icon is served (browsers ask for one on every page).
+func TestFaviconIsServed(t *testing.T) {
+	srv, _ := mustServer(t)
+	_, _, home := get(t, srv, "/")
+	m := regexp.MustCompile(`<link rel="icon"[^>]*href="([^"]+)"`).FindStringSubmatch(home)
+	if m == nil {
+		t.Fatal("the page names no icon")
+	}
+	status, h, body := get(t, srv, m[1])
+	if status != http.StatusOK || !strings.HasPrefix(h.Get("Content-Type"), "image/svg+xml") || !strings.Contains(body, "<svg") {
+		t.Errorf("%s: status %d, type %q", m[1], status, h.Get("Content-Type"))
+	}
+}
