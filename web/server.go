@@ -30,6 +30,8 @@ type Store interface {
 	Provinces(ctx context.Context) ([]store.Province, error)
 	Province(ctx context.Context, id int64) (store.Province, error)
 	Units(ctx context.Context, provinceID int64) ([]store.Unit, error)
+	ProvinceDates(ctx context.Context, provinceID int64) (store.ProvinceDates, error)
+	UnitDates(ctx context.Context, unitID int64) (store.UnitDates, error)
 	Unit(ctx context.Context, id int64) (store.Unit, error)
 	Dates(ctx context.Context, f store.DateFilter) ([]store.Date, int, error)
 	Date(ctx context.Context, id int64) (store.Date, error)

@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"coeval/store"
+	"coeval/web/analysis"
 )
 
 // The unit summary downloads (/provinces/{id}/summary and /units/{id}/summary, format=csv or json) hold
@@ -194,18 +195,7 @@ func (s *Server) handleProvinceSummary(w http.ResponseWriter, r *http.Request) e
 	if err := p.err(); err != nil {
 		return err
 	}
-	if _, err := s.store.Province(ctx, id); err != nil {
-		return err
-	}
-	units, err := s.store.Units(ctx, id)
-	if err != nil {
-		return err
-	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{ProvinceID: id, Sort: "-age"})
-	if err != nil {
-		return err
-	}
-	sums, err := summarizeUnits(units, ds, ch)
+	_, sums, err := analysis.SummarizeProvince(ctx, s.store, id, ch.options())
 	if err != nil {
 		return err
 	}
@@ -227,15 +217,7 @@ func (s *Server) handleUnitSummary(w http.ResponseWriter, r *http.Request) error
 	if err := p.err(); err != nil {
 		return err
 	}
-	u, err := s.store.Unit(ctx, id)
-	if err != nil {
-		return err
-	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{UnitID: id, Sort: "-age"})
-	if err != nil {
-		return err
-	}
-	us, err := summarizeUnit(u, datePointers(ds), ch)
+	_, us, err := analysis.SummarizeUnitByID(ctx, s.store, id, ch.options())
 	if err != nil {
 		return err
 	}

@@ -12,21 +12,13 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // dateBars are the extents (age ± σ at the shown level) of every date that enters a summary, so the
 // automatic window of the figure holds all of them.
 func dateBars(sums []unitSummary, ch densityChoice) [][2]float64 {
-	var out [][2]float64
-	k := float64(ch.Sum.Sigma)
-	for _, us := range sums {
-		for _, sys := range us.Systems {
-			for _, e := range sys.Entries {
-				out = append(out, [2]float64{e.AgeMa - k*e.Sigma1s, e.AgeMa + k*e.Sigma1s})
-			}
-		}
-	}
-	return out
+	return analysis.DateBars(sums, float64(ch.Sum.Sigma))
 }
 
 // figureRows draws each unit with dates as a row: its dates (counted or not, and why) and, with
