@@ -34,7 +34,12 @@ func (c calChoice) label() string {
 // calibration reads cal=CODE against the stored calibrations (default: the target). An unknown code is
 // a problem of the URL. A compilation without a target uses the first calibration listed.
 func (s *Server) calibration(ctx context.Context, p *params) (calChoice, error) {
-	cals, err := s.store.Calibrations(ctx)
+	return readCalibration(ctx, s.store, p)
+}
+
+// readCalibration reads cal=CODE against the calibrations st lists (see Server.calibration).
+func readCalibration(ctx context.Context, st calibrationLister, p *params) (calChoice, error) {
+	cals, err := st.Calibrations(ctx)
 	if err != nil {
 		return calChoice{}, err
 	}

@@ -40,7 +40,12 @@ const defaultTracerRelSigma = analysis.DefaultTracerRelSigma
 // summaryChoice reads the summary's choices; a choice left out of the URL is analysis'
 // DefaultSummaryOptions on the chosen calibration.
 func (s *Server) summaryChoice(ctx context.Context, p *params) (summaryChoice, error) {
-	cal, err := s.calibration(ctx, p)
+	return readSummaryChoice(ctx, s.store, p)
+}
+
+// readSummaryChoice reads the summary's choices with the calibrations st lists.
+func readSummaryChoice(ctx context.Context, st calibrationLister, p *params) (summaryChoice, error) {
+	cal, err := readCalibration(ctx, st, p)
 	if err != nil {
 		return summaryChoice{}, err
 	}
