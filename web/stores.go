@@ -2,7 +2,6 @@ package web
 
 import (
 	"context"
-	"database/sql"
 
 	"coeval/store"
 	"coeval/web/analysis"
@@ -83,7 +82,7 @@ type accountStore interface {
 	Authenticate(ctx context.Context, name, password string) (store.User, error)
 	UserByID(ctx context.Context, id int64) (store.User, error)
 	UserByToken(ctx context.Context, token string) (store.User, error)
-	SQL() *sql.DB
+	sessionRows
 	ReadOnly() bool
 	CreateUser(ctx context.Context, name, role, password string) (store.User, error)
 	Users(ctx context.Context) ([]store.User, error)
