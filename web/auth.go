@@ -59,7 +59,7 @@ func currentUser(ctx context.Context) (store.User, bool) {
 
 func newSessions(st Store, log *slog.Logger, o options) *scs.SessionManager {
 	sm := scs.New()
-	sm.Store = newSessionStore(st.SQL(), st.ReadOnly(), log, o.sessionCleanup)
+	sm.Store = newSessionStore(st, st.ReadOnly(), log, o.sessionCleanup)
 	sm.Lifetime = 7 * 24 * time.Hour
 	sm.IdleTimeout = 24 * time.Hour
 	sm.Cookie.Name = "coeval_session"

@@ -606,7 +606,7 @@ func upbTracer(sums []unitSummary, dc densityChoice) (string, float64) {
 				}
 			}
 			c := sys
-			rel = math.Max(rel, c.tracerRelSigma(wt))
+			rel = math.Max(rel, tracerRelSigma(&c, wt))
 		}
 	}
 	if len(tracers) != 1 {

@@ -9,6 +9,7 @@ import (
 
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 func (s *Server) registerProvinceRoutes(r chi.Router) {
@@ -105,28 +106,17 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 	if err := p.err(); err != nil {
 		return err
 	}
-	prov, err := s.store.Province(ctx, id)
+	data, sums, err := analysis.SummarizeProvince(ctx, s.store, id, ch.options())
 	if err != nil {
 		return err
 	}
-	units, err := s.store.Units(ctx, id)
-	if err != nil {
-		return err
-	}
+	prov, units, ds := data.Province, data.Units, data.Dates
 	switch format {
 	case "csv":
 		return writeDownload(w, fmt.Sprintf("province-%d-units.csv", id), func(w io.Writer) error { return store.WriteUnitsCSV(w, units) })
 	case "json":
 		writeJSON(w, http.StatusOK, map[string]any{"province": prov, "units": units, "uncertainties": jsonSigmaNote})
 		return nil
-	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{ProvinceID: id})
-	if err != nil {
-		return err
-	}
-	sums, err := summarizeUnits(units, ds, ch)
-	if err != nil {
-		return err
 	}
 	d := views.Detail{Page: s.page(ctx, prov.Name, "Provinces"), Intro: prov.Description}
 	d.Page.Crumbs = []views.Link{{Label: "Provinces", URL: "/provinces"}}

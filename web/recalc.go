@@ -7,21 +7,11 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
-// statsCalibration maps a stored calibration to the numerics' one. A σ the store does not hold (NULL)
-// becomes 0, which stats reads as "contributes no systematic term".
-func statsCalibration(c store.Calibration) stats.Calibration {
-	sc := stats.Calibration{Code: c.Code, Name: c.Name, Source: c.Source, LambdaPerA: c.LambdaPerA,
-		MonitorName: c.Monitor, MonitorAgeMa: c.MonitorAgeMa, LambdaMonitorCorrelation: c.LambdaMonitorCorrelation}
-	if c.LambdaSigmaPerA != nil {
-		sc.LambdaSigmaPerA = *c.LambdaSigmaPerA
-	}
-	if c.MonitorSigmaMa != nil {
-		sc.MonitorSigmaMa = *c.MonitorSigmaMa
-	}
-	return sc
-}
+// statsCalibration maps a stored calibration to the numerics' one (analysis.CalibrationOf).
+func statsCalibration(c store.Calibration) stats.Calibration { return analysis.CalibrationOf(c) }
 
 // calChoice is the calibration a view recalculates ⁴⁰Ar/³⁹Ar dates to: the compilation's target unless
 // the URL chose another with cal=CODE.
@@ -44,7 +34,12 @@ func (c calChoice) label() string {
 // calibration reads cal=CODE against the stored calibrations (default: the target). An unknown code is
 // a problem of the URL. A compilation without a target uses the first calibration listed.
 func (s *Server) calibration(ctx context.Context, p *params) (calChoice, error) {
-	cals, err := s.store.Calibrations(ctx)
+	return readCalibration(ctx, s.store, p)
+}
+
+// readCalibration reads cal=CODE against the calibrations st lists (see Server.calibration).
+func readCalibration(ctx context.Context, st calibrationLister, p *params) (calChoice, error) {
+	cals, err := st.Calibrations(ctx)
 	if err != nil {
 		return calChoice{}, err
 	}
@@ -72,70 +67,22 @@ func (s *Server) calibration(ctx context.Context, p *params) (calChoice, error) 
 }
 
 // recalc is an ⁴⁰Ar/³⁹Ar date on the chosen calibration, 1σ.
-type recalc struct {
-	Applies bool   // the date is ⁴⁰Ar/³⁹Ar: calibrations matter
-	OK      bool   // it could be recalculated
-	Reason  string // why not, when Applies and not OK
-	stats.Recalculated
-}
+type recalc = analysis.Recalc
 
 // notRecalculable is what the pages and downloads say of an ⁴⁰Ar/³⁹Ar date without calibration details.
-const notRecalculable = "not recalculable: published without monitor age or decay constant — listed, not guessed"
+const notRecalculable = analysis.NotRecalculable
 
-// publishedCalibration is the calibration an ⁴⁰Ar/³⁹Ar date was published against, if it says.
-func publishedCalibration(d store.Date) (stats.Calibration, bool) {
-	if d.MonitorAgeMa == nil || d.LambdaPerA == nil {
-		return stats.Calibration{}, false
-	}
-	return stats.Calibration{Code: "published", Name: "as published", LambdaPerA: *d.LambdaPerA,
-		MonitorName: d.Monitor, MonitorAgeMa: *d.MonitorAgeMa}, true
-}
-
-// recalculate moves an ⁴⁰Ar/³⁹Ar date to the calibration to (stats.Recalculate: exact relation,
-// analytical σ through the ratio, full external σ with to's monitor and λ terms). Other methods do not
-// apply; dates without monitor details are not recalculable.
-func recalculate(d store.Date, to stats.Calibration) recalc {
-	if !store.IsArAr(d.Method) {
-		return recalc{}
-	}
-	from, ok := publishedCalibration(d)
-	if !ok {
-		return recalc{Applies: true, Reason: notRecalculable}
-	}
-	r, err := stats.Recalculate(d.AgeMa, d.SigmaMa, from, to)
-	if err != nil {
-		return recalc{Applies: true, Reason: "not recalculable: the published calibration or age is not usable"}
-	}
-	return recalc{Applies: true, OK: true, Recalculated: r}
-}
+// recalculate moves an ⁴⁰Ar/³⁹Ar date to the calibration to (analysis.Recalculate).
+func recalculate(d store.Date, to stats.Calibration) recalc { return analysis.Recalculate(d, to) }
 
 // missingSystematics says which systematic σ a calibration does not store ("" when it has both).
-func missingSystematics(c stats.Calibration) string {
-	switch {
-	case c.MonitorSigmaMa == 0 && c.LambdaSigmaPerA == 0:
-		return "this calibration stores no σ for its monitor age or decay constant, so its full external ± equals the analytical one"
-	case c.LambdaSigmaPerA == 0:
-		return "this calibration stores no σ for its decay constant, so the full external ± holds the monitor-age term only"
-	case c.MonitorSigmaMa == 0:
-		return "this calibration stores no σ for its monitor age, so the full external ± holds the decay-constant term only"
-	}
-	return ""
-}
+func missingSystematics(c stats.Calibration) string { return analysis.MissingSystematics(c) }
 
-// correlated reports whether a calibration's monitor age and decay constant both have a σ and are
-// correlated in its source (Renne et al. 2010, 2011), so that their covariance enters the full external σ.
-func correlated(c stats.Calibration) bool {
-	return c.LambdaMonitorCorrelation != 0 && c.MonitorSigmaMa > 0 && c.LambdaSigmaPerA > 0
-}
+// correlated reports whether a calibration's monitor age and decay constant are correlated in its source.
+func correlated(c stats.Calibration) bool { return analysis.Correlated(c) }
 
-// calTerms names the systematic terms of a calibration for a level's label: "monitor age and λ", with
-// their covariance when the source gives a correlation.
-func calTerms(c stats.Calibration) string {
-	if correlated(c) {
-		return fmt.Sprintf("monitor age and λ, with their covariance (correlation %.2f)", c.LambdaMonitorCorrelation)
-	}
-	return "monitor age and λ"
-}
+// calTerms names the systematic terms of a calibration for a level's label.
+func calTerms(c stats.Calibration) string { return analysis.CalTerms(c) }
 
 // calDrawn says how the comparison draws a calibration's terms.
 func calDrawn(c stats.Calibration, per string) string {

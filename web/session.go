@@ -3,12 +3,8 @@ package web
 import (
 	"bytes"
 	"context"
-	"database/sql"
-	"database/sql/driver"
-	"errors"
 	"log/slog"
 	"reflect"
-	"strconv"
 	"sync"
 	"time"
 
@@ -30,13 +26,23 @@ import (
 //   - on a database opened read-only every session change is kept in memory; sessions already in the
 //     table stay valid.
 type sessionStore struct {
-	db         *sql.DB
+	db         sessionRows
 	readOnly   bool
 	touchEvery time.Duration
 	log        *slog.Logger
 
 	mu  sync.Mutex
 	mem map[string]memSession
+}
+
+// sessionRows are the session rows of the database (store.DB's Session… methods).
+type sessionRows interface {
+	Session(ctx context.Context, token string) ([]byte, bool, error)
+	SessionBehind(ctx context.Context, token string, expiry time.Time) ([]byte, time.Duration, bool, error)
+	SaveSession(ctx context.Context, token string, data []byte, expiry time.Time) error
+	TouchSession(ctx context.Context, token string, expiry time.Time) error
+	DeleteSession(ctx context.Context, token string) error
+	DeleteExpiredSessions(ctx context.Context) error
 }
 
 // memSession is a session kept in memory; data nil marks one signed out while its row could not be
@@ -46,7 +52,7 @@ type memSession struct {
 	expiry time.Time
 }
 
-func newSessionStore(db *sql.DB, readOnly bool, log *slog.Logger, cleanup time.Duration) *sessionStore {
+func newSessionStore(db sessionRows, readOnly bool, log *slog.Logger, cleanup time.Duration) *sessionStore {
 	s := &sessionStore{db: db, readOnly: readOnly, touchEvery: 15 * time.Minute, log: log, mem: map[string]memSession{}}
 	if cleanup > 0 {
 		go func() {
@@ -57,9 +63,6 @@ func newSessionStore(db *sql.DB, readOnly bool, log *slog.Logger, cleanup time.D
 	}
 	return s
 }
-
-// julianFormat is how sqlite3store passes an expiry to julianday().
-const julianFormat = "2006-01-02T15:04:05.999"
 
 func (s *sessionStore) Find(token string) ([]byte, bool, error) {
 	return s.FindCtx(context.Background(), token)
@@ -81,15 +84,7 @@ func (s *sessionStore) FindCtx(ctx context.Context, token string) ([]byte, bool,
 		}
 		return m.data, true, nil
 	}
-	var b []byte
-	err := s.db.QueryRowContext(ctx, `SELECT data FROM sessions WHERE token = ? AND julianday('now') < expiry`, token).Scan(&b)
-	if errors.Is(err, sql.ErrNoRows) {
-		return nil, false, nil
-	}
-	if err != nil {
-		return nil, false, err
-	}
-	return b, true, nil
+	return s.db.Session(ctx, token)
 }
 
 func (s *sessionStore) CommitCtx(ctx context.Context, token string, b []byte, expiry time.Time) error {
@@ -101,24 +96,20 @@ func (s *sessionStore) CommitCtx(ctx context.Context, token string, b []byte, ex
 		return nil
 	}
 	s.mu.Unlock()
-	var stored []byte
-	var behindDays float64
-	err := s.db.QueryRowContext(ctx, `SELECT data, julianday(?) - expiry FROM sessions WHERE token = ?`,
-		expiry.UTC().Format(julianFormat), token).Scan(&stored, &behindDays)
-	if err != nil && !errors.Is(err, sql.ErrNoRows) {
+	stored, behind, found, err := s.db.SessionBehind(ctx, token, expiry)
+	if err != nil {
 		return err
 	}
-	if err == nil && sameSession(stored, b) {
-		if behindDays*24*float64(time.Hour) < float64(s.touchEvery) {
+	if found && sameSession(stored, b) {
+		if behind < s.touchEvery {
 			return nil
 		}
-		if err := s.touch(ctx, token, expiry); err != nil {
+		if err := s.db.TouchSession(ctx, token, expiry); err != nil {
 			s.log.Info("session expiry not moved on (the database cannot take it now)", "err", err)
 		}
 		return nil
 	}
-	_, err = s.db.ExecContext(ctx, `REPLACE INTO sessions (token, data, expiry) VALUES (?, ?, julianday(?))`,
-		token, b, expiry.UTC().Format(julianFormat))
+	err = s.db.SaveSession(ctx, token, b, expiry)
 	if store.IsUnwritable(err) {
 		s.log.Warn("session kept in memory: the database cannot be written", "err", err)
 		s.mu.Lock()
@@ -141,28 +132,6 @@ func sameSession(a, b []byte) bool {
 	return errA == nil && errB == nil && da.Equal(db) && reflect.DeepEqual(va, vb)
 }
 
-// touch moves a stored session's expiry on if the write lock is free at once; it never waits.
-func (s *sessionStore) touch(ctx context.Context, token string, expiry time.Time) error {
-	conn, err := s.db.Conn(ctx)
-	if err != nil {
-		return err
-	}
-	defer conn.Close()
-	var timeout int
-	if err := conn.QueryRowContext(ctx, `PRAGMA busy_timeout`).Scan(&timeout); err != nil {
-		return err
-	}
-	if _, err := conn.ExecContext(ctx, `PRAGMA busy_timeout = 0`); err != nil {
-		return err
-	}
-	_, err = conn.ExecContext(ctx, `UPDATE sessions SET expiry = julianday(?) WHERE token = ?`, expiry.UTC().Format(julianFormat), token)
-	if _, rerr := conn.ExecContext(context.WithoutCancel(ctx), `PRAGMA busy_timeout = `+strconv.Itoa(timeout)); rerr != nil {
-		// The connection would wait for no lock from now on: drop it from the pool.
-		conn.Raw(func(any) error { return driver.ErrBadConn })
-	}
-	return err
-}
-
 func (s *sessionStore) DeleteCtx(ctx context.Context, token string) error {
 	s.mu.Lock()
 	m, inMem := s.mem[token]
@@ -176,7 +145,7 @@ func (s *sessionStore) DeleteCtx(ctx context.Context, token string) error {
 		tombstone()
 		return nil
 	}
-	_, err := s.db.ExecContext(ctx, `DELETE FROM sessions WHERE token = ?`, token)
+	err := s.db.DeleteSession(ctx, token)
 	if store.IsUnwritable(err) {
 		tombstone()
 		return nil
@@ -197,7 +166,7 @@ func (s *sessionStore) deleteExpired() {
 	if s.readOnly {
 		return
 	}
-	if _, err := s.db.Exec(`DELETE FROM sessions WHERE expiry < julianday('now')`); err != nil {
+	if err := s.db.DeleteExpiredSessions(context.Background()); err != nil {
 		s.log.Info("expired sessions not deleted", "err", err)
 	}
 }

@@ -40,7 +40,7 @@ func TestSessionKeptInMemoryWhenTheDiskIsFull(t *testing.T) {
 	}
 	var before int
 	db.SQL().QueryRowContext(ctx, `SELECT count(*) FROM sessions`).Scan(&before)
-	s := newSessionStore(db.SQL(), false, slog.New(slog.NewTextHandler(io.Discard, nil)), 0)
+	s := newSessionStore(db, false, slog.New(slog.NewTextHandler(io.Discard, nil)), 0)
 	data := []byte(strings.Repeat("session data ", 400))
 	if err := s.CommitCtx(ctx, "new-token", data, time.Now().Add(time.Hour)); err != nil {
 		t.Fatalf("a new session on a full disk: %v", err)

@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"coeval/store"
+	"coeval/web/analysis"
 )
 
 // The unit summary downloads (/provinces/{id}/summary and /units/{id}/summary, format=csv or json) hold
@@ -180,62 +181,49 @@ func writeSummary(w http.ResponseWriter, format, name string, sums []unitSummary
 }
 
 func (s *Server) handleProvinceSummary(w http.ResponseWriter, r *http.Request) error {
-	ctx := r.Context()
+	return summaryDownload{s.store}.province(w, r)
+}
+
+func (s *Server) handleUnitSummary(w http.ResponseWriter, r *http.Request) error {
+	return summaryDownload{s.store}.unit(w, r)
+}
+
+// summaryDownload serves the summary downloads from what it reads of st alone.
+type summaryDownload struct{ st summaryStore }
+
+// choices reads the record's id and the download's choices (format=csv|json and the summary's).
+func (d summaryDownload) choices(r *http.Request) (int64, string, summaryChoice, error) {
 	id, err := pathID(r, "id")
 	if err != nil {
-		return err
+		return 0, "", summaryChoice{}, err
 	}
 	p := newParams(r)
 	format := p.oneOf("format", []string{"csv", "json"}, "csv")
-	ch, err := s.summaryChoice(ctx, p)
+	ch, err := readSummaryChoice(r.Context(), d.st, p)
+	if err != nil {
+		return 0, "", summaryChoice{}, err
+	}
+	return id, format, ch, p.err()
+}
+
+func (d summaryDownload) province(w http.ResponseWriter, r *http.Request) error {
+	id, format, ch, err := d.choices(r)
 	if err != nil {
 		return err
 	}
-	if err := p.err(); err != nil {
-		return err
-	}
-	if _, err := s.store.Province(ctx, id); err != nil {
-		return err
-	}
-	units, err := s.store.Units(ctx, id)
-	if err != nil {
-		return err
-	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{ProvinceID: id, Sort: "-age"})
-	if err != nil {
-		return err
-	}
-	sums, err := summarizeUnits(units, ds, ch)
+	_, sums, err := analysis.SummarizeProvince(r.Context(), d.st, id, ch.options())
 	if err != nil {
 		return err
 	}
 	return writeSummary(w, format, fmt.Sprintf("province-%d-unit-summaries", id), sums, ch)
 }
 
-func (s *Server) handleUnitSummary(w http.ResponseWriter, r *http.Request) error {
-	ctx := r.Context()
-	id, err := pathID(r, "id")
+func (d summaryDownload) unit(w http.ResponseWriter, r *http.Request) error {
+	id, format, ch, err := d.choices(r)
 	if err != nil {
 		return err
 	}
-	p := newParams(r)
-	format := p.oneOf("format", []string{"csv", "json"}, "csv")
-	ch, err := s.summaryChoice(ctx, p)
-	if err != nil {
-		return err
-	}
-	if err := p.err(); err != nil {
-		return err
-	}
-	u, err := s.store.Unit(ctx, id)
-	if err != nil {
-		return err
-	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{UnitID: id, Sort: "-age"})
-	if err != nil {
-		return err
-	}
-	us, err := summarizeUnit(u, datePointers(ds), ch)
+	_, us, err := analysis.SummarizeUnitByID(r.Context(), d.st, id, ch.options())
 	if err != nil {
 		return err
 	}

@@ -7,6 +7,7 @@ import (
 
 	"coeval/stats"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // levelNames are the URL values of level= with what they mean.
@@ -28,7 +29,7 @@ func summaryForm(action string, ch summaryChoice) *views.Form {
 	sig := views.Field{Name: "sigma", Label: "σ level", Kind: "select", Options: []views.Option{
 		opt("1", "1σ", fmt.Sprint(ch.Sigma)), opt("2", "2σ", fmt.Sprint(ch.Sigma))}}
 	pol := views.Field{Name: "policy", Label: "Overdispersion", Kind: "select"}
-	for _, p := range policies {
+	for _, p := range analysis.Policies() {
 		pol.Options = append(pol.Options, opt(p.Code, p.Label, ch.PolicyCode))
 	}
 	rule := views.Field{Name: "rule", Label: "Outlier flags", Kind: "select", Options: []views.Option{
@@ -37,11 +38,11 @@ func summaryForm(action string, ch summaryChoice) *views.Form {
 		opt("chauvenet", "Chauvenet (unweighted)", ch.Rule.String()),
 		opt("gesd", "generalized ESD (unweighted)", ch.Rule.String())}}
 	inc := views.Field{Name: "include", Label: "Dates", Kind: "select"}
-	for _, i := range includes {
+	for _, i := range analysis.IncludeChoices() {
 		inc.Options = append(inc.Options, opt(i.Code, i.Label, ch.Include))
 	}
 	rng := views.Field{Name: "mswd_range", Label: "MSWD range", Kind: "select"}
-	for _, m := range mswdRanges {
+	for _, m := range analysis.MSWDRanges() {
 		rng.Options = append(rng.Options, opt(m.Rule.String(), m.Label, ch.Range.String()))
 	}
 	return &views.Form{Action: action, Reset: action, Fields: []views.Field{calibrationField(ch.Cal), level, sig, pol, rule, rng, inc}}
@@ -66,7 +67,7 @@ func mswdRangeText(rule stats.MSWDRangeRule) string {
 }
 
 func policyLabel(code string) string {
-	for _, p := range policies {
+	for _, p := range analysis.Policies() {
 		if p.Code == code {
 			return p.Label
 		}

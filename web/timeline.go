@@ -7,19 +7,20 @@ import (
 	"net/http"
 	"net/url"
 	"slices"
-	"strconv"
+	"strings"
 
 	"github.com/go-chi/chi/v5"
 
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // The eruptive history of a province as a density through time: what is counted (one value per unit,
 // its weighted mean from the unit summaries, or every date), the KDE with its bandwidth rule, its
 // bootstrap band, the pulses with their uncertain edges, and an optional PDP. Every choice is in the
-// URL (densityChoice); the numerics are stats'.
+// URL (densityChoice); the pipeline is analysis.ProvinceDensity, the numerics are stats'.
 
 func (s *Server) registerTimelineRoutes(r chi.Router) {
 	r.Get("/provinces/{id}/timeline", s.handle(s.handleTimeline))
@@ -42,356 +43,147 @@ func timelineURL(r *http.Request, id int64) string {
 	return u
 }
 
-// densityChoice is every choice of the density and its figure, read from the URL.
+// densityChoice is every choice of the density and its figure, read from the URL; options() is what the
+// analysis gets.
 type densityChoice struct {
 	stop     func() error        // asked between replicates: the request's context's Err (nil: never stops)
 	Sum      summaryChoice       // cal, level, sigma, policy, rule, include: how unit means are made
-	Count    string              // count=unit|date (default unit)
-	Weight   string              // weight=none|volume (default none)
-	Rule     stats.BandwidthRule // bw=isj|scott|silverman|silverman-robust|user (default isj)
+	Count    string              // count=unit|date
+	Weight   string              // weight=none|volume
+	Rule     stats.BandwidthRule // bw=isj|scott|silverman|silverman-robust|user
 	UserHMa  float64             // h= (Ma), with bw=user
 	Adaptive bool                // adaptive=1: Abramson's per-value bandwidths, the rule's h as pilot
 	PDP      bool                // pdp=1: draw the PDP too
 	FromMa   *float64            // from=, to=: the age window in Ma (either order; either may be left out)
 	ToMa     *float64
-	Seed     uint64 // seed= (default 1)
-	Reps     int    // reps= bootstrap replicates (default 1000)
-	BWEach   bool   // bw_each=1: the rule applied afresh in every replicate (closed-form rules only: see densityChoice)
+	Seed     uint64 // seed=
+	Reps     int    // reps= bootstrap replicates
+	BWEach   bool   // bw_each=1: the rule applied afresh in every replicate (closed-form rules only)
 	Format   string // format=html|svg|png|pdf|csv|json
 	Table    string // table=pulses|density|values, for format=csv
 }
 
-const (
-	defaultSeed = 1
-	defaultReps = 1000
-	maxReps     = 10000
-	// minPoints and maxPoints bound the density grid; between them it has 8 points per bandwidth (or
-	// per smallest σ of a PDP), enough for a smooth curve and no more: every bootstrap replicate is
-	// evaluated on it.
-	minPoints = 256
-	maxPoints = 2048
+// The density's results, as the pages and downloads name them.
+type (
+	densityResult = analysis.Density
+	densityValue  = analysis.DensityValue
 )
 
-// densityPoints is the number of grid points over a window of spanMa for a bandwidth hMa.
-func densityPoints(spanMa, hMa float64, ch densityChoice, sigmas []float64) int {
-	finest := hMa
-	if ch.PDP {
-		finest = math.Min(finest, slices.Min(sigmas))
-	}
-	n := int(math.Ceil(8 * spanMa / finest))
-	return min(max(n, minPoints), maxPoints)
-}
+// densityParams names the URL parameter of each density option, for the 400 page of an unusable one.
+var densityParams = map[string]string{"Count": "count", "Weight": "weight", "Rule": "bw", "UserHMa": "h",
+	"FromMa": "from", "ToMa": "to", "Window": "from, to", "BWEach": "bw_each", "Reps": "reps", "Seed": "seed",
+	"Level": "level", "Policy": "policy", "Include": "include", "Range": "mswd_range"}
+
+// densityParamOrder is the order the timeline's parameters are read in, and their problems listed in.
+var densityParamOrder = []string{"cal", "sigma", "level", "rule", "policy", "include", "mswd_range", "format", "table",
+	"count", "weight", "bw", "h", "adaptive", "pdp", "from", "to", "from, to", "bw_each", "seed", "reps"}
+
+// The bootstrap's replicates by default and at most (the limits of visitors' computations use them).
+const (
+	defaultReps = analysis.DefaultReps
+	maxReps     = analysis.MaxReps
+)
 
 var bandwidthRules = []string{"isj", "scott", "silverman", "silverman-robust", "user"}
 
 func onOff(p *params, name string) bool { return p.oneOf(name, []string{"0", "1"}, "0") == "1" }
 
+// densityChoice reads the density's choices: what the URL leaves out is analysis' DefaultDensityOptions,
+// and the options that cannot be used are analysis' Validate's, under their parameters' names.
 func (s *Server) densityChoice(ctx context.Context, p *params) (densityChoice, error) {
 	sum, err := s.summaryChoice(ctx, p)
 	if err != nil {
 		return densityChoice{}, err
 	}
+	def := analysis.DefaultDensityOptions(sum.Cal.Stats)
 	ch := densityChoice{Sum: sum}
 	ch.Format = p.oneOf("format", []string{"html", "svg", "png", "pdf", "csv", "json"}, "html")
 	ch.Table = p.oneOf("table", []string{"pulses", "density", "values"}, "pulses")
-	ch.Count = p.oneOf("count", []string{"unit", "date"}, "unit")
-	ch.Weight = p.oneOf("weight", []string{"none", "volume"}, "none")
-	ch.Rule, _ = stats.ParseBandwidthRule(p.oneOf("bw", bandwidthRules, "isj"))
+	ch.Count = p.oneOf("count", []string{analysis.CountUnit, analysis.CountDate}, def.Count)
+	ch.Weight = p.oneOf("weight", []string{analysis.WeightNone, analysis.WeightVolume}, def.Weight)
+	ch.Rule, _ = stats.ParseBandwidthRule(p.oneOf("bw", bandwidthRules, def.Rule.String()))
 	h := p.optFloat("h", "a bandwidth in Ma")
 	if ch.Rule == stats.RuleUser {
-		switch {
-		case h == nil:
+		if h == nil {
 			p.problems = append(p.problems, "h: bw=user needs a bandwidth h in Ma (a number > 0)")
-		case !(*h > 0):
-			p.problems = append(p.problems, fmt.Sprintf("h: want a bandwidth in Ma > 0, got %s", num(*h)))
-		default:
+			ch.UserHMa = math.NaN() // not a bandwidth: Validate must not add its own problem of h
+		} else {
 			ch.UserHMa = *h
 		}
 	}
 	ch.Adaptive = onOff(p, "adaptive")
 	ch.PDP = onOff(p, "pdp")
-	for _, w := range []struct {
-		name string
-		dst  **float64
-	}{{"from", &ch.FromMa}, {"to", &ch.ToMa}} {
-		v := p.optFloat(w.name, "an age in Ma")
-		if v != nil && (*v < 0 || *v > 4600) {
-			p.problems = append(p.problems, fmt.Sprintf("%s: want an age in Ma from 0 to 4600, got %s", w.name, num(*v)))
-			v = nil
-		}
-		*w.dst = v
-	}
-	if ch.FromMa != nil && ch.ToMa != nil && *ch.FromMa == *ch.ToMa {
-		p.problems = append(p.problems, "from, to: the window needs two different ages")
-	}
-	// bw_each=1 lets the band carry the bandwidth's own uncertainty. ISJ is refused there: its root search
-	// on a 2¹⁴-point grid costs milliseconds, seconds over a page's replicates.
+	ch.FromMa = p.optFloat("from", "an age in Ma")
+	ch.ToMa = p.optFloat("to", "an age in Ma")
 	ch.BWEach = onOff(p, "bw_each")
-	if ch.BWEach && (ch.Rule == stats.RuleISJ || ch.Rule == stats.RuleUser) {
-		p.problems = append(p.problems, fmt.Sprintf("bw_each: re-estimating the bandwidth in every replicate needs bw=scott, silverman or silverman-robust, not %s (ISJ in every replicate would take seconds; a set h has nothing to re-estimate)", ch.Rule))
+	ch.Seed = uint64(p.int("seed", int(def.Seed), 0, math.MaxInt32))
+	ch.Reps = p.int("reps", def.Reps, analysis.MinReps, analysis.MaxReps)
+	for _, e := range analysis.AsOptionErrors(ch.options().Validate()) {
+		if e.Option == "UserHMa" && math.IsNaN(ch.UserHMa) {
+			continue // said above, in the URL's terms
+		}
+		p.problems = append(p.problems, optionProblem(e, densityParams))
 	}
-	ch.Seed = uint64(p.int("seed", defaultSeed, 0, math.MaxInt32))
-	ch.Reps = p.int("reps", defaultReps, 100, maxReps)
+	sortProblems(p.problems, densityParamOrder)
 	return ch, nil
 }
 
-// densityValue is one value counted in the density: a unit's weighted mean, or one date.
-type densityValue struct {
-	UnitID  int64   `json:"unit_id"`
-	Unit    string  `json:"unit"`
-	DateIDs []int64 `json:"date_ids"`
-	Sample  string  `json:"sample_code,omitempty"` // count=date
-	System  string  `json:"system"`
-	AgeMa   float64 `json:"age_ma"`
-	Sigma1s float64 `json:"sigma_ma_1s"`
-	Weight  float64 `json:"weight"`
-	N       int     `json:"n_dates"`
-	// Random1s is the part of Sigma1s that is the value's own (the bootstrap's jitter); syst and cal
-	// are the components the level puts in common with other values, drawn once per replicate.
-	Random1s float64            `json:"-"`
-	syst     []stats.Systematic `json:"-"`
-	cal      *stats.Calibration `json:"-"`
+// options are the analysis options the choice stands for.
+func (ch densityChoice) options() analysis.DensityOptions {
+	return analysis.DensityOptions{Summary: ch.Sum.options(), Count: ch.Count, Weight: ch.Weight, Rule: ch.Rule, UserHMa: ch.UserHMa,
+		Adaptive: ch.Adaptive, PDP: ch.PDP, FromMa: ch.FromMa, ToMa: ch.ToMa, Seed: ch.Seed, Reps: ch.Reps, BWEach: ch.BWEach,
+		WindowSigmas: float64(ch.Sum.Sigma), Stop: ch.stop}
 }
 
-// withParts sets the value's random 1σ and the components its level shares with other values: at the
-// tracer level a U–Pb value's tracer (when its dates name one), at full also λ238, and an ⁴⁰Ar/³⁹Ar
-// value's calibration. A term the level includes but no component names (a tracer not named, a system
-// without stored components) stays in the value's own σ. analytical is the value's analytical 1σ.
-func (v densityValue) withParts(sys *systemSummary, analytical float64, ch summaryChoice) densityValue {
-	v.Random1s = v.Sigma1s
-	switch {
-	case ch.Level == stats.Analytical:
-		v.Random1s = analytical
-	case sys.Key == "upb":
-		tracer := sys.tracerName()
-		v.Random1s = analytical
-		if tracer == "" {
-			v.Random1s = math.Hypot(analytical, sys.TracerRel*v.AgeMa)
-		}
-		syst := stats.UPbSystematics(tracer, sys.TracerRel)
-		if ch.Level == stats.WithTracer {
-			syst = slices.DeleteFunc(syst, func(s stats.Systematic) bool { return s.Key == stats.KeyLambda238 })
-		}
-		v.syst = syst
-	case sys.Key == "arar" && ch.Level == stats.FullExternal:
-		cal := ch.Cal.Stats
-		v.Random1s, v.cal = analytical, &cal
-	case sys.Key == "arar":
-		v.Random1s = analytical
+// optionProblem is an analysis option's problem under its URL parameter's name.
+func optionProblem(e *analysis.OptionError, names map[string]string) string {
+	name, ok := names[e.Option]
+	if !ok {
+		name = e.Option
 	}
-	return v
+	return name + ": " + e.Problem
 }
 
-// sharedComponents gathers the values' components, one per key with the values that carry it (the
-// largest σ where two values describe one key differently).
-func sharedComponents(vals []densityValue) []stats.SharedComponent {
-	return stats.GatherShared(len(vals), func(i int) ([]stats.Systematic, *stats.Calibration) { return vals[i].syst, vals[i].cal })
-}
-
-// densityResult is the density of a province and what went into it.
-type densityResult struct {
-	Values    []densityValue
-	Left      []string // what was left out of the count, and why
-	NoVolume  []string // units without a volume (weight=volume leaves them out)
-	SetAside  map[int64]string
-	Bandwidth stats.Bandwidth
-	Band      *stats.DensityBand // nil when there is no density
-	PDP       *stats.Density
-	Pulses    []stats.PulseSummary
-	Shared    []stats.SharedComponent // drawn once per bootstrap replicate
-	MinMa     float64
-	MaxMa     float64
-	Message   string // why there is no density, when there is none
-}
-
-// countedValues collects what the density counts from the unit summaries.
-func countedValues(sums []unitSummary, ch densityChoice, res *densityResult) {
-	res.SetAside = map[int64]string{}
-	for _, us := range sums {
-		u := us.Unit
-		var vals []densityValue
-		if ch.Count == "unit" {
-			first := -1
-			for i, sys := range us.Systems {
-				if sys.Computed && first < 0 {
-					first = i
-				} else if sys.Computed {
-					res.SetAside[u.ID] = sys.Key
-					res.Left = append(res.Left, fmt.Sprintf("%s: its %s mean is set aside; the %s mean is counted (one value per unit, first in the order U–Pb, ⁴⁰Ar/³⁹Ar, K–Ar, Re–Os)",
-						u.Name, sys.Label, us.Systems[first].Label))
-				}
-			}
-			if first < 0 {
-				if len(us.Systems) > 0 {
-					res.Left = append(res.Left, u.Name+": no date enters a mean (see the unit summaries)")
-				}
-				continue
-			}
-			sys := us.Systems[first]
-			v := densityValue{UnitID: u.ID, Unit: u.Name, System: sys.Label, AgeMa: sys.All.MeanMa, Sigma1s: sys.All.Sigma1s, N: sys.All.N, Weight: 1}
-			v = v.withParts(&sys, sys.Report.All.SigmaReported, ch.Sum)
-			for _, e := range sys.Entries {
-				v.DateIDs = append(v.DateIDs, e.D.ID)
-			}
-			vals = append(vals, v)
-		} else {
-			for _, sys := range us.Systems {
-				for _, e := range sys.Entries {
-					vals = append(vals, densityValue{UnitID: u.ID, Unit: u.Name, DateIDs: []int64{e.D.ID}, Sample: e.D.SampleCode,
-						System: sys.Label, AgeMa: e.AgeMa, Sigma1s: e.Sigma1s, N: 1, Weight: 1}.withParts(&sys, e.Sigma1s, ch.Sum))
-				}
-			}
-		}
-		if len(vals) == 0 {
-			continue
-		}
-		if u.VolumeKm3 == nil {
-			res.NoVolume = append(res.NoVolume, u.Name)
-		}
-		if ch.Weight == "volume" {
-			if u.VolumeKm3 == nil {
-				continue
-			}
-			for i := range vals {
-				vals[i].Weight = *u.VolumeKm3 / float64(len(vals)) // a unit's volume shared among its dates
-			}
-		}
-		res.Values = append(res.Values, vals...)
+// optionBadRequest turns the option problems of an analysis into the 400 of the address's parameters;
+// other errors pass unchanged.
+func optionBadRequest(err error, names map[string]string) error {
+	es := analysis.AsOptionErrors(err)
+	if es == nil {
+		return err
 	}
+	var problems []string
+	for _, e := range es {
+		problems = append(problems, optionProblem(e, names))
+	}
+	return badRequest{message: "This address has parameters that cannot be used. Fix them and reload:", problems: problems}
 }
 
-// computeDensity counts the values and, when there are at least two with a positive total weight, computes
-// the KDE on the window with its bootstrap band, the pulses and, if asked, the PDP. dateBars are the
-// extents of the drawn dates (ages ± their σ at the shown level), so the automatic window holds them.
+// sortProblems orders problems ("name: …") by their parameter's place in order, keeping the order of
+// those of one parameter and putting unnamed ones last.
+func sortProblems(problems []string, order []string) {
+	rank := func(s string) int {
+		for i, name := range order {
+			if strings.HasPrefix(s, name+": ") {
+				return i
+			}
+		}
+		return len(order)
+	}
+	slices.SortStableFunc(problems, func(a, b string) int { return rank(a) - rank(b) })
+}
+
+// computeDensity computes the density of the summaries with the URL's choices (analysis.ComputeDensity);
+// an empty window is a 400 of from and to.
 func computeDensity(sums []unitSummary, ch densityChoice, dateBars [][2]float64) (densityResult, error) {
-	var res densityResult
-	countedValues(sums, ch, &res)
-	ages := make([]float64, len(res.Values))
-	sigmas := make([]float64, len(res.Values))
-	var weights []float64
-	total := 0.0
-	for i, v := range res.Values {
-		ages[i], sigmas[i] = v.AgeMa, v.Sigma1s
-		total += v.Weight
-	}
-	if ch.Weight == "volume" {
-		weights = make([]float64, len(res.Values))
-		for i, v := range res.Values {
-			weights[i] = v.Weight
-		}
-	}
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, b := range dateBars {
-		lo, hi = math.Min(lo, b[0]), math.Max(hi, b[1])
-	}
-	switch {
-	case len(res.Values) < 2:
-		res.Message = fmt.Sprintf("No density: it needs at least two values to count, and there are %d.", len(res.Values))
-	case !(total > 0):
-		res.Message = "No density: the units counted have a total volume of 0 km³."
-	}
-	if res.Message == "" {
-		bwOpts := stats.BandwidthOptions{Rule: ch.Rule, UserMa: ch.UserHMa}
-		bw, err := stats.SelectBandwidth(ages, bwOpts)
-		if err != nil {
-			return res, fmt.Errorf("density bandwidth: %w", err)
-		}
-		res.Bandwidth = bw
-		pad := 4 * bw.Ma
-		if ch.Adaptive {
-			hs, _, err := stats.AbramsonBandwidthsMa(ages, weights, bw.Ma)
-			if err != nil {
-				return res, fmt.Errorf("adaptive bandwidths: %w", err)
-			}
-			pad = 4 * slices.Max(hs)
-		}
-		if ch.PDP {
-			pad = math.Max(pad, 4*slices.Max(sigmas))
-		}
-		lo, hi = math.Min(lo, slices.Min(ages)-pad), math.Max(hi, slices.Max(ages)+pad)
-	}
-	if math.IsInf(lo, 0) { // nothing to draw at all
-		lo, hi = 0, 1
-	}
-	if hi-lo < 1e-6 {
-		lo, hi = lo-0.5, hi+0.5
-	}
-	margin := 0.02 * (hi - lo)
-	res.MinMa, res.MaxMa = lo-margin, hi+margin
-	if ch.FromMa != nil || ch.ToMa != nil {
-		a, b := res.MinMa, res.MaxMa
-		if ch.FromMa != nil && ch.ToMa != nil {
-			a, b = min(*ch.FromMa, *ch.ToMa), max(*ch.FromMa, *ch.ToMa)
-		} else {
-			v := *cmpOr(ch.FromMa, ch.ToMa)
-			// One end given: it replaces the nearer automatic end.
-			if math.Abs(v-a) < math.Abs(v-b) {
-				a = v
-			} else {
-				b = v
-			}
-		}
-		if !(b > a) {
-			return res, badRequest{message: "This address has parameters that cannot be used. Fix them and reload:",
-				problems: []string{fmt.Sprintf("from, to: the window %s–%s Ma is empty", num(a), num(b))}}
-		}
-		res.MinMa, res.MaxMa = a, b
-	}
-	if res.Message != "" {
-		return res, nil
-	}
-	grid := stats.AgeGrid{MinMa: res.MinMa, MaxMa: res.MaxMa, Points: densityPoints(res.MaxMa-res.MinMa, res.Bandwidth.Ma, ch, sigmas)}
-	// The bandwidth chosen above, handed on as set: the rule is not run twice (ISJ is the costly one),
-	// and the replicates keep the reference h. With bw_each=1 the (closed-form) rule goes to the
-	// bootstrap instead, which gives the reference the same h and applies the rule to every replicate.
-	bandBW := stats.BandwidthOptions{Rule: stats.RuleUser, UserMa: res.Bandwidth.Ma}
-	if ch.BWEach {
-		bandBW = stats.BandwidthOptions{Rule: ch.Rule}
-	}
-	// The bootstrap jitters each value by its own random part and draws the shared components once per
-	// replicate, so a decay constant or tracer common to many units moves them together.
-	randoms := make([]float64, len(res.Values))
-	for i, v := range res.Values {
-		randoms[i] = v.Random1s
-	}
-	res.Shared = sharedComponents(res.Values)
-	band, err := stats.BootstrapBand(ages, randoms, stats.BandOptions{
-		KDE:        stats.KDEOptions{Bandwidth: bandBW, Adaptive: ch.Adaptive, Weight: weights, Grid: grid},
-		Replicates: ch.Reps, Seed: ch.Seed, ReestimateBandwidth: ch.BWEach, Shared: res.Shared, Stop: ch.stop})
-	if err != nil {
-		return res, fmt.Errorf("density band: %w", err)
-	}
-	res.Band = &band
-	res.Pulses, err = stats.BootstrapPulses(band, stats.PulseOptions{})
-	if err != nil {
-		return res, fmt.Errorf("pulses: %w", err)
-	}
-	if ch.PDP {
-		pdp, err := stats.PDP(ages, sigmas, stats.PDPOptions{Weight: weights, Grid: grid})
-		if err != nil {
-			return res, fmt.Errorf("pdp: %w", err)
-		}
-		res.PDP = &pdp
-	}
-	return res, nil
-}
-
-func cmpOr(a, b *float64) *float64 {
-	if a != nil {
-		return a
-	}
-	return b
+	res, err := analysis.ComputeDensity(sums, ch.options(), dateBars)
+	return res, optionBadRequest(err, densityParams)
 }
 
 // pulseName numbers pulses from the oldest: P1 is the first eruptive pulse.
-func pulseName(i int) string { return "P" + strconv.Itoa(i+1) }
+func pulseName(i int) string { return analysis.PulseName(i) }
 
 // oldestFirst returns the pulses oldest first (stats gives them youngest first).
-func oldestFirst(ps []stats.PulseSummary) []stats.PulseSummary {
-	out := slices.Clone(ps)
-	slices.Reverse(out)
-	return out
-}
+func oldestFirst(ps []stats.PulseSummary) []stats.PulseSummary { return analysis.OldestFirst(ps) }
 
 // ruleText describes the bandwidth as chosen: rule, h, and the fallback if one happened.
 func ruleText(res densityResult, ch densityChoice) string {
@@ -405,22 +197,11 @@ func ruleText(res densityResult, ch densityChoice) string {
 	return fmt.Sprintf("%s h = %s Ma, %s", kind, fixed(h.Ma, dec), h.Rule.Label())
 }
 
-// timelineProvince loads what the timeline of a province needs.
-func (s *Server) timelineData(ctx context.Context, id int64, ch densityChoice) (store.Province, []unitSummary, error) {
-	prov, err := s.store.Province(ctx, id)
-	if err != nil {
-		return prov, nil, err
-	}
-	units, err := s.store.Units(ctx, id)
-	if err != nil {
-		return prov, nil, err
-	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{ProvinceID: id})
-	if err != nil {
-		return prov, nil, err
-	}
-	sums, err := summarizeUnits(units, ds, ch.Sum)
-	return prov, sums, err
+// timeline reads a province's units and dates in one snapshot and computes their density with the
+// URL's choices.
+func (s *Server) timeline(ctx context.Context, id int64, ch densityChoice) (analysis.Timeline, error) {
+	tl, err := analysis.ProvinceDensity(ctx, s.store, id, ch.options())
+	return tl, optionBadRequest(err, densityParams)
 }
 
 func (s *Server) handleTimeline(w http.ResponseWriter, r *http.Request) error {
@@ -437,14 +218,11 @@ func (s *Server) handleTimeline(w http.ResponseWriter, r *http.Request) error {
 	if err := p.err(); err != nil {
 		return err
 	}
-	prov, sums, err := s.timelineData(ctx, id, ch)
+	tl, err := s.timeline(ctx, id, ch)
 	if err != nil {
 		return err
 	}
-	res, err := computeDensity(sums, ch, dateBars(sums, ch))
-	if err != nil {
-		return err
-	}
+	prov, sums, res := tl.Data.Province, tl.Summaries, tl.Density
 	rows := figureRows(sums, ch, res)
 	chart, err := icsChart()
 	if err != nil {
@@ -516,14 +294,11 @@ func (s *Server) handlePulsesSave(w http.ResponseWriter, r *http.Request) error 
 	if err := p.err(); err != nil {
 		return err
 	}
-	_, sums, err := s.timelineData(ctx, id, ch)
+	tl, err := s.timeline(ctx, id, ch)
 	if err != nil {
 		return err
 	}
-	res, err := computeDensity(sums, ch, dateBars(sums, ch))
-	if err != nil {
-		return err
-	}
+	res := tl.Density
 	if len(res.Pulses) == 0 {
 		return badRequest{message: "No pulse was found with these choices, so there is nothing to save."}
 	}

@@ -12,21 +12,30 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // dateBars are the extents (age ± σ at the shown level) of every date that enters a summary, so the
 // automatic window of the figure holds all of them.
 func dateBars(sums []unitSummary, ch densityChoice) [][2]float64 {
-	var out [][2]float64
-	k := float64(ch.Sum.Sigma)
-	for _, us := range sums {
-		for _, sys := range us.Systems {
-			for _, e := range sys.Entries {
-				out = append(out, [2]float64{e.AgeMa - k*e.Sigma1s, e.AgeMa + k*e.Sigma1s})
-			}
-		}
+	return analysis.DateBars(sums, float64(ch.Sum.Sigma))
+}
+
+// figureDateStatus says whether a date entering its unit's system mean (label) is counted in the density,
+// and if not, why: its unit has no volume, or (one value per unit) its system's mean is set aside for the
+// mean of the system counted.
+func figureDateStatus(ch densityChoice, label string, counted, noVolume bool, countedSystem string) string {
+	switch {
+	case counted && ch.Count == "unit":
+		return "in the " + label + " mean counted in the density"
+	case counted:
+		return "counted in the density"
+	case noVolume && ch.Weight == "volume":
+		return "not counted: the unit has no volume (weight=volume)"
+	case ch.Count == "unit":
+		return "not counted: the unit's " + label + " mean is set aside for its " + countedSystem + " mean"
 	}
-	return out
+	return "not counted"
 }
 
 // figureRows draws each unit with dates as a row: its dates (counted or not, and why) and, with
@@ -63,20 +72,7 @@ func figureRows(sums []unitSummary, ch densityChoice, res densityResult) []views
 		for _, sys := range us.Systems {
 			for _, e := range sys.Entries {
 				d := e.D
-				status := "counted in the density"
-				if ch.Count == "unit" {
-					status = "in the " + sys.Label + " mean counted in the density"
-				}
-				if !counted[d.ID] {
-					switch {
-					case noVolume[u.Name] && ch.Weight == "volume":
-						status = "not counted: the unit has no volume (weight=volume)"
-					case ch.Count == "unit":
-						status = "not counted: the unit's " + sys.Label + " mean is set aside for its " + values[u.ID].System + " mean"
-					default:
-						status = "not counted"
-					}
-				}
+				status := figureDateStatus(ch, sys.Label, counted[d.ID], noVolume[u.Name], values[u.ID].System)
 				age := plusMinus(e.AgeMa, e.Sigma1s, level) + " Ma, analytical"
 				if store.IsArAr(d.Method) {
 					age += fmt.Sprintf(", recalculated to %s (published %s Ma)", ch.Sum.Cal.Cal.Name, plusMinus(d.AgeMa, d.SigmaMa, level))

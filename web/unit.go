@@ -9,6 +9,7 @@ import (
 
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 func (s *Server) registerUnitRoutes(r chi.Router) {
@@ -32,24 +33,17 @@ func (s *Server) handleUnitShow(w http.ResponseWriter, r *http.Request) error {
 	if err := p.err(); err != nil {
 		return err
 	}
-	u, err := s.store.Unit(ctx, id)
+	data, us, err := analysis.SummarizeUnitByID(ctx, s.store, id, ch.options())
 	if err != nil {
 		return err
 	}
-	ds, _, err := s.store.Dates(ctx, store.DateFilter{UnitID: id, Sort: "-age"})
-	if err != nil {
-		return err
-	}
+	u, ds := data.Unit, data.Dates
 	switch format {
 	case "csv":
 		return writeDownload(w, fmt.Sprintf("unit-%d-dates.csv", id), func(w io.Writer) error { return writeDatesCSV(w, ds, ch.Cal) })
 	case "json":
 		writeJSON(w, http.StatusOK, map[string]any{"unit": u, "dates": datesJSON(ds, ch.Cal), "uncertainties": jsonSigmaNote})
 		return nil
-	}
-	us, err := summarizeUnit(u, datePointers(ds), ch)
-	if err != nil {
-		return err
 	}
 	v := views.Detail{Page: s.page(ctx, u.Name, "Provinces")}
 	v.Page.Crumbs = []views.Link{{Label: "Provinces", URL: "/provinces"}, {Label: u.Province, URL: idURL("/provinces", u.ProvinceID)}}
