@@ -50,11 +50,12 @@ type Home struct {
 // Cell is one cell of a table. Num right-aligns it with tabular figures; Class adds a style such as
 // "pending" or "caution"; Title is shown on hover.
 type Cell struct {
-	Text  string
-	URL   string
-	Num   bool
-	Class string
-	Title string
+	Swatch string // a colour (#rrggbb) shown as a small square before the text
+	Text   string
+	URL    string
+	Num    bool
+	Class  string
+	Title  string
 }
 
 // Column is a table header; SortURL makes it a sort link, Sorted marks the active sort ("asc"/"desc").

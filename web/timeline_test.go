@@ -75,6 +75,10 @@ func TestTimescalePage(t *testing.T) {
 			t.Errorf("/timescale lacks %q", want)
 		}
 	}
+	// The chart's colour of each unit is shown as a swatch, not only as its code (the chart: Oxfordian #BFE7F1).
+	if !strings.Contains(body, `fill="#BFE7F1"`) {
+		t.Error("/timescale shows no colour swatch for the Oxfordian")
+	}
 	_, _, ages := get(t, srv, "/timescale?rank=Age")
 	if strings.Contains(ages, `title="">Epoch</td>`) || !strings.Contains(ages, "Kimmeridgian") {
 		t.Error("rank=Age should list the ages (stages) only")

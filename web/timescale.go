@@ -212,7 +212,7 @@ func (s *Server) handleTimescale(w http.ResponseWriter, r *http.Request) error {
 			base.Title, base.Class = "the chart marks this base age as uncertain", "caution"
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: u.label()}, {Text: u.Rank}, {Text: orDash(parent)}, base,
-			{Text: num(u.TopMa), Num: true}, {Text: u.statusLabel()}, {Text: u.Colour}})
+			{Text: num(u.TopMa), Num: true}, {Text: u.statusLabel()}, {Text: u.Colour, Swatch: u.Colour}})
 	}
 	t.Notes = []string{"Source: " + timescaleCredit,
 		"Copied unchanged from the chart's machine-readable release. ~ marks a base the chart gives as uncertain. A later chart would be added beside this one under its own version, never mixed in silently."}
