@@ -169,13 +169,13 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 				ok, skip, err = d.acceptDateIfPending(ctx, tx, accept, rev.RecordID, same)
 			case "event":
 				ok, skip, err = acceptIfPending(ctx, d, tx, accept, eventType(), rev.RecordID, same,
-					func(e Event) string { return "event " + e.Name }, func(e *Event) *string { return &e.ReviewState })
+					func(e Event) string { return "event " + e.Name }, func(e *Event) *ReviewState { return &e.ReviewState })
 			case "tie_point":
 				ok, skip, err = acceptIfPending(ctx, d, tx, accept, tieType(), rev.RecordID, same,
-					func(t TiePoint) string { return "tie point " + t.Label }, func(t *TiePoint) *string { return &t.ReviewState })
+					func(t TiePoint) string { return "tie point " + t.Label }, func(t *TiePoint) *ReviewState { return &t.ReviewState })
 			case "hiatus":
 				ok, skip, err = acceptIfPending(ctx, d, tx, accept, hiatusType(), rev.RecordID, same,
-					hiatusLabel, func(h *Hiatus) *string { return &h.ReviewState })
+					hiatusLabel, func(h *Hiatus) *ReviewState { return &h.ReviewState })
 			}
 			if err != nil {
 				return err
@@ -211,7 +211,7 @@ func (d *DB) acceptDateIfPending(ctx context.Context, tx *sql.Tx, batch int64, i
 		return false, "date " + before.SampleCode, nil
 	}
 	dt := before
-	dt.ReviewState = "accepted"
+	dt.ReviewState = ReviewAccepted
 	if err := d.writeDate(ctx, tx, &dt, before.Version); err != nil {
 		return false, "", err
 	}
@@ -225,21 +225,21 @@ func (d *DB) acceptDateIfPending(ctx context.Context, tx *sql.Tx, batch int64, i
 // acceptIfPending accepts record id of rt, in batch, when it still waits for review as it was added
 // (same); a pending record changed since is not accepted, and skip names it (by name).
 func acceptIfPending[T any](ctx context.Context, d *DB, tx *sql.Tx, batch int64, rt recordType[T], id int64, same bool,
-	name func(T) string, state func(*T) *string) (accepted bool, skip string, err error) {
+	name func(T) string, state func(*T) *ReviewState) (accepted bool, skip string, err error) {
 	x, err := rt.load(ctx, tx, id)
 	if errors.Is(err, ErrNotFound) {
 		return false, "", nil
 	} else if err != nil {
 		return false, "", err
 	}
-	if *state(&x) != "pending" {
+	if *state(&x) != ReviewPending {
 		return false, "", nil
 	}
 	if !same {
 		return false, name(x), nil
 	}
 	_, version, _ := rt.meta(x)
-	*state(&x) = "accepted"
+	*state(&x) = ReviewAccepted
 	_, err = rt.update(ctx, d, tx, batch, id, version, x)
 	return err == nil, "", err
 }

@@ -83,7 +83,7 @@ func (d *DB) resolveDateOwner(ctx context.Context, tx *sql.Tx, batch int64, dt *
 func (d *DB) CreateDate(ctx context.Context, f DateForm, asCurator bool) (Date, error) {
 	dt, problems := parseDateForm(f)
 	if !asCurator {
-		dt.ReviewState = "pending"
+		dt.ReviewState = ReviewPending
 	}
 	var out Date
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
@@ -122,7 +122,7 @@ func (d *DB) CreateDate(ctx context.Context, f DateForm, asCurator bool) (Date, 
 func (d *DB) UpdateDate(ctx context.Context, id int64, version int, f DateForm, asCurator bool) (Date, error) {
 	dt, problems := parseDateForm(f)
 	if !asCurator {
-		dt.ReviewState = "pending"
+		dt.ReviewState = ReviewPending
 	}
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		before, err := dateInTx(ctx, tx, id)

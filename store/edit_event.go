@@ -39,7 +39,7 @@ func (d *DB) Event(ctx context.Context, id int64) (Event, error) {
 // review state.
 func FormOfEvent(e Event) Form {
 	f := formOf(func(w io.Writer) error { return WriteEventsCSV(w, []Event{e}) })
-	f["review_state"] = e.ReviewState
+	f["review_state"] = string(e.ReviewState)
 	return f
 }
 
@@ -48,9 +48,9 @@ func FormOfEvent(e Event) Form {
 func parseEventForm(f Form, asCurator bool) (Event, []Problem) {
 	rw, t := formRow(append(eventColumns[:len(eventColumns):len(eventColumns)], "review_state"), f)
 	ev := parseEventRow(rw)
-	ev.ReviewState = rw.enum("review_state", codes(ReviewStates()), "accepted")
+	ev.ReviewState = reviewStateCell(rw, ReviewAccepted)
 	if !asCurator {
-		ev.ReviewState = "pending"
+		ev.ReviewState = ReviewPending
 	}
 	return ev, t.problems
 }

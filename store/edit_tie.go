@@ -47,7 +47,7 @@ func parseTieForm(f Form, asCurator bool) (TiePoint, []Problem) {
 	rw, t := formRow(tieColumns, f)
 	tp := parseTieRow(rw)
 	if !asCurator {
-		tp.ReviewState = "pending"
+		tp.ReviewState = ReviewPending
 	}
 	return tp, t.problems
 }

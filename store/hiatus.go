@@ -11,17 +11,17 @@ import (
 // Hiatus is a surface in a section where time is missing: at least MinDurationMa passes at HeightM.
 // Hiatuses are reviewed like tie points, since the age–height model honours them.
 type Hiatus struct {
-	ID            int64   `json:"id"`
-	SectionID     int64   `json:"section_id"`
-	Section       string  `json:"section"`
-	HeightM       float64 `json:"height_m"`
-	MinDurationMa float64 `json:"min_duration_ma"`
-	ReviewState   string  `json:"review_state"` // pending, accepted, rejected: age models use accepted hiatuses by default
-	ReviewNote    string  `json:"review_note"`
-	Notes         string  `json:"notes"`
-	Version       int     `json:"version"`
-	CreatedAt     string  `json:"created_at"`
-	UpdatedAt     string  `json:"updated_at"`
+	ID            int64       `json:"id"`
+	SectionID     int64       `json:"section_id"`
+	Section       string      `json:"section"`
+	HeightM       float64     `json:"height_m"`
+	MinDurationMa float64     `json:"min_duration_ma"`
+	ReviewState   ReviewState `json:"review_state"` // pending, accepted, rejected: age models use accepted hiatuses by default
+	ReviewNote    string      `json:"review_note"`
+	Notes         string      `json:"notes"`
+	Version       int         `json:"version"`
+	CreatedAt     string      `json:"created_at"`
+	UpdatedAt     string      `json:"updated_at"`
 }
 
 // hiatusColumns are the columns of the hiatuses file of a section (and the cells of the hiatus form, read
@@ -77,7 +77,7 @@ func hiatusLabel(h Hiatus) string {
 func writeHiatusesCSV(w io.Writer, hs []Hiatus) error {
 	return writeCSV(w, hiatusColumns, func(emit func([]string) error) error {
 		for _, h := range hs {
-			if err := emit([]string{formatNumber(h.HeightM), formatNumber(h.MinDurationMa), h.ReviewState, h.Notes}); err != nil {
+			if err := emit([]string{formatNumber(h.HeightM), formatNumber(h.MinDurationMa), string(h.ReviewState), h.Notes}); err != nil {
 				return err
 			}
 		}
@@ -93,7 +93,7 @@ func FormOfHiatus(h Hiatus) Form {
 // parseHiatusRow reads one row of hiatus cells: a height in metres above the section's base and the least
 // time the surface represents, in Ma (0 when only the surface is known).
 func parseHiatusRow(rw row) Hiatus {
-	h := Hiatus{ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
+	h := Hiatus{ReviewState: reviewStateCell(rw, ReviewAccepted), Notes: rw.str("notes")}
 	if z, ok := rw.float("height_m"); ok {
 		h.HeightM = z
 	}
@@ -116,7 +116,7 @@ func parseHiatusForm(f Form, asCurator bool) (Hiatus, []Problem) {
 	rw, t := formRow(hiatusColumns, f)
 	h := parseHiatusRow(rw)
 	if !asCurator {
-		h.ReviewState = "pending"
+		h.ReviewState = ReviewPending
 	}
 	return h, t.problems
 }
@@ -250,7 +250,7 @@ func (d *DB) ImportHiatuses(ctx context.Context, section, file string, r io.Read
 			if err != nil {
 				return err
 			}
-			pendingNote(ctx, res, len(recs), "hiatuses", func(i int) *string { return &recs[i].ReviewState })
+			pendingNote(ctx, res, len(recs), "hiatuses", func(i int) *ReviewState { return &recs[i].ReviewState })
 			for i := range recs {
 				recs[i].SectionID = sid
 				ps, err := hiatusHeightProblem(ctx, tx, recs[i])

@@ -152,11 +152,11 @@ func (s *Server) handleDateCreate(w http.ResponseWriter, r *http.Request) error 
 
 // mayEditDraft refuses (forbidden) an edit of a reviewed record the user may not make: curators edit
 // anything, a contributor only the drafts (pending or rejected records) they added themselves.
-func (s *Server) mayEditDraft(r *http.Request, recordType, noun string, id int64, review string) error {
+func (s *Server) mayEditDraft(r *http.Request, recordType, noun string, id int64, review store.ReviewState) error {
 	if isCurator(r) {
 		return nil
 	}
-	if review == "accepted" {
+	if review == store.ReviewAccepted {
 		return forbidden{fmt.Sprintf("This %s is accepted: only a curator may change it. Ask a curator, or add a corrected %s as a new record.", noun, noun)}
 	}
 	u, ok := currentUser(r.Context())

@@ -120,7 +120,7 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 		sec.URL = idURL("/sections", *e.SectionID)
 	}
 	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), e.ReviewState)}
-	if e.ReviewState != "accepted" {
+	if e.ReviewState != store.ReviewAccepted {
 		review.Class = "pending"
 	}
 	v.Groups = []views.FieldGroup{{Title: "Event", Fields: []views.KV{sec,
@@ -147,7 +147,7 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 }
 
 // reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
-func reviewActions(r *http.Request, path string, id int64, version int, state string) []views.Action {
+func reviewActions(r *http.Request, path string, id int64, version int, state store.ReviewState) []views.Action {
 	if !isCurator(r) {
 		return nil
 	}
@@ -155,10 +155,10 @@ func reviewActions(r *http.Request, path string, id int64, version int, state st
 		return []views.KV{{Label: "version", Value: strconv.Itoa(version)}, {Label: "decision", Value: decision}}
 	}
 	var acts []views.Action
-	if state != "accepted" {
+	if state != store.ReviewAccepted {
 		acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("accept"), Reason: "note (optional)"})
 	}
-	if state != "rejected" {
+	if state != store.ReviewRejected {
 		acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("reject"), Reason: "reason (required)"})
 	}
 	return acts

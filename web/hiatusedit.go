@@ -72,7 +72,7 @@ func hiatusTable(hs []store.Hiatus) views.Table {
 		{Label: "Minimum duration", Unit: "Ma", Num: true}, {Label: "Review"}, {Label: "Notes"}}, Empty: "No hiatuses."}
 	for _, h := range hs {
 		review := views.Cell{Text: store.Label(store.ReviewStates(), h.ReviewState)}
-		if h.ReviewState != "accepted" {
+		if h.ReviewState != store.ReviewAccepted {
 			review.Class = "pending"
 			review.Title = h.ReviewNote
 		}
@@ -107,7 +107,7 @@ func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error 
 	v.Page.Crumbs = sectionCrumbs(store.Section{ID: h.SectionID, Name: h.Section})
 	v.Page.Downloads = []views.Link{{Label: "JSON", URL: withQuery(r, "format", "json")}}
 	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), h.ReviewState)}
-	if h.ReviewState != "accepted" {
+	if h.ReviewState != store.ReviewAccepted {
 		review.Class = "pending"
 	}
 	v.Groups = []views.FieldGroup{{Title: "Hiatus", Fields: []views.KV{
@@ -123,10 +123,10 @@ func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error 
 	}}}
 	v.Notes = append(v.Notes, "The age–height model honours a hiatus that lies between its lowest and highest tie points: at least the minimum duration passes at this height. The naive linear model ignores hiatuses.")
 	switch h.ReviewState {
-	case "pending":
+	case store.ReviewPending:
 		v.Notes = append(v.Notes, "This hiatus waits for a curator's review. Until it is accepted, the age–height model of "+h.Section+
 			" and the comparison leave it out, unless the address says include=pending or include=all.")
-	case "rejected":
+	case store.ReviewRejected:
 		v.Notes = append(v.Notes, "This hiatus was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
 	}
 	if h.ReviewNote != "" {

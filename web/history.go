@@ -79,7 +79,7 @@ func revForm(raw json.RawMessage) store.DateForm {
 		return store.DateForm{"notes": "(unreadable revision)"}
 	}
 	f := store.FormOfDate(d)
-	f["review_state"] = d.ReviewState
+	f["review_state"] = string(d.ReviewState)
 	return f
 }
 

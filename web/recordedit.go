@@ -28,7 +28,7 @@ type stored struct {
 	version int
 	name    string
 	crumbs  []views.Link
-	review  string
+	review  store.ReviewState
 }
 
 // recordEdit is the editing flow that provinces, units, sections, tie points, hiatuses and events share with the

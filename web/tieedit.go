@@ -106,7 +106,7 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 	t.Caption = "Tie point"
 	v.Tables = []views.Table{t}
 	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), tp.ReviewState)}
-	if tp.ReviewState != "accepted" {
+	if tp.ReviewState != store.ReviewAccepted {
 		review.Class = "pending"
 	}
 	v.Groups = []views.FieldGroup{{Title: "Record", Fields: []views.KV{review,
@@ -118,10 +118,10 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Last changed", Value: when(tp.UpdatedAt)},
 	}}}
 	switch tp.ReviewState {
-	case "pending":
+	case store.ReviewPending:
 		v.Notes = append(v.Notes, "This tie point waits for a curator's review. Until it is accepted, the age–height model of "+tp.Section+
 			" and the comparison leave it out, unless the address says include=pending or include=all.")
-	case "rejected":
+	case store.ReviewRejected:
 		v.Notes = append(v.Notes, "This tie point was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
 	}
 	if tp.ReviewNote != "" {
