@@ -140,9 +140,9 @@ func partitionReviewed[T any](include string, xs []T, state func(T) string) (in,
 	return in, out
 }
 
-func tieState(t store.TiePoint) string  { return t.ReviewState }
-func hiatusState(h store.Hiatus) string { return h.ReviewState }
-func eventState(e store.Event) string   { return e.ReviewState }
+func tieState(t store.TiePoint) string  { return string(t.ReviewState) }
+func hiatusState(h store.Hiatus) string { return string(h.ReviewState) }
+func eventState(e store.Event) string   { return string(e.ReviewState) }
 
 // defaultTracerRelSigma is the relative 1σ of the tracer term used when the dates publish no Y: 0.03 %
 // at 2σ, the upper bound for the EARTHTIME tracers (Condon et al. 2015, GCA 164:464).
@@ -268,7 +268,7 @@ func summarizeUnit(u store.Unit, ds []*store.Date, ch summaryChoice) (unitSummar
 			us.Systems = append(us.Systems, systemSummary{Key: key, Label: label, DecaySystem: decay})
 		}
 		sys := &us.Systems[i]
-		if !ch.includes(d.ReviewState) {
+		if !ch.includes(string(d.ReviewState)) {
 			sys.Excluded = append(sys.Excluded, exclusion{D: d, Review: true,
 				Reason: store.Label(store.ReviewStates(), d.ReviewState) + ": not included (" + includeLabel(ch.Include) + ")"})
 			continue
