@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"fmt"
 	"io"
-	"strings"
 )
 
 // Hiatus is a surface in a section where time is missing: at least MinDurationMa passes at HeightM.
@@ -65,6 +64,15 @@ func hiatusType() recordType[Hiatus] {
 		meta:  func(h Hiatus) (int64, int, string) { return h.ID, h.Version, h.CreatedAt },
 		label: hiatusLabel,
 		load:  hiatusInTx,
+		form:  FormOfHiatus,
+		summary: func(done string, h Hiatus) string {
+			return fmt.Sprintf("%s %s of %s", done, hiatusLabel(h), h.Section)
+		},
+		review: &reviewing[Hiatus]{
+			of:    func(h *Hiatus) (*ReviewState, *string) { return &h.ReviewState, &h.ReviewNote },
+			what:  func(h Hiatus) string { return fmt.Sprintf("at %s m of %s", formatNumber(h.HeightM), h.Section) },
+			title: hiatusLabel,
+		},
 	}
 }
 
@@ -132,29 +140,14 @@ func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h Hiatus) ([]Problem, 
 // empty). It returns ErrNotFound for an unknown section and a *ValidationError naming fields.
 func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurator bool) (Hiatus, error) {
 	h, problems := parseHiatusForm(f, asCurator)
-	var out Hiatus
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
+	return hiatusType().save(ctx, d, 0, 0, h, problems, func(ctx context.Context, tx *sql.Tx, batch int64, _ *Hiatus, h *Hiatus, problems []Problem) ([]Problem, error) {
 		sec, err := sectionInTx(ctx, tx, sectionID)
-		if err != nil {
-			return err
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
+		if err != nil || len(problems) > 0 {
+			return problems, err
 		}
 		h.SectionID = sec.ID
-		if ps, err := hiatusHeightProblem(ctx, tx, h); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "add hiatus", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = hiatusType().insert(ctx, d, tx, batch, h); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added %s of %s", hiatusLabel(h), sec.Name))
+		return hiatusHeightProblem(ctx, tx, *h)
 	})
-	return out, err
 }
 
 // UpdateHiatus replaces hiatus id with the form's values when the stored version is still version;
@@ -162,67 +155,20 @@ func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurato
 // review note; a contributor's edit (asCurator false) makes it pending.
 func (d *DB) UpdateHiatus(ctx context.Context, id int64, version int, f Form, asCurator bool) (Hiatus, error) {
 	h, problems := parseHiatusForm(f, asCurator)
-	var out Hiatus
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := hiatusInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
+	return hiatusType().save(ctx, d, id, version, h, problems, func(ctx context.Context, tx *sql.Tx, batch int64, before *Hiatus, h *Hiatus, problems []Problem) ([]Problem, error) {
 		if len(problems) > 0 {
-			return &ValidationError{problems}
+			return problems, nil
 		}
-		h.ID, h.SectionID, h.ReviewNote = id, before.SectionID, before.ReviewNote
-		if ps, err := hiatusHeightProblem(ctx, tx, h); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit hiatus", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = hiatusType().update(ctx, d, tx, batch, id, version, h); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("edited %s of %s", hiatusLabel(out), out.Section))
+		h.ID, h.SectionID, h.ReviewNote = before.ID, before.SectionID, before.ReviewNote
+		return hiatusHeightProblem(ctx, tx, *h)
 	})
-	return out, err
 }
 
 // ReviewHiatus accepts or rejects hiatus id (at version), as a curator; a rejection needs a reason, which
 // is kept as the review note (an acceptance's note is optional). It returns ErrConflict when the hiatus
 // changed since version.
 func (d *DB) ReviewHiatus(ctx context.Context, id int64, version int, accept bool, note string) (Hiatus, error) {
-	note = strings.TrimSpace(note)
-	if !accept && note == "" {
-		return Hiatus{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the hiatus is rejected"}}}
-	}
-	if err := freeText("note", note, true); err != nil {
-		return Hiatus{}, err
-	}
-	var out Hiatus
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := hiatusInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		x := before
-		x.ReviewState, x.ReviewNote = "rejected", note
-		kind := "reject hiatus"
-		if accept {
-			x.ReviewState, kind = "accepted", "accept hiatus"
-		}
-		batch, err := d.newBatch(ctx, tx, kind, "review")
-		if err != nil {
-			return err
-		}
-		if out, err = hiatusType().update(ctx, d, tx, batch, id, version, x); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s at %s m of %s: %s", kind, formatNumber(before.HeightM), before.Section, orNone(note)))
-	})
-	return out, err
+	return hiatusType().reviewRecord(ctx, d, id, version, accept, note)
 }
 
 // DeleteHiatus removes hiatus id (at version), keeping its last state in the revision; ErrConflict for a

@@ -72,7 +72,7 @@ func dateFields() []dateField {
 }
 
 // dateEditView builds the form page from values and the problems of the last submission.
-func (s *Server) dateEditView(r *http.Request, title, action string, version int, values store.DateForm, problems []store.Problem, curator bool) views.Edit {
+func (s *Server) dateEditView(r *http.Request, title, action string, version int, values store.Form, problems []store.Problem, curator bool) views.Edit {
 	e := views.Edit{Page: s.page(r.Context(), title, "Dates"), Action: action, Submit: "Save"}
 	e.Page.Crumbs = []views.Link{{Label: "Dates", URL: "/dates"}}
 	e.Intro = "Enter values as published: uncertainties at the σ level you choose below (they are stored as 1σ). Every field is checked with the rules of the dates import."
@@ -109,8 +109,8 @@ func (s *Server) dateEditView(r *http.Request, title, action string, version int
 	return e
 }
 
-func formValues(r *http.Request) store.DateForm {
-	f := store.DateForm{}
+func formValues(r *http.Request) store.Form {
+	f := store.Form{}
 	for _, df := range dateFields() {
 		f[df.name] = r.PostFormValue(df.name)
 	}
@@ -130,7 +130,7 @@ func actingCtx(r *http.Request) *http.Request {
 }
 
 func (s *Server) handleDateNew(w http.ResponseWriter, r *http.Request) error {
-	values := store.DateForm{"sigma_level": "2", "interpretation": "eruption", "review_state": "pending"}
+	values := store.Form{"sigma_level": "2", "interpretation": "eruption", "review_state": "pending"}
 	s.render(w, r, http.StatusOK, views.EditPage(s.dateEditView(r, "New date", "/dates/new", 0, values, nil, isCurator(r))))
 	return nil
 }
@@ -237,7 +237,7 @@ func (s *Server) handleDateUpdate(w http.ResponseWriter, r *http.Request) error 
 }
 
 // diffTable lists the fields where a and b differ.
-func diffTable(caption string, a, b store.DateForm, aLabel, bLabel string) views.Table {
+func diffTable(caption string, a, b store.Form, aLabel, bLabel string) views.Table {
 	t := views.Table{ID: "diff", Caption: caption, Columns: []views.Column{{Label: "Field"}, {Label: aLabel}, {Label: bLabel}},
 		Empty: "No field differs."}
 	for _, f := range dateFields() {

@@ -70,13 +70,13 @@ func (s *Server) handleDateHistory(w http.ResponseWriter, r *http.Request) error
 }
 
 // revForm turns a revision's JSON state of a date into form cells (empty for none).
-func revForm(raw json.RawMessage) store.DateForm {
+func revForm(raw json.RawMessage) store.Form {
 	if raw == nil {
-		return store.DateForm{}
+		return store.Form{}
 	}
 	var d store.Date
 	if err := json.Unmarshal(raw, &d); err != nil {
-		return store.DateForm{"notes": "(unreadable revision)"}
+		return store.Form{"notes": "(unreadable revision)"}
 	}
 	f := store.FormOfDate(d)
 	f["review_state"] = string(d.ReviewState)

@@ -50,13 +50,12 @@ type Store interface {
 	UserByToken(ctx context.Context, token string) (store.User, error)
 	SQL() *sql.DB
 	ReadOnly() bool
-	CreateDate(ctx context.Context, f store.DateForm, asCurator bool) (store.Date, error)
-	UpdateDate(ctx context.Context, id int64, version int, f store.DateForm, asCurator bool) (store.Date, error)
+	CreateDate(ctx context.Context, f store.Form, asCurator bool) (store.Date, error)
+	UpdateDate(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Date, error)
 	ReviewDate(ctx context.Context, id int64, version int, accept bool, note string) (store.Date, error)
 	DeleteDate(ctx context.Context, id int64, version int) error
 	Revisions(ctx context.Context, recordType string, id int64) ([]store.Revision, error)
 	RevisionByID(ctx context.Context, id int64) (store.Revision, error)
-	RevertDate(ctx context.Context, revID int64) error
 	RevertRevision(ctx context.Context, revID int64) error
 	CreateUnit(ctx context.Context, f store.Form) (store.Unit, error)
 	UpdateUnit(ctx context.Context, id int64, version int, f store.Form) (store.Unit, error)
