@@ -263,6 +263,7 @@ func (rt recordType[T]) revert(ctx context.Context, d *DB, tx *sql.Tx, batch int
 // only by the record_type of its revisions.
 type kind interface {
 	recordName() string
+	describe() (table string, cols []string)
 	revert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, rev Revision) error
 	state(ctx context.Context, tx *sql.Tx, id int64) (any, error)
 	formOfState(raw json.RawMessage) (Form, error)
@@ -272,6 +273,8 @@ type kind interface {
 }
 
 func (rt recordType[T]) recordName() string { return rt.name }
+
+func (rt recordType[T]) describe() (string, []string) { return rt.table, rt.cols }
 
 // state is the record's current state as a revision stores it.
 func (rt recordType[T]) state(ctx context.Context, tx *sql.Tx, id int64) (any, error) {

@@ -414,11 +414,9 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Last changed", Value: when(d.UpdatedAt)},
 		{Label: "Revisions recorded", Value: itoa(revs)},
 	}})
-	v.Links = append(v.Links, views.Link{Label: "History of this date", URL: fmt.Sprintf("/dates/%d/history", d.ID)})
-	v.Actions = dateActions(r, d)
-	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) && s.mayEdit(r, d) == nil {
-		v.Links = append(v.Links, views.Link{Label: "Edit this date", URL: fmt.Sprintf("/dates/%d/edit", d.ID)})
-	}
+	links, acts := recordLinks(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
+	v.Links = append(v.Links, links...)
+	v.Actions = append(reviewActions(r, "/dates", d.ID, d.Version, d.ReviewState), acts...)
 	if d.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+d.ReviewNote)
 	}
@@ -431,26 +429,4 @@ func optLambda(v *float64) string {
 		return "—"
 	}
 	return lambda(*v)
-}
-
-// dateActions are the changes the signed-in user may make to a date from its page.
-func dateActions(r *http.Request, d store.Date) []views.Action {
-	u, ok := currentUser(r.Context())
-	if !ok {
-		return nil
-	}
-	version := []views.KV{{Label: "version", Value: strconv.Itoa(d.Version)}}
-	var acts []views.Action
-	if store.RoleAtLeast(u.Role, store.RoleCurator) {
-		if d.ReviewState != store.ReviewAccepted {
-			acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("/dates/%d/review", d.ID),
-				Hidden: append(version, views.KV{Label: "decision", Value: "accept"}), Reason: "note (optional)"})
-		}
-		if d.ReviewState != store.ReviewRejected {
-			acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("/dates/%d/review", d.ID),
-				Hidden: append(version, views.KV{Label: "decision", Value: "reject"}), Reason: "reason (required)"})
-		}
-		acts = append(acts, views.Action{Label: "Delete", URL: fmt.Sprintf("/dates/%d/delete", d.ID), Hidden: version, Danger: true})
-	}
-	return acts
 }

@@ -50,8 +50,7 @@ func (s *Server) eventEdit() recordEdit {
 			_, err := s.store.UpdateEvent(ctx, id, version, f, curator)
 			return err
 		},
-		remove:       s.store.DeleteEvent,
-		fromRevision: fromJSON(store.FormOfEvent),
+		remove: s.store.DeleteEvent,
 		mayEdit: func(r *http.Request, id int64, st stored) error {
 			return s.mayEditDraft(r, "event", "event", id, st.review)
 		},
@@ -61,11 +60,6 @@ func (s *Server) eventEdit() recordEdit {
 func (s *Server) registerEventEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.eventEdit())
 	r.Get("/events/{id}", s.handle(s.handleEventShow))
-	r.With(s.requireRole(store.RoleCurator)).Post("/events/{id}/review", s.handle(s.handleReview("event", "/events",
-		func(ctx context.Context, id int64, version int, accept bool, note string) error {
-			_, err := s.store.ReviewEvent(ctx, id, version, accept, note)
-			return err
-		})))
 }
 
 // sectionOfPath reads the section named by the {id} of a path such as /sections/{id}/events/new.
@@ -164,9 +158,9 @@ func reviewActions(r *http.Request, path string, id int64, version int, state st
 	return acts
 }
 
-// handleReview is the POST of a curator's accept or reject (with a reason) of a reviewed record at path/{id};
-// review is the store's method for its kind.
-func (s *Server) handleReview(noun, path string, review func(ctx context.Context, id int64, version int, accept bool, note string) error) func(http.ResponseWriter, *http.Request) error {
+// handleReview is the POST of a curator's accept or reject (with a reason) of a reviewed record at
+// e.path/{id}.
+func (s *Server) handleReview(e recordEdit) func(http.ResponseWriter, *http.Request) error {
 	return func(w http.ResponseWriter, r *http.Request) error {
 		r = actingCtx(r)
 		id, err := pathID(r, "id")
@@ -175,19 +169,19 @@ func (s *Server) handleReview(noun, path string, review func(ctx context.Context
 		}
 		version, err := strconv.Atoi(r.PostFormValue("version"))
 		if err != nil {
-			return badRequest{message: fmt.Sprintf("The review lacks the version it was made on; open the %s again.", noun)}
+			return badRequest{message: fmt.Sprintf("The review lacks the version it was made on; open the %s again.", e.noun)}
 		}
-		err = review(r.Context(), id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
+		err = s.store.Review(r.Context(), e.recordType, id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
 		if ve, ok := store.AsValidation(err); ok {
 			return badRequest{message: "The review was not saved:", problems: problemTexts(ve.Problems)}
 		}
 		if errors.Is(err, store.ErrConflict) {
-			return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not reviewed. Reload it and review the current version.", noun)}
+			return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not reviewed. Reload it and review the current version.", e.noun)}
 		}
 		if err != nil {
 			return err
 		}
-		http.Redirect(w, r, idURL(path, id), http.StatusSeeOther)
+		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
 		return nil
 	}
 }

@@ -47,19 +47,13 @@ func (s *Server) hiatusEdit() recordEdit {
 			_, err := s.store.UpdateHiatus(ctx, id, version, f, curator)
 			return err
 		},
-		remove:       s.store.DeleteHiatus,
-		fromRevision: fromJSON(store.FormOfHiatus),
+		remove: s.store.DeleteHiatus,
 	}
 }
 
 func (s *Server) registerHiatusEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.hiatusEdit())
 	r.Get("/hiatuses/{id}", s.handle(s.handleHiatusShow))
-	r.With(s.requireRole(store.RoleCurator)).Post("/hiatuses/{id}/review", s.handle(s.handleReview("hiatus", "/hiatuses",
-		func(ctx context.Context, id int64, version int, accept bool, note string) error {
-			_, err := s.store.ReviewHiatus(ctx, id, version, accept, note)
-			return err
-		})))
 }
 
 // hiatusTitle is what a hiatus's page is called: it has no name, only a height.

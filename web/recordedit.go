@@ -31,11 +31,12 @@ type stored struct {
 	review  store.ReviewState
 }
 
-// recordEdit is the editing flow that provinces, units, sections, tie points, hiatuses and events share with the
-// dates' (web/dateedit.go): a form checked with the importer's rules, re-shown with its field errors (422),
-// 303 after saving, an edit against an old version answered with both versions side by side (409), a
-// delete refused while other records depend on the record, and a history of field diffs with a restore.
-// Each record type fills it in with closures over the store.
+// recordEdit is the one editing flow of every record (provinces, units, sections, dates, tie points, events,
+// hiatuses): a form checked with the importer's rules, re-shown with its field errors (422), 303 after
+// saving, an edit against an old version answered with both versions side by side (409), a delete refused
+// while other records depend on the record, a curator's accept or reject for the kinds that are reviewed
+// (store.Reviewed), and a history of field diffs with a restore. Each record type fills it in with closures
+// over the store.
 type recordEdit struct {
 	recordType string // record_type of its revisions, e.g. "tie_point"
 	noun       string // "tie point"
@@ -54,14 +55,12 @@ type recordEdit struct {
 	load   func(ctx context.Context, id int64) (stored, error)
 	update func(ctx context.Context, id int64, version int, f store.Form, curator bool) error
 	remove func(ctx context.Context, id int64, version int) error
-	// fromRevision turns a revision's JSON state into form cells.
-	fromRevision func(raw json.RawMessage) (store.Form, error)
 	// mayEdit refuses (forbidden) an edit the user may not make beyond the route's role; nil allows it.
 	mayEdit func(r *http.Request, id int64, st stored) error
 }
 
 // registerRecordEdit adds the routes of one record's editing flow: creation for contributors, edits for
-// e.editRole (and mayEdit), deletion for curators, and the public history.
+// e.editRole (and mayEdit), deletion (and review, for reviewed kinds) for curators, and the public history.
 func (s *Server) registerRecordEdit(r chi.Router, e recordEdit) {
 	r.With(s.requireRole(store.RoleContributor)).Group(func(r chi.Router) {
 		r.Get(e.newPath, s.handle(s.handleRecordNew(e)))
@@ -72,6 +71,9 @@ func (s *Server) registerRecordEdit(r chi.Router, e recordEdit) {
 		r.Post(e.path+"/{id}/edit", s.handle(s.handleRecordUpdate(e)))
 	})
 	r.With(s.requireRole(store.RoleCurator)).Post(e.path+"/{id}/delete", s.handle(s.handleRecordDelete(e)))
+	if store.Reviewed(e.recordType) {
+		r.With(s.requireRole(store.RoleCurator)).Post(e.path+"/{id}/review", s.handle(s.handleReview(e)))
+	}
 	r.Get(e.path+"/{id}/history", s.handle(s.handleRecordHistory(e)))
 }
 
@@ -342,11 +344,7 @@ func revisionForm(e recordEdit, raw json.RawMessage) (store.Form, error) {
 	if raw == nil {
 		return store.Form{}, nil
 	}
-	f, err := e.fromRevision(raw)
-	if err != nil {
-		return nil, fmt.Errorf("read %s revision: %w", e.recordType, err)
-	}
-	return f, nil
+	return store.FormOfState(e.recordType, raw)
 }
 
 // historyURL is the history page of a record, or "" for records without one (anomaly decisions are
@@ -377,15 +375,4 @@ func recordLinks(r *http.Request, e recordEdit, id int64, st stored) ([]views.Li
 			Hidden: []views.KV{{Label: "version", Value: strconv.Itoa(st.version)}}, Danger: true})
 	}
 	return links, acts
-}
-
-// fromJSON decodes a revision's state as T and gives its form cells.
-func fromJSON[T any](form func(T) store.Form) func(json.RawMessage) (store.Form, error) {
-	return func(raw json.RawMessage) (store.Form, error) {
-		var x T
-		if err := json.Unmarshal(raw, &x); err != nil {
-			return nil, err
-		}
-		return form(x), nil
-	}
 }

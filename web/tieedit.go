@@ -62,19 +62,13 @@ func (s *Server) tieEdit() recordEdit {
 			_, err := s.store.UpdateTie(ctx, id, version, f, curator)
 			return err
 		},
-		remove:       s.store.DeleteTie,
-		fromRevision: fromJSON(store.FormOfTie),
+		remove: s.store.DeleteTie,
 	}
 }
 
 func (s *Server) registerTieEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.tieEdit())
 	r.Get("/ties/{id}", s.handle(s.handleTieShow))
-	r.With(s.requireRole(store.RoleCurator)).Post("/ties/{id}/review", s.handle(s.handleReview("tie point", "/ties",
-		func(ctx context.Context, id int64, version int, accept bool, note string) error {
-			_, err := s.store.ReviewTie(ctx, id, version, accept, note)
-			return err
-		})))
 }
 
 // handleTieShow is the page of one tie point: its age as published, its linked date, its review (and, for
