@@ -17,16 +17,11 @@ func eventType() recordType[Event] {
 			return []any{e.SectionID, e.GroupID, e.Name, e.Kind, e.BaseHeightM, e.TopHeightM, e.AgeMa, e.SigmaMa,
 				e.DateID, e.Origin, e.ReviewState, e.ReviewNote, e.Notes}
 		},
-		meta:  func(e Event) (int64, int, string) { return e.ID, e.Version, e.CreatedAt },
-		label: func(e Event) string { return fmt.Sprintf("event %q", e.Name) },
-		load:  eventInTx,
-		form:  FormOfEvent,
-		summary: func(done string, e Event) string {
-			if done == "added" {
-				return fmt.Sprintf("added event %s of %s", e.Name, e.Section)
-			}
-			return "edited event " + e.Name
-		},
+		meta:    func(e Event) (int64, int, string) { return e.ID, e.Version, e.CreatedAt },
+		label:   func(e Event) string { return fmt.Sprintf("event %q", e.Name) },
+		load:    eventInTx,
+		form:    FormOfEvent,
+		summary: addedOf("event", func(e Event) (string, string) { return e.Name, e.Section }),
 		review: &reviewing[Event]{
 			of:    func(e *Event) (*ReviewState, *string) { return &e.ReviewState, &e.ReviewNote },
 			what:  func(e Event) string { return e.Name },

@@ -113,6 +113,18 @@ type recordType[T any] struct {
 	review *reviewing[T]
 }
 
+// addedOf is the summary of a record that belongs to another: "added event E of S", "edited event E"
+// (nameOwner gives the record's name and its owner's).
+func addedOf[T any](noun string, nameOwner func(T) (string, string)) func(string, T) string {
+	return func(done string, x T) string {
+		name, owner := nameOwner(x)
+		if done == "added" {
+			return fmt.Sprintf("added %s %s of %s", noun, name, owner)
+		}
+		return "edited " + noun + " " + name
+	}
+}
+
 func (rt recordType[T]) noun() string { return strings.ReplaceAll(rt.name, "_", " ") }
 
 // insert adds a new record (id 0) and records its creation in batch.
@@ -444,5 +456,23 @@ func (rt recordType[T]) unique(withID func(*T, int64), clash func(context.Contex
 			withID(x, id)
 		}
 		return clash(ctx, tx, *x)
+	}
+}
+
+// inSection is the prepare of a record that belongs to a section (tie points, hiatuses): a new one goes
+// into section sectionID (ErrNotFound when there is none, before any problem of the form), an edit stays
+// where it is (place); check looks for clashes in a clean form.
+func inSection[T any](sectionID int64, place func(x, before *T, sectionID int64), check func(context.Context, *sql.Tx, *T) ([]Problem, error)) prepare[T] {
+	return func(ctx context.Context, tx *sql.Tx, batch int64, before *T, x *T, problems []Problem) ([]Problem, error) {
+		if before == nil {
+			if _, err := sectionInTx(ctx, tx, sectionID); err != nil {
+				return nil, err
+			}
+		}
+		if len(problems) > 0 {
+			return problems, nil
+		}
+		place(x, before, sectionID)
+		return check(ctx, tx, x)
 	}
 }

@@ -17,16 +17,11 @@ func tieType() recordType[TiePoint] {
 			return []any{t.SectionID, t.Label, t.HeightM, t.Kind, t.Distribution, t.AgeMa, t.SigmaMa, t.SigmaLevel,
 				t.AgeMinMa, t.AgeMaxMa, t.DateID, t.ReviewState, t.ReviewNote, t.Notes}
 		},
-		meta:  func(t TiePoint) (int64, int, string) { return t.ID, t.Version, t.CreatedAt },
-		label: func(t TiePoint) string { return fmt.Sprintf("tie point %q", t.Label) },
-		load:  tieInTx,
-		form:  FormOfTie,
-		summary: func(done string, t TiePoint) string {
-			if done == "added" {
-				return fmt.Sprintf("added tie point %s of %s", t.Label, t.Section)
-			}
-			return "edited tie point " + t.Label
-		},
+		meta:    func(t TiePoint) (int64, int, string) { return t.ID, t.Version, t.CreatedAt },
+		label:   func(t TiePoint) string { return fmt.Sprintf("tie point %q", t.Label) },
+		load:    tieInTx,
+		form:    FormOfTie,
+		summary: addedOf("tie point", func(t TiePoint) (string, string) { return t.Label, t.Section }),
 		review: &reviewing[TiePoint]{
 			of:    func(t *TiePoint) (*ReviewState, *string) { return &t.ReviewState, &t.ReviewNote },
 			what:  func(t TiePoint) string { return t.Label + " of " + t.Section },
@@ -85,14 +80,16 @@ func (d *DB) resolveTie(ctx context.Context, tx *sql.Tx, tp *TiePoint) ([]Proble
 // (asCurator false) starts pending; a curator's takes the form's review_state (accepted when empty).
 func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form, asCurator bool) (TiePoint, error) {
 	tp, problems := parseTieForm(f, asCurator)
-	return tieType().save(ctx, d, 0, 0, tp, problems, func(ctx context.Context, tx *sql.Tx, batch int64, _ *TiePoint, tp *TiePoint, problems []Problem) ([]Problem, error) {
-		sec, err := sectionInTx(ctx, tx, sectionID)
-		if err != nil || len(problems) > 0 {
-			return problems, err
-		}
-		tp.SectionID = sec.ID
-		return d.resolveTie(ctx, tx, tp)
-	})
+	return tieType().save(ctx, d, 0, 0, tp, problems, inSection(sectionID, placeTie, d.resolveTie))
+}
+
+// placeTie puts a new tie in its section; an edited one stays in its section and keeps its review note.
+func placeTie(tp, before *TiePoint, sectionID int64) {
+	if before == nil {
+		tp.SectionID = sectionID
+		return
+	}
+	tp.ID, tp.SectionID, tp.ReviewNote = before.ID, before.SectionID, before.ReviewNote
 }
 
 // UpdateTie replaces tie point id with the form's values when the stored version is still version;
@@ -100,13 +97,7 @@ func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form, asCurator b
 // note; a contributor's edit (asCurator false) makes it pending.
 func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form, asCurator bool) (TiePoint, error) {
 	tp, problems := parseTieForm(f, asCurator)
-	return tieType().save(ctx, d, id, version, tp, problems, func(ctx context.Context, tx *sql.Tx, batch int64, before *TiePoint, tp *TiePoint, problems []Problem) ([]Problem, error) {
-		if len(problems) > 0 {
-			return problems, nil
-		}
-		tp.ID, tp.SectionID, tp.ReviewNote = before.ID, before.SectionID, before.ReviewNote
-		return d.resolveTie(ctx, tx, tp)
-	})
+	return tieType().save(ctx, d, id, version, tp, problems, inSection(0, placeTie, d.resolveTie))
 }
 
 // ReviewTie accepts or rejects tie point id (at version), as a curator; a rejection needs a reason, which

@@ -17,16 +17,11 @@ func unitType() recordType[Unit] {
 			return []any{u.ProvinceID, u.Name, u.Kind, u.PilePosition, u.VolumeKm3, u.VolumeSigmaKm3, u.Latitude,
 				u.Longitude, u.Notes}
 		},
-		meta:  func(u Unit) (int64, int, string) { return u.ID, u.Version, u.CreatedAt },
-		label: func(u Unit) string { return fmt.Sprintf("unit %q", u.Name) },
-		load:  unitInTx,
-		form:  FormOfUnit,
-		summary: func(done string, u Unit) string {
-			if done == "added" {
-				return fmt.Sprintf("added unit %s of %s", u.Name, u.Province)
-			}
-			return "edited unit " + u.Name
-		},
+		meta:    func(u Unit) (int64, int, string) { return u.ID, u.Version, u.CreatedAt },
+		label:   func(u Unit) string { return fmt.Sprintf("unit %q", u.Name) },
+		load:    unitInTx,
+		form:    FormOfUnit,
+		summary: addedOf("unit", func(u Unit) (string, string) { return u.Name, u.Province }),
 		deps: []dependent{
 			{"date", `SELECT count(*) FROM dates WHERE unit_id = ?`},
 			{"pulse membership", `SELECT count(*) FROM pulse_units WHERE unit_id = ?`},

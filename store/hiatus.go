@@ -130,7 +130,7 @@ func parseHiatusForm(f Form, asCurator bool) (Hiatus, []Problem) {
 }
 
 // hiatusHeightProblem refuses a second hiatus at one height of a section: the age model cannot place two.
-func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h Hiatus) ([]Problem, error) {
+func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h *Hiatus) ([]Problem, error) {
 	return uniqueProblem(ctx, tx, "height_m", fmt.Sprintf("the section already has a hiatus at %s m", formatNumber(h.HeightM)),
 		`SELECT id FROM hiatuses WHERE section_id = ? AND height_m = ? AND id <> ?`, h.SectionID, h.HeightM, h.ID)
 }
@@ -140,14 +140,17 @@ func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h Hiatus) ([]Problem, 
 // empty). It returns ErrNotFound for an unknown section and a *ValidationError naming fields.
 func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurator bool) (Hiatus, error) {
 	h, problems := parseHiatusForm(f, asCurator)
-	return hiatusType().save(ctx, d, 0, 0, h, problems, func(ctx context.Context, tx *sql.Tx, batch int64, _ *Hiatus, h *Hiatus, problems []Problem) ([]Problem, error) {
-		sec, err := sectionInTx(ctx, tx, sectionID)
-		if err != nil || len(problems) > 0 {
-			return problems, err
-		}
-		h.SectionID = sec.ID
-		return hiatusHeightProblem(ctx, tx, *h)
-	})
+	return hiatusType().save(ctx, d, 0, 0, h, problems, inSection(sectionID, placeHiatus, hiatusHeightProblem))
+}
+
+// placeHiatus puts a new hiatus in its section; an edited one stays in its section and keeps its review
+// note.
+func placeHiatus(h, before *Hiatus, sectionID int64) {
+	if before == nil {
+		h.SectionID = sectionID
+		return
+	}
+	h.ID, h.SectionID, h.ReviewNote = before.ID, before.SectionID, before.ReviewNote
 }
 
 // UpdateHiatus replaces hiatus id with the form's values when the stored version is still version;
@@ -155,13 +158,7 @@ func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurato
 // review note; a contributor's edit (asCurator false) makes it pending.
 func (d *DB) UpdateHiatus(ctx context.Context, id int64, version int, f Form, asCurator bool) (Hiatus, error) {
 	h, problems := parseHiatusForm(f, asCurator)
-	return hiatusType().save(ctx, d, id, version, h, problems, func(ctx context.Context, tx *sql.Tx, batch int64, before *Hiatus, h *Hiatus, problems []Problem) ([]Problem, error) {
-		if len(problems) > 0 {
-			return problems, nil
-		}
-		h.ID, h.SectionID, h.ReviewNote = before.ID, before.SectionID, before.ReviewNote
-		return hiatusHeightProblem(ctx, tx, *h)
-	})
+	return hiatusType().save(ctx, d, id, version, h, problems, inSection(0, placeHiatus, hiatusHeightProblem))
 }
 
 // ReviewHiatus accepts or rejects hiatus id (at version), as a curator; a rejection needs a reason, which
@@ -199,7 +196,7 @@ func (d *DB) ImportHiatuses(ctx context.Context, section, file string, r io.Read
 			pendingNote(ctx, res, len(recs), "hiatuses", func(i int) *ReviewState { return &recs[i].ReviewState })
 			for i := range recs {
 				recs[i].SectionID = sid
-				ps, err := hiatusHeightProblem(ctx, tx, recs[i])
+				ps, err := hiatusHeightProblem(ctx, tx, &recs[i])
 				if err != nil {
 					return err
 				}

@@ -32,10 +32,7 @@ func (s *Server) dateEdit() recordEdit {
 			return stored{form: store.FormOfDate(d), version: d.Version, name: d.SampleCode, review: d.ReviewState,
 				crumbs: dateCrumbs()}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateDate(ctx, id, version, f, curator)
-			return err
-		},
+		update: savedBy(s.store.UpdateDate),
 		remove: s.store.DeleteDate,
 		mayEdit: func(r *http.Request, id int64, st stored) error {
 			return s.mayEditDraft(r, "date", "date", id, st.review)

@@ -2,8 +2,6 @@ package web
 
 import (
 	"context"
-	"errors"
-	"fmt"
 	"net/http"
 	"strconv"
 
@@ -33,23 +31,13 @@ func (s *Server) eventEdit() recordEdit {
 			sec, err := s.sectionOfPath(r)
 			return store.Form{"kind": "hg_anomaly", "review_state": "pending"}, sectionCrumbs(sec), err
 		},
-		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
-			id, err := pathID(r, "id")
-			if err != nil {
-				return 0, err
-			}
-			e, err := s.store.CreateEvent(r.Context(), id, f, curator)
-			return e.ID, err
-		},
+		create: createdInSection(s.store.CreateEvent, func(x store.Event) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			e, err := s.store.Event(ctx, id)
 			return stored{form: store.FormOfEvent(e), version: e.Version, name: e.Name, review: e.ReviewState,
 				crumbs: eventCrumbs(e)}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateEvent(ctx, id, version, f, curator)
-			return err
-		},
+		update: savedBy(s.store.UpdateEvent),
 		remove: s.store.DeleteEvent,
 		mayEdit: func(r *http.Request, id int64, st stored) error {
 			return s.mayEditDraft(r, "event", "event", id, st.review)
@@ -138,50 +126,4 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	v.Actions = append(reviewActions(r, "/events", e.ID, e.Version, e.ReviewState), acts...)
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
-}
-
-// reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
-func reviewActions(r *http.Request, path string, id int64, version int, state store.ReviewState) []views.Action {
-	if !isCurator(r) {
-		return nil
-	}
-	hidden := func(decision string) []views.KV {
-		return []views.KV{{Label: "version", Value: strconv.Itoa(version)}, {Label: "decision", Value: decision}}
-	}
-	var acts []views.Action
-	if state != store.ReviewAccepted {
-		acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("accept"), Reason: "note (optional)"})
-	}
-	if state != store.ReviewRejected {
-		acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("reject"), Reason: "reason (required)"})
-	}
-	return acts
-}
-
-// handleReview is the POST of a curator's accept or reject (with a reason) of a reviewed record at
-// e.path/{id}.
-func (s *Server) handleReview(e recordEdit) func(http.ResponseWriter, *http.Request) error {
-	return func(w http.ResponseWriter, r *http.Request) error {
-		r = actingCtx(r)
-		id, err := pathID(r, "id")
-		if err != nil {
-			return err
-		}
-		version, err := strconv.Atoi(r.PostFormValue("version"))
-		if err != nil {
-			return badRequest{message: fmt.Sprintf("The review lacks the version it was made on; open the %s again.", e.noun)}
-		}
-		err = s.store.Review(r.Context(), e.recordType, id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
-		if ve, ok := store.AsValidation(err); ok {
-			return badRequest{message: "The review was not saved:", problems: problemTexts(ve.Problems)}
-		}
-		if errors.Is(err, store.ErrConflict) {
-			return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not reviewed. Reload it and review the current version.", e.noun)}
-		}
-		if err != nil {
-			return err
-		}
-		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
-		return nil
-	}
 }

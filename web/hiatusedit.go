@@ -30,23 +30,13 @@ func (s *Server) hiatusEdit() recordEdit {
 			sec, err := s.sectionOfPath(r)
 			return store.Form{"min_duration_ma": "0", "review_state": "pending"}, sectionCrumbs(sec), err
 		},
-		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
-			id, err := pathID(r, "id")
-			if err != nil {
-				return 0, err
-			}
-			h, err := s.store.CreateHiatus(r.Context(), id, f, curator)
-			return h.ID, err
-		},
+		create: createdInSection(s.store.CreateHiatus, func(x store.Hiatus) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			h, err := s.store.Hiatus(ctx, id)
 			return stored{form: store.FormOfHiatus(h), version: h.Version, name: hiatusTitle(h), review: h.ReviewState,
 				crumbs: sectionCrumbs(store.Section{ID: h.SectionID, Name: h.Section})}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateHiatus(ctx, id, version, f, curator)
-			return err
-		},
+		update: savedBy(s.store.UpdateHiatus),
 		remove: s.store.DeleteHiatus,
 	}
 }

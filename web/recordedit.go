@@ -228,13 +228,9 @@ func (s *Server) handleRecordUpdate(e recordEdit) func(http.ResponseWriter, *htt
 func (s *Server) handleRecordDelete(e recordEdit) func(http.ResponseWriter, *http.Request) error {
 	return func(w http.ResponseWriter, r *http.Request) error {
 		r = actingCtx(r)
-		id, err := pathID(r, "id")
+		id, version, err := idAndVersion(r, fmt.Sprintf("The request lacks the version; open the %s again.", e.noun))
 		if err != nil {
 			return err
-		}
-		version, err := strconv.Atoi(r.PostFormValue("version"))
-		if err != nil {
-			return badRequest{message: fmt.Sprintf("The request lacks the version; open the %s again.", e.noun)}
 		}
 		if err := refusal(e.noun, "deleted", e.remove(r.Context(), id, version)); err != nil {
 			return err
@@ -375,4 +371,81 @@ func recordLinks(r *http.Request, e recordEdit, id int64, st stored) ([]views.Li
 			Hidden: []views.KV{{Label: "version", Value: strconv.Itoa(st.version)}}, Danger: true})
 	}
 	return links, acts
+}
+
+// idAndVersion reads the record id of the path and the version a POST was made on; missing is the
+// message when the version is not there.
+func idAndVersion(r *http.Request, missing string) (int64, int, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return 0, 0, err
+	}
+	version, err := strconv.Atoi(r.PostFormValue("version"))
+	if err != nil {
+		return 0, 0, badRequest{message: missing}
+	}
+	return id, version, nil
+}
+
+// createdInSection adapts a store's creation of a record in the section of the path (/sections/{id}/…)
+// to recordEdit.create.
+func createdInSection[T any](create func(context.Context, int64, store.Form, bool) (T, error), id func(T) int64) func(*http.Request, store.Form, bool) (int64, error) {
+	return func(r *http.Request, f store.Form, curator bool) (int64, error) {
+		sec, err := pathID(r, "id")
+		if err != nil {
+			return 0, err
+		}
+		x, err := create(r.Context(), sec, f, curator)
+		return id(x), err
+	}
+}
+
+// savedBy adapts a store's update of a record with a review state to recordEdit.update.
+func savedBy[T any](update func(context.Context, int64, int, store.Form, bool) (T, error)) func(context.Context, int64, int, store.Form, bool) error {
+	return func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
+		_, err := update(ctx, id, version, f, curator)
+		return err
+	}
+}
+
+// reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
+func reviewActions(r *http.Request, path string, id int64, version int, state store.ReviewState) []views.Action {
+	if !isCurator(r) {
+		return nil
+	}
+	hidden := func(decision string) []views.KV {
+		return []views.KV{{Label: "version", Value: strconv.Itoa(version)}, {Label: "decision", Value: decision}}
+	}
+	var acts []views.Action
+	if state != store.ReviewAccepted {
+		acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("accept"), Reason: "note (optional)"})
+	}
+	if state != store.ReviewRejected {
+		acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("reject"), Reason: "reason (required)"})
+	}
+	return acts
+}
+
+// handleReview is the POST of a curator's accept or reject (with a reason) of a reviewed record at
+// e.path/{id}.
+func (s *Server) handleReview(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		r = actingCtx(r)
+		id, version, err := idAndVersion(r, fmt.Sprintf("The review lacks the version it was made on; open the %s again.", e.noun))
+		if err != nil {
+			return err
+		}
+		err = s.store.Review(r.Context(), e.recordType, id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
+		if ve, ok := store.AsValidation(err); ok {
+			return badRequest{message: "The review was not saved:", problems: problemTexts(ve.Problems)}
+		}
+		if errors.Is(err, store.ErrConflict) {
+			return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not reviewed. Reload it and review the current version.", e.noun)}
+		}
+		if err != nil {
+			return err
+		}
+		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
+		return nil
+	}
 }

@@ -45,23 +45,13 @@ func (s *Server) tieEdit() recordEdit {
 			sec, err := s.sectionOfPath(r)
 			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": "pending"}, sectionCrumbs(sec), err
 		},
-		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
-			id, err := pathID(r, "id")
-			if err != nil {
-				return 0, err
-			}
-			tp, err := s.store.CreateTie(r.Context(), id, f, curator)
-			return tp.ID, err
-		},
+		create: createdInSection(s.store.CreateTie, func(x store.TiePoint) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			tp, err := s.store.TiePoint(ctx, id)
 			return stored{form: store.FormOfTie(tp), version: tp.Version, name: tp.Label, review: tp.ReviewState,
 				crumbs: sectionCrumbs(store.Section{ID: tp.SectionID, Name: tp.Section})}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateTie(ctx, id, version, f, curator)
-			return err
-		},
+		update: savedBy(s.store.UpdateTie),
 		remove: s.store.DeleteTie,
 	}
 }
