@@ -29,7 +29,7 @@ func (s *Server) eventEdit() recordEdit {
 		},
 		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
 			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "hg_anomaly", "review_state": "pending"}, sectionCrumbs(sec), err
+			return store.Form{"kind": "hg_anomaly", "review_state": string(store.ReviewPending)}, sectionCrumbs(sec), err
 		},
 		create: createdInSection(s.store.CreateEvent, func(x store.Event) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {

@@ -28,7 +28,7 @@ func (s *Server) hiatusEdit() recordEdit {
 		},
 		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
 			sec, err := s.sectionOfPath(r)
-			return store.Form{"min_duration_ma": "0", "review_state": "pending"}, sectionCrumbs(sec), err
+			return store.Form{"min_duration_ma": "0", "review_state": string(store.ReviewPending)}, sectionCrumbs(sec), err
 		},
 		create: createdInSection(s.store.CreateHiatus, func(x store.Hiatus) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {

@@ -43,7 +43,7 @@ func (s *Server) tieEdit() recordEdit {
 		},
 		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
 			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": "pending"}, sectionCrumbs(sec), err
+			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": string(store.ReviewPending)}, sectionCrumbs(sec), err
 		},
 		create: createdInSection(s.store.CreateTie, func(x store.TiePoint) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
