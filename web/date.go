@@ -403,10 +403,7 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	}
 	source.Fields = append(source.Fields, views.KV{Label: "Notes", Value: orDash(d.Notes)})
 	v.Groups = append(v.Groups, source)
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), d.ReviewState)}
-	if d.ReviewState != store.ReviewAccepted {
-		review.Class = "pending"
-	}
+	review := reviewField(d.ReviewState)
 	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: []views.KV{review,
 		{Label: "Record number", Value: strconv.FormatInt(d.ID, 10)},
 		{Label: "Version", Value: itoa(d.Version)},
@@ -414,9 +411,8 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Last changed", Value: when(d.UpdatedAt)},
 		{Label: "Revisions recorded", Value: itoa(revs)},
 	}})
-	links, acts := recordLinks(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
-	v.Links = append(v.Links, links...)
-	v.Actions = append(reviewActions(r, "/dates", d.ID, d.Version, d.ReviewState), acts...)
+	links, acts := recordPage(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
+	v.Links, v.Actions = append(v.Links, links...), acts
 	if d.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+d.ReviewNote)
 	}

@@ -101,10 +101,7 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	if e.SectionID != nil {
 		sec.URL = idURL("/sections", *e.SectionID)
 	}
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), e.ReviewState)}
-	if e.ReviewState != store.ReviewAccepted {
-		review.Class = "pending"
-	}
+	review := reviewField(e.ReviewState)
 	v.Groups = []views.FieldGroup{{Title: "Event", Fields: []views.KV{sec,
 		{Label: "Kind", Value: store.Label(store.EventKinds(), e.Kind)},
 		{Label: "Base", Value: optNum(e.BaseHeightM) + " m"},
@@ -120,10 +117,7 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	if e.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+e.ReviewNote)
 	}
-	ed := s.eventEdit()
-	links, acts := recordLinks(r, ed, id, stored{version: e.Version, review: e.ReviewState})
-	v.Links = links
-	v.Actions = append(reviewActions(r, "/events", e.ID, e.Version, e.ReviewState), acts...)
+	v.Links, v.Actions = recordPage(r, s.eventEdit(), id, stored{version: e.Version, review: e.ReviewState})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
 }

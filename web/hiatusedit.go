@@ -90,10 +90,7 @@ func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error 
 	v := views.Detail{Page: s.page(ctx, hiatusTitle(h), "Sections")}
 	v.Page.Crumbs = sectionCrumbs(store.Section{ID: h.SectionID, Name: h.Section})
 	v.Page.Downloads = []views.Link{{Label: "JSON", URL: withQuery(r, "format", "json")}}
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), h.ReviewState)}
-	if h.ReviewState != store.ReviewAccepted {
-		review.Class = "pending"
-	}
+	review := reviewField(h.ReviewState)
 	v.Groups = []views.FieldGroup{{Title: "Hiatus", Fields: []views.KV{
 		{Label: "Section", Value: h.Section, URL: idURL("/sections", h.SectionID)},
 		{Label: "Height", Value: num(h.HeightM) + " m above the base"},
@@ -106,19 +103,8 @@ func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error 
 		{Label: "Last changed", Value: when(h.UpdatedAt)},
 	}}}
 	v.Notes = append(v.Notes, "The age–height model honours a hiatus that lies between its lowest and highest tie points: at least the minimum duration passes at this height. The naive linear model ignores hiatuses.")
-	switch h.ReviewState {
-	case store.ReviewPending:
-		v.Notes = append(v.Notes, "This hiatus waits for a curator's review. Until it is accepted, the age–height model of "+h.Section+
-			" and the comparison leave it out, unless the address says include=pending or include=all.")
-	case store.ReviewRejected:
-		v.Notes = append(v.Notes, "This hiatus was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
-	}
-	if h.ReviewNote != "" {
-		v.Notes = append(v.Notes, "Review note: "+h.ReviewNote)
-	}
-	links, acts := recordLinks(r, s.hiatusEdit(), id, stored{version: h.Version, review: h.ReviewState})
-	v.Links = links
-	v.Actions = append(reviewActions(r, "/hiatuses", h.ID, h.Version, h.ReviewState), acts...)
+	v.Notes = append(v.Notes, ageModelReviewNotes("hiatus", h.Section, h.ReviewState, h.ReviewNote)...)
+	v.Links, v.Actions = recordPage(r, s.hiatusEdit(), id, stored{version: h.Version, review: h.ReviewState})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
 }

@@ -408,6 +408,42 @@ func savedBy[T any](update func(context.Context, int64, int, store.Form, bool) (
 	}
 }
 
+// recordPage gives a record's page its links and buttons: those of recordLinks, preceded for a reviewed
+// kind by the curator's accept and reject.
+func recordPage(r *http.Request, e recordEdit, id int64, st stored) ([]views.Link, []views.Action) {
+	links, acts := recordLinks(r, e, id, st)
+	if store.Reviewed(e.recordType) {
+		acts = append(reviewActions(r, e.path, id, st.version, st.review), acts...)
+	}
+	return links, acts
+}
+
+// reviewField is a reviewed record's review state as its page shows it, marked when not accepted.
+func reviewField(state store.ReviewState) views.KV {
+	kv := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), state)}
+	if state != store.ReviewAccepted {
+		kv.Class = "pending"
+	}
+	return kv
+}
+
+// ageModelReviewNotes say what the review of a tie point or hiatus means for the age–height model of
+// section, and give the review note.
+func ageModelReviewNotes(noun, section string, state store.ReviewState, note string) []string {
+	var out []string
+	switch state {
+	case store.ReviewPending:
+		out = append(out, "This "+noun+" waits for a curator's review. Until it is accepted, the age–height model of "+section+
+			" and the comparison leave it out, unless the address says include=pending or include=all.")
+	case store.ReviewRejected:
+		out = append(out, "This "+noun+" was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
+	}
+	if note != "" {
+		out = append(out, "Review note: "+note)
+	}
+	return out
+}
+
 // reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
 func reviewActions(r *http.Request, path string, id int64, version int, state store.ReviewState) []views.Action {
 	if !isCurator(r) {

@@ -89,10 +89,7 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 	t := tieTable([]store.TiePoint{tp}, level, false)
 	t.Caption = "Tie point"
 	v.Tables = []views.Table{t}
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), tp.ReviewState)}
-	if tp.ReviewState != store.ReviewAccepted {
-		review.Class = "pending"
-	}
+	review := reviewField(tp.ReviewState)
 	v.Groups = []views.FieldGroup{{Title: "Record", Fields: []views.KV{review,
 		{Label: "Section", Value: tp.Section, URL: idURL("/sections", tp.SectionID)},
 		{Label: "Distribution", Value: tp.Distribution},
@@ -101,19 +98,8 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Added", Value: when(tp.CreatedAt)},
 		{Label: "Last changed", Value: when(tp.UpdatedAt)},
 	}}}
-	switch tp.ReviewState {
-	case store.ReviewPending:
-		v.Notes = append(v.Notes, "This tie point waits for a curator's review. Until it is accepted, the age–height model of "+tp.Section+
-			" and the comparison leave it out, unless the address says include=pending or include=all.")
-	case store.ReviewRejected:
-		v.Notes = append(v.Notes, "This tie point was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
-	}
-	if tp.ReviewNote != "" {
-		v.Notes = append(v.Notes, "Review note: "+tp.ReviewNote)
-	}
-	links, acts := recordLinks(r, s.tieEdit(), id, stored{version: tp.Version, review: tp.ReviewState})
-	v.Links = links
-	v.Actions = append(reviewActions(r, "/ties", tp.ID, tp.Version, tp.ReviewState), acts...)
+	v.Notes = append(v.Notes, ageModelReviewNotes("tie point", tp.Section, tp.ReviewState, tp.ReviewNote)...)
+	v.Links, v.Actions = recordPage(r, s.tieEdit(), id, stored{version: tp.Version, review: tp.ReviewState})
 	v.Links = append(v.Links, views.Link{Label: "Show the age at " + itoa(3-level) + "σ", URL: withQuery(r, "sigma", itoa(3-level))})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
