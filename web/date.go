@@ -404,13 +404,8 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	source.Fields = append(source.Fields, views.KV{Label: "Notes", Value: orDash(d.Notes)})
 	v.Groups = append(v.Groups, source)
 	review := reviewField(d.ReviewState)
-	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: []views.KV{review,
-		{Label: "Record number", Value: strconv.FormatInt(d.ID, 10)},
-		{Label: "Version", Value: itoa(d.Version)},
-		{Label: "Added", Value: when(d.CreatedAt)},
-		{Label: "Last changed", Value: when(d.UpdatedAt)},
-		{Label: "Revisions recorded", Value: itoa(revs)},
-	}})
+	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: append(append([]views.KV{review},
+		recordFields(d.ID, d.Version, d.CreatedAt, d.UpdatedAt)...), views.KV{Label: "Revisions recorded", Value: itoa(revs)})})
 	links, acts := recordPage(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
 	v.Links, v.Actions = append(v.Links, links...), acts
 	if d.ReviewNote != "" {

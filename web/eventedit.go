@@ -3,7 +3,6 @@ package web
 import (
 	"context"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -27,11 +26,8 @@ func (s *Server) eventEdit() recordEdit {
 			{"review_state", "Review", "curators only; a contributor's change is pending", store.ReviewStates},
 			{"notes", "Notes", "", nil},
 		},
-		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
-			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "hg_anomaly", "review_state": string(store.ReviewPending)}, sectionCrumbs(sec), err
-		},
-		create: createdInSection(s.store.CreateEvent, func(x store.Event) int64 { return x.ID }),
+		newForm: s.newInSection(store.Form{"kind": "hg_anomaly", "review_state": string(store.ReviewPending)}),
+		create:  createdInSection(s.store.CreateEvent, func(x store.Event) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			e, err := s.store.Event(ctx, id)
 			return stored{form: store.FormOfEvent(e), version: e.Version, name: e.Name, review: e.ReviewState,
@@ -73,13 +69,8 @@ func eventCrumbs(e store.Event) []views.Link {
 // handleEventShow is the page of one event: its fields, review, history and the changes the user may make.
 func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
-	id, err := pathID(r, "id")
+	id, format, err := idAndFormat(r)
 	if err != nil {
-		return err
-	}
-	p := newParams(r)
-	format := p.oneOf("format", []string{"html", "json"}, "html")
-	if err := p.err(); err != nil {
 		return err
 	}
 	e, err := s.store.Event(ctx, id)
@@ -108,12 +99,7 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 		{Label: "Top", Value: top},
 		{Label: "Found", Value: e.Origin},
 		{Label: "Notes", Value: orDash(e.Notes)},
-	}}, {Title: "Record", Fields: []views.KV{review,
-		{Label: "Record number", Value: strconv.FormatInt(e.ID, 10)},
-		{Label: "Version", Value: itoa(e.Version)},
-		{Label: "Added", Value: when(e.CreatedAt)},
-		{Label: "Last changed", Value: when(e.UpdatedAt)},
-	}}}
+	}}, {Title: "Record", Fields: append([]views.KV{review}, recordFields(e.ID, e.Version, e.CreatedAt, e.UpdatedAt)...)}}
 	if e.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+e.ReviewNote)
 	}

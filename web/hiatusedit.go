@@ -3,7 +3,6 @@ package web
 import (
 	"context"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -26,11 +25,8 @@ func (s *Server) hiatusEdit() recordEdit {
 			{"review_state", "Review", "curators only; a contributor's hiatus is pending", store.ReviewStates},
 			{"notes", "Notes", "the evidence: surface, lag, missing zones", nil},
 		},
-		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
-			sec, err := s.sectionOfPath(r)
-			return store.Form{"min_duration_ma": "0", "review_state": string(store.ReviewPending)}, sectionCrumbs(sec), err
-		},
-		create: createdInSection(s.store.CreateHiatus, func(x store.Hiatus) int64 { return x.ID }),
+		newForm: s.newInSection(store.Form{"min_duration_ma": "0", "review_state": string(store.ReviewPending)}),
+		create:  createdInSection(s.store.CreateHiatus, func(x store.Hiatus) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			h, err := s.store.Hiatus(ctx, id)
 			return stored{form: store.FormOfHiatus(h), version: h.Version, name: hiatusTitle(h), review: h.ReviewState,
@@ -70,13 +66,8 @@ func hiatusTable(hs []store.Hiatus) views.Table {
 // curators, the accept and reject buttons), and its history.
 func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
-	id, err := pathID(r, "id")
+	id, format, err := idAndFormat(r)
 	if err != nil {
-		return err
-	}
-	p := newParams(r)
-	format := p.oneOf("format", []string{"html", "json"}, "html")
-	if err := p.err(); err != nil {
 		return err
 	}
 	h, err := s.store.Hiatus(ctx, id)
@@ -96,12 +87,7 @@ func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error 
 		{Label: "Height", Value: num(h.HeightM) + " m above the base"},
 		{Label: "Minimum duration", Value: num(h.MinDurationMa) + " Ma"},
 		{Label: "Notes", Value: orDash(h.Notes)},
-	}}, {Title: "Record", Fields: []views.KV{review,
-		{Label: "Record number", Value: strconv.FormatInt(h.ID, 10)},
-		{Label: "Version", Value: itoa(h.Version)},
-		{Label: "Added", Value: when(h.CreatedAt)},
-		{Label: "Last changed", Value: when(h.UpdatedAt)},
-	}}}
+	}}, {Title: "Record", Fields: append([]views.KV{review}, recordFields(h.ID, h.Version, h.CreatedAt, h.UpdatedAt)...)}}
 	v.Notes = append(v.Notes, "The age–height model honours a hiatus that lies between its lowest and highest tie points: at least the minimum duration passes at this height. The naive linear model ignores hiatuses.")
 	v.Notes = append(v.Notes, ageModelReviewNotes("hiatus", h.Section, h.ReviewState, h.ReviewNote)...)
 	v.Links, v.Actions = recordPage(r, s.hiatusEdit(), id, stored{version: h.Version, review: h.ReviewState})

@@ -273,13 +273,8 @@ func fieldDiff(caption string, fields []formField, a, b store.Form, aLabel, bLab
 func (s *Server) handleRecordHistory(e recordEdit) func(http.ResponseWriter, *http.Request) error {
 	return func(w http.ResponseWriter, r *http.Request) error {
 		ctx := r.Context()
-		id, err := pathID(r, "id")
+		id, format, err := idAndFormat(r)
 		if err != nil {
-			return err
-		}
-		p := newParams(r)
-		format := p.oneOf("format", []string{"html", "json"}, "html")
-		if err := p.err(); err != nil {
 			return err
 		}
 		revs, err := s.store.Revisions(ctx, e.recordType, id)
@@ -398,6 +393,36 @@ func createdInSection[T any](create func(context.Context, int64, store.Form, boo
 		x, err := create(r.Context(), sec, f, curator)
 		return id(x), err
 	}
+}
+
+// newInSection is the newForm of records added to the section of the path (/sections/{id}/…): the form's
+// defaults, and the section's breadcrumbs (404 for an unknown section).
+func (s *Server) newInSection(defaults store.Form) func(*http.Request) (store.Form, []views.Link, error) {
+	return func(r *http.Request) (store.Form, []views.Link, error) {
+		sec, err := s.sectionOfPath(r)
+		return defaults, sectionCrumbs(sec), err
+	}
+}
+
+// recordFields are the fields that end the "Record" group of every record's page.
+func recordFields(id int64, version int, created, updated string) []views.KV {
+	return []views.KV{
+		{Label: "Record number", Value: strconv.FormatInt(id, 10)},
+		{Label: "Version", Value: itoa(version)},
+		{Label: "Added", Value: when(created)},
+		{Label: "Last changed", Value: when(updated)},
+	}
+}
+
+// idAndFormat reads the record id of the path and format= (html or json) of a record's page.
+func idAndFormat(r *http.Request) (int64, string, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return 0, "", err
+	}
+	p := newParams(r)
+	format := p.oneOf("format", []string{"html", "json"}, "html")
+	return id, format, p.err()
 }
 
 // savedBy adapts a store's update of a record with a review state to recordEdit.update.

@@ -3,7 +3,6 @@ package web
 import (
 	"context"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -41,11 +40,8 @@ func (s *Server) tieEdit() recordEdit {
 			{"review_state", "Review", "curators only; a contributor's tie is pending", store.ReviewStates},
 			{"notes", "Notes", "", nil},
 		},
-		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
-			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": string(store.ReviewPending)}, sectionCrumbs(sec), err
-		},
-		create: createdInSection(s.store.CreateTie, func(x store.TiePoint) int64 { return x.ID }),
+		newForm: s.newInSection(store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": string(store.ReviewPending)}),
+		create:  createdInSection(s.store.CreateTie, func(x store.TiePoint) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			tp, err := s.store.TiePoint(ctx, id)
 			return stored{form: store.FormOfTie(tp), version: tp.Version, name: tp.Label, review: tp.ReviewState,
@@ -90,14 +86,10 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 	t.Caption = "Tie point"
 	v.Tables = []views.Table{t}
 	review := reviewField(tp.ReviewState)
-	v.Groups = []views.FieldGroup{{Title: "Record", Fields: []views.KV{review,
+	v.Groups = []views.FieldGroup{{Title: "Record", Fields: append([]views.KV{review,
 		{Label: "Section", Value: tp.Section, URL: idURL("/sections", tp.SectionID)},
 		{Label: "Distribution", Value: tp.Distribution},
-		{Label: "Record number", Value: strconv.FormatInt(tp.ID, 10)},
-		{Label: "Version", Value: itoa(tp.Version)},
-		{Label: "Added", Value: when(tp.CreatedAt)},
-		{Label: "Last changed", Value: when(tp.UpdatedAt)},
-	}}}
+	}, recordFields(tp.ID, tp.Version, tp.CreatedAt, tp.UpdatedAt)...)}}
 	v.Notes = append(v.Notes, ageModelReviewNotes("tie point", tp.Section, tp.ReviewState, tp.ReviewNote)...)
 	v.Links, v.Actions = recordPage(r, s.tieEdit(), id, stored{version: tp.Version, review: tp.ReviewState})
 	v.Links = append(v.Links, views.Link{Label: "Show the age at " + itoa(3-level) + "σ", URL: withQuery(r, "sigma", itoa(3-level))})
