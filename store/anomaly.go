@@ -182,7 +182,7 @@ func (d *DB) AnomalyToEvent(ctx context.Context, k AnomalyKey, name, notes strin
 		}
 		base, top := k.BaseHeightM, k.TopHeightM
 		ev = Event{SectionID: &k.SectionID, Section: sec, Name: name, Kind: "hg_anomaly", BaseHeightM: &base, Origin: "detected",
-			ReviewState: "accepted", Notes: note}
+			ReviewState: ReviewAccepted, Notes: note}
 		if top > base {
 			ev.TopHeightM = &top
 		}

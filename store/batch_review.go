@@ -87,16 +87,11 @@ func (d *DB) UndoBatch(ctx context.Context, batchID int64) (int, error) {
 // leftAsIs reports whether the record of rev is still as rev left it (gone, when rev deleted it), apart
 // from its version and time stamp: only then can rev be taken back without losing a later change.
 func (d *DB) leftAsIs(ctx context.Context, tx *sql.Tx, rev Revision) (bool, error) {
-	var cur any
-	var err error
-	switch rt, ok := reverters()[rev.RecordType]; {
-	case rev.RecordType == "date":
-		cur, err = dateInTx(ctx, tx, rev.RecordID)
-	case ok:
-		cur, err = rt.state(ctx, tx, rev.RecordID)
-	default:
+	rt, ok := kinds()[rev.RecordType]
+	if !ok {
 		return false, &ValidationError{[]Problem{{Message: fmt.Sprintf("%s records cannot be undone as part of a change", strings.ReplaceAll(rev.RecordType, "_", " "))}}}
 	}
+	cur, err := rt.state(ctx, tx, rev.RecordID)
 	if errors.Is(err, ErrNotFound) {
 		return rev.After == nil, nil
 	}
@@ -130,25 +125,29 @@ func sameContent(a, b []byte) (bool, error) {
 
 // revertTx gives the record of rev the state it had just before rev, recorded in batch.
 func (d *DB) revertTx(ctx context.Context, tx *sql.Tx, batch int64, rev Revision) error {
-	if rev.RecordType == "date" {
-		return d.revertDateTx(ctx, tx, batch, rev)
-	}
-	rt, ok := reverters()[rev.RecordType]
+	rt, ok := kinds()[rev.RecordType]
 	if !ok {
 		return &ValidationError{[]Problem{{Message: fmt.Sprintf("%s records cannot be undone as part of a change", strings.ReplaceAll(rev.RecordType, "_", " "))}}}
 	}
 	return rt.revert(ctx, d, tx, batch, rev)
 }
 
-// AcceptBatch accepts, as one new change, every date, event, tie point and hiatus that batch added and that still
-// waits for review as it was added. Records changed since are left for review one by one; the second result names
-// them. It returns how many records were accepted.
+// AcceptBatch accepts, as one new change, every record of a reviewed kind (date, event, tie point,
+// hiatus) that batch added and that still waits for review as it was added. Records changed since are left
+// for review one by one; the second result names them. It returns how many records were accepted.
 func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, error) {
 	n := 0
 	var skipped []string
+	byName := kinds()
+	var reviewed []string
+	for _, k := range allKinds() {
+		if _, ok := k.reviewTable(); ok {
+			reviewed = append(reviewed, "'"+k.recordName()+"'")
+		}
+	}
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
 		n, skipped = 0, nil
-		revs, err := queryAllTx(ctx, tx, revisionSelect+` WHERE r.batch_id = ? AND r.before_json IS NULL AND r.record_type IN ('date', 'event', 'tie_point', 'hiatus') ORDER BY r.id`,
+		revs, err := queryAllTx(ctx, tx, revisionSelect+` WHERE r.batch_id = ? AND r.before_json IS NULL AND r.record_type IN (`+strings.Join(reviewed, ", ")+`) ORDER BY r.id`,
 			[]any{batchID}, scanRevision)
 		if err != nil {
 			return err
@@ -162,31 +161,16 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 			if err != nil {
 				return err
 			}
-			var ok bool
-			var skip string
-			switch rev.RecordType {
-			case "date":
-				ok, skip, err = d.acceptDateIfPending(ctx, tx, accept, rev.RecordID, same)
-			case "event":
-				ok, skip, err = acceptIfPending(ctx, d, tx, accept, eventType(), rev.RecordID, same,
-					func(e Event) string { return "event " + e.Name }, func(e *Event) *string { return &e.ReviewState })
-			case "tie_point":
-				ok, skip, err = acceptIfPending(ctx, d, tx, accept, tieType(), rev.RecordID, same,
-					func(t TiePoint) string { return "tie point " + t.Label }, func(t *TiePoint) *string { return &t.ReviewState })
-			case "hiatus":
-				ok, skip, err = acceptIfPending(ctx, d, tx, accept, hiatusType(), rev.RecordID, same,
-					hiatusLabel, func(h *Hiatus) *string { return &h.ReviewState })
-			}
+			ok, skip, err := byName[rev.RecordType].acceptPending(ctx, d, tx, accept, rev.RecordID, same)
 			if err != nil {
 				return err
 			}
 			if skip != "" {
 				skipped = append(skipped, skip)
 			}
-			if !ok {
-				continue
+			if ok {
+				n++
 			}
-			n++
 		}
 		if n == 0 {
 			return &ValidationError{[]Problem{{Message: fmt.Sprintf("change %d has nothing waiting for review as it was added", batchID)}}}
@@ -196,65 +180,17 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 	return n, skipped, err
 }
 
-// acceptDateIfPending is acceptIfPending for dates, which are written by writeDate, not a recordType.
-func (d *DB) acceptDateIfPending(ctx context.Context, tx *sql.Tx, batch int64, id int64, same bool) (bool, string, error) {
-	before, err := dateInTx(ctx, tx, id)
-	if errors.Is(err, ErrNotFound) {
-		return false, "", nil
-	} else if err != nil {
-		return false, "", err
-	}
-	if before.ReviewState != "pending" {
-		return false, "", nil
-	}
-	if !same {
-		return false, "date " + before.SampleCode, nil
-	}
-	dt := before
-	dt.ReviewState = "accepted"
-	if err := d.writeDate(ctx, tx, &dt, before.Version); err != nil {
-		return false, "", err
-	}
-	after, err := dateInTx(ctx, tx, id)
-	if err != nil {
-		return false, "", err
-	}
-	return true, "", addRevision(ctx, tx, batch, "date", id, before, after)
-}
-
-// acceptIfPending accepts record id of rt, in batch, when it still waits for review as it was added
-// (same); a pending record changed since is not accepted, and skip names it (by name).
-func acceptIfPending[T any](ctx context.Context, d *DB, tx *sql.Tx, batch int64, rt recordType[T], id int64, same bool,
-	name func(T) string, state func(*T) *string) (accepted bool, skip string, err error) {
-	x, err := rt.load(ctx, tx, id)
-	if errors.Is(err, ErrNotFound) {
-		return false, "", nil
-	} else if err != nil {
-		return false, "", err
-	}
-	if *state(&x) != "pending" {
-		return false, "", nil
-	}
-	if !same {
-		return false, name(x), nil
-	}
-	_, version, _ := rt.meta(x)
-	*state(&x) = "accepted"
-	_, err = rt.update(ctx, d, tx, batch, id, version, x)
-	return err == nil, "", err
-}
-
-// PendingInBatch counts the dates, events, tie points and hiatuses batch added that wait for review now.
+// PendingInBatch counts the records of the reviewed kinds that batch added and that wait for review now
+// (one count per kind's table, each through the index of revisions by batch).
 func (d *DB) PendingInBatch(ctx context.Context, batchID int64) (int, error) {
+	var counts []string
+	for _, k := range allKinds() {
+		if table, ok := k.reviewTable(); ok {
+			counts = append(counts, fmt.Sprintf(`(SELECT count(*) FROM revisions r JOIN %s x ON x.id = r.record_id
+			WHERE r.batch_id = ?1 AND r.record_type = '%s' AND r.before_json IS NULL AND x.review_state = 'pending')`, table, k.recordName()))
+		}
+	}
 	var n int
-	err := d.db.QueryRowContext(ctx, `SELECT
-		(SELECT count(*) FROM revisions r JOIN dates x ON x.id = r.record_id
-			WHERE r.batch_id = ?1 AND r.record_type = 'date' AND r.before_json IS NULL AND x.review_state = 'pending') +
-		(SELECT count(*) FROM revisions r JOIN events x ON x.id = r.record_id
-			WHERE r.batch_id = ?1 AND r.record_type = 'event' AND r.before_json IS NULL AND x.review_state = 'pending') +
-		(SELECT count(*) FROM revisions r JOIN tie_points x ON x.id = r.record_id
-			WHERE r.batch_id = ?1 AND r.record_type = 'tie_point' AND r.before_json IS NULL AND x.review_state = 'pending') +
-		(SELECT count(*) FROM revisions r JOIN hiatuses x ON x.id = r.record_id
-			WHERE r.batch_id = ?1 AND r.record_type = 'hiatus' AND r.before_json IS NULL AND x.review_state = 'pending')`, batchID).Scan(&n)
+	err := d.db.QueryRowContext(ctx, `SELECT `+strings.Join(counts, " +\n\t\t"), batchID).Scan(&n)
 	return n, err
 }

@@ -109,7 +109,7 @@ func TestContributedTiesAcceptedAsOneAndUndoneInTurn(t *testing.T) {
 		out := map[string]string{}
 		tps, _ := db.TiePoints(ctx, 0)
 		for _, tp := range tps {
-			out[tp.Label] = tp.ReviewState
+			out[tp.Label] = string(tp.ReviewState)
 		}
 		return out
 	}

@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"fmt"
 	"io"
-	"strings"
 )
 
 func eventType() recordType[Event] {
@@ -18,9 +17,16 @@ func eventType() recordType[Event] {
 			return []any{e.SectionID, e.GroupID, e.Name, e.Kind, e.BaseHeightM, e.TopHeightM, e.AgeMa, e.SigmaMa,
 				e.DateID, e.Origin, e.ReviewState, e.ReviewNote, e.Notes}
 		},
-		meta:  func(e Event) (int64, int, string) { return e.ID, e.Version, e.CreatedAt },
-		label: func(e Event) string { return fmt.Sprintf("event %q", e.Name) },
-		load:  eventInTx,
+		meta:    func(e Event) (int64, int, string) { return e.ID, e.Version, e.CreatedAt },
+		label:   func(e Event) string { return fmt.Sprintf("event %q", e.Name) },
+		load:    eventInTx,
+		form:    FormOfEvent,
+		summary: addedOf("event", func(e Event) (string, string) { return e.Name, e.Section }),
+		review: &reviewing[Event]{
+			of:    func(e *Event) (*ReviewState, *string) { return &e.ReviewState, &e.ReviewNote },
+			what:  func(e Event) string { return e.Name },
+			title: func(e Event) string { return "event " + e.Name },
+		},
 	}
 }
 
@@ -39,7 +45,7 @@ func (d *DB) Event(ctx context.Context, id int64) (Event, error) {
 // review state.
 func FormOfEvent(e Event) Form {
 	f := formOf(func(w io.Writer) error { return WriteEventsCSV(w, []Event{e}) })
-	f["review_state"] = e.ReviewState
+	f["review_state"] = string(e.ReviewState)
 	return f
 }
 
@@ -48,9 +54,9 @@ func FormOfEvent(e Event) Form {
 func parseEventForm(f Form, asCurator bool) (Event, []Problem) {
 	rw, t := formRow(append(eventColumns[:len(eventColumns):len(eventColumns)], "review_state"), f)
 	ev := parseEventRow(rw)
-	ev.ReviewState = rw.enum("review_state", codes(ReviewStates()), "accepted")
+	ev.ReviewState = reviewStateCell(rw, ReviewAccepted)
 	if !asCurator {
-		ev.ReviewState = "pending"
+		ev.ReviewState = ReviewPending
 	}
 	return ev, t.problems
 }
@@ -64,35 +70,20 @@ func eventNameProblem(ctx context.Context, tx *sql.Tx, e Event) ([]Problem, erro
 // contributor's event starts pending.
 func (d *DB) CreateEvent(ctx context.Context, sectionID int64, f Form, asCurator bool) (Event, error) {
 	ev, problems := parseEventForm(f, asCurator)
-	var out Event
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
+	return eventType().save(ctx, d, 0, 0, ev, problems, func(ctx context.Context, tx *sql.Tx, batch int64, _ *Event, ev *Event, problems []Problem) ([]Problem, error) {
 		sec, err := sectionInTx(ctx, tx, sectionID)
 		if err != nil {
-			return err
+			return nil, err
 		}
 		// The name is checked against the section even when other fields are wrong, so that one
 		// submission lists every problem.
 		ev.SectionID = &sec.ID
-		if ev.Name != "" {
-			ps, err := eventNameProblem(ctx, tx, ev)
-			if err != nil {
-				return err
-			}
-			problems = append(problems, ps...)
+		if ev.Name == "" {
+			return problems, nil
 		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		batch, err := d.newBatch(ctx, tx, "add event", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = eventType().insert(ctx, d, tx, batch, ev); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added event %s of %s", ev.Name, sec.Name))
+		ps, err := eventNameProblem(ctx, tx, *ev)
+		return append(problems, ps...), err
 	})
-	return out, err
 }
 
 // UpdateEvent replaces the entered fields of event id with the form's values when the stored version is
@@ -100,66 +91,20 @@ func (d *DB) CreateEvent(ctx context.Context, sectionID int64, f Form, asCurator
 // linked date, group and review note stay. A contributor's edit makes the event pending.
 func (d *DB) UpdateEvent(ctx context.Context, id int64, version int, f Form, asCurator bool) (Event, error) {
 	ev, problems := parseEventForm(f, asCurator)
-	var out Event
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := eventInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
+	return eventType().save(ctx, d, id, version, ev, problems, func(ctx context.Context, tx *sql.Tx, batch int64, before *Event, ev *Event, problems []Problem) ([]Problem, error) {
 		if len(problems) > 0 {
-			return &ValidationError{problems}
+			return problems, nil
 		}
-		x := before
+		x := *before
 		x.Name, x.Kind, x.BaseHeightM, x.TopHeightM, x.Notes, x.ReviewState = ev.Name, ev.Kind, ev.BaseHeightM, ev.TopHeightM, ev.Notes, ev.ReviewState
-		if ps, err := eventNameProblem(ctx, tx, x); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit event", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = eventType().update(ctx, d, tx, batch, id, version, x); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "edited event "+out.Name)
+		*ev = x
+		return eventNameProblem(ctx, tx, x)
 	})
-	return out, err
 }
 
 // ReviewEvent accepts or rejects event id (at version) with a reason, as a curator.
 func (d *DB) ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (Event, error) {
-	note = strings.TrimSpace(note)
-	if !accept && note == "" {
-		return Event{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the event is rejected"}}}
-	}
-	if err := freeText("note", note, true); err != nil {
-		return Event{}, err
-	}
-	var out Event
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := eventInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		x := before
-		x.ReviewState, x.ReviewNote = "rejected", note
-		kind := "reject event"
-		if accept {
-			x.ReviewState, kind = "accepted", "accept event"
-		}
-		batch, err := d.newBatch(ctx, tx, kind, "review")
-		if err != nil {
-			return err
-		}
-		if out, err = eventType().update(ctx, d, tx, batch, id, version, x); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s %s: %s", kind, before.Name, orNone(note)))
-	})
-	return out, err
+	return eventType().reviewRecord(ctx, d, id, version, accept, note)
 }
 
 // DeleteEvent removes event id (at version), keeping its last state in the revision.

@@ -16,6 +16,7 @@ func provinceType() recordType[Province] {
 		meta:  func(p Province) (int64, int, string) { return p.ID, p.Version, p.CreatedAt },
 		label: func(p Province) string { return fmt.Sprintf("province %q", p.Name) },
 		load:  provinceInTx,
+		form:  FormOfProvince,
 		// Pulses would go with the province (ON DELETE CASCADE) without a revision each.
 		deps: []dependent{
 			{"unit", `SELECT count(*) FROM units WHERE province_id = ?`},
@@ -40,6 +41,10 @@ func parseProvinceForm(f Form) (Province, []Problem) {
 	return parseProvinceRow(rw), t.problems
 }
 
+func provinceUnique() prepare[Province] {
+	return provinceType().unique(func(x *Province, id int64) { x.ID = id }, provinceNameProblem)
+}
+
 func provinceNameProblem(ctx context.Context, tx *sql.Tx, p Province) ([]Problem, error) {
 	return uniqueProblem(ctx, tx, "province", fmt.Sprintf("a province named %q is already in the compilation", p.Name),
 		`SELECT id FROM provinces WHERE name = ? AND id <> ?`, p.Name, p.ID)
@@ -48,15 +53,14 @@ func provinceNameProblem(ctx context.Context, tx *sql.Tx, p Province) ([]Problem
 // CreateProvince adds one province from a form, as the actor of ctx.
 func (d *DB) CreateProvince(ctx context.Context, f Form) (Province, error) {
 	x, problems := parseProvinceForm(f)
-	return provinceType().createRecord(ctx, d, x, problems, provinceNameProblem)
+	return provinceType().save(ctx, d, 0, 0, x, problems, provinceUnique())
 }
 
 // UpdateProvince replaces province id with the form's values when the stored version is still version;
 // otherwise it returns ErrConflict and changes nothing.
 func (d *DB) UpdateProvince(ctx context.Context, id int64, version int, f Form) (Province, error) {
 	x, problems := parseProvinceForm(f)
-	return provinceType().updateRecord(ctx, d, id, version, x, problems,
-		func(x Province, id int64) Province { x.ID = id; return x }, provinceNameProblem)
+	return provinceType().save(ctx, d, id, version, x, problems, provinceUnique())
 }
 
 // DeleteProvince removes province id (at version), keeping its last state in the revision. It refuses

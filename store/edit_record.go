@@ -90,9 +90,11 @@ func isUniqueViolation(err error) bool {
 	return se.Code() == 2067 || se.Code() == 1555
 }
 
-// recordType is how one kind of record without special rules is written, deleted and restored: its
-// table, the columns a form or a restore writes (everything but id, version and the times), and what
-// depends on it. The exported Create/Update/Delete methods of each record use it inside their transaction.
+// recordType is how one kind of record is written, deleted, reviewed and restored: its table, the
+// columns a form or a restore writes (everything but id, version and the times), what depends on it, and,
+// for the kinds curators review, where it keeps its review. Every record of the app goes through it: the
+// exported Create/Update/Review/Delete methods of each record are a parse of the form and a call of save,
+// reviewRecord or deleteRecord, and history, undo and restore find the kind by its record_type (kinds).
 type recordType[T any] struct {
 	name  string // record_type of its revisions, e.g. "unit"
 	table string
@@ -102,7 +104,28 @@ type recordType[T any] struct {
 	label func(T) string // e.g. `unit "Haldruna Flow"`
 	load  func(ctx context.Context, tx *sql.Tx, id int64) (T, error)
 	deps  []dependent
+	// form gives the form cells of a record (the columns of its import format), for history pages; nil
+	// for records without a form.
+	form func(T) Form
+	// summary says in the feed of changes what a form did ("added" or "edited" x); nil gives done + label.
+	summary func(done string, x T) string
+	// review is set for the kinds curators review (dates, events, tie points, hiatuses).
+	review *reviewing[T]
 }
+
+// addedOf is the summary of a record that belongs to another: "added event E of S", "edited event E"
+// (nameOwner gives the record's name and its owner's).
+func addedOf[T any](noun string, nameOwner func(T) (string, string)) func(string, T) string {
+	return func(done string, x T) string {
+		name, owner := nameOwner(x)
+		if done == "added" {
+			return fmt.Sprintf("added %s %s of %s", noun, name, owner)
+		}
+		return "edited " + noun + " " + name
+	}
+}
+
+func (rt recordType[T]) noun() string { return strings.ReplaceAll(rt.name, "_", " ") }
 
 // insert adds a new record (id 0) and records its creation in batch.
 func (rt recordType[T]) insert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, x T) (T, error) {
@@ -248,43 +271,83 @@ func (rt recordType[T]) revert(ctx context.Context, d *DB, tx *sql.Tx, batch int
 	return addRevision(ctx, tx, batch, rt.name, id, before, after)
 }
 
-// reverter is a recordType of any record, for RevertRevision.
-type reverter interface {
+// kind is a recordType of any record: what history, restore, undo and review do with a record known
+// only by the record_type of its revisions.
+type kind interface {
+	recordName() string
+	describe() (table string, cols []string)
 	revert(ctx context.Context, d *DB, tx *sql.Tx, batch int64, rev Revision) error
 	state(ctx context.Context, tx *sql.Tx, id int64) (any, error)
+	formOfState(raw json.RawMessage) (Form, error)
+	reviewTable() (table string, reviewed bool)
+	reviewByID(ctx context.Context, d *DB, id int64, version int, accept bool, note string) error
+	acceptPending(ctx context.Context, d *DB, tx *sql.Tx, batch int64, id int64, same bool) (bool, string, error)
 }
+
+func (rt recordType[T]) recordName() string { return rt.name }
+
+func (rt recordType[T]) describe() (string, []string) { return rt.table, rt.cols }
 
 // state is the record's current state as a revision stores it.
 func (rt recordType[T]) state(ctx context.Context, tx *sql.Tx, id int64) (any, error) {
 	return rt.load(ctx, tx, id)
 }
 
-// reverters gives the record types RevertRevision handles besides dates.
-func reverters() map[string]reverter {
-	return map[string]reverter{"province": provinceType(), "unit": unitType(), "section": sectionType(),
-		"tie_point": tieType(), "event": eventType(), "hiatus": hiatusType(), "anomaly_decision": anomalyDecisionType()}
+// formOfState gives the form cells of a state a revision stored.
+func (rt recordType[T]) formOfState(raw json.RawMessage) (Form, error) {
+	if rt.form == nil {
+		return nil, fmt.Errorf("%s records have no form", rt.noun())
+	}
+	var x T
+	if err := json.Unmarshal(raw, &x); err != nil {
+		return nil, fmt.Errorf("read %s revision: %w", rt.noun(), err)
+	}
+	return rt.form(x), nil
+}
+
+// allKinds lists every kind of record that is edited one by one, in a fixed order.
+func allKinds() []kind {
+	return []kind{provinceType(), unitType(), sectionType(), dateType(), tieType(), eventType(), hiatusType(),
+		anomalyDecisionType()}
+}
+
+// kinds gives the kinds by record_type.
+func kinds() map[string]kind {
+	m := map[string]kind{}
+	for _, k := range allKinds() {
+		m[k.recordName()] = k
+	}
+	return m
 }
 
 // Restorable reports whether RevertRevision can restore records of recordType.
 func Restorable(recordType string) bool {
-	_, ok := reverters()[recordType]
-	return ok || recordType == "date"
+	_, ok := kinds()[recordType]
+	return ok
 }
 
-// RevertRevision restores the record of revision revID to the state it had just before that revision
-// (see RevertDate; dates go through it). Later changes are undone too, since the whole record goes back;
-// the revert is itself a recorded change. It returns ErrConflict when there is nothing to revert (a created
-// record already gone), an *InUseError when undoing a creation would delete a record others depend on,
-// and a *ValidationError when the earlier state cannot be written back (its references are gone).
+// FormOfState gives the form cells of a record's state as a revision of recordType stored it (the
+// columns of its import format, review state included for reviewed records).
+func FormOfState(recordType string, raw json.RawMessage) (Form, error) {
+	k, ok := kinds()[recordType]
+	if !ok {
+		return nil, fmt.Errorf("%s records have no form", strings.ReplaceAll(recordType, "_", " "))
+	}
+	return k.formOfState(raw)
+}
+
+// RevertRevision restores the record of revision revID to the state it had just before that revision: it
+// deletes the record when the revision created it, and recreates it (same id) when the revision deleted it.
+// Later changes are undone too, since the whole record goes back; the revert is itself a recorded change. It
+// returns ErrConflict when there is nothing to revert (a created record already gone), an *InUseError when
+// undoing a creation would delete a record others depend on, and a *ValidationError when the earlier state
+// cannot be written back (its references are gone).
 func (d *DB) RevertRevision(ctx context.Context, revID int64) error {
 	rev, err := d.RevisionByID(ctx, revID)
 	if err != nil {
 		return err
 	}
-	if rev.RecordType == "date" {
-		return d.RevertDate(ctx, revID)
-	}
-	rt, ok := reverters()[rev.RecordType]
+	rt, ok := kinds()[rev.RecordType]
 	if !ok {
 		return fmt.Errorf("revert revision %d: %s records cannot be restored one by one", revID, rev.RecordType)
 	}
@@ -326,60 +389,90 @@ func (rt recordType[T]) deleteRecord(ctx context.Context, d *DB, id int64, versi
 	})
 }
 
-// createRecord adds x from a form (problems are the form's) in a change batch of its own, after check
-// has found no clash with stored records.
-func (rt recordType[T]) createRecord(ctx context.Context, d *DB, x T, problems []Problem,
-	check func(context.Context, *sql.Tx, T) ([]Problem, error)) (T, error) {
-	noun := strings.ReplaceAll(rt.name, "_", " ")
+// prepare completes a record read from a form inside the change's transaction: it resolves names to ids
+// (it may add records to batch, e.g. a new province), copies into x what an edit keeps from before (nil for
+// a new record) and checks for clashes with stored records. It gets the form's problems and returns the
+// whole list, so that a kind may list clashes alongside them or look for them only in a clean form.
+type prepare[T any] func(ctx context.Context, tx *sql.Tx, batch int64, before *T, x *T, problems []Problem) ([]Problem, error)
+
+// save adds x (id 0) or replaces record id with x when its stored version is still version (else
+// ErrConflict, changing nothing), in a change batch of its own; problems are the form's. Nothing is
+// written while prep finds problems.
+func (rt recordType[T]) save(ctx context.Context, d *DB, id int64, version int, x T, problems []Problem, prep prepare[T]) (T, error) {
+	verb, done := "add", "added"
+	if id != 0 {
+		verb, done = "edit", "edited"
+	}
 	var out T
 	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		if len(problems) > 0 {
-			return &ValidationError{problems}
+		var before *T
+		if id != 0 {
+			b, err := rt.load(ctx, tx, id)
+			if err != nil {
+				return err
+			}
+			if _, v, _ := rt.meta(b); v != version {
+				return ErrConflict
+			}
+			before = &b
 		}
-		if ps, err := check(ctx, tx, x); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "add "+noun, "form")
+		batch, err := d.newBatch(ctx, tx, verb+" "+rt.noun(), "form")
 		if err != nil {
 			return err
 		}
-		if out, err = rt.insert(ctx, d, tx, batch, x); err != nil {
+		if prep != nil {
+			if problems, err = prep(ctx, tx, batch, before, &x, problems); err != nil {
+				return err
+			}
+		}
+		if len(problems) > 0 {
+			return &ValidationError{problems}
+		}
+		if before == nil {
+			out, err = rt.insert(ctx, d, tx, batch, x)
+		} else {
+			out, err = rt.update(ctx, d, tx, batch, id, version, x)
+		}
+		if err != nil {
 			return err
 		}
-		return setBatchSummary(ctx, tx, batch, "added "+rt.label(x))
+		if rt.summary != nil {
+			return setBatchSummary(ctx, tx, batch, rt.summary(done, out))
+		}
+		return setBatchSummary(ctx, tx, batch, done+" "+rt.label(out))
 	})
 	return out, err
 }
 
-// updateRecord replaces record id with x (problems are the form's) when its stored version is still
-// version, else ErrConflict; withID gives x the record's id before check looks for clashes.
-func (rt recordType[T]) updateRecord(ctx context.Context, d *DB, id int64, version int, x T, problems []Problem,
-	withID func(T, int64) T, check func(context.Context, *sql.Tx, T) ([]Problem, error)) (T, error) {
-	noun := strings.ReplaceAll(rt.name, "_", " ")
-	var out T
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := rt.load(ctx, tx, id)
-		if err != nil {
-			return err
+// unique is the prepare of records whose only rule beyond the form is a unique name: an edit gives x the
+// record's id (withID), and clash is looked for only in a clean form.
+func (rt recordType[T]) unique(withID func(*T, int64), clash func(context.Context, *sql.Tx, T) ([]Problem, error)) prepare[T] {
+	return func(ctx context.Context, tx *sql.Tx, batch int64, before *T, x *T, problems []Problem) ([]Problem, error) {
+		if len(problems) > 0 {
+			return problems, nil
 		}
-		if _, v, _ := rt.meta(before); v != version {
-			return ErrConflict
+		if before != nil {
+			id, _, _ := rt.meta(*before)
+			withID(x, id)
+		}
+		return clash(ctx, tx, *x)
+	}
+}
+
+// inSection is the prepare of a record that belongs to a section (tie points, hiatuses): a new one goes
+// into section sectionID (ErrNotFound when there is none, before any problem of the form), an edit stays
+// where it is (place); check looks for clashes in a clean form.
+func inSection[T any](sectionID int64, place func(x, before *T, sectionID int64), check func(context.Context, *sql.Tx, *T) ([]Problem, error)) prepare[T] {
+	return func(ctx context.Context, tx *sql.Tx, batch int64, before *T, x *T, problems []Problem) ([]Problem, error) {
+		if before == nil {
+			if _, err := sectionInTx(ctx, tx, sectionID); err != nil {
+				return nil, err
+			}
 		}
 		if len(problems) > 0 {
-			return &ValidationError{problems}
+			return problems, nil
 		}
-		x = withID(x, id)
-		if ps, err := check(ctx, tx, x); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit "+noun, "form")
-		if err != nil {
-			return err
-		}
-		if out, err = rt.update(ctx, d, tx, batch, id, version, x); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "edited "+rt.label(out))
-	})
-	return out, err
+		place(x, before, sectionID)
+		return check(ctx, tx, x)
+	}
 }

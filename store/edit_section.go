@@ -20,6 +20,7 @@ func sectionType() recordType[Section] {
 		meta:  func(s Section) (int64, int, string) { return s.ID, s.Version, s.CreatedAt },
 		label: func(s Section) string { return fmt.Sprintf("section %q", s.Name) },
 		load:  sectionInTx,
+		form:  FormOfSection,
 		// Measurements, ties, events and hiatuses would go with the section (ON DELETE CASCADE) without a
 		// revision each, so they block a delete as the horizon dates do.
 		deps: []dependent{
@@ -48,6 +49,10 @@ func parseSectionForm(f Form) (Section, []Problem) {
 	return parseSectionRow(rw), t.problems
 }
 
+func sectionUnique() prepare[Section] {
+	return sectionType().unique(func(x *Section, id int64) { x.ID = id }, sectionNameProblem)
+}
+
 func sectionNameProblem(ctx context.Context, tx *sql.Tx, s Section) ([]Problem, error) {
 	return uniqueProblem(ctx, tx, "section", fmt.Sprintf("a section named %q is already in the compilation", s.Name),
 		`SELECT id FROM sections WHERE name = ? AND id <> ?`, s.Name, s.ID)
@@ -56,15 +61,14 @@ func sectionNameProblem(ctx context.Context, tx *sql.Tx, s Section) ([]Problem, 
 // CreateSection adds one section from a form, as the actor of ctx.
 func (d *DB) CreateSection(ctx context.Context, f Form) (Section, error) {
 	x, problems := parseSectionForm(f)
-	return sectionType().createRecord(ctx, d, x, problems, sectionNameProblem)
+	return sectionType().save(ctx, d, 0, 0, x, problems, sectionUnique())
 }
 
 // UpdateSection replaces section id with the form's values when the stored version is still version;
 // otherwise it returns ErrConflict and changes nothing.
 func (d *DB) UpdateSection(ctx context.Context, id int64, version int, f Form) (Section, error) {
 	x, problems := parseSectionForm(f)
-	return sectionType().updateRecord(ctx, d, id, version, x, problems,
-		func(x Section, id int64) Section { x.ID = id; return x }, sectionNameProblem)
+	return sectionType().save(ctx, d, id, version, x, problems, sectionUnique())
 }
 
 // DeleteSection removes section id (at version), keeping its last state in the revision. It refuses with

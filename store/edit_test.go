@@ -28,7 +28,7 @@ func seededDate(t *testing.T) (*DB, Date) {
 func TestConcurrentEditsOneWinsNothingLost(t *testing.T) {
 	db, d := seededDate(t)
 	ctx := context.Background()
-	forms := []DateForm{FormOfDate(d), FormOfDate(d)}
+	forms := []Form{FormOfDate(d), FormOfDate(d)}
 	forms[0]["age_ma"], forms[0]["notes"] = "155.5", "edit A"
 	forms[1]["age_ma"], forms[1]["notes"] = "155.3", "edit B"
 	var wg sync.WaitGroup
@@ -72,7 +72,7 @@ func TestRevertRestoresTheExactEarlierState(t *testing.T) {
 	if err != nil || len(revs) != 2 {
 		t.Fatalf("revisions %d (%v), want 2 (created, edited)", len(revs), err)
 	}
-	if err := db.RevertDate(ctx, revs[0].ID); err != nil {
+	if err := db.RevertRevision(ctx, revs[0].ID); err != nil {
 		t.Fatal(err)
 	}
 	got, _ := db.Date(ctx, d.ID)
@@ -88,7 +88,7 @@ func TestRevertRestoresTheExactEarlierState(t *testing.T) {
 		t.Fatalf("after delete: %v, want ErrNotFound", err)
 	}
 	revs, _ = db.Revisions(ctx, "date", d.ID)
-	if err := db.RevertDate(ctx, revs[0].ID); err != nil {
+	if err := db.RevertRevision(ctx, revs[0].ID); err != nil {
 		t.Fatal(err)
 	}
 	again, err := db.Date(ctx, d.ID)

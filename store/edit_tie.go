@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"fmt"
 	"io"
-	"strings"
 )
 
 func tieType() recordType[TiePoint] {
@@ -18,9 +17,16 @@ func tieType() recordType[TiePoint] {
 			return []any{t.SectionID, t.Label, t.HeightM, t.Kind, t.Distribution, t.AgeMa, t.SigmaMa, t.SigmaLevel,
 				t.AgeMinMa, t.AgeMaxMa, t.DateID, t.ReviewState, t.ReviewNote, t.Notes}
 		},
-		meta:  func(t TiePoint) (int64, int, string) { return t.ID, t.Version, t.CreatedAt },
-		label: func(t TiePoint) string { return fmt.Sprintf("tie point %q", t.Label) },
-		load:  tieInTx,
+		meta:    func(t TiePoint) (int64, int, string) { return t.ID, t.Version, t.CreatedAt },
+		label:   func(t TiePoint) string { return fmt.Sprintf("tie point %q", t.Label) },
+		load:    tieInTx,
+		form:    FormOfTie,
+		summary: addedOf("tie point", func(t TiePoint) (string, string) { return t.Label, t.Section }),
+		review: &reviewing[TiePoint]{
+			of:    func(t *TiePoint) (*ReviewState, *string) { return &t.ReviewState, &t.ReviewNote },
+			what:  func(t TiePoint) string { return t.Label + " of " + t.Section },
+			title: func(t TiePoint) string { return "tie point " + t.Label },
+		},
 	}
 }
 
@@ -47,7 +53,7 @@ func parseTieForm(f Form, asCurator bool) (TiePoint, []Problem) {
 	rw, t := formRow(tieColumns, f)
 	tp := parseTieRow(rw)
 	if !asCurator {
-		tp.ReviewState = "pending"
+		tp.ReviewState = ReviewPending
 	}
 	return tp, t.problems
 }
@@ -74,29 +80,16 @@ func (d *DB) resolveTie(ctx context.Context, tx *sql.Tx, tp *TiePoint) ([]Proble
 // (asCurator false) starts pending; a curator's takes the form's review_state (accepted when empty).
 func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form, asCurator bool) (TiePoint, error) {
 	tp, problems := parseTieForm(f, asCurator)
-	var out TiePoint
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		sec, err := sectionInTx(ctx, tx, sectionID)
-		if err != nil {
-			return err
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		tp.SectionID = sec.ID
-		if ps, err := d.resolveTie(ctx, tx, &tp); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "add tie point", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = tieType().insert(ctx, d, tx, batch, tp); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added tie point %s of %s", tp.Label, sec.Name))
-	})
-	return out, err
+	return tieType().save(ctx, d, 0, 0, tp, problems, inSection(sectionID, placeTie, d.resolveTie))
+}
+
+// placeTie puts a new tie in its section; an edited one stays in its section and keeps its review note.
+func placeTie(tp, before *TiePoint, sectionID int64) {
+	if before == nil {
+		tp.SectionID = sectionID
+		return
+	}
+	tp.ID, tp.SectionID, tp.ReviewNote = before.ID, before.SectionID, before.ReviewNote
 }
 
 // UpdateTie replaces tie point id with the form's values when the stored version is still version;
@@ -104,67 +97,14 @@ func (d *DB) CreateTie(ctx context.Context, sectionID int64, f Form, asCurator b
 // note; a contributor's edit (asCurator false) makes it pending.
 func (d *DB) UpdateTie(ctx context.Context, id int64, version int, f Form, asCurator bool) (TiePoint, error) {
 	tp, problems := parseTieForm(f, asCurator)
-	var out TiePoint
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := tieInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		tp.ID, tp.SectionID, tp.ReviewNote = id, before.SectionID, before.ReviewNote
-		if ps, err := d.resolveTie(ctx, tx, &tp); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit tie point", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = tieType().update(ctx, d, tx, batch, id, version, tp); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "edited tie point "+out.Label)
-	})
-	return out, err
+	return tieType().save(ctx, d, id, version, tp, problems, inSection(0, placeTie, d.resolveTie))
 }
 
 // ReviewTie accepts or rejects tie point id (at version), as a curator; a rejection needs a reason, which
 // is kept as the review note (an acceptance's note is optional). It returns ErrConflict when the tie
 // changed since version.
 func (d *DB) ReviewTie(ctx context.Context, id int64, version int, accept bool, note string) (TiePoint, error) {
-	note = strings.TrimSpace(note)
-	if !accept && note == "" {
-		return TiePoint{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the tie point is rejected"}}}
-	}
-	if err := freeText("note", note, true); err != nil {
-		return TiePoint{}, err
-	}
-	var out TiePoint
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := tieInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		x := before
-		x.ReviewState, x.ReviewNote = "rejected", note
-		kind := "reject tie point"
-		if accept {
-			x.ReviewState, kind = "accepted", "accept tie point"
-		}
-		batch, err := d.newBatch(ctx, tx, kind, "review")
-		if err != nil {
-			return err
-		}
-		if out, err = tieType().update(ctx, d, tx, batch, id, version, x); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s %s of %s: %s", kind, before.Label, before.Section, orNone(note)))
-	})
-	return out, err
+	return tieType().reviewRecord(ctx, d, id, version, accept, note)
 }
 
 // DeleteTie removes tie point id (at version), keeping its last state in the revision.

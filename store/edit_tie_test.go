@@ -120,7 +120,7 @@ func TestTieReviewStates(t *testing.T) {
 	for _, tc := range []struct {
 		label, state string
 		curator      bool
-		want         string
+		want         ReviewState
 	}{
 		{"contributor says accepted", "accepted", false, "pending"},
 		{"contributor says nothing", "", false, "pending"},
@@ -200,7 +200,7 @@ func TestTiesReviewStateRoundTrip(t *testing.T) {
 	got := map[string]string{}
 	tps, _ := db1.TiePoints(ctx, 0)
 	for _, tp := range tps {
-		got[tp.Label] = tp.ReviewState
+		got[tp.Label] = string(tp.ReviewState)
 	}
 	if diff := cmp.Diff(map[string]string{"ash": "pending", "zone": "rejected", "boundary": "accepted"}, got); diff != "" {
 		t.Errorf("review states after import (-want +got):\n%s", diff)

@@ -17,9 +17,11 @@ func unitType() recordType[Unit] {
 			return []any{u.ProvinceID, u.Name, u.Kind, u.PilePosition, u.VolumeKm3, u.VolumeSigmaKm3, u.Latitude,
 				u.Longitude, u.Notes}
 		},
-		meta:  func(u Unit) (int64, int, string) { return u.ID, u.Version, u.CreatedAt },
-		label: func(u Unit) string { return fmt.Sprintf("unit %q", u.Name) },
-		load:  unitInTx,
+		meta:    func(u Unit) (int64, int, string) { return u.ID, u.Version, u.CreatedAt },
+		label:   func(u Unit) string { return fmt.Sprintf("unit %q", u.Name) },
+		load:    unitInTx,
+		form:    FormOfUnit,
+		summary: addedOf("unit", func(u Unit) (string, string) { return u.Name, u.Province }),
 		deps: []dependent{
 			{"date", `SELECT count(*) FROM dates WHERE unit_id = ?`},
 			{"pulse membership", `SELECT count(*) FROM pulse_units WHERE unit_id = ?`},
@@ -55,59 +57,29 @@ func (d *DB) resolveUnit(ctx context.Context, tx *sql.Tx, batch int64, u *Unit) 
 		`SELECT id FROM units WHERE province_id = ? AND name = ? AND id <> ?`, pid, u.Name, u.ID)
 }
 
+// prepareUnit fills ProvinceID from the province's name, creating the province when it is new (as an
+// import would), and checks that no other unit of the province has the name.
+func (d *DB) prepareUnit(ctx context.Context, tx *sql.Tx, batch int64, before *Unit, u *Unit, problems []Problem) ([]Problem, error) {
+	if len(problems) > 0 {
+		return problems, nil
+	}
+	if before != nil {
+		u.ID = before.ID
+	}
+	return d.resolveUnit(ctx, tx, batch, u)
+}
+
 // CreateUnit adds one unit from a form, as the actor of ctx. A province not yet known is created with it.
 func (d *DB) CreateUnit(ctx context.Context, f Form) (Unit, error) {
 	u, problems := parseUnitForm(f)
-	var out Unit
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		batch, err := d.newBatch(ctx, tx, "add unit", "form")
-		if err != nil {
-			return err
-		}
-		if ps, err := d.resolveUnit(ctx, tx, batch, &u); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		if out, err = unitType().insert(ctx, d, tx, batch, u); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added unit %s of %s", u.Name, u.Province))
-	})
-	return out, err
+	return unitType().save(ctx, d, 0, 0, u, problems, d.prepareUnit)
 }
 
 // UpdateUnit replaces unit id with the form's values when the stored version is still version; otherwise
 // it returns ErrConflict and changes nothing.
 func (d *DB) UpdateUnit(ctx context.Context, id int64, version int, f Form) (Unit, error) {
 	u, problems := parseUnitForm(f)
-	var out Unit
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := unitInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		batch, err := d.newBatch(ctx, tx, "edit unit", "form")
-		if err != nil {
-			return err
-		}
-		u.ID = id
-		if ps, err := d.resolveUnit(ctx, tx, batch, &u); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		if out, err = unitType().update(ctx, d, tx, batch, id, version, u); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, "edited unit "+out.Name)
-	})
-	return out, err
+	return unitType().save(ctx, d, id, version, u, problems, d.prepareUnit)
 }
 
 // DeleteUnit removes unit id (at version), keeping its last state in the revision. It refuses with an

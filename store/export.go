@@ -88,7 +88,7 @@ func DateCSVRecord(d Date) []string {
 		d.Material, d.Interpretation, formatNumber(d.AgeMa), formatNumber(d.SigmaMa * k),
 		formatOptScaled(d.SigmaYMa, k), formatOptScaled(d.SigmaZMa, k), strconv.Itoa(d.SigmaLevel), d.Tracer,
 		d.Monitor, formatOpt(d.MonitorAgeMa), formatOpt(d.LambdaPerA), d.Laboratory, d.Citation, d.DOI,
-		formatOpt(d.Latitude), formatOpt(d.Longitude), d.ReviewState, d.Notes}
+		formatOpt(d.Latitude), formatOpt(d.Longitude), string(d.ReviewState), d.Notes}
 }
 
 // WriteTiesCSV writes tie points in the ties import format, with their review state.
@@ -101,7 +101,7 @@ func WriteTiesCSV(w io.Writer, ts []TiePoint) error {
 				level = strconv.Itoa(*t.SigmaLevel)
 			}
 			if err := emit([]string{t.Label, formatNumber(t.HeightM), t.Kind, t.Distribution, formatOpt(t.AgeMa), sigma,
-				level, formatOpt(t.AgeMinMa), formatOpt(t.AgeMaxMa), t.DateSampleCode, t.DateMethod, t.ReviewState, t.Notes}); err != nil {
+				level, formatOpt(t.AgeMinMa), formatOpt(t.AgeMaxMa), t.DateSampleCode, t.DateMethod, string(t.ReviewState), t.Notes}); err != nil {
 				return err
 			}
 		}

@@ -185,7 +185,7 @@ func FuzzDateForm(f *testing.F) {
 	f.Fuzz(func(t *testing.T, province, unit, sample, method, interp, age, sigma, level, monitorAge, lambda string) {
 		ctx := context.Background()
 		db := mustOpenDB(t)
-		form := DateForm{"province": province, "unit": unit, "sample_code": sample, "method": method, "interpretation": interp,
+		form := Form{"province": province, "unit": unit, "sample_code": sample, "method": method, "interpretation": interp,
 			"age_ma": age, "sigma_ma": sigma, "sigma_level": level, "monitor_age_ma": monitorAge, "lambda_per_a": lambda}
 		before, _ := db.Counts(ctx)
 		_, err := db.CreateDate(ctx, form, true)

@@ -5,23 +5,22 @@ import (
 	"database/sql"
 	"fmt"
 	"io"
-	"strings"
 )
 
 // Hiatus is a surface in a section where time is missing: at least MinDurationMa passes at HeightM.
 // Hiatuses are reviewed like tie points, since the age–height model honours them.
 type Hiatus struct {
-	ID            int64   `json:"id"`
-	SectionID     int64   `json:"section_id"`
-	Section       string  `json:"section"`
-	HeightM       float64 `json:"height_m"`
-	MinDurationMa float64 `json:"min_duration_ma"`
-	ReviewState   string  `json:"review_state"` // pending, accepted, rejected: age models use accepted hiatuses by default
-	ReviewNote    string  `json:"review_note"`
-	Notes         string  `json:"notes"`
-	Version       int     `json:"version"`
-	CreatedAt     string  `json:"created_at"`
-	UpdatedAt     string  `json:"updated_at"`
+	ID            int64       `json:"id"`
+	SectionID     int64       `json:"section_id"`
+	Section       string      `json:"section"`
+	HeightM       float64     `json:"height_m"`
+	MinDurationMa float64     `json:"min_duration_ma"`
+	ReviewState   ReviewState `json:"review_state"` // pending, accepted, rejected: age models use accepted hiatuses by default
+	ReviewNote    string      `json:"review_note"`
+	Notes         string      `json:"notes"`
+	Version       int         `json:"version"`
+	CreatedAt     string      `json:"created_at"`
+	UpdatedAt     string      `json:"updated_at"`
 }
 
 // hiatusColumns are the columns of the hiatuses file of a section (and the cells of the hiatus form, read
@@ -65,6 +64,15 @@ func hiatusType() recordType[Hiatus] {
 		meta:  func(h Hiatus) (int64, int, string) { return h.ID, h.Version, h.CreatedAt },
 		label: hiatusLabel,
 		load:  hiatusInTx,
+		form:  FormOfHiatus,
+		summary: func(done string, h Hiatus) string {
+			return fmt.Sprintf("%s %s of %s", done, hiatusLabel(h), h.Section)
+		},
+		review: &reviewing[Hiatus]{
+			of:    func(h *Hiatus) (*ReviewState, *string) { return &h.ReviewState, &h.ReviewNote },
+			what:  func(h Hiatus) string { return fmt.Sprintf("at %s m of %s", formatNumber(h.HeightM), h.Section) },
+			title: hiatusLabel,
+		},
 	}
 }
 
@@ -77,7 +85,7 @@ func hiatusLabel(h Hiatus) string {
 func writeHiatusesCSV(w io.Writer, hs []Hiatus) error {
 	return writeCSV(w, hiatusColumns, func(emit func([]string) error) error {
 		for _, h := range hs {
-			if err := emit([]string{formatNumber(h.HeightM), formatNumber(h.MinDurationMa), h.ReviewState, h.Notes}); err != nil {
+			if err := emit([]string{formatNumber(h.HeightM), formatNumber(h.MinDurationMa), string(h.ReviewState), h.Notes}); err != nil {
 				return err
 			}
 		}
@@ -93,7 +101,7 @@ func FormOfHiatus(h Hiatus) Form {
 // parseHiatusRow reads one row of hiatus cells: a height in metres above the section's base and the least
 // time the surface represents, in Ma (0 when only the surface is known).
 func parseHiatusRow(rw row) Hiatus {
-	h := Hiatus{ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
+	h := Hiatus{ReviewState: reviewStateCell(rw, ReviewAccepted), Notes: rw.str("notes")}
 	if z, ok := rw.float("height_m"); ok {
 		h.HeightM = z
 	}
@@ -116,13 +124,13 @@ func parseHiatusForm(f Form, asCurator bool) (Hiatus, []Problem) {
 	rw, t := formRow(hiatusColumns, f)
 	h := parseHiatusRow(rw)
 	if !asCurator {
-		h.ReviewState = "pending"
+		h.ReviewState = ReviewPending
 	}
 	return h, t.problems
 }
 
 // hiatusHeightProblem refuses a second hiatus at one height of a section: the age model cannot place two.
-func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h Hiatus) ([]Problem, error) {
+func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h *Hiatus) ([]Problem, error) {
 	return uniqueProblem(ctx, tx, "height_m", fmt.Sprintf("the section already has a hiatus at %s m", formatNumber(h.HeightM)),
 		`SELECT id FROM hiatuses WHERE section_id = ? AND height_m = ? AND id <> ?`, h.SectionID, h.HeightM, h.ID)
 }
@@ -132,29 +140,17 @@ func hiatusHeightProblem(ctx context.Context, tx *sql.Tx, h Hiatus) ([]Problem, 
 // empty). It returns ErrNotFound for an unknown section and a *ValidationError naming fields.
 func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurator bool) (Hiatus, error) {
 	h, problems := parseHiatusForm(f, asCurator)
-	var out Hiatus
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		sec, err := sectionInTx(ctx, tx, sectionID)
-		if err != nil {
-			return err
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		h.SectionID = sec.ID
-		if ps, err := hiatusHeightProblem(ctx, tx, h); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "add hiatus", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = hiatusType().insert(ctx, d, tx, batch, h); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("added %s of %s", hiatusLabel(h), sec.Name))
-	})
-	return out, err
+	return hiatusType().save(ctx, d, 0, 0, h, problems, inSection(sectionID, placeHiatus, hiatusHeightProblem))
+}
+
+// placeHiatus puts a new hiatus in its section; an edited one stays in its section and keeps its review
+// note.
+func placeHiatus(h, before *Hiatus, sectionID int64) {
+	if before == nil {
+		h.SectionID = sectionID
+		return
+	}
+	h.ID, h.SectionID, h.ReviewNote = before.ID, before.SectionID, before.ReviewNote
 }
 
 // UpdateHiatus replaces hiatus id with the form's values when the stored version is still version;
@@ -162,67 +158,14 @@ func (d *DB) CreateHiatus(ctx context.Context, sectionID int64, f Form, asCurato
 // review note; a contributor's edit (asCurator false) makes it pending.
 func (d *DB) UpdateHiatus(ctx context.Context, id int64, version int, f Form, asCurator bool) (Hiatus, error) {
 	h, problems := parseHiatusForm(f, asCurator)
-	var out Hiatus
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := hiatusInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		if before.Version != version {
-			return ErrConflict
-		}
-		if len(problems) > 0 {
-			return &ValidationError{problems}
-		}
-		h.ID, h.SectionID, h.ReviewNote = id, before.SectionID, before.ReviewNote
-		if ps, err := hiatusHeightProblem(ctx, tx, h); err != nil || len(ps) > 0 {
-			return orProblems(err, ps)
-		}
-		batch, err := d.newBatch(ctx, tx, "edit hiatus", "form")
-		if err != nil {
-			return err
-		}
-		if out, err = hiatusType().update(ctx, d, tx, batch, id, version, h); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("edited %s of %s", hiatusLabel(out), out.Section))
-	})
-	return out, err
+	return hiatusType().save(ctx, d, id, version, h, problems, inSection(0, placeHiatus, hiatusHeightProblem))
 }
 
 // ReviewHiatus accepts or rejects hiatus id (at version), as a curator; a rejection needs a reason, which
 // is kept as the review note (an acceptance's note is optional). It returns ErrConflict when the hiatus
 // changed since version.
 func (d *DB) ReviewHiatus(ctx context.Context, id int64, version int, accept bool, note string) (Hiatus, error) {
-	note = strings.TrimSpace(note)
-	if !accept && note == "" {
-		return Hiatus{}, &ValidationError{[]Problem{{Column: "note", Message: "say why the hiatus is rejected"}}}
-	}
-	if err := freeText("note", note, true); err != nil {
-		return Hiatus{}, err
-	}
-	var out Hiatus
-	err := d.inTx(ctx, func(tx *sql.Tx) error {
-		before, err := hiatusInTx(ctx, tx, id)
-		if err != nil {
-			return err
-		}
-		x := before
-		x.ReviewState, x.ReviewNote = "rejected", note
-		kind := "reject hiatus"
-		if accept {
-			x.ReviewState, kind = "accepted", "accept hiatus"
-		}
-		batch, err := d.newBatch(ctx, tx, kind, "review")
-		if err != nil {
-			return err
-		}
-		if out, err = hiatusType().update(ctx, d, tx, batch, id, version, x); err != nil {
-			return err
-		}
-		return setBatchSummary(ctx, tx, batch, fmt.Sprintf("%s at %s m of %s: %s", kind, formatNumber(before.HeightM), before.Section, orNone(note)))
-	})
-	return out, err
+	return hiatusType().reviewRecord(ctx, d, id, version, accept, note)
 }
 
 // DeleteHiatus removes hiatus id (at version), keeping its last state in the revision; ErrConflict for a
@@ -250,10 +193,10 @@ func (d *DB) ImportHiatuses(ctx context.Context, section, file string, r io.Read
 			if err != nil {
 				return err
 			}
-			pendingNote(ctx, res, len(recs), "hiatuses", func(i int) *string { return &recs[i].ReviewState })
+			pendingNote(ctx, res, len(recs), "hiatuses", func(i int) *ReviewState { return &recs[i].ReviewState })
 			for i := range recs {
 				recs[i].SectionID = sid
-				ps, err := hiatusHeightProblem(ctx, tx, recs[i])
+				ps, err := hiatusHeightProblem(ctx, tx, &recs[i])
 				if err != nil {
 					return err
 				}

@@ -167,7 +167,7 @@ func TestHiatusReviewStates(t *testing.T) {
 	for i, tc := range []struct {
 		name, state string
 		curator     bool
-		want        string
+		want        ReviewState
 	}{
 		{"contributor says accepted", "accepted", false, "pending"},
 		{"contributor says nothing", "", false, "pending"},

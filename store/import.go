@@ -277,7 +277,7 @@ func (d *DB) ImportDates(ctx context.Context, file string, r io.Reader) (ImportR
 			if ignored := ignoredDerived(t); ignored != "" {
 				res.Notes = append(res.Notes, ignored)
 			}
-			pendingNote(ctx, res, len(recs), "dates", func(i int) *string { return &recs[i].ReviewState })
+			pendingNote(ctx, res, len(recs), "dates", func(i int) *ReviewState { return &recs[i].ReviewState })
 			w, err := d.newDateWriter(ctx, tx, batch)
 			if err != nil {
 				return err
@@ -375,7 +375,7 @@ func parseDateRow(rw row, seen map[[2]string]int) Date {
 		Tracer:         rw.str("tracer"), Monitor: rw.str("monitor"), MonitorAgeMa: rw.optFloat("monitor_age_ma"),
 		LambdaPerA: rw.optFloat("lambda_per_a"), Laboratory: rw.str("laboratory"), Citation: rw.str("citation"),
 		DOI: rw.str("doi"), Latitude: rw.optFloat("latitude"), Longitude: rw.optFloat("longitude"),
-		ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
+		ReviewState: reviewStateCell(rw, ReviewAccepted), Notes: rw.str("notes")}
 	switch {
 	case dt.Unit != "" && dt.Section != "":
 		rw.problem("section", "a date belongs to a unit or to a section horizon, not both (unit %q given too)", dt.Unit)
@@ -538,7 +538,7 @@ func (d *DB) ImportTies(ctx context.Context, section, file string, r io.Reader) 
 			if err != nil {
 				return err
 			}
-			pendingNote(ctx, res, len(recs), "tie points", func(i int) *string { return &recs[i].ReviewState })
+			pendingNote(ctx, res, len(recs), "tie points", func(i int) *ReviewState { return &recs[i].ReviewState })
 			for i := range recs {
 				tp := &recs[i]
 				rw := t.row(i)
@@ -640,7 +640,7 @@ func (d *DB) ImportEvents(ctx context.Context, section, file string, r io.Reader
 			if err != nil {
 				return err
 			}
-			pendingNote(ctx, res, len(recs), "events", func(i int) *string { return &recs[i].ReviewState })
+			pendingNote(ctx, res, len(recs), "events", func(i int) *ReviewState { return &recs[i].ReviewState })
 			for i, ev := range recs {
 				if id, err := lookupID(ctx, tx, `SELECT id FROM events WHERE section_id = ? AND name = ?`, sid, ev.Name); err != nil {
 					return err
@@ -730,7 +730,7 @@ func parseTieRow(rw row) TiePoint {
 	tp := TiePoint{Label: rw.requiredStr("label"), Kind: rw.enum("kind", codes(TieKinds()), ""),
 		Distribution:   rw.enum("distribution", []string{"normal", "uniform"}, ""),
 		DateSampleCode: rw.str("date_sample_code"), DateMethod: rw.str("date_method"),
-		ReviewState: rw.enum("review_state", codes(ReviewStates()), "accepted"), Notes: rw.str("notes")}
+		ReviewState: reviewStateCell(rw, ReviewAccepted), Notes: rw.str("notes")}
 	if h, ok := rw.float("height_m"); ok {
 		tp.HeightM = h
 	}
@@ -779,7 +779,7 @@ func parseTieRow(rw row) TiePoint {
 // parseEventRow reads one row of an events file; an imported event is entered and accepted.
 func parseEventRow(rw row) Event {
 	ev := Event{Name: rw.requiredStr("name"), Kind: rw.enum("kind", codes(EventKinds()), ""),
-		TopHeightM: rw.optFloat("top_height_m"), Origin: "entered", ReviewState: "accepted", Notes: rw.str("notes")}
+		TopHeightM: rw.optFloat("top_height_m"), Origin: "entered", ReviewState: ReviewAccepted, Notes: rw.str("notes")}
 	if b, ok := rw.float("base_height_m"); ok {
 		ev.BaseHeightM = &b
 		if ev.TopHeightM != nil && *ev.TopHeightM < b {

@@ -136,7 +136,7 @@ type DateFilter struct {
 	MinAgeMa    *float64
 	MaxAgeMa    *float64
 	Text        string // in sample code, unit, laboratory, citation, DOI, notes
-	ReviewState string
+	ReviewState ReviewState
 	Sort        string // one of DateSorts; "-" prefix for descending
 	Limit       int    // 0 = no limit
 	Offset      int    // rows skipped (ignored with After or Before)

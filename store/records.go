@@ -36,38 +36,38 @@ type Unit struct {
 
 // Date is one published or measured age, of a unit or of a horizon of a section.
 type Date struct {
-	ID             int64    `json:"id"`
-	UnitID         *int64   `json:"unit_id"`
-	Unit           string   `json:"unit"`
-	ProvinceID     *int64   `json:"province_id"`
-	Province       string   `json:"province"`
-	SectionID      *int64   `json:"section_id"`
-	Section        string   `json:"section"`
-	HeightM        *float64 `json:"height_m"`
-	SampleCode     string   `json:"sample_code"`
-	Method         string   `json:"method"`
-	Material       string   `json:"material"`
-	Interpretation string   `json:"interpretation"`
-	AgeMa          float64  `json:"age_ma"`
-	SigmaMa        float64  `json:"sigma_ma_1s"`   // analytical (U–Pb X)
-	SigmaYMa       *float64 `json:"sigma_y_ma_1s"` // X ⊕ tracer
-	SigmaZMa       *float64 `json:"sigma_z_ma_1s"` // full external
-	SigmaLevel     int      `json:"sigma_level_published"`
-	Tracer         string   `json:"tracer"`
-	Monitor        string   `json:"monitor"`
-	MonitorAgeMa   *float64 `json:"monitor_age_ma"`
-	LambdaPerA     *float64 `json:"lambda_per_a"`
-	Laboratory     string   `json:"laboratory"`
-	Citation       string   `json:"citation"`
-	DOI            string   `json:"doi"`
-	Latitude       *float64 `json:"latitude"`
-	Longitude      *float64 `json:"longitude"`
-	ReviewState    string   `json:"review_state"`
-	ReviewNote     string   `json:"review_note"`
-	Notes          string   `json:"notes"`
-	Version        int      `json:"version"`
-	CreatedAt      string   `json:"created_at"`
-	UpdatedAt      string   `json:"updated_at"`
+	ID             int64       `json:"id"`
+	UnitID         *int64      `json:"unit_id"`
+	Unit           string      `json:"unit"`
+	ProvinceID     *int64      `json:"province_id"`
+	Province       string      `json:"province"`
+	SectionID      *int64      `json:"section_id"`
+	Section        string      `json:"section"`
+	HeightM        *float64    `json:"height_m"`
+	SampleCode     string      `json:"sample_code"`
+	Method         string      `json:"method"`
+	Material       string      `json:"material"`
+	Interpretation string      `json:"interpretation"`
+	AgeMa          float64     `json:"age_ma"`
+	SigmaMa        float64     `json:"sigma_ma_1s"`   // analytical (U–Pb X)
+	SigmaYMa       *float64    `json:"sigma_y_ma_1s"` // X ⊕ tracer
+	SigmaZMa       *float64    `json:"sigma_z_ma_1s"` // full external
+	SigmaLevel     int         `json:"sigma_level_published"`
+	Tracer         string      `json:"tracer"`
+	Monitor        string      `json:"monitor"`
+	MonitorAgeMa   *float64    `json:"monitor_age_ma"`
+	LambdaPerA     *float64    `json:"lambda_per_a"`
+	Laboratory     string      `json:"laboratory"`
+	Citation       string      `json:"citation"`
+	DOI            string      `json:"doi"`
+	Latitude       *float64    `json:"latitude"`
+	Longitude      *float64    `json:"longitude"`
+	ReviewState    ReviewState `json:"review_state"`
+	ReviewNote     string      `json:"review_note"`
+	Notes          string      `json:"notes"`
+	Version        int         `json:"version"`
+	CreatedAt      string      `json:"created_at"`
+	UpdatedAt      string      `json:"updated_at"`
 }
 
 // Calibration is a named set of ⁴⁰K decay constant and fluence-monitor age, with its source.
@@ -138,49 +138,49 @@ type Sample struct {
 // TiePoint is a dated horizon of a section. Like dates and events it is reviewed: a contributor's tie is
 // pending until a curator accepts it.
 type TiePoint struct {
-	ID             int64    `json:"id"`
-	SectionID      int64    `json:"section_id"`
-	Section        string   `json:"section"`
-	Label          string   `json:"label"`
-	HeightM        float64  `json:"height_m"`
-	Kind           string   `json:"kind"`
-	Distribution   string   `json:"distribution"`
-	AgeMa          *float64 `json:"age_ma"`
-	SigmaMa        *float64 `json:"sigma_ma_1s"`
-	SigmaLevel     *int     `json:"sigma_level_published"`
-	AgeMinMa       *float64 `json:"age_min_ma"`
-	AgeMaxMa       *float64 `json:"age_max_ma"`
-	DateID         *int64   `json:"date_id"`
-	DateSampleCode string   `json:"date_sample_code"`
-	DateMethod     string   `json:"date_method"`
-	ReviewState    string   `json:"review_state"` // pending, accepted, rejected: age models use accepted ties by default
-	ReviewNote     string   `json:"review_note"`
-	Notes          string   `json:"notes"`
-	Version        int      `json:"version"`
-	CreatedAt      string   `json:"created_at"`
-	UpdatedAt      string   `json:"updated_at"`
+	ID             int64       `json:"id"`
+	SectionID      int64       `json:"section_id"`
+	Section        string      `json:"section"`
+	Label          string      `json:"label"`
+	HeightM        float64     `json:"height_m"`
+	Kind           string      `json:"kind"`
+	Distribution   string      `json:"distribution"`
+	AgeMa          *float64    `json:"age_ma"`
+	SigmaMa        *float64    `json:"sigma_ma_1s"`
+	SigmaLevel     *int        `json:"sigma_level_published"`
+	AgeMinMa       *float64    `json:"age_min_ma"`
+	AgeMaxMa       *float64    `json:"age_max_ma"`
+	DateID         *int64      `json:"date_id"`
+	DateSampleCode string      `json:"date_sample_code"`
+	DateMethod     string      `json:"date_method"`
+	ReviewState    ReviewState `json:"review_state"` // pending, accepted, rejected: age models use accepted ties by default
+	ReviewNote     string      `json:"review_note"`
+	Notes          string      `json:"notes"`
+	Version        int         `json:"version"`
+	CreatedAt      string      `json:"created_at"`
+	UpdatedAt      string      `json:"updated_at"`
 }
 
 // Event is something in the sedimentary record: a horizon or interval of a section.
 type Event struct {
-	ID          int64    `json:"id"`
-	SectionID   *int64   `json:"section_id"`
-	Section     string   `json:"section"`
-	Name        string   `json:"name"`
-	Kind        string   `json:"kind"`
-	BaseHeightM *float64 `json:"base_height_m"`
-	TopHeightM  *float64 `json:"top_height_m"`
-	AgeMa       *float64 `json:"age_ma"`
-	SigmaMa     *float64 `json:"sigma_ma_1s"`
-	DateID      *int64   `json:"date_id"`
-	GroupID     *int64   `json:"group_id"`
-	Origin      string   `json:"origin"`
-	ReviewState string   `json:"review_state"`
-	ReviewNote  string   `json:"review_note"`
-	Notes       string   `json:"notes"`
-	Version     int      `json:"version"`
-	CreatedAt   string   `json:"created_at"`
-	UpdatedAt   string   `json:"updated_at"`
+	ID          int64       `json:"id"`
+	SectionID   *int64      `json:"section_id"`
+	Section     string      `json:"section"`
+	Name        string      `json:"name"`
+	Kind        string      `json:"kind"`
+	BaseHeightM *float64    `json:"base_height_m"`
+	TopHeightM  *float64    `json:"top_height_m"`
+	AgeMa       *float64    `json:"age_ma"`
+	SigmaMa     *float64    `json:"sigma_ma_1s"`
+	DateID      *int64      `json:"date_id"`
+	GroupID     *int64      `json:"group_id"`
+	Origin      string      `json:"origin"`
+	ReviewState ReviewState `json:"review_state"`
+	ReviewNote  string      `json:"review_note"`
+	Notes       string      `json:"notes"`
+	Version     int         `json:"version"`
+	CreatedAt   string      `json:"created_at"`
+	UpdatedAt   string      `json:"updated_at"`
 }
 
 // Batch is a set of changes made together (one import, one edit).

@@ -25,7 +25,7 @@ const maxEventName = 200
 // as a *ValidationError whose problems name the fields; nothing is written then.
 func (d *DB) AddSectionEvent(ctx context.Context, sectionID int64, f EventForm, asCurator bool) (Event, error) {
 	return d.CreateEvent(ctx, sectionID, Form{"name": f.Name, "kind": f.Kind, "base_height_m": f.BaseHeightM,
-		"top_height_m": f.TopHeightM, "notes": f.Notes, "review_state": "accepted"}, asCurator)
+		"top_height_m": f.TopHeightM, "notes": f.Notes, "review_state": string(ReviewAccepted)}, asCurator)
 }
 
 // insertEvent writes a new event of a section and records its creation in batch; it sets ev.ID and

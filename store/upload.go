@@ -41,12 +41,12 @@ func AsContribution(ctx context.Context) context.Context {
 func isContribution(ctx context.Context) bool { v, _ := ctx.Value(contributionKey{}).(bool); return v }
 
 // pendingNote sets every record's review state to pending when ctx is a contribution, and says so.
-func pendingNote(ctx context.Context, res *ImportResult, n int, what string, state func(i int) *string) {
+func pendingNote(ctx context.Context, res *ImportResult, n int, what string, state func(i int) *ReviewState) {
 	if !isContribution(ctx) || n == 0 {
 		return
 	}
 	for i := range n {
-		*state(i) = "pending"
+		*state(i) = ReviewPending
 	}
 	res.Notes = append(res.Notes, fmt.Sprintf("the %d %s arrive pending a curator's review; until accepted they are left out of computations unless a page's include= says otherwise", n, what))
 }

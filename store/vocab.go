@@ -69,9 +69,9 @@ func UnitKinds() []Term {
 // SectionKinds lists the kinds of section.
 func SectionKinds() []Term { return []Term{{"outcrop", "outcrop"}, {"core", "core"}} }
 
-// ReviewStates lists the review states of a contributed record.
+// ReviewStates lists the review states of a contributed record (the ReviewState constants, with labels).
 func ReviewStates() []Term {
-	return []Term{{"pending", "pending review"}, {"accepted", "accepted"}, {"rejected", "rejected"}}
+	return []Term{{string(ReviewPending), "pending review"}, {string(ReviewAccepted), "accepted"}, {string(ReviewRejected), "rejected"}}
 }
 
 // TieKinds lists the kinds of tie point.
@@ -87,14 +87,15 @@ func EventKinds() []Term {
 		{"other", "other"}}
 }
 
-// Label returns the label of code in terms, or code itself when it is unknown.
-func Label(terms []Term, code string) string {
+// Label returns the label of code in terms, or code itself when it is unknown. Codes may be typed
+// (a ReviewState).
+func Label[S ~string](terms []Term, code S) string {
 	for _, t := range terms {
-		if t.Code == code {
+		if t.Code == string(code) {
 			return t.Label
 		}
 	}
-	return code
+	return string(code)
 }
 
 func codes(terms []Term) []string {

@@ -499,7 +499,7 @@ func TestConcurrentEditsThroughTheWeb(t *testing.T) {
 		for k, x := range store.FormOfDate(d) {
 			v.Set(k, x)
 		}
-		v.Set("review_state", d.ReviewState)
+		v.Set("review_state", string(d.ReviewState))
 		v.Set("version", fmt.Sprint(d.Version))
 		v.Set("notes", notes)
 		return v

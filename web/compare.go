@@ -1103,7 +1103,7 @@ func eventReviewCautions(used, left []store.Event, include string) []string {
 			if e.Section != "" {
 				name += " (" + e.Section + ")"
 			}
-			out[i] = reviewed{name, e.ReviewState}
+			out[i] = reviewed{name, string(e.ReviewState)}
 		}
 		return out
 	}

@@ -102,7 +102,7 @@ func dateTable(r *http.Request, ds []store.Date, level int, sortable bool, cal c
 			}
 		}
 		review := views.Cell{Text: store.Label(store.ReviewStates(), d.ReviewState)}
-		if d.ReviewState != "accepted" {
+		if d.ReviewState != store.ReviewAccepted {
 			review.Class = "pending"
 		}
 		recAge, recSigma := recalcCells(d, cal, level)
@@ -153,7 +153,7 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 		MinAgeMa:    p.optFloat("age_min", "an age in Ma"),
 		MaxAgeMa:    p.optFloat("age_max", "an age in Ma"),
 		Text:        p.str("q"),
-		ReviewState: p.oneOf("review", []string{"pending", "accepted", "rejected"}, ""),
+		ReviewState: store.ReviewState(p.oneOf("review", []string{string(store.ReviewPending), string(store.ReviewAccepted), string(store.ReviewRejected)}, "")),
 		Sort:        p.oneOf("sort", sortChoices(store.DateSortKeys()), "-age"),
 	}
 	per := p.int("per", 50, 1, 1000)
@@ -274,7 +274,7 @@ func (s *Server) dateFilterForm(r *http.Request, f store.DateFilter, level, per 
 	}
 	rev := []views.Option{{Value: "", Label: "all"}}
 	for _, t := range store.ReviewStates() {
-		rev = append(rev, views.Option{Value: t.Code, Label: t.Label, Selected: t.Code == f.ReviewState})
+		rev = append(rev, views.Option{Value: t.Code, Label: t.Label, Selected: t.Code == string(f.ReviewState)})
 	}
 	sig := []views.Option{{Value: "1", Label: "1σ", Selected: level == 1}, {Value: "2", Label: "2σ", Selected: level == 2}}
 	return &views.Form{Action: "/dates", Reset: "/dates", Fields: []views.Field{
@@ -403,22 +403,11 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	}
 	source.Fields = append(source.Fields, views.KV{Label: "Notes", Value: orDash(d.Notes)})
 	v.Groups = append(v.Groups, source)
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), d.ReviewState)}
-	if d.ReviewState != "accepted" {
-		review.Class = "pending"
-	}
-	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: []views.KV{review,
-		{Label: "Record number", Value: strconv.FormatInt(d.ID, 10)},
-		{Label: "Version", Value: itoa(d.Version)},
-		{Label: "Added", Value: when(d.CreatedAt)},
-		{Label: "Last changed", Value: when(d.UpdatedAt)},
-		{Label: "Revisions recorded", Value: itoa(revs)},
-	}})
-	v.Links = append(v.Links, views.Link{Label: "History of this date", URL: fmt.Sprintf("/dates/%d/history", d.ID)})
-	v.Actions = dateActions(r, d)
-	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) && s.mayEdit(r, d) == nil {
-		v.Links = append(v.Links, views.Link{Label: "Edit this date", URL: fmt.Sprintf("/dates/%d/edit", d.ID)})
-	}
+	review := reviewField(d.ReviewState)
+	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: append(append([]views.KV{review},
+		recordFields(d.ID, d.Version, d.CreatedAt, d.UpdatedAt)...), views.KV{Label: "Revisions recorded", Value: itoa(revs)})})
+	links, acts := recordPage(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
+	v.Links, v.Actions = append(v.Links, links...), acts
 	if d.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+d.ReviewNote)
 	}
@@ -431,26 +420,4 @@ func optLambda(v *float64) string {
 		return "—"
 	}
 	return lambda(*v)
-}
-
-// dateActions are the changes the signed-in user may make to a date from its page.
-func dateActions(r *http.Request, d store.Date) []views.Action {
-	u, ok := currentUser(r.Context())
-	if !ok {
-		return nil
-	}
-	version := []views.KV{{Label: "version", Value: strconv.Itoa(d.Version)}}
-	var acts []views.Action
-	if store.RoleAtLeast(u.Role, store.RoleCurator) {
-		if d.ReviewState != "accepted" {
-			acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("/dates/%d/review", d.ID),
-				Hidden: append(version, views.KV{Label: "decision", Value: "accept"}), Reason: "note (optional)"})
-		}
-		if d.ReviewState != "rejected" {
-			acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("/dates/%d/review", d.ID),
-				Hidden: append(version, views.KV{Label: "decision", Value: "reject"}), Reason: "reason (required)"})
-		}
-		acts = append(acts, views.Action{Label: "Delete", URL: fmt.Sprintf("/dates/%d/delete", d.ID), Hidden: version, Danger: true})
-	}
-	return acts
 }

@@ -2,10 +2,7 @@ package web
 
 import (
 	"context"
-	"errors"
-	"fmt"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -29,29 +26,15 @@ func (s *Server) eventEdit() recordEdit {
 			{"review_state", "Review", "curators only; a contributor's change is pending", store.ReviewStates},
 			{"notes", "Notes", "", nil},
 		},
-		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
-			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "hg_anomaly", "review_state": "pending"}, sectionCrumbs(sec), err
-		},
-		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
-			id, err := pathID(r, "id")
-			if err != nil {
-				return 0, err
-			}
-			e, err := s.store.CreateEvent(r.Context(), id, f, curator)
-			return e.ID, err
-		},
+		newForm: s.newInSection(store.Form{"kind": "hg_anomaly", "review_state": string(store.ReviewPending)}),
+		create:  createdInSection(s.store.CreateEvent, func(x store.Event) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			e, err := s.store.Event(ctx, id)
 			return stored{form: store.FormOfEvent(e), version: e.Version, name: e.Name, review: e.ReviewState,
 				crumbs: eventCrumbs(e)}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateEvent(ctx, id, version, f, curator)
-			return err
-		},
-		remove:       s.store.DeleteEvent,
-		fromRevision: fromJSON(store.FormOfEvent),
+		update: savedBy(s.store.UpdateEvent),
+		remove: s.store.DeleteEvent,
 		mayEdit: func(r *http.Request, id int64, st stored) error {
 			return s.mayEditDraft(r, "event", "event", id, st.review)
 		},
@@ -61,11 +44,6 @@ func (s *Server) eventEdit() recordEdit {
 func (s *Server) registerEventEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.eventEdit())
 	r.Get("/events/{id}", s.handle(s.handleEventShow))
-	r.With(s.requireRole(store.RoleCurator)).Post("/events/{id}/review", s.handle(s.handleReview("event", "/events",
-		func(ctx context.Context, id int64, version int, accept bool, note string) error {
-			_, err := s.store.ReviewEvent(ctx, id, version, accept, note)
-			return err
-		})))
 }
 
 // sectionOfPath reads the section named by the {id} of a path such as /sections/{id}/events/new.
@@ -91,13 +69,8 @@ func eventCrumbs(e store.Event) []views.Link {
 // handleEventShow is the page of one event: its fields, review, history and the changes the user may make.
 func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
-	id, err := pathID(r, "id")
+	id, format, err := idAndFormat(r)
 	if err != nil {
-		return err
-	}
-	p := newParams(r)
-	format := p.oneOf("format", []string{"html", "json"}, "html")
-	if err := p.err(); err != nil {
 		return err
 	}
 	e, err := s.store.Event(ctx, id)
@@ -119,75 +92,18 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	if e.SectionID != nil {
 		sec.URL = idURL("/sections", *e.SectionID)
 	}
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), e.ReviewState)}
-	if e.ReviewState != "accepted" {
-		review.Class = "pending"
-	}
+	review := reviewField(e.ReviewState)
 	v.Groups = []views.FieldGroup{{Title: "Event", Fields: []views.KV{sec,
 		{Label: "Kind", Value: store.Label(store.EventKinds(), e.Kind)},
 		{Label: "Base", Value: optNum(e.BaseHeightM) + " m"},
 		{Label: "Top", Value: top},
 		{Label: "Found", Value: e.Origin},
 		{Label: "Notes", Value: orDash(e.Notes)},
-	}}, {Title: "Record", Fields: []views.KV{review,
-		{Label: "Record number", Value: strconv.FormatInt(e.ID, 10)},
-		{Label: "Version", Value: itoa(e.Version)},
-		{Label: "Added", Value: when(e.CreatedAt)},
-		{Label: "Last changed", Value: when(e.UpdatedAt)},
-	}}}
+	}}, {Title: "Record", Fields: append([]views.KV{review}, recordFields(e.ID, e.Version, e.CreatedAt, e.UpdatedAt)...)}}
 	if e.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+e.ReviewNote)
 	}
-	ed := s.eventEdit()
-	links, acts := recordLinks(r, ed, id, stored{version: e.Version, review: e.ReviewState})
-	v.Links = links
-	v.Actions = append(reviewActions(r, "/events", e.ID, e.Version, e.ReviewState), acts...)
+	v.Links, v.Actions = recordPage(r, s.eventEdit(), id, stored{version: e.Version, review: e.ReviewState})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
-}
-
-// reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
-func reviewActions(r *http.Request, path string, id int64, version int, state string) []views.Action {
-	if !isCurator(r) {
-		return nil
-	}
-	hidden := func(decision string) []views.KV {
-		return []views.KV{{Label: "version", Value: strconv.Itoa(version)}, {Label: "decision", Value: decision}}
-	}
-	var acts []views.Action
-	if state != "accepted" {
-		acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("accept"), Reason: "note (optional)"})
-	}
-	if state != "rejected" {
-		acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("reject"), Reason: "reason (required)"})
-	}
-	return acts
-}
-
-// handleReview is the POST of a curator's accept or reject (with a reason) of a reviewed record at path/{id};
-// review is the store's method for its kind.
-func (s *Server) handleReview(noun, path string, review func(ctx context.Context, id int64, version int, accept bool, note string) error) func(http.ResponseWriter, *http.Request) error {
-	return func(w http.ResponseWriter, r *http.Request) error {
-		r = actingCtx(r)
-		id, err := pathID(r, "id")
-		if err != nil {
-			return err
-		}
-		version, err := strconv.Atoi(r.PostFormValue("version"))
-		if err != nil {
-			return badRequest{message: fmt.Sprintf("The review lacks the version it was made on; open the %s again.", noun)}
-		}
-		err = review(r.Context(), id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
-		if ve, ok := store.AsValidation(err); ok {
-			return badRequest{message: "The review was not saved:", problems: problemTexts(ve.Problems)}
-		}
-		if errors.Is(err, store.ErrConflict) {
-			return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not reviewed. Reload it and review the current version.", noun)}
-		}
-		if err != nil {
-			return err
-		}
-		http.Redirect(w, r, idURL(path, id), http.StatusSeeOther)
-		return nil
-	}
 }

@@ -27,7 +27,7 @@ func editForm(d store.Date, notes string) url.Values {
 	for k, v := range store.FormOfDate(d) {
 		f.Set(k, v)
 	}
-	f.Set("review_state", d.ReviewState)
+	f.Set("review_state", string(d.ReviewState))
 	f.Set("version", strconv.Itoa(d.Version))
 	f.Set("notes", notes)
 	return f

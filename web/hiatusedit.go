@@ -3,7 +3,6 @@ package web
 import (
 	"context"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -26,40 +25,21 @@ func (s *Server) hiatusEdit() recordEdit {
 			{"review_state", "Review", "curators only; a contributor's hiatus is pending", store.ReviewStates},
 			{"notes", "Notes", "the evidence: surface, lag, missing zones", nil},
 		},
-		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
-			sec, err := s.sectionOfPath(r)
-			return store.Form{"min_duration_ma": "0", "review_state": "pending"}, sectionCrumbs(sec), err
-		},
-		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
-			id, err := pathID(r, "id")
-			if err != nil {
-				return 0, err
-			}
-			h, err := s.store.CreateHiatus(r.Context(), id, f, curator)
-			return h.ID, err
-		},
+		newForm: s.newInSection(store.Form{"min_duration_ma": "0", "review_state": string(store.ReviewPending)}),
+		create:  createdInSection(s.store.CreateHiatus, func(x store.Hiatus) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			h, err := s.store.Hiatus(ctx, id)
 			return stored{form: store.FormOfHiatus(h), version: h.Version, name: hiatusTitle(h), review: h.ReviewState,
 				crumbs: sectionCrumbs(store.Section{ID: h.SectionID, Name: h.Section})}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateHiatus(ctx, id, version, f, curator)
-			return err
-		},
-		remove:       s.store.DeleteHiatus,
-		fromRevision: fromJSON(store.FormOfHiatus),
+		update: savedBy(s.store.UpdateHiatus),
+		remove: s.store.DeleteHiatus,
 	}
 }
 
 func (s *Server) registerHiatusEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.hiatusEdit())
 	r.Get("/hiatuses/{id}", s.handle(s.handleHiatusShow))
-	r.With(s.requireRole(store.RoleCurator)).Post("/hiatuses/{id}/review", s.handle(s.handleReview("hiatus", "/hiatuses",
-		func(ctx context.Context, id int64, version int, accept bool, note string) error {
-			_, err := s.store.ReviewHiatus(ctx, id, version, accept, note)
-			return err
-		})))
 }
 
 // hiatusTitle is what a hiatus's page is called: it has no name, only a height.
@@ -72,7 +52,7 @@ func hiatusTable(hs []store.Hiatus) views.Table {
 		{Label: "Minimum duration", Unit: "Ma", Num: true}, {Label: "Review"}, {Label: "Notes"}}, Empty: "No hiatuses."}
 	for _, h := range hs {
 		review := views.Cell{Text: store.Label(store.ReviewStates(), h.ReviewState)}
-		if h.ReviewState != "accepted" {
+		if h.ReviewState != store.ReviewAccepted {
 			review.Class = "pending"
 			review.Title = h.ReviewNote
 		}
@@ -86,13 +66,8 @@ func hiatusTable(hs []store.Hiatus) views.Table {
 // curators, the accept and reject buttons), and its history.
 func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
-	id, err := pathID(r, "id")
+	id, format, err := idAndFormat(r)
 	if err != nil {
-		return err
-	}
-	p := newParams(r)
-	format := p.oneOf("format", []string{"html", "json"}, "html")
-	if err := p.err(); err != nil {
 		return err
 	}
 	h, err := s.store.Hiatus(ctx, id)
@@ -106,35 +81,16 @@ func (s *Server) handleHiatusShow(w http.ResponseWriter, r *http.Request) error 
 	v := views.Detail{Page: s.page(ctx, hiatusTitle(h), "Sections")}
 	v.Page.Crumbs = sectionCrumbs(store.Section{ID: h.SectionID, Name: h.Section})
 	v.Page.Downloads = []views.Link{{Label: "JSON", URL: withQuery(r, "format", "json")}}
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), h.ReviewState)}
-	if h.ReviewState != "accepted" {
-		review.Class = "pending"
-	}
+	review := reviewField(h.ReviewState)
 	v.Groups = []views.FieldGroup{{Title: "Hiatus", Fields: []views.KV{
 		{Label: "Section", Value: h.Section, URL: idURL("/sections", h.SectionID)},
 		{Label: "Height", Value: num(h.HeightM) + " m above the base"},
 		{Label: "Minimum duration", Value: num(h.MinDurationMa) + " Ma"},
 		{Label: "Notes", Value: orDash(h.Notes)},
-	}}, {Title: "Record", Fields: []views.KV{review,
-		{Label: "Record number", Value: strconv.FormatInt(h.ID, 10)},
-		{Label: "Version", Value: itoa(h.Version)},
-		{Label: "Added", Value: when(h.CreatedAt)},
-		{Label: "Last changed", Value: when(h.UpdatedAt)},
-	}}}
+	}}, {Title: "Record", Fields: append([]views.KV{review}, recordFields(h.ID, h.Version, h.CreatedAt, h.UpdatedAt)...)}}
 	v.Notes = append(v.Notes, "The age–height model honours a hiatus that lies between its lowest and highest tie points: at least the minimum duration passes at this height. The naive linear model ignores hiatuses.")
-	switch h.ReviewState {
-	case "pending":
-		v.Notes = append(v.Notes, "This hiatus waits for a curator's review. Until it is accepted, the age–height model of "+h.Section+
-			" and the comparison leave it out, unless the address says include=pending or include=all.")
-	case "rejected":
-		v.Notes = append(v.Notes, "This hiatus was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
-	}
-	if h.ReviewNote != "" {
-		v.Notes = append(v.Notes, "Review note: "+h.ReviewNote)
-	}
-	links, acts := recordLinks(r, s.hiatusEdit(), id, stored{version: h.Version, review: h.ReviewState})
-	v.Links = links
-	v.Actions = append(reviewActions(r, "/hiatuses", h.ID, h.Version, h.ReviewState), acts...)
+	v.Notes = append(v.Notes, ageModelReviewNotes("hiatus", h.Section, h.ReviewState, h.ReviewNote)...)
+	v.Links, v.Actions = recordPage(r, s.hiatusEdit(), id, stored{version: h.Version, review: h.ReviewState})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
 }

@@ -98,7 +98,7 @@ func TestReadersAndWritersTogether(t *testing.T) {
 				for k, v := range store.FormOfDate(d) {
 					form.Set(k, v)
 				}
-				form.Set("review_state", d.ReviewState)
+				form.Set("review_state", string(d.ReviewState))
 				form.Set("version", strconv.Itoa(d.Version))
 				form.Set("notes", fmt.Sprintf("writer %d edit %d", w, n))
 				status, body, _ := do(t, c, http.MethodPost, fmt.Sprintf("%s/dates/%d/edit", srv.URL, target), form)

@@ -38,8 +38,7 @@ func (s *Server) provinceEdit() recordEdit {
 			_, err := s.store.UpdateProvince(ctx, id, version, f)
 			return err
 		},
-		remove:       s.store.DeleteProvince,
-		fromRevision: fromJSON(store.FormOfProvince),
+		remove: s.store.DeleteProvince,
 	}
 }
 

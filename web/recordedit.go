@@ -28,14 +28,15 @@ type stored struct {
 	version int
 	name    string
 	crumbs  []views.Link
-	review  string
+	review  store.ReviewState
 }
 
-// recordEdit is the editing flow that provinces, units, sections, tie points, hiatuses and events share with the
-// dates' (web/dateedit.go): a form checked with the importer's rules, re-shown with its field errors (422),
-// 303 after saving, an edit against an old version answered with both versions side by side (409), a
-// delete refused while other records depend on the record, and a history of field diffs with a restore.
-// Each record type fills it in with closures over the store.
+// recordEdit is the one editing flow of every record (provinces, units, sections, dates, tie points, events,
+// hiatuses): a form checked with the importer's rules, re-shown with its field errors (422), 303 after
+// saving, an edit against an old version answered with both versions side by side (409), a delete refused
+// while other records depend on the record, a curator's accept or reject for the kinds that are reviewed
+// (store.Reviewed), and a history of field diffs with a restore. Each record type fills it in with closures
+// over the store.
 type recordEdit struct {
 	recordType string // record_type of its revisions, e.g. "tie_point"
 	noun       string // "tie point"
@@ -54,14 +55,12 @@ type recordEdit struct {
 	load   func(ctx context.Context, id int64) (stored, error)
 	update func(ctx context.Context, id int64, version int, f store.Form, curator bool) error
 	remove func(ctx context.Context, id int64, version int) error
-	// fromRevision turns a revision's JSON state into form cells.
-	fromRevision func(raw json.RawMessage) (store.Form, error)
 	// mayEdit refuses (forbidden) an edit the user may not make beyond the route's role; nil allows it.
 	mayEdit func(r *http.Request, id int64, st stored) error
 }
 
 // registerRecordEdit adds the routes of one record's editing flow: creation for contributors, edits for
-// e.editRole (and mayEdit), deletion for curators, and the public history.
+// e.editRole (and mayEdit), deletion (and review, for reviewed kinds) for curators, and the public history.
 func (s *Server) registerRecordEdit(r chi.Router, e recordEdit) {
 	r.With(s.requireRole(store.RoleContributor)).Group(func(r chi.Router) {
 		r.Get(e.newPath, s.handle(s.handleRecordNew(e)))
@@ -72,6 +71,9 @@ func (s *Server) registerRecordEdit(r chi.Router, e recordEdit) {
 		r.Post(e.path+"/{id}/edit", s.handle(s.handleRecordUpdate(e)))
 	})
 	r.With(s.requireRole(store.RoleCurator)).Post(e.path+"/{id}/delete", s.handle(s.handleRecordDelete(e)))
+	if store.Reviewed(e.recordType) {
+		r.With(s.requireRole(store.RoleCurator)).Post(e.path+"/{id}/review", s.handle(s.handleReview(e)))
+	}
 	r.Get(e.path+"/{id}/history", s.handle(s.handleRecordHistory(e)))
 }
 
@@ -226,13 +228,9 @@ func (s *Server) handleRecordUpdate(e recordEdit) func(http.ResponseWriter, *htt
 func (s *Server) handleRecordDelete(e recordEdit) func(http.ResponseWriter, *http.Request) error {
 	return func(w http.ResponseWriter, r *http.Request) error {
 		r = actingCtx(r)
-		id, err := pathID(r, "id")
+		id, version, err := idAndVersion(r, fmt.Sprintf("The request lacks the version; open the %s again.", e.noun))
 		if err != nil {
 			return err
-		}
-		version, err := strconv.Atoi(r.PostFormValue("version"))
-		if err != nil {
-			return badRequest{message: fmt.Sprintf("The request lacks the version; open the %s again.", e.noun)}
 		}
 		if err := refusal(e.noun, "deleted", e.remove(r.Context(), id, version)); err != nil {
 			return err
@@ -275,13 +273,8 @@ func fieldDiff(caption string, fields []formField, a, b store.Form, aLabel, bLab
 func (s *Server) handleRecordHistory(e recordEdit) func(http.ResponseWriter, *http.Request) error {
 	return func(w http.ResponseWriter, r *http.Request) error {
 		ctx := r.Context()
-		id, err := pathID(r, "id")
+		id, format, err := idAndFormat(r)
 		if err != nil {
-			return err
-		}
-		p := newParams(r)
-		format := p.oneOf("format", []string{"html", "json"}, "html")
-		if err := p.err(); err != nil {
 			return err
 		}
 		revs, err := s.store.Revisions(ctx, e.recordType, id)
@@ -342,11 +335,7 @@ func revisionForm(e recordEdit, raw json.RawMessage) (store.Form, error) {
 	if raw == nil {
 		return store.Form{}, nil
 	}
-	f, err := e.fromRevision(raw)
-	if err != nil {
-		return nil, fmt.Errorf("read %s revision: %w", e.recordType, err)
-	}
-	return f, nil
+	return store.FormOfState(e.recordType, raw)
 }
 
 // historyURL is the history page of a record, or "" for records without one (anomaly decisions are
@@ -379,13 +368,145 @@ func recordLinks(r *http.Request, e recordEdit, id int64, st stored) ([]views.Li
 	return links, acts
 }
 
-// fromJSON decodes a revision's state as T and gives its form cells.
-func fromJSON[T any](form func(T) store.Form) func(json.RawMessage) (store.Form, error) {
-	return func(raw json.RawMessage) (store.Form, error) {
-		var x T
-		if err := json.Unmarshal(raw, &x); err != nil {
-			return nil, err
+// idAndVersion reads the record id of the path and the version a POST was made on; missing is the
+// message when the version is not there.
+func idAndVersion(r *http.Request, missing string) (int64, int, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return 0, 0, err
+	}
+	version, err := strconv.Atoi(r.PostFormValue("version"))
+	if err != nil {
+		return 0, 0, badRequest{message: missing}
+	}
+	return id, version, nil
+}
+
+// createdInSection adapts a store's creation of a record in the section of the path (/sections/{id}/…)
+// to recordEdit.create.
+func createdInSection[T any](create func(context.Context, int64, store.Form, bool) (T, error), id func(T) int64) func(*http.Request, store.Form, bool) (int64, error) {
+	return func(r *http.Request, f store.Form, curator bool) (int64, error) {
+		sec, err := pathID(r, "id")
+		if err != nil {
+			return 0, err
 		}
-		return form(x), nil
+		x, err := create(r.Context(), sec, f, curator)
+		return id(x), err
+	}
+}
+
+// newInSection is the newForm of records added to the section of the path (/sections/{id}/…): the form's
+// defaults, and the section's breadcrumbs (404 for an unknown section).
+func (s *Server) newInSection(defaults store.Form) func(*http.Request) (store.Form, []views.Link, error) {
+	return func(r *http.Request) (store.Form, []views.Link, error) {
+		sec, err := s.sectionOfPath(r)
+		return defaults, sectionCrumbs(sec), err
+	}
+}
+
+// recordFields are the fields that end the "Record" group of every record's page.
+func recordFields(id int64, version int, created, updated string) []views.KV {
+	return []views.KV{
+		{Label: "Record number", Value: strconv.FormatInt(id, 10)},
+		{Label: "Version", Value: itoa(version)},
+		{Label: "Added", Value: when(created)},
+		{Label: "Last changed", Value: when(updated)},
+	}
+}
+
+// idAndFormat reads the record id of the path and format= (html or json) of a record's page.
+func idAndFormat(r *http.Request) (int64, string, error) {
+	id, err := pathID(r, "id")
+	if err != nil {
+		return 0, "", err
+	}
+	p := newParams(r)
+	format := p.oneOf("format", []string{"html", "json"}, "html")
+	return id, format, p.err()
+}
+
+// savedBy adapts a store's update of a record with a review state to recordEdit.update.
+func savedBy[T any](update func(context.Context, int64, int, store.Form, bool) (T, error)) func(context.Context, int64, int, store.Form, bool) error {
+	return func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
+		_, err := update(ctx, id, version, f, curator)
+		return err
+	}
+}
+
+// recordPage gives a record's page its links and buttons: those of recordLinks, preceded for a reviewed
+// kind by the curator's accept and reject.
+func recordPage(r *http.Request, e recordEdit, id int64, st stored) ([]views.Link, []views.Action) {
+	links, acts := recordLinks(r, e, id, st)
+	if store.Reviewed(e.recordType) {
+		acts = append(reviewActions(r, e.path, id, st.version, st.review), acts...)
+	}
+	return links, acts
+}
+
+// reviewField is a reviewed record's review state as its page shows it, marked when not accepted.
+func reviewField(state store.ReviewState) views.KV {
+	kv := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), state)}
+	if state != store.ReviewAccepted {
+		kv.Class = "pending"
+	}
+	return kv
+}
+
+// ageModelReviewNotes say what the review of a tie point or hiatus means for the age–height model of
+// section, and give the review note.
+func ageModelReviewNotes(noun, section string, state store.ReviewState, note string) []string {
+	var out []string
+	switch state {
+	case store.ReviewPending:
+		out = append(out, "This "+noun+" waits for a curator's review. Until it is accepted, the age–height model of "+section+
+			" and the comparison leave it out, unless the address says include=pending or include=all.")
+	case store.ReviewRejected:
+		out = append(out, "This "+noun+" was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
+	}
+	if note != "" {
+		out = append(out, "Review note: "+note)
+	}
+	return out
+}
+
+// reviewActions are the accept and reject buttons a curator sees on a reviewed record's page.
+func reviewActions(r *http.Request, path string, id int64, version int, state store.ReviewState) []views.Action {
+	if !isCurator(r) {
+		return nil
+	}
+	hidden := func(decision string) []views.KV {
+		return []views.KV{{Label: "version", Value: strconv.Itoa(version)}, {Label: "decision", Value: decision}}
+	}
+	var acts []views.Action
+	if state != store.ReviewAccepted {
+		acts = append(acts, views.Action{Label: "Accept", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("accept"), Reason: "note (optional)"})
+	}
+	if state != store.ReviewRejected {
+		acts = append(acts, views.Action{Label: "Reject", URL: fmt.Sprintf("%s/%d/review", path, id), Hidden: hidden("reject"), Reason: "reason (required)"})
+	}
+	return acts
+}
+
+// handleReview is the POST of a curator's accept or reject (with a reason) of a reviewed record at
+// e.path/{id}.
+func (s *Server) handleReview(e recordEdit) func(http.ResponseWriter, *http.Request) error {
+	return func(w http.ResponseWriter, r *http.Request) error {
+		r = actingCtx(r)
+		id, version, err := idAndVersion(r, fmt.Sprintf("The review lacks the version it was made on; open the %s again.", e.noun))
+		if err != nil {
+			return err
+		}
+		err = s.store.Review(r.Context(), e.recordType, id, version, r.PostFormValue("decision") == "accept", r.PostFormValue("note"))
+		if ve, ok := store.AsValidation(err); ok {
+			return badRequest{message: "The review was not saved:", problems: problemTexts(ve.Problems)}
+		}
+		if errors.Is(err, store.ErrConflict) {
+			return conflictError{fmt.Sprintf("The %s changed since you opened it; it was not reviewed. Reload it and review the current version.", e.noun)}
+		}
+		if err != nil {
+			return err
+		}
+		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
+		return nil
 	}
 }

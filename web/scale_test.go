@@ -93,12 +93,12 @@ func newScaleDB(tb testing.TB, n int) scaleDB {
 	materials := []string{"zircon", "sanidine", "plagioclase", "baddeleyite", "groundmass"}
 	labs := []string{"Invented Lab A", "Invented Lab B", "Invented Lab C", ""}
 	for i := 1; i <= n; i++ {
-		batch, state := s.importBatch, "accepted"
+		batch, state := s.importBatch, store.ReviewAccepted
 		if i == n-s.pendingDates+1 {
 			s.uploadBatch = newBatch("upload dates")
 		}
 		if i > n-s.pendingDates {
-			batch, state = s.uploadBatch, "pending"
+			batch, state = s.uploadBatch, store.ReviewPending
 		}
 		d := store.Date{ID: int64(i), SampleCode: fmt.Sprintf("INV-%06d", i), Material: materials[i%len(materials)],
 			Interpretation: "eruption", AgeMa: 180 + float64(i%2000)/100, SigmaMa: 0.02 + float64(i%7)/100, SigmaLevel: 1 + i%2,

@@ -44,8 +44,7 @@ func (s *Server) sectionEdit() recordEdit {
 			_, err := s.store.UpdateSection(ctx, id, version, f)
 			return err
 		},
-		remove:       s.store.DeleteSection,
-		fromRevision: fromJSON(store.FormOfSection),
+		remove: s.store.DeleteSection,
 	}
 }
 

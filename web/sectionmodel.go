@@ -339,7 +339,7 @@ func analyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 	a := &sectionAnalysis{Sec: sec, Opt: o, AllTies: ties, Events: events, AllHiatuses: hiatuses, Has: map[string]bool{}}
 	a.Hiatuses, a.HiatusesOut = partitionReviewed(o.Include, hiatuses, hiatusState)
 	for i, t := range ties {
-		if !included(o.Include, t.ReviewState) {
+		if !included(o.Include, string(t.ReviewState)) {
 			a.TiesLeftOut = append(a.TiesLeftOut, t)
 			continue
 		}

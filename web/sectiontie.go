@@ -265,7 +265,7 @@ func tieReviewCautions(where string, used, left []store.TiePoint, include string
 	r := func(ts []store.TiePoint) []reviewed {
 		out := make([]reviewed, len(ts))
 		for i, t := range ts {
-			out[i] = reviewed{t.Label, t.ReviewState}
+			out[i] = reviewed{t.Label, string(t.ReviewState)}
 		}
 		return out
 	}
@@ -277,7 +277,7 @@ func hiatusReviewCautions(where string, used, left []store.Hiatus, include strin
 	r := func(hs []store.Hiatus) []reviewed {
 		out := make([]reviewed, len(hs))
 		for i, h := range hs {
-			out[i] = reviewed{hiatusName(h), h.ReviewState}
+			out[i] = reviewed{hiatusName(h), string(h.ReviewState)}
 		}
 		return out
 	}
@@ -360,7 +360,7 @@ func (a *sectionAnalysis) tieReviewSentence() string {
 	}
 	var left []string
 	for _, t := range a.TiesLeftOut {
-		left = append(left, t.Label+" ("+t.ReviewState+")")
+		left = append(left, t.Label+" ("+string(t.ReviewState)+")")
 	}
 	return s + "; left out: " + strings.Join(left, ", ") + "."
 }
@@ -377,7 +377,7 @@ func (a *sectionAnalysis) hiatusReviewSentence() string {
 	}
 	var left []string
 	for _, h := range a.HiatusesOut {
-		left = append(left, hiatusName(h)+" ("+h.ReviewState+")")
+		left = append(left, hiatusName(h)+" ("+string(h.ReviewState)+")")
 	}
 	return s + "; left out: " + strings.Join(left, ", ") + "."
 }

@@ -95,13 +95,12 @@ type accountStore interface {
 // recordEditor is what the forms that create, edit, review, delete and restore records use, with the
 // records' history.
 type recordEditor interface {
-	CreateDate(ctx context.Context, f store.DateForm, asCurator bool) (store.Date, error)
-	UpdateDate(ctx context.Context, id int64, version int, f store.DateForm, asCurator bool) (store.Date, error)
-	ReviewDate(ctx context.Context, id int64, version int, accept bool, note string) (store.Date, error)
+	CreateDate(ctx context.Context, f store.Form, asCurator bool) (store.Date, error)
+	UpdateDate(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Date, error)
+	Review(ctx context.Context, recordType string, id int64, version int, accept bool, note string) error
 	DeleteDate(ctx context.Context, id int64, version int) error
 	Revisions(ctx context.Context, recordType string, id int64) ([]store.Revision, error)
 	RevisionByID(ctx context.Context, id int64) (store.Revision, error)
-	RevertDate(ctx context.Context, revID int64) error
 	RevertRevision(ctx context.Context, revID int64) error
 	CreateUnit(ctx context.Context, f store.Form) (store.Unit, error)
 	UpdateUnit(ctx context.Context, id int64, version int, f store.Form) (store.Unit, error)
@@ -112,17 +111,14 @@ type recordEditor interface {
 	Event(ctx context.Context, id int64) (store.Event, error)
 	CreateEvent(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.Event, error)
 	UpdateEvent(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Event, error)
-	ReviewEvent(ctx context.Context, id int64, version int, accept bool, note string) (store.Event, error)
 	DeleteEvent(ctx context.Context, id int64, version int) error
 	TiePoint(ctx context.Context, id int64) (store.TiePoint, error)
 	CreateTie(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.TiePoint, error)
 	UpdateTie(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.TiePoint, error)
-	ReviewTie(ctx context.Context, id int64, version int, accept bool, note string) (store.TiePoint, error)
 	DeleteTie(ctx context.Context, id int64, version int) error
 	Hiatus(ctx context.Context, id int64) (store.Hiatus, error)
 	CreateHiatus(ctx context.Context, sectionID int64, f store.Form, asCurator bool) (store.Hiatus, error)
 	UpdateHiatus(ctx context.Context, id int64, version int, f store.Form, asCurator bool) (store.Hiatus, error)
-	ReviewHiatus(ctx context.Context, id int64, version int, accept bool, note string) (store.Hiatus, error)
 	DeleteHiatus(ctx context.Context, id int64, version int) error
 	CreateProvince(ctx context.Context, f store.Form) (store.Province, error)
 	UpdateProvince(ctx context.Context, id int64, version int, f store.Form) (store.Province, error)

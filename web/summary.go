@@ -101,9 +101,9 @@ func partitionReviewed[T any](include string, xs []T, state func(T) string) (in,
 	return analysis.PartitionReviewed(include, xs, state)
 }
 
-func tieState(t store.TiePoint) string  { return t.ReviewState }
-func hiatusState(h store.Hiatus) string { return h.ReviewState }
-func eventState(e store.Event) string   { return e.ReviewState }
+func tieState(t store.TiePoint) string  { return string(t.ReviewState) }
+func hiatusState(h store.Hiatus) string { return string(h.ReviewState) }
+func eventState(e store.Event) string   { return string(e.ReviewState) }
 
 // systemOf groups a date's method by decay system (analysis.SystemOf).
 func systemOf(method string) (key, label, decay string) { return analysis.SystemOf(method) }

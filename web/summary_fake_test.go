@@ -49,9 +49,9 @@ func TestSummaryDownloadWithAFakeStore(t *testing.T) {
 	var ds []store.Date
 	for i, d := range []struct{ age, sigma2 float64 }{{201.512, 0.046}, {201.558, 0.040}, {201.530, 0.060}, {201.601, 0.050},
 		{201.489, 0.070}, {201.566, 0.036}, {201.545, 0.044}, {201.700, 0.040}} {
-		state := "accepted"
+		state := store.ReviewAccepted
 		if i == 7 {
-			state = "pending"
+			state = store.ReviewPending
 		}
 		ds = append(ds, store.Date{ID: int64(i + 1), UnitID: &one, SampleCode: fmt.Sprintf("S%d", i+1), Method: "upb_idtims",
 			AgeMa: d.age, SigmaMa: d.sigma2 / 2, ReviewState: state})

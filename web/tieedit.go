@@ -3,7 +3,6 @@ package web
 import (
 	"context"
 	"net/http"
-	"strconv"
 
 	"github.com/go-chi/chi/v5"
 
@@ -41,40 +40,21 @@ func (s *Server) tieEdit() recordEdit {
 			{"review_state", "Review", "curators only; a contributor's tie is pending", store.ReviewStates},
 			{"notes", "Notes", "", nil},
 		},
-		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
-			sec, err := s.sectionOfPath(r)
-			return store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": "pending"}, sectionCrumbs(sec), err
-		},
-		create: func(r *http.Request, f store.Form, curator bool) (int64, error) {
-			id, err := pathID(r, "id")
-			if err != nil {
-				return 0, err
-			}
-			tp, err := s.store.CreateTie(r.Context(), id, f, curator)
-			return tp.ID, err
-		},
+		newForm: s.newInSection(store.Form{"kind": "radiometric", "distribution": "normal", "sigma_level": "2", "review_state": string(store.ReviewPending)}),
+		create:  createdInSection(s.store.CreateTie, func(x store.TiePoint) int64 { return x.ID }),
 		load: func(ctx context.Context, id int64) (stored, error) {
 			tp, err := s.store.TiePoint(ctx, id)
 			return stored{form: store.FormOfTie(tp), version: tp.Version, name: tp.Label, review: tp.ReviewState,
 				crumbs: sectionCrumbs(store.Section{ID: tp.SectionID, Name: tp.Section})}, err
 		},
-		update: func(ctx context.Context, id int64, version int, f store.Form, curator bool) error {
-			_, err := s.store.UpdateTie(ctx, id, version, f, curator)
-			return err
-		},
-		remove:       s.store.DeleteTie,
-		fromRevision: fromJSON(store.FormOfTie),
+		update: savedBy(s.store.UpdateTie),
+		remove: s.store.DeleteTie,
 	}
 }
 
 func (s *Server) registerTieEditRoutes(r chi.Router) {
 	s.registerRecordEdit(r, s.tieEdit())
 	r.Get("/ties/{id}", s.handle(s.handleTieShow))
-	r.With(s.requireRole(store.RoleCurator)).Post("/ties/{id}/review", s.handle(s.handleReview("tie point", "/ties",
-		func(ctx context.Context, id int64, version int, accept bool, note string) error {
-			_, err := s.store.ReviewTie(ctx, id, version, accept, note)
-			return err
-		})))
 }
 
 // handleTieShow is the page of one tie point: its age as published, its linked date, its review (and, for
@@ -105,31 +85,13 @@ func (s *Server) handleTieShow(w http.ResponseWriter, r *http.Request) error {
 	t := tieTable([]store.TiePoint{tp}, level, false)
 	t.Caption = "Tie point"
 	v.Tables = []views.Table{t}
-	review := views.KV{Label: "Review", Value: store.Label(store.ReviewStates(), tp.ReviewState)}
-	if tp.ReviewState != "accepted" {
-		review.Class = "pending"
-	}
-	v.Groups = []views.FieldGroup{{Title: "Record", Fields: []views.KV{review,
+	review := reviewField(tp.ReviewState)
+	v.Groups = []views.FieldGroup{{Title: "Record", Fields: append([]views.KV{review,
 		{Label: "Section", Value: tp.Section, URL: idURL("/sections", tp.SectionID)},
 		{Label: "Distribution", Value: tp.Distribution},
-		{Label: "Record number", Value: strconv.FormatInt(tp.ID, 10)},
-		{Label: "Version", Value: itoa(tp.Version)},
-		{Label: "Added", Value: when(tp.CreatedAt)},
-		{Label: "Last changed", Value: when(tp.UpdatedAt)},
-	}}}
-	switch tp.ReviewState {
-	case "pending":
-		v.Notes = append(v.Notes, "This tie point waits for a curator's review. Until it is accepted, the age–height model of "+tp.Section+
-			" and the comparison leave it out, unless the address says include=pending or include=all.")
-	case "rejected":
-		v.Notes = append(v.Notes, "This tie point was rejected: the age–height model and the comparison leave it out unless the address says include=all.")
-	}
-	if tp.ReviewNote != "" {
-		v.Notes = append(v.Notes, "Review note: "+tp.ReviewNote)
-	}
-	links, acts := recordLinks(r, s.tieEdit(), id, stored{version: tp.Version, review: tp.ReviewState})
-	v.Links = links
-	v.Actions = append(reviewActions(r, "/ties", tp.ID, tp.Version, tp.ReviewState), acts...)
+	}, recordFields(tp.ID, tp.Version, tp.CreatedAt, tp.UpdatedAt)...)}}
+	v.Notes = append(v.Notes, ageModelReviewNotes("tie point", tp.Section, tp.ReviewState, tp.ReviewNote)...)
+	v.Links, v.Actions = recordPage(r, s.tieEdit(), id, stored{version: tp.Version, review: tp.ReviewState})
 	v.Links = append(v.Links, views.Link{Label: "Show the age at " + itoa(3-level) + "σ", URL: withQuery(r, "sigma", itoa(3-level))})
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil

@@ -59,8 +59,7 @@ func (s *Server) unitEdit() recordEdit {
 			_, err := s.store.UpdateUnit(ctx, id, version, f)
 			return err
 		},
-		remove:       s.store.DeleteUnit,
-		fromRevision: fromJSON(store.FormOfUnit),
+		remove: s.store.DeleteUnit,
 	}
 }
 

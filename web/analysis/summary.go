@@ -298,7 +298,7 @@ func groupBySystem(ds []*store.Date, o SummaryOptions) []SystemSummary {
 			systems = append(systems, SystemSummary{Key: key, Label: label, DecaySystem: decay})
 		}
 		sys := &systems[i]
-		if !Included(o.Include, d.ReviewState) {
+		if !Included(o.Include, string(d.ReviewState)) {
 			sys.Excluded = append(sys.Excluded, Exclusion{D: d, Review: true,
 				Reason: store.Label(store.ReviewStates(), d.ReviewState) + ": not included (" + IncludeLabel(o.Include) + ")"})
 			continue
