@@ -38,6 +38,8 @@ func (s *Server) registerAccountRoutes(r chi.Router) {
 	r.With(s.sessionOnly, s.requireRole(store.RoleAdmin)).Group(func(r chi.Router) {
 		r.Get("/admin", s.handle(s.handleAdmin))
 		r.Post("/admin/users", s.handle(s.handleUserCreate))
+		r.Get("/admin/users/{id}", s.handle(s.handleAccountEdit))
+		r.Post("/admin/users/{id}", s.handle(s.handleAccountUpdate))
 		r.Post("/admin/settings", s.handle(s.handleSettings))
 		// A POST (a button on the administration page), so another site cannot start a download by a link.
 		r.Post("/admin/backup", s.handle(s.handleBackup))
@@ -233,9 +235,13 @@ func (s *Server) adminView(r *http.Request, errs []string) (views.Edit, error) {
 		{Name: "role", Label: "Role", Kind: "select", Options: roles},
 		{Name: "password", Label: "Password", Kind: "password", Help: store.PasswordRule()},
 	}
-	t := views.Table{ID: "users", Caption: "Accounts", Columns: []views.Column{{Label: "Name"}, {Label: "Role"}, {Label: "Since"}}}
+	t := views.Table{ID: "users", Caption: "Accounts (open one to change its role, disable it or set a new password)", Columns: []views.Column{{Label: "Name"}, {Label: "Role"}, {Label: "Signing in"}, {Label: "Since"}}}
 	for _, u := range users {
-		t.Rows = append(t.Rows, []views.Cell{{Text: u.Name}, {Text: u.Role}, {Text: when(u.CreatedAt)}})
+		status := "may sign in"
+		if u.Disabled {
+			status = "disabled"
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: u.Name, URL: fmt.Sprintf("/admin/users/%d", u.ID)}, {Text: u.Role}, {Text: status}, {Text: when(u.CreatedAt)}})
 	}
 	t.Notes = []string{"Backup: the button “Download a backup of the database” gives a consistent snapshot of the database, made while the server runs (SQLite VACUUM INTO). It leaves out who is signed in (after a restore everyone signs in again) and files uploaded but not imported; it holds the accounts with their password hashes, so keep it private. Restore: stop the server, replace the database file with the snapshot, start again."}
 	e.Tables = []views.Table{t}

@@ -176,6 +176,8 @@ var routeRoles = map[string]string{
 	"POST /account/tokens/{id}/revoke":         store.RoleReader,
 	"GET /admin":                               store.RoleAdmin,
 	"POST /admin/users":                        store.RoleAdmin,
+	"GET /admin/users/{id}":                    store.RoleAdmin,
+	"POST /admin/users/{id}":                   store.RoleAdmin,
 	"POST /admin/settings":                     store.RoleAdmin,
 	"POST /admin/backup":                       store.RoleAdmin,
 	"GET /sections/{id}/figure.png":            "",

@@ -86,6 +86,7 @@ type accountStore interface {
 	ReadOnly() bool
 	CreateUser(ctx context.Context, name, role, password string) (store.User, error)
 	Users(ctx context.Context) ([]store.User, error)
+	UpdateAccount(ctx context.Context, id int64, c store.AccountChange) (store.User, error)
 	CreateToken(ctx context.Context, userID int64, name string) (string, error)
 	RevokeToken(ctx context.Context, userID, tokenID int64) error
 	Tokens(ctx context.Context, userID int64) ([]store.Token, error)
