@@ -60,3 +60,28 @@ func TestAdminChangesRoleDisablesAndResetsAnAccount(t *testing.T) {
 		t.Errorf("an unknown role: status %d, want 422", st)
 	}
 }
+
+// An admin makes another calibration the compilation's target from the calibrations page; others see no
+// such button, and an unknown code is refused by name.
+func TestAdminSetsTheTargetCalibrationOnItsPage(t *testing.T) {
+	srv, db := mustServer(t)
+	admin, curator := client(t), client(t)
+	signIn(t, admin, srv, "demo-admin")
+	signIn(t, curator, srv, "demo-curator")
+	if _, body, _ := do(t, curator, http.MethodGet, srv.URL+"/calibrations", nil); strings.Contains(body, `action="/calibrations/target"`) {
+		t.Error("a curator is offered to change the target")
+	}
+	_, body, _ := do(t, admin, http.MethodGet, srv.URL+"/calibrations", nil)
+	if !strings.Contains(body, `value="renne11-fcs28294"`) {
+		t.Fatal("the admin is not offered Renne et al. 2011 as the target")
+	}
+	if st, _, _ := do(t, admin, http.MethodPost, srv.URL+"/calibrations/target", url.Values{"code": {"renne11-fcs28294"}}); st != http.StatusSeeOther {
+		t.Fatalf("status %d", st)
+	}
+	if c, err := db.TargetCalibration(context.Background()); err != nil || c.Code != "renne11-fcs28294" {
+		t.Errorf("target %q (%v), want renne11-fcs28294", c.Code, err)
+	}
+	if st, body, _ := do(t, admin, http.MethodPost, srv.URL+"/calibrations/target", url.Values{"code": {"nope"}}); st != http.StatusBadRequest || !strings.Contains(body, "nope") {
+		t.Errorf("an unknown code: status %d", st)
+	}
+}

@@ -176,6 +176,7 @@ var routeRoles = map[string]string{
 	"POST /account/tokens/{id}/revoke":         store.RoleReader,
 	"GET /admin":                               store.RoleAdmin,
 	"POST /admin/users":                        store.RoleAdmin,
+	"POST /calibrations/target":                store.RoleAdmin,
 	"GET /admin/users/{id}":                    store.RoleAdmin,
 	"POST /admin/users/{id}":                   store.RoleAdmin,
 	"POST /admin/settings":                     store.RoleAdmin,

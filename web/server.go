@@ -89,6 +89,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Get("/ties", s.handle(s.handleTieList))
 	r.Get("/events", s.handle(s.handleEventList))
 	r.Get("/calibrations", s.handle(s.handleCalibrationList))
+	r.With(s.sessionOnly, s.requireRole(store.RoleAdmin)).Post("/calibrations/target", s.handle(s.handleCalibrationTarget))
 	r.NotFound(s.handle(func(w http.ResponseWriter, r *http.Request) error {
 		return notFoundError{what: "page " + r.URL.Path}
 	}))

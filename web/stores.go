@@ -85,6 +85,7 @@ type accountStore interface {
 	sessionRows
 	ReadOnly() bool
 	CreateUser(ctx context.Context, name, role, password string) (store.User, error)
+	SetTargetCalibration(ctx context.Context, code, source string) error
 	Users(ctx context.Context) ([]store.User, error)
 	UpdateAccount(ctx context.Context, id int64, c store.AccountChange) (store.User, error)
 	CreateToken(ctx context.Context, userID int64, name string) (string, error)
