@@ -3,10 +3,13 @@ package web
 import (
 	"archive/zip"
 	"bytes"
+	"context"
 	"io"
 	"net/http"
+	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/chromedp/chromedp"
 )
@@ -43,21 +46,13 @@ func TestBrowserReleaseJourney(t *testing.T) {
 	if res.StatusCode != http.StatusOK || err != nil || len(zr.File) < 5 {
 		t.Fatalf("the bundle link %s: status %d, %v", href, res.StatusCode, err)
 	}
-	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`main a[href="/releases/2027.1/view/"]`))); err != nil {
-		t.Fatal(err)
-	}
+	click(t, ctx, `main a[href="/releases/2027.1/view/"]`)
 	waitPath(t, ctx, "/releases/2027.1/view/")
-	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`header nav a[href="/releases/2027.1/view/provinces"]`))); err != nil {
-		t.Fatal(err)
-	}
+	click(t, ctx, `header nav a[href="/releases/2027.1/view/provinces"]`)
 	waitFeed(t, ctx, "/releases/2027.1/view/provinces")
-	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`main table a[href^="/releases/2027.1/view/provinces/"]`))); err != nil {
-		t.Fatal(err)
-	}
+	click(t, ctx, `main table a[href^="/releases/2027.1/view/provinces/"]`)
 	waitPath(t, ctx, "/releases/2027.1/view/provinces/")
-	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`main a[href*="/timeline"]`))); err != nil {
-		t.Fatal(err)
-	}
+	click(t, ctx, `main a[href*="/timeline"]`)
 	path := waitPath(t, ctx, "/releases/2027.1/view/provinces/")
 	if !strings.Contains(path, "/timeline") {
 		path = waitPath(t, ctx, "/releases/2027.1/view/provinces/1/timeline")
@@ -67,4 +62,19 @@ func TestBrowserReleaseJourney(t *testing.T) {
 		t.Errorf("the timeline as of the release has no figure (%v)", err)
 	}
 	shoot(t, ctx, dir, "2-timeline-as-of-release")
+}
+
+// click follows the first link sel finds, asking again while a page that is being replaced has none yet
+// (a node found in one moment may be gone the next, so the link is clicked by script, not by node id).
+func click(t testing.TB, ctx context.Context, sel string) {
+	t.Helper()
+	for deadline := time.Now().Add(15 * time.Second); ; time.Sleep(100 * time.Millisecond) {
+		ok, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { const a = document.querySelector(` + strconv.Quote(sel) + `); if (!a) return false; a.click(); return true; })()`))
+		if err == nil && ok {
+			return
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("no %s to click (%v)", sel, err)
+		}
+	}
 }
