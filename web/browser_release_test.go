@@ -69,7 +69,7 @@ func TestBrowserReleaseJourney(t *testing.T) {
 func click(t testing.TB, ctx context.Context, sel string) {
 	t.Helper()
 	for deadline := time.Now().Add(15 * time.Second); ; time.Sleep(100 * time.Millisecond) {
-		ok, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { const a = document.querySelector(` + strconv.Quote(sel) + `); if (!a) return false; a.click(); return true; })()`))
+		ok, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { const a = document.querySelector(`+strconv.Quote(sel)+`); if (!a) return false; a.click(); return true; })()`))
 		if err == nil && ok {
 			return
 		}
