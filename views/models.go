@@ -26,6 +26,8 @@ type Page struct {
 	// CurrentURL is the same page in the current compilation.
 	Release    string
 	CurrentURL string
+	// Done confirms what the form that led here did ("Saved."), once.
+	Done string
 }
 
 // Stat is one figure of the home page.
@@ -177,7 +179,7 @@ type Login struct {
 type Input struct {
 	Name    string
 	Label   string
-	Kind    string // "text", "number", "select", "textarea", "password", "file"
+	Kind    string // "text", "number", "select", "textarea", "password", "file", "choice" (text with Options offered as it is typed)
 	Value   string
 	Options []Option
 	Help    string

@@ -528,7 +528,8 @@ func TestXSSIsEscapedAndSQLInFiltersIsHarmless(t *testing.T) {
 	payload := `<script>alert("x")</script>`
 	form := url.Values{"province": {payload}, "unit": {payload}, "sample_code": {payload}, "method": {"other"},
 		"material": {payload}, "interpretation": {"eruption"}, "age_ma": {"100"}, "sigma_ma": {"1"}, "sigma_level": {"1"},
-		"tracer": {payload}, "laboratory": {payload}, "citation": {payload}, "notes": {payload}, "review_state": {"accepted"}}
+		"tracer": {payload}, "laboratory": {payload}, "citation": {payload}, "notes": {payload}, "review_state": {"accepted"},
+		store.FormNewUnit: {"1"}}
 	status, _, h := do(t, c, http.MethodPost, srv.URL+"/dates/new", form)
 	if status != http.StatusSeeOther {
 		t.Fatalf("create: %d", status)

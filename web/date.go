@@ -350,6 +350,10 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 		return fixed(*x*float64(level), dec) + fmt.Sprintf(" Ma (%dσ)", level)
 	}
 	ageField := views.KV{Label: "Age as published", Value: plusMinus(d.AgeMa, d.SigmaMa, level) + " Ma, analytical"}
+	if level == d.SigmaLevel {
+		// At the level it was published at, the age and its ± keep the digits they were entered with.
+		ageField.Value = fmt.Sprintf("%s ± %s (%dσ) Ma, analytical", asEntered(d.AgeMa), asEntered(d.SigmaMa*float64(level)), level)
+	}
 	ageGroup := views.FieldGroup{Title: "Age", Fields: []views.KV{ageField,
 		{Label: "Analytical σ", Value: sig(&d.SigmaMa)},
 	}}

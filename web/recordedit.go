@@ -57,6 +57,8 @@ type recordEdit struct {
 	remove func(ctx context.Context, id int64, version int) error
 	// mayEdit refuses (forbidden) an edit the user may not make beyond the route's role; nil allows it.
 	mayEdit func(r *http.Request, id int64, st stored) error
+	// suggest gives, per field name, the known values offered as the field is typed (nil: none).
+	suggest func(ctx context.Context) map[string][]views.Option
 }
 
 // registerRecordEdit adds the routes of one record's editing flow: creation for contributors, edits for
@@ -94,6 +96,10 @@ func (s *Server) formView(r *http.Request, e recordEdit, title, action string, c
 		}
 	}
 	curator := isCurator(r)
+	var known map[string][]views.Option
+	if e.suggest != nil {
+		known = e.suggest(r.Context())
+	}
 	for _, f := range e.fields {
 		if f.name == "review_state" && !curator {
 			continue
@@ -101,6 +107,9 @@ func (s *Server) formView(r *http.Request, e recordEdit, title, action string, c
 		in := views.Input{Name: f.name, Label: f.label, Help: f.help, Value: values[f.name], Error: byField[f.name], Kind: "text"}
 		if f.name == "notes" || f.name == "description" {
 			in.Kind = "textarea"
+		}
+		if opts, ok := known[f.name]; ok {
+			in.Kind, in.Options = "choice", opts
 		}
 		if f.options != nil {
 			in.Kind = "select"
@@ -153,6 +162,7 @@ func (s *Server) handleRecordCreate(e recordEdit) func(http.ResponseWriter, *htt
 		if err != nil {
 			return err
 		}
+		setFlash(w, doneCode("created", e, isCurator(r)))
 		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
 		return nil
 	}
@@ -220,9 +230,18 @@ func (s *Server) handleRecordUpdate(e recordEdit) func(http.ResponseWriter, *htt
 		case err != nil:
 			return err
 		}
+		setFlash(w, doneCode("saved", e, isCurator(r)))
 		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
 		return nil
 	}
+}
+
+// doneCode is the confirmation of a saved form: a contributor's record of a reviewed kind is pending.
+func doneCode(what string, e recordEdit, curator bool) string {
+	if !curator && store.Reviewed(e.recordType) {
+		return what + "-pending"
+	}
+	return what
 }
 
 func (s *Server) handleRecordDelete(e recordEdit) func(http.ResponseWriter, *http.Request) error {

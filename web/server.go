@@ -65,6 +65,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(s.requireLoginSetting)
 	r.Use(s.asOfRelease)
 	r.Use(rememberPath)
+	r.Use(takeFlash)
 
 	r.Get("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)).ServeHTTP)
 	r.Get("/", s.handle(s.handleHome))
@@ -223,7 +224,7 @@ const readOnlyBanner = "The database is on storage that cannot be written, so th
 
 // page builds the common part of a page's view model.
 func (s *Server) page(ctx context.Context, title, nav string) views.Page {
-	p := views.Page{Title: title, Nav: nav}
+	p := views.Page{Title: title, Nav: nav, Done: flashOf(ctx)}
 	if u, ok := currentUser(ctx); ok {
 		p.User, p.Role = u.Name, u.Role
 		if store.RoleAtLeast(u.Role, store.RoleContributor) {
