@@ -6,7 +6,6 @@ import (
 	"io"
 	"net/http"
 	"strconv"
-	"strings"
 
 	"github.com/go-chi/chi/v5"
 
@@ -187,7 +186,7 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 	}
 	l := views.List{Page: s.page(ctx, "Dates", "Dates"), Form: form, Table: dateTable(r, ds, level, true, cal)}
 	l.Page.Downloads = toLinks(downloads(r))
-	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. CSV downloads hold every matching date in the import format, followed by the derived columns " + strings.Join(store.DerivedDateColumns, ", ") + " (the ⁴⁰Ar/³⁹Ar age on the view's calibration; ignored on import)."
+	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. The CSV download holds every matching date in the import format (its columns are described on the help page of the dates file), followed by the ⁴⁰Ar/³⁹Ar age recalculated to the view's calibration, which an import ignores."
 	l.Pager = keysetPager(r, pg)
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil

@@ -21,6 +21,14 @@ type formField struct {
 	options           func() []store.Term
 }
 
+// shown is a field's value in words: a coded value (a method, a review state) by its label.
+func (f formField) shown(v string) string {
+	if f.options == nil || v == "" {
+		return v
+	}
+	return store.Label(f.options(), v)
+}
+
 // stored is a record as the editing flow sees it: its form cells, version and name, where it sits
 // (breadcrumbs), and its review state ("" for records that are not reviewed).
 type stored struct {
@@ -281,7 +289,7 @@ func fieldDiff(caption string, fields []formField, a, b store.Form, aLabel, bLab
 		Empty: "No field differs."}
 	for _, f := range fields {
 		if a[f.name] != b[f.name] {
-			t.Rows = append(t.Rows, []views.Cell{{Text: f.label}, {Text: orDash(a[f.name]), Class: "diff-before"}, {Text: orDash(b[f.name]), Class: "diff-after"}})
+			t.Rows = append(t.Rows, []views.Cell{{Text: f.label}, {Text: orDash(f.shown(a[f.name])), Class: "diff-before"}, {Text: orDash(f.shown(b[f.name])), Class: "diff-after"}})
 		}
 	}
 	return t

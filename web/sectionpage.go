@@ -141,13 +141,13 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 	tt := tieTable(a.AllTies, a.Opt.Level, false)
 	tt.Caption = "Tie points"
 	if len(a.TiesLeftOut) > 0 {
-		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s whose review state include=%s does not let in (%s).",
-			count(len(a.TiesLeftOut), "tie point"), a.Opt.Include, tieIncludeLabel(a.Opt.Include)))
+		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s: it uses %s.",
+			count(len(a.TiesLeftOut), "tie point"), tieIncludeLabel(a.Opt.Include)))
 	}
 	ht := hiatusTable(a.AllHiatuses)
 	if len(a.HiatusesOut) > 0 {
-		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s whose review state include=%s does not let in (%s).",
-			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], a.Opt.Include, modelIncludeLabel(a.Opt.Include, "hiatuses")))
+		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s: it honours %s.",
+			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], modelIncludeLabel(a.Opt.Include, "hiatuses")))
 	}
 	et := eventTable(a.Events, false)
 	et.Caption = "Events (entered, imported, or made from detected anomalies)"

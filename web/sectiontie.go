@@ -210,13 +210,13 @@ type reviewScope struct {
 
 // modelScope is the age–height model's: its ages change once the records left out are accepted.
 var modelScope = reviewScope{subject: "age–height model", verb: "uses", then: func(include, nouns string, n int) string {
-	return fmt.Sprintf("include=%s uses %s. The model ages change when %s accepted; include=pending shows the model with %s now.",
-		include, modelIncludeLabel(include, nouns), itThey(n), itThem(n))
+	return fmt.Sprintf("the model uses %s. Its ages change when %s accepted; choosing to include pending records shows the model with %s now.",
+		modelIncludeLabel(include, nouns), itThey(n), itThem(n))
 }}
 
 // compareScope is the comparison's.
 var compareScope = reviewScope{subject: "comparison", verb: "includes", then: func(include, _ string, n int) string {
-	return fmt.Sprintf("include=%s; include=pending compares %s now.", include, itThem(n))
+	return fmt.Sprintf("it takes %s; choosing to include pending records compares %s now.", includeLabel(include), itThem(n))
 }}
 
 // reviewCautions say what a reader of a computation (scope) must know about the review of its records of
@@ -250,12 +250,12 @@ func reviewCautions(scope reviewScope, where, noun, nouns string, used, left []r
 			prefix, scope.subject, counted(len(p), ""), strings.Join(p, ", "), scope.then(include, nouns, len(p))))
 	}
 	if p := names(used, "pending"); len(p) > 0 {
-		out = append(out, fmt.Sprintf("%sThe %s %s %s that no curator has reviewed yet (include=%s): %s.",
-			prefix, scope.subject, scope.verb, counted(len(p), "pending "), include, strings.Join(p, ", ")))
+		out = append(out, fmt.Sprintf("%sThe %s %s %s that no curator has reviewed yet (as chosen: %s): %s.",
+			prefix, scope.subject, scope.verb, counted(len(p), "pending "), includeLabel(include), strings.Join(p, ", ")))
 	}
 	if rj := names(used, "rejected"); len(rj) > 0 {
-		out = append(out, fmt.Sprintf("%sThe %s %s %s (include=%s): %s.",
-			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), include, strings.Join(rj, ", ")))
+		out = append(out, fmt.Sprintf("%sThe %s %s %s (as chosen: %s): %s.",
+			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), includeLabel(include), strings.Join(rj, ", ")))
 	}
 	return out
 }
@@ -322,7 +322,7 @@ func (a *sectionAnalysis) tieModelTable() views.Table {
 		t.Rows = append(t.Rows, []views.Cell{{Text: tp.Label}, {Text: num(tp.HeightM), Num: true}, {Text: age, Num: true},
 			{Text: level}, from, {Text: orDash(in.Note)}})
 	}
-	note := fmt.Sprintf("Ties from a date use that date's age and σ at tie_level=%s: %s.", a.Opt.TieLevel, tieLevelLabel(a.Opt.TieLevel))
+	note := fmt.Sprintf("Ties from a date use that date's age and σ at the %s level.", tieLevelLabel(a.Opt.TieLevel))
 	if a.Opt.TieLevel == defaultTieLevel {
 		note += " This is the default: the model gives absolute ages, which are compared with dates of other systems, laboratories and tracers, where only the full external σ is fair. Choose analytical or tracer only to compare with dates from the same laboratory or tracer."
 	}
@@ -345,7 +345,7 @@ func (a *sectionAnalysis) tieLevelSentence() string {
 	if a.Opt.TieLevel == defaultTieLevel {
 		def = " (the default, as absolute ages need)"
 	}
-	s := fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s (tie_level=%s): each enters with its random part (X).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def, a.Opt.TieLevel)
+	s := fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s: each enters with its random part (X).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def)
 	if a.Model != nil && a.Model.SharedNote != "" {
 		s += " " + a.Model.SharedNote + " A shared term moves those ties together, so it widens each age but not the time between them."
 	}
@@ -354,7 +354,7 @@ func (a *sectionAnalysis) tieLevelSentence() string {
 
 // tieReviewSentence is the model statement's account of which tie points it uses by review state.
 func (a *sectionAnalysis) tieReviewSentence() string {
-	s := fmt.Sprintf("Tie points in use: %s (include=%s)", tieIncludeLabel(a.Opt.Include), a.Opt.Include)
+	s := fmt.Sprintf("Tie points in use: %s", tieIncludeLabel(a.Opt.Include))
 	if len(a.TiesLeftOut) == 0 {
 		return s + "."
 	}
@@ -371,7 +371,7 @@ func (a *sectionAnalysis) hiatusReviewSentence() string {
 	if len(a.AllHiatuses) == 0 {
 		return ""
 	}
-	s := fmt.Sprintf("Hiatuses honoured: %s (include=%s)", modelIncludeLabel(a.Opt.Include, "hiatuses"), a.Opt.Include)
+	s := fmt.Sprintf("Hiatuses honoured: %s", modelIncludeLabel(a.Opt.Include, "hiatuses"))
 	if len(a.HiatusesOut) == 0 {
 		return s + "."
 	}
