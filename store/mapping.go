@@ -1024,3 +1024,27 @@ func mergeProblems(m Mapping, mapping []Problem, importErr error) []Problem {
 	}
 	return out
 }
+
+// MappingsForFile returns the saved mappings that read this file (CSV or .xlsx) to the header they were
+// made for: each is tried with its own sheet and header rows.
+func (d *DB) MappingsForFile(ctx context.Context, fileName string, body []byte) ([]Mapping, error) {
+	all, err := d.Mappings(ctx)
+	if err != nil {
+		return nil, err
+	}
+	tables := map[string]*RawTable{}
+	var out []Mapping
+	for _, m := range all {
+		t, ok := tables[m.Sheet]
+		if !ok {
+			if raw, err := ReadRawTable(fileName, body, m.Sheet); err == nil {
+				t = &raw
+			}
+			tables[m.Sheet] = t
+		}
+		if t != nil && slices.Equal(t.Header(m), m.Headers) {
+			out = append(out, m)
+		}
+	}
+	return out, nil
+}
