@@ -534,39 +534,42 @@ func rowText(row []string) string {
 	return s
 }
 
-// Describe says in plain words how each of our columns is read, one line each, for the change's page and
-// the preview.
-func (m Mapping) Describe() []string {
-	var out []string
+// Described is one line of how a mapping reads a file: what (our column, or the sheet, header, rows
+// skipped) and how.
+type Described struct{ What, How string }
+
+// Describe says in plain words how each of our columns is read, for the change's page and the preview.
+func (m Mapping) Describe() []Described {
+	var out []Described
 	if m.Sheet != "" {
-		out = append(out, fmt.Sprintf("sheet “%s”", m.Sheet))
+		out = append(out, Described{"sheet", fmt.Sprintf("“%s”", m.Sheet)})
 	}
-	rows := fmt.Sprintf("header on row %d", m.HeaderRow)
+	rows := fmt.Sprintf("row %d", m.HeaderRow)
 	if m.HeaderRows > 1 {
-		rows = fmt.Sprintf("header on rows %d–%d, joined", m.HeaderRow, m.HeaderRow+m.HeaderRows-1)
+		rows = fmt.Sprintf("rows %d–%d, joined", m.HeaderRow, m.HeaderRow+m.HeaderRows-1)
 	}
-	out = append(out, rows)
+	out = append(out, Described{"header", rows})
 	for _, col := range dateColumns {
 		from, v := m.Columns[col], strings.TrimSpace(m.Constants[col])
 		switch {
 		case from != "":
-			s := fmt.Sprintf("%s ← the file's column “%s”", col, from)
+			s := fmt.Sprintf("the file's column “%s”", from)
 			if slices.Contains(mappedNumberColumns, col) {
 				s += m.conversionWords(col)
 			}
-			out = append(out, s)
+			out = append(out, Described{col, s})
 		case v != "":
-			out = append(out, fmt.Sprintf("%s = %q for every row", col, v))
+			out = append(out, Described{col, fmt.Sprintf("“%s” for every row", v)})
 		}
 	}
-	var skips []string
+	skips := []string{"blank rows"}
 	if m.SkipRepeatedHeaders {
 		skips = append(skips, "rows repeating the header")
 	}
 	if m.SkipNotes {
 		skips = append(skips, "notes (text in one cell only)")
 	}
-	out = append(out, "skipped: blank rows"+strings.Join(append([]string{""}, skips...), ", "))
+	out = append(out, Described{"skipped", strings.Join(skips, ", ")})
 	return out
 }
 
@@ -999,7 +1002,7 @@ func mappedNote(m Mapping, mp Mapped) string {
 	if m.Name != "" {
 		name = fmt.Sprintf("the mapping “%s”", m.Name)
 	}
-	return fmt.Sprintf("read through %s: %d rows made into dates, %d rows skipped", name, len(mp.Rows), len(mp.Skipped))
+	return fmt.Sprintf("read through %s: %s made into dates, %s skipped", name, rowsWord(len(mp.Rows)), rowsWord(len(mp.Skipped)))
 }
 
 // mergeProblems lists the mapping's problems and then the import's, naming the file's column beside ours,
@@ -1047,4 +1050,11 @@ func (d *DB) MappingsForFile(ctx context.Context, fileName string, body []byte) 
 		}
 	}
 	return out, nil
+}
+
+func rowsWord(n int) string {
+	if n == 1 {
+		return "1 row"
+	}
+	return fmt.Sprintf("%d rows", n)
 }

@@ -429,6 +429,7 @@ func mappedPreviewTable(pv store.Preview, byLine map[int][]string) views.Table {
 		}
 		t.Rows = append(t.Rows, l.cells)
 	}
-	t.Notes = append(t.Notes, fmt.Sprintf("%d rows become dates; %d rows are skipped.", len(mp.Rows), len(mp.Skipped)))
+	t.Notes = append(t.Notes, fmt.Sprintf("%d rows become dates; %d rows are skipped.", len(mp.Rows), len(mp.Skipped)),
+		"Uncertainties are shown as the file gives them, at the row's σ level (sigma_level), converted to Ma where the file's unit is another; they are stored as 1σ.")
 	return t
 }

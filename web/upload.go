@@ -195,7 +195,7 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 		}
 		v.Links = append(v.Links, views.Link{Label: "Change the mapping of the file's columns", URL: fmt.Sprintf("/import/%d/map", pv.Upload.ID)})
 		if m := pv.Upload.Mapping; m != nil {
-			v.Groups = append(v.Groups, mappingGroup(*m))
+			v.Groups = append(v.Groups, mappingGroup("How the file's columns are read", *m))
 		}
 		if pv.Mapped != nil {
 			v.Tables = []views.Table{mappedPreviewTable(pv, byLine)}
@@ -388,23 +388,13 @@ func (s *Server) handleChangeList(w http.ResponseWriter, r *http.Request) error 
 }
 
 // mappingGroup says how a mapped file's columns are read, one line per column of ours.
-func mappingGroup(m store.Mapping) views.FieldGroup {
-	g := views.FieldGroup{Title: "How the file's columns are read"}
+func mappingGroup(title string, m store.Mapping) views.FieldGroup {
+	g := views.FieldGroup{Title: title}
 	if m.Name != "" {
 		g.Title += fmt.Sprintf(" (the mapping “%s”)", m.Name)
 	}
-	for _, line := range m.Describe() {
-		k, v, ok := strings.Cut(line, " ← ")
-		if !ok {
-			k, v, ok = strings.Cut(line, " = ")
-			if ok {
-				v = "= " + v
-			}
-		}
-		if !ok {
-			k, v = "", line
-		}
-		g.Fields = append(g.Fields, views.KV{Label: k, Value: v})
+	for _, d := range m.Describe() {
+		g.Fields = append(g.Fields, views.KV{Label: d.What, Value: d.How})
 	}
 	return g
 }
