@@ -419,3 +419,33 @@ func TestMappingsExportAndImport(t *testing.T) {
 		t.Error("a file that is not a list of mappings was taken")
 	}
 }
+
+// Whatever the file, a mapping never panics, and our file keeps each row on the file's own line, so the
+// import's problems name the file's rows (property; seeds: the tables above and awkward cells).
+func FuzzMappingApply(f *testing.F) {
+	f.Add(arArTable)
+	f.Add("x\nSample,Unit,Plateau age,\n,,Age (ka),± 2σ (%)\n\"A\nB\",U,1,2\nC,\"U\nV\",3,-1\n")
+	f.Add("Sample,Unit,Plateau age,\n,,Age (ka),± 2σ (%)\n=1,+2,-3,@4\n,,,\n\n\nD,U,1e3,5%\n")
+	f.Fuzz(func(t *testing.T, body string) {
+		raw, err := ReadRawTable("f.csv", []byte(body), "")
+		if err != nil {
+			return
+		}
+		mp, _ := arArMapping().Apply(raw)
+		if mp.CSV == nil {
+			return
+		}
+		tbl, err := readCSV("f.csv", bytes.NewReader(mp.CSV))
+		if err != nil {
+			t.Fatalf("our file from the mapping is not readable: %v\n%s", err, mp.CSV)
+		}
+		if len(tbl.lines) != len(mp.Rows) {
+			t.Fatalf("our file has %d rows, the mapping made %d", len(tbl.lines), len(mp.Rows))
+		}
+		for i, r := range mp.Rows {
+			if tbl.lines[i] != r.Line {
+				t.Fatalf("row %d of the file is on line %d of ours", r.Line, tbl.lines[i])
+			}
+		}
+	})
+}
