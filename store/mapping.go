@@ -1058,3 +1058,14 @@ func rowsWord(n int) string {
 	}
 	return fmt.Sprintf("%d rows", n)
 }
+
+// MappingCreator returns the account that first saved the mapping of that name (0 when none is known)
+// and whether such a mapping is saved.
+func (d *DB) MappingCreator(ctx context.Context, name string) (int64, bool, error) {
+	var by sql.NullInt64
+	err := d.db.QueryRowContext(ctx, `SELECT created_by FROM import_mappings WHERE name = ?`, strings.TrimSpace(name)).Scan(&by)
+	if errors.Is(err, sql.ErrNoRows) {
+		return 0, false, nil
+	}
+	return by.Int64, err == nil, err
+}

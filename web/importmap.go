@@ -270,6 +270,7 @@ func mappingFromForm(r *http.Request) store.Mapping {
 }
 
 func (s *Server) handleMapSubmit(w http.ResponseWriter, r *http.Request) error {
+	r = actingCtx(r) // a mapping saved here records who saved it
 	up, err := s.mapUpload(r)
 	if err != nil {
 		return err
@@ -334,6 +335,16 @@ func (s *Server) handleMapSubmit(w http.ResponseWriter, r *http.Request) error {
 		return s.renderMap(w, r, http.StatusUnprocessableEntity, st)
 	}
 	if m.Name != "" {
+		// A saved mapping is replaced by the account that saved it, or by a curator.
+		by, exists, err := s.store.MappingCreator(ctx, m.Name)
+		if err != nil {
+			return err
+		}
+		if u, _ := currentUser(ctx); exists && by != u.ID && !isCurator(r) {
+			st.field["name"] = "another account saved a mapping of this name; only a curator may replace it: choose another name"
+			st.errs = append(st.errs, "name: "+st.field["name"])
+			return s.renderMap(w, r, http.StatusUnprocessableEntity, st)
+		}
 		if err := s.store.SaveMapping(ctx, m); err != nil {
 			if ve, ok := store.AsValidation(err); ok {
 				st.field["name"] = ve.Problems[0].Message

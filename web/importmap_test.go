@@ -141,6 +141,17 @@ func TestMappingStepUploadPreviewCommit(t *testing.T) {
 	if after, _ := db.Counts(ctx); after.Dates != before.Dates+3 {
 		t.Error("the file with problems changed the compilation")
 	}
+	// A contributor may not replace a mapping another account saved; under a new name it is theirs.
+	contrib := client(t)
+	signIn(t, contrib, srv, "demo-contributor")
+	_, _, h = uploadForMapping(t, contrib, srv, "dates", "tableS5.csv", []byte(strings.ReplaceAll(paperTable, "MP-0", "MR-0")))
+	status, page, _ = do(t, contrib, http.MethodPost, srv.URL+h.Get("Location"), paperMappingForm("Invented Ar lab"))
+	if status != http.StatusUnprocessableEntity || !strings.Contains(page, "only a curator may replace it") {
+		t.Errorf("a contributor replacing a curator's mapping: %d", status)
+	}
+	if status, _, _ = do(t, contrib, http.MethodPost, srv.URL+h.Get("Location"), paperMappingForm("My copy")); status != http.StatusOK {
+		t.Errorf("a contributor saving a mapping of their own: %d", status)
+	}
 	// Only dates can be mapped; a file in our format cannot be mapped.
 	if status, page, _ := uploadForMapping(t, c, srv, "units", "u.csv", []byte(paperTable)); status != http.StatusUnprocessableEntity || !strings.Contains(page, "Only dates") {
 		t.Errorf("mapping units: %d", status)

@@ -154,6 +154,7 @@ type mappingStore interface {
 	MappingByName(ctx context.Context, name string) (store.Mapping, error)
 	MappingsForFile(ctx context.Context, fileName string, body []byte) ([]store.Mapping, error)
 	SaveMapping(ctx context.Context, m store.Mapping) error
+	MappingCreator(ctx context.Context, name string) (int64, bool, error)
 	SetUploadMapping(ctx context.Context, id int64, m store.Mapping) error
 	BatchMapping(ctx context.Context, batchID int64) (*store.Mapping, error)
 }
