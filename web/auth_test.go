@@ -124,6 +124,8 @@ var routeRoles = map[string]string{
 	"GET /import":                              store.RoleContributor,
 	"POST /import":                             store.RoleContributor,
 	"POST /import/{id}/commit":                 store.RoleContributor,
+	"GET /import/{id}/map":                     store.RoleContributor,
+	"POST /import/{id}/map":                    store.RoleContributor,
 	"POST /dates/{id}/review":                  store.RoleCurator,
 	"POST /dates/{id}/delete":                  store.RoleCurator,
 	"POST /revisions/{id}/revert":              store.RoleCurator,
