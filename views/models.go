@@ -164,6 +164,10 @@ type ErrorView struct {
 	Status  int
 	Message string
 	Details []string
+	// Settings, when set, are the refused page's settings as a form to correct and send again (GET to
+	// SettingsAction), each with its problem beside it.
+	Settings       []Input
+	SettingsAction string
 }
 
 // Login is the sign-in page.

@@ -157,6 +157,10 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		switch {
 		case errors.As(err, &br):
 			view.Status, view.Page.Title, view.Message, view.Details = http.StatusBadRequest, "Cannot show this page", br.message, br.problems
+			if in := settingsForm(r, br.problems); len(in) > 0 {
+				view.Message = "This page cannot be shown with these settings. They are kept below: change the ones marked and show it again."
+				view.Settings, view.SettingsAction = in, r.URL.Path
+			}
 		case errors.As(err, &ce):
 			view.Status, view.Page.Title, view.Message = http.StatusConflict, "Changed meanwhile", ce.message
 		case errors.As(err, &fb):
