@@ -112,7 +112,7 @@ func dateTable(r *http.Request, ds []store.Date, level int, sortable bool, cal c
 	t.Notes = append(t.Notes, fmt.Sprintf("Ages are as published. ± is the analytical uncertainty at %dσ (for U–Pb: X, without tracer or decay-constant terms); use it to compare dates of one system and one laboratory only.", level))
 	if anyArAr {
 		t.Notes = append(t.Notes, "† ⁴⁰Ar/³⁹Ar age on the calibration (monitor age, decay constant) its authors used: not directly comparable with U–Pb or with ⁴⁰Ar/³⁹Ar ages on another calibration. ‡ published without calibration details: cannot be recalculated. Hover an age for its calibration.",
-			"Recalculated to "+cal.label()+": the exact relation that keeps the sample/monitor ratio (never linear scaling). Its ± is analytical; compare it with another system only at the full external level (the date's page gives it). Choose another calibration with cal= in the address.")
+			"Recalculated to "+cal.label()+": the exact relation that keeps the sample/monitor ratio (never linear scaling). Its ± is analytical; compare it with another system only at the full external level (the date's page gives it). Choose another calibration with the filters above.")
 	}
 	return t
 }

@@ -23,7 +23,7 @@ var (
 		what string
 		re   *regexp.Regexp
 	}{
-		{"address syntax", regexp.MustCompile(`\b[a-z][a-z_]*=[^\s"]`)},
+		{"address syntax", regexp.MustCompile(`\b[a-z][a-z_]*=`)},
 		{"a Go identifier", regexp.MustCompile(`\b(stats|store|web|views|analysis|http|sql)\.[A-Z]\w*`)},
 		{"a stored code", regexp.MustCompile(`\b[a-z]+_[a-z_]+\b|\b(sj77|min00|renne10|renne11)-fcs\d+\b|\bsilverman-robust\b`)},
 		{"the data stamp", regexp.MustCompile(`(?i)\bdata stamp\b`)},
