@@ -119,6 +119,7 @@ type List struct {
 	Form  *Form
 	Table Table
 	Pager *Pager
+	How   []string // the method behind the table, shown on demand after it
 }
 
 // FieldGroup is a titled group of label–value pairs of a record.

@@ -251,11 +251,11 @@ func reviewCautions(scope reviewScope, where, noun, nouns string, used, left []r
 	}
 	if p := names(used, "pending"); len(p) > 0 {
 		out = append(out, fmt.Sprintf("%sThe %s %s %s that no curator has reviewed yet (as chosen: %s): %s.",
-			prefix, scope.subject, scope.verb, counted(len(p), "pending "), includeLabel(include), strings.Join(p, ", ")))
+			prefix, scope.subject, scope.verb, counted(len(p), "pending "), modelIncludeLabel(include, nouns), strings.Join(p, ", ")))
 	}
 	if rj := names(used, "rejected"); len(rj) > 0 {
 		out = append(out, fmt.Sprintf("%sThe %s %s %s (as chosen: %s): %s.",
-			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), includeLabel(include), strings.Join(rj, ", ")))
+			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), modelIncludeLabel(include, nouns), strings.Join(rj, ", ")))
 	}
 	return out
 }
