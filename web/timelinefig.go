@@ -163,7 +163,7 @@ func bandText(res densityResult, ch densityChoice) string {
 	}
 	bw := "bandwidth held at the reference h."
 	if ch.BWEach {
-		bw = fmt.Sprintf("width re-estimated by the %s in every replicate, so the band includes the bandwidth's own uncertainty", smoothingWords(ch.Rule))
+		bw = fmt.Sprintf("width re-estimated in every replicate (%s), so the band includes the bandwidth's own uncertainty", smoothingWords(ch.Rule))
 		if res.Band != nil && res.Band.Fallbacks > 0 {
 			bw += fmt.Sprintf("; the rule fell back in %d replicates", res.Band.Fallbacks)
 		}
