@@ -108,6 +108,7 @@ var routeRoles = map[string]string{
 	"GET /releases/{version}/view/*":           "",
 	"GET /help/addresses":                      "",
 	"GET /compare":                             "",
+	"GET /coincidence":                         "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",
 	"POST /compare/saved":                      store.RoleContributor,
