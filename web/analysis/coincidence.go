@@ -292,6 +292,9 @@ func coincidenceCautions(c *Coincidence) []string {
 	if n := len(c.Nearest); n > 0 && n < FewCoincidenceEvents {
 		out = append(out, fmt.Sprintf("Only %s: the test has little power, and a large p says little about whether they coincide.", count(n, "event")))
 	}
+	if c.Options.Null == string(stats.NullEventsUniform) && len(c.Nearest) > 1 {
+		out = append(out, "Placing the events at random one by one ignores that events cluster in time (one happening recorded in several sections, or by several proxies): a cluster near an onset then looks like many coincidences. Shifting the onsets instead keeps the events' clustering and asks a more modest question; compare the two.")
+	}
 	if c.Options.Null == string(stats.NullPulsesShifted) && len(c.Onsets) > 0 {
 		out = append(out, "With the onsets shifted, the smallest p the test can give is about the share of the window over which a shift brings the onsets as close as they are, however many replicates are drawn.")
 	}
