@@ -109,6 +109,7 @@ var routeRoles = map[string]string{
 	"GET /help/addresses":                      "",
 	"GET /compare":                             "",
 	"GET /coincidence":                         "",
+	"GET /map":                                 "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",
 	"POST /compare/saved":                      store.RoleContributor,
