@@ -63,10 +63,11 @@ type CoincidenceResult struct {
 	// StatisticMa is T: the mean over the events of the distance from the event's age (AgeMa) to its
 	// nearest onset, Ma.
 	StatisticMa float64
-	// DrawnMeanMa is the mean over replicates of T with the ages drawn (NaN unless DrawAges).
+	// DrawnMeanMa is the mean over replicates of T with the ages or onsets drawn (NaN unless either is).
 	DrawnMeanMa float64
 	// NullMedianMa, NullLo95Ma, NullHi95Ma summarise the null distribution of the statistic.
 	NullMedianMa, NullLo95Ma, NullHi95Ma float64
+	DrawOnsets                           bool    // the onsets were drawn per replicate from their groups
 	AtMost                               int     // replicates in which the null's statistic is at most the data's
 	P                                    float64 // (1 + AtMost) / (1 + Replicates)
 }
@@ -96,7 +97,17 @@ func meanNearest(agesMa, onsetsMa []float64) float64 {
 // with OldMa > YoungMa, fewer than one replicate, no event or no onset, and an event age or onset
 // outside the window or not finite (the caller chooses what lies in the window and says so).
 func CoincidenceTest(events []CoincidenceEvent, onsetsMa []float64, o CoincidenceOptions) (CoincidenceResult, error) {
-	res := CoincidenceResult{CoincidenceOptions: o, Events: len(events), Onsets: len(onsetsMa), DrawnMeanMa: math.NaN()}
+	return CoincidenceTestDrawnOnsets(events, onsetsMa, nil, o)
+}
+
+// CoincidenceTestDrawnOnsets is CoincidenceTest with the onsets drawn per replicate: onsetGroups[g] are
+// the alternative onset sets of group g (e.g. one per bootstrap replicate of a province's density); each
+// replicate takes one set of every group, uniformly, and keeps its onsets in the window (a replicate
+// whose drawn onsets all lie outside is drawn again, up to 1000 times). onsetsMa (the reference onsets)
+// still give the statistic T of the result. No groups: the onsets are fixed. It returns an error also
+// for a group without a set or an onset that is not a number.
+func CoincidenceTestDrawnOnsets(events []CoincidenceEvent, onsetsMa []float64, onsetGroups [][][]float64, o CoincidenceOptions) (CoincidenceResult, error) {
+	res := CoincidenceResult{CoincidenceOptions: o, Events: len(events), Onsets: len(onsetsMa), DrawnMeanMa: math.NaN(), DrawOnsets: len(onsetGroups) > 0}
 	if o.Null != NullEventsUniform && o.Null != NullPulsesShifted {
 		return res, fmt.Errorf("coincidence: unknown null %q (want %q or %q)", o.Null, NullEventsUniform, NullPulsesShifted)
 	}
@@ -129,6 +140,19 @@ func CoincidenceTest(events []CoincidenceEvent, onsetsMa []float64, o Coincidenc
 		}
 	}
 
+	for g, sets := range onsetGroups {
+		if len(sets) == 0 {
+			return res, fmt.Errorf("coincidence: onset group %d has no set to draw from", g)
+		}
+		for _, set := range sets {
+			for _, on := range set {
+				if !finite(on) {
+					return res, fmt.Errorf("coincidence: onset group %d has an onset that is not a number", g)
+				}
+			}
+		}
+	}
+	drawOnsets := len(onsetGroups) > 0
 	ages := make([]float64, len(events))
 	for i, e := range events {
 		ages[i] = e.AgeMa
@@ -141,8 +165,32 @@ func CoincidenceTest(events []CoincidenceEvent, onsetsMa []float64, o Coincidenc
 	shifted := make([]float64, len(onsetsMa))
 	nullT := make([]float64, o.Replicates)
 	drawnSum := 0.0
+	var drawnOnsets []float64
 	for r := range o.Replicates {
 		obs := res.StatisticMa
+		ons := onsetsMa
+		if drawOnsets {
+			for try := 0; ; try++ {
+				drawnOnsets = drawnOnsets[:0]
+				for _, sets := range onsetGroups {
+					for _, on := range sets[rng.IntN(len(sets))] {
+						if in(on) {
+							drawnOnsets = append(drawnOnsets, on)
+						}
+					}
+				}
+				if len(drawnOnsets) > 0 {
+					break
+				}
+				if try == 1000 {
+					return res, errors.New("coincidence: the drawn onsets lie outside the window in 1000 draws in a row")
+				}
+			}
+			ons = drawnOnsets
+			if !o.DrawAges {
+				obs = meanNearest(ages, ons)
+			}
+		}
 		if o.DrawAges {
 			for i, e := range events {
 				switch {
@@ -154,20 +202,21 @@ func CoincidenceTest(events []CoincidenceEvent, onsetsMa []float64, o Coincidenc
 					drawn[i] = e.AgeMa
 				}
 			}
-			obs = meanNearest(drawn, onsetsMa)
-			drawnSum += obs
+			obs = meanNearest(drawn, ons)
 		}
+		drawnSum += obs
 		var t float64
 		switch o.Null {
 		case NullEventsUniform:
 			for i := range nullAges {
 				nullAges[i] = o.YoungMa + width*rng.Float64()
 			}
-			t = meanNearest(nullAges, onsetsMa)
+			t = meanNearest(nullAges, ons)
 		case NullPulsesShifted:
 			off := width * rng.Float64()
-			for j, on := range onsetsMa {
-				shifted[j] = o.YoungMa + math.Mod(on-o.YoungMa+off, width)
+			shifted = shifted[:0]
+			for _, on := range ons {
+				shifted = append(shifted, o.YoungMa+math.Mod(on-o.YoungMa+off, width))
 			}
 			evAges := ages
 			if o.DrawAges {
@@ -180,7 +229,7 @@ func CoincidenceTest(events []CoincidenceEvent, onsetsMa []float64, o Coincidenc
 			res.AtMost++
 		}
 	}
-	if o.DrawAges {
+	if o.DrawAges || drawOnsets {
 		res.DrawnMeanMa = drawnSum / float64(o.Replicates)
 	}
 	slices.Sort(nullT)
