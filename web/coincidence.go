@@ -85,6 +85,7 @@ func (s *Server) coincidenceChoiceFrom(ctx context.Context, p *params) (coincide
 	o.Replicates = p.int("n", def.Replicates, analysis.MinCoincidenceReplicates, analysis.MaxCoincidenceReplicates)
 	o.Seed = dens.Seed
 	o.DrawAges = p.oneOf("ages", []string{"drawn", "median"}, "drawn") == "drawn"
+	o.DrawOnsets = p.oneOf("onsets", []string{"reference", "drawn"}, "reference") == "drawn"
 	ch.Opt = o
 	if len(p.problems) == 0 {
 		for _, e := range analysis.AsOptionErrors(o.Validate()) {
@@ -139,6 +140,20 @@ func (s *Server) coincidenceInputs(ctx context.Context, ch coincidenceChoice) (a
 			continue
 		}
 		in.SpansMa = append(in.SpansMa, [2]float64{dens.MinMa, dens.MaxMa})
+		sets := make([][]float64, len(dens.Band.Replicates))
+		for _, p := range pulses {
+			for k, b := range p.Edges.Replicates {
+				if b >= 0 && b < len(sets) {
+					sets[b] = append(sets[b], p.Edges.StartMa[k])
+				}
+			}
+		}
+		if in.OnsetSets == nil {
+			in.OnsetSets = map[int64][][]float64{}
+		}
+		if len(pulses) > 0 {
+			in.OnsetSets[prov.ID] = sets
+		}
 		if len(pulses) == 0 {
 			in.Notes = append(in.Notes, prov.Name+": its density has no pulse under these choices.")
 		}
@@ -254,8 +269,8 @@ func (s *Server) coincidenceView(r *http.Request, res analysis.Coincidence, ch c
 		stat := []views.KV{
 			{Label: "Statistic", Value: fmt.Sprintf("%s Ma: the mean, over the events, of the distance from each event's median age to the nearest pulse onset of any province", ma3(r.StatisticMa))},
 		}
-		if ch.Opt.DrawAges {
-			stat = append(stat, views.KV{Label: "With the ages drawn", Value: fmt.Sprintf("%s Ma on average over the replicates", ma3(r.DrawnMeanMa))})
+		if ch.Opt.DrawAges || ch.Opt.DrawOnsets {
+			stat = append(stat, views.KV{Label: "With the draws", Value: fmt.Sprintf("%s Ma on average over the replicates (%s drawn)", ma3(r.DrawnMeanMa), drawnWhat(ch.Opt))})
 		}
 		stat = append(stat,
 			views.KV{Label: "By chance", Value: fmt.Sprintf("median %s Ma; 95 %% of the replicates between %s and %s Ma", ma3(r.NullMedianMa), ma3(r.NullLo95Ma), ma3(r.NullHi95Ma))},
@@ -264,6 +279,7 @@ func (s *Server) coincidenceView(r *http.Request, res analysis.Coincidence, ch c
 			views.KV{Label: "Window", Value: window},
 			views.KV{Label: "Replicates", Value: fmt.Sprintf("%d (seed %d)", r.Replicates, r.Seed)},
 			views.KV{Label: "Event ages", Value: ages},
+			views.KV{Label: "Onsets drawn", Value: onsetWords(ch.Opt.DrawOnsets)},
 			views.KV{Label: "Events", Value: fmt.Sprintf("%d, from %s", r.Events, from)},
 			views.KV{Label: "Onsets", Value: fmt.Sprintf("%d, from %s", r.Onsets, count(len(provs), "province"))},
 		)
@@ -305,6 +321,7 @@ func coincidenceForm(r *http.Request, ch coincidenceChoice) *views.Form {
 		{Name: "to", Label: "to (Ma)", Kind: "number", Value: q.Get("to"), Step: "any", Placeholder: "automatic"},
 		{Name: "n", Label: "Replicates", Kind: "number", Value: strconv.Itoa(ch.Opt.Replicates), Step: "1"},
 		sel("ages", "Event ages", ages, "drawn", "drawn per replicate", "median", "medians"),
+		sel("onsets", "Pulse onsets", map[bool]string{true: "drawn", false: "reference"}[ch.Opt.DrawOnsets], "reference", "as in the reference density", "drawn", "drawn from the bootstrap"),
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Opt.Seed, 10), Step: "1"},
 		text("sections", "Sections", "all (ids, e.g. 1,3)"),
 		text("events", "Events", "all (ids)"),
@@ -364,7 +381,7 @@ func coincidenceTablesView(res analysis.Coincidence) []views.Table {
 // coincidenceResultColumns are the CSV columns of the result, units in the names.
 var coincidenceResultColumns = []string{"statistic_ma", "drawn_mean_ma", "p", "at_most", "replicates", "seed", "null",
 	"window_old_ma", "window_young_ma", "window_automatic", "ages", "events", "onsets",
-	"null_median_ma", "null_lo95_ma", "null_hi95_ma", "message"}
+	"null_median_ma", "null_lo95_ma", "null_hi95_ma", "message", "onset_draws"}
 
 // writeCoincidenceCSV writes one table of the result: the test (one row), the events or the onsets.
 func writeCoincidenceCSV(w io.Writer, res analysis.Coincidence, table string) error {
@@ -406,7 +423,7 @@ func coincidenceResultRecord(res analysis.Coincidence) []string {
 	ages := map[bool]string{true: "drawn", false: "median"}[o.DrawAges]
 	rec := []string{"", "", "", "", strconv.Itoa(o.Replicates), strconv.FormatUint(o.Seed, 10), o.Null,
 		gs(res.OldMa), gs(res.YoungMa), strconv.FormatBool(res.AutoWindow), ages, strconv.Itoa(len(res.Nearest)), strconv.Itoa(len(res.Onsets)),
-		"", "", "", res.Message}
+		"", "", "", res.Message, map[bool]string{true: "drawn", false: "reference"}[o.DrawOnsets]}
 	if r := res.Result; r != nil {
 		rec[0], rec[1], rec[2], rec[3] = gs(r.StatisticMa), gs(r.DrawnMeanMa), gs(r.P), strconv.Itoa(r.AtMost)
 		rec[13], rec[14], rec[15] = gs(r.NullMedianMa), gs(r.NullLo95Ma), gs(r.NullHi95Ma)
@@ -442,7 +459,7 @@ func coincidenceJSON(res analysis.Coincidence) any {
 	o := res.Options
 	result = coincidenceResultJSON{Replicates: o.Replicates, Seed: o.Seed, Null: o.Null, WindowOldMa: res.OldMa, WindowYoungMa: res.YoungMa,
 		WindowAutomatic: res.AutoWindow, Ages: map[bool]string{true: "drawn", false: "median"}[o.DrawAges], Events: len(res.Nearest),
-		Onsets: len(res.Onsets), Message: res.Message}
+		Onsets: len(res.Onsets), Message: res.Message, OnsetDraws: map[bool]string{true: "drawn", false: "reference"}[o.DrawOnsets]}
 	if r := res.Result; r != nil {
 		result.StatisticMa, result.P, result.AtMost = &r.StatisticMa, &r.P, &r.AtMost
 		result.NullMedianMa, result.NullLo95Ma, result.NullHi95Ma = &r.NullMedianMa, &r.NullLo95Ma, &r.NullHi95Ma
@@ -499,10 +516,30 @@ type coincidenceResultJSON struct {
 	NullLo95Ma      *float64 `json:"null_lo95_ma"`
 	NullHi95Ma      *float64 `json:"null_hi95_ma"`
 	Message         string   `json:"message"`
+	OnsetDraws      string   `json:"onset_draws"`
 }
 
 // upperFirst capitalises the first letter of s (a label that may start with a superscript).
 func upperFirst(s string) string {
 	r, n := utf8.DecodeRuneInString(s)
 	return string(unicode.ToUpper(r)) + s[n:]
+}
+
+// onsetWords says how the onsets enter the replicates.
+func onsetWords(drawn bool) string {
+	if drawn {
+		return "yes: in every replicate each province's onsets are those of one of its density's bootstrap replicates (a pulse absent there is absent), so p averages over their uncertainty"
+	}
+	return "no: the onsets of the reference density, taken as known"
+}
+
+// drawnWhat names what the replicates draw.
+func drawnWhat(o analysis.CoincidenceOptions) string {
+	switch {
+	case o.DrawAges && o.DrawOnsets:
+		return "event ages and onsets"
+	case o.DrawOnsets:
+		return "onsets"
+	}
+	return "event ages"
 }

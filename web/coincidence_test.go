@@ -26,6 +26,7 @@ type coincidenceDownload struct {
 		WindowYoungMa float64  `json:"window_young_ma"`
 		Events        int      `json:"events"`
 		Onsets        int      `json:"onsets"`
+		OnsetDraws    string   `json:"onset_draws"`
 	} `json:"result"`
 	Cautions []string `json:"cautions"`
 	Events   []struct {
@@ -161,7 +162,7 @@ func TestCoincidencePageAndBadChoices(t *testing.T) {
 	if !strings.Contains(cmp, `href="/coincidence"`) {
 		t.Error("the comparison page does not link to the coincidence test")
 	}
-	for q, want := range map[string]string{"null=both": "null:", "from=150": "from:", "n=5": "n:", "ages=all": "ages:", "table=x&format=csv": "table:"} {
+	for q, want := range map[string]string{"null=both": "null:", "from=150": "from:", "n=5": "n:", "ages=all": "ages:", "onsets=some": "onsets:", "table=x&format=csv": "table:"} {
 		status, _, body := get(t, srv, "/coincidence?"+q)
 		if status != http.StatusBadRequest || !strings.Contains(body, want) {
 			t.Errorf("%s: status %d, want 400 naming %q", q, status, want)
@@ -177,5 +178,28 @@ func TestCoincidencePageAndBadChoices(t *testing.T) {
 		if err != nil || len(recs) < 2 || !strings.Contains(strings.Join(recs[0], ","), header) {
 			t.Errorf("table=%s: %v %v, want a header with %s and rows", table, recs, err, header)
 		}
+	}
+}
+
+// With the onsets drawn from each province's bootstrap the result says so, keeps the statistic of the
+// reference onsets (the same as without), and is reproduced by its seed.
+func TestCoincidenceDrawnOnsets(t *testing.T) {
+	ref := getCoincidence(t, "/coincidence?format=json&"+coincidenceCheap)
+	d := getCoincidence(t, "/coincidence?format=json&onsets=drawn&"+coincidenceCheap)
+	if d.Result.OnsetDraws != "drawn" || ref.Result.OnsetDraws != "reference" {
+		t.Errorf("onset_draws %q and %q, want drawn and reference", d.Result.OnsetDraws, ref.Result.OnsetDraws)
+	}
+	if d.Result.StatisticMa == nil || *d.Result.StatisticMa != *ref.Result.StatisticMa {
+		t.Errorf("statistic %v with drawn onsets, %v without: want the same (it uses the reference onsets)", d.Result.StatisticMa, ref.Result.StatisticMa)
+	}
+	if got, want := *d.Result.P, float64(1+*d.Result.AtMost)/1000; got != want {
+		t.Errorf("p = %v, want %v", got, want)
+	}
+	if !strings.Contains(strings.Join(d.Cautions, " "), "onsets are drawn in every replicate") {
+		t.Errorf("cautions %v do not say the onsets are drawn", d.Cautions)
+	}
+	again := getCoincidence(t, "/coincidence?format=json&onsets=drawn&"+coincidenceCheap)
+	if *again.Result.P != *d.Result.P {
+		t.Errorf("same seed, p %v then %v", *d.Result.P, *again.Result.P)
 	}
 }

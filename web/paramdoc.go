@@ -71,6 +71,7 @@ var paramDocs = []paramDoc{
 	{"to", whereCoincide, "Ma, 0 to 4600", "automatic", "The other end of the test's window."},
 	{"null", whereCoincide, "events, pulses", "events", "What chance means: events placed at random in the window, or the pulse onsets shifted together by a random offset (wrapping round within the window)."},
 	{"ages", whereCoincide, "drawn, median", "drawn", "drawn: each event's age is drawn from its distribution in every replicate, so the p-value carries the ages' uncertainty; median: the median ages."},
+	{"onsets", whereCoincide, "reference, drawn", "reference", "reference: the onsets of each province's reference density, taken as known; drawn: in every replicate each province's onsets come from one bootstrap replicate of its density, so the p-value carries their uncertainty (and is conservative)."},
 	{"n", whereCoincide, "99 to 99999", "9999", "Monte Carlo replicates of the test."},
 	{"table", whereCoincide, "result, events, onsets", "result", "Which table a CSV download holds."},
 	{"seed", whereTimeline + ", section pages", "whole number", "1", "Seed of the random draws, so a result can be reproduced exactly."},

@@ -52,6 +52,9 @@ type CoincidenceOptions struct {
 	Replicates int
 	Seed       uint64
 	DrawAges   bool // draw each event's age from its distribution in every replicate
+	// DrawOnsets: draw the onsets in every replicate, each province's from one bootstrap replicate of its
+	// density (CoincidenceInputs.OnsetSets); otherwise the reference density's onsets are taken as known.
+	DrawOnsets bool
 }
 
 // DefaultCoincidenceOptions: events placed at random, the automatic window, 9999 replicates of seed 1,
@@ -123,8 +126,11 @@ type CoincidenceInputs struct {
 	// SpansMa are the age ranges the provinces' densities were computed on (each [young, old]): with the
 	// events' 95 % ranges they make the automatic window.
 	SpansMa [][2]float64
-	Depends []string // the model choices the ages rest on, in words (bandwidth, calibration, age model, review)
-	Notes   []string // events or provinces that could not enter, and why
+	// OnsetSets are, per province, its onsets in each bootstrap replicate of its density (a pulse absent
+	// from a replicate is absent from its set), for DrawOnsets.
+	OnsetSets map[int64][][]float64
+	Depends   []string // the model choices the ages rest on, in words (bandwidth, calibration, age model, review)
+	Notes     []string // events or provinces that could not enter, and why
 }
 
 // CoincidenceNearest is one event of the test with the onset nearest to its age.
@@ -224,7 +230,15 @@ func Coincide(in CoincidenceInputs, o CoincidenceOptions) (Coincidence, error) {
 		res.Sentence = res.Message
 		return res, nil
 	}
-	r, err := stats.CoincidenceTest(evs, onsetsMa, stats.CoincidenceOptions{Null: stats.CoincidenceNull(o.Null),
+	var groups [][][]float64
+	if o.DrawOnsets {
+		for _, id := range slices.Sorted(maps.Keys(in.OnsetSets)) {
+			if len(in.OnsetSets[id]) > 0 {
+				groups = append(groups, in.OnsetSets[id])
+			}
+		}
+	}
+	r, err := stats.CoincidenceTestDrawnOnsets(evs, onsetsMa, groups, stats.CoincidenceOptions{Null: stats.CoincidenceNull(o.Null),
 		YoungMa: res.YoungMa, OldMa: res.OldMa, Replicates: o.Replicates, Seed: o.Seed, DrawAges: o.DrawAges})
 	if err != nil {
 		return res, err
@@ -298,9 +312,22 @@ func coincidenceCautions(c *Coincidence) []string {
 	if c.Options.Null == string(stats.NullPulsesShifted) && len(c.Onsets) > 0 {
 		out = append(out, "With the onsets shifted, the smallest p the test can give is about the share of the window over which a shift brings the onsets as close as they are, however many replicates are drawn.")
 	}
-	out = append(out, "The answer depends on the models behind the ages: the onsets are the older edges of the pulses of each province's reference density (they move with the bandwidth, the calibration and which dates enter, and the edges of small pulses are optimistic), and the event ages come from the sections' age models. The onsets are taken as known; only the events' age uncertainty is carried.")
+	out = append(out, "The answer depends on the models behind the ages: the onsets are the older edges of the pulses of each province's reference density (they move with the bandwidth, the calibration and which dates enter, and the edges of small pulses are optimistic), and the event ages come from the sections' age models. "+carried(c.Options))
 	if len(c.EventsOutside) > 0 || len(c.OnsetsOutside) > 0 {
 		out = append(out, fmt.Sprintf("Left out as outside the window: %s and %s.", count(len(c.EventsOutside), "event"), count(len(c.OnsetsOutside), "onset")))
 	}
 	return out
+}
+
+// carried says which uncertainties the replicates carry.
+func carried(o CoincidenceOptions) string {
+	switch {
+	case o.DrawAges && o.DrawOnsets:
+		return "Both the events' ages and the onsets are drawn in every replicate (the onsets from one bootstrap replicate of each province's density), so p averages over both; averaging makes the test conservative."
+	case o.DrawOnsets:
+		return "The onsets are drawn in every replicate (from one bootstrap replicate of each province's density); the events are taken at their median ages."
+	case o.DrawAges:
+		return "The onsets are taken as known (those of the reference density; they can be drawn from the bootstrap instead); only the events' age uncertainty is carried."
+	}
+	return "The onsets and the event ages are taken as known: no age uncertainty is carried."
 }

@@ -143,3 +143,28 @@ func TestCoincidenceOptionsValidate(t *testing.T) {
 		}
 	}
 }
+
+// With DrawOnsets the pipeline hands stats each province's bootstrap onset sets, in the order of the
+// provinces' record numbers: its result equals stats.CoincidenceTestDrawnOnsets on them.
+func TestCoincideDrawnOnsetsPassesTheSets(t *testing.T) {
+	in := coincidenceInputsForTest()
+	in.OnsetSets = map[int64][][]float64{2: {{147.1}, {146.9}}, 1: {{152.4, 150.1}, {152.6}, {150.0}}}
+	o := DefaultCoincidenceOptions()
+	o.Replicates, o.DrawOnsets, o.DrawAges = 499, true, false
+	res, err := Coincide(in, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	evs := []stats.CoincidenceEvent{{AgeMa: 151.90, DrawsMa: []float64{151.85, 151.9, 151.95}}, {AgeMa: 150.30, SigmaMa: 0.1}, {AgeMa: 149.20}}
+	want, err := stats.CoincidenceTestDrawnOnsets(evs, []float64{152.5, 150.0, 147.0}, [][][]float64{in.OnsetSets[1], in.OnsetSets[2]},
+		stats.CoincidenceOptions{Null: stats.NullEventsUniform, YoungMa: 146.5, OldMa: 153, Replicates: 499, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if *res.Result != want || !res.Result.DrawOnsets {
+		t.Errorf("result %+v, want %+v", *res.Result, want)
+	}
+	if !strings.Contains(strings.Join(res.Cautions, " "), "onsets are drawn in every replicate") {
+		t.Errorf("cautions do not say the onsets are drawn: %v", res.Cautions)
+	}
+}
