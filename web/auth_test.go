@@ -108,6 +108,8 @@ var routeRoles = map[string]string{
 	"GET /releases/{version}/view/*":           "",
 	"GET /help/addresses":                      "",
 	"GET /compare":                             "",
+	"GET /coincidence":                         "",
+	"GET /map":                                 "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",
 	"POST /compare/saved":                      store.RoleContributor,

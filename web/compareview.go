@@ -466,7 +466,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	ch := res.Choice
 	v := views.CompareView{Page: c.page(ctx, "Compare: "+res.Province.Name, "Compare")}
 	v.Subtitle = "Eruptive pulses against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
-	v.Crumbs = []views.Link{{Label: "Compare", URL: "/compare"}, {Label: "Saved comparisons", URL: "/compare/saved"}}
+	v.Crumbs = []views.Link{{Label: "Compare", URL: "/compare"}, {Label: "Saved comparisons", URL: "/compare/saved"}, {Label: "Coincidence test", URL: "/coincidence"}}
 	for _, f := range []string{"csv", "json", "xlsx", "svg", "png", "pdf"} {
 		v.Downloads = append(v.Downloads, views.Link{Label: strings.ToUpper(f), URL: withQuery(r, "format", f)})
 	}

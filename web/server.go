@@ -85,6 +85,8 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerDateRoutes(r)
 	s.registerSectionRoutes(r)
 	s.registerCompareRoutes(r)
+	s.registerCoincidenceRoutes(r)
+	s.registerMapRoutes(r)
 	s.registerHelpRoutes(r)
 	s.registerReleaseRoutes(r)
 	r.Get("/ties", s.handle(s.handleTieList))
