@@ -33,6 +33,7 @@ type Server struct {
 	release  string        // the release this server shows the compilation as of ("" = live)
 	prefix   string        // the path it is served under (a release's view)
 	releases *releaseViews // the handlers of releases opened from the live site
+	router   http.Handler  // the whole site, for pages that read another page's numbers (an event's answer)
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
@@ -99,6 +100,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.MethodNotAllowed(s.handle(func(w http.ResponseWriter, r *http.Request) error {
 		return wrongMethod{method: r.Method}
 	}))
+	s.router = r
 	return r
 }
 
