@@ -2,8 +2,6 @@ package web
 
 import (
 	"cmp"
-	"context"
-	"errors"
 	"fmt"
 	"math"
 	"net/http"
@@ -11,7 +9,6 @@ import (
 	"slices"
 	"strconv"
 	"strings"
-	"time"
 
 	"github.com/go-chi/chi/v5"
 
@@ -34,102 +31,6 @@ func (s *Server) registerCompareRoutes(r chi.Router) {
 	r.Get("/compare/saved/{id}", s.handle(c.handleSavedShow))
 	r.With(s.requireRole(store.RoleContributor)).Post("/compare/saved", s.handle(c.handleSave))
 }
-
-// comparison reads the choices and returns the computed comparison, from the cache when the same
-// choices were computed on the same state of the compilation.
-func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
-	ctx := r.Context()
-	p := newParams(r)
-	ch, err := c.compareChoiceFrom(ctx, p)
-	if err != nil {
-		return nil, false, err
-	}
-	p.id("saved")
-	if err := p.err(); err != nil {
-		return nil, false, err
-	}
-	if err := anonymousComputeLimits(ctx, ch); err != nil {
-		return nil, false, err
-	}
-	// The data are read in many queries; a change committed between them would mix two states of the
-	// compilation. Every change moves the data stamp, so the load counts only when the stamp is the same
-	// before and after it; otherwise it is read again (and, should writes never pause, used uncached).
-	base := ch
-	for attempt := 1; ; attempt++ {
-		ch = base
-		stamp, err := c.store.DataStamp(ctx)
-		if err != nil {
-			return nil, false, err
-		}
-		key := ch.cacheKey(stamp)
-		if res, ok := c.cache.get(key); ok {
-			return res, true, nil
-		}
-		d, err := c.loadCompareData(ctx, &ch)
-		if err != nil {
-			return nil, false, err
-		}
-		d.stop = ctx.Err
-		after, err := c.store.DataStamp(ctx)
-		if err != nil {
-			return nil, false, err
-		}
-		if after != stamp && attempt < maxLoadAttempts {
-			continue
-		}
-		if after != stamp {
-			res, err := computeComparison(d, ch, stamp)
-			if err != nil {
-				return nil, false, err
-			}
-			res.At = time.Now().UTC().Format(time.RFC3339)
-			res.Cautions = append(res.Cautions, fmt.Sprintf("The compilation changed %d times while these data were read (data stamp %d → %d), so they may mix records from before and after a change: reload the page for numbers on one state.", maxLoadAttempts, stamp, after))
-			return res, false, nil
-		}
-		// Keyed also by what it read: a change elsewhere in the compilation keeps the result.
-		dataKey := ""
-		if dg := d.digest(); dg != "" {
-			dataKey = ch.cacheKeyData(dg)
-			if res, ok := c.cache.get(dataKey); ok {
-				c.cache.put(key, res)
-				return res, true, nil
-			}
-		}
-		// Identical requests meanwhile wait for this one instead of computing it again.
-		f, lead := c.cache.join(key)
-		if !lead {
-			select {
-			case <-f.done:
-			case <-ctx.Done():
-				return nil, false, ctx.Err()
-			}
-			if f.err != nil && ctx.Err() == nil && (errors.Is(f.err, context.Canceled) || errors.Is(f.err, context.DeadlineExceeded)) {
-				continue // its request went away; this one computes
-			}
-			return f.res, f.err == nil, f.err
-		}
-		var res *compareResult
-		func() {
-			defer func() { c.cache.land(key, f, res, err) }() // also when the computation panics
-			if res, err = computeComparison(d, ch, stamp); err == nil {
-				res.At = time.Now().UTC().Format(time.RFC3339)
-			}
-		}()
-		if err == nil {
-			c.cache.put(key, res)
-			if dataKey != "" {
-				c.cache.put(dataKey, res)
-			}
-		}
-		if err != nil {
-			return nil, false, err
-		}
-		return res, false, nil
-	}
-}
-
-// maxLoadAttempts bounds how often a comparison's data are read again while changes keep arriving.
-const maxLoadAttempts = 5
 
 func (c *comparer) handleCompare(w http.ResponseWriter, r *http.Request) error {
 	res, cached, err := c.comparison(r)

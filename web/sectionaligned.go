@@ -11,6 +11,7 @@ import (
 
 	"coeval/stats"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // The aligned page: every section's Hg (or host-normalised ratio) against its model age, on one age axis.
@@ -28,7 +29,7 @@ func alignedOptionsFrom(p *params) alignedOptions {
 	o := alignedOptions{
 		Series:   p.oneOf("series", []string{"ratio", "hg"}, "ratio"),
 		Draws:    p.int("draws", defaultAlignedDraws, minSectionDraws, maxSectionDraws),
-		Seed:     paramSeed(p, "seed", defaultSectionSeed),
+		Seed:     paramSeed(p, "seed", analysis.DefaultSectionSeed),
 		AgeMinMa: p.optFloat("age_min", "an age in Ma"),
 		AgeMaxMa: p.optFloat("age_max", "an age in Ma"),
 		Include:  p.oneOf("include", includeCodes(), "accepted"),

@@ -120,7 +120,7 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 		{Label: "Location", Value: coord(sec.Latitude, sec.Longitude)},
 		{Label: "Palaeolatitude", Value: optDeg(sec.Palaeolatitude)},
 		{Label: "Thermal maturity", Value: orDash(sec.ThermalMaturity), Class: cautionIf(len(a.OtherMatur) > 0)},
-		{Label: "Low-TOC threshold for Hg/TOC", Value: num(sec.TocThresholdWtPct) + " wt% (stored); " + num(a.Opt.TocMin) + " wt% in use"},
+		{Label: "Low-TOC threshold for Hg/TOC", Value: num(sec.TocThresholdWtPct) + " wt% (stored); " + num(a.Opt.TocMinWtPct) + " wt% in use"},
 		{Label: "Samples", Value: itoa(sec.NSamples) + " between " + heightRange(sec) + " m"},
 	}}}
 	v.Controls = sectionControls(r, a)
@@ -197,7 +197,7 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 	q := r.URL.Query()
 	return views.Form{Action: r.URL.Path, Reset: r.URL.Path, Fields: []views.Field{
 		{Name: "host", Label: "Host phase", Kind: "select", Options: hosts},
-		{Name: "toc_min", Label: "Low-TOC threshold (wt%)", Kind: "number", Value: num(o.TocMin), Step: "0.01"},
+		{Name: "toc_min", Label: "Low-TOC threshold (wt%)", Kind: "number", Value: num(o.TocMinWtPct), Step: "0.01"},
 		{Name: "baseline", Label: "Baseline", Kind: "select", Options: []views.Option{
 			opt("section", "whole section (robust)", o.Baseline), opt("window", "background window", o.Baseline), opt("running", "running median", o.Baseline)}},
 		{Name: "bg_base", Label: "Window base (m)", Kind: "number", Value: q.Get("bg_base"), Step: "any", Placeholder: "window only"},
@@ -227,7 +227,7 @@ func (a *sectionAnalysis) cautions() []string {
 	var out []string
 	if a.NLowHost > 0 {
 		out = append(out, fmt.Sprintf("%d of %d samples have %s below %s wt%%: their %s is not evaluable (the %s error dominates and a %s low makes a false spike). They are kept in every table and marked ×; raw Hg stays usable.",
-			a.NLowHost, len(a.Samples), a.Host, num(a.HostMin), ratioName(a.Host), a.Host, a.Host))
+			a.NLowHost, len(a.Samples), a.Host, num(a.HostMinWtPct), ratioName(a.Host), a.Host, a.Host))
 	}
 	if len(a.OtherMatur) > 0 {
 		out = append(out, fmt.Sprintf("Thermal maturity: this section is %s; other sections are %s. Maturation changes organic carbon and inflates Hg/TOC, so compare ratios between sections of different maturity with care.",
@@ -261,7 +261,7 @@ func (a *sectionAnalysis) hostBlock() views.Block {
 		b.Paras = append(b.Paras, "No host suggested: "+a.Suggestion.Reason+".")
 	}
 	b.Paras = append(b.Paras, fmt.Sprintf("In use: Hg/%s (%s). Low-host rule: below %s wt%% %s the ratio is not evaluable; %d samples are below it.",
-		a.Host, a.HostChosen, num(a.HostMin), a.Host, a.NLowHost))
+		a.Host, a.HostChosen, num(a.HostMinWtPct), a.Host, a.NLowHost))
 	if a.Background != nil {
 		bg := a.Background
 		b.Paras = append(b.Paras, fmt.Sprintf("High-host masking check: background regression Hg = %s + %s·%s (ppb, %s in wt%%) over %d samples outside the anomalies; σ̂ of residuals = %s ppb (1.4826·MAD). %d samples hold more Hg than it predicts by over %g σ̂ (ringed in the figure).",
@@ -484,7 +484,7 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 			rc.Text = fmtF(s.Ratio.Value, 1) + " ± " + fmtF(s.Ratio.Sigma, 1)
 		case stats.RatioLowHost:
 			rc.Text, rc.Class = "× "+notEvaluableLabel, "noteval"
-			rc.Title = fmt.Sprintf("%s below %s wt%%: relative 1σ of the ratio would be %s %%", a.Host, num(a.HostMin), fmtF(100*s.Ratio.RelSigma, 0))
+			rc.Title = fmt.Sprintf("%s below %s wt%%: relative 1σ of the ratio would be %s %%", a.Host, num(a.HostMinWtPct), fmtF(100*s.Ratio.RelSigma, 0))
 		default:
 			rc.Text, rc.Class = "—", "muted"
 		}
@@ -510,8 +510,8 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 // Downloads.
 
 func (a *sectionAnalysis) settingsJSON() map[string]any {
-	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMin,
-		"host_min_wt_pct": a.HostMin, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
+	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMinWtPct,
+		"host_min_wt_pct": a.HostMinWtPct, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
 		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed, "tie_level": a.Opt.TieLevel,
 		"include": a.Opt.Include}
 	switch a.Opt.Baseline {
@@ -671,7 +671,7 @@ func (a *sectionAnalysis) ratioRecords() [][]string {
 			an = itoa(s.Anomaly)
 		}
 		out = append(out, []string{s.Sample, csvF(s.HeightM), csvF(s.HgPpb), csvF(s.HgSigma), strconv.FormatBool(s.HgBelow), dl,
-			csvF(s.Toc), csvF(s.Ts), csvF(s.Al), csvF(s.D13C), a.Host.String(), csvF(a.HostMin), csvF(s.Ratio.Value), csvF(s.Ratio.Sigma),
+			csvF(s.Toc), csvF(s.Ts), csvF(s.Al), csvF(s.D13C), a.Host.String(), csvF(a.HostMinWtPct), csvF(s.Ratio.Value), csvF(s.Ratio.Sigma),
 			ratioStatusCode(s.Ratio.Status), csvF(s.RatioZ), csvF(s.RawZ), strconv.FormatBool(s.RatioFlag), strconv.FormatBool(s.RawFlag),
 			csvF(s.ResidualPpb), strconv.FormatBool(s.Excess), an})
 	}
@@ -732,7 +732,7 @@ func (s *Server) handleSectionRatios(w http.ResponseWriter, r *http.Request) err
 	return s.tablePage(w, r, "ratios", "Samples with ratios and flags", (*sectionAnalysis).ratioColumns, (*sectionAnalysis).ratioRecords,
 		(*sectionAnalysis).sampleTable, func(a *sectionAnalysis) string {
 			return fmt.Sprintf("Every sample, none dropped: Hg/%s (%s), its status under the low-host rule (%s wt%%), robust z and flags, and the host-regression residual.",
-				a.Host, a.HostChosen, num(a.HostMin))
+				a.Host, a.HostChosen, num(a.HostMinWtPct))
 		})
 }
 

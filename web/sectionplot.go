@@ -6,6 +6,7 @@ import (
 
 	"coeval/stats"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // sectionFigure builds the view model of the section figure: raw Hg, the host, the ratio, δ¹³C and the
@@ -13,7 +14,7 @@ import (
 func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 	f := views.SectionFigure{Title: a.Sec.Name + " — proxies and age–height model against height"}
 	f.Subtitle = fmt.Sprintf("Host %s (%s); low-%s threshold %s wt%%; anomalies: modified z > %s on log10 values, ≥ %d samples; model: %s",
-		a.Host, a.HostChosen, a.Host, num(a.HostMin), num(a.Opt.ZMin), a.Opt.MinRun, modelShort(a))
+		a.Host, a.HostChosen, a.Host, num(a.HostMinWtPct), num(a.Opt.ZMin), a.Opt.MinRun, modelShort(a))
 	hs := []float64{}
 	for _, r := range a.Samples {
 		hs = append(hs, r.HeightM)
@@ -74,8 +75,8 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 	if len(low.Points) > 0 {
 		host.Series = append(host.Series, low)
 	}
-	if a.HostMin > 0 {
-		host.VLines = append(host.VLines, views.VLine{X: a.HostMin, Label: fmt.Sprintf("low-%s threshold %s wt%%", hostName, num(a.HostMin)), Color: views.ColorNotEval})
+	if a.HostMinWtPct > 0 {
+		host.VLines = append(host.VLines, views.VLine{X: a.HostMinWtPct, Label: fmt.Sprintf("low-%s threshold %s wt%%", hostName, num(a.HostMinWtPct)), Color: views.ColorNotEval})
 	}
 	if !a.Has[hostProxy(a.Host)] {
 		host.Empty = "no host phase measured"
@@ -83,7 +84,7 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 
 	// Ratio.
 	rp := views.Panel{Title: ratio, Unit: "ppb/wt%", GutterColor: views.ColorNotEval,
-		GutterLabel: fmt.Sprintf("%s not evaluable (%s < %s wt%%)", ratio, hostName, num(a.HostMin))}
+		GutterLabel: fmt.Sprintf("%s not evaluable (%s < %s wt%%)", ratio, hostName, num(a.HostMinWtPct))}
 	rv := views.Series{Label: ratio, Color: views.ColorRatio, Marker: "dot", Line: true}
 	for _, r := range a.Samples {
 		rv.Points = append(rv.Points, views.P(r.HeightM, r.Ratio.Value))
@@ -155,10 +156,10 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 		f.Legend = append(f.Legend, views.LegendItem{Label: "Hg predicted from " + hostName + " (background fit)", Color: views.ColorMuted, Marker: "dash"})
 	}
 	if len(excess.Points) > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: fmt.Sprintf("Hg above the fit by > %g σ̂ (residual)", float64(hostResidualK)), Color: views.ColorExcess, Marker: "ring"})
+		f.Legend = append(f.Legend, views.LegendItem{Label: fmt.Sprintf("Hg above the fit by > %g σ̂ (residual)", float64(analysis.HostResidualK)), Color: views.ColorExcess, Marker: "ring"})
 	}
 	if a.NLowHost > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: fmt.Sprintf("%s below %s wt%%: %s not evaluable", hostName, num(a.HostMin), ratio), Color: views.ColorNotEval, Marker: "cross"})
+		f.Legend = append(f.Legend, views.LegendItem{Label: fmt.Sprintf("%s below %s wt%%: %s not evaluable", hostName, num(a.HostMinWtPct), ratio), Color: views.ColorNotEval, Marker: "cross"})
 	}
 	var plain, caution bool
 	for _, an := range a.Anomalies {
