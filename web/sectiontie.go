@@ -56,7 +56,9 @@ func modelIncludeOptions(cur string) []views.Option {
 	return out
 }
 
-func modelIncludeLabel(include, nouns string) string { return analysis.ModelIncludeLabel(include, nouns) }
+func modelIncludeLabel(include, nouns string) string {
+	return analysis.ModelIncludeLabel(include, nouns)
+}
 
 func tieReviewCautions(where string, used, left []store.TiePoint, include string) []string {
 	return analysis.TieReviewCautions(where, used, left, include)
@@ -67,7 +69,6 @@ func hiatusReviewCautions(where string, used, left []store.Hiatus, include strin
 }
 
 func hiatusName(h store.Hiatus) string { return analysis.HiatusName(h) }
-
 
 // tieModelTable says, for every tie point, what enters the model: the age and ± at the level used.
 func (a *sectionAnalysis) tieModelTable() views.Table {
