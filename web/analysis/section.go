@@ -288,6 +288,41 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 	hiatuses []store.Hiatus, o SectionOptions) (*SectionAnalysis, error) {
 	a := &SectionAnalysis{Sec: sec, Opt: o, AllTies: ties, Events: events, AllHiatuses: hiatuses, Has: map[string]bool{}}
 	a.Hiatuses, a.HiatusesOut = PartitionReviewed(o.Include, hiatuses, HiatusState)
+	a.selectTies(ties, tieInputs)
+	a.sampleRows(samples)
+	hg, toc, ts, al := a.columns()
+	if err := a.chooseHost(hg, toc, ts, al); err != nil {
+		return nil, err
+	}
+	host := map[stats.Host][]float64{stats.HostTOC: toc, stats.HostTS: ts, stats.HostAl: al}[a.Host]
+	if err := a.hostRatios(samples, hg, host); err != nil {
+		return nil, err
+	}
+	n := len(samples)
+	heights := make([]float64, n)
+	for i, r := range a.Samples {
+		heights[i] = r.HeightM
+	}
+	bgMask, err := a.backgroundMask(heights)
+	if err != nil {
+		return nil, err
+	}
+	ratioVals := make([]float64, n)
+	for i, r := range a.Samples {
+		ratioVals[i] = r.Ratio.Value
+	}
+	a.detect(heights, ratioVals, hg, bgMask)
+	a.backgroundFit(hg, host, bgMask)
+	a.reportAnomalies()
+	a.segment(heights, ratioVals, hg)
+	a.fitModel()
+	return a, nil
+}
+
+// selectTies keeps the ties the review choice lets into the model, each with its input (tieInputs, or
+// as entered when nil), and the others in TiesLeftOut.
+func (a *SectionAnalysis) selectTies(ties []store.TiePoint, tieInputs []TieInput) {
+	o := a.Opt
 	for i, t := range ties {
 		if !Included(o.Include, string(t.ReviewState)) {
 			a.TiesLeftOut = append(a.TiesLeftOut, t)
@@ -303,6 +338,11 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		a.Ties = append(a.Ties, t)
 		a.TieInputs = append(a.TieInputs, in)
 	}
+}
+
+// sampleRows lays the samples out with their values, and notes the proxies measured and the carbon
+// isotopes shown (organic, else carbonate).
+func (a *SectionAnalysis) sampleRows(samples []store.Sample) {
 	n := len(samples)
 	a.Samples = make([]SampleRow, n)
 	for i, s := range samples {
@@ -331,6 +371,11 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 			a.Samples[i].D13C = valueOf(s, a.D13C)
 		}
 	}
+}
+
+// columns are the Hg values (NaN when none was measured) and the host phases' (nil when not measured).
+func (a *SectionAnalysis) columns() (hg, toc, ts, al []float64) {
+	n := len(a.Samples)
 	col := func(f func(r SampleRow) float64, proxy string) []float64 {
 		if !a.Has[proxy] {
 			return nil
@@ -341,21 +386,27 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		}
 		return out
 	}
-	hg := col(func(r SampleRow) float64 { return r.HgPpb }, "hg")
+	hg = col(func(r SampleRow) float64 { return r.HgPpb }, "hg")
 	if hg == nil {
 		hg = make([]float64, n)
 		for i := range hg {
 			hg[i] = math.NaN()
 		}
 	}
-	toc := col(func(r SampleRow) float64 { return r.Toc }, "toc")
-	ts := col(func(r SampleRow) float64 { return r.Ts }, "ts")
-	al := col(func(r SampleRow) float64 { return r.Al }, "al")
+	toc = col(func(r SampleRow) float64 { return r.Toc }, "toc")
+	ts = col(func(r SampleRow) float64 { return r.Ts }, "ts")
+	al = col(func(r SampleRow) float64 { return r.Al }, "al")
+	return hg, toc, ts, al
+}
 
+// chooseHost chooses the host phase: the suggested one (auto), else the one the options name, which
+// the section must have measured.
+func (a *SectionAnalysis) chooseHost(hg, toc, ts, al []float64) error {
+	o, sec := a.Opt, a.Sec
 	// The suggestion uses every sample with both values; the low-TOC threshold governs ratios only.
 	sug, err := stats.SuggestHost(hg, toc, ts, al)
 	if err != nil {
-		return nil, fmt.Errorf("section analysis: %w", err)
+		return fmt.Errorf("section analysis: %w", err)
 	}
 	a.Suggestion = sug
 	switch o.Host {
@@ -376,10 +427,16 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		a.HostChosen = "chosen in the address"
 		a.Host = map[string]stats.Host{"toc": stats.HostTOC, "ts": stats.HostTS, "al": stats.HostAl}[o.Host]
 		if !a.Has[HostProxy(a.Host)] {
-			return nil, &OptionError{Option: "Host", Problem: fmt.Sprintf("%s has no %s measurements; choose one it has, or auto", sec.Name, a.Host)}
+			return &OptionError{Option: "Host", Problem: fmt.Sprintf("%s has no %s measurements; choose one it has, or auto", sec.Name, a.Host)}
 		}
 	}
-	host := map[stats.Host][]float64{stats.HostTOC: toc, stats.HostTS: ts, stats.HostAl: al}[a.Host]
+	return nil
+}
+
+// hostRatios normalises Hg by the host (NaN ratios without one), the low-host rule marking the samples
+// below the threshold not evaluable.
+func (a *SectionAnalysis) hostRatios(samples []store.Sample, hg, host []float64) error {
+	o, n := a.Opt, len(samples)
 	if a.Host == stats.HostTOC {
 		a.HostMinWtPct = o.TocMinWtPct
 	}
@@ -394,7 +451,7 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		}
 		ratios, err := stats.HgHostRatios(hg, hgSig, host, hostSig, a.HostMinWtPct)
 		if err != nil {
-			return nil, fmt.Errorf("section analysis: %w", err)
+			return fmt.Errorf("section analysis: %w", err)
 		}
 		for i := range a.Samples {
 			// A host below the threshold makes the ratio not evaluable whatever Hg is (also below detection).
@@ -414,18 +471,12 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		}
 	}
 
-	heights := make([]float64, n)
-	for i, r := range a.Samples {
-		heights[i] = r.HeightM
-	}
-	bgMask, err := a.backgroundMask(heights)
-	if err != nil {
-		return nil, err
-	}
-	ratioVals := make([]float64, n)
-	for i, r := range a.Samples {
-		ratioVals[i] = r.Ratio.Value
-	}
+	return nil
+}
+
+// detect finds the anomalies of the ratio and of raw Hg against the background, with each sample's
+// robust z-score and whether a run holds it.
+func (a *SectionAnalysis) detect(heights, ratioVals, hg []float64, bgMask []bool) {
 	var ratioWork, rawWork []float64
 	a.RatioRes, ratioWork, a.RatioNote = a.findAnomalies(heights, ratioVals, bgMask)
 	a.RawRes, rawWork, a.RawNote = a.findAnomalies(heights, hg, bgMask)
@@ -457,6 +508,11 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		}
 	}
 
+}
+
+// backgroundFit regresses Hg on the host over the background samples.
+func (a *SectionAnalysis) backgroundFit(hg, host []float64, bgMask []bool) {
+	n := len(a.Samples)
 	// Background regression of Hg on the host, over samples outside every run (and inside the window
 	// when one was chosen), so the excursion cannot bend the line it is measured against.
 	if host != nil {
@@ -478,10 +534,6 @@ func AnalyseSection(sec store.Section, samples []store.Sample, ties []store.TieP
 		a.BackgroundNote = "No background regression: no host phase was measured."
 	}
 
-	a.reportAnomalies()
-	a.segment(heights, ratioVals, hg)
-	a.fitModel()
-	return a, nil
 }
 
 func zeroNaN(v float64) float64 {
@@ -742,13 +794,35 @@ func TieHasAge(t store.TiePoint) bool {
 
 // fitModel fits the age–height model over the tie range and pushes events and anomalies through it.
 func (a *SectionAnalysis) fitModel() {
+	m := a.modelInputs()
+	if m == nil {
+		return
+	}
+	if err := a.fit(m); err != nil {
+		a.ModelNote = "No age–height model: " + err.Error() + "."
+		return
+	}
+	a.Model = m
+	for i, r := range a.Samples {
+		if s, ok := m.ageAt(r.HeightM); ok {
+			a.Samples[i].Dated, a.Samples[i].Age = true, s
+		}
+	}
+	m.rates()
+	a.eventAges(m)
+}
+
+// modelInputs gathers the model's ties (those with an age), its tie range, the hiatuses within it and the
+// heights it is evaluated at (samples, ties and event ends within the range); nil, with ModelNote saying
+// why, when fewer than two ties have an age.
+func (a *SectionAnalysis) modelInputs() *AgeModel {
 	if len(a.Ties) < 2 {
 		a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and this section has %d.", len(a.Ties))
 		if len(a.TiesLeftOut) > 0 {
 			a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and include=%s lets in %d of this section's %d.",
 				a.Opt.Include, len(a.Ties), len(a.AllTies))
 		}
-		return
+		return nil
 	}
 	m := &AgeModel{Kind: a.Opt.Model}
 	for i, t := range a.Ties {
@@ -766,7 +840,7 @@ func (a *SectionAnalysis) fitModel() {
 	}
 	if len(m.Ties) < 2 {
 		a.ModelNote = "No age–height model: fewer than two tie points have an age."
-		return
+		return nil
 	}
 	m.LowM, m.TopM = m.Ties[0].HeightM, m.Ties[len(m.Ties)-1].HeightM
 	for _, t := range m.Ties {
@@ -777,10 +851,9 @@ func (a *SectionAnalysis) fitModel() {
 			m.Hiatuses = append(m.Hiatuses, stats.Hiatus{HeightM: h.HeightM, MinDurationMa: h.MinDurationMa})
 		}
 	}
-	in := func(z float64) bool { return z >= m.LowM && z <= m.TopM }
 	var hs []float64
 	for _, r := range a.Samples {
-		if in(r.HeightM) {
+		if m.in(r.HeightM) {
 			hs = append(hs, r.HeightM)
 		} else {
 			m.NUndated++
@@ -791,14 +864,22 @@ func (a *SectionAnalysis) fitModel() {
 	}
 	for _, e := range a.Events {
 		for _, z := range []*float64{e.BaseHeightM, e.TopHeightM} {
-			if z != nil && in(*z) {
+			if z != nil && m.in(*z) {
 				hs = append(hs, *z)
 			}
 		}
 	}
 	slices.Sort(hs)
 	m.HeightsM = slices.Compact(hs)
+	return m
+}
 
+// in reports whether a height lies within the model's tie range.
+func (m *AgeModel) in(z float64) bool { return z >= m.LowM && z <= m.TopM }
+
+// fit fits the naive linear or the Monte Carlo model, with the ties' shared components unless the
+// comparison applies them itself.
+func (a *SectionAnalysis) fit(m *AgeModel) error {
 	var err error
 	if m.Kind == "linear" {
 		m.Linear, err = stats.FitNaiveLinear(m.Ties, m.HeightsM)
@@ -814,29 +895,23 @@ func (a *SectionAnalysis) fitModel() {
 				m.Ages[j] = stats.DrawSummary{Median: m.Linear.AgeMa[j], Lo95: m.Linear.Lo95[j], Hi95: m.Linear.Hi95[j]}
 			}
 		}
-	} else {
-		m.MC, err = stats.FitAgeModel(m.Ties, m.Hiatuses, m.HeightsM, stats.AgeModelOptions{Draws: a.Opt.Draws, Seed: a.Opt.Seed})
-		if err == nil && !a.Opt.SharedApart {
-			comps := TieComponents(m.TieIns, a.Opt.TieLevel)
-			if err = m.MC.ApplyShared(comps, a.Opt.Seed); err == nil {
-				m.SharedNote = ComponentsNote(comps, len(m.Ties))
-			}
-		}
-		if err == nil {
-			m.Ages = m.MC.Ages
+		return err
+	}
+	m.MC, err = stats.FitAgeModel(m.Ties, m.Hiatuses, m.HeightsM, stats.AgeModelOptions{Draws: a.Opt.Draws, Seed: a.Opt.Seed})
+	if err == nil && !a.Opt.SharedApart {
+		comps := TieComponents(m.TieIns, a.Opt.TieLevel)
+		if err = m.MC.ApplyShared(comps, a.Opt.Seed); err == nil {
+			m.SharedNote = ComponentsNote(comps, len(m.Ties))
 		}
 	}
-	if err != nil {
-		a.ModelNote = "No age–height model: " + err.Error() + "."
-		return
+	if err == nil {
+		m.Ages = m.MC.Ages
 	}
-	a.Model = m
-	for i, r := range a.Samples {
-		if s, ok := m.ageAt(r.HeightM); ok {
-			a.Samples[i].Dated, a.Samples[i].Age = true, s
-		}
-	}
-	// Accumulation rates between successive ties (by height).
+	return err
+}
+
+// rates are the accumulation rates between successive ties (by height).
+func (m *AgeModel) rates() {
 	order := make([]int, len(m.Ties))
 	for i := range order {
 		order[i] = i
@@ -854,20 +929,23 @@ func (a *SectionAnalysis) fitModel() {
 		}
 		m.Rates = append(m.Rates, row)
 	}
-	// Events (entered and detected) pushed through the model.
+}
+
+// eventAges pushes the events (entered and detected) through the model, each Monte Carlo event with a
+// seed of its own, one after the options' seed.
+func (a *SectionAnalysis) eventAges(m *AgeModel) {
 	seed := a.Opt.Seed
+	nan := stats.DrawSummary{Median: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN()}
 	push := func(name, kind, origin string, base, top, peak float64) *EventAge {
-		if !in(base) || !in(top) {
-			return &EventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, PeakM: peak, Note: "outside the tie range: no model age",
-				Age: stats.DrawSummary{Median: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN()}}
+		if !m.in(base) || !m.in(top) {
+			return &EventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, PeakM: peak, Note: "outside the tie range: no model age", Age: nan}
 		}
 		seed++
 		e := &EventAge{Name: name, Kind: kind, Origin: origin, BaseM: base, TopM: top, PeakM: peak, Seed: seed}
 		if m.MC != nil {
 			ea, err := m.MC.EventAge(base, top, seed)
 			if err != nil {
-				e.Note = err.Error()
-				e.Age = stats.DrawSummary{Median: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN()}
+				e.Note, e.Age = err.Error(), nan
 			} else {
 				e.Age = ea.Summary
 			}
