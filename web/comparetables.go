@@ -71,45 +71,7 @@ func compareTable(r *http.Request, res *compareResult, rows []compareRow, sortKe
 		sets = len(res.Sens.Sets)
 	}
 	for _, row := range rows {
-		c := row.Cell
-		link := "#" + howID(row.code(), row.Event.Code)
-		evName := row.Event.Name
-		if p := row.Event.Point; p != "" && p != "height" {
-			evName += " · " + strings.SplitN(p, " ", 2)[0]
-		}
-		cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: evName, URL: row.Event.URL, Title: row.Event.Point}, {Text: row.Event.Section},
-			{Text: probText(c.AfterOnset, c.N), URL: link, Num: true}, {Text: probText(c.Within, c.N), URL: link, Num: true},
-			{Text: lagText(c.LagMa), URL: link, Num: true}, {Text: probText(c.Near, c.N), URL: link, Num: true},
-			{Text: fixed(c.OVL, 3), URL: link, Num: true}}
-		if row.isUnit() {
-			u := row.Unit
-			cells[0].Title = fmt.Sprintf("unit: %s weighted mean %s ± %s Ma (1σ analytical), n = %d", u.System, fixed(u.MeanMa, 3), fixed(u.Sigma1s, 3), u.N)
-			cells[4] = views.Cell{Text: "—", Num: true, Title: "does not apply: a unit's weighted mean is a point-like age, not an interval"}
-		}
-		if row.Vol != nil {
-			f := row.Vol.Fraction
-			cells = append(cells, views.Cell{Text: fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]", URL: link, Num: true})
-		} else {
-			cells = append(cells, views.Cell{Text: "—", Num: true, Title: res.VolumeNote})
-		}
-		st, caution, fails := sensText(row, sets)
-		sc := views.Cell{Text: st, Title: caution}
-		if fails || caution != "" {
-			sc.Class = "caution"
-		}
-		if volFlips(row) {
-			cells[8].Class, cells[8].Title = "caution", "most of the volume before the event: "+row.VolSens.Caution
-		}
-		if fails {
-			// The conclusion does not survive: mark the probabilities it concerns too.
-			for k, idx := range []int{3, 4} {
-				if s := row.Sens[k]; s != nil && s.Conclusion != 0 && !s.Survives && !(row.isUnit() && k == 1) {
-					cells[idx].Class, cells[idx].Title = "caution", s.Caution
-				}
-			}
-		}
-		cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
-		t.Rows = append(t.Rows, cells)
+		t.Rows = append(t.Rows, compareCells(res, row, sets))
 	}
 	t.Notes = append(t.Notes, fmt.Sprintf(seRuleText+" “< %s” reads as below 3/N (rule of three), not zero. Sensitivity: the range of P(after onset) · P(within) over the alternatives, and of the median volume fraction before the event (vol.); ⚠ marks a conclusion (P > 0.95 or P < 0.05; for the volume, P(more than half of it before the event)) that does not survive every alternative, and the numbers concerned are shaded — hover for which alternatives. “Rests on”: the model choices behind the row (hover for the bandwidth, the age model and its draws, the TOC threshold).", fixed(3/float64(ch.N), 4)))
 	if ch.unitRows() {
@@ -324,4 +286,47 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 		sel("point", "Events with an extent compared at", ch.Point, "base", "their base (onset)", "peak", "their peak", "top", "their top (end)"),
 		sel("sens", "Sensitivity", map[bool]string{true: "1", false: "0"}[ch.Sens], "1", "computed", "0", "off"),
 	}}
+}
+
+// compareCells are the cells of one row of the comparison table.
+func compareCells(res *compareResult, row compareRow, sets int) []views.Cell {
+	c := row.Cell
+	link := "#" + howID(row.code(), row.Event.Code)
+	evName := row.Event.Name
+	if p := row.Event.Point; p != "" && p != "height" {
+		evName += " · " + strings.SplitN(p, " ", 2)[0]
+	}
+	cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: evName, URL: row.Event.URL, Title: row.Event.Point}, {Text: row.Event.Section},
+		{Text: probText(c.AfterOnset, c.N), URL: link, Num: true}, {Text: probText(c.Within, c.N), URL: link, Num: true},
+		{Text: lagText(c.LagMa), URL: link, Num: true}, {Text: probText(c.Near, c.N), URL: link, Num: true},
+		{Text: fixed(c.OVL, 3), URL: link, Num: true}}
+	if row.isUnit() {
+		u := row.Unit
+		cells[0].Title = fmt.Sprintf("unit: %s weighted mean %s ± %s Ma (1σ analytical), n = %d", u.System, fixed(u.MeanMa, 3), fixed(u.Sigma1s, 3), u.N)
+		cells[4] = views.Cell{Text: "—", Num: true, Title: "does not apply: a unit's weighted mean is a point-like age, not an interval"}
+	}
+	if row.Vol != nil {
+		f := row.Vol.Fraction
+		cells = append(cells, views.Cell{Text: fixed(100*f.Median, 0) + " [" + fixed(100*f.Lo95, 0) + ", " + fixed(100*f.Hi95, 0) + "]", URL: link, Num: true})
+	} else {
+		cells = append(cells, views.Cell{Text: "—", Num: true, Title: res.VolumeNote})
+	}
+	st, caution, fails := sensText(row, sets)
+	sc := views.Cell{Text: st, Title: caution}
+	if fails || caution != "" {
+		sc.Class = "caution"
+	}
+	if volFlips(row) {
+		cells[8].Class, cells[8].Title = "caution", "most of the volume before the event: "+row.VolSens.Caution
+	}
+	if fails {
+		// The conclusion does not survive: mark the probabilities it concerns too.
+		for k, idx := range []int{3, 4} {
+			if s := row.Sens[k]; s != nil && s.Conclusion != 0 && !s.Survives && !(row.isUnit() && k == 1) {
+				cells[idx].Class, cells[idx].Title = "caution", s.Caution
+			}
+		}
+	}
+	cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
+	return cells
 }

@@ -16,12 +16,11 @@ import (
 
 // Bounds and defaults of the section analysis.
 const (
-	defaultSectionDraws   = analysis.DefaultSectionDraws
-	maxSectionDraws       = analysis.MaxSectionDraws
-	minSectionDraws       = analysis.MinSectionDraws
-	defaultAlignedDraws   = analysis.DefaultAlignedDraws
-	notEvaluableLabel     = analysis.NotEvaluableLabel
-	belowDetectionCSVNote = analysis.BelowDetectionCSVNote
+	defaultSectionDraws = analysis.DefaultSectionDraws
+	maxSectionDraws     = analysis.MaxSectionDraws
+	minSectionDraws     = analysis.MinSectionDraws
+	defaultAlignedDraws = analysis.DefaultAlignedDraws
+	notEvaluableLabel   = analysis.NotEvaluableLabel
 )
 
 // The section analysis' options and results, as the pages and downloads name them.
@@ -119,8 +118,7 @@ func (s *Server) loadSectionAnalysis(ctx context.Context, sec store.Section, o s
 	return &sectionAnalysis{a}, nil
 }
 
-func hostProxy(h stats.Host) string   { return analysis.HostProxy(h) }
-func ratioName(h stats.Host) string   { return analysis.RatioName(h) }
-func maturityClass(s string) string   { return analysis.MaturityClass(s) }
-func cmpF(x, y float64) int           { return analysis.CmpF(x, y) }
-func tieHasAge(t store.TiePoint) bool { return analysis.TieHasAge(t) }
+func hostProxy(h stats.Host) string { return analysis.HostProxy(h) }
+func ratioName(h stats.Host) string { return analysis.RatioName(h) }
+func maturityClass(s string) string { return analysis.MaturityClass(s) }
+func cmpF(x, y float64) int         { return analysis.CmpF(x, y) }

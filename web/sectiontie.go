@@ -30,14 +30,7 @@ func tieFromDate(d store.Date, level string, cal calChoice) tieInput {
 	return analysis.TieFromDate(d, level, cal.Stats)
 }
 
-func tieComponents(ins []tieInput, level string) []stats.SharedComponent {
-	return analysis.TieComponents(ins, level)
-}
-func componentsNote(comps []stats.SharedComponent, nTies int) string {
-	return analysis.ComponentsNote(comps, nTies)
-}
-func componentLabel(c stats.SharedComponent) string { return analysis.ComponentLabel(c) }
-func componentName(c stats.SharedComponent) string  { return analysis.ComponentName(c) }
+func componentName(c stats.SharedComponent) string { return analysis.ComponentName(c) }
 
 // tieIncludeLabel says which tie points include= lets into an age model.
 func tieIncludeLabel(include string) string { return modelIncludeLabel(include, "tie points") }
