@@ -242,8 +242,8 @@ type SectionAnalysis struct {
 
 	Suggestion   stats.HostSuggestion
 	Host         stats.Host
-	HostChosen   string // how the host was chosen: "suggested" or "chosen in the address"
-	HostMinWtPct float64
+	HostChosen   string  // how the host was chosen: "suggested" or "chosen in the address"
+	HostMinWtPct float64 // the low-host threshold in use: Opt.TocMinWtPct when the host is TOC, 0 (none) for TS and Al
 	NLowHost     int
 
 	RatioRes, RawRes   *stats.AnomalyResult // nil when the series has too few values
