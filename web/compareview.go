@@ -163,10 +163,10 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		sc, err := c.store.Comparison(ctx, id)
 		if err == nil {
 			if sc.DataStamp != res.Stamp {
-				v.Changed = fmt.Sprintf("Saved comparison “%s” was computed on data stamp %d (%s); the compilation has changed since (now %d): the numbers below are recomputed on the current data and may differ from those saved.",
-					sc.Name, sc.DataStamp, when(sc.CreatedAt), res.Stamp)
+				v.Changed = fmt.Sprintf("Saved comparison “%s” was computed on the data of %s; the compilation has changed since: the numbers below are recomputed on the current data and may differ from those saved.",
+					sc.Name, when(sc.CreatedAt))
 			} else {
-				v.Status = append(v.Status, views.KV{Label: "saved as", Value: fmt.Sprintf("“%s”, data unchanged since", sc.Name)})
+				v.Status = append(v.Status, views.KV{Label: "saved as", Value: fmt.Sprintf("“%s”, data unchanged since it was saved (%s)", sc.Name, when(sc.CreatedAt))})
 			}
 		}
 	}
@@ -201,7 +201,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	v.Notes = append(v.Notes, res.In.Notes...)
 	v.Notes = append(v.Notes, "Results are cached by the full set of choices in the address and the compilation's data stamp (the number of its latest change): any import, edit, review or undo gives a new stamp and so a fresh computation.")
 	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) {
-		v.Save = &views.SaveForm{Action: "/compare/saved", Query: saveQuery(r)}
+		v.Save = &views.SaveForm{Action: "/compare/saved", Query: saveQuery(r), Releases: c.releaseChoices(ctx)}
 	}
 	return v, nil
 }
@@ -241,7 +241,8 @@ func (c *comparer) handleSave(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
-	id, err := c.store.SaveComparison(actingCtx(r).Context(), store.Comparison{Name: r.PostForm.Get("name"), Query: vals.Encode(), DataStamp: stamp})
+	id, err := c.store.SaveComparison(actingCtx(r).Context(), store.Comparison{Name: r.PostForm.Get("name"), Query: vals.Encode(), DataStamp: stamp,
+		Release: r.PostForm.Get("release")})
 	if ve, ok := store.AsValidation(err); ok {
 		var probs []string
 		for _, pr := range ve.Problems {
@@ -267,6 +268,9 @@ func (c *comparer) handleSavedShow(w http.ResponseWriter, r *http.Request) error
 	if err != nil {
 		return err
 	}
+	if sc.Release != "" {
+		return c.handlePinnedShow(w, r, sc)
+	}
 	q, _ := url.ParseQuery(sc.Query)
 	q.Set("saved", strconv.FormatInt(sc.ID, 10))
 	http.Redirect(w, r, "/compare?"+q.Encode(), http.StatusSeeOther)
@@ -288,19 +292,28 @@ func (c *comparer) handleSavedList(w http.ResponseWriter, r *http.Request) error
 		return nil
 	}
 	v := views.SavedView{Page: c.page(ctx, "Saved comparisons", "Compare"),
-		Intro: "Comparisons saved with their settings. Each records the state of the compilation it was computed on; opening it recomputes on the current data and says when they have changed."}
+		Intro: "Comparisons saved with their settings. One of today's data is computed again on opening and says when the data have changed since it was saved; one pinned to a release keeps that release's numbers and says whether today's data would change them."}
 	v.Crumbs = []views.Link{{Label: "Compare", URL: "/compare"}}
 	v.Table = views.Table{ID: "saved", Columns: []views.Column{{Label: "Name"}, {Label: "Saved"}, {Label: "By"}, {Label: "Data"}, {Label: "Settings"}},
 		Empty: "No comparison saved yet: contributors can save one from the comparison page."}
 	for _, sc := range list {
-		state := "unchanged since"
-		cls := ""
-		if sc.DataStamp != stamp {
-			state, cls = fmt.Sprintf("changed since (stamp %d → %d)", sc.DataStamp, stamp), "caution"
-		}
+		state, cls := savedState(sc, stamp)
 		v.Table.Rows = append(v.Table.Rows, []views.Cell{{Text: sc.Name, URL: idURL("/compare/saved", sc.ID)}, {Text: when(sc.CreatedAt)},
 			{Text: orDash(sc.User)}, {Text: state, Class: cls}, {Text: orDash(sc.Query)}})
 	}
 	c.render(w, r, http.StatusOK, views.SavedPage(v))
 	return nil
+}
+
+// savedState is what the list says of a saved comparison's data: pinned to a release, or whether the
+// compilation changed since it was saved (stamp is today's).
+func savedState(sc store.Comparison, stamp int64) (string, string) {
+	switch {
+	case sc.Release != "":
+		return "pinned to release " + sc.Release, ""
+	case sc.DataStamp != stamp:
+		n := stamp - sc.DataStamp
+		return fmt.Sprintf("today's data, changed since it was saved (%d change%s to the compilation since)", n, map[bool]string{true: "", false: "s"}[n == 1]), "caution"
+	}
+	return "today's data, unchanged since it was saved", ""
 }
