@@ -45,7 +45,7 @@ type compareChoice struct {
 	Model       string   // model=mc|linear (age–height model)
 	ModelDraws  int      // draws= age-model draws
 	TocMinWtPct *float64 // toc_min= (default: each section's own threshold)
-	Sens        bool     // sens=1 (default) computes the sensitivity column
+	Sensitivity bool     // sens=1 (default) computes the sensitivity column
 	Order       []string // order=codes of the order matrix items
 	Sort, Dir   string   // display only
 	Format      string
@@ -126,7 +126,7 @@ func (s *Server) compareChoiceFrom(ctx context.Context, p *params) (compareChoic
 		f := paramFloatIn(p, "toc_min", 0, 0, 100, "a TOC threshold in wt% from 0 to 100")
 		ch.TocMinWtPct = &f
 	}
-	ch.Sens = p.oneOf("sens", []string{"0", "1"}, map[bool]string{true: "1", false: "0"}[def.Sensitivity]) == "1"
+	ch.Sensitivity = p.oneOf("sens", []string{"0", "1"}, map[bool]string{true: "1", false: "0"}[def.Sensitivity]) == "1"
 	ch.Order = listParam(p, "order")
 	ch.Sort = p.oneOf("sort", compareSorts, "pulse")
 	ch.Dir = p.oneOf("dir", []string{"asc", "desc"}, "asc")
@@ -205,7 +205,7 @@ func (ch compareChoice) options() analysis.CompareOptions {
 	o := analysis.CompareOptions{Density: ch.Dens.options(), ProvinceID: ch.ProvinceID, Pulses: ch.Pulses, Rows: ch.Rows,
 		UnitIDs: ch.UnitIDs, EventIDs: ch.EventIDs, SectionIDs: ch.SectionIDs, Groups: ch.Groups, Anomalies: ch.Anomalies,
 		Point: ch.Point, DeltaMa: ch.DeltaMa, Level: ch.Level, N: ch.N, Model: ch.Model, ModelDraws: ch.ModelDraws,
-		TocMinWtPct: ch.TocMinWtPct, Sensitivity: ch.Sens, Order: ch.Order}
+		TocMinWtPct: ch.TocMinWtPct, Sensitivity: ch.Sensitivity, Order: ch.Order}
 	if !ch.Dens.Sum.Cal.Override {
 		o.Density.Summary.Calibration = stats.Calibration{}
 	}

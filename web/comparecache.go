@@ -92,7 +92,7 @@ func (ch compareChoice) cacheKey(stamp int64) string {
 		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps, "bw_each": d.BWEach,
 		"province": ch.ProvinceID, "pulses": ch.Pulses, "rows": ch.Rows, "units": ch.UnitIDs, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,
 		"anomalies": ch.Anomalies, "point": ch.Point, "delta": ch.DeltaMa, "level": ch.Level.String(), "n": ch.N, "model": ch.Model,
-		"draws": ch.ModelDraws, "toc": ch.TocMinWtPct, "sens": ch.Sens, "order": ch.Order}
+		"draws": ch.ModelDraws, "toc": ch.TocMinWtPct, "sens": ch.Sensitivity, "order": ch.Order}
 	b, _ := json.Marshal(k) // maps marshal with sorted keys: one spelling per choice set
 	return string(b)
 }

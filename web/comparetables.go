@@ -284,7 +284,7 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 		sel("model", "Age model", ch.Model, "mc", "Monte Carlo", "linear", "naive linear"),
 		sel("anomalies", "Detected anomalies", map[bool]string{true: "1", false: "0"}[ch.Anomalies], "0", "not compared", "1", "compared"),
 		sel("point", "Events with an extent compared at", ch.Point, "base", "their base (onset)", "peak", "their peak", "top", "their top (end)"),
-		sel("sens", "Sensitivity", map[bool]string{true: "1", false: "0"}[ch.Sens], "1", "computed", "0", "off"),
+		sel("sens", "Sensitivity", map[bool]string{true: "1", false: "0"}[ch.Sensitivity], "1", "computed", "0", "off"),
 	}}
 }
 
