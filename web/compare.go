@@ -251,3 +251,15 @@ func sensVolumeName(event string) string { return analysis.SensVolumeName(event)
 
 // sensVolumeAbsent is the SensMissing entry of the volume fraction.
 const sensVolumeAbsent = analysis.SensVolumeAbsent
+
+// eventURL is the page an event of the comparison links to: its section's events, or the section's
+// anomalies for a detected anomaly; none for a direct age or a correlated group.
+func eventURL(e compareEvent) string {
+	switch {
+	case e.SectionID == 0:
+		return ""
+	case strings.HasPrefix(e.Code, "A"):
+		return idURL("/sections", e.SectionID) + "/anomalies"
+	}
+	return idURL("/sections", e.SectionID) + "#events"
+}

@@ -116,7 +116,7 @@ func eventsTable(res *compareResult) views.Table {
 				most.Class, most.Title = "caution", r.Caution
 			}
 		}
-		t.Rows = append(t.Rows, []views.Cell{{Text: ev.Code}, {Text: ev.Name, URL: ev.URL}, {Text: ev.Section},
+		t.Rows = append(t.Rows, []views.Cell{{Text: ev.Code}, {Text: ev.Name, URL: eventURL(ev)}, {Text: ev.Section},
 			{Text: fixed(ev.Summary.Median, 3), Num: true}, {Text: fixed(ev.Summary.Hi95, 3) + " – " + fixed(ev.Summary.Lo95, 3), Num: true},
 			vol, most, vs, {Text: ev.How}})
 	}
@@ -296,7 +296,7 @@ func compareCells(res *compareResult, row compareRow, sets int) []views.Cell {
 	if p := row.Event.Point; p != "" && p != "height" {
 		evName += " · " + strings.SplitN(p, " ", 2)[0]
 	}
-	cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: evName, URL: row.Event.URL, Title: row.Event.Point}, {Text: row.Event.Section},
+	cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: evName, URL: eventURL(row.Event), Title: row.Event.Point}, {Text: row.Event.Section},
 		{Text: probText(c.AfterOnset, c.N), URL: link, Num: true}, {Text: probText(c.Within, c.N), URL: link, Num: true},
 		{Text: lagText(c.LagMa), URL: link, Num: true}, {Text: probText(c.Near, c.N), URL: link, Num: true},
 		{Text: fixed(c.OVL, 3), URL: link, Num: true}}

@@ -189,7 +189,7 @@ func unitRowInputs(sums []UnitSummary, dc DensityOptions) ([]CompareUnitRow, []s
 			continue
 		}
 		q := unitQuantity(u.Name, sys, tracer, rel, dc)
-		r := CompareUnitRow{Code: "U" + strconv.FormatInt(u.ID, 10), ID: u.ID, Name: u.Name, URL: "/units/" + strconv.FormatInt(u.ID, 10),
+		r := CompareUnitRow{Code: "U" + strconv.FormatInt(u.ID, 10), ID: u.ID, Name: u.Name,
 			System: sys.Label, MeanMa: sys.All.MeanMa, Sigma1s: sys.All.Sigma1s, N: sys.All.N, Q: q}
 		r.How = unitMeanHow(us, sys, dc)
 		switch {
@@ -316,7 +316,7 @@ func eventInputs(ctx context.Context, d *CompareData, o CompareOptions, sc secti
 			if !wanted(ev.ID) && !slices.Contains(o.Groups, ev.Kind) {
 				continue
 			}
-			se.add("E"+strconv.FormatInt(ev.ID, 10), ev.Name, ev.Kind, ea, sectionURL(sec.ID)+"#events", nil, !wanted(ev.ID))
+			se.add("E"+strconv.FormatInt(ev.ID, 10), ev.Name, ev.Kind, ea, nil, !wanted(ev.ID))
 		}
 		if o.Anomalies {
 			for _, an := range a.Anomalies {
@@ -325,7 +325,7 @@ func eventInputs(ctx context.Context, d *CompareData, o CompareOptions, sc secti
 				}
 				code := fmt.Sprintf("A%d.%d", sec.ID, an.Number)
 				se.add(code, fmt.Sprintf("Anomaly %d (%s)", an.Number, an.Series), "hg_anomaly", *an.Age,
-					sectionURL(sec.ID)+"/anomalies", []string{fmt.Sprintf("Hg/TOC threshold %s wt%%", num(so.TocMinWtPct))}, false)
+					[]string{fmt.Sprintf("Hg/TOC threshold %s wt%%", num(so.TocMinWtPct))}, false)
 			}
 		}
 		out, notes = append(out, se.out...), append(notes, se.notes...)
@@ -344,19 +344,16 @@ func eventInputs(ctx context.Context, d *CompareData, o CompareOptions, sc secti
 	return out, notes, nil
 }
 
-// sectionURL is the address of a section's page, which the accounts of its events link to.
-func sectionURL(id int64) string { return "/sections/" + strconv.FormatInt(id, 10) }
-
 // add adds an event of the section at the chosen point, with its age from the section's age model and
 // the shared components of its ties; an event the model gives no age is noted instead.
-func (se *sectionEvents) add(code, name, kind string, ea EventAge, url string, extra []string, groupOnly bool) {
+func (se *sectionEvents) add(code, name, kind string, ea EventAge, extra []string, groupOnly bool) {
 	sec, a := se.sec, se.a
 	note := func(why string) { se.notes = append(se.notes, fmt.Sprintf("%s (%s): %s", name, sec.Name, why)) }
 	if math.IsNaN(ea.Age.Median) {
 		note(orDash(ea.Note))
 		return
 	}
-	ce := CompareEvent{Code: code, Name: name, Section: sec.Name, SectionID: sec.ID, Kind: kind, URL: url,
+	ce := CompareEvent{Code: code, Name: name, Section: sec.Name, SectionID: sec.ID, Kind: kind,
 		Depends: append(slices.Clone(se.dep), extra...), Summary: ea.Age, groupOnly: groupOnly}
 	h, where := eventPoint(ea, se.point)
 	ce.Point = where

@@ -20,9 +20,8 @@ type CompareEvent struct {
 	Q         stats.Quantity
 	Summary   stats.DrawSummary
 	Draws     []float64 // the draws of its age (random part) for the figure
-	URL       string
-	Point     string // which point of the event is compared, in words ("base (onset)", "peak", "top", "height")
-	groupOnly bool   // chosen only as a member of a group
+	Point     string    // which point of the event is compared, in words ("base (onset)", "peak", "top", "height")
+	groupOnly bool      // chosen only as a member of a group
 }
 
 // PointWords says where an event is read, for its account: "its base (onset)", or "the event" at one height.
@@ -74,7 +73,6 @@ type CompareUnitRow struct {
 	Code    string // U12
 	ID      int64
 	Name    string
-	URL     string
 	System  string  // the decay system of the mean, e.g. U–Pb
 	MeanMa  float64 // weighted mean of the dates include= lets in (all of them: flagged dates are flagged, not dropped)
 	Sigma1s float64 // its analytical 1σ, as the policy leaves it
