@@ -11,6 +11,7 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // The section page with its analysis, and the downloads of that analysis: the figure as SVG, and the
@@ -23,18 +24,17 @@ func (s *Server) sectionAnalysisFor(r *http.Request) (*sectionAnalysis, string, 
 	if err != nil {
 		return nil, "", err
 	}
-	sec, err := s.store.Section(r.Context(), id)
-	if err != nil {
-		return nil, "", err
-	}
 	p := newParams(r)
 	format := p.format()
-	o := sectionOptionsFrom(p, sec)
-	if err := p.err(); err != nil {
-		return nil, "", err
+	// The section, its options' defaults and its data are read as one snapshot.
+	a, err := analysis.LoadSectionAnalysisByID(r.Context(), s.store, id, func(sec store.Section) (sectionOptions, error) {
+		o := sectionOptionsFrom(p, sec)
+		return o, p.err()
+	})
+	if err != nil {
+		return nil, "", optionBadRequest(err, sectionParams)
 	}
-	a, err := s.loadSectionAnalysis(r.Context(), sec, o)
-	return a, format, err
+	return &sectionAnalysis{a}, format, nil
 }
 
 // withPath returns path with the request's query, and the given parameters set ("" deletes one).

@@ -65,55 +65,111 @@ func LoadSectionAnalysis(ctx context.Context, src SnapshotReader, sec store.Sect
 	}
 	var a *SectionAnalysis
 	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
-		samples, _, err := s.Samples(ctx, sec.ID)
+		var err error
+		a, err = analyseInSnapshot(ctx, s, sec, o)
+		return err
+	})
+	return a, err
+}
+
+// LoadSectionAnalysisByID reads section id and everything its analysis needs as one snapshot, and
+// analyses it with the options options gives for it (its error, such as an address's problems, is
+// returned as is, before anything is analysed).
+func LoadSectionAnalysisByID(ctx context.Context, src SnapshotReader, id int64, options func(store.Section) (SectionOptions, error)) (*SectionAnalysis, error) {
+	var a *SectionAnalysis
+	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
+		sec, err := s.Section(ctx, id)
 		if err != nil {
 			return err
 		}
-		ties, err := s.TiePoints(ctx, sec.ID)
+		o, err := options(sec)
 		if err != nil {
 			return err
 		}
-		events, err := s.Events(ctx, sec.ID)
+		if err := o.Check(); err != nil {
+			return err
+		}
+		a, err = analyseInSnapshot(ctx, s, sec, o)
+		return err
+	})
+	return a, err
+}
+
+// LoadSectionAnalyses analyses every section, each with the options options gives for it, from one
+// snapshot: the sections shown together belong to one state of the compilation.
+func LoadSectionAnalyses(ctx context.Context, src SnapshotReader, options func(store.Section) SectionOptions) ([]*SectionAnalysis, error) {
+	var out []*SectionAnalysis
+	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
+		secs, err := s.Sections(ctx)
 		if err != nil {
 			return err
 		}
-		hiatuses, err := s.Hiatuses(ctx, sec.ID)
-		if err != nil {
-			return err
-		}
-		all, err := s.Sections(ctx)
-		if err != nil {
-			return err
-		}
-		cals, err := s.Calibrations(ctx)
-		if err != nil {
-			return err
-		}
-		dates := map[int64]store.Date{}
-		if err := linkedDates(ctx, s, ties, dates); err != nil {
-			return err
-		}
-		target, err := tieTarget(cals, dates)
-		if err != nil {
-			return err
-		}
-		inputs, err := TieInputs(ties, dates, o.TieLevel, target)
-		if err != nil {
-			return err
-		}
-		if a, err = AnalyseSection(sec, samples, ties, inputs, events, hiatuses, o); err != nil {
-			return err
-		}
-		if a.Decisions, err = s.AnomalyDecisions(ctx, sec.ID); err != nil {
-			return err
-		}
-		for _, other := range all {
-			if other.ID != sec.ID && other.ThermalMaturity != "" && MaturityClass(other.ThermalMaturity) != MaturityClass(sec.ThermalMaturity) &&
-				!slices.Contains(a.OtherMatur, other.Name+": "+other.ThermalMaturity) {
-				a.OtherMatur = append(a.OtherMatur, other.Name+": "+other.ThermalMaturity)
+		for _, sec := range secs {
+			o := options(sec)
+			if err := o.Check(); err != nil {
+				return err
 			}
+			a, err := analyseInSnapshot(ctx, s, sec, o)
+			if err != nil {
+				return err
+			}
+			out = append(out, a)
 		}
 		return nil
 	})
-	return a, err
+	return out, err
+}
+
+// analyseInSnapshot reads what a section's analysis needs from the snapshot and analyses it.
+func analyseInSnapshot(ctx context.Context, s *store.Snapshot, sec store.Section, o SectionOptions) (*SectionAnalysis, error) {
+	samples, _, err := s.Samples(ctx, sec.ID)
+	if err != nil {
+		return nil, err
+	}
+	ties, err := s.TiePoints(ctx, sec.ID)
+	if err != nil {
+		return nil, err
+	}
+	events, err := s.Events(ctx, sec.ID)
+	if err != nil {
+		return nil, err
+	}
+	hiatuses, err := s.Hiatuses(ctx, sec.ID)
+	if err != nil {
+		return nil, err
+	}
+	all, err := s.Sections(ctx)
+	if err != nil {
+		return nil, err
+	}
+	cals, err := s.Calibrations(ctx)
+	if err != nil {
+		return nil, err
+	}
+	dates := map[int64]store.Date{}
+	if err := linkedDates(ctx, s, ties, dates); err != nil {
+		return nil, err
+	}
+	target, err := tieTarget(cals, dates)
+	if err != nil {
+		return nil, err
+	}
+	inputs, err := TieInputs(ties, dates, o.TieLevel, target)
+	if err != nil {
+		return nil, err
+	}
+	a, err := AnalyseSection(sec, samples, ties, inputs, events, hiatuses, o)
+	if err != nil {
+		return nil, err
+	}
+	if a.Decisions, err = s.AnomalyDecisions(ctx, sec.ID); err != nil {
+		return nil, err
+	}
+	for _, other := range all {
+		if other.ID != sec.ID && other.ThermalMaturity != "" && MaturityClass(other.ThermalMaturity) != MaturityClass(sec.ThermalMaturity) &&
+			!slices.Contains(a.OtherMatur, other.Name+": "+other.ThermalMaturity) {
+			a.OtherMatur = append(a.OtherMatur, other.Name+": "+other.ThermalMaturity)
+		}
+	}
+	return a, nil
 }
