@@ -256,3 +256,33 @@ func TestCompareOptionErrorsNameTheOption(t *testing.T) {
 		t.Errorf("an order item is checked against the comparison, not the data: %v", err)
 	}
 }
+
+// The sensitivity sets of the demo with the defaults: every stored calibration but the target (the
+// province has ⁴⁰Ar/³⁹Ar dates), every bandwidth rule but ISJ, the other age model (an event has a
+// model age); no TOC thresholds without anomalies.
+func TestSensitivitySetsOfTheDemo(t *testing.T) {
+	db := demoDB(t)
+	ctx := context.Background()
+	o := DefaultCompareOptions()
+	d, err := LoadCompareData(ctx, db, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	target, _ := TargetCalibration(d.Cals)
+	var want []string
+	for _, c := range d.Cals {
+		if c.Code != target.Code {
+			want = append(want, "calibration "+c.Code)
+		}
+	}
+	want = append(want, "bandwidth scott", "bandwidth silverman", "bandwidth silverman-robust", "age model linear")
+	got := SensitivitySets(d, o, CompareInputs{Events: []CompareEvent{{Code: "E1", SectionID: 1}}})
+	if !slices.Equal(got, want) {
+		t.Errorf("sets %v, want %v", got, want)
+	}
+	o.Anomalies = true
+	got = SensitivitySets(d, o, CompareInputs{})
+	if n := len(got); n < 3 || !slices.Equal(got[n-3:], []string{"TOC threshold 0.2 wt%", "TOC threshold 0.5 wt%", "TOC threshold 1 wt%"}) || slices.Contains(got, "age model linear") {
+		t.Errorf("with anomalies and no section event: %v", got)
+	}
+}
