@@ -214,7 +214,7 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 		}
 	}
 	if len(seen) > 1 {
-		v.Cautions = append(v.Cautions, "These sections differ in thermal maturity ("+strings.Join(matur, "; ")+"). Maturation inflates Hg/TOC: compare ratios across them with care, and check raw Hg (series=hg).")
+		v.Cautions = append(v.Cautions, "These sections differ in thermal maturity ("+strings.Join(matur, "; ")+"). Maturation inflates Hg/TOC: compare ratios across them with care, and check raw Hg (shown with the series choice set to Hg).")
 	}
 	v.FigureSVG = views.AlignedSVG(alignedFigure(as, o))
 	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, "/sections/aligned/figure.svg", "format", "")},

@@ -14,9 +14,6 @@ import (
 	"coeval/views"
 )
 
-// The downloads of a section page: its settings, ratios, anomalies, segments and age model as CSV and
-// JSON, and the table pages of its ratios, anomalies and age model.
-
 func (a *sectionAnalysis) settingsJSON() map[string]any {
 	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMinWtPct,
 		"host_min_wt_pct": a.HostMinWtPct, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
@@ -218,7 +215,7 @@ func (a *sectionAnalysis) writeJSONTable(w http.ResponseWriter, kind string, col
 
 // tablePage serves one table of the analysis as CSV, JSON or a page.
 func (s *Server) tablePage(w http.ResponseWriter, r *http.Request, kind, title string, cols func(a *sectionAnalysis) []string,
-	recs func(a *sectionAnalysis) [][]string, table func(a *sectionAnalysis) views.Table, intro func(a *sectionAnalysis) string) error {
+	recs func(a *sectionAnalysis) [][]string, table func(a *sectionAnalysis) views.Table, intro func(a *sectionAnalysis) (string, []string)) error {
 	a, format, err := s.sectionAnalysisFor(r)
 	if err != nil {
 		return err
@@ -229,7 +226,8 @@ func (s *Server) tablePage(w http.ResponseWriter, r *http.Request, kind, title s
 	case "json":
 		return a.writeJSONTable(w, kind, cols(a), recs(a))
 	}
-	l := views.List{Page: s.page(r.Context(), title+" · "+a.Sec.Name, "Sections"), Table: table(a), Intro: intro(a)}
+	l := views.List{Page: s.page(r.Context(), title+" · "+a.Sec.Name, "Sections"), Table: table(a)}
+	l.Intro, l.How = intro(a)
 	l.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}, {Label: a.Sec.Name, URL: withPath(r, idURL("/sections", a.Sec.ID))}}
 	l.Page.Downloads = toLinks(downloads(r))
 	s.render(w, r, http.StatusOK, views.ListPage(l))
@@ -238,9 +236,9 @@ func (s *Server) tablePage(w http.ResponseWriter, r *http.Request, kind, title s
 
 func (s *Server) handleSectionRatios(w http.ResponseWriter, r *http.Request) error {
 	return s.tablePage(w, r, "ratios", "Samples with ratios and flags", (*sectionAnalysis).ratioColumns, (*sectionAnalysis).ratioRecords,
-		(*sectionAnalysis).sampleTable, func(a *sectionAnalysis) string {
+		(*sectionAnalysis).sampleTable, func(a *sectionAnalysis) (string, []string) {
 			return fmt.Sprintf("Every sample, none dropped: Hg/%s (%s), its status under the low-host rule (%s wt%%), robust z and flags, and the host-regression residual.",
-				a.Host, a.HostChosen, num(a.HostMinWtPct))
+				a.Host, a.HostChosen, num(a.HostMinWtPct)), nil
 		})
 }
 
@@ -251,7 +249,10 @@ func (s *Server) handleSectionAnomalies(w http.ResponseWriter, r *http.Request) 
 			a.decisionColumn(&b, a.Decisions)
 			return b.Tables[0]
 		},
-		func(a *sectionAnalysis) string { return strings.Join(a.anomalyBlock(r, "").Paras, " ") })
+		func(a *sectionAnalysis) (string, []string) {
+			b := a.anomalyBlock(r, "")
+			return strings.Join(b.Paras, " "), b.How
+		})
 }
 
 func (s *Server) handleSectionAgeModel(w http.ResponseWriter, r *http.Request) error {
@@ -269,10 +270,10 @@ func (s *Server) handleSectionAgeModel(w http.ResponseWriter, r *http.Request) e
 			}
 			return t
 		},
-		func(a *sectionAnalysis) string {
+		func(a *sectionAnalysis) (string, []string) {
 			if a.Model == nil {
-				return a.ModelNote
+				return a.ModelNote, nil
 			}
-			return strings.Join(a.modelParas(), " ")
+			return fmt.Sprintf("Model ages of the %d samples between %s and %s m (median and 95 %% interval of the draws).", len(a.Samples), num(a.Model.LowM), num(a.Model.TopM)), a.modelParas()
 		})
 }

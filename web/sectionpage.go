@@ -140,13 +140,13 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 	tt := tieTable(a.AllTies, a.Opt.Level, false)
 	tt.Caption = "Tie points"
 	if len(a.TiesLeftOut) > 0 {
-		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s whose review state include=%s does not let in (%s).",
-			count(len(a.TiesLeftOut), "tie point"), a.Opt.Include, tieIncludeLabel(a.Opt.Include)))
+		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s: it uses %s.",
+			count(len(a.TiesLeftOut), "tie point"), tieIncludeLabel(a.Opt.Include)))
 	}
 	ht := hiatusTable(a.AllHiatuses)
 	if len(a.HiatusesOut) > 0 {
-		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s whose review state include=%s does not let in (%s).",
-			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], a.Opt.Include, modelIncludeLabel(a.Opt.Include, "hiatuses")))
+		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s: it honours %s.",
+			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], modelIncludeLabel(a.Opt.Include, "hiatuses")))
 	}
 	et := eventTable(a.Events, false)
 	et.Caption = "Events (entered, imported, or made from detected anomalies)"
@@ -317,11 +317,10 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 		return fmt.Sprintf("%s: background median %s%s over %d samples, σ̂ = %s log10 units (1.4826·MAD); flagged above %s%s.",
 			name, fmtF(bm, 2), unit, res.NBackground, fmtF(res.SigmaHat, 3), fmtF(math.Pow(10, res.Threshold), 2), unit)
 	}
-	b.Paras = []string{
+	b.Paras = []string{desc(ratioName(a.Host), a.RatioRes, a.RatioNote), desc("Hg", a.RawRes, a.RawNote)}
+	b.How = []string{
 		fmt.Sprintf("On log10 values with a robust baseline (%s): modified z = 0.6745·(x − median)/MAD above %s in at least %d consecutive samples. Run on %s and on raw Hg; a raw-Hg run that the ratio misses is reported too.",
 			a.baselineSentence(), num(a.Opt.ZMin), a.Opt.MinRun, ratioName(a.Host)),
-		desc(ratioName(a.Host), a.RatioRes, a.RatioNote),
-		desc("Hg", a.RawRes, a.RawNote),
 		"Origin: detected. A curator can make an anomaly an event of the section (kind Hg anomaly, its base and top, with a note of the settings that found it) or reject it with a reason; a decision holds for the anomaly as found with these settings (series, interval, host, threshold, baseline, z and run length).",
 	}
 	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
@@ -357,9 +356,9 @@ func (a *sectionAnalysis) segmentBlock() views.Block {
 	b := views.Block{ID: "changepoints", Title: "Change points"}
 	pen := "the default 2·ln n"
 	if a.Opt.Penalty > 0 {
-		pen = "set in the address"
+		pen = "as chosen"
 	}
-	b.Paras = []string{fmt.Sprintf("Segments of constant mean of log10 values by penalised change-point segmentation (PELT, exact as optimal partitioning), samples with a value only, cost scaled by a robust noise σ. Penalty per segment: %s (%s); raise penalty= for fewer segments.",
+	b.How = []string{fmt.Sprintf("Segments of constant mean of log10 values by penalised change-point segmentation (PELT, exact as optimal partitioning), samples with a value only, cost scaled by a robust noise σ. Penalty per segment: %s (%s); a larger penalty among the analysis choices gives fewer segments.",
 		fmtF(a.SegmentPenalty, 2), pen)}
 	if a.SegmentNote != "" {
 		b.Paras = append(b.Paras, a.SegmentNote)
@@ -386,7 +385,7 @@ func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
 		b.Paras = []string{a.ModelNote}
 		return b
 	}
-	b.Paras = a.modelParas()
+	b.How = a.modelParas()
 	rt := views.Table{ID: "rates", Caption: "Accumulation rate between tie points", Columns: []views.Column{{Label: "From"}, {Label: "To"},
 		{Label: "Heights", Unit: "m", Num: true}, {Label: "Rate", Unit: "m/Ma, median (95 %)", Num: true}}}
 	for _, rr := range m.Rates {

@@ -84,7 +84,7 @@ func (a *sectionAnalysis) tieModelTable() views.Table {
 		t.Rows = append(t.Rows, []views.Cell{{Text: tp.Label}, {Text: num(tp.HeightM), Num: true}, {Text: age, Num: true},
 			{Text: level}, from, {Text: orDash(in.Note)}})
 	}
-	note := fmt.Sprintf("Ties from a date use that date's age and σ at tie_level=%s: %s.", a.Opt.TieLevel, tieLevelLabel(a.Opt.TieLevel))
+	note := fmt.Sprintf("Ties from a date use that date's age and σ at the %s level.", tieLevelLabel(a.Opt.TieLevel))
 	if a.Opt.TieLevel == defaultTieLevel {
 		note += " This is the default: the model gives absolute ages, which are compared with dates of other systems, laboratories and tracers, where only the full external σ is fair. Choose analytical or tracer only to compare with dates from the same laboratory or tracer."
 	}
@@ -107,7 +107,7 @@ func (a *sectionAnalysis) tieLevelSentence() string {
 	if a.Opt.TieLevel == defaultTieLevel {
 		def = " (the default, as absolute ages need)"
 	}
-	s := fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s (tie_level=%s): each enters with its random part (X).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def, a.Opt.TieLevel)
+	s := fmt.Sprintf("%d tie point%s from dates of the compilation, at the %s level%s: each enters with its random part (X).", n, plural(n), strings.SplitN(tieLevelLabel(a.Opt.TieLevel), " (", 2)[0], def)
 	if a.Model != nil && a.Model.SharedNote != "" {
 		s += " " + a.Model.SharedNote + " A shared term moves those ties together, so it widens each age but not the time between them."
 	}
@@ -116,7 +116,7 @@ func (a *sectionAnalysis) tieLevelSentence() string {
 
 // tieReviewSentence is the model statement's account of which tie points it uses by review state.
 func (a *sectionAnalysis) tieReviewSentence() string {
-	s := fmt.Sprintf("Tie points in use: %s (include=%s)", tieIncludeLabel(a.Opt.Include), a.Opt.Include)
+	s := fmt.Sprintf("Tie points in use: %s", tieIncludeLabel(a.Opt.Include))
 	if len(a.TiesLeftOut) == 0 {
 		return s + "."
 	}
@@ -133,7 +133,7 @@ func (a *sectionAnalysis) hiatusReviewSentence() string {
 	if len(a.AllHiatuses) == 0 {
 		return ""
 	}
-	s := fmt.Sprintf("Hiatuses honoured: %s (include=%s)", modelIncludeLabel(a.Opt.Include, "hiatuses"), a.Opt.Include)
+	s := fmt.Sprintf("Hiatuses honoured: %s", modelIncludeLabel(a.Opt.Include, "hiatuses"))
 	if len(a.HiatusesOut) == 0 {
 		return s + "."
 	}

@@ -65,6 +65,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(s.requireLoginSetting)
 	r.Use(s.asOfRelease)
 	r.Use(rememberPath)
+	r.Use(takeFlash)
 
 	r.Get("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)).ServeHTTP)
 	r.Get("/", s.handle(s.handleHome))
@@ -156,6 +157,10 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		switch {
 		case errors.As(err, &br):
 			view.Status, view.Page.Title, view.Message, view.Details = http.StatusBadRequest, "Cannot show this page", br.message, br.problems
+			if in := settingsForm(r, br.problems); len(in) > 0 {
+				view.Message = "This page cannot be shown with these settings. They are kept below: change the ones marked and show it again."
+				view.Settings, view.SettingsAction = in, r.URL.Path
+			}
 		case errors.As(err, &ce):
 			view.Status, view.Page.Title, view.Message = http.StatusConflict, "Changed meanwhile", ce.message
 		case errors.As(err, &fb):
@@ -223,7 +228,7 @@ const readOnlyBanner = "The database is on storage that cannot be written, so th
 
 // page builds the common part of a page's view model.
 func (s *Server) page(ctx context.Context, title, nav string) views.Page {
-	p := views.Page{Title: title, Nav: nav}
+	p := views.Page{Title: title, Nav: nav, Done: flashOf(ctx)}
 	if u, ok := currentUser(ctx); ok {
 		p.User, p.Role = u.Name, u.Role
 		if store.RoleAtLeast(u.Role, store.RoleContributor) {

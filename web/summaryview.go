@@ -50,12 +50,12 @@ func summaryForm(action string, ch summaryChoice) *views.Form {
 
 // summaryIntro says in one paragraph what the summaries on a page are made of.
 func summaryIntro(ch summaryChoice) string {
-	return fmt.Sprintf("Weighted means per unit and decay system of %s (include=%s). ⁴⁰Ar/³⁹Ar dates enter recalculated to %s; "+
-		"± at the %s level, %dσ (level=%s, sigma=%d); systematic terms added after averaging. Overdispersion: %s (policy=%s). "+
-		"Outlier flags: %s (rule=%s) — flagged dates stay in the mean and the mean without them is shown beside it. "+
+	return fmt.Sprintf("Weighted means per unit and decay system of %s. ⁴⁰Ar/³⁹Ar dates enter recalculated to %s; "+
+		"± at the %s level, %dσ; systematic terms added after averaging. Overdispersion: %s. "+
+		"Outlier flags: %s — flagged dates stay in the mean and the mean without them is shown beside it. "+
 		"MSWD judged against %s.",
-		includeLabel(ch.Include), ch.Include, ch.Cal.label(), levelNames[ch.Level], ch.Sigma, ch.Level, ch.Sigma,
-		policyLabel(ch.PolicyCode), ch.PolicyCode, ruleLabel(ch.Rule), ch.Rule, mswdRangeText(ch.Range))
+		includeLabel(ch.Include), ch.Cal.label(), levelNames[ch.Level], ch.Sigma,
+		policyLabel(ch.PolicyCode), ruleLabel(ch.Rule), mswdRangeText(ch.Range))
 }
 
 // mswdRangeText says in a sentence how the acceptable MSWD range is made.

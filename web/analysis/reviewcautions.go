@@ -30,13 +30,13 @@ type reviewScope struct {
 
 // modelScope is the age–height model's: its ages change once the records left out are accepted.
 var modelScope = reviewScope{subject: "age–height model", verb: "uses", then: func(include, nouns string, n int) string {
-	return fmt.Sprintf("include=%s uses %s. The model ages change when %s accepted; include=pending shows the model with %s now.",
-		include, ModelIncludeLabel(include, nouns), itThey(n), itThem(n))
+	return fmt.Sprintf("the model uses %s. Its ages change when %s accepted; choosing to include pending records shows the model with %s now.",
+		ModelIncludeLabel(include, nouns), itThey(n), itThem(n))
 }}
 
 // compareScope is the comparison's.
 var compareScope = reviewScope{subject: "comparison", verb: "includes", then: func(include, _ string, n int) string {
-	return fmt.Sprintf("include=%s; include=pending compares %s now.", include, itThem(n))
+	return fmt.Sprintf("it takes %s; choosing to include pending records compares %s now.", IncludeLabel(include), itThem(n))
 }}
 
 // reviewCautions say what a reader of a computation (scope) must know about the review of its records of
@@ -70,12 +70,12 @@ func reviewCautions(scope reviewScope, where, noun, nouns string, used, left []r
 			prefix, scope.subject, counted(len(p), ""), strings.Join(p, ", "), scope.then(include, nouns, len(p))))
 	}
 	if p := names(used, "pending"); len(p) > 0 {
-		out = append(out, fmt.Sprintf("%sThe %s %s %s that no curator has reviewed yet (include=%s): %s.",
-			prefix, scope.subject, scope.verb, counted(len(p), "pending "), include, strings.Join(p, ", ")))
+		out = append(out, fmt.Sprintf("%sThe %s %s %s that no curator has reviewed yet (as chosen: %s): %s.",
+			prefix, scope.subject, scope.verb, counted(len(p), "pending "), ModelIncludeLabel(include, nouns), strings.Join(p, ", ")))
 	}
 	if rj := names(used, "rejected"); len(rj) > 0 {
-		out = append(out, fmt.Sprintf("%sThe %s %s %s (include=%s): %s.",
-			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), include, strings.Join(rj, ", ")))
+		out = append(out, fmt.Sprintf("%sThe %s %s %s (as chosen: %s): %s.",
+			prefix, scope.subject, scope.verb, counted(len(rj), "rejected "), ModelIncludeLabel(include, nouns), strings.Join(rj, ", ")))
 	}
 	return out
 }

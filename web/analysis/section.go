@@ -819,8 +819,8 @@ func (a *SectionAnalysis) modelInputs() *AgeModel {
 	if len(a.Ties) < 2 {
 		a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and this section has %d.", len(a.Ties))
 		if len(a.TiesLeftOut) > 0 {
-			a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and include=%s lets in %d of this section's %d.",
-				a.Opt.Include, len(a.Ties), len(a.AllTies))
+			a.ModelNote = fmt.Sprintf("No age–height model: it needs at least two tie points, and the review choice (%s) lets in %d of this section's %d.",
+				ModelIncludeLabel(a.Opt.Include, "tie points"), len(a.Ties), len(a.AllTies))
 		}
 		return nil
 	}
