@@ -70,7 +70,7 @@ func addRevision(ctx context.Context, tx *sql.Tx, batch int64, recordType string
 
 // LatestBatches returns the most recent change batches, newest first.
 func (d *DB) LatestBatches(ctx context.Context, limit int) ([]Batch, error) {
-	rows, err := d.db.QueryContext(ctx, `SELECT id, kind, source, at, summary FROM change_batches ORDER BY id DESC LIMIT ?`, limit)
+	rows, err := d.reader().QueryContext(ctx, `SELECT id, kind, source, at, summary FROM change_batches ORDER BY id DESC LIMIT ?`, limit)
 	if err != nil {
 		return nil, fmt.Errorf("latest batches: %w", err)
 	}
@@ -89,7 +89,7 @@ func (d *DB) LatestBatches(ctx context.Context, limit int) ([]Batch, error) {
 // RevisionCount returns how many revisions reference a record.
 func (d *DB) RevisionCount(ctx context.Context, recordType string, id int64) (int, error) {
 	var n int
-	err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ?`, recordType, id).Scan(&n)
+	err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ?`, recordType, id).Scan(&n)
 	return n, err
 }
 

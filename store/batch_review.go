@@ -191,6 +191,6 @@ func (d *DB) PendingInBatch(ctx context.Context, batchID int64) (int, error) {
 		}
 	}
 	var n int
-	err := d.db.QueryRowContext(ctx, `SELECT `+strings.Join(counts, " +\n\t\t"), batchID).Scan(&n)
+	err := d.reader().QueryRowContext(ctx, `SELECT `+strings.Join(counts, " +\n\t\t"), batchID).Scan(&n)
 	return n, err
 }

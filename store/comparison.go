@@ -26,7 +26,7 @@ type Comparison struct {
 // means the records may have changed; an equal stamp means they have not.
 func (d *DB) DataStamp(ctx context.Context) (int64, error) {
 	var n int64
-	if err := d.db.QueryRowContext(ctx, `SELECT COALESCE(MAX(id), 0) FROM change_batches`).Scan(&n); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT COALESCE(MAX(id), 0) FROM change_batches`).Scan(&n); err != nil {
 		return 0, fmt.Errorf("data stamp: %w", err)
 	}
 	return n, nil
@@ -83,7 +83,7 @@ func scanComparison(r rowScanner) (Comparison, error) {
 
 // Comparisons lists the saved comparisons, newest first.
 func (d *DB) Comparisons(ctx context.Context) ([]Comparison, error) {
-	rows, err := d.db.QueryContext(ctx, comparisonSelect+` ORDER BY c.created_at DESC, c.id DESC`)
+	rows, err := d.reader().QueryContext(ctx, comparisonSelect+` ORDER BY c.created_at DESC, c.id DESC`)
 	if err != nil {
 		return nil, fmt.Errorf("comparisons: %w", err)
 	}
@@ -101,6 +101,6 @@ func (d *DB) Comparisons(ctx context.Context) ([]Comparison, error) {
 
 // Comparison returns one saved comparison, or ErrNotFound.
 func (d *DB) Comparison(ctx context.Context, id int64) (Comparison, error) {
-	c, err := scanComparison(d.db.QueryRowContext(ctx, comparisonSelect+` WHERE c.id = ?`, id))
+	c, err := scanComparison(d.reader().QueryRowContext(ctx, comparisonSelect+` WHERE c.id = ?`, id))
 	return c, notFound(err, "comparison", id)
 }

@@ -31,6 +31,8 @@ type DB struct {
 	readOnly   bool // opened with OpenReadOnly: every write fails with SQLITE_READONLY
 	// uploadQuota is the bytes of checked but not imported uploads one account may keep (0 = default).
 	uploadQuota int64
+	// rq, when set, is the read transaction of a snapshot (ReadSnapshot): every read goes through it.
+	rq querier
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:
@@ -162,11 +164,11 @@ func (d *DB) PendingMigrations(ctx context.Context, fsys fs.FS) ([]int, error) {
 	}
 	done := map[int]bool{}
 	var has int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE name = 'schema_migrations'`).Scan(&has); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE name = 'schema_migrations'`).Scan(&has); err != nil {
 		return nil, fmt.Errorf("migrations: %w", err)
 	}
 	if has > 0 {
-		vs, err := queryAll(ctx, d.db, `SELECT version FROM schema_migrations`, nil,
+		vs, err := queryAll(ctx, d.reader(), `SELECT version FROM schema_migrations`, nil,
 			func(r interface{ Scan(...any) error }) (int, error) { var v int; return v, r.Scan(&v) })
 		if err != nil {
 			return nil, fmt.Errorf("migrations: %w", err)

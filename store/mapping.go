@@ -816,7 +816,7 @@ func isControl(r rune) bool { return r < 0x20 || r == 0x7f }
 
 // Mappings lists the saved mappings by name.
 func (d *DB) Mappings(ctx context.Context) ([]Mapping, error) {
-	return queryAll(ctx, d.db, `SELECT mapping_json FROM import_mappings ORDER BY name`, nil, scanMapping)
+	return queryAll(ctx, d.reader(), `SELECT mapping_json FROM import_mappings ORDER BY name`, nil, scanMapping)
 }
 
 func scanMapping(s interface{ Scan(...any) error }) (Mapping, error) {
@@ -833,7 +833,7 @@ func scanMapping(s interface{ Scan(...any) error }) (Mapping, error) {
 
 // MappingByName returns the saved mapping of that name, or ErrNotFound.
 func (d *DB) MappingByName(ctx context.Context, name string) (Mapping, error) {
-	m, err := scanMapping(d.db.QueryRowContext(ctx, `SELECT mapping_json FROM import_mappings WHERE name = ?`, name))
+	m, err := scanMapping(d.reader().QueryRowContext(ctx, `SELECT mapping_json FROM import_mappings WHERE name = ?`, name))
 	if errors.Is(err, sql.ErrNoRows) {
 		return m, fmt.Errorf("no saved mapping named %q: %w", name, ErrNotFound)
 	}
@@ -854,7 +854,7 @@ func (d *DB) MappingsFor(ctx context.Context, header []string) ([]Mapping, error
 
 // BatchMapping returns the mapping a change's import read its file through, or nil when it used none.
 func (d *DB) BatchMapping(ctx context.Context, batchID int64) (*Mapping, error) {
-	m, err := scanMapping(d.db.QueryRowContext(ctx, `SELECT mapping_json FROM batch_mappings WHERE batch_id = ?`, batchID))
+	m, err := scanMapping(d.reader().QueryRowContext(ctx, `SELECT mapping_json FROM batch_mappings WHERE batch_id = ?`, batchID))
 	if errors.Is(err, sql.ErrNoRows) {
 		return nil, nil
 	}
@@ -1063,7 +1063,7 @@ func rowsWord(n int) string {
 // and whether such a mapping is saved.
 func (d *DB) MappingCreator(ctx context.Context, name string) (int64, bool, error) {
 	var by sql.NullInt64
-	err := d.db.QueryRowContext(ctx, `SELECT created_by FROM import_mappings WHERE name = ?`, strings.TrimSpace(name)).Scan(&by)
+	err := d.reader().QueryRowContext(ctx, `SELECT created_by FROM import_mappings WHERE name = ?`, strings.TrimSpace(name)).Scan(&by)
 	if errors.Is(err, sql.ErrNoRows) {
 		return 0, false, nil
 	}

@@ -364,7 +364,7 @@ func mebibytes(n int64) string { return fmt.Sprintf("%.1f MiB", float64(n)/(1<<2
 func (d *DB) UploadByID(ctx context.Context, id int64) (Upload, error) {
 	var u Upload
 	var mapping sql.NullString
-	err := d.db.QueryRowContext(ctx, `SELECT id, user_id, kind, section, file_name, body, batch_id, mapped, mapping_json FROM uploads WHERE id = ?`, id).
+	err := d.reader().QueryRowContext(ctx, `SELECT id, user_id, kind, section, file_name, body, batch_id, mapped, mapping_json FROM uploads WHERE id = ?`, id).
 		Scan(&u.ID, &u.UserID, &u.Kind, &u.Section, &u.FileName, &u.Body, &u.BatchID, &u.Mapped, &mapping)
 	if err == nil && mapping.Valid {
 		m := NewMapping()
@@ -511,7 +511,7 @@ func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error
 	}
 	cond := " WHERE " + strings.Join(where, " AND ")
 	var total int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM change_batches b LEFT JOIN users u ON u.id = b.user_id`+cond, args...).Scan(&total); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM change_batches b LEFT JOIN users u ON u.id = b.user_id`+cond, args...).Scan(&total); err != nil {
 		return nil, 0, err
 	}
 	q := `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, ''),
@@ -520,7 +520,7 @@ func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error
 	if f.Limit > 0 {
 		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
 	}
-	out, err := queryAll(ctx, d.db, q, args, func(s interface{ Scan(...any) error }) (BatchRow, error) {
+	out, err := queryAll(ctx, d.reader(), q, args, func(s interface{ Scan(...any) error }) (BatchRow, error) {
 		var b BatchRow
 		return b, s.Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User, &b.Revisions)
 	})

@@ -66,6 +66,7 @@ type dateReader interface {
 
 // sectionReader is what the section pages, their models and the comparison's sections read.
 type sectionReader interface {
+	analysis.SnapshotReader
 	Sections(ctx context.Context) ([]store.Section, error)
 	Section(ctx context.Context, id int64) (store.Section, error)
 	Samples(ctx context.Context, sectionID int64) ([]store.Sample, []string, error)

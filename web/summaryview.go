@@ -92,15 +92,7 @@ func ruleLabel(r stats.OutlierRule) string {
 // meanText writes "mean ± σ" at the chosen σ level (decimals from σ).
 func meanText(l levelled, sigma int) (string, string) { return ageSigma(l.MeanMa, l.Sigma1s, sigma) }
 
-func flaggedCodes(s systemSummary) []string {
-	var out []string
-	for _, e := range s.Entries {
-		if e.Flagged {
-			out = append(out, e.D.SampleCode)
-		}
-	}
-	return out
-}
+func flaggedCodes(s systemSummary) []string { return analysis.FlaggedCodes(s) }
 
 // flagsText says what the rule flagged.
 func flagsText(s systemSummary, ch summaryChoice) string {
