@@ -64,18 +64,19 @@ func (s *Server) coincidenceChoiceFrom(ctx context.Context, p *params) (coincide
 	}
 	p.problems = append(p.problems, pd.problems...)
 	dens.Sum.Level = stats.Analytical
-	ch := coincidenceChoice{Cmp: compareChoice{Dens: dens, N: defaultCompareDraws}}
+	cd := analysis.DefaultCompareOptions()
+	ch := coincidenceChoice{Cmp: compareChoice{Dens: dens, N: cd.N, Rows: cd.Rows, DeltaMa: cd.DeltaMa, Level: cd.Level}}
 	ch.Format = p.oneOf("format", []string{"html", "csv", "json"}, "html")
 	ch.Table = p.oneOf("table", coincidenceTables, "result")
 	ch.Cmp.SectionIDs = idList(p, "sections", "section record numbers such as 1,2")
 	ch.Cmp.EventIDs = idList(p, "events", "event record numbers such as 3,7")
 	ch.Cmp.Anomalies = onOff(p, "anomalies")
-	ch.Cmp.Point = p.oneOf("point", eventPoints, "base")
+	ch.Cmp.Point = p.oneOf("point", analysis.EventPoints, "base")
 	ch.Cmp.Model = p.oneOf("model", []string{"mc", "linear"}, "mc")
 	ch.Cmp.ModelDraws = p.int("draws", defaultSectionDraws, minSectionDraws, maxSectionDraws)
 	if v := p.str("toc_min"); v != "" {
 		f := paramFloatIn(p, "toc_min", 0, 0, 100, "a TOC threshold in wt% from 0 to 100")
-		ch.Cmp.TocMin = &f
+		ch.Cmp.TocMinWtPct = &f
 	}
 	def := analysis.DefaultCoincidenceOptions()
 	o := def
@@ -104,9 +105,7 @@ func (s *Server) coincidenceInputs(ctx context.Context, ch coincidenceChoice) (a
 	if err != nil {
 		return in, err
 	}
-	d.stop = ctx.Err
-	sc := sectionChoice{Model: cc.Model, Draws: cc.ModelDraws, Seed: cc.Dens.Seed, TocMin: cc.TocMin}
-	evs, notes, err := eventInputs(d, cc, sc)
+	evs, notes, err := analysis.ComparisonEvents(ctx, d, cc.options())
 	if err != nil {
 		return in, err
 	}
@@ -120,18 +119,18 @@ func (s *Server) coincidenceInputs(ctx context.Context, ch coincidenceChoice) (a
 		in.Events = append(in.Events, ce)
 	}
 	for _, prov := range d.Provinces {
-		if err := d.stopped(); err != nil {
+		if err := ctx.Err(); err != nil {
 			return in, err
 		}
-		pd := *d
-		pd.Province = prov
-		if pd.Units, err = s.store.Units(ctx, prov.ID); err != nil {
+		units, err := s.store.Units(ctx, prov.ID)
+		if err != nil {
 			return in, err
 		}
-		if pd.Dates, _, err = s.store.Dates(ctx, store.DateFilter{ProvinceID: prov.ID}); err != nil {
+		dates, _, err := s.store.Dates(ctx, store.DateFilter{ProvinceID: prov.ID})
+		if err != nil {
 			return in, err
 		}
-		pulses, dens, _, _, err := pulseInputs(&pd, cc.Dens)
+		pulses, dens, err := analysis.ProvincePulses(ctx, d, prov, units, dates, cc.options())
 		if err != nil {
 			return in, err
 		}
@@ -274,7 +273,7 @@ func (s *Server) coincidenceView(r *http.Request, res analysis.Coincidence, ch c
 		}
 		stat = append(stat,
 			views.KV{Label: "By chance", Value: fmt.Sprintf("median %s Ma; 95 %% of the replicates between %s and %s Ma", ma3(r.NullMedianMa), ma3(r.NullLo95Ma), ma3(r.NullHi95Ma))},
-			views.KV{Label: "p-value", Value: fmt.Sprintf("%s = (1 + %d) / (1 + %d): %d of %d replicates of the null came at least as close", analysis.FormatP(r.P), r.AtMost, r.Replicates, r.AtMost, r.Replicates), Class: "caution"},
+			views.KV{Label: "p-value", Value: fmt.Sprintf("%s = (1 + %d) / (1 + %d): %d of %d replicates of the null came at least as close", analysis.FormatMonteCarloP(r.P), r.AtMost, r.Replicates, r.AtMost, r.Replicates), Class: "caution"},
 			views.KV{Label: "Null", Value: analysis.CoincidenceNullWords(ch.Opt.Null)},
 			views.KV{Label: "Window", Value: window},
 			views.KV{Label: "Replicates", Value: fmt.Sprintf("%d (seed %d)", r.Replicates, r.Seed)},

@@ -257,7 +257,7 @@ func coincidenceSentence(c Coincidence) string {
 	}
 	return fmt.Sprintf("The %s in %s–%s Ma %s: on average %s Ma from the nearest of %s, against a median of %s Ma by chance (p = %s, %s).",
 		count(r.Events, "event"), num3(c.OldMa), num3(c.YoungMa), verdict, num3(r.StatisticMa), count(r.Onsets, "onset"),
-		num3(r.NullMedianMa), FormatP(r.P), nullShort(c.Options.Null))
+		num3(r.NullMedianMa), FormatMonteCarloP(r.P), nullShort(c.Options.Null))
 }
 
 func nullShort(null string) string {
@@ -267,8 +267,8 @@ func nullShort(null string) string {
 	return "events placed at random"
 }
 
-// FormatP writes a Monte Carlo p-value with the digits its replicates support.
-func FormatP(p float64) string {
+// FormatMonteCarloP writes a Monte Carlo p-value with the digits its replicates support.
+func FormatMonteCarloP(p float64) string {
 	switch {
 	case p < 0.001:
 		return fmt.Sprintf("%.1g", p)

@@ -591,3 +591,21 @@ func summarize(x []float64) stats.DrawSummary {
 	}
 	return stats.DrawSummary{Median: q(0.5), Lo95: q(0.025), Hi95: q(0.975)}
 }
+
+// ComparisonEvents are the events of d's sections with their ages, built as the comparison builds them
+// (the same age models, points and components), with the notes on what was left out.
+func ComparisonEvents(ctx context.Context, d *CompareData, o CompareOptions) ([]CompareEvent, []string, error) {
+	o = d.resolve(o, ctx)
+	sc := sectionChoice{Model: o.Model, Draws: o.ModelDraws, Seed: o.Density.Seed, TocMinWtPct: o.TocMinWtPct}
+	return eventInputs(ctx, d, o, sc)
+}
+
+// ProvincePulses are the pulses and the density of province prov (its units and dates given), built as
+// the comparison builds them from d's other data (its calibration, unit means at the analytical level).
+func ProvincePulses(ctx context.Context, d *CompareData, prov store.Province, units []store.Unit, dates []store.Date, o CompareOptions) ([]ComparePulse, Density, error) {
+	pd := *d
+	pd.Province, pd.Units, pd.Dates = prov, units, dates
+	o = pd.resolve(o, ctx)
+	pulses, dens, _, _, err := pulseInputs(&pd, o.Density)
+	return pulses, dens, err
+}
