@@ -538,7 +538,7 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 	a1, alt := a0, ""
 	for _, cal := range d.Cals {
 		if x := recalculate(d.Dates[0], statsCalibration(cal)).AgeMa; math.Abs(x-a0) > math.Abs(a1-a0) {
-			a1, alt = x, cal.Code
+			a1, alt = x, cal.Name
 		}
 	}
 	ev := func(id int64, age float64) store.Event {

@@ -227,7 +227,7 @@ func restsOn(row compareRow) string {
 // dependsText names the model choices a row's probabilities rest on.
 func dependsText(res *compareResult, row compareRow) string {
 	d := res.Density
-	parts := []string{"KDE " + d.Bandwidth.Rule.String() + " h = " + fixed(d.Bandwidth.Ma, sigmaDecimals(d.Bandwidth.Ma)+1) + " Ma"}
+	parts := []string{"KDE with " + smoothingWords(d.Bandwidth.Rule) + ", h = " + fixed(d.Bandwidth.Ma, sigmaDecimals(d.Bandwidth.Ma)+1) + " Ma"}
 	if d.Bandwidth.Note != "" {
 		parts[0] += " (fallback)"
 	}

@@ -146,7 +146,7 @@ func orderTable(res *compareResult) views.Table {
 		t.Rows = append(t.Rows, row)
 	}
 	if len(o.Names) > 0 {
-		t.Notes = append(t.Notes, "Choose the items with order= (codes: P1 = onset of pulse 1, P1.end its end, U7 a unit's weighted mean, E12 an event, G:kind a group, A3.1 an anomaly); by default the pulse edges and, with rows=units|both, the units, then the events. Each pair is drawn at the chosen level, so shared components cancel.")
+		t.Notes = append(t.Notes, "The items are the pulse edges (and, when units are compared as rows, the units), then the events; other items can be chosen by their codes in the address (the Help page on addresses lists them). Each pair is drawn at the chosen level, so shared components cancel.")
 	}
 	return t
 }
@@ -168,7 +168,7 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 		h := views.How{ID: howID(row.Pulse, row.Event.Code), Title: row.Pulse + " × " + row.Event.Name + " (" + orDash(row.Event.Section) + ")"}
 		eachBW := ""
 		if ch.Dens.BWEach {
-			eachBW = ", the bandwidth re-estimated in each (bw_each=1)"
+			eachBW = ", the width re-estimated in each"
 		}
 		h.Lines = []views.KV{
 			{Label: "Pulse", Value: fmt.Sprintf("%s of the KDE of %s (%s, h = %s Ma), edges from %d of %d bootstrap replicates (seed %d%s): onset %s Ma (95 %% %s), end %s Ma (95 %% %s)",
@@ -176,7 +176,7 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 				fixed(ps.StartMa, 3), interval(ps.Start, 3), fixed(ps.EndMa, 3), interval(ps.End, 3))},
 			{Label: "Pulse systematics", Value: res.In.EdgeNote},
 			{Label: "Event", Value: row.Event.How},
-			{Label: "Draws", Value: fmt.Sprintf("stats.DrawJoint: N = %d, seed %d, level %s; shared keys %s", ch.N, ch.Dens.Seed, ch.Level, strings.Join(res.Keys, ", "))},
+			{Label: "Draws", Value: drawsText(res)},
 			{Label: "P(event after onset)", Value: fmt.Sprintf("share of draws with onset > event: %s (SE %s)", fixed(row.Cell.AfterOnset.P, 4), fixed(row.Cell.AfterOnset.SE, 4))},
 			{Label: "P(event within pulse)", Value: fmt.Sprintf("share of draws with end ≤ event ≤ onset: %s (SE %s)", fixed(row.Cell.Within.P, 4), fixed(row.Cell.Within.SE, 4))},
 			{Label: "Lag", Value: "onset − event over the draws: median and 2.5/97.5 % " + lagText(row.Cell.LagMa) + " Ma"},
@@ -208,7 +208,7 @@ func howUnit(res *compareResult, row compareRow) views.How {
 		{Label: "Unit", Value: u.Name + " (" + u.Code + "): " + u.How},
 		{Label: "Unit systematics", Value: u.Syst},
 		{Label: "Event", Value: row.Event.How},
-		{Label: "Draws", Value: fmt.Sprintf("stats.DrawJoint: N = %d, seed %d, level %s; shared keys %s", ch.N, ch.Dens.Seed, ch.Level, strings.Join(res.Keys, ", "))},
+		{Label: "Draws", Value: drawsText(res)},
 		{Label: "P(event after the unit)", Value: fmt.Sprintf("share of draws with unit mean > event: %s (SE %s)", fixed(c.AfterOnset.P, 4), fixed(c.AfterOnset.SE, 4))},
 		{Label: "P(event within pulse)", Value: "does not apply: the unit's weighted mean is a point-like age, not an interval"},
 		{Label: "Lag", Value: "unit mean − event over the draws: median and 2.5/97.5 % " + lagText(c.LagMa) + " Ma"},
@@ -329,4 +329,48 @@ func compareCells(res *compareResult, row compareRow, sets int) []views.Cell {
 	}
 	cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
 	return cells
+}
+
+// drawsText says how the joint draws were made, in words.
+func drawsText(res *compareResult) string {
+	ch := res.Choice
+	return fmt.Sprintf("joint Monte Carlo draws: N = %d, seed %d, %s; shared terms, each drawn once per draw for every age that carries it: %s",
+		ch.N, ch.Dens.Seed, levelWords(ch.Level), keysWords(res.Keys, []store.Calibration{ch.Dens.Sum.Cal.Cal}))
+}
+
+// levelWords says a comparison level in words.
+func levelWords(l stats.ComparisonLevel) string {
+	switch l {
+	case stats.LevelAnalytical:
+		return "analytical uncertainties only"
+	case stats.LevelFull:
+		return "full external uncertainties"
+	}
+	return "the uncertainties each pair needs (shared terms cancel)"
+}
+
+// keysWords names the shared systematic terms: a calibration by its name, a tracer as a tracer.
+func keysWords(keys []string, cals []store.Calibration) string {
+	if len(keys) == 0 {
+		return "none"
+	}
+	var out []string
+	for _, k := range keys {
+		switch {
+		case strings.HasPrefix(k, "ar/ar "):
+			code := strings.TrimPrefix(k, "ar/ar ")
+			name := code
+			for _, c := range cals {
+				if c.Code == code {
+					name = c.Name
+				}
+			}
+			out = append(out, "the ⁴⁰Ar/³⁹Ar calibration ("+name+")")
+		case strings.HasPrefix(k, "tracer "):
+			out = append(out, "the "+strings.TrimPrefix(k, "tracer ")+" tracer")
+		default:
+			out = append(out, k)
+		}
+	}
+	return strings.Join(out, ", ")
 }

@@ -151,8 +151,8 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	v.Form = compareForm(r, res)
 	v.LevelHelp = levelHelp()
 	v.Status = []views.KV{{Label: "seed", Value: strconv.FormatUint(ch.Dens.Seed, 10)}, {Label: "N", Value: strconv.Itoa(ch.N) + " joint draws"},
-		{Label: "level", Value: ch.Level.String()}, {Label: "δ", Value: num(ch.DeltaMa) + " Ma"},
-		{Label: "calibration", Value: ch.Dens.Sum.Cal.Cal.Code}, {Label: "data stamp", Value: strconv.FormatInt(res.Stamp, 10)}}
+		{Label: "level", Value: levelWords(ch.Level)}, {Label: "δ", Value: num(ch.DeltaMa) + " Ma"},
+		{Label: "calibration", Value: ch.Dens.Sum.Cal.Cal.Name}, {Label: "data", Value: "as of change " + strconv.FormatInt(res.Stamp, 10), URL: idURL("/changes", res.Stamp)}}
 	took := strconv.FormatInt(res.Computed.Milliseconds(), 10) + " ms"
 	if cached {
 		v.Status = append(v.Status, views.KV{Label: "computed", Value: took + ", served from the cache"})
@@ -199,7 +199,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		v.Notes = append(v.Notes, res.VolumeNote)
 	}
 	v.Notes = append(v.Notes, res.In.Notes...)
-	v.Notes = append(v.Notes, "Results are cached by the full set of choices in the address and the compilation's data stamp (the number of its latest change): any import, edit, review or undo gives a new stamp and so a fresh computation.")
+	v.Notes = append(v.Notes, "Results are kept for the same choices and the same data: any import, edit, review or undo of what a comparison reads computes it afresh.")
 	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) {
 		v.Save = &views.SaveForm{Action: "/compare/saved", Query: saveQuery(r), Releases: c.releaseChoices(ctx)}
 	}

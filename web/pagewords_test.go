@@ -47,9 +47,6 @@ func TestPagesHoldNoDeveloperWords(t *testing.T) {
 		if strings.HasPrefix(p, "/help/files/") || p == "/help/addresses" {
 			continue // the reference of the files' columns and the addresses' parameters: the codes are their subject
 		}
-		if strings.HasPrefix(p, "/compare") {
-			continue // PENDING: the comparison's words
-		}
 		status, _, body := get(t, srv, p)
 		if status != http.StatusOK {
 			t.Errorf("%s: status %d", p, status)

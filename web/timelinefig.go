@@ -503,23 +503,8 @@ func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResu
 	})
 }
 
-// smoothingWords names a smoothing-width rule in the words of the pages and figures (the rule's code stays
-// in addresses and downloads).
-func smoothingWords(r stats.BandwidthRule) string {
-	switch r {
-	case stats.RuleISJ:
-		return "automatic width (Botev's diffusion method)"
-	case stats.RuleScott:
-		return "Scott's rule of thumb"
-	case stats.RuleSilverman:
-		return "Silverman's rule of thumb"
-	case stats.RuleSilvermanRobust:
-		return "Silverman's rule of thumb, robust to outliers"
-	case stats.RuleUser:
-		return "width set by hand"
-	}
-	return r.Label()
-}
+// smoothingWords names a smoothing-width rule in the words of the pages (analysis.SmoothingWords).
+func smoothingWords(r stats.BandwidthRule) string { return analysis.SmoothingWords(r) }
 
 // smoothingChoice is a smoothing-width rule as a choice of the forms.
 func smoothingChoice(r stats.BandwidthRule) string {

@@ -92,7 +92,7 @@ func edgeSystematics(sums []UnitSummary, res Density, dc DensityOptions) (func(s
 			parts = append(parts, fmt.Sprintf("%d %s", c, sys))
 		}
 		slices.Sort(parts)
-		note += fmt.Sprintf("; the density mixes systems (%s values): the edges carry the majority's components only, so against other systems the edges are slightly too narrow — compare at level=full or count one system", strings.Join(parts, ", "))
+		note += fmt.Sprintf("; the density mixes systems (%s values): the edges carry the majority's components only, so against other systems the edges are slightly too narrow — compare at the full external level or count one system", strings.Join(parts, ", "))
 	}
 	return apply, note
 }

@@ -45,7 +45,7 @@ func sensAlts(d *CompareData, o CompareOptions, in CompareInputs) []sensAlt {
 			}
 			dc := o.Density
 			dc.Summary.Calibration = CalibrationOf(c)
-			alts = append(alts, sensAlt{name: "calibration " + c.Code, dens: &dc})
+			alts = append(alts, sensAlt{name: "calibration " + c.Name, dens: &dc})
 		}
 	}
 	for _, rule := range []string{"isj", "scott", "silverman", "silverman-robust"} {
@@ -54,7 +54,7 @@ func sensAlts(d *CompareData, o CompareOptions, in CompareInputs) []sensAlt {
 		}
 		dc := o.Density
 		dc.Rule, _ = stats.ParseBandwidthRule(rule)
-		alts = append(alts, sensAlt{name: "bandwidth " + rule, dens: &dc})
+		alts = append(alts, sensAlt{name: "smoothing: " + SmoothingWords(dc.Rule), dens: &dc})
 	}
 	base := sectionChoice{Model: o.Model, Draws: o.ModelDraws, Seed: o.Density.Seed, TocMinWtPct: o.TocMinWtPct}
 	if slices.ContainsFunc(in.Events, func(e CompareEvent) bool { return e.SectionID != 0 || strings.HasPrefix(e.Code, "G:") }) {

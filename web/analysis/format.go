@@ -45,3 +45,22 @@ func CalDrawn(c stats.Calibration, per string) string {
 	}
 	return "(monitor age and λ drawn once per " + per + ")"
 }
+
+// SmoothingWords names a smoothing-width rule in the words of the pages and figures (the rule's code stays
+// in addresses and downloads).
+func SmoothingWords(r stats.BandwidthRule) string {
+	switch r {
+	case stats.RuleISJ:
+		return "automatic width (Botev's diffusion method)"
+	case stats.RuleScott:
+		return "Scott's rule of thumb"
+	case stats.RuleSilverman:
+		return "Silverman's rule of thumb"
+	case stats.RuleSilvermanRobust:
+		return "Silverman's rule of thumb, robust to outliers"
+	case stats.RuleUser:
+		return "width set by hand"
+	}
+	return r.Label()
+}
+
