@@ -63,4 +63,3 @@ func SmoothingWords(r stats.BandwidthRule) string {
 	}
 	return r.Label()
 }
-
