@@ -66,7 +66,7 @@ func internalJSON(h http.Handler, r *http.Request, path string, q url.Values, v 
 	req.Body = http.NoBody
 	req.URL = &url.URL{Path: path, RawQuery: q2.Encode()}
 	req.RequestURI = req.URL.String()
-	req = req.WithContext(context.WithValue(req.Context(), chi.RouteCtxKey, nil))
+	req = req.WithContext(context.WithValue(context.WithValue(req.Context(), chi.RouteCtxKey, nil), internalKey{}, true))
 	rec := &captured{header: http.Header{}}
 	h.ServeHTTP(rec, req)
 	if rec.status != 0 && rec.status != http.StatusOK {

@@ -12,6 +12,7 @@ import (
 	"io/fs"
 	"log/slog"
 	"net/http"
+	"strconv"
 	"time"
 
 	"github.com/a-h/templ"
@@ -34,6 +35,7 @@ type Server struct {
 	prefix   string        // the path it is served under (a release's view)
 	releases *releaseViews // the handlers of releases opened from the live site
 	router   http.Handler  // the whole site, for pages that read another page's numbers (an event's answer)
+	heavy    *heavyLimit   // the slots of the pages that compute (web/heavy.go)
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
@@ -45,7 +47,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 		opt(&o)
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
-		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix}
+		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix, heavy: defaultHeavyLimit()}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
@@ -67,6 +69,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(s.asOfRelease)
 	r.Use(rememberPath)
 	r.Use(takeFlash)
+	r.Use(s.limitHeavy)
 
 	r.Get("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)).ServeHTTP)
 	r.Get("/", s.handle(s.handleHome))
@@ -157,6 +160,7 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		var wm wrongMethod
 		var tl bodyTooLarge
 		var naf notAForm
+		var sb serverBusy
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
@@ -178,6 +182,9 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		case errors.As(err, &naf):
 			view.Status, view.Page.Title = http.StatusUnsupportedMediaType, "No file is taken here"
 			view.Message = "This page takes a form without files, so what was sent was refused and nothing was kept. Files are sent on the Import page."
+		case errors.As(err, &sb):
+			view.Status, view.Page.Title = http.StatusServiceUnavailable, "Busy: try again shortly"
+			view.Message = "The server is computing other pages and could not start this one in time. Nothing is lost: open it again in " + strconv.Itoa(heavyRetryAfter) + " seconds."
 		case errors.As(err, &nf):
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "There is no "+nf.what+"."
 		case errors.Is(err, store.ErrNotFound):
