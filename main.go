@@ -316,16 +316,21 @@ func importCmd(ctx context.Context, cfg config, args []string, stdout io.Writer)
 	}
 	res, err := db.Import(ctx, kind, section, os.DirFS(filepath.Dir(abs)), filepath.Base(abs))
 	if err != nil {
-		if ve, ok := store.AsValidation(err); ok {
-			return fmt.Errorf("import %s rejected, nothing was imported:\n%s", file, indent(ve.Problems))
-		}
-		if store.IsUnwritable(err) {
-			return fmt.Errorf("import %s: the database %s cannot be written (read-only or disk full); nothing was imported", file, cfg.dbPath)
-		}
-		return err
+		return importError(err, file, cfg)
 	}
 	fmt.Fprintln(stdout, res.String())
 	return nil
+}
+
+// importError says why an import was refused: its problems, or a database that cannot be written.
+func importError(err error, file string, cfg config) error {
+	if ve, ok := store.AsValidation(err); ok {
+		return fmt.Errorf("import %s rejected, nothing was imported:\n%s", file, indent(ve.Problems))
+	}
+	if store.IsUnwritable(err) {
+		return fmt.Errorf("import %s: the database %s cannot be written (read-only or disk full); nothing was imported", file, cfg.dbPath)
+	}
+	return err
 }
 
 func indent(ps []store.Problem) string {
@@ -355,13 +360,7 @@ func importMappedCmd(ctx context.Context, db *store.DB, cfg config, name, file s
 	}
 	res, mp, err := db.ImportMapped(ctx, m, filepath.Base(file), body)
 	if err != nil {
-		if ve, ok := store.AsValidation(err); ok {
-			return fmt.Errorf("import %s rejected, nothing was imported:\n%s", file, indent(ve.Problems))
-		}
-		if store.IsUnwritable(err) {
-			return fmt.Errorf("import %s: the database %s cannot be written (read-only or disk full); nothing was imported", file, cfg.dbPath)
-		}
-		return err
+		return importError(err, file, cfg)
 	}
 	fmt.Fprintln(stdout, res.String())
 	for _, sk := range mp.Skipped {

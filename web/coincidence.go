@@ -303,16 +303,8 @@ func (s *Server) coincidenceView(r *http.Request, res analysis.Coincidence, ch c
 
 func coincidenceForm(r *http.Request, ch coincidenceChoice) *views.Form {
 	q := r.URL.Query()
-	sel := func(name, label, cur string, opts ...string) views.Field {
-		f := views.Field{Name: name, Label: label, Kind: "select"}
-		for i := 0; i+1 < len(opts); i += 2 {
-			f.Options = append(f.Options, views.Option{Value: opts[i], Label: opts[i+1], Selected: opts[i] == cur})
-		}
-		return f
-	}
-	text := func(name, label, ph string) views.Field {
-		return views.Field{Name: name, Label: label, Kind: "text", Value: q.Get(name), Placeholder: ph}
-	}
+	sel := selectField
+	text := func(name, label, ph string) views.Field { return textField(q, name, label, ph) }
 	ages := map[bool]string{true: "drawn", false: "median"}[ch.Opt.DrawAges]
 	return &views.Form{Action: "/coincidence", Reset: "/coincidence", Fields: []views.Field{
 		sel("null", "Null", ch.Opt.Null, "events", "events placed at random", "pulses", "onsets shifted at random"),

@@ -3,7 +3,6 @@ package web
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -11,9 +10,6 @@ import (
 	"net/url"
 	"sort"
 	"strconv"
-	"strings"
-
-	"github.com/go-chi/chi/v5"
 
 	"coeval/store"
 	"coeval/views"
@@ -114,33 +110,9 @@ func (c *comparer) handlePinnedShow(w http.ResponseWriter, r *http.Request, sc s
 // comparisonRows computes the comparison of the query q through h (the release's handler or today's) and
 // reads its table from the JSON download.
 func comparisonRows(h http.Handler, r *http.Request, q url.Values) ([]pinnedRow, error) {
-	q2, _ := url.ParseQuery(q.Encode())
-	q2.Set("format", "json")
-	req := r.Clone(r.Context())
-	req.Method = http.MethodGet
-	req.URL = &url.URL{Path: "/compare", RawQuery: q2.Encode()}
-	req.RequestURI = req.URL.String()
-	req = req.WithContext(context.WithValue(req.Context(), chi.RouteCtxKey, nil))
-	rec := &captured{header: http.Header{}}
-	h.ServeHTTP(rec, req)
-	if rec.status != 0 && rec.status != http.StatusOK {
-		var e struct {
-			Error    string   `json:"error"`
-			Problems []string `json:"problems"`
-		}
-		if json.Unmarshal(rec.body.Bytes(), &e) == nil && e.Error != "" {
-			if len(e.Problems) > 0 {
-				return nil, fmt.Errorf("%s %s", e.Error, strings.Join(e.Problems, "; "))
-			}
-			return nil, errors.New(e.Error)
-		}
-		return nil, fmt.Errorf("status %d", rec.status)
-	}
-	var doc struct {
-		Rows []map[string]string `json:"rows"`
-	}
-	if err := json.Unmarshal(rec.body.Bytes(), &doc); err != nil {
-		return nil, fmt.Errorf("reading the comparison: %w", err)
+	var doc comparisonRowsJSON
+	if err := internalJSON(h, r, "/compare", q, &doc); err != nil {
+		return nil, err
 	}
 	out := make([]pinnedRow, 0, len(doc.Rows))
 	for _, m := range doc.Rows {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"net/http"
+	"net/url"
 	"slices"
 	"strconv"
 	"strings"
@@ -249,16 +250,8 @@ func volSensPart(res *compareResult, row compareRow, k int) string {
 func compareForm(r *http.Request, res *compareResult) *views.Form {
 	ch := res.Choice
 	q := r.URL.Query()
-	sel := func(name, label, cur string, opts ...string) views.Field {
-		f := views.Field{Name: name, Label: label, Kind: "select"}
-		for i := 0; i+1 < len(opts); i += 2 {
-			f.Options = append(f.Options, views.Option{Value: opts[i], Label: opts[i+1], Selected: opts[i] == cur})
-		}
-		return f
-	}
-	text := func(name, label, ph string) views.Field {
-		return views.Field{Name: name, Label: label, Kind: "text", Value: q.Get(name), Placeholder: ph}
-	}
+	sel := selectField
+	text := func(name, label, ph string) views.Field { return textField(q, name, label, ph) }
 	var kinds []string
 	kinds = append(kinds, "", "none")
 	for _, k := range store.EventKinds() {
@@ -373,4 +366,18 @@ func keysWords(keys []string, cals []store.Calibration) string {
 		}
 	}
 	return strings.Join(out, ", ")
+}
+
+// selectField is a select of a filter form: opts are value, label pairs; cur is selected.
+func selectField(name, label, cur string, opts ...string) views.Field {
+	f := views.Field{Name: name, Label: label, Kind: "select"}
+	for i := 0; i+1 < len(opts); i += 2 {
+		f.Options = append(f.Options, views.Option{Value: opts[i], Label: opts[i+1], Selected: opts[i] == cur})
+	}
+	return f
+}
+
+// textField is a text input of a filter form holding the address's value of name.
+func textField(q url.Values, name, label, placeholder string) views.Field {
+	return views.Field{Name: name, Label: label, Kind: "text", Value: q.Get(name), Placeholder: placeholder}
 }

@@ -358,16 +358,7 @@ func (s *Server) handleMapSubmit(w http.ResponseWriter, r *http.Request) error {
 		return err
 	}
 	up.Mapping = &m
-	pv, err := s.store.PreviewUpload(uploadCtx(r), up)
-	if err != nil {
-		return err
-	}
-	status := http.StatusOK
-	if len(pv.Problems) > 0 {
-		status = http.StatusUnprocessableEntity
-	}
-	s.render(w, r, status, views.DetailPage(s.previewView(r, pv)))
-	return nil
+	return s.renderPreview(w, r, up)
 }
 
 func mapProblemText(p store.Problem) string {

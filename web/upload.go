@@ -149,6 +149,11 @@ func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) err
 	if err != nil {
 		return err
 	}
+	return s.renderPreview(w, r, up)
+}
+
+// renderPreview previews an upload: every row with its problems (422 when there are any).
+func (s *Server) renderPreview(w http.ResponseWriter, r *http.Request, up store.Upload) error {
 	pv, err := s.store.PreviewUpload(uploadCtx(r), up)
 	if err != nil {
 		return err
