@@ -22,8 +22,12 @@ func TestBackupWhileWriting(t *testing.T) {
 	var wg sync.WaitGroup
 	wg.Add(1)
 	writes := 0
+	firstDone := make(chan struct{})
+	var once sync.Once
+	landed := func() { once.Do(func() { close(firstDone) }) }
 	go func() {
 		defer wg.Done()
+		defer landed() // a writer that fails does not leave the backup waiting
 		for i := 0; ; i++ {
 			select {
 			case <-stop:
@@ -36,9 +40,13 @@ func TestBackupWhileWriting(t *testing.T) {
 				return
 			}
 			writes++
+			landed()
 		}
 	}()
-	time.Sleep(100 * time.Millisecond)
+	// The backup starts once a write has landed and while others go on (on a loaded machine the first
+	// write can take longer than any fixed pause).
+	<-firstDone
+	time.Sleep(20 * time.Millisecond)
 	path := filepath.Join(t.TempDir(), "snapshot.db")
 	if err := db.Backup(ctx, path); err != nil {
 		t.Fatal(err)
