@@ -272,10 +272,10 @@ func TestSensitivitySetsOfTheDemo(t *testing.T) {
 	var want []string
 	for _, c := range d.Cals {
 		if c.Code != target.Code {
-			want = append(want, "calibration "+c.Code)
+			want = append(want, "calibration "+c.Name)
 		}
 	}
-	want = append(want, "bandwidth scott", "bandwidth silverman", "bandwidth silverman-robust", "age model linear")
+	want = append(want, "smoothing: Scott's rule of thumb", "smoothing: Silverman's rule of thumb", "smoothing: Silverman's rule of thumb, robust to outliers", "age model linear")
 	got := SensitivitySets(d, o, CompareInputs{Events: []CompareEvent{{Code: "E1", SectionID: 1}}})
 	if !slices.Equal(got, want) {
 		t.Errorf("sets %v, want %v", got, want)
