@@ -31,6 +31,10 @@ type DB struct {
 	readOnly   bool // opened with OpenReadOnly: every write fails with SQLITE_READONLY
 	// uploadQuota is the bytes of checked but not imported uploads one account may keep (0 = default).
 	uploadQuota int64
+	// traceQuery, when set (tests), is told each query the dates list pages run, to check their plans.
+	traceQuery func(q string, args []any)
+	// revCounts keeps how many revisions each change holds once counted (revisionCount).
+	revCounts revisionCounts
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:

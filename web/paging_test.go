@@ -27,7 +27,8 @@ import (
 func TestDatesKeysetPagingGivesEveryDateOnceInOrder(t *testing.T) {
 	s := newScaleDB(t, 2_500)
 	ctx := context.Background()
-	filters := map[string]store.DateFilter{"all": {}, "province 3": {ProvinceID: 3}, "ar/ar": {Method: "arar_plateau"}}
+	filters := map[string]store.DateFilter{"all": {}, "province 3": {ProvinceID: 3}, "ar/ar": {Method: "arar_plateau"},
+		"unit 17": {UnitID: 17}, "section 4": {SectionID: 4}, "text": {Text: "lab b"}, "province 3 and unit 25": {ProvinceID: 3, UnitID: 25}}
 	for name, base := range filters {
 		for _, key := range store.DateSortKeys() {
 			for _, sort := range []string{key, "-" + key} {
