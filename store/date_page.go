@@ -51,15 +51,40 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 	if slices.Equal(cols, dateSorts["added"]) {
 		idDesc = keyDesc // the key is the id: no ties to break
 	}
-	offset := 0
+	key, _ := strings.CutPrefix(f.Sort, "-")
+	ix, ok := dateSortIndex[key]
+	if !ok {
+		ix = dateSortIndex["age"]
+	}
+	offset, first := 0, 0
 	var rows []keyedDate
 	var err error
-	switch {
-	case c == nil && f.Offset > 0: // rows skipped (old links): one query, as deep as asked
+	small := pg.Total <= cmp.Or(d.smallDates, smallDateSet)
+	if c == nil && f.Offset > 0 { // rows skipped (old links)
 		offset = f.Offset
-		q := `SELECT ` + strings.Join(cols, ", ") + `, ` + strings.TrimPrefix(dateSelect, "SELECT ") + cond +
-			orderBy(cols, desc, false) + fmt.Sprintf(" LIMIT %d OFFSET %d", limit+1, offset)
-		rows, err = d.keyedDates(ctx, q, args, len(cols))
+		first = offset
+		if !small && offset < pg.Total {
+			// The date just before the page, found by counting along the index, becomes the page's cursor.
+			if c, err = d.cursorAt(ctx, f, cols, ix, cond, args, keyDesc, idDesc, offset-1); err != nil {
+				return pg, fmt.Errorf("dates page: %w", err)
+			}
+		}
+	}
+	switch {
+	case small || (c == nil && offset > 0):
+		// Few dates match (or the offset is past the end): one query, whichever index SQLite picks for the
+		// filter, sorting what matches.
+		q, qa := cond, args
+		if c != nil {
+			kc, ka := keysetCond(cols, desc, reverse, *c)
+			q, qa = andCond(q, qa, kc, ka...)
+		}
+		q = `SELECT ` + strings.Join(cols, ", ") + `, ` + strings.TrimPrefix(dateSelect, "SELECT ") + q + orderBy(cols, desc, reverse) +
+			fmt.Sprintf(" LIMIT %d", limit+1)
+		if c == nil && offset > 0 {
+			q += fmt.Sprintf(" OFFSET %d", offset)
+		}
+		rows, err = d.keyedDates(ctx, q, qa, len(cols))
 	case len(cols) == 2: // the unit sort
 		rows, err = d.datesByUnit(ctx, f, cond, args, keyDesc, idDesc, c, limit+1)
 	case keyDesc == idDesc:
@@ -74,11 +99,11 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 		if keyDesc {
 			dir = " DESC"
 		}
-		q := `SELECT ` + cols[0] + `, ` + strings.TrimPrefix(dateSelect, "SELECT ") + cond +
+		q := `SELECT ` + cols[0] + `, ` + strings.TrimPrefix(indexedBy(dateSelect, ix), "SELECT ") + cond +
 			" ORDER BY " + cols[0] + dir + ", d.id" + dir + fmt.Sprintf(" LIMIT %d", limit+1)
 		rows, err = d.keyedDates(ctx, q, args, 1)
 	default:
-		rows, err = d.datesByKey(ctx, f, cols[0], cond, args, keyDesc, idDesc, c, limit+1)
+		rows, err = d.datesByKey(ctx, cols[0], ix, cond, args, keyDesc, idDesc, c, limit+1)
 	}
 	if err != nil {
 		return pg, fmt.Errorf("dates page: %w", err)
@@ -100,7 +125,7 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 	case reverse:
 		pg.First = c.Pos - len(pg.Dates)
 	default:
-		pg.First = offset
+		pg.First = first
 	}
 	pg.First = max(pg.First, 0)
 	n := len(pg.Dates)
@@ -117,6 +142,108 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 		pg.Prev = at(0)
 	}
 	return pg, nil
+}
+
+// smallDateSet is the most matching dates a page reads in one query that sorts them all, letting SQLite
+// choose its index by the filter; above it, pages are read along the index of the sort key, which the
+// query is then held to (INDEXED BY): with a filter SQLite would otherwise choose the filter's index and
+// sort every match for each page (a third of 100,000 dates for a method).
+const smallDateSet = 5000
+
+// dateSortIndex is the index each sort key is read by (the unit sort reads dates_unit_id by unit; added,
+// the id, reads the table itself).
+var dateSortIndex = map[string]string{"age": "dates_age", "sigma": "dates_sigma_rel", "sample": "dates_sample",
+	"method": "dates_method", "material": "dates_material", "lab": "dates_laboratory", "added": "", "unit": ""}
+
+// indexedBy holds q's dates table to index ix (the table itself, by id, when ix is "").
+func indexedBy(q, ix string) string {
+	by := "NOT INDEXED"
+	if ix != "" {
+		by = "INDEXED BY " + ix
+	}
+	return strings.Replace(q, "FROM dates d ", "FROM dates d "+by+" ", 1)
+}
+
+// cursorAt is the cursor of the date at place p (0 = first) of the dates selected by cond in the order
+// (key in keyDesc's direction, id in idDesc's), found by counting along the index: the key at place p
+// (the order of the keys alone is the same whichever way ties go), how many dates come before that key,
+// and so the place of the date within the key's own dates. For the unit sort, the units' counts.
+func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond string, args []any, keyDesc, idDesc bool, p int) (*dateCursor, error) {
+	keyDir, idDir, before := " ASC", " ASC", "<"
+	if keyDesc {
+		keyDir, before = " DESC", ">"
+	}
+	if idDesc {
+		idDir = " DESC"
+	}
+	var key []any
+	var within int
+	var gc string
+	var ga []any
+	if len(cols) == 2 {
+		groups, err := d.unitGroups(ctx, f, keyDesc)
+		if err != nil {
+			return nil, err
+		}
+		counts := map[int64]int{}
+		rows, err := d.db.QueryContext(ctx, `SELECT coalesce(d.unit_id, 0), count(*)`+indexedBy(dateFrom, "dates_unit_id")+cond+` GROUP BY d.unit_id`, args...)
+		if err != nil {
+			return nil, err
+		}
+		for rows.Next() {
+			var id int64
+			var n int
+			if err := rows.Scan(&id, &n); err != nil {
+				rows.Close()
+				return nil, err
+			}
+			counts[id] = n
+		}
+		rows.Close()
+		if err := rows.Err(); err != nil {
+			return nil, err
+		}
+		at := 0
+		for _, g := range groups {
+			if n := counts[g.id]; p < at+n {
+				key, within = []any{g.key[0], g.key[1]}, p-at
+				gc, ga = andCond(cond, args, "d.unit_id = ?", g.id)
+				if g.id == 0 {
+					gc, ga = andCond(cond, args, "d.unit_id IS NULL")
+				}
+				break
+			} else {
+				at += n
+			}
+		}
+		if key == nil {
+			return nil, nil
+		}
+	} else {
+		expr := cols[0]
+		var k any
+		err := d.db.QueryRowContext(ctx, `SELECT `+expr+indexedBy(dateFrom, ix)+cond+` ORDER BY `+expr+keyDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, p), args...).Scan(&k)
+		if errors.Is(err, sql.ErrNoRows) {
+			return nil, nil
+		}
+		if err != nil {
+			return nil, err
+		}
+		k = cursorValue(k)
+		bc, ba := andCond(cond, args, expr+" "+before+" ?", k)
+		var n int
+		if err := d.db.QueryRowContext(ctx, `SELECT count(*)`+indexedBy(dateFrom, ix)+bc, ba...).Scan(&n); err != nil {
+			return nil, err
+		}
+		key, within = []any{k}, p-n
+		gc, ga = andCond(cond, args, expr+" = ?", k)
+	}
+	var id int64
+	err := d.db.QueryRowContext(ctx, `SELECT d.id`+dateFrom+gc+` ORDER BY d.id`+idDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, within), ga...).Scan(&id)
+	if err != nil {
+		return nil, err
+	}
+	return &dateCursor{Key: key, ID: id, Pos: p}, nil
 }
 
 // keyedDate is a date with the values of its sort key, as a cursor keeps them.
@@ -176,7 +303,7 @@ func andCond(cond string, args []any, more string, a ...any) (string, []any) {
 // datesByKey reads up to want dates one key value at a time, keys in the direction keyDesc says, the dates
 // of one key by id in the direction idDesc says, starting after cursor c (nil: from the first key). Each
 // step is two look-ups by the index of expr: the next key, then its dates from the id reached.
-func (d *DB) datesByKey(ctx context.Context, f DateFilter, expr, cond string, args []any, keyDesc, idDesc bool, c *dateCursor, want int) ([]keyedDate, error) {
+func (d *DB) datesByKey(ctx context.Context, expr, ix, cond string, args []any, keyDesc, idDesc bool, c *dateCursor, want int) ([]keyedDate, error) {
 	keyOp, keyDir, idOp, idDir := ">", " ASC", ">", " ASC"
 	if keyDesc {
 		keyOp, keyDir = "<", " DESC"
@@ -197,7 +324,7 @@ func (d *DB) datesByKey(ctx context.Context, f DateFilter, expr, cond string, ar
 				kc, ka = andCond(cond, args, expr+" "+keyOp+" ?", key)
 			}
 			var next any
-			q := `SELECT ` + expr + dateFrom + kc + ` ORDER BY ` + expr + keyDir + ` LIMIT 1`
+			q := `SELECT ` + expr + indexedBy(dateFrom, ix) + kc + ` ORDER BY ` + expr + keyDir + ` LIMIT 1`
 			if d.traceQuery != nil {
 				d.traceQuery(q, ka)
 			}
@@ -214,7 +341,7 @@ func (d *DB) datesByKey(ctx context.Context, f DateFilter, expr, cond string, ar
 		if afterID != nil {
 			gc, ga = andCond(gc, ga, "d.id "+idOp+" ?", *afterID)
 		}
-		got, err := d.keyedDates(ctx, `SELECT `+expr+`, `+strings.TrimPrefix(dateSelect, "SELECT ")+gc+
+		got, err := d.keyedDates(ctx, `SELECT `+expr+`, `+strings.TrimPrefix(indexedBy(dateSelect, ix), "SELECT ")+gc+
 			` ORDER BY d.id`+idDir+fmt.Sprintf(" LIMIT %d", want-len(out)), ga, 1)
 		if err != nil {
 			return nil, err
@@ -232,23 +359,20 @@ type unitGroup struct {
 	key [2]string
 }
 
-// datesByUnit reads up to want dates in the unit sort one unit at a time, as datesByKey does, the units
-// (a few hundred) listed and ordered first.
-func (d *DB) datesByUnit(ctx context.Context, f DateFilter, cond string, args []any, keyDesc, idDesc bool, c *dateCursor, want int) ([]keyedDate, error) {
+// unitGroups lists the units the dates selected by f can belong to (and the group of dates without a
+// unit, the sections'), in the order of the unit sort, reversed when keyDesc.
+func (d *DB) unitGroups(ctx context.Context, f DateFilter, keyDesc bool) ([]unitGroup, error) {
 	var groups []unitGroup
 	if f.SectionID != 0 || (f.ProvinceID == 0 && f.UnitID == 0) {
 		groups = append(groups, unitGroup{})
 	}
 	if f.SectionID == 0 {
-		q, qa := `SELECT u.id, p.name, u.name FROM units u JOIN provinces p ON p.id = u.province_id`, []any{}
+		q, qa := `SELECT u.id, p.name, u.name FROM units u JOIN provinces p ON p.id = u.province_id WHERE 1 = 1`, []any{}
 		if f.ProvinceID != 0 {
-			q, qa = q+` WHERE u.province_id = ?`, append(qa, f.ProvinceID)
+			q, qa = q+` AND u.province_id = ?`, append(qa, f.ProvinceID)
 		}
 		if f.UnitID != 0 {
 			q, qa = q+` AND u.id = ?`, append(qa, f.UnitID)
-			if f.ProvinceID == 0 {
-				q = strings.Replace(q, " AND ", " WHERE ", 1)
-			}
 		}
 		us, err := queryAll(ctx, d.db, q, qa, func(s interface{ Scan(...any) error }) (unitGroup, error) {
 			var g unitGroup
@@ -259,12 +383,21 @@ func (d *DB) datesByUnit(ctx context.Context, f DateFilter, cond string, args []
 		}
 		groups = append(groups, us...)
 	}
-	order := func(a, b unitGroup) int {
+	slices.SortFunc(groups, func(a, b unitGroup) int {
 		return cmp.Or(cmp.Compare(a.key[0], b.key[0]), cmp.Compare(a.key[1], b.key[1]), cmp.Compare(a.id, b.id))
-	}
-	slices.SortFunc(groups, order)
+	})
 	if keyDesc {
 		slices.Reverse(groups)
+	}
+	return groups, nil
+}
+
+// datesByUnit reads up to want dates in the unit sort one unit at a time, as datesByKey does, the units
+// (a few hundred) listed and ordered first.
+func (d *DB) datesByUnit(ctx context.Context, f DateFilter, cond string, args []any, keyDesc, idDesc bool, c *dateCursor, want int) ([]keyedDate, error) {
+	groups, err := d.unitGroups(ctx, f, keyDesc)
+	if err != nil {
+		return nil, err
 	}
 	start := 0
 	var afterID *int64

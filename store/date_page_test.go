@@ -3,6 +3,7 @@ package store
 import (
 	"context"
 	"fmt"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -42,6 +43,7 @@ func TestDatesPageQueriesUseTheSortIndexes(t *testing.T) {
 	}
 	var queries []string
 	var qargs [][]any
+	db.smallDates = 1 // every page along the index, as for a large compilation
 	db.traceQuery = func(q string, args []any) { queries, qargs = append(queries, q), append(qargs, args) }
 	for _, key := range DateSortKeys() {
 		for _, sort := range []string{key, "-" + key} {
@@ -59,6 +61,10 @@ func TestDatesPageQueriesUseTheSortIndexes(t *testing.T) {
 			if _, err := db.DatesPage(ctx, f); err != nil {
 				t.Fatal(err)
 			}
+			f.Before, f.Offset = "", 9 // an old link by rows skipped: the cursor found along the index
+			if _, err := db.DatesPage(ctx, f); err != nil {
+				t.Fatal(err)
+			}
 			for i, q := range queries {
 				plan := explain(t, db, q, qargs[i])
 				if !strings.Contains(plan, want[key]) || strings.Contains(plan, "TEMP B-TREE") {
@@ -68,6 +74,92 @@ func TestDatesPageQueriesUseTheSortIndexes(t *testing.T) {
 		}
 	}
 }
+
+// Read along the indexes (as for a large compilation, more than smallDateSet matches), every sort, both
+// ways, under filters of every kind, gives the dates in the order of the plain sorted query (DB.Dates, which
+// sorts all that match): walking forward by the next cursors, back by the previous ones, and from any place
+// reached by rows skipped.
+func TestDatesPageAlongTheIndexGivesTheSortedOrder(t *testing.T) {
+	db := mustOpenDB(t)
+	ctx := context.Background()
+	exec := func(q string, args ...any) {
+		t.Helper()
+		if _, err := db.db.ExecContext(ctx, q, args...); err != nil {
+			t.Fatal(err)
+		}
+	}
+	at := "2026-01-02T03:04:05Z"
+	exec(`INSERT INTO provinces (id, name, created_at, updated_at) VALUES (1, 'Invented B', ?, ?), (2, 'Invented A', ?, ?)`, at, at, at, at)
+	exec(`INSERT INTO units (id, province_id, name, created_at, updated_at) VALUES (1, 1, 'Flow Z', ?, ?), (2, 1, 'Flow A', ?, ?), (3, 2, 'Flow M', ?, ?)`,
+		at, at, at, at, at, at)
+	exec(`INSERT INTO sections (id, name, created_at, updated_at) VALUES (1, 'Invented Section', ?, ?)`, at, at)
+	for i := 1; i <= 300; i++ {
+		var unit, section, height any = 1 + i%3, nil, nil
+		if i%7 == 0 {
+			unit, section, height = nil, 1, float64(i)
+		}
+		exec(`INSERT INTO dates (id, unit_id, section_id, height_m, sample_code, method, material, interpretation, age_ma,
+			sigma_ma, sigma_level, laboratory, review_state, created_at, updated_at) VALUES (?,?,?,?,?,?,?,'eruption',?,?,1,?,'accepted',?,?)`,
+			i, unit, section, height, fmt.Sprintf("S-%03d", i%130), []string{"upb_idtims", "arar_plateau", "upb_laicpms"}[i%3],
+			[]string{"zircon", "sanidine", "glass", "Zircon"}[i%4], 180+float64(i%11), 0.01+float64(i%5)/100, []string{"Lab A", "Lab B", ""}[i%3], at, at)
+	}
+	db.smallDates = 1
+	filters := map[string]DateFilter{"all": {}, "province 1": {ProvinceID: 1}, "unit 3": {UnitID: 3}, "section 1": {SectionID: 1},
+		"ar/ar": {Method: "arar_plateau"}, "text": {Text: "lab b"}, "age window": {MinAgeMa: ptr(182.0), MaxAgeMa: ptr(187.0)}}
+	for name, base := range filters {
+		for _, key := range DateSortKeys() {
+			for _, sort := range []string{key, "-" + key} {
+				f := base
+				f.Sort = sort
+				all, total, err := db.Dates(ctx, f)
+				if err != nil {
+					t.Fatal(err)
+				}
+				want := make([]int64, len(all))
+				for i, d := range all {
+					want[i] = d.ID
+				}
+				f.Limit = 13
+				var got []int64
+				var cursors []string
+				for cur := ""; ; {
+					f.After = cur
+					pg, err := db.DatesPage(ctx, f)
+					if err != nil || pg.Total != total || pg.First != len(got) {
+						t.Fatalf("%s %s: %v, total %d first %d, want %d and %d", name, sort, err, pg.Total, pg.First, total, len(got))
+					}
+					for _, d := range pg.Dates {
+						got = append(got, d.ID)
+					}
+					if cur = pg.Next; cur == "" {
+						break
+					}
+					cursors = append(cursors, pg.Prev)
+				}
+				if !slices.Equal(got, want) {
+					t.Fatalf("%s sorted %s: forward %v, want %v", name, sort, got, want)
+				}
+				f.After = ""
+				for off := 1; off < total; off += 5 {
+					f.Offset = off
+					pg, err := db.DatesPage(ctx, f)
+					if err != nil || pg.First != off || len(pg.Dates) == 0 || pg.Dates[0].ID != want[off] {
+						t.Fatalf("%s %s: %d skipped: %v, first %d", name, sort, off, err, pg.First)
+					}
+					f.Offset, f.Before = 0, pg.Prev
+					back, err := db.DatesPage(ctx, f)
+					f.Before = ""
+					if err != nil || len(back.Dates) == 0 || back.Dates[len(back.Dates)-1].ID != want[off-1] || back.First != max(off-13, 0) {
+						t.Fatalf("%s %s: the page before place %d: %v, first %d", name, sort, off, err, back.First)
+					}
+				}
+				f.Offset = 0
+			}
+		}
+	}
+}
+
+func ptr[T any](v T) *T { return &v }
 
 func explain(t *testing.T, db *DB, q string, args []any) string {
 	t.Helper()

@@ -33,6 +33,7 @@ type DB struct {
 	uploadQuota int64
 	// traceQuery, when set (tests), is told each query the dates list pages run, to check their plans.
 	traceQuery func(q string, args []any)
+	smallDates int // tests: the dates list's smallDateSet (0: the constant)
 	// revCounts keeps how many revisions each change holds once counted (revisionCount).
 	revCounts revisionCounts
 }
