@@ -1,6 +1,7 @@
 package web
 
 import (
+	"database/sql"
 	"fmt"
 	"html"
 	"net/http"
@@ -110,4 +111,46 @@ func BenchmarkScaleDatesCSV(b *testing.B) {
 	}
 	b.ReportMetric(peak/1e6, "peak-heap-MB")
 	b.ReportMetric(float64(size)/1e6, "body-MB")
+}
+
+// moveUnits moves units 1–n of the scale compilation into province 1, so that one province holds n×225
+// dates (45 units: 10,125 dates, the size of issue 13's timeline target).
+func (s scaleDB) moveUnits(tb testing.TB, n int) {
+	tb.Helper()
+	raw, err := sql.Open("sqlite", "file:"+s.path+"?_pragma=busy_timeout(5000)")
+	if err != nil {
+		tb.Fatal(err)
+	}
+	defer raw.Close()
+	if _, err := raw.Exec(`UPDATE units SET province_id = 1 WHERE id <= ?`, n); err != nil {
+		tb.Fatal(err)
+	}
+}
+
+// BenchmarkScaleTimeline renders the timeline page of a province of 10,125 dates in 45 units, within the
+// compilation of 100,000, counting one value per unit (the default) and every date; it reports the size of
+// the page (html-KB).
+// go test ./web -run '^$' -bench BenchmarkScaleTimeline -benchtime 10x
+func BenchmarkScaleTimeline(b *testing.B) {
+	s := newScaleDB(b, scaleDates)
+	s.moveUnits(b, 45)
+	h := s.handler()
+	for _, c := range []struct{ name, path string }{
+		{"unit", "/provinces/1/timeline"},
+		{"date", "/provinces/1/timeline?count=date"},
+		{"svg", "/provinces/1/timeline?format=svg"},
+	} {
+		b.Run(c.name, func(b *testing.B) {
+			var size int
+			for b.Loop() {
+				rec := httptest.NewRecorder()
+				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, c.path, nil))
+				if rec.Code != http.StatusOK {
+					b.Fatalf("%s: status %d", c.path, rec.Code)
+				}
+				size = rec.Body.Len()
+			}
+			b.ReportMetric(float64(size)/1e3, "html-KB")
+		})
+	}
 }
