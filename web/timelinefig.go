@@ -258,6 +258,9 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 		f.SigmaNote += fmt.Sprintf("Grey boxes: each unit's weighted mean ± %dσ at the %s level — the value counted. ", level, ch.Sum.Level)
 	}
 	f.SigmaNote += "Density per Ma; pulses numbered from the oldest; hover over a date for its record."
+	if slices.ContainsFunc(rows, func(r views.FigureRow) bool { return r.Band != nil }) {
+		f.SigmaNote += fmt.Sprintf(" A unit with more than %d dates is drawn as one band: the span of its dates' error bars, and a profile of how many dates fall at each age; click the band for the list of its dates.", figureDatesEach)
+	}
 	return f
 }
 
@@ -316,14 +319,23 @@ func pulseTable(res densityResult, ch densityChoice) views.Table {
 	return t
 }
 
-// valueTable lists the values counted in the density.
+// valuesShown is the most values the timeline page lists; the CSV (values) download holds them all.
+const valuesShown = 200
+
+// valueTable lists the values counted in the density, the first valuesShown of them.
 func valueTable(res densityResult, ch densityChoice) views.Table {
 	level := ch.Sum.Sigma
 	t := views.Table{ID: "values", Caption: fmt.Sprintf("Values counted (%d)", len(res.Values)),
 		Columns: []views.Column{{Label: "Unit"}, {Label: "Sample"}, {Label: "System"}, {Label: "Age", Unit: "Ma", Num: true},
 			{Label: fmt.Sprintf("± %dσ", level), Unit: "Ma", Num: true}, {Label: "Weight", Num: true, Title: "relative weight in the density"},
 			{Label: "Dates", Num: true}}, Empty: "Nothing to count."}
-	for _, v := range res.Values {
+	shown := res.Values
+	if len(shown) > valuesShown {
+		shown = shown[:valuesShown]
+		t.Caption = fmt.Sprintf("Values counted (%d; the first %d listed)", len(res.Values), valuesShown)
+		t.Notes = append(t.Notes, fmt.Sprintf("The first %d of the %d values counted are listed here; the CSV (values) and JSON downloads above hold every one.", valuesShown, len(res.Values)))
+	}
+	for _, v := range shown {
 		a, sg := ageSigma(v.AgeMa, v.Sigma1s, level)
 		sample := "— (unit mean)"
 		if v.Sample != "" {
