@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"database/sql"
 	"fmt"
 	"html"
@@ -55,6 +56,26 @@ func BenchmarkScaleLists(b *testing.B) {
 			}
 		})
 	}
+	// The store's side of accept and of the pending counts: the pending records of the large import (none)
+	// and of the upload (1,000), and accepting the import, which has nothing pending (refused, so the run
+	// can repeat; it reads what accepting would).
+	ctx := context.Background()
+	for name, batch := range map[string]int64{"pending-of-import": s.importBatch, "pending-of-upload": s.uploadBatch} {
+		b.Run(name, func(b *testing.B) {
+			for b.Loop() {
+				if _, err := s.db.PendingInBatch(ctx, batch); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+	b.Run("accept-import-nothing-pending", func(b *testing.B) {
+		for b.Loop() {
+			if _, _, err := s.db.AcceptBatch(ctx, s.importBatch); err == nil {
+				b.Fatal("accepted a change with nothing pending")
+			}
+		}
+	})
 }
 
 // discard is a ResponseWriter that keeps nothing of the body but its length, so that the memory measured
