@@ -6,6 +6,8 @@
 //	coeval [-db FILE] import KIND [SECTION] FILE         KIND: provinces, units, sections, dates; or, for one
 //	                                                     section: measurements, ties, events, hiatuses
 //	coeval [-db FILE] export KIND [SECTION] [-o FILE]    the same kinds, in the import formats
+//	coeval [-db FILE] import dates FILE -mapping NAME    a paper's table through a saved mapping
+//	coeval [-db FILE] export mappings [-o FILE]          the saved mappings (JSON); import mappings FILE
 //	coeval [-db FILE] target [CODE]                      show or set the target ⁴⁰Ar/³⁹Ar calibration
 package main
 
@@ -83,6 +85,9 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
   coeval [-db FILE] [-addr HOST:PORT] [-demo=false]   serve the compilation (default)
   coeval [-db FILE] import KIND [SECTION] FILE         import a CSV file, all or nothing
   coeval [-db FILE] export KIND [SECTION] [-o FILE]    export in the same format
+  coeval [-db FILE] import dates FILE -mapping NAME    import a paper's table (CSV or .xlsx) through a saved mapping
+  coeval [-db FILE] export mappings [-o FILE]          the saved mappings of papers' tables, as JSON
+  coeval [-db FILE] import mappings FILE               read them back, all or none
   coeval [-db FILE] user add NAME -role ROLE           add an account (password from the terminal or stdin)
   coeval [-db FILE] backup FILE                        a consistent copy of the database, while it runs
   coeval [-db FILE] target [CODE]                      show the calibrations, or set the target one
@@ -260,17 +265,51 @@ func kindArgs(verb string, args []string, wantFile bool) (kind, section string, 
 	return kind, section, args, nil
 }
 
+// mappingFlag takes "-mapping NAME" (or -mapping=NAME, with one or two dashes) out of args.
+func mappingFlag(args []string) (name string, rest []string, err error) {
+	for i := 0; i < len(args); i++ {
+		a := args[i]
+		flagName, value, hasValue := strings.Cut(strings.TrimLeft(a, "-"), "=")
+		if !strings.HasPrefix(a, "-") || flagName != "mapping" {
+			rest = append(rest, a)
+			continue
+		}
+		if !hasValue {
+			if i+1 >= len(args) {
+				return "", nil, fmt.Errorf("import: -mapping wants the name of a saved mapping")
+			}
+			i++
+			value = args[i]
+		}
+		name = value
+	}
+	return name, rest, nil
+}
+
 func importCmd(ctx context.Context, cfg config, args []string, stdout io.Writer) error {
+	if len(args) > 0 && args[0] == "mappings" {
+		return importMappingsCmd(ctx, cfg, args[1:], stdout)
+	}
+	mapping, args, err := mappingFlag(args)
+	if err != nil {
+		return err
+	}
 	kind, section, rest, err := kindArgs("import", args, true)
 	if err != nil {
 		return err
 	}
 	file := rest[0]
+	if mapping != "" && kind != "dates" {
+		return fmt.Errorf("import %s: -mapping reads dates only", kind)
+	}
 	db, err := openStore(ctx, cfg.dbPath)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
+	if mapping != "" {
+		return importMappedCmd(ctx, db, cfg, mapping, file, stdout)
+	}
 	abs, err := filepath.Abs(file)
 	if err != nil {
 		return err
@@ -297,7 +336,78 @@ func indent(ps []store.Problem) string {
 	return strings.Join(lines, "\n")
 }
 
+// importMappedCmd imports a table as a paper publishes it through a saved mapping, all or nothing.
+func importMappedCmd(ctx context.Context, db *store.DB, cfg config, name, file string, stdout io.Writer) error {
+	m, err := db.MappingByName(ctx, name)
+	if errors.Is(err, store.ErrNotFound) {
+		ms, _ := db.Mappings(ctx)
+		names := make([]string, len(ms))
+		for i, x := range ms {
+			names[i] = x.Name
+		}
+		return fmt.Errorf("import %s: no saved mapping named %q (saved: %s)", file, name, orNone(names))
+	} else if err != nil {
+		return err
+	}
+	body, err := os.ReadFile(file)
+	if err != nil {
+		return err
+	}
+	res, mp, err := db.ImportMapped(ctx, m, filepath.Base(file), body)
+	if err != nil {
+		if ve, ok := store.AsValidation(err); ok {
+			return fmt.Errorf("import %s rejected, nothing was imported:\n%s", file, indent(ve.Problems))
+		}
+		if store.IsUnwritable(err) {
+			return fmt.Errorf("import %s: the database %s cannot be written (read-only or disk full); nothing was imported", file, cfg.dbPath)
+		}
+		return err
+	}
+	fmt.Fprintln(stdout, res.String())
+	for _, sk := range mp.Skipped {
+		fmt.Fprintf(stdout, "  skipped line %d (%s): %s\n", sk.Line, sk.Reason, sk.Text)
+	}
+	return nil
+}
+
+func orNone(ss []string) string {
+	if len(ss) == 0 {
+		return "none"
+	}
+	return strings.Join(ss, ", ")
+}
+
+// importMappingsCmd reads saved mappings (as export mappings writes them), all or none.
+func importMappingsCmd(ctx context.Context, cfg config, args []string, stdout io.Writer) error {
+	if len(args) != 1 {
+		return fmt.Errorf("import mappings: want one FILE.json (as export mappings writes)")
+	}
+	f, err := os.Open(args[0])
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	db, err := openStore(ctx, cfg.dbPath)
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	n, err := db.ImportMappings(ctx, filepath.Base(args[0]), f)
+	if ve, ok := store.AsValidation(err); ok {
+		return fmt.Errorf("import mappings %s rejected, nothing was imported:\n%s", args[0], indent(ve.Problems))
+	} else if err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "%s: %d mapping(s) added (those already saved as they are were left)\n", args[0], n)
+	return nil
+}
+
 func exportCmd(ctx context.Context, cfg config, args []string, stdout, stderr io.Writer) error {
+	exportTo := func(db *store.DB, kind, section string, w io.Writer) error { return db.Export(ctx, kind, section, w) }
+	if len(args) > 0 && args[0] == "mappings" {
+		args = append([]string{"dates"}, args[1:]...) // the flags as for any kind
+		exportTo = func(db *store.DB, _, _ string, w io.Writer) error { return db.ExportMappings(ctx, w) }
+	}
 	kind, section, rest, err := kindArgs("export", args, false)
 	if err != nil {
 		return err
@@ -317,7 +427,7 @@ func exportCmd(ctx context.Context, cfg config, args []string, stdout, stderr io
 	}
 	defer db.Close()
 	if *out == "" {
-		return db.Export(ctx, kind, section, stdout)
+		return exportTo(db, kind, section, stdout)
 	}
 	// Write to a temporary file beside the target and rename, so a failed export leaves no partial file.
 	tmp, err := os.CreateTemp(filepath.Dir(*out), ".coeval-export-*")
@@ -325,7 +435,7 @@ func exportCmd(ctx context.Context, cfg config, args []string, stdout, stderr io
 		return err
 	}
 	defer os.Remove(tmp.Name())
-	if err := db.Export(ctx, kind, section, tmp); err != nil {
+	if err := exportTo(db, kind, section, tmp); err != nil {
 		tmp.Close()
 		return err
 	}

@@ -32,6 +32,12 @@ document.addEventListener("DOMContentLoaded", function () {
       label.textContent = " sent; every row is being checked…";
     };
     xhr.onload = function () {
+      // Answered with a redirect (a paper's table goes on to the mapping of its columns): go to that page,
+      // so the address shown is the page's own.
+      if (xhr.responseURL && new URL(xhr.responseURL).pathname !== new URL(form.action, location.href).pathname) {
+        location.assign(xhr.responseURL);
+        return;
+      }
       document.open();
       document.write(xhr.responseText);
       document.close();

@@ -78,7 +78,7 @@ func anomalyDecisionType() recordType[AnomalyDecision] {
 
 // AnomalyDecisions returns the decisions on the anomalies of a section, lowest first.
 func (d *DB) AnomalyDecisions(ctx context.Context, sectionID int64) ([]AnomalyDecision, error) {
-	return queryAll(ctx, d.db, anomalyDecisionSelect+` WHERE a.section_id = ? ORDER BY a.base_height_m, a.series, a.id`,
+	return queryAll(ctx, d.reader(), anomalyDecisionSelect+` WHERE a.section_id = ? ORDER BY a.base_height_m, a.series, a.id`,
 		[]any{sectionID}, scanAnomalyDecision)
 }
 

@@ -71,7 +71,7 @@ func addRevision(ctx context.Context, tx *sql.Tx, batch int64, recordType string
 
 // LatestBatches returns the most recent change batches, newest first.
 func (d *DB) LatestBatches(ctx context.Context, limit int) ([]Batch, error) {
-	rows, err := d.db.QueryContext(ctx, `SELECT id, kind, source, at, summary FROM change_batches ORDER BY id DESC LIMIT ?`, limit)
+	rows, err := d.reader().QueryContext(ctx, `SELECT id, kind, source, at, summary FROM change_batches ORDER BY id DESC LIMIT ?`, limit)
 	if err != nil {
 		return nil, fmt.Errorf("latest batches: %w", err)
 	}
@@ -90,7 +90,7 @@ func (d *DB) LatestBatches(ctx context.Context, limit int) ([]Batch, error) {
 // RevisionCount returns how many revisions reference a record.
 func (d *DB) RevisionCount(ctx context.Context, recordType string, id int64) (int, error) {
 	var n int
-	err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ?`, recordType, id).Scan(&n)
+	err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE record_type = ? AND record_id = ?`, recordType, id).Scan(&n)
 	return n, err
 }
 
@@ -122,18 +122,21 @@ const revisionCountsKept = 10_000
 
 // revisionCount returns how many revisions change batch holds.
 func (d *DB) revisionCount(ctx context.Context, batch int64) (int, error) {
-	c := &d.revCounts
-	c.mu.Lock()
-	n, ok := c.m[batch]
-	c.mu.Unlock()
-	if ok {
-		return n, nil
+	c := d.revCounts
+	if c != nil {
+		c.mu.Lock()
+		n, ok := c.m[batch]
+		c.mu.Unlock()
+		if ok {
+			return n, nil
+		}
 	}
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE batch_id = ?`, batch).Scan(&n); err != nil {
+	var n int
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM revisions WHERE batch_id = ?`, batch).Scan(&n); err != nil {
 		return 0, fmt.Errorf("revisions of change %d: %w", batch, err)
 	}
-	if n == 0 {
-		return 0, nil // not kept: a change without revisions is no change (its page answers 404)
+	if n == 0 || c == nil {
+		return n, nil // not kept: a change without revisions is no change (its page answers 404)
 	}
 	c.mu.Lock()
 	if c.m == nil || len(c.m) >= revisionCountsKept {

@@ -183,19 +183,13 @@ func (d *DB) AcceptBatch(ctx context.Context, batchID int64) (int, []string, err
 	return n, skipped, err
 }
 
-// queryer is what reads both outside and inside a transaction.
-type queryer interface {
-	QueryContext(ctx context.Context, q string, args ...any) (*sql.Rows, error)
-	QueryRowContext(ctx context.Context, q string, args ...any) *sql.Row
-}
-
 // pendingAdded gives, one per reviewed kind that has pending records, a query of the ids of the revisions
 // by which batch added a record of that kind that waits for review now, and their arguments. Each is
 // joined from the shorter side: from the kind's pending records (by its partial index of pending rows,
 // migration 012) to their revisions (revisions_record) when there are no more of them than batch has
 // revisions, else from batch's revisions (revisions_batch) to their records. The batch's size is bounded
 // by the span of its revision ids (two index look-ups), not counted. Both sides select the same pairs.
-func pendingAdded(ctx context.Context, q queryer, batchID int64) ([]string, []any, error) {
+func pendingAdded(ctx context.Context, q querier, batchID int64) ([]string, []any, error) {
 	type reviewed struct{ table, name string }
 	var ks []reviewed
 	counts := []string{`coalesce((SELECT max(id) FROM revisions WHERE batch_id = ?1) - (SELECT min(id) FROM revisions WHERE batch_id = ?1) + 1, 0)`}
@@ -240,11 +234,11 @@ func pendingAdded(ctx context.Context, q queryer, batchID int64) ([]string, []an
 // PendingInBatch counts the records of the reviewed kinds that batch added and that wait for review now,
 // each kind read from its shorter side (pendingAdded).
 func (d *DB) PendingInBatch(ctx context.Context, batchID int64) (int, error) {
-	sides, args, err := pendingAdded(ctx, d.db, batchID)
+	sides, args, err := pendingAdded(ctx, d.reader(), batchID)
 	if err != nil || len(sides) == 0 {
 		return 0, err
 	}
 	var n int
-	err = d.db.QueryRowContext(ctx, `SELECT count(*) FROM (`+strings.Join(sides, " UNION ALL ")+`)`, args...).Scan(&n)
+	err = d.reader().QueryRowContext(ctx, `SELECT count(*) FROM (`+strings.Join(sides, " UNION ALL ")+`)`, args...).Scan(&n)
 	return n, err
 }

@@ -2,6 +2,7 @@ package store
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"strings"
 )
@@ -13,6 +14,8 @@ type Comparison struct {
 	Name      string `json:"name"`
 	Query     string `json:"query"`
 	DataStamp int64  `json:"data_stamp"`
+	// Release is the version of the release the comparison is pinned to ("" for the current data).
+	Release   string `json:"release,omitempty"`
 	UserID    *int64 `json:"user_id"`
 	User      string `json:"user"`
 	CreatedAt string `json:"created_at"`
@@ -23,7 +26,7 @@ type Comparison struct {
 // means the records may have changed; an equal stamp means they have not.
 func (d *DB) DataStamp(ctx context.Context) (int64, error) {
 	var n int64
-	if err := d.db.QueryRowContext(ctx, `SELECT COALESCE(MAX(id), 0) FROM change_batches`).Scan(&n); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT COALESCE(MAX(id), 0) FROM change_batches`).Scan(&n); err != nil {
 		return 0, fmt.Errorf("data stamp: %w", err)
 	}
 	return n, nil
@@ -45,6 +48,13 @@ func (d *DB) SaveComparison(ctx context.Context, c Comparison) (int64, error) {
 	if c.DataStamp < 0 {
 		probs = append(probs, Problem{Column: "data_stamp", Message: "want a stamp ≥ 0"})
 	}
+	if c.Release != "" {
+		if _, err := d.ReleaseByVersion(ctx, c.Release); errors.Is(err, ErrNotFound) {
+			probs = append(probs, Problem{Column: "release", Message: fmt.Sprintf("there is no release %q", c.Release)})
+		} else if err != nil {
+			return 0, err
+		}
+	}
 	if len(probs) > 0 {
 		return 0, &ValidationError{probs}
 	}
@@ -52,28 +62,28 @@ func (d *DB) SaveComparison(ctx context.Context, c Comparison) (int64, error) {
 	if id := actor(ctx); id != nil {
 		user = *id
 	}
-	r, err := d.db.ExecContext(ctx, `INSERT INTO comparisons (name, query, data_stamp, user_id, created_at) VALUES (?, ?, ?, ?, ?)`,
-		c.Name, c.Query, c.DataStamp, user, d.stamp())
+	r, err := d.db.ExecContext(ctx, `INSERT INTO comparisons (name, query, data_stamp, release_version, user_id, created_at) VALUES (?, ?, ?, ?, ?, ?)`,
+		c.Name, c.Query, c.DataStamp, c.Release, user, d.stamp())
 	if err != nil {
 		return 0, fmt.Errorf("save comparison: %w", err)
 	}
 	return r.LastInsertId()
 }
 
-const comparisonSelect = `SELECT c.id, c.name, c.query, c.data_stamp, c.user_id, COALESCE(u.name, ''), c.created_at
+const comparisonSelect = `SELECT c.id, c.name, c.query, c.data_stamp, c.release_version, c.user_id, COALESCE(u.name, ''), c.created_at
 	FROM comparisons c LEFT JOIN users u ON u.id = c.user_id`
 
 type rowScanner interface{ Scan(dest ...any) error }
 
 func scanComparison(r rowScanner) (Comparison, error) {
 	var c Comparison
-	err := r.Scan(&c.ID, &c.Name, &c.Query, &c.DataStamp, &c.UserID, &c.User, &c.CreatedAt)
+	err := r.Scan(&c.ID, &c.Name, &c.Query, &c.DataStamp, &c.Release, &c.UserID, &c.User, &c.CreatedAt)
 	return c, err
 }
 
 // Comparisons lists the saved comparisons, newest first.
 func (d *DB) Comparisons(ctx context.Context) ([]Comparison, error) {
-	rows, err := d.db.QueryContext(ctx, comparisonSelect+` ORDER BY c.created_at DESC, c.id DESC`)
+	rows, err := d.reader().QueryContext(ctx, comparisonSelect+` ORDER BY c.created_at DESC, c.id DESC`)
 	if err != nil {
 		return nil, fmt.Errorf("comparisons: %w", err)
 	}
@@ -91,6 +101,6 @@ func (d *DB) Comparisons(ctx context.Context) ([]Comparison, error) {
 
 // Comparison returns one saved comparison, or ErrNotFound.
 func (d *DB) Comparison(ctx context.Context, id int64) (Comparison, error) {
-	c, err := scanComparison(d.db.QueryRowContext(ctx, comparisonSelect+` WHERE c.id = ?`, id))
+	c, err := scanComparison(d.reader().QueryRowContext(ctx, comparisonSelect+` WHERE c.id = ?`, id))
 	return c, notFound(err, "comparison", id)
 }

@@ -23,7 +23,7 @@ import (
 func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 	var pg DatePage
 	cond, args := dateWhere(f)
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*)`+keyFrom(f)+cond, args...).Scan(&pg.Total); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*)`+keyFrom(f)+cond, args...).Scan(&pg.Total); err != nil {
 		return pg, fmt.Errorf("count dates: %w", err)
 	}
 	cols, desc := dateOrder(f)
@@ -191,7 +191,7 @@ func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond
 			return nil, err
 		}
 		counts := map[int64]int{}
-		rows, err := d.db.QueryContext(ctx, `SELECT coalesce(d.unit_id, 0), count(*)`+indexedBy(keyFrom(f), "dates_unit_id")+cond+` GROUP BY d.unit_id`, args...)
+		rows, err := d.reader().QueryContext(ctx, `SELECT coalesce(d.unit_id, 0), count(*)`+indexedBy(keyFrom(f), "dates_unit_id")+cond+` GROUP BY d.unit_id`, args...)
 		if err != nil {
 			return nil, err
 		}
@@ -227,7 +227,7 @@ func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond
 	} else {
 		expr := cols[0]
 		var k any
-		err := d.db.QueryRowContext(ctx, `SELECT `+expr+indexedBy(keyFrom(f), ix)+cond+` ORDER BY `+expr+keyDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, p), args...).Scan(&k)
+		err := d.reader().QueryRowContext(ctx, `SELECT `+expr+indexedBy(keyFrom(f), ix)+cond+` ORDER BY `+expr+keyDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, p), args...).Scan(&k)
 		if errors.Is(err, sql.ErrNoRows) {
 			return nil, nil
 		}
@@ -237,14 +237,14 @@ func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond
 		k = cursorValue(k)
 		bc, ba := andCond(cond, args, expr+" "+before+" ?", k)
 		var n int
-		if err := d.db.QueryRowContext(ctx, `SELECT count(*)`+indexedBy(keyFrom(f), ix)+bc, ba...).Scan(&n); err != nil {
+		if err := d.reader().QueryRowContext(ctx, `SELECT count(*)`+indexedBy(keyFrom(f), ix)+bc, ba...).Scan(&n); err != nil {
 			return nil, err
 		}
 		key, within = []any{k}, p-n
 		gc, ga = andCond(cond, args, expr+" = ?", k)
 	}
 	var id int64
-	err := d.db.QueryRowContext(ctx, `SELECT d.id`+keyFrom(f)+gc+` ORDER BY d.id`+idDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, within), ga...).Scan(&id)
+	err := d.reader().QueryRowContext(ctx, `SELECT d.id`+keyFrom(f)+gc+` ORDER BY d.id`+idDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, within), ga...).Scan(&id)
 	if err != nil {
 		return nil, err
 	}
@@ -262,7 +262,7 @@ func (d *DB) keyedDates(ctx context.Context, q string, args []any, keys int) ([]
 	if d.traceQuery != nil {
 		d.traceQuery(q, args)
 	}
-	rows, err := d.db.QueryContext(ctx, q, args...)
+	rows, err := d.reader().QueryContext(ctx, q, args...)
 	if err != nil {
 		return nil, err
 	}
@@ -333,7 +333,7 @@ func (d *DB) datesByKey(ctx context.Context, f DateFilter, expr, ix, cond string
 			if d.traceQuery != nil {
 				d.traceQuery(q, ka)
 			}
-			err := d.db.QueryRowContext(ctx, q, ka...).Scan(&next)
+			err := d.reader().QueryRowContext(ctx, q, ka...).Scan(&next)
 			if errors.Is(err, sql.ErrNoRows) {
 				break
 			}
@@ -379,7 +379,7 @@ func (d *DB) unitGroups(ctx context.Context, f DateFilter, keyDesc bool) ([]unit
 		if f.UnitID != 0 {
 			q, qa = q+` AND u.id = ?`, append(qa, f.UnitID)
 		}
-		us, err := queryAll(ctx, d.db, q, qa, func(s interface{ Scan(...any) error }) (unitGroup, error) {
+		us, err := queryAll(ctx, d.reader(), q, qa, func(s interface{ Scan(...any) error }) (unitGroup, error) {
 			var g unitGroup
 			return g, s.Scan(&g.id, &g.key[0], &g.key[1])
 		})

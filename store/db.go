@@ -35,7 +35,9 @@ type DB struct {
 	traceQuery func(q string, args []any)
 	smallDates int // tests: the dates list's smallDateSet (0: the constant)
 	// revCounts keeps how many revisions each change holds once counted (revisionCount).
-	revCounts revisionCounts
+	revCounts *revisionCounts // shared by the copies ReadSnapshot makes; nil: not kept
+	// rq, when set, is the read transaction of a snapshot (ReadSnapshot): every read goes through it.
+	rq querier
 }
 
 // Open opens (creating if needed) the SQLite file at path with the pragmas every pooled connection needs:
@@ -99,7 +101,7 @@ func open(ctx context.Context, path string, mode string) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
-	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != ""}, nil
+	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != "", revCounts: &revisionCounts{}}, nil
 }
 
 // escapePath escapes the characters that would end a path in a URI or be decoded (a "#" in a path once
@@ -167,11 +169,11 @@ func (d *DB) PendingMigrations(ctx context.Context, fsys fs.FS) ([]int, error) {
 	}
 	done := map[int]bool{}
 	var has int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE name = 'schema_migrations'`).Scan(&has); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE name = 'schema_migrations'`).Scan(&has); err != nil {
 		return nil, fmt.Errorf("migrations: %w", err)
 	}
 	if has > 0 {
-		vs, err := queryAll(ctx, d.db, `SELECT version FROM schema_migrations`, nil,
+		vs, err := queryAll(ctx, d.reader(), `SELECT version FROM schema_migrations`, nil,
 			func(r interface{ Scan(...any) error }) (int, error) { var v int; return v, r.Scan(&v) })
 		if err != nil {
 			return nil, fmt.Errorf("migrations: %w", err)

@@ -53,33 +53,33 @@ func scanRevision(s interface{ Scan(...any) error }) (Revision, error) {
 
 // Revisions returns the history of one record, newest first.
 func (d *DB) Revisions(ctx context.Context, recordType string, id int64) ([]Revision, error) {
-	return queryAll(ctx, d.db, revisionSelect+` WHERE r.record_type = ? AND r.record_id = ? ORDER BY r.id DESC`,
+	return queryAll(ctx, d.reader(), revisionSelect+` WHERE r.record_type = ? AND r.record_id = ? ORDER BY r.id DESC`,
 		[]any{recordType, id}, scanRevision)
 }
 
 // RevisionByID returns one revision, or ErrNotFound.
 func (d *DB) RevisionByID(ctx context.Context, id int64) (Revision, error) {
-	r, err := scanRevision(d.db.QueryRowContext(ctx, revisionSelect+` WHERE r.id = ?`, id))
+	r, err := scanRevision(d.reader().QueryRowContext(ctx, revisionSelect+` WHERE r.id = ?`, id))
 	return r, notFound(err, "revision", id)
 }
 
 // BatchRevisions returns the revisions of one change batch, in the order they were made.
 func (d *DB) BatchRevisions(ctx context.Context, batchID int64) ([]Revision, error) {
-	return queryAll(ctx, d.db, revisionSelect+` WHERE r.batch_id = ? ORDER BY r.id`, []any{batchID}, scanRevision)
+	return queryAll(ctx, d.reader(), revisionSelect+` WHERE r.batch_id = ? ORDER BY r.id`, []any{batchID}, scanRevision)
 }
 
 // BatchRevisionsAfter returns up to limit revisions of one change batch made after revision after (0: from
 // the first), in the order they were made: one page of a change, keyset on the revision id (index
 // revisions_batch), so that every page costs the same.
 func (d *DB) BatchRevisionsAfter(ctx context.Context, batchID, after int64, limit int) ([]Revision, error) {
-	return queryAll(ctx, d.db, revisionSelect+` WHERE r.batch_id = ? AND r.id > ? ORDER BY r.id LIMIT ?`,
+	return queryAll(ctx, d.reader(), revisionSelect+` WHERE r.batch_id = ? AND r.id > ? ORDER BY r.id LIMIT ?`,
 		[]any{batchID, after, max(limit, 1)}, scanRevision)
 }
 
 // BatchByID returns one change batch with who made it and how many revisions it holds, or ErrNotFound.
 func (d *DB) BatchByID(ctx context.Context, id int64) (BatchRow, error) {
 	var b BatchRow
-	err := d.db.QueryRowContext(ctx, `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, '')
+	err := d.reader().QueryRowContext(ctx, `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, '')
 		FROM change_batches b LEFT JOIN users u ON u.id = b.user_id WHERE b.id = ?`, id).
 		Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User)
 	if err != nil {

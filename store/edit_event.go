@@ -37,7 +37,7 @@ func eventInTx(ctx context.Context, tx *sql.Tx, id int64) (Event, error) {
 
 // Event returns one event, or ErrNotFound.
 func (d *DB) Event(ctx context.Context, id int64) (Event, error) {
-	e, err := scanEvent(d.db.QueryRowContext(ctx, eventSelect+` WHERE e.id = ?`, id))
+	e, err := scanEvent(d.reader().QueryRowContext(ctx, eventSelect+` WHERE e.id = ?`, id))
 	return e, notFound(err, "event", id)
 }
 

@@ -37,7 +37,7 @@ func tieInTx(ctx context.Context, tx *sql.Tx, id int64) (TiePoint, error) {
 
 // TiePoint returns one tie point, or ErrNotFound.
 func (d *DB) TiePoint(ctx context.Context, id int64) (TiePoint, error) {
-	t, err := scanTie(d.db.QueryRowContext(ctx, tieSelect+` WHERE t.id = ?`, id))
+	t, err := scanTie(d.reader().QueryRowContext(ctx, tieSelect+` WHERE t.id = ?`, id))
 	return t, notFound(err, "tie point", id)
 }
 

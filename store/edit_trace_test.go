@@ -54,7 +54,7 @@ func TestEditTraceGolden(t *testing.T) {
 	_, err = db.CreateUnit(ctx, Form{"province": "", "unit": "", "kind": "zz"})
 	note("bad unit", err)
 	df := Form{"province": "P2", "unit": "U2", "sample_code": "S-1", "method": "upb_idtims", "material": "zircon",
-		"interpretation": "eruption", "age_ma": "155.4", "sigma_ma": "0.06", "sigma_level": "2", "review_state": "accepted"}
+		"interpretation": "eruption", "age_ma": "155.4", "sigma_ma": "0.06", "sigma_level": "2", "review_state": "accepted", FormNewUnit: "1"}
 	d, err := db.CreateDate(ctx, df, true)
 	note("create date", err)
 	_, err = db.CreateDate(ctx, df, true)

@@ -200,7 +200,7 @@ func sampleCell(s Sample, col string) string {
 
 // SectionByName returns the section with that name, or ErrNotFound.
 func (d *DB) SectionByName(ctx context.Context, name string) (Section, error) {
-	s, err := scanSection(d.db.QueryRowContext(ctx, sectionSelect+` WHERE s.name = ?`, name))
+	s, err := scanSection(d.reader().QueryRowContext(ctx, sectionSelect+` WHERE s.name = ?`, name))
 	if errors.Is(err, sql.ErrNoRows) {
 		return s, fmt.Errorf("section %q: %w", name, ErrNotFound)
 	}

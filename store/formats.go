@@ -167,6 +167,11 @@ func FileFormats() []FileFormat {
 				reviewColumn("date"),
 				notes,
 			},
+			Notes: []string{
+				"A table as a paper publishes it (its own column names, ages in ka or years, uncertainties at 2σ or as a percentage of the age, a header over two rows, notes under it, on any sheet of a workbook) " +
+					"need not be reshaped: on the Import page choose “a table as a paper publishes it” and say which of its columns is which; the converted values are shown beside the file's cells before anything is imported. " +
+					"The mapping can be saved under a name and is offered again for the next file with the same columns; the change it imports says how each column was read.",
+			},
 		},
 		{
 			Kind: "measurements", Title: "Measurements of a section", PerSection: true,

@@ -186,7 +186,7 @@ func FuzzDateForm(f *testing.F) {
 		ctx := context.Background()
 		db := mustOpenDB(t)
 		form := Form{"province": province, "unit": unit, "sample_code": sample, "method": method, "interpretation": interp,
-			"age_ma": age, "sigma_ma": sigma, "sigma_level": level, "monitor_age_ma": monitorAge, "lambda_per_a": lambda}
+			"age_ma": age, "sigma_ma": sigma, "sigma_level": level, "monitor_age_ma": monitorAge, "lambda_per_a": lambda, FormNewUnit: "1"}
 		before, _ := db.Counts(ctx)
 		_, err := db.CreateDate(ctx, form, true)
 		if err == nil {

@@ -39,12 +39,12 @@ func scanHiatus(r interface{ Scan(...any) error }) (Hiatus, error) {
 
 // Hiatuses returns the hiatuses of a section, whatever their review state, lowest first.
 func (d *DB) Hiatuses(ctx context.Context, sectionID int64) ([]Hiatus, error) {
-	return queryAll(ctx, d.db, hiatusSelect+` WHERE h.section_id = ? ORDER BY h.height_m, h.id`, []any{sectionID}, scanHiatus)
+	return queryAll(ctx, d.reader(), hiatusSelect+` WHERE h.section_id = ? ORDER BY h.height_m, h.id`, []any{sectionID}, scanHiatus)
 }
 
 // Hiatus returns one hiatus, or ErrNotFound.
 func (d *DB) Hiatus(ctx context.Context, id int64) (Hiatus, error) {
-	h, err := scanHiatus(d.db.QueryRowContext(ctx, hiatusSelect+` WHERE h.id = ?`, id))
+	h, err := scanHiatus(d.reader().QueryRowContext(ctx, hiatusSelect+` WHERE h.id = ?`, id))
 	return h, notFound(err, "hiatus", id)
 }
 

@@ -97,6 +97,9 @@ func (d *DB) importTable(ctx context.Context, kind string, t *csvTable,
 			return err
 		}
 		res.BatchID = batch
+		if err := recordMappingUse(ctx, tx, batch); err != nil {
+			return err
+		}
 		if err := write(tx, t, batch, &res); err != nil {
 			return err
 		}

@@ -382,7 +382,7 @@ func existingSamples(ctx context.Context, tx *sql.Tx, sid int64) (map[string]boo
 
 // Samples returns the samples of a section in wide form, ordered by height then sample code.
 func (d *DB) Samples(ctx context.Context, sectionID int64) ([]Sample, []string, error) {
-	rows, err := d.db.QueryContext(ctx, `SELECT sample, height_m, proxy_code, value, sigma, below_detection,
+	rows, err := d.reader().QueryContext(ctx, `SELECT sample, height_m, proxy_code, value, sigma, below_detection,
 		detection_limit, method FROM measurements WHERE section_id = ? ORDER BY height_m, sample, proxy_code`, sectionID)
 	if err != nil {
 		return nil, nil, fmt.Errorf("samples: %w", err)

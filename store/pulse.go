@@ -188,7 +188,7 @@ func pulseByName(ctx context.Context, tx *sql.Tx, provinceID int64, name string)
 // Pulses returns the saved pulses of a province, oldest first (by start, then end; pulses without an
 // interval last, by name), each with its units.
 func (d *DB) Pulses(ctx context.Context, provinceID int64) ([]Pulse, error) {
-	rows, err := d.db.QueryContext(ctx, `SELECT p.id, p.province_id, p.name, p.start_ma, p.end_ma, p.notes, p.version, p.created_at, p.updated_at,
+	rows, err := d.reader().QueryContext(ctx, `SELECT p.id, p.province_id, p.name, p.start_ma, p.end_ma, p.notes, p.version, p.created_at, p.updated_at,
 		coalesce((SELECT group_concat(unit_id, ' ') FROM (SELECT unit_id FROM pulse_units WHERE pulse_id = p.id ORDER BY unit_id)), '')
 		FROM pulses p WHERE p.province_id = ?
 		ORDER BY p.start_ma IS NULL, p.start_ma DESC, p.end_ma DESC, p.name`, provinceID)

@@ -28,7 +28,7 @@ type Counts struct {
 // Counts returns how many records of each kind the compilation holds.
 func (d *DB) Counts(ctx context.Context) (Counts, error) {
 	var c Counts
-	err := d.db.QueryRowContext(ctx, `SELECT
+	err := d.reader().QueryRowContext(ctx, `SELECT
 		(SELECT count(*) FROM provinces), (SELECT count(*) FROM units), (SELECT count(*) FROM dates),
 		(SELECT count(*) FROM dates WHERE review_state = 'pending'), (SELECT count(*) FROM sections),
 		(SELECT count(*) FROM (SELECT DISTINCT section_id, sample FROM measurements)), (SELECT count(*) FROM measurements),
@@ -66,12 +66,12 @@ func scanProvince(s interface{ Scan(...any) error }) (Province, error) {
 
 // Provinces returns every province by name.
 func (d *DB) Provinces(ctx context.Context) ([]Province, error) {
-	return queryAll(ctx, d.db, provinceSelect+` ORDER BY p.name`, nil, scanProvince)
+	return queryAll(ctx, d.reader(), provinceSelect+` ORDER BY p.name`, nil, scanProvince)
 }
 
 // Province returns one province, or ErrNotFound.
 func (d *DB) Province(ctx context.Context, id int64) (Province, error) {
-	p, err := scanProvince(d.db.QueryRowContext(ctx, provinceSelect+` WHERE p.id = ?`, id))
+	p, err := scanProvince(d.reader().QueryRowContext(ctx, provinceSelect+` WHERE p.id = ?`, id))
 	return p, notFound(err, "province", id)
 }
 
@@ -95,12 +95,12 @@ func (d *DB) Units(ctx context.Context, provinceID int64) ([]Unit, error) {
 		args = append(args, provinceID)
 	}
 	q += ` ORDER BY p.name, u.pile_position IS NULL, u.pile_position, u.name`
-	return queryAll(ctx, d.db, q, args, scanUnit)
+	return queryAll(ctx, d.reader(), q, args, scanUnit)
 }
 
 // Unit returns one unit, or ErrNotFound.
 func (d *DB) Unit(ctx context.Context, id int64) (Unit, error) {
-	u, err := scanUnit(d.db.QueryRowContext(ctx, unitSelect+` WHERE u.id = ?`, id))
+	u, err := scanUnit(d.reader().QueryRowContext(ctx, unitSelect+` WHERE u.id = ?`, id))
 	return u, notFound(err, "unit", id)
 }
 
@@ -122,7 +122,7 @@ func scanDate(s interface{ Scan(...any) error }) (Date, error) {
 
 // Date returns one date, or ErrNotFound.
 func (d *DB) Date(ctx context.Context, id int64) (Date, error) {
-	x, err := scanDate(d.db.QueryRowContext(ctx, dateSelect+` WHERE d.id = ?`, id))
+	x, err := scanDate(d.reader().QueryRowContext(ctx, dateSelect+` WHERE d.id = ?`, id))
 	return x, notFound(err, "date", id)
 }
 
@@ -306,7 +306,7 @@ func (p prefixScan) Scan(dest ...any) error {
 func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
 	cond, args := dateWhere(f)
 	var total int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*)`+dateFrom+cond, args...).Scan(&total); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*)`+dateFrom+cond, args...).Scan(&total); err != nil {
 		return nil, 0, fmt.Errorf("count dates: %w", err)
 	}
 	cols, desc := dateOrder(f)
@@ -314,7 +314,7 @@ func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
 	if f.Limit > 0 {
 		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
 	}
-	out, err := queryAll(ctx, d.db, q, args, scanDate)
+	out, err := queryAll(ctx, d.reader(), q, args, scanDate)
 	return out, total, err
 }
 
@@ -323,7 +323,7 @@ func (d *DB) Dates(ctx context.Context, f DateFilter) ([]Date, int, error) {
 func (d *DB) EachDate(ctx context.Context, f DateFilter, fn func(Date) error) error {
 	cond, args := dateWhere(f)
 	cols, desc := dateOrder(f)
-	rows, err := d.db.QueryContext(ctx, dateSelect+cond+orderBy(cols, desc, false), args...)
+	rows, err := d.reader().QueryContext(ctx, dateSelect+cond+orderBy(cols, desc, false), args...)
 	if err != nil {
 		return fmt.Errorf("dates: %w", err)
 	}
@@ -348,7 +348,7 @@ func escapeLike(s string) string {
 // alphabetical order. It steps from one material to the next by the index dates_material (one look-up per
 // material) rather than reading every date.
 func (d *DB) Materials(ctx context.Context) ([]string, error) {
-	ms, err := queryAll(ctx, d.db, materialsQuery, nil, func(s interface{ Scan(...any) error }) (string, error) {
+	ms, err := queryAll(ctx, d.reader(), materialsQuery, nil, func(s interface{ Scan(...any) error }) (string, error) {
 		var m string
 		return m, s.Scan(&m)
 	})
@@ -386,17 +386,17 @@ func (d *DB) DateFilterChoices(ctx context.Context, provinceID int64) (DateFilte
 		return n, s.Scan(&n.ID, &n.Name)
 	}
 	var err error
-	if c.Provinces, err = queryAll(ctx, d.db, `SELECT id, name FROM provinces p ORDER BY p.name`, nil, scan); err != nil {
+	if c.Provinces, err = queryAll(ctx, d.reader(), `SELECT id, name FROM provinces p ORDER BY p.name`, nil, scan); err != nil {
 		return c, err
 	}
 	q, args := `SELECT u.id, u.name FROM units u JOIN provinces p ON p.id = u.province_id`, []any{}
 	if provinceID != 0 {
 		q, args = q+` WHERE u.province_id = ?`, append(args, provinceID)
 	}
-	if c.Units, err = queryAll(ctx, d.db, q+` ORDER BY p.name, u.pile_position IS NULL, u.pile_position, u.name`, args, scan); err != nil {
+	if c.Units, err = queryAll(ctx, d.reader(), q+` ORDER BY p.name, u.pile_position IS NULL, u.pile_position, u.name`, args, scan); err != nil {
 		return c, err
 	}
-	if c.Sections, err = queryAll(ctx, d.db, `SELECT id, name FROM sections s ORDER BY s.name`, nil, scan); err != nil {
+	if c.Sections, err = queryAll(ctx, d.reader(), `SELECT id, name FROM sections s ORDER BY s.name`, nil, scan); err != nil {
 		return c, err
 	}
 	c.Materials, err = d.Materials(ctx)
@@ -405,7 +405,7 @@ func (d *DB) DateFilterChoices(ctx context.Context, provinceID int64) (DateFilte
 
 // Calibrations returns the ⁴⁰Ar/³⁹Ar calibrations, the target first.
 func (d *DB) Calibrations(ctx context.Context) ([]Calibration, error) {
-	return queryAll(ctx, d.db, `SELECT id, code, name, lambda_per_a, lambda_sigma_per_a, monitor, monitor_age_ma,
+	return queryAll(ctx, d.reader(), `SELECT id, code, name, lambda_per_a, lambda_sigma_per_a, monitor, monitor_age_ma,
 		monitor_sigma_ma, lambda_monitor_correlation, source, is_target FROM calibrations ORDER BY is_target DESC, id`, nil,
 		func(s interface{ Scan(...any) error }) (Calibration, error) {
 			var c Calibration
@@ -434,12 +434,12 @@ func scanSection(r interface{ Scan(...any) error }) (Section, error) {
 
 // Sections returns every section by name.
 func (d *DB) Sections(ctx context.Context) ([]Section, error) {
-	return queryAll(ctx, d.db, sectionSelect+` ORDER BY s.name`, nil, scanSection)
+	return queryAll(ctx, d.reader(), sectionSelect+` ORDER BY s.name`, nil, scanSection)
 }
 
 // Section returns one section, or ErrNotFound.
 func (d *DB) Section(ctx context.Context, id int64) (Section, error) {
-	s, err := scanSection(d.db.QueryRowContext(ctx, sectionSelect+` WHERE s.id = ?`, id))
+	s, err := scanSection(d.reader().QueryRowContext(ctx, sectionSelect+` WHERE s.id = ?`, id))
 	return s, notFound(err, "section", id)
 }
 
@@ -466,7 +466,7 @@ func (d *DB) TiePoints(ctx context.Context, sectionID int64) ([]TiePoint, error)
 		args = append(args, sectionID)
 	}
 	q += ` ORDER BY s.name, t.height_m, t.label`
-	return queryAll(ctx, d.db, q, args, scanTie)
+	return queryAll(ctx, d.reader(), q, args, scanTie)
 }
 
 const eventSelect = `SELECT e.id, e.section_id, coalesce(s.name, ''), e.name, e.kind, e.base_height_m, e.top_height_m,
@@ -490,12 +490,12 @@ func (d *DB) Events(ctx context.Context, sectionID int64) ([]Event, error) {
 		args = append(args, sectionID)
 	}
 	q += ` ORDER BY s.name, e.base_height_m, e.name`
-	return queryAll(ctx, d.db, q, args, scanEvent)
+	return queryAll(ctx, d.reader(), q, args, scanEvent)
 }
 
 // Proxies returns the proxies the compilation knows.
 func (d *DB) Proxies(ctx context.Context) ([]Proxy, error) {
-	return queryAll(ctx, d.db, `SELECT code, name, unit, description FROM proxies ORDER BY rowid`, nil,
+	return queryAll(ctx, d.reader(), `SELECT code, name, unit, description FROM proxies ORDER BY rowid`, nil,
 		func(r interface{ Scan(...any) error }) (Proxy, error) {
 			var p Proxy
 			return p, r.Scan(&p.Code, &p.Name, &p.Unit, &p.Description)
@@ -503,7 +503,7 @@ func (d *DB) Proxies(ctx context.Context) ([]Proxy, error) {
 }
 
 // queryAll runs q and scans every row with scan.
-func queryAll[T any](ctx context.Context, db *sql.DB, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {
+func queryAll[T any](ctx context.Context, db querier, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {
 	rows, err := db.QueryContext(ctx, q, args...)
 	if err != nil {
 		return nil, fmt.Errorf("query: %w", err)

@@ -97,7 +97,7 @@ func (e FormError) Error() string {
 // ReleasesDir is the folder that holds the release snapshots: beside the database file.
 func (d *DB) ReleasesDir(ctx context.Context) (string, error) {
 	var file string
-	if err := d.db.QueryRowContext(ctx, `SELECT file FROM pragma_database_list WHERE name = 'main'`).Scan(&file); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT file FROM pragma_database_list WHERE name = 'main'`).Scan(&file); err != nil {
 		return "", fmt.Errorf("releases folder: %w", err)
 	}
 	if file == "" {
@@ -140,7 +140,7 @@ func (d *DB) CutRelease(ctx context.Context, f ReleaseForm, userID int64) (Relea
 		return Release{}, FormError(p)
 	}
 	var exists int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM releases WHERE version = ?`, f.Version).Scan(&exists); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM releases WHERE version = ?`, f.Version).Scan(&exists); err != nil {
 		return Release{}, err
 	}
 	if exists > 0 {
@@ -296,7 +296,7 @@ func scanRelease(sc interface{ Scan(...any) error }) (Release, error) {
 
 // Releases lists the releases, newest first.
 func (d *DB) Releases(ctx context.Context) ([]Release, error) {
-	rows, err := d.db.QueryContext(ctx, releaseSelect+` ORDER BY r.id DESC`)
+	rows, err := d.reader().QueryContext(ctx, releaseSelect+` ORDER BY r.id DESC`)
 	if err != nil {
 		return nil, fmt.Errorf("releases: %w", err)
 	}
@@ -314,7 +314,7 @@ func (d *DB) Releases(ctx context.Context) ([]Release, error) {
 
 // ReleaseByVersion returns one release, or ErrNotFound.
 func (d *DB) ReleaseByVersion(ctx context.Context, version string) (Release, error) {
-	r, err := scanRelease(d.db.QueryRowContext(ctx, releaseSelect+` WHERE r.version = ?`, version))
+	r, err := scanRelease(d.reader().QueryRowContext(ctx, releaseSelect+` WHERE r.version = ?`, version))
 	if errors.Is(err, sql.ErrNoRows) {
 		return r, fmt.Errorf("release %q: %w", version, ErrNotFound)
 	}

@@ -93,7 +93,7 @@ func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []Im
 		kind, file := rw.str("kind"), rw.str("file")
 		if resume != "" {
 			var done bool
-			err := d.db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM change_batches WHERE kind = ? AND source = ?)`,
+			err := d.reader().QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM change_batches WHERE kind = ? AND source = ?)`,
 				"import "+kind, path.Base(file)).Scan(&done)
 			if err != nil {
 				return false, results, fmt.Errorf("seed demo: %w", err)
@@ -112,7 +112,7 @@ func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []Im
 		name := "demo-" + role
 		if resume != "" {
 			var exists bool
-			if err := d.db.QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM users WHERE name = ?)`, name).Scan(&exists); err != nil {
+			if err := d.reader().QueryRowContext(ctx, `SELECT EXISTS (SELECT 1 FROM users WHERE name = ?)`, name).Scan(&exists); err != nil {
 				return false, results, fmt.Errorf("seed demo users: %w", err)
 			}
 			if exists {
@@ -135,7 +135,7 @@ func (d *DB) SeedDemo(ctx context.Context, fsys fs.FS, label string) (bool, []Im
 // Setting returns a compilation setting ("" when unset).
 func (d *DB) Setting(ctx context.Context, key string) (string, error) {
 	var v string
-	err := d.db.QueryRowContext(ctx, `SELECT value FROM settings WHERE key = ?`, key).Scan(&v)
+	err := d.reader().QueryRowContext(ctx, `SELECT value FROM settings WHERE key = ?`, key).Scan(&v)
 	if errors.Is(err, sql.ErrNoRows) {
 		return "", nil
 	}

@@ -20,7 +20,7 @@ func julian(t time.Time) string { return t.UTC().Format(julianFormat) }
 
 // Session returns the data of the session token if it has not expired (found false otherwise).
 func (d *DB) Session(ctx context.Context, token string) (data []byte, found bool, err error) {
-	err = d.db.QueryRowContext(ctx, `SELECT data FROM sessions WHERE token = ? AND julianday('now') < expiry`, token).Scan(&data)
+	err = d.reader().QueryRowContext(ctx, `SELECT data FROM sessions WHERE token = ? AND julianday('now') < expiry`, token).Scan(&data)
 	if errors.Is(err, sql.ErrNoRows) {
 		return nil, false, nil
 	}
@@ -31,7 +31,7 @@ func (d *DB) Session(ctx context.Context, token string) (data []byte, found bool
 // expiry lies before expiry (found false when there is no row).
 func (d *DB) SessionBehind(ctx context.Context, token string, expiry time.Time) (data []byte, behind time.Duration, found bool, err error) {
 	var days float64
-	err = d.db.QueryRowContext(ctx, `SELECT data, julianday(?) - expiry FROM sessions WHERE token = ?`, julian(expiry), token).Scan(&data, &days)
+	err = d.reader().QueryRowContext(ctx, `SELECT data, julianday(?) - expiry FROM sessions WHERE token = ?`, julian(expiry), token).Scan(&data, &days)
 	if errors.Is(err, sql.ErrNoRows) {
 		return nil, 0, false, nil
 	}

@@ -6,12 +6,14 @@ import (
 	"bytes"
 	"context"
 	"database/sql"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"net/url"
 	"os"
 	"path"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -60,6 +62,10 @@ type Upload struct {
 	FileName string `json:"file_name"`
 	Body     []byte `json:"-"`
 	BatchID  *int64 `json:"batch_id"`
+	// Mapped says the file is a table as published, whose columns are mapped onto ours (Body is then the
+	// file as sent, .xlsx or CSV); Mapping is the mapping confirmed for it, nil until then.
+	Mapped  bool     `json:"mapped"`
+	Mapping *Mapping `json:"mapping,omitempty"`
 }
 
 // Preview is what an upload would do: the import's result with nothing written, every problem, and the
@@ -71,6 +77,9 @@ type Preview struct {
 	Header   []string
 	Rows     [][]string
 	Lines    []int
+	// Mapped is the file read through its mapping: the original cells beside the converted ones, and the
+	// rows skipped (nil for a file in our format).
+	Mapped *Mapped
 }
 
 // Limits on a workbook upload. A stray cell far to the right or far down would otherwise make a sheet of
@@ -94,6 +103,13 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 	if !strings.EqualFold(path.Ext(fileName), ".xlsx") {
 		return body, nil
 	}
+	out, _, _, err = workbookToCSV(fileName, body, "")
+	return out, err
+}
+
+// workbookToCSV converts one sheet of a workbook ("" = the first) to CSV as ToCSV does, and lists its
+// sheets.
+func workbookToCSV(fileName string, body []byte, sheet string) (out []byte, sheets []string, used string, err error) {
 	refuse := func(msg string) error { return &ValidationError{[]Problem{{File: fileName, Message: msg}}} }
 	defer func() {
 		// excelize is a large parser of untrusted zip and XML; a panic inside it is a file we cannot read.
@@ -103,32 +119,49 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 	}()
 	zr, err := zip.NewReader(bytes.NewReader(body), int64(len(body)))
 	if err != nil {
-		return nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
+		return nil, nil, "", refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
 	}
 	var unzipped uint64
 	for _, zf := range zr.File {
 		unzipped += zf.UncompressedSize64
 		if unzipped > maxUnzipBytes || zf.UncompressedSize64 > maxUnzipBytes {
-			return nil, refuse(fmt.Sprintf("the workbook unpacks to more than %d MiB, the most a workbook upload may unpack to: save its first sheet as CSV (a CSV file may be up to the upload limit), or split it into several files", maxUnzipBytes>>20))
+			return nil, nil, "", refuse(fmt.Sprintf("the workbook unpacks to more than %d MiB, the most a workbook upload may unpack to: save its first sheet as CSV (a CSV file may be up to the upload limit), or split it into several files", maxUnzipBytes>>20))
 		}
 	}
 	if msg := countWorkbookCells(zr); msg != "" {
-		return nil, refuse(msg)
+		return nil, nil, "", refuse(msg)
 	}
 	// The same limit for excelize, and no part is unpacked to a temporary file (XML size limit = the
 	// whole): the workbook is held in memory only, within maxUnzipBytes.
 	f, err := excelize.OpenReader(bytes.NewReader(body), excelize.Options{UnzipSizeLimit: maxUnzipBytes, UnzipXMLSizeLimit: maxUnzipBytes})
 	if err != nil {
-		return nil, refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
+		return nil, nil, "", refuse("not readable as an .xlsx workbook: save it again as .xlsx or as CSV")
 	}
 	defer f.Close()
-	sheets := f.GetSheetList()
+	sheets = f.GetSheetList()
 	if len(sheets) == 0 {
-		return nil, refuse("the workbook has no sheet")
+		return nil, nil, "", refuse("the workbook has no sheet")
 	}
-	it, err := f.Rows(sheets[0])
+	used = sheets[0]
+	if sheet != "" {
+		if !slices.Contains(sheets, sheet) {
+			return nil, sheets, "", refuse(fmt.Sprintf("the workbook has no sheet %q; its sheets are %s", sheet, quoteList(sheets)))
+		}
+		used = sheet
+	}
+	out, err = sheetToCSV(f, used, used == sheets[0], refuse)
+	return out, sheets, used, err
+}
+
+// sheetToCSV converts one sheet, within the limits of an upload.
+func sheetToCSV(f *excelize.File, sheet string, first bool, refuse func(string) error) ([]byte, error) {
+	which := "the first sheet"
+	if !first {
+		which = fmt.Sprintf("sheet %q", sheet)
+	}
+	it, err := f.Rows(sheet)
 	if err != nil {
-		return nil, refuse("the first sheet cannot be read: " + err.Error())
+		return nil, refuse(which + " cannot be read: " + err.Error())
 	}
 	defer it.Close()
 	var rows [][]string
@@ -136,7 +169,7 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 	for n := 1; it.Next(); n++ {
 		r, err := it.Columns()
 		if err != nil {
-			return nil, refuse(fmt.Sprintf("row %d of the first sheet cannot be read: %v", n, err))
+			return nil, refuse(fmt.Sprintf("row %d of %s cannot be read: %v", n, which, err))
 		}
 		for len(r) > 0 && r[len(r)-1] == "" {
 			r = r[:len(r)-1]
@@ -147,19 +180,19 @@ func ToCSV(fileName string, body []byte) (out []byte, err error) {
 		}
 		width = max(width, len(r))
 		if cells := n * max(width, 1); cells > maxSheetCells {
-			return nil, refuse(fmt.Sprintf("the first sheet holds more than %d cells by row %d (%d columns wide), the most a workbook upload may hold: delete what lies below or beside the table, or save it as CSV", maxSheetCells, n, max(width, 1)))
+			return nil, refuse(fmt.Sprintf("%s holds more than %d cells by row %d (%d columns wide), the most a workbook upload may hold: delete what lies below or beside the table, or save it as CSV", which, maxSheetCells, n, max(width, 1)))
 		}
 		size += 1 + width
 		for _, c := range r {
 			size += len(c)
 		}
 		if size > maxImportBytes {
-			return nil, refuse(fmt.Sprintf("the first sheet is larger than %d MB as text (row %d); split it into several files", maxImportBytes>>20, n))
+			return nil, refuse(fmt.Sprintf("%s is larger than %d MB as text (row %d); split it into several files", which, maxImportBytes>>20, n))
 		}
 		rows = append(rows, r)
 	}
 	if err := it.Error(); err != nil {
-		return nil, refuse("the first sheet cannot be read: " + err.Error())
+		return nil, refuse(which + " cannot be read: " + err.Error())
 	}
 	var buf bytes.Buffer
 	w := NewCSVWriter(&buf) // quoted as downloads are, so that reading gives each cell back
@@ -313,8 +346,8 @@ func (d *DB) SaveUpload(ctx context.Context, u Upload) (int64, error) {
 			}
 			return &ValidationError{[]Problem{{File: u.FileName, Message: msg}}}
 		}
-		r, err := tx.ExecContext(ctx, `INSERT INTO uploads (user_id, kind, section, file_name, body, created_at) VALUES (?,?,?,?,?,?)`,
-			u.UserID, u.Kind, u.Section, u.FileName, u.Body, d.stamp())
+		r, err := tx.ExecContext(ctx, `INSERT INTO uploads (user_id, kind, section, file_name, body, created_at, mapped) VALUES (?,?,?,?,?,?,?)`,
+			u.UserID, u.Kind, u.Section, u.FileName, u.Body, d.stamp(), u.Mapped)
 		if err != nil {
 			return fmt.Errorf("save upload: %w", err)
 		}
@@ -330,9 +363,33 @@ func mebibytes(n int64) string { return fmt.Sprintf("%.1f MiB", float64(n)/(1<<2
 // UploadByID returns a kept upload, or ErrNotFound.
 func (d *DB) UploadByID(ctx context.Context, id int64) (Upload, error) {
 	var u Upload
-	err := d.db.QueryRowContext(ctx, `SELECT id, user_id, kind, section, file_name, body, batch_id FROM uploads WHERE id = ?`, id).
-		Scan(&u.ID, &u.UserID, &u.Kind, &u.Section, &u.FileName, &u.Body, &u.BatchID)
+	var mapping sql.NullString
+	err := d.reader().QueryRowContext(ctx, `SELECT id, user_id, kind, section, file_name, body, batch_id, mapped, mapping_json FROM uploads WHERE id = ?`, id).
+		Scan(&u.ID, &u.UserID, &u.Kind, &u.Section, &u.FileName, &u.Body, &u.BatchID, &u.Mapped, &mapping)
+	if err == nil && mapping.Valid {
+		m := NewMapping()
+		if err = json.Unmarshal([]byte(mapping.String), &m); err != nil {
+			err = fmt.Errorf("upload %d: its mapping cannot be read: %w", id, err)
+		}
+		u.Mapping = &m
+	}
 	return u, notFound(err, "upload", id)
+}
+
+// SetUploadMapping keeps the mapping confirmed for a mapped upload not yet imported.
+func (d *DB) SetUploadMapping(ctx context.Context, id int64, m Mapping) error {
+	body, err := json.Marshal(m)
+	if err != nil {
+		return err
+	}
+	r, err := d.db.ExecContext(ctx, `UPDATE uploads SET mapping_json = ? WHERE id = ? AND mapped = 1 AND batch_id IS NULL`, string(body), id)
+	if err != nil {
+		return fmt.Errorf("keep the mapping of upload %d: %w", id, err)
+	}
+	if n, _ := r.RowsAffected(); n == 0 {
+		return fmt.Errorf("upload %d is not a mapped upload waiting to be imported: %w", id, ErrConflict)
+	}
+	return nil
 }
 
 // PreviewUpload runs the upload's import without writing anything. It runs on a snapshot of the
@@ -340,6 +397,9 @@ func (d *DB) UploadByID(ctx context.Context, id int64) (Upload, error) {
 // readers and other writers go on meanwhile.
 func (d *DB) PreviewUpload(ctx context.Context, u Upload) (Preview, error) {
 	p := Preview{Upload: u}
+	if u.Mapped {
+		return d.previewMapped(ctx, u)
+	}
 	if t, err := readCSV(u.FileName, bytes.NewReader(u.Body)); err == nil {
 		p.Header, p.Rows, p.Lines = t.header, t.rows, t.lines
 	}
@@ -391,7 +451,16 @@ func (d *DB) CommitUpload(ctx context.Context, u Upload) (ImportResult, error) {
 	if u.BatchID != nil {
 		return ImportResult{}, fmt.Errorf("upload %d was already imported (change %d): %w", u.ID, *u.BatchID, ErrConflict)
 	}
-	res, err := d.ImportReader(ctx, u.Kind, u.Section, u.FileName, bytes.NewReader(u.Body))
+	var res ImportResult
+	var err error
+	if u.Mapped {
+		if u.Mapping == nil {
+			return res, &ValidationError{[]Problem{{File: u.FileName, Message: "map the file's columns before importing it"}}}
+		}
+		res, _, err = d.ImportMapped(ctx, *u.Mapping, u.FileName, u.Body)
+	} else {
+		res, err = d.ImportReader(ctx, u.Kind, u.Section, u.FileName, bytes.NewReader(u.Body))
+	}
 	if err != nil {
 		return res, err
 	}
@@ -442,7 +511,7 @@ func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error
 	}
 	cond := " WHERE " + strings.Join(where, " AND ")
 	var total int
-	if err := d.db.QueryRowContext(ctx, `SELECT count(*) FROM change_batches b LEFT JOIN users u ON u.id = b.user_id`+cond, args...).Scan(&total); err != nil {
+	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM change_batches b LEFT JOIN users u ON u.id = b.user_id`+cond, args...).Scan(&total); err != nil {
 		return nil, 0, err
 	}
 	q := `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, '')
@@ -450,7 +519,7 @@ func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error
 	if f.Limit > 0 {
 		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
 	}
-	out, err := queryAll(ctx, d.db, q, args, func(s interface{ Scan(...any) error }) (BatchRow, error) {
+	out, err := queryAll(ctx, d.reader(), q, args, func(s interface{ Scan(...any) error }) (BatchRow, error) {
 		var b BatchRow
 		return b, s.Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User)
 	})
@@ -463,4 +532,46 @@ func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error
 		}
 	}
 	return out, total, nil
+}
+
+// previewMapped previews a mapped upload: the file read through its mapping, then imported on a snapshot
+// as previewUpload does, the problems of both listed together.
+func (d *DB) previewMapped(ctx context.Context, u Upload) (Preview, error) {
+	p := Preview{Upload: u}
+	if u.Mapping == nil {
+		p.Problems = []Problem{{File: u.FileName, Message: "map the file's columns before checking it"}}
+		return p, nil
+	}
+	mp, ps, err := MapFile(*u.Mapping, u.FileName, u.Body)
+	if ve, ok := AsValidation(err); ok {
+		p.Problems = ve.Problems
+		return p, nil
+	} else if err != nil {
+		return p, err
+	}
+	p.Mapped = &mp
+	if mp.CSV == nil {
+		p.Problems = ps
+		return p, nil
+	}
+	if t, err := readCSV(u.FileName, bytes.NewReader(mp.CSV)); err == nil {
+		p.Header, p.Rows, p.Lines = t.header, t.rows, t.lines
+	}
+	snap, done, err := d.snapshot(ctx)
+	if err != nil {
+		return p, err
+	}
+	defer done()
+	res, err := snap.ImportReader(withDryRun(withMappingUse(ctx, *u.Mapping)), u.Mapping.Kind, "", u.FileName, bytes.NewReader(mp.CSV))
+	p.Result = res
+	if err != nil {
+		if _, ok := AsValidation(err); !ok {
+			return p, err
+		}
+	}
+	p.Problems = mergeProblems(*u.Mapping, ps, err)
+	if len(p.Problems) == 0 {
+		p.Result.Notes = append(p.Result.Notes, mappedNote(*u.Mapping, mp))
+	}
+	return p, nil
 }

@@ -136,7 +136,7 @@ var dummyHash = sync.OnceValue(func() []byte {
 func (d *DB) Authenticate(ctx context.Context, name, password string) (User, error) {
 	var u User
 	var hash string
-	err := d.db.QueryRowContext(ctx, `SELECT id, name, role, disabled, created_at, password_hash FROM users WHERE name = ?`,
+	err := d.reader().QueryRowContext(ctx, `SELECT id, name, role, disabled, created_at, password_hash FROM users WHERE name = ?`,
 		strings.TrimSpace(name)).Scan(&u.ID, &u.Name, &u.Role, &u.Disabled, &u.CreatedAt, &hash)
 	if errors.Is(err, sql.ErrNoRows) {
 		bcrypt.CompareHashAndPassword(dummyHash(), []byte(password))
@@ -154,14 +154,14 @@ func (d *DB) Authenticate(ctx context.Context, name, password string) (User, err
 // UserByID returns one user, or ErrNotFound.
 func (d *DB) UserByID(ctx context.Context, id int64) (User, error) {
 	var u User
-	err := d.db.QueryRowContext(ctx, `SELECT id, name, role, disabled, created_at FROM users WHERE id = ?`, id).
+	err := d.reader().QueryRowContext(ctx, `SELECT id, name, role, disabled, created_at FROM users WHERE id = ?`, id).
 		Scan(&u.ID, &u.Name, &u.Role, &u.Disabled, &u.CreatedAt)
 	return u, notFound(err, "user", id)
 }
 
 // Users returns every account by name.
 func (d *DB) Users(ctx context.Context) ([]User, error) {
-	return queryAll(ctx, d.db, `SELECT id, name, role, disabled, created_at FROM users ORDER BY name`, nil,
+	return queryAll(ctx, d.reader(), `SELECT id, name, role, disabled, created_at FROM users ORDER BY name`, nil,
 		func(r interface{ Scan(...any) error }) (User, error) {
 			var u User
 			return u, r.Scan(&u.ID, &u.Name, &u.Role, &u.Disabled, &u.CreatedAt)
@@ -196,7 +196,7 @@ func (d *DB) CreateToken(ctx context.Context, userID int64, name string) (string
 func (d *DB) UserByToken(ctx context.Context, token string) (User, error) {
 	var u User
 	var tid int64
-	err := d.db.QueryRowContext(ctx, `SELECT u.id, u.name, u.role, u.disabled, u.created_at, t.id FROM api_tokens t
+	err := d.reader().QueryRowContext(ctx, `SELECT u.id, u.name, u.role, u.disabled, u.created_at, t.id FROM api_tokens t
 		JOIN users u ON u.id = t.user_id WHERE t.token_hash = ? AND t.revoked_at IS NULL`, tokenHash(token)).
 		Scan(&u.ID, &u.Name, &u.Role, &u.Disabled, &u.CreatedAt, &tid)
 	if errors.Is(err, sql.ErrNoRows) || (err == nil && u.Disabled) {
@@ -226,7 +226,7 @@ func (d *DB) RevokeToken(ctx context.Context, userID, tokenID int64) error {
 // created it: a form, an upload or an import), or 0 when none did (command line, demo seeding).
 func (d *DB) RecordAuthor(ctx context.Context, recordType string, id int64) (int64, error) {
 	var uid sql.NullInt64
-	err := d.db.QueryRowContext(ctx, `SELECT b.user_id FROM revisions r JOIN change_batches b ON b.id = r.batch_id
+	err := d.reader().QueryRowContext(ctx, `SELECT b.user_id FROM revisions r JOIN change_batches b ON b.id = r.batch_id
 		WHERE r.record_type = ? AND r.record_id = ? AND r.before_json IS NULL ORDER BY r.id LIMIT 1`, recordType, id).Scan(&uid)
 	if errors.Is(err, sql.ErrNoRows) {
 		return 0, nil
@@ -251,7 +251,7 @@ type Token struct {
 
 // Tokens lists a user's tokens, newest first.
 func (d *DB) Tokens(ctx context.Context, userID int64) ([]Token, error) {
-	return queryAll(ctx, d.db, `SELECT id, name, created_at, last_used_at, revoked_at FROM api_tokens WHERE user_id = ? ORDER BY id DESC`,
+	return queryAll(ctx, d.reader(), `SELECT id, name, created_at, last_used_at, revoked_at FROM api_tokens WHERE user_id = ? ORDER BY id DESC`,
 		[]any{userID}, func(r interface{ Scan(...any) error }) (Token, error) {
 			var t Token
 			return t, r.Scan(&t.ID, &t.Name, &t.CreatedAt, &t.LastUsedAt, &t.RevokedAt)

@@ -32,6 +32,8 @@ type SaveForm struct {
 	Query  string
 	Name   string
 	Error  string
+	// Releases, when any, are offered to pin the saved comparison to (computed on that release's data).
+	Releases []Option
 }
 
 // SavedView lists the saved comparisons.

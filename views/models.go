@@ -26,6 +26,8 @@ type Page struct {
 	// CurrentURL is the same page in the current compilation.
 	Release    string
 	CurrentURL string
+	// Done confirms what the form that led here did ("Saved."), once.
+	Done string
 }
 
 // Stat is one figure of the home page.
@@ -117,6 +119,7 @@ type List struct {
 	Form  *Form
 	Table Table
 	Pager *Pager
+	How   []string // the method behind the table, shown on demand after it
 }
 
 // FieldGroup is a titled group of label–value pairs of a record.
@@ -162,6 +165,10 @@ type ErrorView struct {
 	Status  int
 	Message string
 	Details []string
+	// Settings, when set, are the refused page's settings as a form to correct and send again (GET to
+	// SettingsAction), each with its problem beside it.
+	Settings       []Input
+	SettingsAction string
 }
 
 // Login is the sign-in page.
@@ -177,7 +184,7 @@ type Login struct {
 type Input struct {
 	Name    string
 	Label   string
-	Kind    string // "text", "number", "select", "textarea", "password", "file"
+	Kind    string // "text", "number", "select", "textarea", "password", "file", "choice" (text with Options offered as it is typed)
 	Value   string
 	Options []Option
 	Help    string

@@ -23,7 +23,12 @@ type Block struct {
 	Links  []Link
 	Tables []Table
 	Forms  []PostForm // forms that change records, shown under the tables
+	// How says how the block's results were computed: shown on demand, after the results.
+	How []string
 }
+
+// foldRows is the length above which a block's table is folded (opened on demand, its length said).
+const foldRows = 30
 
 // PostForm is a small form that POSTs to Action: hidden fields, inputs with their errors, one button.
 // Errors lists the problems not tied to one input.

@@ -83,6 +83,11 @@ func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error 
 		{Label: "What", Value: b.Kind}, {Label: "Source", Value: orDash(b.Source)},
 		{Label: "Records", Value: strconv.Itoa(b.Revisions)},
 	}}}
+	if m, err := s.store.BatchMapping(ctx, id); err != nil {
+		return err
+	} else if m != nil {
+		v.Groups = append(v.Groups, mappingGroup("How the file's columns were read", *m))
+	}
 	t := views.Table{ID: "records", Columns: []views.Column{{Label: "Record"}, {Label: "Number", Num: true}, {Label: "Which"}, {Label: "Change"}},
 		Empty: "No further record: this change holds no record after the one this page starts from."}
 	if b.Revisions > per || after > 0 {

@@ -108,6 +108,8 @@ var routeRoles = map[string]string{
 	"GET /releases/{version}/view/*":           "",
 	"GET /help/addresses":                      "",
 	"GET /compare":                             "",
+	"GET /coincidence":                         "",
+	"GET /map":                                 "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",
 	"POST /compare/saved":                      store.RoleContributor,
@@ -124,6 +126,8 @@ var routeRoles = map[string]string{
 	"GET /import":                              store.RoleContributor,
 	"POST /import":                             store.RoleContributor,
 	"POST /import/{id}/commit":                 store.RoleContributor,
+	"GET /import/{id}/map":                     store.RoleContributor,
+	"POST /import/{id}/map":                    store.RoleContributor,
 	"POST /dates/{id}/review":                  store.RoleCurator,
 	"POST /dates/{id}/delete":                  store.RoleCurator,
 	"POST /revisions/{id}/revert":              store.RoleCurator,
@@ -528,7 +532,8 @@ func TestXSSIsEscapedAndSQLInFiltersIsHarmless(t *testing.T) {
 	payload := `<script>alert("x")</script>`
 	form := url.Values{"province": {payload}, "unit": {payload}, "sample_code": {payload}, "method": {"other"},
 		"material": {payload}, "interpretation": {"eruption"}, "age_ma": {"100"}, "sigma_ma": {"1"}, "sigma_level": {"1"},
-		"tracer": {payload}, "laboratory": {payload}, "citation": {payload}, "notes": {payload}, "review_state": {"accepted"}}
+		"tracer": {payload}, "laboratory": {payload}, "citation": {payload}, "notes": {payload}, "review_state": {"accepted"},
+		store.FormNewUnit: {"1"}}
 	status, _, h := do(t, c, http.MethodPost, srv.URL+"/dates/new", form)
 	if status != http.StatusSeeOther {
 		t.Fatalf("create: %d", status)

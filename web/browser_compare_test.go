@@ -30,7 +30,7 @@ func TestBrowserCompare(t *testing.T) {
 			t.Errorf("comparison table lacks %q", want)
 		}
 	}
-	if got := text(t, ctx, "#compare-status"); !strings.Contains(got, "seed") || !strings.Contains(got, "10000 joint draws") || !strings.Contains(got, "as-needed") {
+	if got := text(t, ctx, "#compare-status"); !strings.Contains(got, "seed") || !strings.Contains(got, "10000 joint draws") || !strings.Contains(got, "the uncertainties each pair needs") {
 		t.Errorf("status %q lacks seed, N or level", got)
 	}
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#compare-figure svg"))); err != nil {
@@ -49,7 +49,7 @@ func TestBrowserCompare(t *testing.T) {
 		chromedp.Click(chromedp.CSS(`#comparison tbody tr:first-child td:nth-child(4) a`))); err != nil {
 		t.Fatal(err)
 	}
-	if got := text(t, ctx, "#how"); !strings.Contains(got, "stats.DrawJoint") {
+	if got := text(t, ctx, "#how"); !strings.Contains(got, "joint Monte Carlo draws: N = 10000") {
 		t.Error("the how-computed section does not name the draws")
 	}
 	shoot(t, ctx, dir, "21-compare-sorted")

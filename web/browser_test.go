@@ -239,7 +239,8 @@ func TestBrowserBrowsesTheDemo(t *testing.T) {
 	if got := text(t, ctx, "h1"); got != secs[0].Name {
 		t.Errorf("section h1 %q, want %q", got, secs[0].Name)
 	}
-	if got := text(t, ctx, "#measurements caption"); !strings.Contains(got, "Samples ("+itoa(secs[0].NSamples)+")") {
+	// The samples table is folded (read its caption as the page holds it, open or not).
+	if got, _ := chromedp.Run(ctx, chromedp.Evaluate[string](`document.querySelector('#measurements caption').textContent`)); !strings.Contains(got, "Samples ("+itoa(secs[0].NSamples)+")") {
 		t.Errorf("measurements caption %q, want %d samples", got, secs[0].NSamples)
 	}
 	shoot(t, ctx, dir, "06-section")
@@ -414,6 +415,13 @@ func TestBrowserSectionPages(t *testing.T) {
 	if got := text(t, ctx, "#anomaly-table tbody"); !strings.Contains(got, "Hg and Hg/TOC rise together") {
 		t.Errorf("clean section's anomaly table %q does not read as a real anomaly", got)
 	}
+	// The method is on demand: the age model's statement opens from its "How this was computed".
+	if got := text(t, ctx, "#agemodel"); strings.Contains(got, "Seed 1, 2000 draws") {
+		t.Error("the age model's method shows before it is asked for")
+	}
+	if err := chromedp.Do(ctx, chromedp.Click("#agemodel details.how > summary", chromedp.NodeVisible)); err != nil {
+		t.Fatal(err)
+	}
 	if got := text(t, ctx, "#agemodel"); !strings.Contains(got, "Seed 1, 2000 draws") {
 		t.Errorf("age model block %q does not state seed and draws", got)
 	}
@@ -422,6 +430,12 @@ func TestBrowserSectionPages(t *testing.T) {
 	shootElem("#anomalies", "11b-anomalies-clean")
 
 	open(idURL("/sections", ids["Skarfell Creek"]), "#section-figure svg")
+	// The long samples table is folded: its summary says how many rows it holds, and a click opens it.
+	if said, err := chromedp.Run(ctx, chromedp.Evaluate[bool](`(() => { const s = document.querySelector('#measurements').closest('details').querySelector('summary'); s.click(); return /\(\d+ rows\)/.test(s.textContent); })()`)); err != nil {
+		t.Fatal(err)
+	} else if !said {
+		t.Error("the folded samples table does not say how many rows it holds")
+	}
 	if got := text(t, ctx, "#measurements tbody"); !strings.Contains(got, "not evaluable") {
 		t.Error("low-TOC section shows no not-evaluable sample")
 	}

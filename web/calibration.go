@@ -39,7 +39,7 @@ func (s *Server) handleCalibrationList(w http.ResponseWriter, r *http.Request) e
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: c.Name, Title: c.Code}, {Text: lambda(c.LambdaPerA), Num: true}, {Text: sl, Num: true},
 			{Text: c.Monitor}, {Text: num(c.MonitorAgeMa), Num: true}, {Text: optNum(c.MonitorSigmaMa), Num: true},
-			{Text: fmt.Sprintf("%.2f", c.LambdaMonitorCorrelation), Num: true}, {Text: c.Source}, target, {Text: "dates (cal=" + c.Code + ")", URL: "/dates?cal=" + c.Code}})
+			{Text: fmt.Sprintf("%.2f", c.LambdaMonitorCorrelation), Num: true}, {Text: c.Source}, target, {Text: "dates recalculated to it", URL: "/dates?cal=" + c.Code}})
 	}
 	t.Notes = []string{"⁴⁰Ar/³⁹Ar ages depend on the fluence-monitor age and the ⁴⁰K decay constant their authors used. Recalculation between calibrations uses the exact closed form (the sample/monitor ratio is invariant), never linear scaling by the monitor-age ratio.",
 		"The compilation target is the calibration every ⁴⁰Ar/³⁹Ar date and unit summary is recalculated to by default; every page that shows ⁴⁰Ar/³⁹Ar ages can show them on another calibration (its calibration menu). An admin changes the target with the buttons below the table (or on the command line); the change is recorded like any other and can be undone.",

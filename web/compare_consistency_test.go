@@ -14,44 +14,53 @@ import (
 )
 
 // writeDuringLoad is the real store with one real write committed in the middle of a comparison's data
-// load (after the dates are read, when the first section's hiatuses are): the race of an edit landing between the
-// load's queries, made to happen every time.
+// load (once its snapshot is open, before the sections are read): the race of an edit landing while the
+// data are read, made to happen every time.
 type writeDuringLoad struct {
 	*store.DB
 	t    *testing.T
 	once sync.Once
 }
 
-func (w *writeDuringLoad) Hiatuses(ctx context.Context, sectionID int64) ([]store.Hiatus, error) {
-	w.once.Do(func() {
-		body := "province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\n" +
-			"Hvarn Plateau Basalts (invented),Haldruna Flow,RACE-1,upb_idtims,eruption,154.10,0.05,2\n"
-		if _, err := w.DB.ImportDates(ctx, "race.csv", strings.NewReader(body)); err != nil {
-			w.t.Errorf("the write during the load failed: %v", err)
-		}
+func (w *writeDuringLoad) ReadSnapshot(ctx context.Context, fn func(*store.Snapshot) error) error {
+	return w.DB.ReadSnapshot(ctx, func(s *store.Snapshot) error {
+		w.once.Do(func() {
+			body := "province,unit,sample_code,method,interpretation,age_ma,sigma_ma,sigma_level\n" +
+				"Hvarn Plateau Basalts (invented),Haldruna Flow,RACE-1,upb_idtims,eruption,154.10,0.05,2\n"
+			if _, err := w.DB.ImportDates(ctx, "race.csv", strings.NewReader(body)); err != nil {
+				w.t.Errorf("the write during the load failed: %v", err)
+			}
+		})
+		return fn(s)
 	})
-	return w.DB.Hiatuses(ctx, sectionID)
 }
 
-// A comparison whose data were read while a change was committed is read again, so the numbers shown
-// belong to one state of the compilation, the one its data stamp names: they equal what a fresh server
-// computes on the changed compilation. (Common practice of optimistic reads: check the version after.)
+// A comparison whose data are read while a change is committed reads them as one snapshot, so the numbers
+// shown belong to one state of the compilation, the one its data stamp names: here the state before the
+// change, whatever a fresh server computed then; the next request, on a new snapshot, sees the change.
 func TestCompareReadsOneStateOfTheCompilation(t *testing.T) {
 	db := mustDemoDB(t)
 	logger := slog.New(slog.NewTextHandler(io.Discard, nil))
-	racy := httptest.NewServer(NewHandler(&writeDuringLoad{DB: db, t: t}, logger, static.FS, WithSessionCleanup(0)))
-	defer racy.Close()
 	const q = "/compare?format=csv&sens=0&n=2000"
-	_, _, got := get(t, racy, q)
+	fresh := httptest.NewServer(NewHandler(db, logger, static.FS, WithSessionCleanup(0)))
+	defer fresh.Close()
+	_, _, before := get(t, fresh, q)
 	stamp, err := db.DataStamp(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}
-	fresh := httptest.NewServer(NewHandler(db, logger, static.FS, WithSessionCleanup(0)))
-	defer fresh.Close()
-	_, _, want := get(t, fresh, q)
-	if got != want {
-		t.Errorf("the comparison read during a change differs from one computed on the changed compilation (stamp %d):\n%.600s\n---\n%.600s", stamp, got, want)
+	racy := httptest.NewServer(NewHandler(&writeDuringLoad{DB: db, t: t}, logger, static.FS, WithSessionCleanup(0)))
+	defer racy.Close()
+	_, _, got := get(t, racy, q)
+	if got != before {
+		t.Errorf("the comparison read during a change differs from the one on the state its snapshot began in (stamp %d):\n%.600s\n---\n%.600s", stamp, got, before)
+	}
+	if after, err := db.DataStamp(context.Background()); err != nil || after == stamp {
+		t.Fatalf("the write during the load did not land (stamp %d → %d, %v)", stamp, after, err)
+	}
+	_, _, next := get(t, racy, q)
+	if next == before {
+		t.Error("the next comparison does not see the change committed during the previous one's load")
 	}
 }
 

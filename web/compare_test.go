@@ -20,6 +20,7 @@ import (
 
 	"coeval/stats"
 	"coeval/store"
+	"coeval/web/analysis"
 )
 
 // The demo comparison page renders with its table, figure and downloads; its CSV parses with the
@@ -208,14 +209,14 @@ func TestCompareClosedFormsThroughThePagePath(t *testing.T) {
 	// REFERENCES §5 [C]: 201.51 ± 0.05 vs 201.45 ± 0.08 (1σ) → P(first older) = 0.737611374450.
 	d.Direct = []store.Event{ev(901, 201.51, 0.05), ev(902, 201.45, 0.08)}
 	ch.EventIDs = []int64{901, 902}
-	res, err := computeComparison(d, ch, 0)
+	res, err := computeComparison(context.Background(), d, ch, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
 	check("§5 precedence", stats.Probability{P: res.Order.P[0][1]}, 0.737611374450)
 	// REFERENCES §5 [C]: 201.51 ± 0.03 vs 201.56 ± 0.03 (2σ): P(first younger) = 0.9908.
 	d.Direct = []store.Event{ev(901, 201.51, 0.015), ev(902, 201.56, 0.015)}
-	if res, err = computeComparison(d, ch, 0); err != nil {
+	if res, err = computeComparison(context.Background(), d, ch, 0); err != nil {
 		t.Fatal(err)
 	}
 	check("§5 precedence 2σ", stats.Probability{P: res.Order.P[1][0]}, 0.9908)
@@ -373,7 +374,7 @@ func TestCompareUnitRowClosedFormThroughThePagePath(t *testing.T) {
 				d.LinkDates[did] = ash
 				d.TieIns[sid] = []tieInput{{AgeMa: 203.25, SigmaMa: 0.5 / math.Sqrt(12)}, tieFromDate(ash, "full", ch.Dens.Sum.Cal)}
 				d.Events[sid] = []store.Event{{ID: evID, SectionID: &sid, Name: "Test event", Kind: "cie_onset", BaseHeightM: f(10), Origin: "entered", ReviewState: "accepted"}}
-				res, err := computeComparison(d, ch, 0)
+				res, err := computeComparison(context.Background(), d, ch, 0)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -537,7 +538,7 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 	a1, alt := a0, ""
 	for _, cal := range d.Cals {
 		if x := recalculate(d.Dates[0], statsCalibration(cal)).AgeMa; math.Abs(x-a0) > math.Abs(a1-a0) {
-			a1, alt = x, cal.Code
+			a1, alt = x, cal.Name
 		}
 	}
 	ev := func(id int64, age float64) store.Event {
@@ -546,7 +547,7 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 	}
 	d.Direct = []store.Event{ev(901, (a0+a1)/2), ev(902, 160)}
 	ch.EventIDs = []int64{901, 902}
-	res, err := computeComparison(d, ch, 0)
+	res, err := computeComparison(context.Background(), d, ch, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -659,7 +660,7 @@ func comparePath(t *testing.T, c *comparer, address string) *compareResult {
 func comparePathData(t *testing.T, c *comparer, address string) (*compareData, *compareResult) {
 	t.Helper()
 	d, ch := compareLoad(t, c, address)
-	res, err := computeComparison(d, ch, 0)
+	res, err := computeComparison(context.Background(), d, ch, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -672,13 +673,12 @@ func TestCompareEventLimitCheckedFirst(t *testing.T) {
 	db := mustDemoDB(t)
 	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(4)}
 	d, ch := compareLoad(t, c, "/compare?sens=0")
-	for i := range maxCompareEvents + 1 - eventsAtLeast(d, ch) {
+	for i := range maxCompareEvents + 1 - analysis.EventsAtLeast(d, ch.options()) {
 		age, sigma := 155.0+0.01*float64(i), 0.05
 		d.Direct = append(d.Direct, store.Event{ID: int64(90000 + i), Name: fmt.Sprint("direct ", i), Kind: "other", AgeMa: &age, SigmaMa: &sigma})
 	}
 	computed := false
-	d.stop = func() error { computed = true; return nil }
-	_, err := computeComparison(d, ch, 0)
+	_, err := computeComparison(askedCtx{Context: context.Background(), asked: &computed}, d, ch, 0)
 	var br badRequest
 	if !errors.As(err, &br) || !strings.Contains(strings.Join(br.problems, " "), fmt.Sprintf("at least %d events chosen, at most %d", maxCompareEvents+1, maxCompareEvents)) {
 		t.Fatalf("61 events: %v, want a 400 naming the limit", err)
@@ -687,6 +687,14 @@ func TestCompareEventLimitCheckedFirst(t *testing.T) {
 		t.Error("the comparison started computing before it refused too many events")
 	}
 }
+
+// askedCtx records that a computation asked whether its request ended: it had started computing.
+type askedCtx struct {
+	context.Context
+	asked *bool
+}
+
+func (c askedCtx) Err() error { *c.asked = true; return c.Context.Err() }
 
 // A comparison is cached by what it read: an edit to a section it does not read leaves it in the cache
 // (served without computing again), an edit to one it reads computes anew; and identical requests in

@@ -139,7 +139,7 @@ func compareSettings(res *compareResult) [][2]string {
 		{"age model", ch.Model},
 		{"tie points in the age models", tieIncludeLabel(d.Sum.Include) + " (include=" + d.Sum.Include + ")"},
 		{"age-model draws", strconv.Itoa(ch.ModelDraws)},
-		{"TOC threshold (wt%)", tocText(ch.TocMin)},
+		{"TOC threshold (wt%)", tocText(ch.TocMinWtPct)},
 		{"detected anomalies compared", strconv.FormatBool(ch.Anomalies)},
 		{"event point compared", pointLabel(ch.Point)},
 		{"correlated groups", strings.Join(ch.Groups, ", ")},

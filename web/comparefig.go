@@ -47,7 +47,7 @@ func compareFigure(res *compareResult) (views.CompareFigure, error) {
 	}
 	// The units first, under the pulses they make, oldest at the top; then the events by section.
 	for _, u := range units {
-		t.Rows = append(t.Rows, views.FigureRow{Label: u.Name, URL: u.URL, Group: "Eruptive units (weighted means)"})
+		t.Rows = append(t.Rows, views.FigureRow{Label: u.Name, URL: idURL("/units", u.ID), Group: "Eruptive units (weighted means)"})
 		ea := views.FigureEventAge{MedianMa: u.MeanMa, LoMa: u.MeanMa - 1.96*u.Sigma1s, HiMa: u.MeanMa + 1.96*u.Sigma1s, Unit: true,
 			Title: fmt.Sprintf("%s (%s): %s weighted mean %s ± %s Ma (1σ analytical), n = %d", u.Name, u.Code, u.System, fixed(u.MeanMa, 3), fixed(u.Sigma1s, 3), u.N)}
 		ea.AgesMa, ea.Density = drawDensity(compareEvent{Q: stats.NormalAge(u.Name, u.MeanMa, u.Sigma1s)})
@@ -68,7 +68,7 @@ func compareFigure(res *compareResult) (views.CompareFigure, error) {
 		if group == "" {
 			group = "Direct ages"
 		}
-		t.Rows = append(t.Rows, views.FigureRow{Label: e.Name, URL: e.URL, Group: group})
+		t.Rows = append(t.Rows, views.FigureRow{Label: e.Name, URL: eventURL(e), Group: group})
 		ea := views.FigureEventAge{MedianMa: e.Summary.Median, LoMa: e.Summary.Lo95, HiMa: e.Summary.Hi95,
 			Title: fmt.Sprintf("%s (%s): %s Ma, 95 %% %s – %s", e.Name, orDash(e.Section), fixed(e.Summary.Median, 3), fixed(e.Summary.Hi95, 3), fixed(e.Summary.Lo95, 3))}
 		ea.AgesMa, ea.Density = drawDensity(e)

@@ -7,8 +7,8 @@ import (
 
 // The largest computations are for signed-in users: without an account the comparison runs at most at
 // its default numbers of joint draws, age-model draws and bootstrap replicates (its largest choices take
-// a minute of both processor cores). An abandoned request stops its computation: compareData.stop is
-// its context's Err, asked between sections, alternatives and sets, and before every bootstrap replicate.
+// a minute of both processor cores). An abandoned request stops its computation: analysis.Compare asks
+// the request's context between sections, alternatives and sets, and before every bootstrap replicate.
 
 // anonymousComputeLimits refuses, for a visitor who is not signed in, numbers above the defaults, each
 // named with its limit and what to do.
@@ -29,12 +29,4 @@ func anonymousComputeLimits(ctx context.Context, ch compareChoice) error {
 		return nil
 	}
 	return badRequest{message: "This comparison is larger than visitors may ask for. Sign in, or lower these numbers and reload:", problems: problems}
-}
-
-// stopped is the request's end, if it has ended (nil while it goes on, or without a request).
-func (d *compareData) stopped() error {
-	if d.stop == nil {
-		return nil
-	}
-	return d.stop()
 }

@@ -6,7 +6,6 @@ import (
 	"io"
 	"net/http"
 	"strconv"
-	"strings"
 
 	"github.com/go-chi/chi/v5"
 
@@ -113,7 +112,7 @@ func dateTable(r *http.Request, ds []store.Date, level int, sortable bool, cal c
 	t.Notes = append(t.Notes, fmt.Sprintf("Ages are as published. ± is the analytical uncertainty at %dσ (for U–Pb: X, without tracer or decay-constant terms); use it to compare dates of one system and one laboratory only.", level))
 	if anyArAr {
 		t.Notes = append(t.Notes, "† ⁴⁰Ar/³⁹Ar age on the calibration (monitor age, decay constant) its authors used: not directly comparable with U–Pb or with ⁴⁰Ar/³⁹Ar ages on another calibration. ‡ published without calibration details: cannot be recalculated. Hover an age for its calibration.",
-			"Recalculated to "+cal.label()+": the exact relation that keeps the sample/monitor ratio (never linear scaling). Its ± is analytical; compare it with another system only at the full external level (the date's page gives it). Choose another calibration with cal= in the address.")
+			"Recalculated to "+cal.label()+": the exact relation that keeps the sample/monitor ratio (never linear scaling). Its ± is analytical; compare it with another system only at the full external level (the date's page gives it). Choose another calibration with the filters above.")
 	}
 	return t
 }
@@ -187,7 +186,7 @@ func (s *Server) handleDateList(w http.ResponseWriter, r *http.Request) error {
 	}
 	l := views.List{Page: s.page(ctx, "Dates", "Dates"), Form: form, Table: dateTable(r, ds, level, true, cal)}
 	l.Page.Downloads = toLinks(downloads(r))
-	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. CSV downloads hold every matching date in the import format, followed by the derived columns " + strings.Join(store.DerivedDateColumns, ", ") + " (the ⁴⁰Ar/³⁹Ar age on the view's calibration; ignored on import)."
+	l.Intro = "Every date of the compilation, filtered, sorted and paged here; the address keeps every choice, so a view can be bookmarked or shared. The CSV download holds every matching date in the import format (its columns are described on the help page of the dates file), followed by the ⁴⁰Ar/³⁹Ar age recalculated to the view's calibration, which an import ignores."
 	l.Pager = keysetPager(r, pg)
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
@@ -340,6 +339,10 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 		return fixed(*x*float64(level), dec) + fmt.Sprintf(" Ma (%dσ)", level)
 	}
 	ageField := views.KV{Label: "Age as published", Value: plusMinus(d.AgeMa, d.SigmaMa, level) + " Ma, analytical"}
+	if level == d.SigmaLevel {
+		// At the level it was published at, the age and its ± keep the digits they were entered with.
+		ageField.Value = fmt.Sprintf("%s ± %s (%dσ) Ma, analytical", asEntered(d.AgeMa), asEntered(d.SigmaMa*float64(level)), level)
+	}
 	ageGroup := views.FieldGroup{Title: "Age", Fields: []views.KV{ageField,
 		{Label: "Analytical σ", Value: sig(&d.SigmaMa)},
 	}}

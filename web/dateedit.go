@@ -37,7 +37,35 @@ func (s *Server) dateEdit() recordEdit {
 		mayEdit: func(r *http.Request, id int64, st stored) error {
 			return s.mayEditDraft(r, "date", "date", id, st.review)
 		},
+		suggest: s.dateOwnerChoices,
 	}
+}
+
+// dateOwnerChoices are the known provinces, units and sections, offered as a date's form is filled in.
+func (s *Server) dateOwnerChoices(ctx context.Context) map[string][]views.Option {
+	out := map[string][]views.Option{}
+	provs, err := s.store.Provinces(ctx)
+	if err != nil {
+		return nil
+	}
+	for _, p := range provs {
+		out["province"] = append(out["province"], views.Option{Value: p.Name})
+		units, err := s.store.Units(ctx, p.ID)
+		if err != nil {
+			return nil
+		}
+		for _, u := range units {
+			out["unit"] = append(out["unit"], views.Option{Value: u.Name, Label: p.Name})
+		}
+	}
+	secs, err := s.store.Sections(ctx)
+	if err != nil {
+		return nil
+	}
+	for _, sec := range secs {
+		out["section"] = append(out["section"], views.Option{Value: sec.Name})
+	}
+	return out
 }
 
 func dateCrumbs() []views.Link { return []views.Link{{Label: "Dates", URL: "/dates"}} }
@@ -58,8 +86,11 @@ func dateFields() []formField {
 		return ts
 	}
 	return []formField{
-		{"province", "Province", "for a unit's date", nil},
-		{"unit", "Unit", "created if new", nil},
+		{"province", "Province", "for a unit's date: one of the list", nil},
+		{"unit", "Unit", "one of the province's units", nil},
+		{store.FormNewUnit, "Create a new unit", "only for a unit (or province) not yet in the compilation", func() []store.Term {
+			return []store.Term{{Code: "", Label: "no: the unit is in the list"}, {Code: "1", Label: "yes: create it"}}
+		}},
 		{"section", "Section", "for a horizon's date (instead of a unit)", nil},
 		{"height_m", "Height (m)", "of the horizon in the section", nil},
 		{"sample_code", "Sample code", "unique per method", nil},

@@ -3,9 +3,11 @@ package web
 import (
 	"context"
 	"fmt"
+	"html"
 	"net/http"
 	"net/url"
 	"slices"
+	"strings"
 	"testing"
 
 	"coeval/store"
@@ -22,7 +24,7 @@ func TestDateForms(t *testing.T) {
 		newPath: "/dates/new", path: "/dates", recRev: "date", db: db,
 		form: url.Values{"province": {"Form Province"}, "unit": {"Form Flow"}, "sample_code": {"FORM-1"}, "method": {"upb_idtims"},
 			"material": {"zircon"}, "interpretation": {"eruption"}, "age_ma": {"155.4"}, "sigma_ma": {"0.06"}, "sigma_level": {"2"},
-			"notes": {"as typed"}},
+			"notes": {"as typed"}, store.FormNewUnit: {"1"}},
 		badField: "method", badValue: "spike", badMsg: `unknown value "spike"`,
 		text:  []string{"laboratory", "citation", "notes"},
 		again: url.Values{"sample_code": {"FORM-2"}},
@@ -85,6 +87,9 @@ func TestEveryRecordKindHasOneEditFlow(t *testing.T) {
 		var names []string
 		for _, f := range e.fields {
 			names = append(names, f.name)
+			if f.name == store.FormNewUnit {
+				continue // an instruction of the date form, not a field of the record
+			}
 			if _, ok := st.form[f.name]; !ok {
 				t.Errorf("%s: the field %q is not a cell of its form", e.noun, f.name)
 			}
@@ -109,5 +114,61 @@ func TestEveryRecordKindHasOneEditFlow(t *testing.T) {
 		if !store.Restorable(rt) || !slices.Contains(kinds, rt) {
 			t.Errorf("%s: restorable %v, in the edit flows %v", rt, store.Restorable(rt), slices.Contains(kinds, rt))
 		}
+	}
+}
+
+// The date form offers the known provinces and units as they are typed; a unit typed with a typo is
+// refused beside its field, naming the nearest known unit, and nothing is added; answering "create it"
+// makes the new unit.
+func TestDateFormRefusesAnUnknownUnitUnlessAsked(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	contrib, _ := signedIn(t, srv)
+	_, page, _ := do(t, contrib, http.MethodGet, srv.URL+"/dates/new", nil)
+	units, _ := db.Units(ctx, 1)
+	prov, _ := db.Province(ctx, 1)
+	if !strings.Contains(page, `list="unit-known"`) || !strings.Contains(page, `<option value="`+html.EscapeString(units[0].Name)+`">`) {
+		t.Error("the date form does not offer the known units")
+	}
+	typo := units[0].Name[:len(units[0].Name)-1]
+	form := url.Values{"province": {prov.Name}, "unit": {typo}, "sample_code": {"TYPO-1"}, "method": {"upb_idtims"},
+		"material": {"zircon"}, "interpretation": {"eruption"}, "age_ma": {"155.4"}, "sigma_ma": {"0.06"}, "sigma_level": {"2"}}
+	before, _ := db.Counts(ctx)
+	status, body, _ := do(t, contrib, http.MethodPost, srv.URL+"/dates/new", form)
+	if status != http.StatusUnprocessableEntity || !strings.Contains(html.UnescapeString(body), `(nearest: "`+units[0].Name+`"`) {
+		t.Errorf("a unit with a typo: status %d, want 422 naming %q", status, units[0].Name)
+	}
+	if after, _ := db.Counts(ctx); after != before {
+		t.Errorf("the refused form changed the compilation: %+v → %+v", before, after)
+	}
+	form.Set(store.FormNewUnit, "1")
+	if status, _, _ := do(t, contrib, http.MethodPost, srv.URL+"/dates/new", form); status != http.StatusSeeOther {
+		t.Errorf("with “create it”: status %d, want 303", status)
+	}
+	if after, _ := db.Counts(ctx); after.Units != before.Units+1 {
+		t.Errorf("units %d → %d, want one more", before.Units, after.Units)
+	}
+}
+
+// A saved form is confirmed once on the page it leads to, in words that say whether the record waits for
+// review; the page after that no longer says it.
+func TestSavedFormIsConfirmedOnce(t *testing.T) {
+	srv, db := mustServer(t)
+	contrib, _ := signedIn(t, srv)
+	units, _ := db.Units(context.Background(), 1)
+	prov, _ := db.Province(context.Background(), 1)
+	form := url.Values{"province": {prov.Name}, "unit": {units[0].Name}, "sample_code": {"DONE-1"}, "method": {"upb_idtims"},
+		"material": {"zircon"}, "interpretation": {"eruption"}, "age_ma": {"155.4"}, "sigma_ma": {"0.06"}, "sigma_level": {"2"}}
+	status, _, h := do(t, contrib, http.MethodPost, srv.URL+"/dates/new", form)
+	if status != http.StatusSeeOther {
+		t.Fatalf("new date: status %d", status)
+	}
+	_, body, _ := do(t, contrib, http.MethodGet, srv.URL+h.Get("Location"), nil)
+	if !strings.Contains(body, `class="done-banner"`) || !strings.Contains(body, "Added. It is pending") {
+		t.Errorf("the new date's page does not confirm it was added (pending): %.300s", between(body, "<main", "</h1>"))
+	}
+	_, again, _ := do(t, contrib, http.MethodGet, srv.URL+h.Get("Location"), nil)
+	if strings.Contains(again, `class="done-banner"`) {
+		t.Error("the confirmation is shown a second time")
 	}
 }

@@ -126,7 +126,7 @@ var paramNames = []string{"format", "sigma", "per", "page", "sort", "dir", "q", 
 	"kind", "review", "age_min", "age_max", "cal", "level", "policy", "rule", "include", "count", "weight", "bw", "h", "adaptive",
 	"pdp", "from", "to", "seed", "reps", "table", "pulses", "events", "sections", "group", "anomalies", "delta", "n", "model",
 	"draws", "toc_min", "sens", "order", "saved", "host", "baseline", "bg_base", "bg_top", "bg_width", "z_min", "min_run", "penalty",
-	"tie_level", "series", "user", "rank", "bw_each", "rows", "units", "point", "mswd_range", "after", "before", "release", "against"}
+	"tie_level", "series", "user", "rank", "bw_each", "rows", "units", "point", "mswd_range", "after", "before", "release", "against", "null", "ages", "onsets"}
 
 // needs gives the other parameters under which a parameter is read at all.
 var needs = map[string]string{"h": "bw=user", "bg_base": "baseline=window&bg_top=100", "bg_top": "baseline=window&bg_base=0",

@@ -77,8 +77,12 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
+	ans, err := s.answerFor(r, e)
+	if err != nil {
+		return err
+	}
 	if format == "json" {
-		writeJSON(w, http.StatusOK, map[string]any{"event": e, "uncertainties": jsonSigmaNote})
+		writeJSON(w, http.StatusOK, map[string]any{"event": e, "uncertainties": jsonSigmaNote, "answer": ans.jsonOf()})
 		return nil
 	}
 	v := views.Detail{Page: s.page(ctx, e.Name, "Events")}
@@ -103,7 +107,12 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 	if e.ReviewNote != "" {
 		v.Notes = append(v.Notes, "Review note: "+e.ReviewNote)
 	}
+	notes, groups, tables, links := answerBlock(ans)
+	v.Notes = append(notes, v.Notes...)
+	v.Groups = append(groups, v.Groups...)
+	v.Tables = append(tables, v.Tables...)
 	v.Links, v.Actions = recordPage(r, s.eventEdit(), id, stored{version: e.Version, review: e.ReviewState})
+	v.Links = append(links, v.Links...)
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
 }

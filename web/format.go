@@ -33,6 +33,14 @@ func plusMinus(ageMa, sigma1s float64, level int) string {
 
 func num(v float64) string { return strconv.FormatFloat(v, 'f', -1, 64) }
 
+// asEntered writes a published value with the digits it was entered with: the shortest decimal that
+// rounds to it at 12 significant digits, so 0.025 × 2 shows as 0.05, not 0.05000000000000000277. (Trailing
+// zeros typed after the last digit are not kept: the value is stored as a number.)
+func asEntered(v float64) string {
+	x, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 12, 64), 64)
+	return strconv.FormatFloat(x, 'f', -1, 64)
+}
+
 func optNum(v *float64) string {
 	if v == nil {
 		return "—"

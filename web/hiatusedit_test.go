@@ -102,15 +102,15 @@ func TestContributorHiatusIsPendingAndLeftOutOfTheModel(t *testing.T) {
 		t.Fatal("include=pending: the model does not honour the pending hiatus")
 	}
 	_, _, secPage := get(t, srv, base+"?draws=500")
-	for _, want := range []string{"Left out of the age–height model: 1 hiatus waiting for a curator&#39;s review (hiatus at 30 m) — include=accepted uses accepted hiatuses only.",
-		"Hiatuses honoured: accepted hiatuses only (include=accepted); left out: hiatus at 30 m (pending).",
-		"The age–height model leaves out 1 hiatus whose review state include=accepted does not let in"} {
+	for _, want := range []string{"Left out of the age–height model: 1 hiatus waiting for a curator&#39;s review (hiatus at 30 m) — the model uses accepted hiatuses only.",
+		"Hiatuses honoured: accepted hiatuses only; left out: hiatus at 30 m (pending).",
+		"The age–height model leaves out 1 hiatus: it honours accepted hiatuses only."} {
 		if !strings.Contains(secPage, want) {
 			t.Errorf("the section page lacks %q", want)
 		}
 	}
 	_, _, withPage := get(t, srv, base+"?draws=500&include=pending")
-	if !strings.Contains(withPage, "The age–height model uses 1 pending hiatus that no curator has reviewed yet (include=pending): hiatus at 30 m.") {
+	if !strings.Contains(withPage, "The age–height model uses 1 pending hiatus that no curator has reviewed yet (as chosen: accepted and pending hiatuses): hiatus at 30 m.") {
 		t.Error("include=pending: the section page does not say the model rests on an unreviewed hiatus")
 	}
 

@@ -21,10 +21,12 @@ type paramDoc struct {
 
 const (
 	whereLists    = "lists of dates, tie points, events, changes"
-	whereSummary  = "province and unit pages, unit summaries, timeline, comparison"
-	whereTimeline = "timeline, comparison"
-	whereSection  = "section pages (ratios, anomalies, age model, figures), aligned sections, comparison"
+	whereSummary  = "province and unit pages, unit summaries, timeline, comparison, coincidence test"
+	whereTimeline = "timeline, comparison, coincidence test"
+	whereSection  = "section pages (ratios, anomalies, age model, figures), aligned sections, comparison, coincidence test"
 	whereCompare  = "comparison"
+	whereCoincide = "coincidence test"
+	whereEvents   = "comparison, coincidence test"
 )
 
 var paramDocs = []paramDoc{
@@ -63,18 +65,25 @@ var paramDocs = []paramDoc{
 	{"adaptive", whereTimeline, "0, 1", "0", "1: the width adapts to the data (Abramson's method, with the chosen width as pilot)."},
 	{"bw_each", whereTimeline, "0, 1", "0", "1: choose the width afresh in every bootstrap replicate, so the band includes the width's own uncertainty (rules of thumb only)."},
 	{"pdp", "timeline", "0, 1", "0", "1: draw the sum of the values' own normal curves over the density, for comparison."},
-	{"from", whereTimeline, "Ma, 0 to 4600", "automatic", "One end of the age window (either order)."},
-	{"to", whereTimeline, "Ma, 0 to 4600", "automatic", "The other end of the age window."},
+	{"from", "timeline, comparison", "Ma, 0 to 4600", "automatic", "One end of the age window (either order)."},
+	{"to", "timeline, comparison", "Ma, 0 to 4600", "automatic", "The other end of the age window."},
+	{"from", whereCoincide, "Ma, 0 to 4600", "automatic", "One end of the window the test places events or shifts onsets in (either order; give both ends or neither). The densities keep their automatic windows."},
+	{"to", whereCoincide, "Ma, 0 to 4600", "automatic", "The other end of the test's window."},
+	{"null", whereCoincide, "events, pulses", "events", "What chance means: events placed at random in the window, or the pulse onsets shifted together by a random offset (wrapping round within the window)."},
+	{"ages", whereCoincide, "drawn, median", "drawn", "drawn: each event's age is drawn from its distribution in every replicate, so the p-value carries the ages' uncertainty; median: the median ages."},
+	{"onsets", whereCoincide, "reference, drawn", "reference", "reference: the onsets of each province's reference density, taken as known; drawn: in every replicate each province's onsets come from one bootstrap replicate of its density, so the p-value carries their uncertainty (and is conservative)."},
+	{"n", whereCoincide, "99 to 99999", "9999", "Monte Carlo replicates of the test."},
+	{"table", whereCoincide, "result, events, onsets", "result", "Which table a CSV download holds."},
 	{"seed", whereTimeline + ", section pages", "whole number", "1", "Seed of the random draws, so a result can be reproduced exactly."},
 	{"reps", whereTimeline, "100 to 10000", "1000", "Bootstrap replicates of the density's band and its pulses."},
 	{"rows", whereCompare, "pulses, units, both", "pulses", "What the comparison's rows are: pulses of the density, single units, or both."},
 	{"pulses", whereCompare, "pulse names, comma-separated", "all", "Only these pulses."},
 	{"units", whereCompare, "units' numbers, comma-separated", "every unit with a mean", "The units compared as rows, in this order."},
-	{"sections", whereCompare, "sections' numbers, comma-separated", "all", "Only events of these sections."},
-	{"events", whereCompare, "events' numbers, comma-separated", "every event with an age", "Only these events."},
+	{"sections", whereEvents, "sections' numbers, comma-separated", "all", "Only events of these sections."},
+	{"events", whereEvents, "events' numbers, comma-separated", "every event with an age", "Only these events."},
 	{"group", whereCompare, "an event kind's code, repeatable", "", "Treat the events of that kind across sections as one synchronous event."},
-	{"anomalies", whereCompare, "0, 1", "0", "1: compare the mercury anomalies found in the sections too."},
-	{"point", whereCompare, "base, peak, top", "base", "Which point of an event with an extent is compared."},
+	{"anomalies", whereEvents, "0, 1", "0", "1: compare the mercury anomalies found in the sections too."},
+	{"point", whereEvents, "base, peak, top", "base", "Which point of an event with an extent is compared."},
 	{"delta", whereCompare, "Ma, 0 or more", "0.1", "δ of the probability that two ages lie within δ of each other."},
 	{"n", whereCompare, "1000 to 100000", "10000", "Joint draws of the comparison (above the default: signed-in users only)."},
 	{"sens", whereCompare, "0, 1", "1", "1: show how the probabilities change under the alternative choices."},

@@ -85,12 +85,7 @@ func correlated(c stats.Calibration) bool { return analysis.Correlated(c) }
 func calTerms(c stats.Calibration) string { return analysis.CalTerms(c) }
 
 // calDrawn says how the comparison draws a calibration's terms.
-func calDrawn(c stats.Calibration, per string) string {
-	if correlated(c) {
-		return fmt.Sprintf("(monitor age and λ drawn together, with their correlation %.2f, once per %s)", c.LambdaMonitorCorrelation, per)
-	}
-	return "(monitor age and λ drawn once per " + per + ")"
-}
+func calDrawn(c stats.Calibration, per string) string { return analysis.CalDrawn(c, per) }
 
 // recalcGroup is the date page's account of an ⁴⁰Ar/³⁹Ar date on the view's calibration.
 func recalcGroup(d store.Date, cal calChoice, level int) views.FieldGroup {

@@ -21,6 +21,14 @@ type formField struct {
 	options           func() []store.Term
 }
 
+// shown is a field's value in words: a coded value (a method, a review state) by its label.
+func (f formField) shown(v string) string {
+	if f.options == nil || v == "" {
+		return v
+	}
+	return store.Label(f.options(), v)
+}
+
 // stored is a record as the editing flow sees it: its form cells, version and name, where it sits
 // (breadcrumbs), and its review state ("" for records that are not reviewed).
 type stored struct {
@@ -57,6 +65,8 @@ type recordEdit struct {
 	remove func(ctx context.Context, id int64, version int) error
 	// mayEdit refuses (forbidden) an edit the user may not make beyond the route's role; nil allows it.
 	mayEdit func(r *http.Request, id int64, st stored) error
+	// suggest gives, per field name, the known values offered as the field is typed (nil: none).
+	suggest func(ctx context.Context) map[string][]views.Option
 }
 
 // registerRecordEdit adds the routes of one record's editing flow: creation for contributors, edits for
@@ -94,6 +104,10 @@ func (s *Server) formView(r *http.Request, e recordEdit, title, action string, c
 		}
 	}
 	curator := isCurator(r)
+	var known map[string][]views.Option
+	if e.suggest != nil {
+		known = e.suggest(r.Context())
+	}
 	for _, f := range e.fields {
 		if f.name == "review_state" && !curator {
 			continue
@@ -101,6 +115,9 @@ func (s *Server) formView(r *http.Request, e recordEdit, title, action string, c
 		in := views.Input{Name: f.name, Label: f.label, Help: f.help, Value: values[f.name], Error: byField[f.name], Kind: "text"}
 		if f.name == "notes" || f.name == "description" {
 			in.Kind = "textarea"
+		}
+		if opts, ok := known[f.name]; ok {
+			in.Kind, in.Options = "choice", opts
 		}
 		if f.options != nil {
 			in.Kind = "select"
@@ -153,6 +170,7 @@ func (s *Server) handleRecordCreate(e recordEdit) func(http.ResponseWriter, *htt
 		if err != nil {
 			return err
 		}
+		setFlash(w, doneCode("created", e, isCurator(r)))
 		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
 		return nil
 	}
@@ -220,9 +238,18 @@ func (s *Server) handleRecordUpdate(e recordEdit) func(http.ResponseWriter, *htt
 		case err != nil:
 			return err
 		}
+		setFlash(w, doneCode("saved", e, isCurator(r)))
 		http.Redirect(w, r, idURL(e.path, id), http.StatusSeeOther)
 		return nil
 	}
+}
+
+// doneCode is the confirmation of a saved form: a contributor's record of a reviewed kind is pending.
+func doneCode(what string, e recordEdit, curator bool) string {
+	if !curator && store.Reviewed(e.recordType) {
+		return what + "-pending"
+	}
+	return what
 }
 
 func (s *Server) handleRecordDelete(e recordEdit) func(http.ResponseWriter, *http.Request) error {
@@ -262,7 +289,7 @@ func fieldDiff(caption string, fields []formField, a, b store.Form, aLabel, bLab
 		Empty: "No field differs."}
 	for _, f := range fields {
 		if a[f.name] != b[f.name] {
-			t.Rows = append(t.Rows, []views.Cell{{Text: f.label}, {Text: orDash(a[f.name]), Class: "diff-before"}, {Text: orDash(b[f.name]), Class: "diff-after"}})
+			t.Rows = append(t.Rows, []views.Cell{{Text: f.label}, {Text: orDash(f.shown(a[f.name])), Class: "diff-before"}, {Text: orDash(f.shown(b[f.name])), Class: "diff-after"}})
 		}
 	}
 	return t

@@ -272,7 +272,9 @@ func (s *Server) respondTies(w http.ResponseWriter, r *http.Request, ties []stor
 	}
 	l := views.List{Page: s.page(r.Context(), title, "Tie points"), Table: tieTable(ties, level, all)}
 	l.Page.Downloads = toLinks(downloads(r))
-	l.Intro = "Dated horizons of the sections. Normal ties give age ± σ at the level chosen (add ?sigma=1 or 2 to the address); uniform ties give the interval they are confined to."
+	l.Intro = "Dated horizons of the sections. Normal ties give age ± σ at the level chosen here; uniform ties give the interval they are confined to."
+	l.Form = &views.Form{Action: r.URL.Path, Fields: []views.Field{{Name: "sigma", Label: "σ level of the ±", Kind: "select", Options: []views.Option{
+		{Value: "1", Label: "1σ", Selected: level == 1}, {Value: "2", Label: "2σ", Selected: level == 2}}}}}
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
 }

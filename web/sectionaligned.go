@@ -10,7 +10,9 @@ import (
 	"strings"
 
 	"coeval/stats"
+	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // The aligned page: every section's Hg (or host-normalised ratio) against its model age, on one age axis.
@@ -28,7 +30,7 @@ func alignedOptionsFrom(p *params) alignedOptions {
 	o := alignedOptions{
 		Series:   p.oneOf("series", []string{"ratio", "hg"}, "ratio"),
 		Draws:    p.int("draws", defaultAlignedDraws, minSectionDraws, maxSectionDraws),
-		Seed:     paramSeed(p, "seed", defaultSectionSeed),
+		Seed:     paramSeed(p, "seed", analysis.DefaultSectionSeed),
 		AgeMinMa: p.optFloat("age_min", "an age in Ma"),
 		AgeMaxMa: p.optFloat("age_max", "an age in Ma"),
 		Include:  p.oneOf("include", includeCodes(), "accepted"),
@@ -42,19 +44,17 @@ func alignedOptionsFrom(p *params) alignedOptions {
 // alignedAnalyses analyses every section with its defaults (suggested host, stored threshold) and the
 // page's model draws, seed and review choice of tie points.
 func (s *Server) alignedAnalyses(ctx context.Context, o alignedOptions) ([]*sectionAnalysis, error) {
-	secs, err := s.store.Sections(ctx)
-	if err != nil {
-		return nil, err
-	}
-	var out []*sectionAnalysis
-	for _, sec := range secs {
-		so := sectionOptionsFrom(&params{}, sec)
+	as, err := analysis.LoadSectionAnalyses(ctx, s.store, func(sec store.Section) sectionOptions {
+		so := analysis.DefaultSectionOptions(sec)
 		so.Draws, so.Seed, so.Include = o.Draws, o.Seed, o.Include
-		a, err := s.loadSectionAnalysis(ctx, sec, so)
-		if err != nil {
-			return nil, err
-		}
-		out = append(out, a)
+		return so
+	})
+	if err != nil {
+		return nil, optionBadRequest(err, sectionParams)
+	}
+	out := make([]*sectionAnalysis, len(as))
+	for i, a := range as {
+		out[i] = &sectionAnalysis{a}
 	}
 	return out, nil
 }
@@ -214,7 +214,7 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 		}
 	}
 	if len(seen) > 1 {
-		v.Cautions = append(v.Cautions, "These sections differ in thermal maturity ("+strings.Join(matur, "; ")+"). Maturation inflates Hg/TOC: compare ratios across them with care, and check raw Hg (series=hg).")
+		v.Cautions = append(v.Cautions, "These sections differ in thermal maturity ("+strings.Join(matur, "; ")+"). Maturation inflates Hg/TOC: compare ratios across them with care, and check raw Hg (shown with the series choice set to Hg).")
 	}
 	v.FigureSVG = views.AlignedSVG(alignedFigure(as, o))
 	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, "/sections/aligned/figure.svg", "format", "")},

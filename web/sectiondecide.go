@@ -44,7 +44,7 @@ type sectionForms struct {
 func (a *sectionAnalysis) detectionSettings() string {
 	v := url.Values{}
 	v.Set("host", hostProxy(a.Host))
-	v.Set("toc_min", csvF(a.Opt.TocMin))
+	v.Set("toc_min", csvF(a.Opt.TocMinWtPct))
 	v.Set("baseline", a.Opt.Baseline)
 	switch a.Opt.Baseline {
 	case "window":

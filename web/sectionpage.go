@@ -1,7 +1,6 @@
 package web
 
 import (
-	"cmp"
 	"fmt"
 	"io"
 	"math"
@@ -12,6 +11,7 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // The section page with its analysis, and the downloads of that analysis: the figure as SVG, and the
@@ -24,18 +24,17 @@ func (s *Server) sectionAnalysisFor(r *http.Request) (*sectionAnalysis, string, 
 	if err != nil {
 		return nil, "", err
 	}
-	sec, err := s.store.Section(r.Context(), id)
-	if err != nil {
-		return nil, "", err
-	}
 	p := newParams(r)
 	format := p.format()
-	o := sectionOptionsFrom(p, sec)
-	if err := p.err(); err != nil {
-		return nil, "", err
+	// The section, its options' defaults and its data are read as one snapshot.
+	a, err := analysis.LoadSectionAnalysisByID(r.Context(), s.store, id, func(sec store.Section) (sectionOptions, error) {
+		o := sectionOptionsFrom(p, sec)
+		return o, p.err()
+	})
+	if err != nil {
+		return nil, "", optionBadRequest(err, sectionParams)
 	}
-	a, err := s.loadSectionAnalysis(r.Context(), sec, o)
-	return a, format, err
+	return &sectionAnalysis{a}, format, nil
 }
 
 // withPath returns path with the request's query, and the given parameters set ("" deletes one).
@@ -120,7 +119,7 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 		{Label: "Location", Value: coord(sec.Latitude, sec.Longitude)},
 		{Label: "Palaeolatitude", Value: optDeg(sec.Palaeolatitude)},
 		{Label: "Thermal maturity", Value: orDash(sec.ThermalMaturity), Class: cautionIf(len(a.OtherMatur) > 0)},
-		{Label: "Low-TOC threshold for Hg/TOC", Value: num(sec.TocThresholdWtPct) + " wt% (stored); " + num(a.Opt.TocMin) + " wt% in use"},
+		{Label: "Low-TOC threshold for Hg/TOC", Value: num(sec.TocThresholdWtPct) + " wt% (stored); " + num(a.Opt.TocMinWtPct) + " wt% in use"},
 		{Label: "Samples", Value: itoa(sec.NSamples) + " between " + heightRange(sec) + " m"},
 	}}}
 	v.Controls = sectionControls(r, a)
@@ -141,13 +140,13 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 	tt := tieTable(a.AllTies, a.Opt.Level, false)
 	tt.Caption = "Tie points"
 	if len(a.TiesLeftOut) > 0 {
-		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s whose review state include=%s does not let in (%s).",
-			count(len(a.TiesLeftOut), "tie point"), a.Opt.Include, tieIncludeLabel(a.Opt.Include)))
+		tt.Notes = append(tt.Notes, fmt.Sprintf("The age–height model leaves out %s: it uses %s.",
+			count(len(a.TiesLeftOut), "tie point"), tieIncludeLabel(a.Opt.Include)))
 	}
 	ht := hiatusTable(a.AllHiatuses)
 	if len(a.HiatusesOut) > 0 {
-		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s whose review state include=%s does not let in (%s).",
-			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], a.Opt.Include, modelIncludeLabel(a.Opt.Include, "hiatuses")))
+		ht.Notes = append(ht.Notes, fmt.Sprintf("The age–height model leaves out %d %s: it honours %s.",
+			len(a.HiatusesOut), map[bool]string{true: "hiatus", false: "hiatuses"}[len(a.HiatusesOut) == 1], modelIncludeLabel(a.Opt.Include, "hiatuses")))
 	}
 	et := eventTable(a.Events, false)
 	et.Caption = "Events (entered, imported, or made from detected anomalies)"
@@ -197,7 +196,7 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 	q := r.URL.Query()
 	return views.Form{Action: r.URL.Path, Reset: r.URL.Path, Fields: []views.Field{
 		{Name: "host", Label: "Host phase", Kind: "select", Options: hosts},
-		{Name: "toc_min", Label: "Low-TOC threshold (wt%)", Kind: "number", Value: num(o.TocMin), Step: "0.01"},
+		{Name: "toc_min", Label: "Low-TOC threshold (wt%)", Kind: "number", Value: num(o.TocMinWtPct), Step: "0.01"},
 		{Name: "baseline", Label: "Baseline", Kind: "select", Options: []views.Option{
 			opt("section", "whole section (robust)", o.Baseline), opt("window", "background window", o.Baseline), opt("running", "running median", o.Baseline)}},
 		{Name: "bg_base", Label: "Window base (m)", Kind: "number", Value: q.Get("bg_base"), Step: "any", Placeholder: "window only"},
@@ -227,7 +226,7 @@ func (a *sectionAnalysis) cautions() []string {
 	var out []string
 	if a.NLowHost > 0 {
 		out = append(out, fmt.Sprintf("%d of %d samples have %s below %s wt%%: their %s is not evaluable (the %s error dominates and a %s low makes a false spike). They are kept in every table and marked ×; raw Hg stays usable.",
-			a.NLowHost, len(a.Samples), a.Host, num(a.HostMin), ratioName(a.Host), a.Host, a.Host))
+			a.NLowHost, len(a.Samples), a.Host, num(a.HostMinWtPct), ratioName(a.Host), a.Host, a.Host))
 	}
 	if len(a.OtherMatur) > 0 {
 		out = append(out, fmt.Sprintf("Thermal maturity: this section is %s; other sections are %s. Maturation changes organic carbon and inflates Hg/TOC, so compare ratios between sections of different maturity with care.",
@@ -261,7 +260,7 @@ func (a *sectionAnalysis) hostBlock() views.Block {
 		b.Paras = append(b.Paras, "No host suggested: "+a.Suggestion.Reason+".")
 	}
 	b.Paras = append(b.Paras, fmt.Sprintf("In use: Hg/%s (%s). Low-host rule: below %s wt%% %s the ratio is not evaluable; %d samples are below it.",
-		a.Host, a.HostChosen, num(a.HostMin), a.Host, a.NLowHost))
+		a.Host, a.HostChosen, num(a.HostMinWtPct), a.Host, a.NLowHost))
 	if a.Background != nil {
 		bg := a.Background
 		b.Paras = append(b.Paras, fmt.Sprintf("High-host masking check: background regression Hg = %s + %s·%s (ppb, %s in wt%%) over %d samples outside the anomalies; σ̂ of residuals = %s ppb (1.4826·MAD). %d samples hold more Hg than it predicts by over %g σ̂ (ringed in the figure).",
@@ -318,11 +317,10 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 		return fmt.Sprintf("%s: background median %s%s over %d samples, σ̂ = %s log10 units (1.4826·MAD); flagged above %s%s.",
 			name, fmtF(bm, 2), unit, res.NBackground, fmtF(res.SigmaHat, 3), fmtF(math.Pow(10, res.Threshold), 2), unit)
 	}
-	b.Paras = []string{
+	b.Paras = []string{desc(ratioName(a.Host), a.RatioRes, a.RatioNote), desc("Hg", a.RawRes, a.RawNote)}
+	b.How = []string{
 		fmt.Sprintf("On log10 values with a robust baseline (%s): modified z = 0.6745·(x − median)/MAD above %s in at least %d consecutive samples. Run on %s and on raw Hg; a raw-Hg run that the ratio misses is reported too.",
 			a.baselineSentence(), num(a.Opt.ZMin), a.Opt.MinRun, ratioName(a.Host)),
-		desc(ratioName(a.Host), a.RatioRes, a.RatioNote),
-		desc("Hg", a.RawRes, a.RawNote),
 		"Origin: detected. A curator can make an anomaly an event of the section (kind Hg anomaly, its base and top, with a note of the settings that found it) or reject it with a reason; a decision holds for the anomaly as found with these settings (series, interval, host, threshold, baseline, z and run length).",
 	}
 	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
@@ -358,9 +356,9 @@ func (a *sectionAnalysis) segmentBlock() views.Block {
 	b := views.Block{ID: "changepoints", Title: "Change points"}
 	pen := "the default 2·ln n"
 	if a.Opt.Penalty > 0 {
-		pen = "set in the address"
+		pen = "as chosen"
 	}
-	b.Paras = []string{fmt.Sprintf("Segments of constant mean of log10 values by penalised change-point segmentation (PELT, exact as optimal partitioning), samples with a value only, cost scaled by a robust noise σ. Penalty per segment: %s (%s); raise penalty= for fewer segments.",
+	b.How = []string{fmt.Sprintf("Segments of constant mean of log10 values by penalised change-point segmentation (PELT, exact as optimal partitioning), samples with a value only, cost scaled by a robust noise σ. Penalty per segment: %s (%s); a larger penalty among the analysis choices gives fewer segments.",
 		fmtF(a.SegmentPenalty, 2), pen)}
 	if a.SegmentNote != "" {
 		b.Paras = append(b.Paras, a.SegmentNote)
@@ -387,7 +385,7 @@ func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
 		b.Paras = []string{a.ModelNote}
 		return b
 	}
-	b.Paras = a.modelParas()
+	b.How = a.modelParas()
 	rt := views.Table{ID: "rates", Caption: "Accumulation rate between tie points", Columns: []views.Column{{Label: "From"}, {Label: "To"},
 		{Label: "Heights", Unit: "m", Num: true}, {Label: "Rate", Unit: "m/Ma, median (95 %)", Num: true}}}
 	for _, rr := range m.Rates {
@@ -484,7 +482,7 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 			rc.Text = fmtF(s.Ratio.Value, 1) + " ± " + fmtF(s.Ratio.Sigma, 1)
 		case stats.RatioLowHost:
 			rc.Text, rc.Class = "× "+notEvaluableLabel, "noteval"
-			rc.Title = fmt.Sprintf("%s below %s wt%%: relative 1σ of the ratio would be %s %%", a.Host, num(a.HostMin), fmtF(100*s.Ratio.RelSigma, 0))
+			rc.Title = fmt.Sprintf("%s below %s wt%%: relative 1σ of the ratio would be %s %%", a.Host, num(a.HostMinWtPct), fmtF(100*s.Ratio.RelSigma, 0))
 		default:
 			rc.Text, rc.Class = "—", "muted"
 		}
@@ -508,263 +506,3 @@ func (a *sectionAnalysis) sampleTable() views.Table {
 }
 
 // Downloads.
-
-func (a *sectionAnalysis) settingsJSON() map[string]any {
-	s := map[string]any{"host": a.Host.String(), "host_chosen": a.HostChosen, "host_param": a.Opt.Host, "toc_min_wt_pct": a.Opt.TocMin,
-		"host_min_wt_pct": a.HostMin, "baseline": a.Opt.Baseline, "z_min": a.Opt.ZMin, "min_run": a.Opt.MinRun,
-		"penalty": a.SegmentPenalty, "penalty_is_default": a.Opt.Penalty == 0, "model": a.Opt.Model, "draws": a.Opt.Draws, "seed": a.Opt.Seed, "tie_level": a.Opt.TieLevel,
-		"include": a.Opt.Include}
-	switch a.Opt.Baseline {
-	case "window":
-		s["bg_base_m"], s["bg_top_m"] = a.Opt.BgBaseM, a.Opt.BgTopM
-	case "running":
-		s["bg_width_samples"] = a.Opt.BgWidth
-	}
-	return s
-}
-
-func jf(v float64) any {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return v
-}
-
-func (a *sectionAnalysis) hostJSON() map[string]any {
-	var cs []map[string]any
-	for _, c := range a.Suggestion.Correlations {
-		cs = append(cs, map[string]any{"host": c.Host.String(), "pearson_r": jf(c.R), "n": c.N})
-	}
-	out := map[string]any{"suggested": nil, "reason": a.Suggestion.Reason, "correlations": cs, "in_use": a.Host.String(),
-		"n_not_evaluable": a.NLowHost}
-	if a.Suggestion.OK {
-		out["suggested"] = a.Suggestion.Host.String()
-	}
-	if bg := a.Background; bg != nil {
-		out["background_regression"] = map[string]any{"intercept_ppb": bg.InterceptPpb, "slope_ppb_per_wt_pct": bg.SlopePpbPerWt,
-			"sigma_hat_ppb": bg.SigmaHatPpb, "k": bg.K, "n_background": bg.N, "n_excess": countExcess(a)}
-	}
-	return out
-}
-
-var anomalyColumns = []string{"anomaly", "origin", "series", "host", "base_height_m", "top_height_m", "peak_height_m", "peak_value",
-	"peak_unit", "multiple_of_background_median", "robust_z_log10", "n_samples", "raw_hg_rises", "raw_hg_multiple_of_background_median",
-	"raw_hg_share_of_ratio_rise", "host_residual_samples", "caution", "reading", "age_model", "seed", "draws", "age_median_ma",
-	"age_lo95_ma", "age_hi95_ma", "decision", "decision_detail", "decided_by", "decided_at_utc"}
-
-func (a *sectionAnalysis) anomalyRecords() [][]string {
-	var out [][]string
-	for _, an := range a.Anomalies {
-		age := stats.DrawSummary{Median: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN()}
-		if an.Age != nil {
-			age = an.Age.Age
-		}
-		out = append(out, []string{itoa(an.Number), "detected", an.Series, an.Host, csvF(an.A.BaseHeightM), csvF(an.A.TopHeightM),
-			csvF(an.A.PeakHeightM), csvF(an.A.PeakValue), an.Unit, csvF(an.A.MultipleOfBackground), csvF(an.A.RobustZ), itoa(an.A.N),
-			strconv.FormatBool(an.RawRises), csvF(an.RawMult), csvF(an.RawShare), itoa(an.NExcess), strconv.FormatBool(an.Caution), an.Verdict,
-			a.modelCode(), strconv.FormatUint(a.Opt.Seed, 10), itoa(a.Opt.Draws), csvF(age.Median), csvF(age.Lo95), csvF(age.Hi95)})
-		dec := []string{"open", "", "", ""}
-		if d, ok := a.decisionFor(an, a.Decisions); ok {
-			dec = []string{d.Decision, cmp.Or(d.EventName, d.Reason), d.User, d.CreatedAt}
-		}
-		out[len(out)-1] = append(out[len(out)-1], dec...)
-	}
-	return out
-}
-
-func (a *sectionAnalysis) modelCode() string {
-	if a.Model == nil {
-		return "none"
-	}
-	if a.Opt.Model == "linear" {
-		return "naive_linear"
-	}
-	return "monte_carlo"
-}
-
-func recordsJSON(cols []string, recs [][]string) []map[string]string {
-	out := make([]map[string]string, len(recs))
-	for i, r := range recs {
-		m := make(map[string]string, len(cols))
-		for j, c := range cols {
-			m[c] = r[j]
-		}
-		out[i] = m
-	}
-	return out
-}
-
-func (a *sectionAnalysis) anomaliesJSON() []map[string]string {
-	return recordsJSON(anomalyColumns, a.anomalyRecords())
-}
-
-func (a *sectionAnalysis) segmentsJSON() []map[string]any {
-	var out []map[string]any
-	for _, s := range a.Segments {
-		out = append(out, map[string]any{"series": s.Series, "base_height_m": s.BaseM, "top_height_m": s.TopM, "n_samples": s.N,
-			"mean_multiple_of_background_median": jf(s.MultipleOfMedian)})
-	}
-	return out
-}
-
-func (a *sectionAnalysis) modelJSON() map[string]any {
-	if a.Model == nil {
-		return map[string]any{"model": "none", "note": a.ModelNote}
-	}
-	m := a.Model
-	out := map[string]any{"model": a.modelCode(), "seed": a.Opt.Seed, "draws": a.Opt.Draws, "tie_range_m": []float64{m.LowM, m.TopM},
-		"statement": a.modelParas()}
-	if m.MC != nil {
-		out["sampler"] = m.MC.Sampler.String()
-		out["acceptance"] = m.MC.Acceptance
-		out["rigidity_prior_per_m"] = []float64{stats.DefaultRigidityMinPerM, stats.DefaultRigidityMaxPerM}
-	}
-	var rates []map[string]any
-	for _, r := range m.Rates {
-		rates = append(rates, map[string]any{"from": r.From, "to": r.To, "low_height_m": r.LowM, "high_height_m": r.HighM,
-			"rate_median_m_per_ma": jf(r.Rate.Median), "rate_lo95_m_per_ma": jf(r.Rate.Lo95), "rate_hi95_m_per_ma": jf(r.Rate.Hi95)})
-	}
-	out["accumulation_rates"] = rates
-	var evs []map[string]any
-	for _, e := range a.EventAges {
-		evs = append(evs, map[string]any{"name": e.Name, "kind": e.Kind, "origin": e.Origin, "base_height_m": e.BaseM, "top_height_m": e.TopM,
-			"age_median_ma": jf(e.Age.Median), "age_lo95_ma": jf(e.Age.Lo95), "age_hi95_ma": jf(e.Age.Hi95), "note": e.Note})
-	}
-	out["event_ages"] = evs
-	return out
-}
-
-var ageModelColumns = []string{"sample", "height_m", "age_model", "seed", "draws", "age_median_ma", "age_lo95_ma", "age_hi95_ma"}
-
-func (a *sectionAnalysis) ageModelRecords() [][]string {
-	var out [][]string
-	for _, s := range a.Samples {
-		med, lo, hi := "", "", ""
-		if s.Dated {
-			med, lo, hi = csvF(s.Age.Median), csvF(s.Age.Lo95), csvF(s.Age.Hi95)
-		}
-		out = append(out, []string{s.Sample, csvF(s.HeightM), a.modelCode(), strconv.FormatUint(a.Opt.Seed, 10), itoa(a.Opt.Draws), med, lo, hi})
-	}
-	return out
-}
-
-// ratioColumns are the columns of the samples-with-ratios download.
-func (a *sectionAnalysis) ratioColumns() []string {
-	d := "d13c_org_permil"
-	if a.D13C == "d13c_carb" {
-		d = "d13c_carb_permil"
-	}
-	return []string{"sample", "height_m", "hg_ppb", "hg_sigma_ppb_1s", "hg_below_detection", "hg_detection_limit_ppb", "toc_wt_pct", "ts_wt_pct",
-		"al_wt_pct", d, "host", "host_min_wt_pct", "ratio_ppb_per_wt_pct", "ratio_sigma_ppb_per_wt_pct_1s", "ratio_status",
-		"ratio_robust_z_log10", "hg_robust_z_log10", "ratio_in_run", "hg_in_run", "host_residual_ppb", "host_residual_excess", "anomaly"}
-}
-
-func (a *sectionAnalysis) ratioRecords() [][]string {
-	var out [][]string
-	for _, s := range a.Samples {
-		dl := ""
-		if s.HgDL != nil {
-			dl = csvF(*s.HgDL)
-		}
-		an := ""
-		if s.Anomaly > 0 {
-			an = itoa(s.Anomaly)
-		}
-		out = append(out, []string{s.Sample, csvF(s.HeightM), csvF(s.HgPpb), csvF(s.HgSigma), strconv.FormatBool(s.HgBelow), dl,
-			csvF(s.Toc), csvF(s.Ts), csvF(s.Al), csvF(s.D13C), a.Host.String(), csvF(a.HostMin), csvF(s.Ratio.Value), csvF(s.Ratio.Sigma),
-			ratioStatusCode(s.Ratio.Status), csvF(s.RatioZ), csvF(s.RawZ), strconv.FormatBool(s.RatioFlag), strconv.FormatBool(s.RawFlag),
-			csvF(s.ResidualPpb), strconv.FormatBool(s.Excess), an})
-	}
-	return out
-}
-
-func writeRecords(w io.Writer, cols []string, recs [][]string) error {
-	cw := store.NewCSVWriter(w)
-	if err := cw.Write(cols); err != nil {
-		return err
-	}
-	if err := cw.WriteAll(recs); err != nil {
-		return err
-	}
-	cw.Flush()
-	return cw.Error()
-}
-
-// analysisJSON is the envelope of the analysis downloads: the settings that produced the items.
-type analysisJSON struct {
-	Kind          string         `json:"kind"`
-	Section       string         `json:"section"`
-	SectionID     int64          `json:"section_id"`
-	Settings      map[string]any `json:"settings"`
-	Uncertainties string         `json:"uncertainties"`
-	Count         int            `json:"count"`
-	Items         any            `json:"items"`
-}
-
-func (a *sectionAnalysis) writeJSONTable(w http.ResponseWriter, kind string, cols []string, recs [][]string) error {
-	writeJSON(w, http.StatusOK, analysisJSON{Kind: kind, Section: a.Sec.Name, SectionID: a.Sec.ID, Settings: a.settingsJSON(),
-		Uncertainties: "intervals are central 95 % (2.5–97.5 percentiles of the draws, or ±1.96σ for the naive model); fields ending _1s are 1σ",
-		Count:         len(recs), Items: recordsJSON(cols, recs)})
-	return nil
-}
-
-// tablePage serves one table of the analysis as CSV, JSON or a page.
-func (s *Server) tablePage(w http.ResponseWriter, r *http.Request, kind, title string, cols func(a *sectionAnalysis) []string,
-	recs func(a *sectionAnalysis) [][]string, table func(a *sectionAnalysis) views.Table, intro func(a *sectionAnalysis) string) error {
-	a, format, err := s.sectionAnalysisFor(r)
-	if err != nil {
-		return err
-	}
-	switch format {
-	case "csv":
-		return writeDownload(w, fmt.Sprintf("section-%d-%s.csv", a.Sec.ID, kind), func(w io.Writer) error { return writeRecords(w, cols(a), recs(a)) })
-	case "json":
-		return a.writeJSONTable(w, kind, cols(a), recs(a))
-	}
-	l := views.List{Page: s.page(r.Context(), title+" · "+a.Sec.Name, "Sections"), Table: table(a), Intro: intro(a)}
-	l.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}, {Label: a.Sec.Name, URL: withPath(r, idURL("/sections", a.Sec.ID))}}
-	l.Page.Downloads = toLinks(downloads(r))
-	s.render(w, r, http.StatusOK, views.ListPage(l))
-	return nil
-}
-
-func (s *Server) handleSectionRatios(w http.ResponseWriter, r *http.Request) error {
-	return s.tablePage(w, r, "ratios", "Samples with ratios and flags", (*sectionAnalysis).ratioColumns, (*sectionAnalysis).ratioRecords,
-		(*sectionAnalysis).sampleTable, func(a *sectionAnalysis) string {
-			return fmt.Sprintf("Every sample, none dropped: Hg/%s (%s), its status under the low-host rule (%s wt%%), robust z and flags, and the host-regression residual.",
-				a.Host, a.HostChosen, num(a.HostMin))
-		})
-}
-
-func (s *Server) handleSectionAnomalies(w http.ResponseWriter, r *http.Request) error {
-	return s.tablePage(w, r, "anomalies", "Anomalies", func(*sectionAnalysis) []string { return anomalyColumns }, (*sectionAnalysis).anomalyRecords,
-		func(a *sectionAnalysis) views.Table {
-			b := a.anomalyBlock(r, "")
-			a.decisionColumn(&b, a.Decisions)
-			return b.Tables[0]
-		},
-		func(a *sectionAnalysis) string { return strings.Join(a.anomalyBlock(r, "").Paras, " ") })
-}
-
-func (s *Server) handleSectionAgeModel(w http.ResponseWriter, r *http.Request) error {
-	return s.tablePage(w, r, "agemodel", "Model ages", func(*sectionAnalysis) []string { return ageModelColumns }, (*sectionAnalysis).ageModelRecords,
-		func(a *sectionAnalysis) views.Table {
-			t := views.Table{ID: "model-ages", Caption: "Model age of every sample", Columns: []views.Column{{Label: "Sample"}, {Label: "Height", Unit: "m", Num: true},
-				{Label: "Median", Unit: "Ma", Num: true}, {Label: "95 % interval", Unit: "Ma", Num: true}}}
-			for _, s := range a.Samples {
-				med, iv := "—", "outside the tie range"
-				if s.Dated {
-					d := sigmaDecimals((s.Age.Hi95 - s.Age.Lo95) / 2)
-					med, iv = fixed(s.Age.Median, d), fixed(s.Age.Lo95, d)+" – "+fixed(s.Age.Hi95, d)
-				}
-				t.Rows = append(t.Rows, []views.Cell{{Text: s.Sample}, {Text: num(s.HeightM), Num: true}, {Text: med, Num: true}, {Text: iv, Num: true}})
-			}
-			return t
-		},
-		func(a *sectionAnalysis) string {
-			if a.Model == nil {
-				return a.ModelNote
-			}
-			return strings.Join(a.modelParas(), " ")
-		})
-}

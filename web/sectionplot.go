@@ -6,6 +6,7 @@ import (
 
 	"coeval/stats"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // sectionFigure builds the view model of the section figure: raw Hg, the host, the ratio, δ¹³C and the
@@ -13,7 +14,7 @@ import (
 func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 	f := views.SectionFigure{Title: a.Sec.Name + " — proxies and age–height model against height"}
 	f.Subtitle = fmt.Sprintf("Host %s (%s); low-%s threshold %s wt%%; anomalies: modified z > %s on log10 values, ≥ %d samples; model: %s",
-		a.Host, a.HostChosen, a.Host, num(a.HostMin), num(a.Opt.ZMin), a.Opt.MinRun, modelShort(a))
+		a.Host, a.HostChosen, a.Host, num(a.HostMinWtPct), num(a.Opt.ZMin), a.Opt.MinRun, modelShort(a))
 	hs := []float64{}
 	for _, r := range a.Samples {
 		hs = append(hs, r.HeightM)
@@ -24,10 +25,30 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 	lo, hi, _ := extentOf(hs)
 	pad := math.Max((hi-lo)*0.02, 0.5)
 	f.HeightMinM, f.HeightMaxM = lo-pad, hi+pad
-	hostName := a.Host.String()
-	ratio := ratioName(a.Host)
+	hg, shown := hgPanel(a)
+	f.Panels = []views.Panel{hg, hostPanel(a), ratioPanel(a), d13cPanel(a), modelPanel(a)}
+	for _, an := range a.Anomalies {
+		f.Bands = append(f.Bands, views.Band{BaseM: an.A.BaseHeightM, TopM: an.A.TopHeightM, Label: fmt.Sprintf("A%d", an.Number), Caution: an.Caution})
+	}
+	for _, t := range a.Ties {
+		f.Ties = append(f.Ties, views.Mark{H: t.HeightM, Label: t.Label})
+	}
+	for _, h := range a.Hiatuses {
+		f.Hiatuses = append(f.Hiatuses, views.Mark{H: h.HeightM, Label: "hiatus"})
+	}
+	f.Legend = sectionLegend(a, shown)
+	if a.Model != nil {
+		f.Notes = append(f.Notes, modelSentence(a))
+	}
+	return f
+}
 
-	// Raw Hg.
+// hgShown says which of the Hg panel's optional series have points.
+type hgShown struct{ below, pred, excess bool }
+
+// hgPanel is the raw Hg panel: measured, below detection, the background fit's prediction and the
+// samples above it.
+func hgPanel(a *sectionAnalysis) (views.Panel, hgShown) {
 	hg := views.Panel{Title: "Hg", Unit: "ppb"}
 	meas := views.Series{Label: "Hg", Color: views.ColorHg, Marker: "dot", Line: true}
 	var below, excess, pred views.Series
@@ -60,7 +81,12 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 		hg.Empty = "no Hg measured"
 	}
 
-	// Host.
+	return hg, hgShown{below: len(below.Points) > 0, pred: len(pred.Points) > 0, excess: len(excess.Points) > 0}
+}
+
+// hostPanel is the host phase's panel with its low-host threshold.
+func hostPanel(a *sectionAnalysis) views.Panel {
+	hostName := a.Host.String()
 	host := views.Panel{Title: hostName, Unit: "wt%"}
 	hv := views.Series{Label: hostName, Color: views.ColorHost, Marker: "dot", Line: true}
 	low := views.Series{Label: "below threshold", Color: views.ColorNotEval, Marker: "open"}
@@ -74,16 +100,21 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 	if len(low.Points) > 0 {
 		host.Series = append(host.Series, low)
 	}
-	if a.HostMin > 0 {
-		host.VLines = append(host.VLines, views.VLine{X: a.HostMin, Label: fmt.Sprintf("low-%s threshold %s wt%%", hostName, num(a.HostMin)), Color: views.ColorNotEval})
+	if a.HostMinWtPct > 0 {
+		host.VLines = append(host.VLines, views.VLine{X: a.HostMinWtPct, Label: fmt.Sprintf("low-%s threshold %s wt%%", hostName, num(a.HostMinWtPct)), Color: views.ColorNotEval})
 	}
 	if !a.Has[hostProxy(a.Host)] {
 		host.Empty = "no host phase measured"
 	}
 
-	// Ratio.
+	return host
+}
+
+// ratioPanel is the Hg/host panel with the samples not evaluable in its gutter.
+func ratioPanel(a *sectionAnalysis) views.Panel {
+	hostName, ratio := a.Host.String(), ratioName(a.Host)
 	rp := views.Panel{Title: ratio, Unit: "ppb/wt%", GutterColor: views.ColorNotEval,
-		GutterLabel: fmt.Sprintf("%s not evaluable (%s < %s wt%%)", ratio, hostName, num(a.HostMin))}
+		GutterLabel: fmt.Sprintf("%s not evaluable (%s < %s wt%%)", ratio, hostName, num(a.HostMinWtPct))}
 	rv := views.Series{Label: ratio, Color: views.ColorRatio, Marker: "dot", Line: true}
 	for _, r := range a.Samples {
 		rv.Points = append(rv.Points, views.P(r.HeightM, r.Ratio.Value))
@@ -101,7 +132,11 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 		rp.Empty = "no evaluable ratio"
 	}
 
-	// δ¹³C.
+	return rp
+}
+
+// d13cPanel is the carbon-isotope panel.
+func d13cPanel(a *sectionAnalysis) views.Panel {
 	dp := views.Panel{Title: d13cTitle(a.D13C), Unit: "‰ VPDB", Empty: "no δ¹³C measured"}
 	if a.D13C != "" {
 		dv := views.Series{Label: "δ¹³C", Color: views.ColorD13C, Marker: "dot", Line: true}
@@ -111,7 +146,11 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 		dp.Series = []views.Series{dv}
 	}
 
-	// Model age.
+	return dp
+}
+
+// modelPanel is the age–height model's panel: median, 95 % interval and tie ages.
+func modelPanel(a *sectionAnalysis) views.Panel {
 	mp := views.Panel{Title: "Model age", Unit: "Ma", Empty: "no age model"}
 	if m := a.Model; m != nil {
 		env := &views.Envelope{Label: "95 % interval", Color: views.ColorModel}
@@ -135,56 +174,47 @@ func sectionFigure(a *sectionAnalysis) views.SectionFigure {
 		}
 		mp.Series = []views.Series{med, ties}
 	}
-	f.Panels = []views.Panel{hg, host, rp, dp, mp}
+	return mp
+}
 
-	for _, an := range a.Anomalies {
-		f.Bands = append(f.Bands, views.Band{BaseM: an.A.BaseHeightM, TopM: an.A.TopHeightM, Label: fmt.Sprintf("A%d", an.Number), Caution: an.Caution})
+// sectionLegend is the figure's legend: what is drawn, and only that.
+func sectionLegend(a *sectionAnalysis, shown hgShown) []views.LegendItem {
+	hostName, ratio := a.Host.String(), ratioName(a.Host)
+	legend := []views.LegendItem{{Label: "Hg (ppb)", Color: views.ColorHg, Marker: "dot"}}
+	if shown.below {
+		legend = append(legend, views.LegendItem{Label: "Hg below detection (at the limit)", Color: views.ColorHg, Marker: "tri-open"})
 	}
-	for _, t := range a.Ties {
-		f.Ties = append(f.Ties, views.Mark{H: t.HeightM, Label: t.Label})
+	if shown.pred {
+		legend = append(legend, views.LegendItem{Label: "Hg predicted from " + hostName + " (background fit)", Color: views.ColorMuted, Marker: "dash"})
 	}
-	for _, h := range a.Hiatuses {
-		f.Hiatuses = append(f.Hiatuses, views.Mark{H: h.HeightM, Label: "hiatus"})
-	}
-
-	f.Legend = []views.LegendItem{{Label: "Hg (ppb)", Color: views.ColorHg, Marker: "dot"}}
-	if len(below.Points) > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "Hg below detection (at the limit)", Color: views.ColorHg, Marker: "tri-open"})
-	}
-	if len(pred.Points) > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "Hg predicted from " + hostName + " (background fit)", Color: views.ColorMuted, Marker: "dash"})
-	}
-	if len(excess.Points) > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: fmt.Sprintf("Hg above the fit by > %g σ̂ (residual)", float64(hostResidualK)), Color: views.ColorExcess, Marker: "ring"})
+	if shown.excess {
+		legend = append(legend, views.LegendItem{Label: fmt.Sprintf("Hg above the fit by > %g σ̂ (residual)", float64(analysis.HostResidualK)), Color: views.ColorExcess, Marker: "ring"})
 	}
 	if a.NLowHost > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: fmt.Sprintf("%s below %s wt%%: %s not evaluable", hostName, num(a.HostMin), ratio), Color: views.ColorNotEval, Marker: "cross"})
+		legend = append(legend, views.LegendItem{Label: fmt.Sprintf("%s below %s wt%%: %s not evaluable", hostName, num(a.HostMinWtPct), ratio), Color: views.ColorNotEval, Marker: "cross"})
 	}
 	var plain, caution bool
 	for _, an := range a.Anomalies {
 		plain, caution = plain || !an.Caution, caution || an.Caution
 	}
 	if plain {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "anomaly: Hg and ratio rise", Marker: "band"})
+		legend = append(legend, views.LegendItem{Label: "anomaly: Hg and ratio rise", Marker: "band"})
 	}
 	if caution {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "anomaly to read with caution (see table)", Marker: "caution-band"})
+		legend = append(legend, views.LegendItem{Label: "anomaly to read with caution (see table)", Marker: "caution-band"})
 	}
-	f.Legend = append(f.Legend, views.LegendItem{Label: "tie point (height)", Marker: "tie"})
+	legend = append(legend, views.LegendItem{Label: "tie point (height)", Marker: "tie"})
 	if a.RatioRes != nil && a.Opt.Baseline != "running" {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "background median, threshold", Color: views.ColorBaseline, Marker: "dash"})
+		legend = append(legend, views.LegendItem{Label: "background median, threshold", Color: views.ColorBaseline, Marker: "dash"})
 	}
 	if a.Model != nil {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "model age: median and 95 % interval", Color: views.ColorModel, Marker: "band"},
+		legend = append(legend, views.LegendItem{Label: "model age: median and 95 % interval", Color: views.ColorModel, Marker: "band"},
 			views.LegendItem{Label: "tie age ± 2σ (normal) or range (uniform)", Color: views.ColorTie, Marker: "errbar"})
 	}
 	if len(a.Hiatuses) > 0 {
-		f.Legend = append(f.Legend, views.LegendItem{Label: "hiatus", Marker: "hiatus"})
+		legend = append(legend, views.LegendItem{Label: "hiatus", Marker: "hiatus"})
 	}
-	if a.Model != nil {
-		f.Notes = append(f.Notes, modelSentence(a))
-	}
-	return f
+	return legend
 }
 
 func d13cTitle(code string) string {

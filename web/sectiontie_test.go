@@ -45,7 +45,7 @@ func TestTieLevelWidensTheModel(t *testing.T) {
 		t.Errorf("mean widths analytical %.4f, tracer %.4f, full %.4f Ma: want them increasing", sumA/float64(len(an)), sumT/float64(len(an)), sumF/float64(len(an)))
 	}
 	status, _, page := get(t, srv, sec+"?draws=500")
-	for _, want := range []string{"Tie points as the model uses them", "the tracer and λ238 drawn once per draw", "tie_level=full", "This is the default", `name="tie_level"`} {
+	for _, want := range []string{"Tie points as the model uses them", "the tracer and λ238 drawn once per draw", "at the full external (X, and the tracer", "This is the default", `name="tie_level"`} {
 		if status != http.StatusOK || !strings.Contains(page, want) {
 			t.Errorf("the section page lacks %q", want)
 		}

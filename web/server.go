@@ -12,6 +12,7 @@ import (
 	"io/fs"
 	"log/slog"
 	"net/http"
+	"strconv"
 	"time"
 
 	"github.com/a-h/templ"
@@ -33,6 +34,8 @@ type Server struct {
 	release  string        // the release this server shows the compilation as of ("" = live)
 	prefix   string        // the path it is served under (a release's view)
 	releases *releaseViews // the handlers of releases opened from the live site
+	router   http.Handler  // the whole site, for pages that read another page's numbers (an event's answer)
+	heavy    *heavyLimit   // the slots of the pages that compute (web/heavy.go)
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
@@ -44,7 +47,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 		opt(&o)
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
-		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix}
+		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix, heavy: defaultHeavyLimit()}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
@@ -65,6 +68,8 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.Use(s.requireLoginSetting)
 	r.Use(s.asOfRelease)
 	r.Use(rememberPath)
+	r.Use(takeFlash)
+	r.Use(s.limitHeavy)
 
 	r.Get("/static/*", http.StripPrefix("/static/", http.FileServerFS(staticFS)).ServeHTTP)
 	r.Get("/", s.handle(s.handleHome))
@@ -84,6 +89,8 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerDateRoutes(r)
 	s.registerSectionRoutes(r)
 	s.registerCompareRoutes(r)
+	s.registerCoincidenceRoutes(r)
+	s.registerMapRoutes(r)
 	s.registerHelpRoutes(r)
 	s.registerReleaseRoutes(r)
 	r.Get("/ties", s.handle(s.handleTieList))
@@ -96,6 +103,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	r.MethodNotAllowed(s.handle(func(w http.ResponseWriter, r *http.Request) error {
 		return wrongMethod{method: r.Method}
 	}))
+	s.router = r
 	return r
 }
 
@@ -152,10 +160,15 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		var wm wrongMethod
 		var tl bodyTooLarge
 		var naf notAForm
+		var sb serverBusy
 		view := views.ErrorView{Page: s.page(r.Context(), "", "")}
 		switch {
 		case errors.As(err, &br):
 			view.Status, view.Page.Title, view.Message, view.Details = http.StatusBadRequest, "Cannot show this page", br.message, br.problems
+			if in := settingsForm(r, br.problems); len(in) > 0 {
+				view.Message = "This page cannot be shown with these settings. They are kept below: change the ones marked and show it again."
+				view.Settings, view.SettingsAction = in, r.URL.Path
+			}
 		case errors.As(err, &ce):
 			view.Status, view.Page.Title, view.Message = http.StatusConflict, "Changed meanwhile", ce.message
 		case errors.As(err, &fb):
@@ -169,6 +182,9 @@ func (s *Server) handle(fn func(http.ResponseWriter, *http.Request) error) http.
 		case errors.As(err, &naf):
 			view.Status, view.Page.Title = http.StatusUnsupportedMediaType, "No file is taken here"
 			view.Message = "This page takes a form without files, so what was sent was refused and nothing was kept. Files are sent on the Import page."
+		case errors.As(err, &sb):
+			view.Status, view.Page.Title = http.StatusServiceUnavailable, "Busy: try again shortly"
+			view.Message = "The server is computing other pages and could not start this one in time. Nothing is lost: open it again in " + strconv.Itoa(heavyRetryAfter) + " seconds."
 		case errors.As(err, &nf):
 			view.Status, view.Page.Title, view.Message = http.StatusNotFound, "Not found", "There is no "+nf.what+"."
 		case errors.Is(err, store.ErrNotFound):
@@ -223,7 +239,7 @@ const readOnlyBanner = "The database is on storage that cannot be written, so th
 
 // page builds the common part of a page's view model.
 func (s *Server) page(ctx context.Context, title, nav string) views.Page {
-	p := views.Page{Title: title, Nav: nav}
+	p := views.Page{Title: title, Nav: nav, Done: flashOf(ctx)}
 	if u, ok := currentUser(ctx); ok {
 		p.User, p.Role = u.Name, u.Role
 		if store.RoleAtLeast(u.Role, store.RoleContributor) {

@@ -21,6 +21,7 @@ type Store interface {
 	accountStore
 	recordEditor
 	changeStore
+	mappingStore
 	pulseStore
 	comparisonStore
 }
@@ -66,6 +67,7 @@ type dateReader interface {
 
 // sectionReader is what the section pages, their models and the comparison's sections read.
 type sectionReader interface {
+	analysis.SnapshotReader
 	Sections(ctx context.Context) ([]store.Section, error)
 	Section(ctx context.Context, id int64) (store.Section, error)
 	Samples(ctx context.Context, sectionID int64) ([]store.Sample, []string, error)
@@ -145,6 +147,18 @@ type changeStore interface {
 	AcceptBatch(ctx context.Context, batchID int64) (int, []string, error)
 	PendingInBatch(ctx context.Context, batchID int64) (int, error)
 	Batches(ctx context.Context, f store.BatchFilter) ([]store.BatchRow, int, error)
+}
+
+// mappingStore is what the mapping step of an upload and the change's page use: the saved mappings of
+// the columns of tables as papers publish them, and the mapping an import read its file through.
+type mappingStore interface {
+	Mappings(ctx context.Context) ([]store.Mapping, error)
+	MappingByName(ctx context.Context, name string) (store.Mapping, error)
+	MappingsForFile(ctx context.Context, fileName string, body []byte) ([]store.Mapping, error)
+	SaveMapping(ctx context.Context, m store.Mapping) error
+	MappingCreator(ctx context.Context, name string) (int64, bool, error)
+	SetUploadMapping(ctx context.Context, id int64, m store.Mapping) error
+	BatchMapping(ctx context.Context, batchID int64) (*store.Mapping, error)
 }
 
 // pulseStore keeps the pulses saved from the timeline.

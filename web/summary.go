@@ -101,10 +101,6 @@ func partitionReviewed[T any](include string, xs []T, state func(T) string) (in,
 	return analysis.PartitionReviewed(include, xs, state)
 }
 
-func tieState(t store.TiePoint) string  { return string(t.ReviewState) }
-func hiatusState(h store.Hiatus) string { return string(h.ReviewState) }
-func eventState(e store.Event) string   { return string(e.ReviewState) }
-
 // systemOf groups a date's method by decay system (analysis.SystemOf).
 func systemOf(method string) (key, label, decay string) { return analysis.SystemOf(method) }
 
@@ -126,12 +122,7 @@ func unusableSigmaCautions(sums []unitSummary) []string { return analysis.Unusab
 
 func fmtMSWD(v float64) string { return analysis.FormatMSWD(v) }
 
-func fmtP(p float64) string {
-	if p < 0.001 {
-		return fmt.Sprintf("%.1e", p)
-	}
-	return fmt.Sprintf("%.3f", p)
-}
+func fmtP(p float64) string { return analysis.FormatP(p) }
 
 func count(n int, noun string) string {
 	if n == 1 {

@@ -50,12 +50,12 @@ func summaryForm(action string, ch summaryChoice) *views.Form {
 
 // summaryIntro says in one paragraph what the summaries on a page are made of.
 func summaryIntro(ch summaryChoice) string {
-	return fmt.Sprintf("Weighted means per unit and decay system of %s (include=%s). ⁴⁰Ar/³⁹Ar dates enter recalculated to %s; "+
-		"± at the %s level, %dσ (level=%s, sigma=%d); systematic terms added after averaging. Overdispersion: %s (policy=%s). "+
-		"Outlier flags: %s (rule=%s) — flagged dates stay in the mean and the mean without them is shown beside it. "+
+	return fmt.Sprintf("Weighted means per unit and decay system of %s. ⁴⁰Ar/³⁹Ar dates enter recalculated to %s; "+
+		"± at the %s level, %dσ; systematic terms added after averaging. Overdispersion: %s. "+
+		"Outlier flags: %s — flagged dates stay in the mean and the mean without them is shown beside it. "+
 		"MSWD judged against %s.",
-		includeLabel(ch.Include), ch.Include, ch.Cal.label(), levelNames[ch.Level], ch.Sigma, ch.Level, ch.Sigma,
-		policyLabel(ch.PolicyCode), ch.PolicyCode, ruleLabel(ch.Rule), ch.Rule, mswdRangeText(ch.Range))
+		includeLabel(ch.Include), ch.Cal.label(), levelNames[ch.Level], ch.Sigma,
+		policyLabel(ch.PolicyCode), ruleLabel(ch.Rule), mswdRangeText(ch.Range))
 }
 
 // mswdRangeText says in a sentence how the acceptable MSWD range is made.
@@ -92,15 +92,7 @@ func ruleLabel(r stats.OutlierRule) string {
 // meanText writes "mean ± σ" at the chosen σ level (decimals from σ).
 func meanText(l levelled, sigma int) (string, string) { return ageSigma(l.MeanMa, l.Sigma1s, sigma) }
 
-func flaggedCodes(s systemSummary) []string {
-	var out []string
-	for _, e := range s.Entries {
-		if e.Flagged {
-			out = append(out, e.D.SampleCode)
-		}
-	}
-	return out
-}
+func flaggedCodes(s systemSummary) []string { return analysis.FlaggedCodes(s) }
 
 // flagsText says what the rule flagged.
 func flagsText(s systemSummary, ch summaryChoice) string {

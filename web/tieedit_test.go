@@ -91,13 +91,13 @@ func TestContributorTieIsPendingAndLeftOutOfTheModel(t *testing.T) {
 	}
 	_, _, secPage := get(t, srv, base+"?draws=500")
 	for _, want := range []string{"Left out of the age–height model: 1 tie point waiting for a curator&#39;s review (Ash S-1b (contributed))",
-		"Tie points in use: accepted tie points only (include=accepted); left out: Ash S-1b (contributed) (pending)", `name="include"`} {
+		"Tie points in use: accepted tie points only; left out: Ash S-1b (contributed) (pending)", `name="include"`} {
 		if !strings.Contains(secPage, want) {
 			t.Errorf("the section page lacks %q", want)
 		}
 	}
 	_, _, withPage := get(t, srv, base+"?draws=500&include=pending")
-	if !strings.Contains(withPage, "The age–height model uses 1 pending tie point that no curator has reviewed yet (include=pending): Ash S-1b (contributed).") {
+	if !strings.Contains(withPage, "The age–height model uses 1 pending tie point that no curator has reviewed yet (as chosen: accepted and pending tie points): Ash S-1b (contributed).") {
 		t.Error("include=pending: the section page does not say the model rests on an unreviewed tie")
 	}
 	if status, _, body := get(t, srv, base+"?include=maybe"); status != http.StatusBadRequest || !strings.Contains(body, "include: unknown value") {

@@ -128,7 +128,7 @@ func TestTimelineEachBandwidthRule(t *testing.T) {
 		{"?bw=scott&adaptive=1", []string{"adaptive KDE (Abramson"}},
 		{"?pdp=1", []string{stats.PDPCaution[:60], `id="pdp"`, "PDP"}},
 		{"?sigma=1", []string{"± 1σ"}},
-		{"?reps=200&seed=7", []string{"reps=200, seed=7", "200 replicates, seed 7"}},
+		{"?reps=200&seed=7", []string{"from 200 replicates (seed 7)", "200 replicates, seed 7"}},
 	}
 	paths := map[string]string{}
 	for _, tc := range cases {
@@ -212,7 +212,7 @@ func TestTimelineBandwidthInEachReplicate(t *testing.T) {
 		})
 	}
 	_, _, page := get(t, srv, "/provinces/1/timeline?bw=scott&bw_each=1")
-	if !strings.Contains(page, "bandwidth re-estimated by the scott rule in every replicate (bw_each=1)") {
+	if !strings.Contains(page, "width re-estimated in every replicate (Scott&#39;s rule of thumb)") {
 		t.Error("the figure's subtitle does not say the bandwidth was re-estimated in every replicate")
 	}
 	if !regexp.MustCompile(`<option value="1" selected[^>]*>re-estimated in each`).MatchString(page) {
@@ -490,7 +490,7 @@ func TestTimelineFigureContent(t *testing.T) {
 		}
 	}
 	_, _, page = get(t, srv, "/provinces/1/timeline")
-	if !strings.Contains(page, "weighting by volume (weight=volume) would leave them out") {
+	if !strings.Contains(page, "weighting by volume would leave them out") {
 		t.Error("the default page does not say which units lack a volume")
 	}
 	if !strings.Contains(page, "Tindravik Flow Group: its ⁴⁰Ar/³⁹Ar mean is set aside; the U–Pb mean is counted") {

@@ -31,7 +31,7 @@ func figureDateStatus(ch densityChoice, label string, counted, noVolume bool, co
 	case counted:
 		return "counted in the density"
 	case noVolume && ch.Weight == "volume":
-		return "not counted: the unit has no volume (weight=volume)"
+		return "not counted: the unit has no volume, and the density is weighted by volume"
 	case ch.Count == "unit":
 		return "not counted: the unit's " + label + " mean is set aside for its " + countedSystem + " mean"
 	}
@@ -163,13 +163,13 @@ func dateBand(u store.Unit, ds []views.FigureDate, level int) *views.FigureBand 
 func countedText(res densityResult, ch densityChoice) string {
 	var s string
 	if ch.Count == "unit" {
-		s = fmt.Sprintf("Counted: one value per unit (count=unit) — %s, each the unit's weighted mean at the %s level with ⁴⁰Ar/³⁹Ar on %s",
+		s = fmt.Sprintf("Counted: one value per unit — %s, each the unit's weighted mean at the %s level with ⁴⁰Ar/³⁹Ar on %s",
 			count(len(res.Values), "unit mean"), ch.Sum.Level, ch.Sum.Cal.Cal.Name)
 	} else {
-		s = fmt.Sprintf("Counted: every date (count=date) — %s, analytical σ, ⁴⁰Ar/³⁹Ar recalculated to %s", count(len(res.Values), "date"), ch.Sum.Cal.Cal.Name)
+		s = fmt.Sprintf("Counted: every date — %s, analytical σ, ⁴⁰Ar/³⁹Ar recalculated to %s", count(len(res.Values), "date"), ch.Sum.Cal.Cal.Name)
 	}
 	if ch.Weight == "volume" {
-		s += "; weighted by unit volume (weight=volume)"
+		s += "; weighted by unit volume"
 		if ch.Count == "date" {
 			s += ", a unit's volume shared equally among its dates"
 		}
@@ -190,7 +190,7 @@ func bandText(res densityResult, ch densityChoice) string {
 	}
 	bw := "bandwidth held at the reference h."
 	if ch.BWEach {
-		bw = fmt.Sprintf("bandwidth re-estimated by the %s rule in every replicate (bw_each=1), so the band includes the bandwidth's own uncertainty", ch.Rule)
+		bw = fmt.Sprintf("width re-estimated in every replicate (%s), so the band includes the bandwidth's own uncertainty", smoothingWords(ch.Rule))
 		if res.Band != nil && res.Band.Fallbacks > 0 {
 			bw += fmt.Sprintf("; the rule fell back in %d replicates", res.Band.Fallbacks)
 		}
@@ -204,8 +204,8 @@ func bandText(res densityResult, ch densityChoice) string {
 		}
 		own = "each moved by a normal draw of its own random 1σ, with " + strings.Join(names, ", ") + " drawn once per replicate for all the values that share them"
 	}
-	return fmt.Sprintf("95 %% bootstrap band and pulse intervals from %d replicates (reps=%d, seed=%d): %s resampled with replacement and %s; %s",
-		ch.Reps, ch.Reps, ch.Seed, what, own, bw)
+	return fmt.Sprintf("95 %% bootstrap band and pulse intervals from %d replicates (seed %d): %s resampled with replacement and %s; %s",
+		ch.Reps, ch.Seed, what, own, bw)
 }
 
 // timelineFigure assembles the figure's view model.
@@ -224,11 +224,11 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 		}
 		b := res.Band
 		d := &views.FigureDensity{AgesMa: b.GridMa, Value: b.Reference.Density, Lower: b.Lower, Upper: b.Upper,
-			Label:     fmt.Sprintf("KDE, h = %s Ma (%s)", fixed(res.Bandwidth.Ma, sigmaDecimals(res.Bandwidth.Ma)+1), res.Bandwidth.Rule),
+			Label:     fmt.Sprintf("KDE, h = %s Ma (%s)", fixed(res.Bandwidth.Ma, sigmaDecimals(res.Bandwidth.Ma)+1), smoothingWords(res.Bandwidth.Rule)),
 			BandLabel: fmt.Sprintf("95 %% bootstrap band (%d replicates, seed %d)", ch.Reps, ch.Seed),
 			YLabel:    "Density (per Ma)"}
 		if ch.Adaptive {
-			d.Label = "adaptive KDE (Abramson), pilot h = " + fixed(res.Bandwidth.Ma, sigmaDecimals(res.Bandwidth.Ma)+1) + " Ma (" + res.Bandwidth.Rule.String() + ")"
+			d.Label = "KDE with a width that adapts to the data (Abramson), starting from h = " + fixed(res.Bandwidth.Ma, sigmaDecimals(res.Bandwidth.Ma)+1) + " Ma (" + smoothingWords(res.Bandwidth.Rule) + ")"
 		}
 		if ch.Weight == "volume" {
 			d.YLabel = "Volume-weighted density (per Ma)"
@@ -362,10 +362,10 @@ func timelineForm(action string, ch densityChoice) *views.Form {
 		}
 		return "0"
 	}
-	bw := views.Field{Name: "bw", Label: "Bandwidth rule", Kind: "select"}
+	bw := views.Field{Name: "bw", Label: "Smoothing width", Kind: "select"}
 	for _, name := range bandwidthRules {
 		r, _ := stats.ParseBandwidthRule(name)
-		bw.Options = append(bw.Options, opt(name, r.Label(), ch.Rule.String()))
+		bw.Options = append(bw.Options, opt(name, smoothingChoice(r), ch.Rule.String()))
 	}
 	h := ""
 	if ch.Rule == stats.RuleUser {
@@ -378,11 +378,11 @@ func timelineForm(action string, ch densityChoice) *views.Form {
 		{Name: "weight", Label: "Weight", Kind: "select", Options: []views.Option{
 			opt("none", "equal", ch.Weight), opt("volume", "by unit volume", ch.Weight)}},
 		bw,
-		{Name: "h", Label: "h (Ma, bw=user)", Kind: "number", Value: h, Step: "any"},
-		{Name: "adaptive", Label: "Adaptive (Abramson)", Kind: "select", Options: []views.Option{
-			opt("0", "off", onoff(ch.Adaptive)), opt("1", "on", onoff(ch.Adaptive))}},
-		{Name: "pdp", Label: "PDP overlay", Kind: "select", Options: []views.Option{
-			opt("0", "off", onoff(ch.PDP)), opt("1", "on (not a KDE)", onoff(ch.PDP))}},
+		{Name: "h", Label: "Width I set (Ma)", Kind: "number", Value: h, Step: "any"},
+		{Name: "adaptive", Label: "Width adapts to the data", Kind: "select", Options: []views.Option{
+			opt("0", "no: one width everywhere", onoff(ch.Adaptive)), opt("1", "yes: narrower where dates crowd", onoff(ch.Adaptive))}},
+		{Name: "pdp", Label: "Also draw the sum of the dates' curves", Kind: "select", Options: []views.Option{
+			opt("0", "no", onoff(ch.PDP)), opt("1", "yes (not a density estimate)", onoff(ch.PDP))}},
 		{Name: "from", Label: "Window from (Ma)", Kind: "number", Value: from, Step: "any", Placeholder: "auto"},
 		{Name: "to", Label: "to (Ma)", Kind: "number", Value: to, Step: "any", Placeholder: "auto"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Seed, 10), Step: "1"},
@@ -420,7 +420,7 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 		if ch.Weight == "volume" {
 			v.Cautions = append(v.Cautions, "No volume is known for "+strings.Join(res.NoVolume, ", ")+": left out of the volume-weighted density.")
 		} else {
-			v.Notes = append(v.Notes, "No volume is known for "+strings.Join(res.NoVolume, ", ")+": weighting by volume (weight=volume) would leave them out.")
+			v.Notes = append(v.Notes, "No volume is known for "+strings.Join(res.NoVolume, ", ")+": weighting by volume would leave them out.")
 		}
 	}
 	v.Notes = append(v.Notes, res.Left...)
@@ -540,4 +540,24 @@ func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResu
 		cw.Flush()
 		return cw.Error()
 	})
+}
+
+// smoothingWords names a smoothing-width rule in the words of the pages (analysis.SmoothingWords).
+func smoothingWords(r stats.BandwidthRule) string { return analysis.SmoothingWords(r) }
+
+// smoothingChoice is a smoothing-width rule as a choice of the forms.
+func smoothingChoice(r stats.BandwidthRule) string {
+	switch r {
+	case stats.RuleISJ:
+		return "automatic: from the shape of the data (Botev et al. 2010)"
+	case stats.RuleScott:
+		return "rule of thumb (Scott 1992)"
+	case stats.RuleSilverman:
+		return "rule of thumb (Silverman 1986, 1.06)"
+	case stats.RuleSilvermanRobust:
+		return "rule of thumb, robust to outliers (Silverman 1986, 0.9)"
+	case stats.RuleUser:
+		return "a width I set"
+	}
+	return r.Label()
 }

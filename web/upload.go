@@ -28,19 +28,23 @@ func (s *Server) registerUploadRoutes(r chi.Router) {
 		r.Get("/import", s.handle(s.handleUploadForm))
 		r.Post("/import", s.handle(s.handleUploadPreview))
 		r.Post("/import/{id}/commit", s.handle(s.handleUploadCommit))
+		r.Get("/import/{id}/map", s.handle(s.handleMapForm))
+		r.Post("/import/{id}/map", s.handle(s.handleMapSubmit))
 	})
 	r.With(s.requireRole(store.RoleCurator)).Post("/changes/{id}/undo", s.handle(s.handleBatchUndo))
 	r.With(s.requireRole(store.RoleCurator)).Post("/changes/{id}/accept", s.handle(s.handleBatchAccept))
 	r.Get("/changes", s.handle(s.handleChangeList))
 }
 
-func (s *Server) uploadView(r *http.Request, kind, section string, errs []string) (views.Edit, error) {
+func (s *Server) uploadView(r *http.Request, kind, section, columns string, errs []string) (views.Edit, error) {
 	sections, err := s.store.Sections(r.Context())
 	if err != nil {
 		return views.Edit{}, err
 	}
 	e := views.Edit{Page: s.page(r.Context(), "Import a file", ""), Action: "/import", Multipart: true, Submit: "Check the file", Errors: errs}
-	e.Intro = "Upload a CSV file (or an .xlsx workbook: its first sheet) in one of the file formats below; each has a page of its columns and a template to download. You will first see every row with its problems and warnings; nothing is imported until you confirm, and then all rows or none are."
+	e.Intro = "Upload a CSV file (or an .xlsx workbook: its first sheet) in one of the file formats below; each has a page of its columns and a template to download. " +
+		"Dates may also come in a table as a paper publishes it (any sheet of a workbook): you then say which of its columns is which, once per layout, and can save that for the next file. " +
+		"You will first see every row with its problems and warnings; nothing is imported until you confirm, and then all rows or none are."
 	kinds := []views.Option{}
 	for _, f := range store.FileFormats() {
 		kinds = append(kinds, views.Option{Value: f.Kind, Label: f.Title, Selected: f.Kind == kind || kind == "" && f.Kind == "dates"})
@@ -53,13 +57,17 @@ func (s *Server) uploadView(r *http.Request, kind, section string, errs []string
 	e.Inputs = []views.Input{
 		{Name: "kind", Label: "The file holds", Kind: "select", Options: kinds},
 		{Name: "section", Label: "Section", Kind: "select", Options: secs, Help: "for measurements, tie points and events"},
+		{Name: "columns", Label: "Its columns are", Kind: "select", Options: []views.Option{
+			{Value: "ours", Label: "those of our file format", Selected: columns != "map"},
+			{Value: "map", Label: "a table as a paper publishes it: I will say which column is which (dates only)", Selected: columns == "map"},
+		}, Help: "a paper's table (its own column names, ages in ka, σ as a percentage, a header over two rows, notes under it) is mapped onto our columns in the next step"},
 		{Name: "file", Label: "File", Kind: "file", Help: ".csv or .xlsx"},
 	}
 	return e, nil
 }
 
 func (s *Server) handleUploadForm(w http.ResponseWriter, r *http.Request) error {
-	e, err := s.uploadView(r, r.URL.Query().Get("kind"), r.URL.Query().Get("section"), nil)
+	e, err := s.uploadView(r, r.URL.Query().Get("kind"), r.URL.Query().Get("section"), "", nil)
 	if err != nil {
 		return err
 	}
@@ -80,12 +88,13 @@ func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) err
 			r.MultipartForm.RemoveAll()
 		}
 	}()
-	var kind, section string
+	var kind, section, columns string
 	if parseErr == nil {
 		kind, section = firstValue(r.MultipartForm.Value["kind"]), firstValue(r.MultipartForm.Value["section"])
+		columns = firstValue(r.MultipartForm.Value["columns"])
 	}
 	refuseWith := func(status int, msg string) error {
-		e, err := s.uploadView(r, kind, section, []string{msg})
+		e, err := s.uploadView(r, kind, section, columns, []string{msg})
 		if err != nil {
 			return err
 		}
@@ -120,6 +129,9 @@ func (s *Server) handleUploadPreview(w http.ResponseWriter, r *http.Request) err
 		return refuse("Choose what the file holds.")
 	} else if perSection && section == "" {
 		return refuse("Choose the section the " + kind + " belong to.")
+	}
+	if columns == "map" {
+		return s.uploadToMap(w, r, refuse, kind, hdr.Filename, body)
 	}
 	csvBody, err := store.ToCSV(hdr.Filename, body)
 	if ve, ok := store.AsValidation(err); ok {
@@ -176,6 +188,19 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 	v.Notes = append(v.Notes, whole...)
 	for _, n := range pv.Result.Notes {
 		v.Notes = append(v.Notes, "Note: "+n)
+	}
+	if pv.Upload.Mapped {
+		if len(pv.Problems) > 0 {
+			v.Intro = fmt.Sprintf("%d problem(s) found: nothing can be imported from this file. Fix them in the file and upload it again, or change the mapping.", len(pv.Problems))
+		}
+		v.Links = append(v.Links, views.Link{Label: "Change the mapping of the file's columns", URL: fmt.Sprintf("/import/%d/map", pv.Upload.ID)})
+		if m := pv.Upload.Mapping; m != nil {
+			v.Groups = append(v.Groups, mappingGroup("How the file's columns are read", *m))
+		}
+		if pv.Mapped != nil {
+			v.Tables = []views.Table{mappedPreviewTable(pv, byLine)}
+		}
+		return v
 	}
 	t := views.Table{ID: "preview", Caption: fmt.Sprintf("Rows of %s (%s)", pv.Upload.FileName, pv.Upload.Kind)}
 	lineLabel := "Line"
@@ -359,5 +384,39 @@ func (s *Server) handleChangeList(w http.ResponseWriter, r *http.Request) error 
 	}}
 	l.Pager = pagerFor(r, total, page, per, len(rows))
 	s.render(w, r, http.StatusOK, views.ListPage(l))
+	return nil
+}
+
+// mappingGroup says how a mapped file's columns are read, one line per column of ours.
+func mappingGroup(title string, m store.Mapping) views.FieldGroup {
+	g := views.FieldGroup{Title: title}
+	if m.Name != "" {
+		g.Title += fmt.Sprintf(" (the mapping “%s”)", m.Name)
+	}
+	for _, d := range m.Describe() {
+		g.Fields = append(g.Fields, views.KV{Label: d.What, Value: d.How})
+	}
+	return g
+}
+
+// uploadToMap keeps a table as a paper publishes it, as sent, and goes on to the mapping of its columns.
+func (s *Server) uploadToMap(w http.ResponseWriter, r *http.Request, refuse func(string) error, kind, fileName string, body []byte) error {
+	if kind != "dates" {
+		return refuse("Only dates can be read from a paper's table so far: choose Dates, or give the file our columns.")
+	}
+	if _, err := store.ReadRawTable(fileName, body, ""); err != nil {
+		if ve, ok := store.AsValidation(err); ok {
+			return refuse(ve.Problems[0].String())
+		}
+		return err
+	}
+	u, _ := currentUser(r.Context())
+	id, err := s.store.SaveUpload(r.Context(), store.Upload{UserID: u.ID, Kind: kind, FileName: fileName, Body: body, Mapped: true})
+	if ve, ok := store.AsValidation(err); ok {
+		return refuse(ve.Problems[0].String())
+	} else if err != nil {
+		return err
+	}
+	http.Redirect(w, r, fmt.Sprintf("/import/%d/map", id), http.StatusSeeOther)
 	return nil
 }

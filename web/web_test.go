@@ -92,6 +92,7 @@ func TestPagesRenderWithWhatTheyShow(t *testing.T) {
 		{"/ties", []string{"uniform"}},
 		{"/events", []string{"Hg anomaly", "CIE onset"}},
 		{"/calibrations", []string{"28.201", "compilation target", "Kuiper"}},
+		{"/coincidence?reps=100&draws=500&n=999", []string{"than chance would place them", "p-value", "Read the p-value with these in mind"}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.path, func(t *testing.T) {
@@ -202,6 +203,7 @@ func TestDownloadsParse(t *testing.T) {
 		{"/events?format=csv", []string{"section", "name", "kind", "base_height_m"}, c.Events},
 		{"/provinces/1?format=csv", []string{"unit", "volume_km3"}, c.Units},
 		{"/dates/1?format=csv", []string{"sample_code", "age_ma"}, 1},
+		{"/coincidence?format=csv&reps=100&draws=500&n=999", []string{"statistic_ma", "p", "replicates", "null", "window_old_ma"}, 1},
 	}
 	for _, tc := range cases {
 		t.Run(tc.path, func(t *testing.T) {

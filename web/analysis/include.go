@@ -1,5 +1,7 @@
 package analysis
 
+import "coeval/store"
+
 // Which records enter a computation: the one review policy of the app, for dates in unit summaries and
 // densities, tie points and hiatuses in age models, and events in the comparison.
 
@@ -74,3 +76,8 @@ func checkInclude(include string, errs *OptionErrors) {
 	}
 	*errs = append(*errs, &OptionError{Option: "Include", Problem: "unknown review choice " + quote(include) + "; want accepted, pending or all"})
 }
+
+// The review state of each kind of record a review choice lets into a computation.
+func TieState(t store.TiePoint) string  { return string(t.ReviewState) }
+func HiatusState(h store.Hiatus) string { return string(h.ReviewState) }
+func EventState(e store.Event) string   { return string(e.ReviewState) }

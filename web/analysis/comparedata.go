@@ -1,0 +1,220 @@
+package analysis
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"slices"
+
+	"coeval/stats"
+	"coeval/store"
+)
+
+// ErrNoProvince is LoadCompareData's error for a compilation without provinces: nothing to compare.
+var ErrNoProvince = errors.New("the compilation has no province to compare")
+
+// CompareData is what the store holds for a comparison, read as one snapshot (LoadCompareData).
+type CompareData struct {
+	Stamp     int64 // the compilation's data stamp in the snapshot
+	Province  store.Province
+	Provinces []store.Province
+	Units     []store.Unit
+	Dates     []store.Date
+	Sections  []store.Section
+	Samples   map[int64][]store.Sample
+	Ties      map[int64][]store.TiePoint // the ties the age models use: those the review choice lets in
+	TiesOut   map[int64][]store.TiePoint // the ties it leaves out
+	EventsIn  []store.Event              // the events it lets in (section and direct), for its cautions
+	EventsOut []store.Event              // the events it leaves out
+	Events    map[int64][]store.Event
+	Direct    []store.Event // events with a direct age and no section
+	Hiatuses  map[int64][]store.Hiatus
+	TieIns    map[int64][]TieInput // the ties as the age model uses them (dates at the full level)
+	LinkDates map[int64]store.Date // dates linked to tie points
+	Cals      []store.Calibration
+	// Calibration is the calibration the options chose (by code; the target without one), as stored in
+	// the snapshot.
+	Calibration stats.Calibration
+}
+
+// reviewedEvents keeps the events the review choice lets into the comparison (as for dates and ties) and
+// notes the others, so the page can say what it left out.
+func (d *CompareData) reviewedEvents(evs []store.Event, include string) []store.Event {
+	in, out := PartitionReviewed(include, evs, EventState)
+	d.EventsIn, d.EventsOut = append(d.EventsIn, in...), append(d.EventsOut, out...)
+	return in
+}
+
+// Digest is a version of exactly the data a comparison reads: a hash of the records loaded for it (the
+// province's units and dates, the chosen sections' samples, ties, hiatuses and events, the linked dates,
+// the calibrations, the direct ages). An edit elsewhere in the compilation leaves it unchanged; an edit to
+// anything it reads changes it. "" when the data cannot be hashed.
+func (d *CompareData) Digest() string {
+	h := sha256.New()
+	enc := json.NewEncoder(h)
+	for _, v := range []any{d.Province, d.Units, d.Dates, d.Sections, d.Samples, d.Ties, d.TiesOut, d.EventsIn,
+		d.EventsOut, d.Events, d.Direct, d.Hiatuses, d.TieIns, d.LinkDates, d.Cals} {
+		if err := enc.Encode(v); err != nil {
+			return ""
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// LoadCompareData reads everything a comparison with the options needs as one snapshot of the store, so
+// every record belongs to one state of the compilation even while others write. Options naming records
+// that do not exist are *OptionErrors of their field; a compilation without provinces is ErrNoProvince.
+func LoadCompareData(ctx context.Context, src SnapshotReader, o CompareOptions) (*CompareData, error) {
+	if err := o.Check(); err != nil {
+		return nil, err
+	}
+	d := &CompareData{Samples: map[int64][]store.Sample{}, Ties: map[int64][]store.TiePoint{}, TiesOut: map[int64][]store.TiePoint{},
+		Events: map[int64][]store.Event{}, Hiatuses: map[int64][]store.Hiatus{}, TieIns: map[int64][]TieInput{}, LinkDates: map[int64]store.Date{}}
+	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
+		if err := d.readProvince(ctx, s, o); err != nil {
+			return err
+		}
+		if err := d.readSections(ctx, s, o); err != nil {
+			return err
+		}
+		return d.readDirect(ctx, s, o)
+	})
+	if err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// readProvince reads the stamp, the provinces, the chosen one with its units and dates, and the
+// calibrations.
+func (d *CompareData) readProvince(ctx context.Context, s *store.Snapshot, o CompareOptions) error {
+	var err error
+	if d.Stamp, err = s.DataStamp(ctx); err != nil {
+		return err
+	}
+	if d.Provinces, err = s.Provinces(ctx); err != nil {
+		return err
+	}
+	if len(d.Provinces) == 0 {
+		return ErrNoProvince
+	}
+	id := o.ProvinceID
+	if id == 0 {
+		id = d.Provinces[0].ID
+	}
+	if d.Province, err = s.Province(ctx, id); err != nil {
+		if errors.Is(err, store.ErrNotFound) {
+			return &OptionError{Option: "ProvinceID", Problem: fmt.Sprintf("there is no province %d", id)}
+		}
+		return err
+	}
+	if d.Units, err = s.Units(ctx, id); err != nil {
+		return err
+	}
+	if d.Dates, _, err = s.Dates(ctx, store.DateFilter{ProvinceID: id}); err != nil {
+		return err
+	}
+	if d.Cals, err = s.Calibrations(ctx); err != nil {
+		return err
+	}
+	code := o.Density.Summary.Calibration.Code
+	if code == "" {
+		target, ok := TargetCalibration(d.Cals)
+		if !ok {
+			return fmt.Errorf("calibration: the compilation has no calibrations")
+		}
+		code = target.Code
+	}
+	i := slices.IndexFunc(d.Cals, func(c store.Calibration) bool { return c.Code == code })
+	if i < 0 {
+		return &OptionError{Option: "Calibration", Problem: "there is no calibration " + quote(code)}
+	}
+	d.Calibration = CalibrationOf(d.Cals[i])
+	return nil
+}
+
+// readSections reads the chosen sections with their samples, ties (and their linked dates), events and
+// hiatuses, the ties and events split by the review choice.
+func (d *CompareData) readSections(ctx context.Context, s *store.Snapshot, o CompareOptions) error {
+	all, err := s.Sections(ctx)
+	if err != nil {
+		return err
+	}
+	var bad OptionErrors
+	for _, id := range o.SectionIDs {
+		if !slices.ContainsFunc(all, func(x store.Section) bool { return x.ID == id }) {
+			bad = append(bad, &OptionError{Option: "SectionIDs", Problem: fmt.Sprintf("there is no section %d", id)})
+		}
+	}
+	if len(bad) > 0 {
+		return bad
+	}
+	target, _ := TargetCalibration(d.Cals)
+	include := o.Density.Summary.Include
+	for _, sec := range all {
+		if len(o.SectionIDs) > 0 && !slices.Contains(o.SectionIDs, sec.ID) {
+			continue
+		}
+		d.Sections = append(d.Sections, sec)
+		if d.Samples[sec.ID], _, err = s.Samples(ctx, sec.ID); err != nil {
+			return err
+		}
+		ties, err := s.TiePoints(ctx, sec.ID)
+		if err != nil {
+			return err
+		}
+		// The age models rest on the ties the review choice (as for the dates) lets in.
+		d.Ties[sec.ID], d.TiesOut[sec.ID] = PartitionReviewed(include, ties, TieState)
+		evs, err := s.Events(ctx, sec.ID)
+		if err != nil {
+			return err
+		}
+		d.Events[sec.ID] = d.reviewedEvents(evs, include)
+		if d.Hiatuses[sec.ID], err = s.Hiatuses(ctx, sec.ID); err != nil {
+			return err
+		}
+		for _, t := range d.Ties[sec.ID] {
+			if t.DateID == nil {
+				continue
+			}
+			if _, ok := d.LinkDates[*t.DateID]; !ok {
+				dt, err := s.Date(ctx, *t.DateID)
+				if err != nil {
+					return fmt.Errorf("tie %q: %w", t.Label, err)
+				}
+				d.LinkDates[*t.DateID] = dt
+			}
+		}
+		// Absolute ages compared across systems and laboratories: ties from dates at the full level, on
+		// the compilation's target calibration.
+		if d.TieIns[sec.ID], err = TieInputs(d.Ties[sec.ID], d.LinkDates, "full", CalibrationOf(target)); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// readDirect reads the events with a direct age and no section, and checks the chosen events exist.
+func (d *CompareData) readDirect(ctx context.Context, s *store.Snapshot, o CompareOptions) error {
+	evs, err := s.Events(ctx, 0)
+	if err != nil {
+		return err
+	}
+	known := map[int64]bool{}
+	for _, e := range evs {
+		known[e.ID] = true
+		if e.SectionID == nil && e.AgeMa != nil && e.SigmaMa != nil {
+			d.Direct = append(d.Direct, d.reviewedEvents([]store.Event{e}, o.Density.Summary.Include)...)
+		}
+	}
+	var bad OptionErrors
+	for _, id := range o.EventIDs {
+		if !known[id] {
+			bad = append(bad, &OptionError{Option: "EventIDs", Problem: fmt.Sprintf("there is no event %d", id)})
+		}
+	}
+	return bad.Err()
+}

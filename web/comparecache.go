@@ -1,0 +1,168 @@
+package web
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"net/http"
+	"sync"
+	"time"
+)
+
+// comparison reads the choices and returns the computed comparison, from the cache when the same
+// choices were computed on the same data. The data are read as one snapshot (analysis.LoadCompareData),
+// so they belong to the one state of the compilation their data stamp names.
+func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
+	ctx := r.Context()
+	p := newParams(r)
+	ch, err := c.compareChoiceFrom(ctx, p)
+	if err != nil {
+		return nil, false, err
+	}
+	p.id("saved")
+	if err := p.err(); err != nil {
+		return nil, false, err
+	}
+	if err := anonymousComputeLimits(ctx, ch); err != nil {
+		return nil, false, err
+	}
+	base := ch
+	stamp, err := c.store.DataStamp(ctx)
+	if err != nil {
+		return nil, false, err
+	}
+	if res, ok := c.cache.get(base.cacheKey(stamp)); ok {
+		return res, true, nil
+	}
+	d, err := c.loadCompareData(ctx, &ch)
+	if err != nil {
+		return nil, false, err
+	}
+	key := base.cacheKey(d.Stamp)
+	if res, ok := c.cache.get(key); ok {
+		return res, true, nil
+	}
+	// Keyed also by what it read: a change elsewhere in the compilation keeps the result.
+	dataKey := ""
+	if dg := d.Digest(); dg != "" {
+		dataKey = base.cacheKeyData(dg)
+		if res, ok := c.cache.get(dataKey); ok {
+			c.cache.put(key, res)
+			return res, true, nil
+		}
+	}
+	for {
+		// Identical requests meanwhile wait for this one instead of computing it again.
+		f, lead := c.cache.join(key)
+		if !lead {
+			select {
+			case <-f.done:
+			case <-ctx.Done():
+				return nil, false, ctx.Err()
+			}
+			if f.err != nil && ctx.Err() == nil && (errors.Is(f.err, context.Canceled) || errors.Is(f.err, context.DeadlineExceeded)) {
+				continue // its request went away; this one computes
+			}
+			return f.res, f.err == nil, f.err
+		}
+		var res *compareResult
+		func() {
+			defer func() { c.cache.land(key, f, res, err) }() // also when the computation panics
+			if res, err = computeComparison(ctx, d, ch, d.Stamp); err == nil {
+				res.At = time.Now().UTC().Format(time.RFC3339)
+			}
+		}()
+		if err != nil {
+			return nil, false, err
+		}
+		c.cache.put(key, res)
+		if dataKey != "" {
+			c.cache.put(dataKey, res)
+		}
+		return res, false, nil
+	}
+}
+
+// cacheKey is the choice set that decides the computed result (not the display: sort, format), with
+// the compilation's stamp.
+func (ch compareChoice) cacheKey(stamp int64) string {
+	d := ch.Dens
+	k := map[string]any{"stamp": stamp, "cal": d.Sum.Cal.Cal.Code, "policy": d.Sum.PolicyCode, "rule": d.Sum.Rule.String(), "mswd_range": d.Sum.Range.String(),
+		"include": d.Sum.Include, "count": d.Count, "weight": d.Weight, "bw": d.Rule.String(), "h": d.UserHMa,
+		"adaptive": d.Adaptive, "from": d.FromMa, "to": d.ToMa, "seed": d.Seed, "reps": d.Reps, "bw_each": d.BWEach,
+		"province": ch.ProvinceID, "pulses": ch.Pulses, "rows": ch.Rows, "units": ch.UnitIDs, "events": ch.EventIDs, "sections": ch.SectionIDs, "groups": ch.Groups,
+		"anomalies": ch.Anomalies, "point": ch.Point, "delta": ch.DeltaMa, "level": ch.Level.String(), "n": ch.N, "model": ch.Model,
+		"draws": ch.ModelDraws, "toc": ch.TocMinWtPct, "sens": ch.Sensitivity, "order": ch.Order}
+	b, _ := json.Marshal(k) // maps marshal with sorted keys: one spelling per choice set
+	return string(b)
+}
+
+// cacheKeyData is the choice set with a digest of the data read instead of the compilation's stamp.
+func (ch compareChoice) cacheKeyData(digest string) string {
+	return "data " + digest + " " + ch.cacheKey(0)
+}
+
+// compareCache keeps computed comparisons keyed by the full choice set and the compilation's stamp
+// (cacheKey). A change to the records makes a new change batch and so a new stamp: old entries are
+// never read again and fall out by age. It holds at most max entries, dropping the oldest.
+type compareCache struct {
+	mu     sync.Mutex
+	max    int
+	order  []string
+	m      map[string]*compareResult
+	flying map[string]*compareFlight
+}
+
+// compareFlight is a comparison being computed: identical requests meanwhile wait for it instead of
+// computing it again.
+type compareFlight struct {
+	done chan struct{}
+	res  *compareResult
+	err  error
+}
+
+func newCompareCache(max int) *compareCache {
+	return &compareCache{max: max, m: map[string]*compareResult{}, flying: map[string]*compareFlight{}}
+}
+
+// join returns the flight computing key and whether the caller leads it (and must call land).
+func (c *compareCache) join(key string) (*compareFlight, bool) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if f, ok := c.flying[key]; ok {
+		return f, false
+	}
+	f := &compareFlight{done: make(chan struct{})}
+	c.flying[key] = f
+	return f, true
+}
+
+// land ends a flight with its result and lets the waiting requests go.
+func (c *compareCache) land(key string, f *compareFlight, res *compareResult, err error) {
+	c.mu.Lock()
+	delete(c.flying, key)
+	c.mu.Unlock()
+	f.res, f.err = res, err
+	close(f.done)
+}
+
+func (c *compareCache) get(k string) (*compareResult, bool) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	r, ok := c.m[k]
+	return r, ok
+}
+
+func (c *compareCache) put(k string, r *compareResult) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if _, ok := c.m[k]; ok {
+		return
+	}
+	c.m[k] = r
+	c.order = append(c.order, k)
+	for len(c.order) > c.max {
+		delete(c.m, c.order[0])
+		c.order = c.order[1:]
+	}
+}

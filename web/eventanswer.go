@@ -1,0 +1,415 @@
+package web
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"net/http"
+	"net/url"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+	"coeval/views"
+)
+
+// The answer on an event's page: its age from its section's age model, and, for every province whose
+// dates come near it, the pulses it could belong to, ranked — each number read from the comparison the
+// comparison page computes with its default choices (the same cache), so the answer and the full
+// comparison cannot differ.
+
+// answerReachMa is how near a province's dates must come to the event's age for the province to be
+// compared with it (a density of unit means does not reach further than a few Ma beyond its dates).
+const answerReachMa = 5.0
+
+// maxAnswerProvinces bounds the comparisons one event page runs: the provinces with most dates near the
+// event first.
+const maxAnswerProvinces = 6
+
+type answerAge struct {
+	Median, Lo95, Hi95 float64
+	Model              string
+}
+
+// pulseAnswer is one pulse of a province against the event: the comparison's row, with the pulse's age.
+type pulseAnswer struct {
+	Province, Pulse                  string
+	ProvinceID                       int64
+	ModeMa, StartMa, EndMa           float64 // from the province's timeline (NaN when not found)
+	Within, WithinSE, After, AfterSE float64
+	LagMed, LagLo, LagHi             float64
+	SensWithinMin, SensWithinMax     float64
+	SensCaution                      string
+	compareQuery                     url.Values
+	hasPulseAge, sensitivityIsKnown  bool
+}
+
+type eventAnswer struct {
+	Age       *answerAge
+	Pulses    []pulseAnswer // ranked: P(within) descending
+	Sentence  string
+	Notes     []string
+	Provinces int // compared
+}
+
+// internalJSON reads path?q through the site's own handler as the request's user would, as JSON into v.
+func internalJSON(h http.Handler, r *http.Request, path string, q url.Values, v any) error {
+	q2, _ := url.ParseQuery(q.Encode())
+	q2.Set("format", "json")
+	req := r.Clone(r.Context())
+	req.Method = http.MethodGet
+	req.Body = http.NoBody
+	req.URL = &url.URL{Path: path, RawQuery: q2.Encode()}
+	req.RequestURI = req.URL.String()
+	req = req.WithContext(context.WithValue(context.WithValue(req.Context(), chi.RouteCtxKey, nil), internalKey{}, true))
+	rec := &captured{header: http.Header{}}
+	h.ServeHTTP(rec, req)
+	if rec.status != 0 && rec.status != http.StatusOK {
+		var e struct {
+			Error    string   `json:"error"`
+			Problems []string `json:"problems"`
+		}
+		if json.Unmarshal(rec.body.Bytes(), &e) == nil && e.Error != "" {
+			if len(e.Problems) > 0 {
+				return fmt.Errorf("%s %s", e.Error, strings.Join(e.Problems, "; "))
+			}
+			return errors.New(e.Error)
+		}
+		return fmt.Errorf("status %d", rec.status)
+	}
+	if err := json.Unmarshal(rec.body.Bytes(), v); err != nil {
+		return fmt.Errorf("reading %s: %w", path, err)
+	}
+	return nil
+}
+
+// sectionAges is what an answer reads of a section page: its age model and the ages of its events.
+type sectionAges struct {
+	AgeModel struct {
+		Model     string `json:"model"`
+		Draws     int    `json:"draws"`
+		Seed      uint64 `json:"seed"`
+		EventAges []struct {
+			Name   string   `json:"name"`
+			Median *float64 `json:"age_median_ma"`
+			Lo     *float64 `json:"age_lo95_ma"`
+			Hi     *float64 `json:"age_hi95_ma"`
+		} `json:"event_ages"`
+		Note string `json:"note"`
+	} `json:"age_model"`
+}
+
+type comparisonRowsJSON struct {
+	Rows []map[string]string `json:"rows"`
+}
+
+type timelinePulses struct {
+	Pulses []struct {
+		Pulse   string  `json:"pulse"`
+		ModeMa  float64 `json:"mode_ma"`
+		StartMa float64 `json:"start_ma"`
+		EndMa   float64 `json:"end_ma"`
+	} `json:"pulses"`
+}
+
+// answers reads each section, comparison and timeline once for the answers of many events (the list
+// of events).
+type answers struct {
+	s         *Server
+	r         *http.Request
+	sections  map[int64]*sectionAges
+	compares  map[int64]*comparisonRowsJSON
+	timelines map[int64]*timelinePulses
+	errs      map[int64]error
+}
+
+func (s *Server) answers(r *http.Request) *answers {
+	return &answers{s: s, r: r, sections: map[int64]*sectionAges{}, compares: map[int64]*comparisonRowsJSON{},
+		timelines: map[int64]*timelinePulses{}, errs: map[int64]error{}}
+}
+
+func (as *answers) section(id int64) (*sectionAges, error) {
+	if v, ok := as.sections[id]; ok {
+		return v, nil
+	}
+	v := &sectionAges{}
+	if err := internalJSON(as.s.router, as.r, idURL("/sections", id), nil, v); err != nil {
+		return nil, err
+	}
+	as.sections[id] = v
+	return v, nil
+}
+
+func (as *answers) comparison(province int64) (*comparisonRowsJSON, error) {
+	if v, ok := as.compares[province]; ok {
+		return v, as.errs[province]
+	}
+	v := &comparisonRowsJSON{}
+	err := internalJSON(as.s.router, as.r, "/compare", url.Values{"province": {strconv.FormatInt(province, 10)}}, v)
+	as.compares[province], as.errs[province] = v, err
+	return v, err
+}
+
+func (as *answers) timeline(province int64) *timelinePulses {
+	if v, ok := as.timelines[province]; ok {
+		return v
+	}
+	v := &timelinePulses{}
+	_ = internalJSON(as.s.router, as.r, idURL("/provinces", province)+"/timeline", nil, v) // pulse ages are a help, not the answer
+	as.timelines[province] = v
+	return v
+}
+
+// answerFor builds the answer on event ev.
+func (s *Server) answerFor(r *http.Request, ev store.Event) (eventAnswer, error) {
+	return s.answers(r).answer(ev)
+}
+
+// answer builds the answer on event ev.
+func (as *answers) answer(ev store.Event) (eventAnswer, error) {
+	var a eventAnswer
+	s, r := as.s, as.r
+	if ev.SectionID == nil || s.router == nil {
+		return a, nil
+	}
+	// The age: the section page's model, with its default choices.
+	sec, err := as.section(*ev.SectionID)
+	if err != nil {
+		return a, err
+	}
+	for _, e := range sec.AgeModel.EventAges {
+		if e.Name == ev.Name && e.Median != nil && e.Lo != nil && e.Hi != nil {
+			a.Age = &answerAge{Median: *e.Median, Lo95: *e.Lo, Hi95: *e.Hi,
+				Model: fmt.Sprintf("%s age–height model of %s (%d draws, seed %d)", modelWords(sec.AgeModel.Model), ev.Section, sec.AgeModel.Draws, sec.AgeModel.Seed)}
+		}
+	}
+	if a.Age == nil {
+		a.Sentence = "No age: " + orText(sec.AgeModel.Note, "its section has no age–height model that reaches it") + "."
+		return a, nil
+	}
+	// The provinces whose dates come near it, most dates first.
+	provs, err := s.store.Provinces(r.Context())
+	if err != nil {
+		return a, err
+	}
+	type near struct {
+		p store.Province
+		n int
+	}
+	var cands []near
+	for _, p := range provs {
+		lo, hi := a.Age.Hi95-answerReachMa, a.Age.Lo95+answerReachMa
+		_, n, err := s.store.Dates(r.Context(), store.DateFilter{ProvinceID: p.ID, MinAgeMa: &lo, MaxAgeMa: &hi, ReviewState: store.ReviewAccepted, Limit: 1})
+		if err != nil {
+			return a, err
+		}
+		if n > 0 {
+			cands = append(cands, near{p, n})
+		}
+	}
+	sort.SliceStable(cands, func(i, j int) bool { return cands[i].n > cands[j].n })
+	if len(cands) > maxAnswerProvinces {
+		a.Notes = append(a.Notes, fmt.Sprintf("%d provinces have dates within %g Ma of this event; the %d with most such dates are compared here (the comparison page takes any).", len(cands), answerReachMa, maxAnswerProvinces))
+		cands = cands[:maxAnswerProvinces]
+	}
+	code := "E" + strconv.FormatInt(ev.ID, 10)
+	for _, c := range cands {
+		q := url.Values{"province": {strconv.FormatInt(c.p.ID, 10)}}
+		cmp, err := as.comparison(c.p.ID)
+		if err != nil {
+			a.Notes = append(a.Notes, fmt.Sprintf("%s could not be compared: %v", c.p.Name, err))
+			continue
+		}
+		tl := as.timeline(c.p.ID)
+		a.Provinces++
+		for _, row := range cmp.Rows {
+			if row["event_code"] != code || row["pulse"] == "" {
+				continue
+			}
+			pa := pulseAnswer{Province: c.p.Name, ProvinceID: c.p.ID, Pulse: row["pulse"], compareQuery: q,
+				Within: numOr(row["p_within"]), WithinSE: numOr(row["p_within_se"]), After: numOr(row["p_after_onset"]), AfterSE: numOr(row["p_after_onset_se"]),
+				LagMed: numOr(row["lag_median_ma"]), LagLo: numOr(row["lag_lo95_ma"]), LagHi: numOr(row["lag_hi95_ma"]),
+				SensWithinMin: numOr(row["sens_within_min"]), SensWithinMax: numOr(row["sens_within_max"]), SensCaution: row["sens_caution"],
+				ModeMa: math.NaN(), StartMa: math.NaN(), EndMa: math.NaN()}
+			pa.sensitivityIsKnown = !math.IsNaN(pa.SensWithinMin)
+			for _, p := range tl.Pulses {
+				if p.Pulse == pa.Pulse {
+					pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = p.ModeMa, p.StartMa, p.EndMa, true
+				}
+			}
+			a.Pulses = append(a.Pulses, pa)
+		}
+	}
+	sort.SliceStable(a.Pulses, func(i, j int) bool { return a.Pulses[i].Within > a.Pulses[j].Within })
+	a.Sentence = answerSentence(a)
+	return a, nil
+}
+
+func numOr(s string) float64 {
+	x, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		return math.NaN()
+	}
+	return x
+}
+
+func orText(s, alt string) string {
+	if s == "" {
+		return alt
+	}
+	return s
+}
+
+func modelWords(code string) string {
+	if code == "linear" {
+		return "straight-line"
+	}
+	return "Monte Carlo"
+}
+
+// pulseName names a pulse by its age where the timeline gives it ("the pulse at ~155.44 Ma").
+func (p pulseAnswer) pulseName() string {
+	if !p.hasPulseAge {
+		return "pulse " + p.Pulse
+	}
+	return fmt.Sprintf("pulse %s at ~%.2f Ma (%.2f–%.2f)", p.Pulse, p.ModeMa, p.StartMa, p.EndMa)
+}
+
+// probWords writes a probability to the precision its Monte Carlo error supports, bounds as bounds.
+func probWords(p, se float64) string {
+	switch {
+	case math.IsNaN(p):
+		return "—"
+	case p >= 1 || (se == 0 && p > 0.999):
+		return "> 0.999"
+	case p <= 0 || (se == 0 && p < 0.001):
+		return "< 0.001"
+	case math.IsNaN(se):
+		return fmt.Sprintf("%.2f", p)
+	}
+	return fmt.Sprintf("%.*f", max(2, min(4, int(math.Ceil(-math.Log10(math.Max(se, 1e-4)))))), p)
+}
+
+// holds says whether P(within) stays on the same side of 0.5 under every alternative of the sensitivity.
+func (p pulseAnswer) holds() string {
+	switch {
+	case !p.sensitivityIsKnown:
+		return "not tested"
+	case p.Within >= 0.5 && p.SensWithinMin >= 0.5, p.Within < 0.5 && p.SensWithinMax < 0.5:
+		return "holds under every alternative"
+	}
+	return fmt.Sprintf("does not hold under every alternative (P from %.2f to %.2f)", p.SensWithinMin, p.SensWithinMax)
+}
+
+// answerSentence is the answer in one sentence: per province, the most likely pulse or that the event
+// falls before or outside its pulses.
+func answerSentence(a eventAnswer) string {
+	if len(a.Pulses) == 0 {
+		if a.Provinces == 0 {
+			return fmt.Sprintf("No province has dates within %g Ma of this event's age, so none is compared with it.", answerReachMa)
+		}
+		return "The compared provinces have no pulse to set against this event."
+	}
+	byProv := map[int64][]pulseAnswer{}
+	var order []int64
+	for _, p := range a.Pulses {
+		if _, ok := byProv[p.ProvinceID]; !ok {
+			order = append(order, p.ProvinceID)
+		}
+		byProv[p.ProvinceID] = append(byProv[p.ProvinceID], p)
+	}
+	var parts []string
+	for _, id := range order {
+		ps := byProv[id]
+		best := ps[0]
+		allBefore := true
+		for _, p := range ps {
+			if !(p.After < 0.05) {
+				allBefore = false
+			}
+		}
+		switch {
+		case best.Within >= 0.5:
+			parts = append(parts, fmt.Sprintf("most likely during the %s of %s (P = %s, %s)", best.pulseName(), best.Province, probWords(best.Within, best.WithinSE), best.holds()))
+		case allBefore:
+			parts = append(parts, fmt.Sprintf("before every pulse of %s", best.Province))
+		default:
+			parts = append(parts, fmt.Sprintf("not clearly within any pulse of %s (largest P = %s, the %s)", best.Province, probWords(best.Within, best.WithinSE), best.pulseName()))
+		}
+	}
+	s := strings.Join(parts, "; ")
+	return strings.ToUpper(s[:1]) + s[1:] + "."
+}
+
+// answerBlock lays the answer out on the event's page.
+func answerBlock(a eventAnswer) (notes []string, groups []views.FieldGroup, tables []views.Table, links []views.Link) {
+	if a.Sentence != "" {
+		notes = append(notes, a.Sentence)
+	}
+	if a.Age != nil {
+		d := sigmaDecimals((a.Age.Hi95 - a.Age.Lo95) / 4)
+		groups = append(groups, views.FieldGroup{Title: "Age", Fields: []views.KV{
+			{Label: "Median (95 % interval)", Value: fmt.Sprintf("%s Ma (%s – %s)", fixed(a.Age.Median, d), fixed(a.Age.Lo95, d), fixed(a.Age.Hi95, d))},
+			{Label: "From", Value: a.Age.Model}}})
+	}
+	if len(a.Pulses) > 0 {
+		t := views.Table{ID: "answer", Caption: "Pulses this event could belong to, most likely first",
+			Columns: []views.Column{{Label: "Province"}, {Label: "Pulse", Unit: "mode (start–end), Ma"}, {Label: "P(within)", Num: true, Title: "± its Monte Carlo standard error"},
+				{Label: "P(after onset)", Num: true}, {Label: "Lag from onset", Unit: "Ma, median (95 %)", Num: true}, {Label: "Under the sensitivity set"}}}
+		for _, p := range a.Pulses {
+			lag := "—"
+			if !math.IsNaN(p.LagMed) {
+				lag = fmt.Sprintf("%.2f (%.2f – %.2f)", p.LagMed, p.LagLo, p.LagHi)
+			}
+			hold := views.Cell{Text: p.holds()}
+			if strings.HasPrefix(hold.Text, "does not") {
+				hold.Class = "caution"
+			}
+			pulse := "—"
+			if p.hasPulseAge {
+				pulse = fmt.Sprintf("%s: %.2f (%.2f–%.2f)", p.Pulse, p.ModeMa, p.StartMa, p.EndMa)
+			} else {
+				pulse = p.Pulse
+			}
+			t.Rows = append(t.Rows, []views.Cell{{Text: p.Province, URL: idURL("/provinces", p.ProvinceID) + "/timeline"}, {Text: pulse},
+				{Text: probWords(p.Within, p.WithinSE), Num: true}, {Text: probWords(p.After, p.AfterSE), Num: true}, {Text: lag, Num: true}, hold})
+		}
+		t.Notes = []string{"Each number is the comparison page's, with its default choices: the density of unit means (automatic smoothing width, 1,000 bootstrap replicates), the section's Monte Carlo age–height model, 10,000 joint draws, shared systematic terms drawn once per draw. They depend on those choices; the comparison page changes them and says how each number was computed."}
+		tables = append(tables, t)
+		seen := map[int64]bool{}
+		for _, p := range a.Pulses {
+			if !seen[p.ProvinceID] {
+				seen[p.ProvinceID] = true
+				links = append(links, views.Link{Label: "The full comparison with " + p.Province, URL: "/compare?" + p.compareQuery.Encode()})
+			}
+		}
+	}
+	notes = append(notes, a.Notes...)
+	return notes, groups, tables, links
+}
+
+// jsonOf is the answer as the event's JSON carries it.
+func (a eventAnswer) jsonOf() map[string]any {
+	out := map[string]any{"sentence": a.Sentence, "provinces_compared": a.Provinces, "notes": a.Notes}
+	if a.Age != nil {
+		out["age"] = map[string]any{"median_ma": a.Age.Median, "lo95_ma": a.Age.Lo95, "hi95_ma": a.Age.Hi95, "model": a.Age.Model}
+	}
+	var ps []map[string]any
+	for _, p := range a.Pulses {
+		m := map[string]any{"province": p.Province, "province_id": p.ProvinceID, "pulse": p.Pulse,
+			"p_within": jf(p.Within), "p_within_se": jf(p.WithinSE), "p_after_onset": jf(p.After), "p_after_onset_se": jf(p.AfterSE),
+			"lag_median_ma": jf(p.LagMed), "lag_lo95_ma": jf(p.LagLo), "lag_hi95_ma": jf(p.LagHi),
+			"sensitivity_within_min": jf(p.SensWithinMin), "sensitivity_within_max": jf(p.SensWithinMax), "holds": p.holds()}
+		if p.hasPulseAge {
+			m["pulse_mode_ma"], m["pulse_start_ma"], m["pulse_end_ma"] = p.ModeMa, p.StartMa, p.EndMa
+		}
+		ps = append(ps, m)
+	}
+	out["pulses"] = ps
+	return out
+}

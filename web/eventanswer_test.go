@@ -1,0 +1,100 @@
+package web
+
+import (
+	"context"
+	"encoding/json"
+	"html"
+	"net/http"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// Every event's answer holds the full comparison's numbers for the same (default) choices: for each demo
+// event, each pulse's P(within), P(after onset) and lag are the comparison's row for that event and
+// pulse, and the pulses are ranked by P(within). The page leads with the sentence and links the full
+// comparison.
+func TestEventAnswersAreTheComparisonsNumbers(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	status, _, body := get(t, srv, "/compare?format=json&province=1")
+	if status != http.StatusOK {
+		t.Fatalf("comparison: status %d", status)
+	}
+	var cmp struct {
+		Rows []map[string]string `json:"rows"`
+	}
+	if err := json.Unmarshal([]byte(body), &cmp); err != nil {
+		t.Fatal(err)
+	}
+	rows := map[string]map[string]string{}
+	for _, r := range cmp.Rows {
+		if r["pulse"] != "" {
+			rows[r["event_code"]+" "+r["pulse"]] = r
+		}
+	}
+	secs, _ := db.Sections(ctx)
+	answered := 0
+	for _, sec := range secs {
+		evs, _ := db.Events(ctx, sec.ID)
+		for _, ev := range evs {
+			if ev.ReviewState != "accepted" {
+				continue
+			}
+			status, _, body := get(t, srv, idURL("/events", ev.ID)+"?format=json")
+			if status != http.StatusOK {
+				t.Fatalf("event %d: status %d", ev.ID, status)
+			}
+			var doc struct {
+				Answer struct {
+					Sentence string `json:"sentence"`
+					Age      *struct {
+						Median float64 `json:"median_ma"`
+					} `json:"age"`
+					Pulses []map[string]any `json:"pulses"`
+				} `json:"answer"`
+			}
+			if err := json.Unmarshal([]byte(body), &doc); err != nil {
+				t.Fatal(err)
+			}
+			if doc.Answer.Age == nil {
+				continue // an event its section's model does not reach
+			}
+			code := "E" + strconv.FormatInt(ev.ID, 10)
+			prev := 2.0
+			for _, p := range doc.Answer.Pulses {
+				row := rows[code+" "+p["pulse"].(string)]
+				if row == nil {
+					t.Errorf("%s: pulse %v is not in the comparison", ev.Name, p["pulse"])
+					continue
+				}
+				for key, col := range map[string]string{"p_within": "p_within", "p_after_onset": "p_after_onset", "lag_median_ma": "lag_median_ma"} {
+					want, _ := strconv.ParseFloat(row[col], 64)
+					if got, _ := p[key].(float64); got != want {
+						t.Errorf("%s × %v: %s %v, the comparison's %v", ev.Name, p["pulse"], key, got, want)
+					}
+				}
+				w := p["p_within"].(float64)
+				if w > prev {
+					t.Errorf("%s: pulses not ranked by P(within)", ev.Name)
+				}
+				prev = w
+			}
+			if len(doc.Answer.Pulses) > 0 {
+				answered++
+			}
+			if doc.Answer.Sentence == "" {
+				t.Errorf("%s: no sentence", ev.Name)
+			}
+		}
+	}
+	if answered < 3 {
+		t.Errorf("only %d demo events have an answer", answered)
+	}
+	// The page: the sentence first, the ranked table, the link to the full comparison.
+	status, _, page := get(t, srv, "/events/8")
+	page = html.UnescapeString(page)
+	if status != http.StatusOK || !strings.Contains(page, "Most likely during the pulse P1 at ~") || !strings.Contains(page, `id="answer"`) || !strings.Contains(page, `href="/compare?province=1"`) {
+		t.Errorf("the event page does not lead with its answer: %s", between(page, "<main", "</table>"))
+	}
+}

@@ -1,0 +1,236 @@
+package web
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"net/http"
+	"strconv"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/store"
+	"coeval/views"
+	"coeval/web/analysis"
+)
+
+// The map (/map): every province's units and every section at today's coordinates, over coastlines
+// shipped with the app (views.MapSource), with units far from the rest of their province flagged as a
+// likely entry error (analysis.PlaceUnits). The figure is drawn on the server; no online tiles.
+
+func (s *Server) registerMapRoutes(r chi.Router) {
+	r.Get("/map", s.handle(s.handleMap))
+}
+
+// mapPlaces is what the map shows: the provinces' located units (checked) and the sections.
+type mapPlaces struct {
+	Provinces []analysis.ProvincePlaces
+	Sections  []store.Section
+}
+
+func (s *Server) readMapPlaces(r *http.Request) (mapPlaces, error) {
+	ctx := r.Context()
+	var m mapPlaces
+	provs, err := s.store.Provinces(ctx)
+	if err != nil {
+		return m, err
+	}
+	for _, p := range provs {
+		units, err := s.store.Units(ctx, p.ID)
+		if err != nil {
+			return m, err
+		}
+		m.Provinces = append(m.Provinces, analysis.PlaceUnits(p, units))
+	}
+	if m.Sections, err = s.store.Sections(ctx); err != nil {
+		return m, err
+	}
+	return m, nil
+}
+
+func (s *Server) handleMap(w http.ResponseWriter, r *http.Request) error {
+	p := newParams(r)
+	format := p.oneOf("format", []string{"html", "svg", "csv", "json"}, "html")
+	if err := p.err(); err != nil {
+		return err
+	}
+	m, err := s.readMapPlaces(r)
+	if err != nil {
+		return err
+	}
+	switch format {
+	case "csv":
+		return writeDownload(w, "map-places.csv", func(wr io.Writer) error { return writeMapCSV(wr, m) })
+	case "json":
+		writeJSON(w, http.StatusOK, mapJSON(m))
+		return nil
+	}
+	fig := mapFigure(m)
+	svg, err := fig.SVG()
+	if err != nil {
+		return err
+	}
+	if format == "svg" {
+		return writeFile(w, "image/svg+xml", "map.svg", svg)
+	}
+	v := views.MapView{Page: s.page(r.Context(), "Map of the compilation", "Map"), SVG: string(svg)}
+	v.Subtitle = "Units of every province and every section, at today's coordinates"
+	v.Downloads = []views.Link{{Label: "SVG", URL: withQuery(r, "format", "svg")}, {Label: "CSV", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}}
+	v.Intro = "Where the compilation's units and sections lie today (latitude and longitude as entered, WGS 84 degrees). A unit far from the rest of its province is circled in red: most often a sign or an entry error in its coordinates."
+	v.Caption = "Units as circles in their province's colour, sections as black squares; point at one for its name, click to open it. Equirectangular projection, longitudes scaled by the cosine of the middle latitude. " + views.MapSource
+	for _, pp := range m.Provinces {
+		for _, u := range pp.Units {
+			if u.Far {
+				v.Cautions = append(v.Cautions, fmt.Sprintf("%s (%s) at %s, %s: %s.", u.Unit.Name, pp.Province.Name, degrees3(*u.Unit.Latitude), degrees3(*u.Unit.Longitude), u.Why))
+			}
+		}
+		if !pp.Checked && len(pp.Units) > 0 {
+			v.Notes = append(v.Notes, fmt.Sprintf("%s: only %s with coordinates, too few to tell which lies far from the others (at least %d).", pp.Province.Name, count(len(pp.Units), "unit"), analysis.MinUnitsToCheck))
+		}
+		if pp.Unlocated > 0 {
+			v.Notes = append(v.Notes, fmt.Sprintf("%s: %s without coordinates, not on the map.", pp.Province.Name, count(pp.Unlocated, "unit")))
+		}
+	}
+	v.Notes = append(v.Notes, fmt.Sprintf("A unit is flagged when it lies more than %g times its province's typical distance (the median distance of its units from their centre, the median latitude and longitude) and more than %g km from that centre; the flag says when flipping a sign or swapping latitude and longitude would bring it among the others.", analysis.FarFactor, analysis.FarMinKm))
+	v.Tables = mapTables(m)
+	s.render(w, r, http.StatusOK, views.MapPage(v))
+	return nil
+}
+
+// degrees3 writes a coordinate in degrees to three decimals (about 100 m).
+func degrees3(v float64) string { return strconv.FormatFloat(v, 'f', 3, 64) }
+
+func mapFigure(m mapPlaces) views.WorldMap {
+	fig := views.WorldMap{Title: "Units and sections of the compilation at today's coordinates"}
+	for _, pp := range m.Provinces {
+		if len(pp.Units) == 0 {
+			continue
+		}
+		fig.Groups = append(fig.Groups, pp.Province.Name)
+		for _, u := range pp.Units {
+			label := fmt.Sprintf("%s (%s), %s, %s", u.Unit.Name, pp.Province.Name, degrees3(*u.Unit.Latitude), degrees3(*u.Unit.Longitude))
+			if u.Far {
+				label += " — far from the rest of its province: check its coordinates"
+			}
+			fig.Points = append(fig.Points, views.MapPoint{Lat: *u.Unit.Latitude, Lon: *u.Unit.Longitude, Label: label,
+				URL: idURL("/units", u.Unit.ID), Group: len(fig.Groups) - 1, Flag: u.Far})
+		}
+	}
+	for _, sec := range m.Sections {
+		if sec.Latitude == nil || sec.Longitude == nil {
+			continue
+		}
+		label := fmt.Sprintf("%s (section), %s, %s", sec.Name, degrees3(*sec.Latitude), degrees3(*sec.Longitude))
+		if sec.Palaeolatitude != nil {
+			label += fmt.Sprintf("; palaeolatitude %s°", strconv.FormatFloat(*sec.Palaeolatitude, 'f', -1, 64))
+		}
+		fig.Points = append(fig.Points, views.MapPoint{Lat: *sec.Latitude, Lon: *sec.Longitude, Label: label, URL: idURL("/sections", sec.ID), Section: true})
+	}
+	return fig
+}
+
+// mapRow is one place of the tables and downloads.
+type mapRow struct {
+	Kind, Name, Province, URL string
+	Lat, Lon, Palaeo          *float64
+	DistanceKm                float64
+	Far                       bool
+	Check                     string
+}
+
+func mapRows(m mapPlaces) []mapRow {
+	var rows []mapRow
+	for _, pp := range m.Provinces {
+		for _, u := range pp.Units {
+			rows = append(rows, mapRow{Kind: "unit", Name: u.Unit.Name, Province: pp.Province.Name, URL: idURL("/units", u.Unit.ID),
+				Lat: u.Unit.Latitude, Lon: u.Unit.Longitude, DistanceKm: u.DistanceKm, Far: u.Far, Check: u.Why})
+		}
+	}
+	for _, sec := range m.Sections {
+		if sec.Latitude == nil || sec.Longitude == nil {
+			continue
+		}
+		rows = append(rows, mapRow{Kind: "section", Name: sec.Name, URL: idURL("/sections", sec.ID), Lat: sec.Latitude, Lon: sec.Longitude,
+			Palaeo: sec.Palaeolatitude, DistanceKm: math.NaN()})
+	}
+	return rows
+}
+
+func optCoord(v *float64) string {
+	if v == nil {
+		return "–"
+	}
+	return degrees3(*v)
+}
+
+func mapTables(m mapPlaces) []views.Table {
+	t := views.Table{ID: "places", Caption: "Places on the map", Columns: []views.Column{
+		{Label: "What"}, {Label: "Name"}, {Label: "Province"}, {Label: "Latitude", Unit: "°", Num: true}, {Label: "Longitude", Unit: "°", Num: true},
+		{Label: "Palaeolatitude", Unit: "°", Num: true, Title: "as entered for the section"},
+		{Label: "From the province's centre", Unit: "km", Num: true}, {Label: "Check"},
+	}, Empty: "No unit or section has coordinates."}
+	for _, r := range mapRows(m) {
+		dist := "–"
+		if !math.IsNaN(r.DistanceKm) {
+			dist = strconv.FormatFloat(r.DistanceKm, 'f', 0, 64)
+		}
+		check := views.Cell{Text: ""}
+		if r.Far {
+			check = views.Cell{Text: "far from the rest of its province", Class: "caution", Title: r.Check}
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: r.Kind}, {Text: r.Name, URL: r.URL}, {Text: orDash(r.Province)},
+			{Text: optCoord(r.Lat), Num: true}, {Text: optCoord(r.Lon), Num: true}, {Text: optCoord(r.Palaeo), Num: true},
+			{Text: dist, Num: true}, check})
+	}
+	t.Notes = []string{"Today's latitude and longitude in degrees (north and east positive), as entered. Palaeolatitudes are those entered for the sections; units have none recorded."}
+	return []views.Table{t}
+}
+
+var mapColumns = []string{"kind", "name", "province", "latitude_deg", "longitude_deg", "palaeolatitude_deg", "distance_from_province_centre_km", "far", "check"}
+
+func writeMapCSV(w io.Writer, m mapPlaces) error {
+	cw := store.NewCSVWriter(w)
+	if err := cw.Write(mapColumns); err != nil {
+		return err
+	}
+	opt := func(v *float64) string {
+		if v == nil {
+			return ""
+		}
+		return gs(*v)
+	}
+	for _, r := range mapRows(m) {
+		if err := cw.Write([]string{r.Kind, r.Name, r.Province, opt(r.Lat), opt(r.Lon), opt(r.Palaeo), gs(r.DistanceKm), strconv.FormatBool(r.Far), r.Check}); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func mapJSON(m mapPlaces) any {
+	type place struct {
+		Kind       string   `json:"kind"`
+		Name       string   `json:"name"`
+		Province   string   `json:"province,omitempty"`
+		Latitude   *float64 `json:"latitude_deg"`
+		Longitude  *float64 `json:"longitude_deg"`
+		Palaeo     *float64 `json:"palaeolatitude_deg"`
+		DistanceKm *float64 `json:"distance_from_province_centre_km"`
+		Far        bool     `json:"far"`
+		Check      string   `json:"check,omitempty"`
+	}
+	out := struct {
+		Source string  `json:"coastlines_source"`
+		Places []place `json:"places"`
+	}{Source: views.MapSource, Places: []place{}}
+	for _, r := range mapRows(m) {
+		pl := place{Kind: r.Kind, Name: r.Name, Province: r.Province, Latitude: r.Lat, Longitude: r.Lon, Palaeo: r.Palaeo, Far: r.Far, Check: r.Check}
+		if !math.IsNaN(r.DistanceKm) {
+			d := r.DistanceKm
+			pl.DistanceKm = &d
+		}
+		out.Places = append(out.Places, pl)
+	}
+	return out
+}
