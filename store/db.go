@@ -31,6 +31,11 @@ type DB struct {
 	readOnly   bool // opened with OpenReadOnly: every write fails with SQLITE_READONLY
 	// uploadQuota is the bytes of checked but not imported uploads one account may keep (0 = default).
 	uploadQuota int64
+	// traceQuery, when set (tests), is told each query the dates list pages run, to check their plans.
+	traceQuery func(q string, args []any)
+	smallDates int // tests: the dates list's smallDateSet (0: the constant)
+	// revCounts keeps how many revisions each change holds once counted (revisionCount).
+	revCounts *revisionCounts // shared by the copies ReadSnapshot makes; nil: not kept
 	// rq, when set, is the read transaction of a snapshot (ReadSnapshot): every read goes through it.
 	rq querier
 }
@@ -96,7 +101,7 @@ func open(ctx context.Context, path string, mode string) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
-	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != ""}, nil
+	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != "", revCounts: &revisionCounts{}}, nil
 }
 
 // escapePath escapes the characters that would end a path in a URI or be decoded (a "#" in a path once

@@ -79,9 +79,12 @@ func (d *DB) BatchRevisionsAfter(ctx context.Context, batchID, after int64, limi
 // BatchByID returns one change batch with who made it and how many revisions it holds, or ErrNotFound.
 func (d *DB) BatchByID(ctx context.Context, id int64) (BatchRow, error) {
 	var b BatchRow
-	err := d.reader().QueryRowContext(ctx, `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, ''),
-		(SELECT count(*) FROM revisions r WHERE r.batch_id = b.id)
+	err := d.reader().QueryRowContext(ctx, `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, '')
 		FROM change_batches b LEFT JOIN users u ON u.id = b.user_id WHERE b.id = ?`, id).
-		Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User, &b.Revisions)
-	return b, notFound(err, "change", id)
+		Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User)
+	if err != nil {
+		return b, notFound(err, "change", id)
+	}
+	b.Revisions, err = d.revisionCount(ctx, id)
+	return b, err
 }

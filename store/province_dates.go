@@ -1,9 +1,11 @@
 package store
 
 import (
+	"cmp"
 	"context"
 	"database/sql"
 	"fmt"
+	"slices"
 )
 
 // ProvinceDates is what a province's unit summaries and density are computed from: the province, its
@@ -31,12 +33,13 @@ func (d *DB) ProvinceDates(ctx context.Context, id int64) (ProvinceDates, error)
 	if err != nil {
 		return out, fmt.Errorf("units of province %d: %w", id, err)
 	}
-	f := DateFilter{ProvinceID: id}
-	cond, args := dateWhere(f)
-	cols, desc := dateOrder(f)
-	if out.Dates, err = queryAllTx(ctx, tx, dateSelect+cond+orderBy(cols, desc, false), args, scanDate); err != nil {
+	cond, args := dateWhere(DateFilter{ProvinceID: id})
+	if out.Dates, err = queryAllTx(ctx, tx, dateSelect+cond, args, scanDate); err != nil {
 		return out, fmt.Errorf("dates of province %d: %w", id, err)
 	}
+	// The dates list's default order (oldest first, ties by id), sorted here: SQLite's sorter would copy every
+	// column of every date into a temporary b-tree (a third of the read at 10,000 dates).
+	slices.SortFunc(out.Dates, func(a, b Date) int { return cmp.Or(cmp.Compare(b.AgeMa, a.AgeMa), cmp.Compare(a.ID, b.ID)) })
 	return out, nil
 }
 

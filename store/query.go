@@ -170,7 +170,10 @@ func dateWhere(f DateFilter) (string, []any) {
 	var args []any
 	add := func(cond string, a ...any) { where = append(where, cond); args = append(args, a...) }
 	if f.ProvinceID != 0 {
-		add("u.province_id = ?", f.ProvinceID)
+		// By the province's units (not u.province_id of the joined unit), so SQLite can read the dates by
+		// their unit's index instead of reading every date to look at its unit: 100 ms for a province's
+		// 10,000 dates among 100,000.
+		add("d.unit_id IN (SELECT id FROM units WHERE province_id = ?)", f.ProvinceID)
 	}
 	if f.UnitID != 0 {
 		add("d.unit_id = ?", f.UnitID)
@@ -288,107 +291,6 @@ type DatePage struct {
 	Prev, Next string
 }
 
-// DatesPage returns one page of f.Limit dates: the first page, the one after f.After or the one before
-// f.Before, with how many match in all and the cursors of its neighbours.
-func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
-	var pg DatePage
-	cond, args := dateWhere(f)
-	if err := d.reader().QueryRowContext(ctx, `SELECT count(*)`+dateFrom+cond, args...).Scan(&pg.Total); err != nil {
-		return pg, fmt.Errorf("count dates: %w", err)
-	}
-	cols, desc := dateOrder(f)
-	reverse := f.Before != ""
-	cur := f.After
-	if reverse {
-		cur = f.Before
-	}
-	if cur != "" {
-		c, err := decodeCursor(cur, len(cols))
-		if err != nil {
-			return pg, err
-		}
-		kc, kargs := keysetCond(cols, desc, reverse, c)
-		if cond == "" {
-			cond = " WHERE " + kc
-		} else {
-			cond += " AND " + kc
-		}
-		args = append(args, kargs...)
-	}
-	limit := max(f.Limit, 1)
-	q := `SELECT ` + strings.Join(cols, ", ") + `, ` + strings.TrimPrefix(dateSelect, "SELECT ") + cond +
-		orderBy(cols, desc, reverse) + fmt.Sprintf(" LIMIT %d", limit+1)
-	offset := 0
-	if cur == "" && f.Offset > 0 {
-		offset = f.Offset
-		q += fmt.Sprintf(" OFFSET %d", offset)
-	}
-	rows, err := d.reader().QueryContext(ctx, q, args...)
-	if err != nil {
-		return pg, fmt.Errorf("dates page: %w", err)
-	}
-	defer rows.Close()
-	var keys [][]any
-	for rows.Next() {
-		k := make([]any, len(cols))
-		pre := make([]any, len(cols))
-		for i := range k {
-			pre[i] = &k[i]
-		}
-		dt, err := scanDate(prefixScan{rows, pre})
-		if err != nil {
-			return pg, err
-		}
-		for i, v := range k {
-			switch x := v.(type) {
-			case []byte:
-				k[i] = string(x)
-			case int64:
-				k[i] = float64(x)
-			}
-		}
-		keys = append(keys, k)
-		pg.Dates = append(pg.Dates, dt)
-	}
-	if err := rows.Err(); err != nil {
-		return pg, err
-	}
-	more := len(pg.Dates) > limit
-	if more {
-		pg.Dates, keys = pg.Dates[:limit], keys[:limit]
-	}
-	if reverse {
-		slices.Reverse(pg.Dates)
-		slices.Reverse(keys)
-	}
-	// The place of the first date shown (0 = first of all).
-	switch {
-	case f.After != "":
-		c, _ := decodeCursor(f.After, len(cols))
-		pg.First = c.Pos + 1
-	case reverse:
-		c, _ := decodeCursor(f.Before, len(cols))
-		pg.First = c.Pos - len(pg.Dates)
-	default:
-		pg.First = offset
-	}
-	pg.First = max(pg.First, 0)
-	n := len(pg.Dates)
-	if n == 0 {
-		return pg, nil
-	}
-	at := func(i int) string {
-		return encodeCursor(dateCursor{Key: keys[i], ID: pg.Dates[i].ID, Pos: pg.First + i})
-	}
-	if (!reverse && more) || reverse {
-		pg.Next = at(n - 1)
-	}
-	if (reverse && more) || (!reverse && (f.After != "" || offset > 0)) {
-		pg.Prev = at(0)
-	}
-	return pg, nil
-}
-
 // prefixScan scans the first columns of a row into pre and the rest into what Scan is given.
 type prefixScan struct {
 	rows *sql.Rows
@@ -442,13 +344,63 @@ func escapeLike(s string) string {
 	return strings.NewReplacer(`\`, `\\`, `%`, `\%`, `_`, `\_`).Replace(s)
 }
 
-// Materials returns the distinct materials of the dates, for filter menus.
+// Materials returns the distinct materials of the dates, for filter menus, case-insensitively in
+// alphabetical order. It steps from one material to the next by the index dates_material (one look-up per
+// material) rather than reading every date.
 func (d *DB) Materials(ctx context.Context) ([]string, error) {
-	return queryAll(ctx, d.reader(), `SELECT DISTINCT material FROM dates WHERE material <> '' ORDER BY lower(material)`, nil,
-		func(s interface{ Scan(...any) error }) (string, error) {
-			var m string
-			return m, s.Scan(&m)
-		})
+	ms, err := queryAll(ctx, d.reader(), materialsQuery, nil, func(s interface{ Scan(...any) error }) (string, error) {
+		var m string
+		return m, s.Scan(&m)
+	})
+	slices.SortStableFunc(ms, func(a, b string) int { return strings.Compare(strings.ToLower(a), strings.ToLower(b)) })
+	return ms, err
+}
+
+// materialsQuery lists the distinct non-empty materials in binary order, each the smallest above the last.
+const materialsQuery = `WITH RECURSIVE m(v) AS (
+	SELECT (SELECT min(material) FROM dates WHERE material > '')
+	UNION ALL
+	SELECT (SELECT min(material) FROM dates WHERE material > m.v) FROM m WHERE m.v IS NOT NULL
+) SELECT v FROM m WHERE v IS NOT NULL`
+
+// NamedID is a record's id and name, as a menu offers it.
+type NamedID struct {
+	ID   int64  `json:"id"`
+	Name string `json:"name"`
+}
+
+// DateFilterChoices is what the dates list's filter form offers: the provinces, the units (of one
+// province, or all when provinceID is 0), the sections, by name only (without the counts of dates and
+// samples the lists of provinces, units and sections carry, which read every date), in the orders of
+// Provinces, Units and Sections, and the materials.
+type DateFilterChoices struct {
+	Provinces, Units, Sections []NamedID
+	Materials                  []string
+}
+
+// DateFilterChoices returns the choices of the dates list's filter form.
+func (d *DB) DateFilterChoices(ctx context.Context, provinceID int64) (DateFilterChoices, error) {
+	var c DateFilterChoices
+	scan := func(s interface{ Scan(...any) error }) (NamedID, error) {
+		var n NamedID
+		return n, s.Scan(&n.ID, &n.Name)
+	}
+	var err error
+	if c.Provinces, err = queryAll(ctx, d.reader(), `SELECT id, name FROM provinces p ORDER BY p.name`, nil, scan); err != nil {
+		return c, err
+	}
+	q, args := `SELECT u.id, u.name FROM units u JOIN provinces p ON p.id = u.province_id`, []any{}
+	if provinceID != 0 {
+		q, args = q+` WHERE u.province_id = ?`, append(args, provinceID)
+	}
+	if c.Units, err = queryAll(ctx, d.reader(), q+` ORDER BY p.name, u.pile_position IS NULL, u.pile_position, u.name`, args, scan); err != nil {
+		return c, err
+	}
+	if c.Sections, err = queryAll(ctx, d.reader(), `SELECT id, name FROM sections s ORDER BY s.name`, nil, scan); err != nil {
+		return c, err
+	}
+	c.Materials, err = d.Materials(ctx)
+	return c, err
 }
 
 // Calibrations returns the ⁴⁰Ar/³⁹Ar calibrations, the target first.

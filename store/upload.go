@@ -514,17 +514,24 @@ func (d *DB) Batches(ctx context.Context, f BatchFilter) ([]BatchRow, int, error
 	if err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM change_batches b LEFT JOIN users u ON u.id = b.user_id`+cond, args...).Scan(&total); err != nil {
 		return nil, 0, err
 	}
-	q := `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, ''),
-		(SELECT count(*) FROM revisions r WHERE r.batch_id = b.id)
+	q := `SELECT b.id, b.kind, b.source, b.at, b.summary, coalesce(u.name, '')
 		FROM change_batches b LEFT JOIN users u ON u.id = b.user_id` + cond + ` ORDER BY b.id DESC`
 	if f.Limit > 0 {
 		q += fmt.Sprintf(" LIMIT %d OFFSET %d", f.Limit, max(f.Offset, 0))
 	}
 	out, err := queryAll(ctx, d.reader(), q, args, func(s interface{ Scan(...any) error }) (BatchRow, error) {
 		var b BatchRow
-		return b, s.Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User, &b.Revisions)
+		return b, s.Scan(&b.ID, &b.Kind, &b.Source, &b.At, &b.Summary, &b.User)
 	})
-	return out, total, err
+	if err != nil {
+		return nil, 0, err
+	}
+	for i := range out {
+		if out[i].Revisions, err = d.revisionCount(ctx, out[i].ID); err != nil {
+			return nil, 0, err
+		}
+	}
+	return out, total, nil
 }
 
 // previewMapped previews a mapped upload: the file read through its mapping, then imported on a snapshot

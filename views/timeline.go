@@ -60,6 +60,26 @@ type FigureRow struct {
 	ValueHiMa float64
 	ValueNote string // hover text of the value
 	Dates     []FigureDate
+	// Band, when set, draws the unit's dates as one band instead of one error bar each (Dates is then
+	// empty): a unit with hundreds of dates would otherwise be a row hundreds of bars tall.
+	Band *FigureBand
+}
+
+// FigureBand is a unit's many dates drawn compactly: a box over the span of their error bars, and in it
+// the number of dates whose age falls in each stretch of a few points, as a profile.
+type FigureBand struct {
+	LoMa, HiMa float64   // the span of the dates' error bars
+	AgesMa     []float64 // every date's age
+	Title      string    // hover text: how many dates, their span, how many are counted
+	URL        string    // the list of the unit's dates
+}
+
+// bandBinPt is the width, in points, of a stretch of a band's profile.
+const bandBinPt = 3.0
+
+// hasBands reports whether a row is drawn as a band.
+func hasBands(rows []FigureRow) bool {
+	return slices.ContainsFunc(rows, func(r FigureRow) bool { return r.Band != nil })
 }
 
 // FigureDate is one date drawn as an error bar.
@@ -136,6 +156,7 @@ const (
 	curveColour   = "#1f4e79"
 	pdpColour     = "#8a3b8f"
 	valueColour   = "#c9d1d8"
+	spanColour    = "#e6eaee"
 	stripeColour  = "#f4f6f8"
 	boundaryInk   = "#3a4650"
 	pulseAlphaMax = 0.85
@@ -286,6 +307,9 @@ func (f TimelineFigure) layout() *timelineLayout {
 			l.groupY[i] = y - 4
 		}
 		h := math.Max(16, 6+5*float64(len(r.Dates)))
+		if r.Band != nil {
+			h = 22
+		}
 		l.rowY = append(l.rowY, y)
 		l.rowH = append(l.rowH, h)
 		y += h
@@ -332,6 +356,13 @@ func (f TimelineFigure) legend(l *timelineLayout) []legendItem {
 		c.poly([]pt{{x + 2, y}, {x + 20, y}}, false, paint{Stroke: greyColour, Width: 1, Dash: []float64{2, 2}})
 		marker(c, "upb_idtims", x+11, y, false)
 	})
+	if hasBands(f.Rows) {
+		add("a unit's many dates: the span of their error bars, the profile how many dates fall at each age", func(c canvas, x, y float64) {
+			c.rect(x+2, y-6, 18, 12, paint{Fill: spanColour})
+			c.poly([]pt{{x + 2, y + 6}, {x + 6, y + 6}, {x + 6, y}, {x + 10, y}, {x + 10, y - 5}, {x + 14, y - 5}, {x + 14, y + 2},
+				{x + 20, y + 2}, {x + 20, y + 6}}, true, paint{Fill: inkColour, FillAlpha: 0.55})
+		})
+	}
 	if hasValues(f.Rows) {
 		add("unit value counted in the density (weighted mean ± "+sigmaWord(f.SigmaNote)+")", func(c canvas, x, y float64) {
 			c.rect(x+3, y-6, 16, 12, paint{Fill: valueColour})
@@ -496,6 +527,9 @@ func (f TimelineFigure) draw(c canvas, l *timelineLayout) {
 			}
 			c.end()
 		}
+		if b := r.Band; b != nil {
+			f.drawBand(c, l, b, y0, h)
+		}
 		n := len(r.Dates)
 		for j, d := range r.Dates {
 			yy := y0 + h/2 + (float64(j)-float64(n-1)/2)*5
@@ -535,6 +569,40 @@ func (f TimelineFigure) draw(c canvas, l *timelineLayout) {
 			ny += 13
 		}
 	}
+}
+
+// drawBand draws a band in the row at y0 of height h: its span as a box, and the count of dates in each
+// stretch of bandBinPt points as one filled profile (a path of a few hundred points whatever the number
+// of dates).
+func (f TimelineFigure) drawBand(c canvas, l *timelineLayout, b *FigureBand, y0, h float64) {
+	clampX := func(a float64) float64 { return math.Max(l.plotL, math.Min(l.plotR, f.x(l, a))) }
+	c.begin(b.Title, b.URL)
+	lo, hi := clampX(b.HiMa), clampX(b.LoMa)
+	c.rect(lo, y0+2, math.Max(hi-lo, 0.5), h-4, paint{Fill: spanColour})
+	bins := int(math.Ceil((hi-lo)/bandBinPt)) + 1
+	counts := make([]int, bins)
+	top := 0
+	for _, a := range b.AgesMa {
+		ax := f.x(l, a)
+		if ax < l.plotL || ax > l.plotR {
+			continue
+		}
+		i := min(max(int((ax-lo)/bandBinPt), 0), bins-1)
+		counts[i]++
+		top = max(top, counts[i])
+	}
+	if top > 0 {
+		base := y0 + h - 2
+		pts := []pt{{lo, base}}
+		for i, n := range counts {
+			yy := base - float64(n)/float64(top)*(h-4)
+			x0, x1 := lo+float64(i)*bandBinPt, math.Min(lo+float64(i+1)*bandBinPt, hi)
+			pts = append(pts, pt{x0, yy}, pt{x1, yy})
+		}
+		pts = append(pts, pt{hi, base})
+		c.poly(pts, true, paint{Fill: inkColour, FillAlpha: 0.55})
+	}
+	c.end()
 }
 
 func (f TimelineFigure) drawDensity(c canvas, l *timelineLayout, d *FigureDensity) {

@@ -46,8 +46,9 @@ func (s *Server) registerAccountRoutes(r chi.Router) {
 	})
 }
 
-// changePageSize is how many records of a change its page lists at a time.
-const changePageSize = 500
+// changePageSize is how many records of a change its page lists at a time: 200 keep a page of a
+// 100,000-record change under 10 ms (500 took 10 ms of CPU, half of it reading and naming the records).
+const changePageSize = 200
 
 // handleChangeShow shows one change batch: what it did, record by record, and (for curators) its undo.
 func (s *Server) handleChangeShow(w http.ResponseWriter, r *http.Request) error {

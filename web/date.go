@@ -232,22 +232,12 @@ func pagerFor(r *http.Request, total, page, per, shown int) *views.Pager {
 
 func (s *Server) dateFilterForm(r *http.Request, f store.DateFilter, level, per int, cal calChoice) (*views.Form, error) {
 	ctx := r.Context()
-	provinces, err := s.store.Provinces(ctx)
+	// Names only: the lists of provinces, units and sections count their dates and samples, reading every date.
+	choices, err := s.store.DateFilterChoices(ctx, f.ProvinceID)
 	if err != nil {
 		return nil, err
 	}
-	units, err := s.store.Units(ctx, f.ProvinceID)
-	if err != nil {
-		return nil, err
-	}
-	sections, err := s.store.Sections(ctx)
-	if err != nil {
-		return nil, err
-	}
-	materials, err := s.store.Materials(ctx)
-	if err != nil {
-		return nil, err
-	}
+	provinces, units, sections, materials := choices.Provinces, choices.Units, choices.Sections, choices.Materials
 	idOpt := func(id, cur int64, label string) views.Option {
 		return views.Option{Value: strconv.FormatInt(id, 10), Label: label, Selected: id == cur}
 	}

@@ -1,6 +1,8 @@
 package web
 
 import (
+	"context"
+	"database/sql"
 	"fmt"
 	"html"
 	"net/http"
@@ -54,6 +56,26 @@ func BenchmarkScaleLists(b *testing.B) {
 			}
 		})
 	}
+	// The store's side of accept and of the pending counts: the pending records of the large import (none)
+	// and of the upload (1,000), and accepting the import, which has nothing pending (refused, so the run
+	// can repeat; it reads what accepting would).
+	ctx := context.Background()
+	for name, batch := range map[string]int64{"pending-of-import": s.importBatch, "pending-of-upload": s.uploadBatch} {
+		b.Run(name, func(b *testing.B) {
+			for b.Loop() {
+				if _, err := s.db.PendingInBatch(ctx, batch); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+	b.Run("accept-import-nothing-pending", func(b *testing.B) {
+		for b.Loop() {
+			if _, _, err := s.db.AcceptBatch(ctx, s.importBatch); err == nil {
+				b.Fatal("accepted a change with nothing pending")
+			}
+		}
+	})
 }
 
 // discard is a ResponseWriter that keeps nothing of the body but its length, so that the memory measured
@@ -110,4 +132,50 @@ func BenchmarkScaleDatesCSV(b *testing.B) {
 	}
 	b.ReportMetric(peak/1e6, "peak-heap-MB")
 	b.ReportMetric(float64(size)/1e6, "body-MB")
+}
+
+// moveUnits moves units 1–n of the scale compilation into province 1, so that one province holds n×225
+// dates (45 units: 10,125 dates, the size of issue 13's timeline target).
+func (s scaleDB) moveUnits(tb testing.TB, n int) {
+	tb.Helper()
+	raw, err := sql.Open("sqlite", "file:"+s.path+"?_pragma=busy_timeout(5000)")
+	if err != nil {
+		tb.Fatal(err)
+	}
+	defer raw.Close()
+	if _, err := raw.Exec(`UPDATE units SET province_id = 1 WHERE id <= ?`, n); err != nil {
+		tb.Fatal(err)
+	}
+}
+
+// BenchmarkScaleTimeline renders the timeline page of a province of 10,125 dates in 45 units, within the
+// compilation of 100,000, counting one value per unit (the default) and every date; it reports the size of
+// the page (html-KB) and the CPU time of the whole process per request (cpu-ms/op: every worker, so
+// above ns/op where the bootstrap runs in parallel, and a fairer figure than ns/op on a shared machine).
+// go test ./web -run '^$' -bench BenchmarkScaleTimeline -benchtime 10x
+func BenchmarkScaleTimeline(b *testing.B) {
+	s := newScaleDB(b, scaleDates)
+	s.moveUnits(b, 45)
+	h := s.handler()
+	for _, c := range []struct{ name, path string }{
+		{"unit", "/provinces/1/timeline"},
+		{"date", "/provinces/1/timeline?count=date"},
+		{"svg", "/provinces/1/timeline?format=svg"},
+	} {
+		b.Run(c.name, func(b *testing.B) {
+			var size int
+			cpu0, n := processCPU(), 0
+			for b.Loop() {
+				rec := httptest.NewRecorder()
+				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, c.path, nil))
+				if rec.Code != http.StatusOK {
+					b.Fatalf("%s: status %d", c.path, rec.Code)
+				}
+				size = rec.Body.Len()
+				n++
+			}
+			b.ReportMetric(float64(size)/1e3, "html-KB")
+			reportCPU(b, cpu0, n)
+		})
+	}
 }

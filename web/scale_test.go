@@ -8,7 +8,9 @@ import (
 	"io"
 	"log/slog"
 	"net/http"
+	"net/http/httptest"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
@@ -160,4 +162,59 @@ func TestScaleDBBuilds(t *testing.T) {
 		t.Fatalf("counts %+v, want 20,000 dates of which 200 pending", c)
 	}
 	t.Logf("20,000 dates built in %v", time.Since(start))
+}
+
+// A timeline at size: each unit of more than figureDatesEach dates is drawn as one band linked to the list
+// of its dates (not a bar per date), and the values table lists the first valuesShown values and says
+// where the rest are; the counts come from the database, not from the page.
+func TestTimelineAtSizeDrawsBandsAndListsTheFirstValues(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds a 10,000-date database")
+	}
+	s := newScaleDB(t, 10_000)
+	srv := httptest.NewServer(s.handler())
+	t.Cleanup(srv.Close)
+	ctx := context.Background()
+	pd, err := s.db.ProvinceDates(ctx, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	perUnit := map[int64]int{}
+	for _, d := range pd.Dates {
+		perUnit[*d.UnitID]++
+	}
+	// Every value counted, from the JSON download.
+	_, _, js := get(t, srv, "/provinces/1/timeline?count=date&format=json")
+	var full struct{ Values []json.RawMessage }
+	if err := json.Unmarshal([]byte(js), &full); err != nil {
+		t.Fatal(err)
+	}
+	accepted := len(full.Values)
+	if accepted <= valuesShown {
+		t.Fatalf("%d values: the test needs more than %d", accepted, valuesShown)
+	}
+	code, _, body := get(t, srv, "/provinces/1/timeline?count=date")
+	if code != http.StatusOK {
+		t.Fatalf("status %d", code)
+	}
+	for id, n := range perUnit {
+		link := fmt.Sprintf(`href="/dates?unit=%d"`, id)
+		if n > figureDatesEach && !strings.Contains(body, link) {
+			t.Errorf("unit %d has %d dates and no band linked to its dates", id, n)
+		}
+	}
+	if n := strings.Count(body, `href="/dates/`); n > 0 {
+		t.Errorf("the figure links %d single dates; every unit here has more than %d and is drawn as a band", n, figureDatesEach)
+	}
+	i := strings.Index(body, `<table id="values"`)
+	if i < 0 {
+		t.Fatal("no values table")
+	}
+	table := body[i : i+strings.Index(body[i:], "</table>")]
+	if rows := strings.Count(table, "<tr") - 1; rows != valuesShown {
+		t.Errorf("values table has %d rows, want the first %d of %d", rows, valuesShown, accepted)
+	}
+	if !strings.Contains(body, fmt.Sprintf("The first %d of the %d values counted", valuesShown, accepted)) {
+		t.Errorf("the page does not say that %d of the %d values are listed", valuesShown, accepted)
+	}
 }

@@ -61,6 +61,7 @@ type dateReader interface {
 	DatesPage(ctx context.Context, f store.DateFilter) (store.DatePage, error)
 	EachDate(ctx context.Context, f store.DateFilter, fn func(store.Date) error) error
 	Materials(ctx context.Context) ([]string, error)
+	DateFilterChoices(ctx context.Context, provinceID int64) (store.DateFilterChoices, error)
 	RevisionCount(ctx context.Context, recordType string, id int64) (int, error)
 }
 

@@ -92,6 +92,10 @@ func figureRows(sums []unitSummary, ch densityChoice, res densityResult) []views
 			}
 		}
 		slices.SortStableFunc(row.Dates, func(a, b views.FigureDate) int { return cmp.Compare(b.AgeMa, a.AgeMa) })
+		if len(row.Dates) > figureDatesEach {
+			row.Band = dateBand(u, row.Dates, level)
+			row.Dates = nil
+		}
 		if v, ok := values[u.ID]; ok && ch.Count == "unit" {
 			row.HasValue, row.ValueMa, row.ValueLoMa, row.ValueHiMa = true, v.AgeMa, v.AgeMa-k*v.Sigma1s, v.AgeMa+k*v.Sigma1s
 			var lvl string
@@ -130,6 +134,29 @@ func figureRows(sums []unitSummary, ch densityChoice, res densityResult) []views
 		}
 	}
 	return out
+}
+
+// figureDatesEach is the most dates a unit's row draws one by one; a unit with more is drawn as one band
+// (views.FigureBand), its dates listed by the band's link. At 10,000 dates a row per date made the page
+// 7 MB of HTML and rows hundreds of bars tall.
+const figureDatesEach = 20
+
+// dateBand draws a unit's many dates as one band: the span of their error bars, a profile of their ages,
+// and in its hover text how many there are and how many the density counts.
+func dateBand(u store.Unit, ds []views.FigureDate, level int) *views.FigureBand {
+	b := &views.FigureBand{LoMa: ds[0].LoMa, HiMa: ds[0].HiMa, URL: fmt.Sprintf("/dates?unit=%d", u.ID)}
+	counted := 0
+	for _, d := range ds {
+		b.LoMa, b.HiMa = min(b.LoMa, d.LoMa), max(b.HiMa, d.HiMa)
+		b.AgesMa = append(b.AgesMa, d.AgeMa)
+		if d.Counted {
+			counted++
+		}
+	}
+	dec := 3
+	b.Title = fmt.Sprintf("%s: %d dates from %s to %s Ma (their ages ± %dσ, analytical), %d of them counted in the density; click for the list of its dates",
+		u.Name, len(ds), fixed(b.HiMa, dec), fixed(b.LoMa, dec), level, counted)
+	return b
 }
 
 // countedText says in words what the density counts.
@@ -231,6 +258,9 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 		f.SigmaNote += fmt.Sprintf("Grey boxes: each unit's weighted mean ± %dσ at the %s level — the value counted. ", level, ch.Sum.Level)
 	}
 	f.SigmaNote += "Density per Ma; pulses numbered from the oldest; hover over a date for its record."
+	if slices.ContainsFunc(rows, func(r views.FigureRow) bool { return r.Band != nil }) {
+		f.SigmaNote += fmt.Sprintf(" A unit with more than %d dates is drawn as one band: the span of its dates' error bars, and a profile of how many dates fall at each age; click the band for the list of its dates.", figureDatesEach)
+	}
 	return f
 }
 
@@ -289,14 +319,23 @@ func pulseTable(res densityResult, ch densityChoice) views.Table {
 	return t
 }
 
-// valueTable lists the values counted in the density.
+// valuesShown is the most values the timeline page lists; the CSV (values) download holds them all.
+const valuesShown = 200
+
+// valueTable lists the values counted in the density, the first valuesShown of them.
 func valueTable(res densityResult, ch densityChoice) views.Table {
 	level := ch.Sum.Sigma
 	t := views.Table{ID: "values", Caption: fmt.Sprintf("Values counted (%d)", len(res.Values)),
 		Columns: []views.Column{{Label: "Unit"}, {Label: "Sample"}, {Label: "System"}, {Label: "Age", Unit: "Ma", Num: true},
 			{Label: fmt.Sprintf("± %dσ", level), Unit: "Ma", Num: true}, {Label: "Weight", Num: true, Title: "relative weight in the density"},
 			{Label: "Dates", Num: true}}, Empty: "Nothing to count."}
-	for _, v := range res.Values {
+	shown := res.Values
+	if len(shown) > valuesShown {
+		shown = shown[:valuesShown]
+		t.Caption = fmt.Sprintf("Values counted (%d; the first %d listed)", len(res.Values), valuesShown)
+		t.Notes = append(t.Notes, fmt.Sprintf("The first %d of the %d values counted are listed here; the CSV (values) and JSON downloads above hold every one.", valuesShown, len(res.Values)))
+	}
+	for _, v := range shown {
 		a, sg := ageSigma(v.AgeMa, v.Sigma1s, level)
 		sample := "— (unit mean)"
 		if v.Sample != "" {
