@@ -330,6 +330,51 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	v.Page.Downloads = toLinks(downloads(r))
 	other := 3 - level
 	v.Links = []views.Link{{Label: fmt.Sprintf("Show uncertainties at %dσ", other), URL: withQuery(r, "sigma", strconv.Itoa(other))}}
+	v.Groups = append(v.Groups, dateAgeGroup(d, level))
+	if store.IsArAr(d.Method) || d.Method == "kar" {
+		note, ok := calibrationNote(d)
+		cls := ""
+		if !ok {
+			cls = "caution"
+		}
+		v.Groups = append(v.Groups, views.FieldGroup{Title: "Calibration as published", Fields: []views.KV{
+			{Label: "Fluence monitor", Value: orDash(d.Monitor)},
+			{Label: "Monitor age", Value: optNum(d.MonitorAgeMa) + " Ma"},
+			{Label: "Total ⁴⁰K decay constant", Value: optLambda(d.LambdaPerA)},
+			{Label: "Comparability", Value: note, Class: cls},
+		}})
+	}
+	if store.IsArAr(d.Method) {
+		v.Groups = append(v.Groups, recalcGroup(d, cal, level))
+		for _, c := range cal.All {
+			if c.Code != cal.Cal.Code {
+				v.Links = append(v.Links, views.Link{Label: "Recalculate to " + c.Name, URL: withQuery(r, "cal", c.Code)})
+			}
+		}
+	}
+	v.Groups = append(v.Groups, dateSourceGroups(d, own, ownURL)...)
+	review := reviewField(d.ReviewState)
+	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: append(append([]views.KV{review},
+		recordFields(d.ID, d.Version, d.CreatedAt, d.UpdatedAt)...), views.KV{Label: "Revisions recorded", Value: itoa(revs)})})
+	links, acts := recordPage(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
+	v.Links, v.Actions = append(v.Links, links...), acts
+	if d.ReviewNote != "" {
+		v.Notes = append(v.Notes, "Review note: "+d.ReviewNote)
+	}
+	s.render(w, r, http.StatusOK, views.DetailPage(v))
+	return nil
+}
+
+func optLambda(v *float64) string {
+	if v == nil {
+		return "—"
+	}
+	return lambda(*v)
+}
+
+// dateAgeGroup is a date's age as published, its uncertainties at the page's σ level and its
+// interpretation.
+func dateAgeGroup(d store.Date, level int) views.FieldGroup {
 	sig := func(x *float64) string {
 		if x == nil {
 			return "not published"
@@ -356,35 +401,18 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 	ageGroup.Fields = append(ageGroup.Fields,
 		views.KV{Label: "σ level published", Value: fmt.Sprintf("%dσ", d.SigmaLevel)},
 		views.KV{Label: "Interpretation", Value: store.Label(store.Interpretations(), d.Interpretation)})
-	v.Groups = append(v.Groups, ageGroup)
-	if store.IsArAr(d.Method) || d.Method == "kar" {
-		note, ok := calibrationNote(d)
-		cls := ""
-		if !ok {
-			cls = "caution"
-		}
-		v.Groups = append(v.Groups, views.FieldGroup{Title: "Calibration as published", Fields: []views.KV{
-			{Label: "Fluence monitor", Value: orDash(d.Monitor)},
-			{Label: "Monitor age", Value: optNum(d.MonitorAgeMa) + " Ma"},
-			{Label: "Total ⁴⁰K decay constant", Value: optLambda(d.LambdaPerA)},
-			{Label: "Comparability", Value: note, Class: cls},
-		}})
-	}
-	if store.IsArAr(d.Method) {
-		v.Groups = append(v.Groups, recalcGroup(d, cal, level))
-		for _, c := range cal.All {
-			if c.Code != cal.Cal.Code {
-				v.Links = append(v.Links, views.Link{Label: "Recalculate to " + c.Name, URL: withQuery(r, "cal", c.Code)})
-			}
-		}
-	}
-	v.Groups = append(v.Groups, views.FieldGroup{Title: "Sample", Fields: []views.KV{
+	return ageGroup
+}
+
+// dateSourceGroups are a date's sample and its source.
+func dateSourceGroups(d store.Date, own, ownURL string) []views.FieldGroup {
+	sample := views.FieldGroup{Title: "Sample", Fields: []views.KV{
 		{Label: "Sample code", Value: d.SampleCode},
 		{Label: "Unit or horizon", Value: own, URL: ownURL},
 		{Label: "Method", Value: methodLabel(d.Method)},
 		{Label: "Material", Value: orDash(d.Material)},
 		{Label: "Location", Value: coord(d.Latitude, d.Longitude)},
-	}})
+	}}
 	source := views.FieldGroup{Title: "Source", Fields: []views.KV{
 		{Label: "Laboratory", Value: orDash(d.Laboratory)},
 		{Label: "Citation", Value: orDash(d.Citation)},
@@ -395,22 +423,5 @@ func (s *Server) handleDateShow(w http.ResponseWriter, r *http.Request) error {
 		source.Fields = append(source.Fields, views.KV{Label: "DOI", Value: "—"})
 	}
 	source.Fields = append(source.Fields, views.KV{Label: "Notes", Value: orDash(d.Notes)})
-	v.Groups = append(v.Groups, source)
-	review := reviewField(d.ReviewState)
-	v.Groups = append(v.Groups, views.FieldGroup{Title: "Record", Fields: append(append([]views.KV{review},
-		recordFields(d.ID, d.Version, d.CreatedAt, d.UpdatedAt)...), views.KV{Label: "Revisions recorded", Value: itoa(revs)})})
-	links, acts := recordPage(r, s.dateEdit(), d.ID, stored{version: d.Version, review: d.ReviewState})
-	v.Links, v.Actions = append(v.Links, links...), acts
-	if d.ReviewNote != "" {
-		v.Notes = append(v.Notes, "Review note: "+d.ReviewNote)
-	}
-	s.render(w, r, http.StatusOK, views.DetailPage(v))
-	return nil
-}
-
-func optLambda(v *float64) string {
-	if v == nil {
-		return "—"
-	}
-	return lambda(*v)
+	return []views.FieldGroup{sample, source}
 }
