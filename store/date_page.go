@@ -102,6 +102,14 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 	if err != nil {
 		return pg, fmt.Errorf("dates page: %w", err)
 	}
+	pg.fill(rows, limit, f, c, first, offset)
+	return pg, nil
+}
+
+// fill makes a page of the rows read (limit+1 at most: one more says there is a next page), in the
+// list's order, with the place of its first date and the cursors of the pages either side.
+func (pg *DatePage) fill(rows []keyedDate, limit int, f DateFilter, c *dateCursor, first, offset int) {
+	reverse := f.Before != ""
 	more := len(rows) > limit
 	if more {
 		rows = rows[:limit]
@@ -124,7 +132,7 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 	pg.First = max(pg.First, 0)
 	n := len(pg.Dates)
 	if n == 0 {
-		return pg, nil
+		return
 	}
 	at := func(i int) string {
 		return encodeCursor(dateCursor{Key: rows[i].key, ID: pg.Dates[i].ID, Pos: pg.First + i})
@@ -135,7 +143,6 @@ func (d *DB) DatesPage(ctx context.Context, f DateFilter) (DatePage, error) {
 	if (reverse && more) || (!reverse && (f.After != "" || offset > 0)) {
 		pg.Prev = at(0)
 	}
-	return pg, nil
 }
 
 // keyFrom is the FROM clause of the queries of f's dates that read no column but the dates' own: without
