@@ -295,6 +295,15 @@ func probWords(p, se float64) string {
 	return fmt.Sprintf("%.*f", max(2, min(4, int(math.Ceil(-math.Log10(math.Max(se, 1e-4)))))), p)
 }
 
+// pText is "P = 0.98", or "P > 0.999" where the estimate is a bound.
+func pText(p, se float64) string {
+	w := probWords(p, se)
+	if strings.HasPrefix(w, ">") || strings.HasPrefix(w, "<") {
+		return "P " + w
+	}
+	return "P = " + w
+}
+
 // holds says whether P(within) stays on the same side of 0.5 under every alternative of the sensitivity.
 func (p pulseAnswer) holds() string {
 	switch {
@@ -335,11 +344,11 @@ func answerSentence(a eventAnswer) string {
 		}
 		switch {
 		case best.Within >= 0.5:
-			parts = append(parts, fmt.Sprintf("most likely during the %s of %s (P = %s, %s)", best.pulseName(), best.Province, probWords(best.Within, best.WithinSE), best.holds()))
+			parts = append(parts, fmt.Sprintf("most likely during the %s of %s (%s, %s)", best.pulseName(), best.Province, pText(best.Within, best.WithinSE), best.holds()))
 		case allBefore:
 			parts = append(parts, fmt.Sprintf("before every pulse of %s", best.Province))
 		default:
-			parts = append(parts, fmt.Sprintf("not clearly within any pulse of %s (largest P = %s, the %s)", best.Province, probWords(best.Within, best.WithinSE), best.pulseName()))
+			parts = append(parts, fmt.Sprintf("not clearly within any pulse of %s (largest %s, the %s)", best.Province, pText(best.Within, best.WithinSE), best.pulseName()))
 		}
 	}
 	s := strings.Join(parts, "; ")
@@ -412,4 +421,33 @@ func (a eventAnswer) jsonOf() map[string]any {
 	}
 	out["pulses"] = ps
 	return out
+}
+
+// addAnswers adds to the list of events each accepted event's age and its most likely pulse, from the
+// answers of their pages (each section, comparison and timeline read once).
+func (s *Server) addAnswers(r *http.Request, t *views.Table, events []store.Event) error {
+	t.Columns = append(t.Columns, views.Column{Label: "Age", Unit: "Ma, median (95 %)", Num: true}, views.Column{Label: "Most likely pulse", Title: "by P(within); the event's page ranks them all"})
+	as := s.answers(r)
+	for i, e := range events {
+		age, best := "—", "—"
+		if e.ReviewState == store.ReviewAccepted {
+			a, err := as.answer(e)
+			if err != nil {
+				return err
+			}
+			if a.Age != nil {
+				d := sigmaDecimals((a.Age.Hi95 - a.Age.Lo95) / 4)
+				age = fmt.Sprintf("%s (%s – %s)", fixed(a.Age.Median, d), fixed(a.Age.Lo95, d), fixed(a.Age.Hi95, d))
+			}
+			if len(a.Pulses) > 0 {
+				p := a.Pulses[0]
+				best = fmt.Sprintf("%s of %s (%s)", p.pulseName(), p.Province, pText(p.Within, p.WithinSE))
+				if p.Within < 0.5 {
+					best = "none likely (largest " + pText(p.Within, p.WithinSE) + ")"
+				}
+			}
+		}
+		t.Rows[i] = append(t.Rows[i], views.Cell{Text: age, Num: true}, views.Cell{Text: best, URL: idURL("/events", e.ID)})
+	}
+	return nil
 }

@@ -91,6 +91,24 @@ func TestEventAnswersAreTheComparisonsNumbers(t *testing.T) {
 	if answered < 3 {
 		t.Errorf("only %d demo events have an answer", answered)
 	}
+	// The list of events: each accepted event's age and most likely pulse, as on its page.
+	_, _, list := get(t, srv, "/events")
+	list = html.UnescapeString(list)
+	var ev8 struct {
+		Answer struct {
+			Age struct {
+				Median float64 `json:"median_ma"`
+			} `json:"age"`
+			Pulses []map[string]any `json:"pulses"`
+		} `json:"answer"`
+	}
+	_, _, b8 := get(t, srv, "/events/8?format=json")
+	if err := json.Unmarshal([]byte(b8), &ev8); err != nil || len(ev8.Answer.Pulses) == 0 {
+		t.Fatalf("event 8: %v", err)
+	}
+	if want := "pulse " + ev8.Answer.Pulses[0]["pulse"].(string) + " at ~"; !strings.Contains(list, want) || !strings.Contains(list, "Most likely pulse") {
+		t.Errorf("the list of events does not give the most likely pulse %q", want)
+	}
 	// The page: the sentence first, the ranked table, the link to the full comparison.
 	status, _, page := get(t, srv, "/events/8")
 	page = html.UnescapeString(page)

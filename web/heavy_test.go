@@ -68,12 +68,12 @@ func TestComputingPagesQueueAndSayBusy(t *testing.T) {
 		})
 	}
 	for _, p := range []string{"/compare", "/coincidence", "/sections/aligned", "/sections/3", "/sections/3/agemodel", "/sections/3/figure.svg",
-		"/provinces/2/timeline", "/provinces/2/timeline.png", "/events/8"} {
+		"/provinces/2/timeline", "/provinces/2/timeline.png", "/events/8", "/events"} {
 		if !heavyPath.MatchString(p) {
 			t.Errorf("%s is not counted as computing", p)
 		}
 	}
-	for _, p := range []string{"/compare/saved", "/sections", "/sections/3/edit", "/provinces/2", "/events", "/dates"} {
+	for _, p := range []string{"/compare/saved", "/sections", "/sections/3/edit", "/provinces/2", "/events/8/edit", "/dates"} {
 		if heavyPath.MatchString(p) {
 			t.Errorf("%s is counted as computing", p)
 		}

@@ -325,6 +325,12 @@ func (s *Server) respondEvents(w http.ResponseWriter, r *http.Request, events []
 	l := views.List{Page: s.page(r.Context(), title, "Events"), Table: eventTable(events, all)}
 	l.Page.Downloads = toLinks(downloads(r))
 	l.Intro = "Events of the sedimentary record by height in their sections. Their ages come from each section's age model."
+	if all {
+		if err := s.addAnswers(r, &l.Table, events); err != nil {
+			return err
+		}
+		l.Intro += " Each accepted event's age and the pulse it most likely belongs to are the answers of its own page (the comparison with its default choices); follow an event for the ranked pulses."
+	}
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
 }
