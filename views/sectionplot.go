@@ -328,26 +328,7 @@ func (f SectionFigure) drawPanel(c canvas, l sectionLayout, p Panel, x0 float64,
 		c.text(x0+panelW/2, (top+bottom)/2, msg, textStyle{Size: 11, Italic: true, Anchor: "middle", Colour: mutedColour})
 		return
 	}
-	// As many x ticks as fit without their labels touching.
-	var xt []float64
-	var xdec int
-	for n := 5; n >= 2; n-- {
-		xt, _, xdec = ticks(xLo, xHi, n)
-		w := 0.0
-		for _, t := range xt {
-			w = math.Max(w, textWidth(tickLabel(t, xdec), 11, false))
-		}
-		if float64(len(xt))*(w+10) <= right-left {
-			break
-		}
-	}
-	for _, t := range xt {
-		if t < xLo || t > xHi {
-			continue
-		}
-		c.poly([]pt{{x(t), bottom}, {x(t), bottom + 4}}, false, paint{Stroke: inkColour})
-		c.text(x(t), bottom+15, tickLabel(t, xdec), textStyle{Size: 11, Anchor: "middle"})
-	}
+	panelXTicks(c, x, xLo, xHi, right-left, bottom)
 	c.text(x0+panelW/2, bottom+29, axisLabel(p), textStyle{Size: 10.5, Anchor: "middle", Colour: mutedColour})
 	if e := p.Envelope; e != nil {
 		var pts []pt
@@ -371,37 +352,65 @@ func (f SectionFigure) drawPanel(c canvas, l sectionLayout, p Panel, x0 float64,
 			crossMark(c, x0+gutterW/2, y(h), 3, p.GutterColor)
 		}
 	}
-	for _, s := range p.Series {
-		if s.Line {
-			var pts []pt
-			var dash []float64
-			if s.Dash {
-				dash = []float64{4, 3}
+	for _, sr := range p.Series {
+		panelSeries(c, sr, clipX, y, hLo, hHi)
+	}
+}
+
+// panelXTicks draws as many x ticks as fit under a panel of width w without their labels touching.
+func panelXTicks(c canvas, x func(float64) float64, xLo, xHi, w, bottom float64) {
+	var xt []float64
+	var xdec int
+	for n := 5; n >= 2; n-- {
+		xt, _, xdec = ticks(xLo, xHi, n)
+		lw := 0.0
+		for _, t := range xt {
+			lw = math.Max(lw, textWidth(tickLabel(t, xdec), 11, false))
+		}
+		if float64(len(xt))*(lw+10) <= w {
+			break
+		}
+	}
+	for _, t := range xt {
+		if t < xLo || t > xHi {
+			continue
+		}
+		c.poly([]pt{{x(t), bottom}, {x(t), bottom + 4}}, false, paint{Stroke: inkColour})
+		c.text(x(t), bottom+15, tickLabel(t, xdec), textStyle{Size: 11, Anchor: "middle"})
+	}
+}
+
+// panelSeries draws one series of a panel: its line, its error bars and markers within the heights shown.
+func panelSeries(c canvas, s Series, clipX, y func(float64) float64, hLo, hHi float64) {
+	if s.Line {
+		var pts []pt
+		var dash []float64
+		if s.Dash {
+			dash = []float64{4, 3}
+		}
+		flush := func() {
+			if len(pts) > 1 {
+				c.poly(pts, false, paint{Stroke: s.Color, Width: 1.2, Dash: dash})
 			}
-			flush := func() {
-				if len(pts) > 1 {
-					c.poly(pts, false, paint{Stroke: s.Color, Width: 1.2, Dash: dash})
-				}
-				pts = pts[:0]
-			}
-			for _, q := range s.Points {
-				if math.IsNaN(q.X) {
-					flush()
-					continue
-				}
-				pts = append(pts, pt{clipX(q.X), y(q.H)})
-			}
-			flush()
+			pts = pts[:0]
 		}
 		for _, q := range s.Points {
-			if math.IsNaN(q.X) || q.H < hLo || q.H > hHi {
+			if math.IsNaN(q.X) {
+				flush()
 				continue
 			}
-			if !math.IsNaN(q.XLo) && !math.IsNaN(q.XHi) {
-				c.poly([]pt{{clipX(q.XLo), y(q.H)}, {clipX(q.XHi), y(q.H)}}, false, paint{Stroke: s.Color, Width: 1.6})
-			}
-			secMarker(c, s.Marker, clipX(q.X), y(q.H), s.Color)
+			pts = append(pts, pt{clipX(q.X), y(q.H)})
 		}
+		flush()
+	}
+	for _, q := range s.Points {
+		if math.IsNaN(q.X) || q.H < hLo || q.H > hHi {
+			continue
+		}
+		if !math.IsNaN(q.XLo) && !math.IsNaN(q.XHi) {
+			c.poly([]pt{{clipX(q.XLo), y(q.H)}, {clipX(q.XHi), y(q.H)}}, false, paint{Stroke: s.Color, Width: 1.6})
+		}
+		secMarker(c, s.Marker, clipX(q.X), y(q.H), s.Color)
 	}
 }
 
