@@ -161,28 +161,13 @@ func (f AlignedFigure) draw(c canvas, l alignedLayout) {
 				crossMark(c, x0+gutterW/2, y(a), 3, ColorNotEval)
 			}
 		}
-		var pts []pt
-		flush := func() {
-			if len(pts) > 1 {
-				c.poly(pts, false, paint{Stroke: ColorRatio, Width: 1.1})
-			}
-			pts = pts[:0]
-		}
-		for _, p := range col.Points {
-			if !(p.X > 0) || p.H < aLo || p.H > aHi {
-				flush()
-				continue
-			}
-			pts = append(pts, pt{math.Max(left, math.Min(right, x(p.X))), y(p.H)})
-		}
-		flush()
-		for _, p := range col.Points {
-			if p.X > 0 && p.H >= aLo && p.H <= aHi {
-				secMarker(c, "dot", math.Max(left, math.Min(right, x(p.X))), y(p.H), ColorRatio)
-			}
-		}
+		alignedPoints(c, col.Points, func(m float64) float64 { return math.Max(left, math.Min(right, x(m))) }, y, aLo, aHi)
 	}
-	ly := bottom + 50
+	f.drawLegend(c, l, bottom+50)
+}
+
+// drawLegend writes the aligned figure's legend from ly down, then its notes.
+func (f AlignedFigure) drawLegend(c canvas, l alignedLayout, ly float64) {
 	for k, it := range f.Legend {
 		col, row := k%l.perRow, k/l.perRow
 		lx := secFigLeft + float64(col)*legendItemW
@@ -194,5 +179,29 @@ func (f AlignedFigure) draw(c canvas, l alignedLayout) {
 	for _, n := range f.Notes {
 		c.text(secFigLeft, ny, n, textStyle{Size: 10.5, Colour: mutedColour})
 		ny += 15
+	}
+}
+
+// alignedPoints draws a column's samples: a line through the runs of dated samples and a dot at each.
+func alignedPoints(c canvas, points []Pt, x, y func(float64) float64, aLo, aHi float64) {
+	var pts []pt
+	flush := func() {
+		if len(pts) > 1 {
+			c.poly(pts, false, paint{Stroke: ColorRatio, Width: 1.1})
+		}
+		pts = pts[:0]
+	}
+	for _, p := range points {
+		if !(p.X > 0) || p.H < aLo || p.H > aHi {
+			flush()
+			continue
+		}
+		pts = append(pts, pt{x(p.X), y(p.H)})
+	}
+	flush()
+	for _, p := range points {
+		if p.X > 0 && p.H >= aLo && p.H <= aHi {
+			secMarker(c, "dot", x(p.X), y(p.H), ColorRatio)
+		}
 	}
 }
