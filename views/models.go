@@ -140,6 +140,7 @@ type KV struct {
 // choices of the page (shown under the intro); Notes are paragraphs shown under the form.
 type Detail struct {
 	Page
+	Answer  string // the page's answer in one sentence, shown first
 	Intro   string
 	Form    *Form
 	Notes   []string

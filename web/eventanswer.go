@@ -357,9 +357,6 @@ func answerSentence(a eventAnswer) string {
 
 // answerBlock lays the answer out on the event's page.
 func answerBlock(a eventAnswer) (notes []string, groups []views.FieldGroup, tables []views.Table, links []views.Link) {
-	if a.Sentence != "" {
-		notes = append(notes, a.Sentence)
-	}
 	if a.Age != nil {
 		d := sigmaDecimals((a.Age.Hi95 - a.Age.Lo95) / 4)
 		groups = append(groups, views.FieldGroup{Title: "Age", Fields: []views.KV{

@@ -108,6 +108,7 @@ func (s *Server) handleEventShow(w http.ResponseWriter, r *http.Request) error {
 		v.Notes = append(v.Notes, "Review note: "+e.ReviewNote)
 	}
 	notes, groups, tables, links := answerBlock(ans)
+	v.Answer = ans.Sentence
 	v.Notes = append(notes, v.Notes...)
 	v.Groups = append(groups, v.Groups...)
 	v.Tables = append(tables, v.Tables...)
