@@ -649,6 +649,18 @@ func TestUploadPreviewCommitUndo(t *testing.T) {
 	if status != http.StatusUnprocessableEntity || !strings.Contains(body, "nothing can be imported") || !strings.Contains(body, "age_ma: want a number") || strings.Contains(body, "/commit") {
 		t.Fatalf("bad upload: status %d; want 422 listing the problems and no commit button", status)
 	}
+	// The cells at fault are marked with their problem, and the page leads to uploading the corrected file.
+	for _, cell := range []string{`<td class="bad-cell" title="want a number`, `<td class="bad-cell" title="`} {
+		if !strings.Contains(body, cell) {
+			t.Errorf("the preview does not mark the bad cell (%s)", cell)
+		}
+	}
+	if n := strings.Count(body, `class="bad-cell"`); n != 2 {
+		t.Errorf("%d cells marked, want the age of line 2 and the σ level of line 3", n)
+	}
+	if !strings.Contains(body, `href="/import?kind=dates">Upload the corrected file`) {
+		t.Error("the preview of a refused file does not lead to uploading the corrected one")
+	}
 	if after, _ := db.Counts(ctx); after != before {
 		t.Fatal("a failing upload changed the compilation")
 	}

@@ -7,6 +7,7 @@ import (
 	"io"
 	"mime/multipart"
 	"net/http"
+	"net/url"
 	"strconv"
 	"strings"
 
@@ -172,11 +173,14 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 	v := views.Detail{Page: s.page(r.Context(), "Check "+pv.Upload.FileName, "")}
 	v.Page.Crumbs = []views.Link{{Label: "Import", URL: "/import"}}
 	byLine := map[int][]string{}
+	byCell := map[[2]string]string{} // line and column → the problem of that cell
 	var whole []string
 	for _, p := range pv.Problems {
 		msg := p.Message
 		if p.Column != "" {
 			msg = p.Column + ": " + msg
+			key := [2]string{strconv.Itoa(p.Line), p.Column}
+			byCell[key] = strings.TrimSpace(byCell[key] + " " + p.Message)
 		}
 		if p.Line > 1 {
 			byLine[p.Line] = append(byLine[p.Line], msg)
@@ -185,7 +189,12 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 		}
 	}
 	if len(pv.Problems) > 0 {
-		v.Intro = fmt.Sprintf("%d problem(s) found: nothing can be imported from this file. Fix them in the file and upload it again.", len(pv.Problems))
+		v.Intro = fmt.Sprintf("%d problem(s) found: nothing can be imported from this file. Fix them in the file (the cells at fault are marked) and upload it again.", len(pv.Problems))
+		again := "/import?kind=" + url.QueryEscape(pv.Upload.Kind)
+		if pv.Upload.Section != "" {
+			again += "&section=" + url.QueryEscape(pv.Upload.Section)
+		}
+		v.Links = append(v.Links, views.Link{Label: "Upload the corrected file", URL: again})
 	} else {
 		v.Intro = fmt.Sprintf("No problem found: importing will add %s. All rows are imported together, as one change that a curator can undo.", addedText(pv.Result))
 		v.Actions = []views.Action{{Label: fmt.Sprintf("Import all %d rows", pv.Result.Rows), URL: fmt.Sprintf("/import/%d/commit", pv.Upload.ID)}}
@@ -229,8 +238,17 @@ func (s *Server) previewView(r *http.Request, pv store.Preview) views.Detail {
 		} else {
 			cells = append(cells, views.Cell{Text: "ok"})
 		}
-		for _, c := range row {
-			cells = append(cells, views.Cell{Text: c})
+		for j, c := range row {
+			cell := views.Cell{Text: c}
+			if j < len(pv.Header) {
+				if msg, bad := byCell[[2]string{strconv.Itoa(line), pv.Header[j]}]; bad {
+					cell.Class, cell.Title = "bad-cell", msg
+					if c == "" {
+						cell.Text = "(empty)"
+					}
+				}
+			}
+			cells = append(cells, cell)
 		}
 		t.Rows = append(t.Rows, cells)
 	}
