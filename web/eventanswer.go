@@ -27,6 +27,10 @@ import (
 // compared with it (a density of unit means does not reach further than a few Ma beyond its dates).
 const answerReachMa = 5.0
 
+// maxListedAnswers is the most events the list of events answers at once (each answer reads its section's
+// model and its provinces' comparisons; beyond this the list would take minutes cold).
+const maxListedAnswers = 40
+
 // maxAnswerProvinces bounds the comparisons one event page runs: the provinces with most dates near the
 // event first.
 const maxAnswerProvinces = 6

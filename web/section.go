@@ -325,11 +325,14 @@ func (s *Server) respondEvents(w http.ResponseWriter, r *http.Request, events []
 	l := views.List{Page: s.page(r.Context(), title, "Events"), Table: eventTable(events, all)}
 	l.Page.Downloads = toLinks(downloads(r))
 	l.Intro = "Events of the sedimentary record by height in their sections. Their ages come from each section's age model."
-	if all {
+	switch {
+	case all && len(events) <= maxListedAnswers:
 		if err := s.addAnswers(r, &l.Table, events); err != nil {
 			return err
 		}
 		l.Intro += " Each accepted event's age and the pulse it most likely belongs to are the answers of its own page (the comparison with its default choices); follow an event for the ranked pulses."
+	case all:
+		l.Intro += fmt.Sprintf(" With %d events, their ages and most likely pulses are not computed for the whole list at once: each event's page gives its own.", len(events))
 	}
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
