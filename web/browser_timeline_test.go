@@ -12,6 +12,7 @@ import (
 // figureInFirstScreen asserts that at 1400 × 900 the figure sel starts within the first screen (its top
 // above 900 px with the page scrolled to the top): the answer comes before the choices that made it.
 // It leaves the viewport at 1400 × 900 and takes a screenshot of that first screen.
+// Then it opens "More choices" and checks that a folded choice (seed) is there, in the same form.
 func figureInFirstScreen(t *testing.T, ctx context.Context, sel string) {
 	t.Helper()
 	js := `(() => { window.scrollTo(0, 0); return document.querySelector(` + "`" + sel + "`" + `).getBoundingClientRect().top; })()`
@@ -26,11 +27,27 @@ func figureInFirstScreen(t *testing.T, ctx context.Context, sel string) {
 	if top >= 900 {
 		t.Errorf("at 1400 × 900 the figure %s starts at %.0f px, below the first screen", sel, top)
 	}
+	// More than its title: at least 260 px of the figure (its curve) in sight. Before the rarely used
+	// choices were folded the figure started at 670–730 px.
+	if top >= 640 {
+		t.Errorf("at 1400 × 900 the figure %s starts at %.0f px: less than 260 px of it in the first screen", sel, top)
+	}
 	png, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
 	if err != nil {
 		t.Fatalf("screenshot of the first screen: %v", err)
 	}
 	if err := os.WriteFile(shotPath(t, screenshotDir(t), "first-screen-"+strings.Trim(strings.ReplaceAll(sel, " ", "-"), "#.")), png, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`form.filters details.more-choices > summary`)),
+		chromedp.WaitVisible(chromedp.CSS(`form.filters details.more-choices input[name="seed"]`))); err != nil {
+		t.Fatalf("opening More choices: %v", err)
+	}
+	png, err = chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	if err != nil {
+		t.Fatalf("screenshot of the choices: %v", err)
+	}
+	if err := os.WriteFile(shotPath(t, screenshotDir(t), "more-choices"), png, 0o644); err != nil {
 		t.Fatal(err)
 	}
 }
