@@ -154,7 +154,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		method = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density), or one eruptive unit's weighted mean (a point-like age), with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event, or unit mean − event (positive: the event came after). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
 	}
 	v.Method = []string{method,
-		"The ages compared are drawn together: every draw takes one value of each age, and a systematic term shared by several ages (a decay constant, a monitor age, a tracer) is drawn once per draw for all of them, so it cancels where it should. A probability is the share of draws in which the statement holds; its standard error counts the independent draws it rests on.",
+		"The ages compared are drawn together: every draw takes one value of each age, and a systematic term shared by several ages (a decay constant, a monitor age, a tracer) is drawn once per draw for all of them, so a term common to both ages of a row moves them together and cancels in their difference (up to a negligible second-order remainder) instead of being counted twice. A probability is the share of draws in which the statement holds; its standard error counts the independent draws it rests on.",
 		"The province's density is a kernel density estimate of its ages, its band and pulse edges from a bootstrap of the values; an event's age comes from its section's age–height model (Monte Carlo draws kept in stratigraphic order, with deposition between ties as in a Poisson-process deposition model, Bronk Ramsey 2008) or from a direct age.",
 	}
 	v.Form = compareForm(r, res)
@@ -219,15 +219,15 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 // compareContents lists the comparison page's parts that are there, for its in-page contents.
 func compareContents(v views.CompareView) []views.Block {
 	var bs []views.Block
-	if v.SVG != "" {
-		bs = append(bs, views.Block{ID: "compare-figure", Title: "Figure"})
-	}
 	bs = append(bs, views.Block{ID: v.Table.ID, Title: "Table of probabilities"})
 	if len(v.Events.Rows) > 0 {
 		bs = append(bs, views.Block{ID: v.Events.ID, Title: "Events compared"})
 	}
 	if len(v.Order.Rows) > 0 {
 		bs = append(bs, views.Block{ID: v.Order.ID, Title: "Order matrix"})
+	}
+	if len(v.Method) > 0 {
+		bs = append(bs, views.Block{ID: "method", Title: "How this was computed"})
 	}
 	if len(v.How) > 0 {
 		bs = append(bs, views.Block{ID: "how", Title: "How each row was computed"})

@@ -439,15 +439,15 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 // timelineContents lists the timeline page's figure and tables, for its in-page contents.
 func timelineContents(v views.TimelineView) []views.Block {
 	var bs []views.Block
-	if v.SVG != "" {
-		bs = append(bs, views.Block{ID: "timeline", Title: "Figure"})
-	}
 	for _, t := range v.Tables {
 		title := t.Caption
 		if i := strings.IndexAny(title, ",("); i > 0 {
 			title = strings.TrimSpace(title[:i])
 		}
 		bs = append(bs, views.Block{ID: t.ID, Title: title})
+	}
+	if len(v.Method) > 0 {
+		bs = append(bs, views.Block{ID: "method", Title: "How this was computed"})
 	}
 	return bs
 }
