@@ -390,8 +390,8 @@ func timelineForm(action string, ch densityChoice) *views.Form {
 		{Name: "to", Label: "to (Ma)", Kind: "number", Value: to, Step: "any", Placeholder: "auto"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Seed, 10), Step: "1"},
 		{Name: "reps", Label: "Replicates", Kind: "number", Value: itoa(ch.Reps), Step: "1"},
-		{Name: "bw_each", Label: "Bandwidth in the replicates", Kind: "select", Options: []views.Option{
-			opt("0", "held at the reference h", onoff(ch.BWEach)), opt("1", "re-estimated in each (scott, silverman, robust)", onoff(ch.BWEach))}},
+		{Name: "bw_each", Label: "Smoothing width in the replicates", Kind: "select", Options: []views.Option{
+			opt("0", "held at the width of the figure's curve", onoff(ch.BWEach)), opt("1", "re-estimated in each replicate (rules of thumb only)", onoff(ch.BWEach))}},
 	}
 	fields = append(fields, summaryForm(action, ch.Sum).Fields...)
 	// The common choices stay in sight; the rest are folded under "More choices" (same form, same address).
