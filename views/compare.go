@@ -17,6 +17,10 @@ type CompareView struct {
 	Notes     []string
 	How       []How // how each row was computed; the table's numbers link here
 	Save      *SaveForm
+	// Method is how the comparison is made, shown on demand after the results; Contents lists the page's
+	// parts (only their ID and Title are used).
+	Method   []string
+	Contents []Block
 }
 
 // How is the account of how one row of the comparison table was computed.

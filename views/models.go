@@ -96,6 +96,7 @@ type Field struct {
 	Options     []Option
 	Placeholder string
 	Step        string
+	More        bool // a rarely used choice: folded under "More choices" in the form
 }
 
 // Form is a GET filter form whose fields all live in the URL.
@@ -103,6 +104,27 @@ type Form struct {
 	Action string
 	Fields []Field
 	Reset  string
+}
+
+// HasMore says whether some of the form's choices are folded under "More choices".
+func (f Form) HasMore() bool {
+	for _, fd := range f.Fields {
+		if fd.More {
+			return true
+		}
+	}
+	return false
+}
+
+// fieldsWhere are the fields that are folded (more) or shown.
+func fieldsWhere(fs []Field, more bool) []Field {
+	var out []Field
+	for _, fd := range fs {
+		if fd.More == more {
+			out = append(out, fd)
+		}
+	}
+	return out
 }
 
 // Pager links the pages of a long list.

@@ -36,6 +36,7 @@ func TestBrowserCompare(t *testing.T) {
 	if err := chromedp.Do(ctx, chromedp.WaitVisible(chromedp.CSS("#compare-figure svg"))); err != nil {
 		t.Fatal(err)
 	}
+	figureInFirstScreen(t, ctx, "#compare-figure svg")
 	shoot(t, ctx, dir, "20-compare")
 
 	if err := chromedp.Do(ctx, chromedp.Click(chromedp.CSS(`#comparison thead a[href*="sort=after"]`))); err != nil {

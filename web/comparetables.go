@@ -261,7 +261,7 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 	if len(ch.Groups) > 0 {
 		group = ch.Groups[0]
 	}
-	return &views.Form{Action: "/compare", Reset: "/compare", Fields: []views.Field{
+	fields := []views.Field{
 		{Name: "province", Label: "Province", Kind: "number", Value: strconv.FormatInt(res.Province.ID, 10), Step: "1"},
 		sel("rows", "Table rows", ch.Rows, "pulses", "pulses", "units", "single units", "both", "pulses and units"),
 		text("pulses", "Pulses", "all (e.g. P1,P2)"),
@@ -273,13 +273,22 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 		sel("level", "Level", ch.Level.String(), "as-needed", "as-needed", "analytical", "analytical", "full", "full"),
 		{Name: "n", Label: "Draws N", Kind: "number", Value: strconv.Itoa(ch.N), Step: "1000"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Dens.Seed, 10), Step: "1"},
-		sel("bw", "Bandwidth", ch.Dens.Rule.String(), "isj", "ISJ", "scott", "Scott", "silverman", "Silverman", "silverman-robust", "Silverman (robust)"),
-		sel("model", "Age model", ch.Model, "mc", "Monte Carlo", "linear", "naive linear"),
+		sel("bw", "Smoothing width", ch.Dens.Rule.String(), "isj", smoothingChoice(stats.RuleISJ), "scott", smoothingChoice(stats.RuleScott),
+			"silverman", smoothingChoice(stats.RuleSilverman), "silverman-robust", smoothingChoice(stats.RuleSilvermanRobust)),
+		sel("model", "Age model", ch.Model, "mc", "Monte Carlo, kept in stratigraphic order", "linear", "naive linear (under-covers)"),
 		sel("anomalies", "Detected anomalies", map[bool]string{true: "1", false: "0"}[ch.Anomalies], "0", "not compared", "1", "compared"),
 		sel("point", "Events with an extent compared at", ch.Point, "base", "their base (onset)", "peak", "their peak", "top", "their top (end)"),
 		sel("sens", "Sensitivity", map[bool]string{true: "1", false: "0"}[ch.Sensitivity], "1", "computed", "0", "off"),
-	}}
+	}
+	// The common choices stay in sight; the rest are folded under "More choices" (same form, same address).
+	for i := range fields {
+		fields[i].More = !compareCommon[fields[i].Name]
+	}
+	return &views.Form{Action: "/compare", Reset: "/compare", Fields: fields}
 }
+
+// compareCommon are the comparison's choices shown in sight; the others are folded.
+var compareCommon = map[string]bool{"province": true, "rows": true, "pulses": true, "sections": true, "events": true, "level": true, "bw": true}
 
 // compareCells are the cells of one row of the comparison table.
 func compareCells(res *compareResult, row compareRow, sets int) []views.Cell {

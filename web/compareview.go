@@ -139,14 +139,23 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	for _, f := range []string{"csv", "json", "xlsx", "svg", "png", "pdf"} {
 		v.Downloads = append(v.Downloads, views.Link{Label: strings.ToUpper(f), URL: withQuery(r, "format", f)})
 	}
-	v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event (positive: the event came after the onset). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	// The page leads with the answer: a short intro, the figure and the table; how rows are made is in the
+	// method block, opened on demand.
+	v.Intro = "Each row: how likely an event of the sedimentary record came after a pulse's onset, within the pulse, or near it, ± the Monte Carlo standard error. Ages in Ma, older = larger; lag = onset − event (positive: the event came after). Numbers link to how they were computed."
+	method := "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event (positive: the event came after the onset). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
 	switch ch.Rows {
 	case "units":
 		v.Subtitle = "Single eruptive units against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
-		v.Intro = "Each row compares one eruptive unit's weighted mean (a point-like age, with its decay system's systematic components) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is unit mean − event (positive: the event came after the unit). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+		v.Intro = "Each row: how likely an event of the sedimentary record came after an eruptive unit's weighted mean, or near it, ± the Monte Carlo standard error. Ages in Ma, older = larger; lag = unit mean − event (positive: the event came after). Numbers link to how they were computed."
+		method = "Each row compares one eruptive unit's weighted mean (a point-like age, with its decay system's systematic components) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is unit mean − event (positive: the event came after the unit). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
 	case "both":
 		v.Subtitle = "Eruptive pulses and single units against events of the sedimentary record, as probabilities from joint Monte Carlo draws"
-		v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density), or one eruptive unit's weighted mean (a point-like age), with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event, or unit mean − event (positive: the event came after). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+		v.Intro = "Each row: how likely an event of the sedimentary record came after a pulse's onset or a unit's weighted mean, within the pulse, or near it, ± the Monte Carlo standard error. Ages in Ma, older = larger; lag = onset (or unit mean) − event (positive: the event came after). Numbers link to how they were computed."
+		method = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density), or one eruptive unit's weighted mean (a point-like age), with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event, or unit mean − event (positive: the event came after). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
+	}
+	v.Method = []string{method,
+		"The ages compared are drawn together: every draw takes one value of each age, and a systematic term shared by several ages (a decay constant, a monitor age, a tracer) is drawn once per draw for all of them, so a term common to both ages of a row moves them together and cancels in their difference (up to a negligible second-order remainder) instead of being counted twice. A probability is the share of draws in which the statement holds; its standard error counts the independent draws it rests on.",
+		"The province's density is a kernel density estimate of its ages, its band and pulse edges from a bootstrap of the values; an event's age comes from its section's age–height model (Monte Carlo draws kept in stratigraphic order, with deposition between ties as in a Poisson-process deposition model, Bronk Ramsey 2008) or from a direct age.",
 	}
 	v.Form = compareForm(r, res)
 	v.LevelHelp = levelHelp()
@@ -194,6 +203,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	v.Events = eventsTable(res)
 	v.Order = orderTable(res)
 	v.How = howList(res, rows)
+	v.Contents = compareContents(v)
 	v.Notes = append(v.Notes, res.In.EdgeNote+".")
 	if res.VolumeNote != "" {
 		v.Notes = append(v.Notes, res.VolumeNote)
@@ -204,6 +214,25 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		v.Save = &views.SaveForm{Action: "/compare/saved", Query: saveQuery(r), Releases: c.releaseChoices(ctx)}
 	}
 	return v, nil
+}
+
+// compareContents lists the comparison page's parts that are there, for its in-page contents.
+func compareContents(v views.CompareView) []views.Block {
+	var bs []views.Block
+	bs = append(bs, views.Block{ID: v.Table.ID, Title: "Table of probabilities"})
+	if len(v.Events.Rows) > 0 {
+		bs = append(bs, views.Block{ID: v.Events.ID, Title: "Events compared"})
+	}
+	if len(v.Order.Rows) > 0 {
+		bs = append(bs, views.Block{ID: v.Order.ID, Title: "Order matrix"})
+	}
+	if len(v.Method) > 0 {
+		bs = append(bs, views.Block{ID: "method", Title: "How this was computed"})
+	}
+	if len(v.How) > 0 {
+		bs = append(bs, views.Block{ID: "how", Title: "How each row was computed"})
+	}
+	return bs
 }
 
 // saveQuery is the request's query without the display-only and bookkeeping parameters.

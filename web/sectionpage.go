@@ -205,7 +205,7 @@ func sectionControls(r *http.Request, a *sectionAnalysis) views.Form {
 		{Name: "z_min", Label: "Modified z above", Kind: "number", Value: num(o.ZMin), Step: "0.1"},
 		{Name: "penalty", Label: "Change-point penalty", Kind: "number", Value: penalty, Step: "any", Placeholder: fmtF(a.SegmentPenalty, 1) + " (2·ln n)"},
 		{Name: "model", Label: "Age model", Kind: "select", Options: []views.Option{
-			opt("mc", "Monte Carlo (Beta bridge)", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
+			opt("mc", "Monte Carlo, kept in stratigraphic order", o.Model), opt("linear", "naive linear (under-covers)", o.Model)}},
 		{Name: "tie_level", Label: "± of ties from dates", Kind: "select", Options: []views.Option{
 			opt("full", "full external (default)", o.TieLevel), opt("tracer", "with tracer (Y)", o.TieLevel), opt("analytical", "analytical (X)", o.TieLevel)}},
 		{Name: "include", Label: "Tie points and hiatuses in the model", Kind: "select", Options: modelIncludeOptions(o.Include)},
@@ -426,7 +426,18 @@ func nonEmpty(paras ...string) []string {
 	return out
 }
 
-// modelParas states the model and every choice behind it.
+// samplerWords says in words how the tie ages were drawn.
+func samplerWords(sampler string) string {
+	switch sampler {
+	case "rejection":
+		return "all together, keeping only draws in stratigraphic order"
+	case "gibbs":
+		return "one tie at a time, each within the bounds its neighbours leave"
+	}
+	return "by the " + sampler + " sampler"
+}
+
+// modelParas states the model and every choice behind it, in our words, citing the methods by name.
 func (a *sectionAnalysis) modelParas() []string {
 	m := a.Model
 	ties := fmt.Sprintf("%d tie points between %s and %s m (normal ages drawn from N(age, σ); biostratigraphic and other ranges uniform)", len(m.Ties), num(m.LowM), num(m.TopM))
@@ -436,15 +447,15 @@ func (a *sectionAnalysis) modelParas() []string {
 	}
 	if m.MC != nil {
 		return nonEmpty(
-			fmt.Sprintf("Model: Monte Carlo with superposition. Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
+			fmt.Sprintf("Model: Monte Carlo draws of the ages, each draw kept in stratigraphic order (older below). Seed %d, %d draws. From %s; %s.", m.MC.Seed, m.MC.NDraws, ties, hi),
 			a.tieLevelSentence(),
 			a.tieReviewSentence(),
 			a.hiatusReviewSentence(),
-			fmt.Sprintf("Tie sampler: %s; acceptance %.1f %% of %d attempts (whole draws out of stratigraphic order are rejected, never sorted; below %g %% acceptance a Gibbs sampler of truncated tie ages takes over).",
-				m.MC.Sampler, 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
-			fmt.Sprintf("Between ties: Beta bridges of a Poisson deposition model, rigidity k (deposition events per m) drawn per draw from a log-uniform prior on %g–%g per m, so the intervals average over how regular deposition was instead of trusting one k.",
+			fmt.Sprintf("Tie ages drawn %s; share of draws kept: %.1f %% of %d tried. A draw out of stratigraphic order is thrown away whole, never sorted; when fewer than %g %% would be kept, each tie's age is drawn in turn within the bounds its neighbours leave (a Gibbs sampler of truncated ages, Buck, Cavanagh & Litton 1996).",
+				samplerWords(m.MC.Sampler.String()), 100*m.MC.Acceptance, m.MC.Attempts, 100*stats.DefaultMinAcceptance),
+			fmt.Sprintf("Between ties: regularity of deposition (how evenly sediment accumulated, counted as deposition steps per m): drawn for each draw between %g and %g per m, evenly on a log scale, so the intervals average over how regular deposition was instead of trusting one value. Given it, the ages between two ties follow the Beta bridge of a Poisson-process deposition model (Bronk Ramsey 2008, Quaternary Science Reviews 27:42–60).",
 				float64(stats.DefaultRigidityMinPerM), float64(stats.DefaultRigidityMaxPerM)),
-			"What the 95 % intervals are worth depends on that choice. In simulated sections (BENCHMARKS.md) they held the true age in about 95 % of cases averaged over the prior, 93 % where deposition was very irregular (k ≈ 0.5 per m) and 99 % or more where it was regular (k ≥ 2 per m): there they are wider than they need be.",
+			"What the 95 % intervals are worth depends on that choice. In simulated sections (BENCHMARKS.md) they held the true age in about 95 % of cases averaged over the range drawn, 93 % where deposition was very irregular (about 0.5 steps per m) and 99 % or more where it was regular (2 or more steps per m): there they are wider than they need be.",
 			"Ages: median and 95 % interval (2.5 and 97.5 percentiles of the draws) at every sample in the tie range. The same seed and draws give the same numbers.",
 		)
 	}

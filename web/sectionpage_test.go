@@ -230,7 +230,7 @@ func TestSectionAgeModelSeededAndStated(t *testing.T) {
 	srv, _ := mustServer(t)
 	sec := demoSectionIDs(t, srv)["Vedholmen-1 Core"]
 	_, _, page := get(t, srv, sec+"/agemodel?seed=7&draws=500")
-	for _, want := range []string{"Seed 7, 500 draws", "Monte Carlo with superposition", "log-uniform prior on 0.1–100 per m", "acceptance", "rejection"} {
+	for _, want := range []string{"Seed 7, 500 draws", "kept in stratigraphic order", "between 0.1 and 100 per m", "share of draws kept", "keeping only draws in stratigraphic order", "Bronk Ramsey 2008"} {
 		if !strings.Contains(page, want) {
 			t.Errorf("age model page lacks %q", want)
 		}

@@ -253,8 +253,8 @@ func modelSentence(a *sectionAnalysis) string {
 		return a.ModelNote
 	}
 	if m.MC != nil {
-		return fmt.Sprintf("Age model: Monte Carlo with superposition, %d draws, seed %d, %s sampler (acceptance %.1f %%), Beta bridges with rigidity k log-uniform on %g–%g per m; band = 95 %% interval.",
-			m.MC.NDraws, m.MC.Seed, m.MC.Sampler, 100*m.MC.Acceptance, float64(stats.DefaultRigidityMinPerM), float64(stats.DefaultRigidityMaxPerM))
+		return fmt.Sprintf("Age model: Monte Carlo kept in stratigraphic order, %d draws, seed %d, %.1f %% of draws kept; regularity of deposition drawn between %g and %g steps per m; band = 95 %% interval.",
+			m.MC.NDraws, m.MC.Seed, 100*m.MC.Acceptance, float64(stats.DefaultRigidityMinPerM), float64(stats.DefaultRigidityMaxPerM))
 	}
 	return "Age model: NAIVE linear interpolation between tie means with tie errors propagated as if independent (mean ± 1.96σ); its intervals under-cover."
 }

@@ -258,6 +258,7 @@ func (s *Server) handleTimeline(w http.ResponseWriter, r *http.Request) error {
 		return err
 	}
 	v.Tables = append(v.Tables, savedPulseTable(saved))
+	v.Contents = timelineContents(v) // again, with the saved pulses
 	if u, ok := currentUser(ctx); ok && store.RoleAtLeast(u.Role, store.RoleContributor) && len(res.Pulses) > 0 {
 		v.Actions = []views.Action{{Label: fmt.Sprintf("Save these %d pulses as records of the province", len(res.Pulses)),
 			URL: fmt.Sprintf("/provinces/%d/pulses?%s", id, r.URL.RawQuery)}}

@@ -351,6 +351,9 @@ func valueTable(res densityResult, ch densityChoice) views.Table {
 	return t
 }
 
+// timelineCommon are the timeline's choices shown in sight; the others are folded.
+var timelineCommon = map[string]bool{"count": true, "bw": true, "h": true, "cal": true, "level": true, "sigma": true}
+
 // timelineForm is every choice of the timeline, the summary choices included.
 func timelineForm(action string, ch densityChoice) *views.Form {
 	opt := func(v, label, cur string) views.Option {
@@ -387,18 +390,22 @@ func timelineForm(action string, ch densityChoice) *views.Form {
 		{Name: "to", Label: "to (Ma)", Kind: "number", Value: to, Step: "any", Placeholder: "auto"},
 		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Seed, 10), Step: "1"},
 		{Name: "reps", Label: "Replicates", Kind: "number", Value: itoa(ch.Reps), Step: "1"},
-		{Name: "bw_each", Label: "Bandwidth in the replicates", Kind: "select", Options: []views.Option{
-			opt("0", "held at the reference h", onoff(ch.BWEach)), opt("1", "re-estimated in each (scott, silverman, robust)", onoff(ch.BWEach))}},
+		{Name: "bw_each", Label: "Smoothing width in the replicates", Kind: "select", Options: []views.Option{
+			opt("0", "held at the width of the figure's curve", onoff(ch.BWEach)), opt("1", "re-estimated in each replicate (rules of thumb only)", onoff(ch.BWEach))}},
 	}
 	fields = append(fields, summaryForm(action, ch.Sum).Fields...)
+	// The common choices stay in sight; the rest are folded under "More choices" (same form, same address).
+	for i := range fields {
+		fields[i].More = !timelineCommon[fields[i].Name]
+	}
 	return &views.Form{Action: action, Reset: action, Fields: fields}
 }
 
 func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.TimelineFigure, res densityResult, ch densityChoice) views.TimelineView {
 	v := views.TimelineView{Page: s.page(r.Context(), prov.Name+": eruptive history", "Provinces"),
-		Intro: "The province's eruptive history as a density through time, with its bootstrap band and pulses, over each unit's dates and the reference timescale. " +
-			"Every choice below is in the address; the figure, the tables and the downloads follow it.",
-		Form: timelineForm(r.URL.Path, ch), SVG: string(fig.SVG())}
+		Intro: "The province's eruptive history as a density through time, with its pulses, over each unit's dates and the reference timescale. " +
+			"The figure, the tables and the downloads follow the choices below; more are folded under “More choices”.",
+		Form: timelineForm(r.URL.Path, ch), SVG: string(fig.SVG()), Method: timelineMethod()}
 	v.Page.Crumbs = []views.Link{{Label: "Provinces", URL: "/provinces"}, {Label: prov.Name, URL: idURL("/provinces", prov.ID)}}
 	v.Page.Downloads = []views.Link{{Label: "SVG", URL: withQuery(r, "format", "svg")}, {Label: "PNG", URL: withQuery(r, "format", "png")},
 		{Label: "PDF", URL: withQuery(r, "format", "pdf")}, {Label: "CSV (pulses)", URL: withQuery(r, "format", "csv", "table", "pulses")},
@@ -425,7 +432,34 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 	}
 	v.Notes = append(v.Notes, res.Left...)
 	v.Tables = []views.Table{pulseTable(res, ch), valueTable(res, ch)}
+	v.Contents = timelineContents(v)
 	return v
+}
+
+// timelineContents lists the timeline page's figure and tables, for its in-page contents.
+func timelineContents(v views.TimelineView) []views.Block {
+	var bs []views.Block
+	for _, t := range v.Tables {
+		title := t.Caption
+		if i := strings.IndexAny(title, ",("); i > 0 {
+			title = strings.TrimSpace(title[:i])
+		}
+		bs = append(bs, views.Block{ID: t.ID, Title: title})
+	}
+	if len(v.Method) > 0 {
+		bs = append(bs, views.Block{ID: "method", Title: "How this was computed"})
+	}
+	return bs
+}
+
+// timelineMethod says how the density and its pulses are made, citing each method by its published name.
+func timelineMethod() []string {
+	return []string{
+		"The density is a kernel density estimate (KDE) of the values counted: one per unit (its weighted mean) or every date, each a normal kernel, equally weighted or weighted by the unit's volume.",
+		"Smoothing width: automatic, from the shape of the data, is the diffusion estimator of Botev, Grotowski & Kroese 2010 (Annals of Statistics 38:2916), which falls back to Silverman's robust rule, and says so, when it finds no width; the rules of thumb are Scott 1992 and Silverman 1986; “width adapts to the data” is Abramson's 1982 variable width (Annals of Statistics 10:1217), narrower where dates crowd.",
+		"The band and the pulses' 95 % intervals come from a bootstrap: the values resampled with replacement and each moved by a random draw of its own uncertainty, at the ± level chosen, with shared systematic terms drawn once per replicate. A pulse is a mode of the density; its edges lie at the lowest density between it and its neighbour, and on the outer sides where the density falls to 5 % of its highest value.",
+		"“Also draw the sum of the dates' curves” adds a probability density plot (PDP), each date a normal curve of its own 1σ, summed: it is not a density estimate (Vermeesch 2012, Chemical Geology 312–313:190).",
+	}
 }
 
 // timelineJSON is the density, its pulses and the values counted, with every choice that made them.
