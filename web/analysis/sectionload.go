@@ -237,6 +237,13 @@ func (l SectionLoader) All(ctx context.Context, src SnapshotReader, options func
 		wg.Add(1)
 		go func() {
 			defer func() { <-slots; wg.Done() }()
+			// A panic here would end the process (no handler's recoverer sees another goroutine): it
+			// becomes the section's error, as it was a 500 when the sections were analysed in the request.
+			defer func() {
+				if p := recover(); p != nil {
+					errs[i] = fmt.Errorf("section %q: the analysis failed: %v", r.in.Sec.Name, p)
+				}
+			}()
 			out[i], errs[i] = l.finish(ctx, r)
 		}()
 	}
