@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"sync"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -197,10 +198,31 @@ func MSWDRange(dof int, rule MSWDRangeRule) (low, high float64) {
 
 // Chi2Range returns the 2.5 % and 97.5 % quantiles of χ²_f/f for f degrees of freedom: the range that
 // holds the MSWD of f + 1 values with right σ 95 % of the time. For f < 1 both are NaN.
+// The quantiles depend on f alone and each costs a root search, while a unit's summary asks for them at
+// every rejection step: they are kept once computed (chi2Ranges), for f up to maxKeptChi2DoF.
 func Chi2Range(dof int) (low, high float64) {
 	if dof < 1 {
 		return math.NaN(), math.NaN()
 	}
+	if v, ok := chi2Ranges.Load(dof); ok {
+		r := v.([2]float64)
+		return r[0], r[1]
+	}
+	low, high = chi2RangeOf(dof)
+	if dof <= maxKeptChi2DoF {
+		chi2Ranges.Store(dof, [2]float64{low, high})
+	}
+	return low, high
+}
+
+// chi2Ranges holds Chi2Range's results by degrees of freedom (int → [2]float64); maxKeptChi2DoF bounds
+// it (at most 100,000 entries of a few dozen bytes).
+var chi2Ranges sync.Map
+
+const maxKeptChi2DoF = 100_000
+
+// chi2RangeOf computes Chi2Range for dof ≥ 1.
+func chi2RangeOf(dof int) (low, high float64) {
 	f := float64(dof)
 	c := distuv.ChiSquared{K: f}
 	return c.Quantile(0.025) / f, c.Quantile(0.975) / f

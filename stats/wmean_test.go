@@ -2,12 +2,16 @@ package stats
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
 	"sort"
 	"strings"
+	"sync"
 	"testing"
+
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // Check A of REFERENCES §1: seven dates, σ tabulated at 2σ.
@@ -367,4 +371,40 @@ func FuzzWeightedMean(f *testing.F) {
 			t.Fatalf("S %v, P %v, SigmaReported %v < Sigma %v", r.S, r.P, r.SigmaReported, r.Sigma)
 		}
 	})
+}
+
+// TestChi2RangeKeptIsComputed: the range kept by degrees of freedom is bit for bit gonum's quantiles of
+// χ²_f (distuv.ChiSquared) over f, whether asked first, again, or from many goroutines at once, and above
+// the bound of what is kept.
+func TestChi2RangeKeptIsComputed(t *testing.T) {
+	dofs := []int{1, 2, 7, 64, 999, 5000, maxKeptChi2DoF, maxKeptChi2DoF + 1}
+	want := func(dof int) (float64, float64) {
+		f := float64(dof)
+		c := distuv.ChiSquared{K: f}
+		return c.Quantile(0.025) / f, c.Quantile(0.975) / f
+	}
+	var wg sync.WaitGroup
+	errs := make(chan string, 4*len(dofs)*3)
+	for range 4 {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for _, dof := range dofs {
+				wl, wh := want(dof)
+				for range 3 {
+					if l, h := Chi2Range(dof); l != wl || h != wh {
+						errs <- fmt.Sprintf("f = %d: %v–%v, want %v–%v", dof, l, h, wl, wh)
+					}
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	close(errs)
+	for e := range errs {
+		t.Error(e)
+	}
+	if _, ok := chi2Ranges.Load(maxKeptChi2DoF + 1); ok {
+		t.Errorf("f = %d is kept: above the bound %d", maxKeptChi2DoF+1, maxKeptChi2DoF)
+	}
 }

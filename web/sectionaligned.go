@@ -44,7 +44,7 @@ func alignedOptionsFrom(p *params) alignedOptions {
 // alignedAnalyses analyses every section with its defaults (suggested host, stored threshold) and the
 // page's model draws, seed and review choice of tie points.
 func (s *Server) alignedAnalyses(ctx context.Context, o alignedOptions) ([]*sectionAnalysis, error) {
-	as, err := analysis.LoadSectionAnalyses(ctx, s.store, func(sec store.Section) sectionOptions {
+	as, err := s.sectionLoader().All(ctx, s.store, func(sec store.Section) sectionOptions {
 		so := analysis.DefaultSectionOptions(sec)
 		so.Draws, so.Seed, so.Include = o.Draws, o.Seed, o.Include
 		return so

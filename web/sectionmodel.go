@@ -111,7 +111,7 @@ func paramSeed(p *params, name string, def uint64) uint64 {
 // loadSectionAnalysis reads a section's data in one snapshot and analyses it with the options; an option
 // that does not fit the section is a 400 of its parameter.
 func (s *Server) loadSectionAnalysis(ctx context.Context, sec store.Section, o sectionOptions) (*sectionAnalysis, error) {
-	a, err := analysis.LoadSectionAnalysis(ctx, s.store, sec, o)
+	a, err := s.sectionLoader().One(ctx, s.store, sec, o)
 	if err != nil {
 		return nil, optionBadRequest(err, sectionParams)
 	}

@@ -11,7 +11,6 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
-	"coeval/web/analysis"
 )
 
 // The section page with its analysis, and the downloads of that analysis: the figure as SVG, and the
@@ -27,7 +26,7 @@ func (s *Server) sectionAnalysisFor(r *http.Request) (*sectionAnalysis, string, 
 	p := newParams(r)
 	format := p.format()
 	// The section, its options' defaults and its data are read as one snapshot.
-	a, err := analysis.LoadSectionAnalysisByID(r.Context(), s.store, id, func(sec store.Section) (sectionOptions, error) {
+	a, err := s.sectionLoader().ByID(r.Context(), s.store, id, func(sec store.Section) (sectionOptions, error) {
 		o := sectionOptionsFrom(p, sec)
 		return o, p.err()
 	})

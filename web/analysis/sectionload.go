@@ -2,8 +2,13 @@ package analysis
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
 	"fmt"
+	"runtime"
 	"slices"
+	"sync"
 
 	"coeval/stats"
 	"coeval/store"
@@ -57,26 +62,122 @@ func tieTarget(cals []store.Calibration, dates map[int64]store.Date) (stats.Cali
 	return CalibrationOf(c), nil
 }
 
+// SectionInputs is exactly what a section's analysis reads besides its options: the section, its samples,
+// ties, events and hiatuses, the dates its normal ties are linked to and the calibrations (the target the
+// ties from ⁴⁰Ar/³⁹Ar dates are recalculated to).
+type SectionInputs struct {
+	Sec      store.Section
+	Samples  []store.Sample
+	Ties     []store.TiePoint
+	Events   []store.Event
+	Hiatuses []store.Hiatus
+	Dates    map[int64]store.Date
+	Cals     []store.Calibration
+}
+
+// Digest is a version of exactly the data the analysis reads (as CompareData.Digest): a hash of the
+// inputs. An edit elsewhere in the compilation leaves it unchanged; an edit to anything it reads changes
+// it. "" when the inputs cannot be hashed.
+func (in *SectionInputs) Digest() string {
+	h := sha256.New()
+	enc := json.NewEncoder(h)
+	for _, v := range []any{in.Sec, in.Samples, in.Ties, in.Events, in.Hiatuses, in.Dates, in.Cals} {
+		if err := enc.Encode(v); err != nil {
+			return ""
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// Analyse analyses the section with the options (AnalyseSection on the ties' inputs at o.TieLevel).
+func (in *SectionInputs) Analyse(o SectionOptions) (*SectionAnalysis, error) {
+	target, err := tieTarget(in.Cals, in.Dates)
+	if err != nil {
+		return nil, err
+	}
+	inputs, err := TieInputs(in.Ties, in.Dates, o.TieLevel, target)
+	if err != nil {
+		return nil, err
+	}
+	return AnalyseSection(in.Sec, in.Samples, in.Ties, inputs, in.Events, in.Hiatuses, o)
+}
+
+// SectionAnalyser computes a section's analysis from its inputs and options: SectionInputs.Analyse, or a
+// cache in front of it. What it returns is shared and must not be changed.
+type SectionAnalyser func(ctx context.Context, in *SectionInputs, o SectionOptions) (*SectionAnalysis, error)
+
+// SectionLoader reads sections' inputs as one snapshot and analyses them with Analyse (nil:
+// SectionInputs.Analyse). The curators' decisions and the other sections' maturities are read on every
+// load and set on a copy of what Analyse returns, so Analyse may return the same analysis to many loads.
+type SectionLoader struct {
+	Analyse SectionAnalyser
+}
+
+func (l SectionLoader) analyse(ctx context.Context, in *SectionInputs, o SectionOptions) (*SectionAnalysis, error) {
+	if l.Analyse == nil {
+		return in.Analyse(o)
+	}
+	return l.Analyse(ctx, in, o)
+}
+
 // LoadSectionAnalysis reads a section's samples, ties (with their linked dates), events, hiatuses and
 // anomaly decisions, the other sections and the calibrations as one snapshot, and analyses the section.
 func LoadSectionAnalysis(ctx context.Context, src SnapshotReader, sec store.Section, o SectionOptions) (*SectionAnalysis, error) {
-	if err := o.Check(); err != nil {
-		return nil, err
-	}
-	var a *SectionAnalysis
-	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
-		var err error
-		a, err = analyseInSnapshot(ctx, s, sec, o)
-		return err
-	})
-	return a, err
+	return SectionLoader{}.One(ctx, src, sec, o)
 }
 
 // LoadSectionAnalysisByID reads section id and everything its analysis needs as one snapshot, and
 // analyses it with the options options gives for it (its error, such as an address's problems, is
 // returned as is, before anything is analysed).
 func LoadSectionAnalysisByID(ctx context.Context, src SnapshotReader, id int64, options func(store.Section) (SectionOptions, error)) (*SectionAnalysis, error) {
-	var a *SectionAnalysis
+	return SectionLoader{}.ByID(ctx, src, id, options)
+}
+
+// LoadSectionAnalyses analyses every section, each with the options options gives for it, from one
+// snapshot: the sections shown together belong to one state of the compilation.
+func LoadSectionAnalyses(ctx context.Context, src SnapshotReader, options func(store.Section) SectionOptions) ([]*SectionAnalysis, error) {
+	return SectionLoader{}.All(ctx, src, options)
+}
+
+// sectionRead is a section's inputs and what is read for it on every load.
+type sectionRead struct {
+	in         *SectionInputs
+	o          SectionOptions
+	decisions  []store.AnomalyDecision
+	otherMatur []string
+}
+
+// finish analyses the section and sets the decisions and other maturities on a copy of the analysis.
+func (l SectionLoader) finish(ctx context.Context, r *sectionRead) (*SectionAnalysis, error) {
+	a, err := l.analyse(ctx, r.in, r.o)
+	if err != nil {
+		return nil, err
+	}
+	cp := *a
+	cp.Decisions, cp.OtherMatur = r.decisions, r.otherMatur
+	return &cp, nil
+}
+
+// One is LoadSectionAnalysis with l's analyser.
+func (l SectionLoader) One(ctx context.Context, src SnapshotReader, sec store.Section, o SectionOptions) (*SectionAnalysis, error) {
+	if err := o.Check(); err != nil {
+		return nil, err
+	}
+	var r *sectionRead
+	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
+		var err error
+		r, err = readSection(ctx, s, sec, o, nil)
+		return err
+	})
+	if err != nil {
+		return nil, err
+	}
+	return l.finish(ctx, r)
+}
+
+// ByID is LoadSectionAnalysisByID with l's analyser.
+func (l SectionLoader) ByID(ctx context.Context, src SnapshotReader, id int64, options func(store.Section) (SectionOptions, error)) (*SectionAnalysis, error) {
+	var r *sectionRead
 	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
 		sec, err := s.Section(ctx, id)
 		if err != nil {
@@ -89,16 +190,19 @@ func LoadSectionAnalysisByID(ctx context.Context, src SnapshotReader, id int64, 
 		if err := o.Check(); err != nil {
 			return err
 		}
-		a, err = analyseInSnapshot(ctx, s, sec, o)
+		r, err = readSection(ctx, s, sec, o, nil)
 		return err
 	})
-	return a, err
+	if err != nil {
+		return nil, err
+	}
+	return l.finish(ctx, r)
 }
 
-// LoadSectionAnalyses analyses every section, each with the options options gives for it, from one
-// snapshot: the sections shown together belong to one state of the compilation.
-func LoadSectionAnalyses(ctx context.Context, src SnapshotReader, options func(store.Section) SectionOptions) ([]*SectionAnalysis, error) {
-	var out []*SectionAnalysis
+// All is LoadSectionAnalyses with l's analyser: the sections are read in one snapshot, then analysed in
+// parallel, at most GOMAXPROCS at a time. The first error in the order of the sections is returned.
+func (l SectionLoader) All(ctx context.Context, src SnapshotReader, options func(store.Section) SectionOptions) ([]*SectionAnalysis, error) {
+	var rs []*sectionRead
 	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
 		secs, err := s.Sections(ctx)
 		if err != nil {
@@ -109,67 +213,87 @@ func LoadSectionAnalyses(ctx context.Context, src SnapshotReader, options func(s
 			if err := o.Check(); err != nil {
 				return err
 			}
-			a, err := analyseInSnapshot(ctx, s, sec, o)
+			r, err := readSection(ctx, s, sec, o, secs)
 			if err != nil {
 				return err
 			}
-			out = append(out, a)
+			rs = append(rs, r)
 		}
 		return nil
 	})
-	return out, err
+	if err != nil {
+		return nil, err
+	}
+	out := make([]*SectionAnalysis, len(rs))
+	errs := make([]error, len(rs))
+	slots := make(chan struct{}, runtime.GOMAXPROCS(0))
+	var wg sync.WaitGroup
+	for i, r := range rs {
+		if err := ctx.Err(); err != nil {
+			errs[i] = err
+			break
+		}
+		slots <- struct{}{}
+		wg.Add(1)
+		go func() {
+			defer func() { <-slots; wg.Done() }()
+			// A panic here would end the process (no handler's recoverer sees another goroutine): it
+			// becomes the section's error, as it was a 500 when the sections were analysed in the request.
+			defer func() {
+				if p := recover(); p != nil {
+					errs[i] = fmt.Errorf("section %q: the analysis failed: %v", r.in.Sec.Name, p)
+				}
+			}()
+			out[i], errs[i] = l.finish(ctx, r)
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
 }
 
-// analyseInSnapshot reads what a section's analysis needs from the snapshot and analyses it.
-func analyseInSnapshot(ctx context.Context, s *store.Snapshot, sec store.Section, o SectionOptions) (*SectionAnalysis, error) {
-	samples, _, err := s.Samples(ctx, sec.ID)
-	if err != nil {
+// readSection reads what a section's analysis needs from the snapshot, and its curators' decisions and
+// the other sections' differing maturities.
+// all is every section of the compilation (nil: read here).
+func readSection(ctx context.Context, s *store.Snapshot, sec store.Section, o SectionOptions, all []store.Section) (*sectionRead, error) {
+	in := &SectionInputs{Sec: sec, Dates: map[int64]store.Date{}}
+	var err error
+	if in.Samples, _, err = s.Samples(ctx, sec.ID); err != nil {
 		return nil, err
 	}
-	ties, err := s.TiePoints(ctx, sec.ID)
-	if err != nil {
+	if in.Ties, err = s.TiePoints(ctx, sec.ID); err != nil {
 		return nil, err
 	}
-	events, err := s.Events(ctx, sec.ID)
-	if err != nil {
+	if in.Events, err = s.Events(ctx, sec.ID); err != nil {
 		return nil, err
 	}
-	hiatuses, err := s.Hiatuses(ctx, sec.ID)
-	if err != nil {
+	if in.Hiatuses, err = s.Hiatuses(ctx, sec.ID); err != nil {
 		return nil, err
 	}
-	all, err := s.Sections(ctx)
-	if err != nil {
+	if all == nil {
+		if all, err = s.Sections(ctx); err != nil {
+			return nil, err
+		}
+	}
+	if in.Cals, err = s.Calibrations(ctx); err != nil {
 		return nil, err
 	}
-	cals, err := s.Calibrations(ctx)
-	if err != nil {
+	if err := linkedDates(ctx, s, in.Ties, in.Dates); err != nil {
 		return nil, err
 	}
-	dates := map[int64]store.Date{}
-	if err := linkedDates(ctx, s, ties, dates); err != nil {
-		return nil, err
-	}
-	target, err := tieTarget(cals, dates)
-	if err != nil {
-		return nil, err
-	}
-	inputs, err := TieInputs(ties, dates, o.TieLevel, target)
-	if err != nil {
-		return nil, err
-	}
-	a, err := AnalyseSection(sec, samples, ties, inputs, events, hiatuses, o)
-	if err != nil {
-		return nil, err
-	}
-	if a.Decisions, err = s.AnomalyDecisions(ctx, sec.ID); err != nil {
+	r := &sectionRead{in: in, o: o}
+	if r.decisions, err = s.AnomalyDecisions(ctx, sec.ID); err != nil {
 		return nil, err
 	}
 	for _, other := range all {
 		if other.ID != sec.ID && other.ThermalMaturity != "" && MaturityClass(other.ThermalMaturity) != MaturityClass(sec.ThermalMaturity) &&
-			!slices.Contains(a.OtherMatur, other.Name+": "+other.ThermalMaturity) {
-			a.OtherMatur = append(a.OtherMatur, other.Name+": "+other.ThermalMaturity)
+			!slices.Contains(r.otherMatur, other.Name+": "+other.ThermalMaturity) {
+			r.otherMatur = append(r.otherMatur, other.Name+": "+other.ThermalMaturity)
 		}
 	}
-	return a, nil
+	return r, nil
 }
