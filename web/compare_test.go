@@ -596,7 +596,7 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 	col := func(name string) int { return slices.Index(recs[0], name) }
 	for _, rec := range recs[1:] {
 		if rec[col("event_code")] == "E901" && (!strings.Contains(rec[col("sens_caution")], "most of the volume before the event") ||
-			rec[col("sens_volume_min")] != "0" || rec[col("sens_volume_max")] == "0") {
+			rec[col("sens_volume_fraction_min")] != "0.000" || rec[col("sens_volume_fraction_max")] == "0.000") {
 			t.Errorf("csv row %v", rec)
 		}
 	}

@@ -276,7 +276,7 @@ func compareRecords(res *compareResult, exact bool) [][]string {
 		}
 		d := ch.Dens
 		rec = append(rec, strconv.Itoa(ch.N), strconv.FormatUint(d.Seed, 10), ch.Level.String(), d.Sum.Cal.Cal.Code,
-			res.Density.Bandwidth.Rule.String(), gs(res.Density.Bandwidth.Ma), strconv.Itoa(d.Reps),
+			res.Density.Bandwidth.Rule.String(), numCell(res.Density.Bandwidth.Ma, 6, exact), strconv.Itoa(d.Reps),
 			strconv.FormatInt(res.Stamp, 10), orDash(row.Event.Point))
 		out = append(out, rec)
 	}
