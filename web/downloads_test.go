@@ -60,7 +60,7 @@ func TestProbDecimals(t *testing.T) {
 // The column dictionary of each download lists exactly the columns its file has, in the file's order.
 func TestDownloadDictionary(t *testing.T) {
 	srv, _ := mustServer(t)
-	code := regexp.MustCompile(`<td class="code">([^<]*)</td>`)
+	code := regexp.MustCompile(`<td class="code"[^>]*>\s*([^<]*?)\s*</td>`)
 	for _, c := range []struct{ kind, file string }{
 		{"comparison", "/compare?format=csv&rows=both&sens=0&n=2000&reps=200&draws=500"},
 		{"timeline-pulses", "/provinces/1/timeline?format=csv&table=pulses&reps=200"},
