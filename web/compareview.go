@@ -139,7 +139,6 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	for _, f := range []string{"csv", "json", "xlsx", "svg", "png", "pdf"} {
 		v.Downloads = append(v.Downloads, views.Link{Label: strings.ToUpper(f), URL: withQuery(r, "format", f)})
 	}
-	v.Downloads = append(v.Downloads, views.Link{Label: "What the table's columns hold", URL: "/help/downloads/comparison"})
 	v.Intro = "Each row compares one pulse of the province's density (onset = older edge, end = younger edge, from the bootstrap of the density) with one event's age (from its section's age–height model or a direct age). Ages in Ma, older = larger; the lag is onset − event (positive: the event came after the onset). Every probability is given ± its Monte Carlo standard error; numbers link to how they were computed."
 	switch ch.Rows {
 	case "units":

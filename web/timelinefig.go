@@ -403,7 +403,7 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 	v.Page.Downloads = []views.Link{{Label: "SVG", URL: withQuery(r, "format", "svg")}, {Label: "PNG", URL: withQuery(r, "format", "png")},
 		{Label: "PDF", URL: withQuery(r, "format", "pdf")}, {Label: "CSV (pulses)", URL: withQuery(r, "format", "csv", "table", "pulses")},
 		{Label: "CSV (density)", URL: withQuery(r, "format", "csv", "table", "density")}, {Label: "CSV (values)", URL: withQuery(r, "format", "csv", "table", "values")},
-		{Label: "JSON", URL: withQuery(r, "format", "json")}, {Label: "What the pulses CSV's columns hold", URL: "/help/downloads/timeline-pulses"}}
+		{Label: "JSON", URL: withQuery(r, "format", "json")}, {Label: "Columns explained (pulses CSV)", URL: "/help/downloads/timeline-pulses"}}
 	if len(fig.Rows) == 0 {
 		v.SVG = ""
 		v.Cautions = append(v.Cautions, "No unit of this province has a date to draw.")
