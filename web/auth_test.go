@@ -107,6 +107,7 @@ var routeRoles = map[string]string{
 	"POST /releases/{version}/doi":             store.RoleCurator,
 	"GET /releases/{version}/view/*":           "",
 	"GET /help/addresses":                      "",
+	"GET /help/downloads/{kind}":               "",
 	"GET /compare":                             "",
 	"GET /coincidence":                         "",
 	"GET /map":                                 "",

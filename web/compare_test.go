@@ -236,8 +236,8 @@ func TestCompareLevelAndKeysThroughThePagePath(t *testing.T) {
 		// The probability and lag columns per pulse and event (the volume fraction also involves the
 		// ⁴⁰Ar/³⁹Ar units, whose calibration key the events do not share).
 		rows := map[string]string{}
-		for _, rec := range compareRecords(res) {
-			rows[rec[1]+" "+rec[2]] = strings.Join(rec[5:16], ",")
+		for _, rec := range compareRecords(res, true) {
+			rows[rec[1]+" "+rec[2]] = strings.Join(rec[15:29], ",")
 		}
 		return res, rows
 	}
@@ -596,7 +596,7 @@ func TestCompareVolumeFractionSensitivityFlags(t *testing.T) {
 	col := func(name string) int { return slices.Index(recs[0], name) }
 	for _, rec := range recs[1:] {
 		if rec[col("event_code")] == "E901" && (!strings.Contains(rec[col("sens_caution")], "most of the volume before the event") ||
-			rec[col("sens_volume_min")] != "0" || rec[col("sens_volume_max")] == "0") {
+			rec[col("sens_volume_fraction_min")] != "0.000" || rec[col("sens_volume_fraction_max")] == "0.000") {
 			t.Errorf("csv row %v", rec)
 		}
 	}
@@ -628,7 +628,7 @@ func TestCompareEventPoint(t *testing.T) {
 				t.Errorf("point=peak: entered event %s (%s) says %q, not that it records no peak", e.Code, e.Name, e.Point)
 			}
 		}
-		for _, rec := range compareRecords(res) {
+		for _, rec := range compareRecords(res, false) {
 			if got := rec[len(rec)-1]; got == "" || got == "—" {
 				t.Errorf("point=%s: a download row without its event point: %v", point, rec[:4])
 			}

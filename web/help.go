@@ -18,6 +18,7 @@ func (s *Server) registerHelpRoutes(r chi.Router) {
 	r.Get("/help", s.handle(s.handleHelp))
 	r.Get("/help/files/{kind}", s.handle(s.handleFileFormat))
 	r.Get("/help/addresses", s.handle(s.handleHelpAddresses))
+	r.Get("/help/downloads/{kind}", s.handle(s.handleDownloadFormat))
 }
 
 func (s *Server) handleHelp(w http.ResponseWriter, r *http.Request) error {
@@ -37,7 +38,11 @@ func (s *Server) handleHelp(w http.ResponseWriter, r *http.Request) error {
 			{Text: "template (CSV)", URL: "/help/files/" + f.Kind + "?format=csv"},
 		})
 	}
-	v.Tables = []views.Table{t}
+	d := views.Table{Caption: "Downloads: their columns, units and meanings", Columns: []views.Column{{Label: "Download"}}}
+	for _, k := range downloadKinds() {
+		d.Rows = append(d.Rows, []views.Cell{{Text: k.Title, URL: "/help/downloads/" + k.Kind}})
+	}
+	v.Tables = []views.Table{t, d}
 	v.Links = []views.Link{{Label: "Addresses for scripts: the choices every page's address can carry", URL: "/help/addresses"}}
 	v.Notes = []string{
 		"Every file: UTF-8, comma-separated, the first row the header. Column names are exact and an unknown column is refused, so a misspelt or wrongly-unitised column is never silently dropped. Column order is free. An empty cell is no value. Numbers use a point as the decimal mark. Uncertainties are given at the σ level the row states and stored as 1σ.",

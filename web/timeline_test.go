@@ -16,6 +16,8 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -416,8 +418,33 @@ func TestTimelineDownloads(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rows) < 3 || rows[0][0] != "pulse" || rows[1][0] != "P1" || rows[2][0] != "P2" {
+	pc0 := slices.Index(columnNames(timelinePulseColumns), "pulse")
+	if len(rows) < 3 || pc0 < 0 || rows[0][pc0] != "pulse" || rows[1][pc0] != "P1" || rows[2][pc0] != "P2" {
 		t.Errorf("pulse CSV %v: want a header and the demo's two pulses", rows)
+	}
+	// Every row carries the choices it was made with: those the JSON of the same address states.
+	_, _, pj := get(t, srv, "/provinces/1/timeline?format=json")
+	var pdoc struct {
+		Seed       uint64 `json:"seed"`
+		Replicates int    `json:"replicates"`
+		Bandwidth  struct {
+			HMa  float64 `json:"h_ma"`
+			Rule string  `json:"rule"`
+		} `json:"bandwidth"`
+	}
+	if err := json.Unmarshal([]byte(pj), &pdoc); err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range rows[1:] {
+		got := map[string]string{}
+		for i, c := range rows[0] {
+			got[c] = r[i]
+		}
+		h, _ := strconv.ParseFloat(got["bandwidth_ma"], 64)
+		if got["replicates"] != strconv.Itoa(pdoc.Replicates) || got["seed"] != strconv.FormatUint(pdoc.Seed, 10) || got["sigma_level"] != "2" ||
+			got["count"] != "unit" || got["calibration"] == "" || math.Abs(h-pdoc.Bandwidth.HMa) > 1e-9 || got["bandwidth_rule"] != pdoc.Bandwidth.Rule {
+			t.Errorf("pulse CSV row %v lacks its settings", got)
+		}
 	}
 	_, _, dc := get(t, srv, "/provinces/1/timeline?format=csv&table=density")
 	rows, err = csv.NewReader(strings.NewReader(dc)).ReadAll()

@@ -410,7 +410,7 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 	v.Page.Downloads = []views.Link{{Label: "SVG", URL: withQuery(r, "format", "svg")}, {Label: "PNG", URL: withQuery(r, "format", "png")},
 		{Label: "PDF", URL: withQuery(r, "format", "pdf")}, {Label: "CSV (pulses)", URL: withQuery(r, "format", "csv", "table", "pulses")},
 		{Label: "CSV (density)", URL: withQuery(r, "format", "csv", "table", "density")}, {Label: "CSV (values)", URL: withQuery(r, "format", "csv", "table", "values")},
-		{Label: "JSON", URL: withQuery(r, "format", "json")}}
+		{Label: "JSON", URL: withQuery(r, "format", "json")}, {Label: "Columns explained (pulses CSV)", URL: "/help/downloads/timeline-pulses"}}
 	if len(fig.Rows) == 0 {
 		v.SVG = ""
 		v.Cautions = append(v.Cautions, "No unit of this province has a date to draw.")
@@ -533,6 +533,38 @@ func timelineJSON(r *http.Request, prov store.Province, res densityResult, ch de
 
 func g(v float64) string { return strconv.FormatFloat(v, 'g', 10, 64) }
 
+// timelinePulseColumns are the columns of the timeline's pulses CSV (table=pulses), in file order: first
+// the choices the pulses depend on, repeated on every row (as the unit summary's CSV does), so a row
+// copied out of the file still says how it was made; then the pulse.
+var timelinePulseColumns = []downloadColumn{
+	{"calibration", "", "The ⁴⁰Ar/³⁹Ar calibration (monitor age and decay constant) the unit means are on."},
+	{"level", "", "The uncertainty level of the unit means counted in the density: analytical, tracer or full."},
+	{"sigma_level", "σ", "The σ level the page shows uncertainties at (1 or 2). The pulse intervals below are 95 % bootstrap intervals whatever it is."},
+	{"count", "", "What the density counts: one value per unit (unit) or per date (date)."},
+	{"weight", "", "How the values are weighted: none, or by the unit's erupted volume (volume)."},
+	{"bandwidth_rule", "", "The rule that chose the smoothing width (kernel bandwidth), as used (a fallback when the chosen rule could not be applied is named here)."},
+	{"bandwidth_ma", "Ma", "The smoothing width (kernel bandwidth) used."},
+	{"adaptive", "", "true when each value has its own width (adapting to the data, the rule's width as the pilot)."},
+	{"replicates", "", "The number of bootstrap replicates of the density (resampling the values with their uncertainties)."},
+	{"seed", "", "The seed of the bootstrap: the same address and seed give the same file."},
+	{"pulse", "", "The pulse, numbered from the oldest (P1 is the oldest)."},
+	{"frequency", "fraction 0–1", "The share of the bootstrap replicates in which the pulse exists (present / replicates)."},
+	{"present", "replicates", "The number of bootstrap replicates in which the pulse exists."},
+	{"mode_ma", "Ma", "The age of the pulse's peak in the density of the data (the reference density)."},
+	{"mode_lower_ma", "Ma", "2.5 % quantile of the peak's age over the replicates in which the pulse exists (lower end of its 95 % interval)."},
+	{"mode_median_ma", "Ma", "Median of the peak's age over the replicates in which the pulse exists."},
+	{"mode_upper_ma", "Ma", "97.5 % quantile of the peak's age over the replicates (upper end of its 95 % interval)."},
+	{"start_ma", "Ma", "The pulse's onset (older edge) in the reference density."},
+	{"start_lower_ma", "Ma", "2.5 % quantile of the onset over the replicates in which the pulse exists."},
+	{"start_median_ma", "Ma", "Median of the onset over the replicates in which the pulse exists (the onset the comparison lists)."},
+	{"start_upper_ma", "Ma", "97.5 % quantile of the onset over the replicates."},
+	{"end_ma", "Ma", "The pulse's end (younger edge) in the reference density."},
+	{"end_lower_ma", "Ma", "2.5 % quantile of the end over the replicates in which the pulse exists."},
+	{"end_median_ma", "Ma", "Median of the end over the replicates in which the pulse exists."},
+	{"end_upper_ma", "Ma", "97.5 % quantile of the end over the replicates."},
+	{"mass", "fraction 0–1", "The share of the density's area between the pulse's end and onset (of the reference density)."},
+}
+
 // writeTimelineCSV writes one of the timeline's tables as CSV.
 func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResult, ch densityChoice) error {
 	return writeDownload(w, name, func(w io.Writer) error {
@@ -563,12 +595,13 @@ func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResu
 				}
 			}
 		default:
-			cw.Write([]string{"pulse", "frequency", "present", "replicates", "mode_ma", "mode_lower_ma", "mode_median_ma", "mode_upper_ma",
-				"start_ma", "start_lower_ma", "start_median_ma", "start_upper_ma", "end_ma", "end_lower_ma", "end_median_ma", "end_upper_ma", "mass", "seed"})
+			cw.Write(columnNames(timelinePulseColumns))
+			settings := []string{ch.Sum.Cal.Cal.Code, ch.Sum.Level.String(), strconv.Itoa(ch.Sum.Sigma), ch.Count, ch.Weight,
+				res.Bandwidth.Rule.String(), g(res.Bandwidth.Ma), strconv.FormatBool(ch.Adaptive), itoa(ch.Reps), strconv.FormatUint(ch.Seed, 10)}
 			for i, p := range oldestFirst(res.Pulses) {
-				cw.Write([]string{pulseName(i), g(p.Frequency), itoa(p.Present), itoa(ch.Reps), g(p.ModeMa), g(p.Mode.LowerMa), g(p.Mode.MedianMa), g(p.Mode.UpperMa),
+				cw.Write(append(slices.Clone(settings), pulseName(i), g(p.Frequency), itoa(p.Present), g(p.ModeMa), g(p.Mode.LowerMa), g(p.Mode.MedianMa), g(p.Mode.UpperMa),
 					g(p.StartMa), g(p.Start.LowerMa), g(p.Start.MedianMa), g(p.Start.UpperMa), g(p.EndMa), g(p.End.LowerMa), g(p.End.MedianMa), g(p.End.UpperMa),
-					g(p.Mass), strconv.FormatUint(ch.Seed, 10)})
+					g(p.Mass)))
 			}
 		}
 		cw.Flush()

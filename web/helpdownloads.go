@@ -1,0 +1,71 @@
+package web
+
+import (
+	"fmt"
+	"net/http"
+
+	"github.com/go-chi/chi/v5"
+
+	"coeval/views"
+)
+
+// The column dictionaries of the downloads (/help/downloads/{kind}): every column with its unit and
+// meaning, from the very lists the writers take their header from (downloadColumn), so a page and its
+// file cannot disagree (TestDownloadDictionary).
+
+// downloadKind is one kind of download with its columns.
+type downloadKind struct {
+	Kind, Title, Intro string
+	Columns            []downloadColumn
+	Notes              []string
+}
+
+func downloadKinds() []downloadKind {
+	return []downloadKind{
+		{Kind: "comparison", Title: "Comparison table (CSV, XLSX, JSON)",
+			Intro:   "One row per pulse (or unit) and event, in the order of the comparison's table: what is compared, the ages of both, the probabilities with their Monte Carlo standard errors, the lag, the volume erupted before the event, the sensitivity and the choices the row was made with. The same columns in the CSV, in the workbook's Comparison sheet and in the rows of the JSON; the workbook adds a sheet of every setting and the sources, the JSON the same settings and the order matrix.",
+			Columns: compareColumnDefsFor(true),
+			Notes: []string{
+				"The columns about units (row_kind, unit_code, unit, unit_system, unit_mean_ma, unit_sigma_ma_1s) are in the file only when the comparison has rows of single units; otherwise the file starts province, pulse, event_code.",
+				"Digits: in the CSV and the workbook a probability and its standard error are written to the decimals that give the standard error two significant digits (SE 0.0017: four decimals), ages in Ma to 0.001 Ma (more when a 95 % interval is narrower than 0.01 Ma), fractions of the volume and the overlap to 0.001. The JSON keeps every digit of the computation.",
+				"A probability of exactly 0 or 1 (no draw, or every draw) keeps its number, with standard error 0, and its _bound column says what it stands for: below 3/N or above 1 − 3/N for N draws (about the 95 % bound when nothing was seen in N tries), as the page writes it.",
+				"Ages are in millions of years before present (Ma), older = larger; a 95 % interval is lo95 (younger end) to hi95 (older end).",
+			}},
+		{Kind: "timeline-pulses", Title: "Timeline pulses (CSV)",
+			Intro:   "One row per pulse of the province's density, oldest first, with its bootstrap intervals; the first columns are the choices the density was made with, repeated on every row, so that a row copied out of the file still says how it was made.",
+			Columns: timelinePulseColumns,
+			Notes: []string{
+				"Intervals are the 2.5 and 97.5 % quantiles of the bootstrap replicates in which the pulse exists (a 95 % interval), whatever σ level the page shows.",
+				"Ages are in millions of years before present (Ma), older = larger.",
+			}},
+	}
+}
+
+func downloadKindByName(kind string) (downloadKind, bool) {
+	for _, k := range downloadKinds() {
+		if k.Kind == kind {
+			return k, true
+		}
+	}
+	return downloadKind{}, false
+}
+
+func (s *Server) handleDownloadFormat(w http.ResponseWriter, r *http.Request) error {
+	kind := chi.URLParam(r, "kind")
+	k, ok := downloadKindByName(kind)
+	if !ok {
+		return notFoundError{what: "download kind " + fmt.Sprintf("%q", kind)}
+	}
+	v := views.Detail{Page: s.page(r.Context(), "Download: "+k.Title, "Help")}
+	v.Crumbs = []views.Link{{Label: "Help", URL: "/help"}}
+	v.Intro = k.Intro
+	v.Notes = k.Notes
+	t := views.Table{ID: "columns", Caption: "Columns", Columns: []views.Column{{Label: "Column"}, {Label: "Unit"}, {Label: "What it holds"}}}
+	for _, c := range k.Columns {
+		t.Rows = append(t.Rows, []views.Cell{{Text: c.Name, Class: "code"}, {Text: c.Unit}, {Text: c.Meaning}})
+	}
+	v.Tables = []views.Table{t}
+	v.Links = []views.Link{{Label: "Help", URL: "/help"}}
+	s.render(w, r, http.StatusOK, views.DetailPage(v))
+	return nil
+}
