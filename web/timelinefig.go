@@ -354,53 +354,6 @@ func valueTable(res densityResult, ch densityChoice) views.Table {
 // timelineCommon are the timeline's choices shown in sight; the others are folded.
 var timelineCommon = map[string]bool{"count": true, "bw": true, "h": true, "cal": true, "level": true, "sigma": true}
 
-// timelineForm is every choice of the timeline, the summary choices included.
-func timelineForm(action string, ch densityChoice) *views.Form {
-	opt := func(v, label, cur string) views.Option {
-		return views.Option{Value: v, Label: label, Selected: v == cur}
-	}
-	onoff := func(b bool) string {
-		if b {
-			return "1"
-		}
-		return "0"
-	}
-	bw := views.Field{Name: "bw", Label: "Smoothing width", Kind: "select"}
-	for _, name := range bandwidthRules {
-		r, _ := stats.ParseBandwidthRule(name)
-		bw.Options = append(bw.Options, opt(name, smoothingChoice(r), ch.Rule.String()))
-	}
-	h := ""
-	if ch.Rule == stats.RuleUser {
-		h = num(ch.UserHMa)
-	}
-	from, to := optNumEmpty(ch.FromMa), optNumEmpty(ch.ToMa)
-	fields := []views.Field{
-		{Name: "count", Label: "Count", Kind: "select", Options: []views.Option{
-			opt("unit", "one value per unit (its weighted mean)", ch.Count), opt("date", "every date", ch.Count)}},
-		{Name: "weight", Label: "Weight", Kind: "select", Options: []views.Option{
-			opt("none", "equal", ch.Weight), opt("volume", "by unit volume", ch.Weight)}},
-		bw,
-		{Name: "h", Label: "Width I set (Ma)", Kind: "number", Value: h, Step: "any"},
-		{Name: "adaptive", Label: "Width adapts to the data", Kind: "select", Options: []views.Option{
-			opt("0", "no: one width everywhere", onoff(ch.Adaptive)), opt("1", "yes: narrower where dates crowd", onoff(ch.Adaptive))}},
-		{Name: "pdp", Label: "Also draw the sum of the dates' curves", Kind: "select", Options: []views.Option{
-			opt("0", "no", onoff(ch.PDP)), opt("1", "yes (not a density estimate)", onoff(ch.PDP))}},
-		{Name: "from", Label: "Window from (Ma)", Kind: "number", Value: from, Step: "any", Placeholder: "auto"},
-		{Name: "to", Label: "to (Ma)", Kind: "number", Value: to, Step: "any", Placeholder: "auto"},
-		{Name: "seed", Label: "Seed", Kind: "number", Value: strconv.FormatUint(ch.Seed, 10), Step: "1"},
-		{Name: "reps", Label: "Replicates", Kind: "number", Value: itoa(ch.Reps), Step: "1"},
-		{Name: "bw_each", Label: "Smoothing width in the replicates", Kind: "select", Options: []views.Option{
-			opt("0", "held at the width of the figure's curve", onoff(ch.BWEach)), opt("1", "re-estimated in each replicate (rules of thumb only)", onoff(ch.BWEach))}},
-	}
-	fields = append(fields, summaryForm(action, ch.Sum).Fields...)
-	// The common choices stay in sight; the rest are folded under "More choices" (same form, same address).
-	for i := range fields {
-		fields[i].More = !timelineCommon[fields[i].Name]
-	}
-	return &views.Form{Action: action, Reset: action, Fields: fields}
-}
-
 func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.TimelineFigure, res densityResult, ch densityChoice) views.TimelineView {
 	v := views.TimelineView{Page: s.page(r.Context(), prov.Name+": eruptive history", "Provinces"),
 		Intro: "The province's eruptive history as a density through time, with its pulses, over each unit's dates and the reference timescale. " +
@@ -607,24 +560,4 @@ func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResu
 		cw.Flush()
 		return cw.Error()
 	})
-}
-
-// smoothingWords names a smoothing-width rule in the words of the pages (analysis.SmoothingWords).
-func smoothingWords(r stats.BandwidthRule) string { return analysis.SmoothingWords(r) }
-
-// smoothingChoice is a smoothing-width rule as a choice of the forms.
-func smoothingChoice(r stats.BandwidthRule) string {
-	switch r {
-	case stats.RuleISJ:
-		return "automatic: from the shape of the data (Botev et al. 2010)"
-	case stats.RuleScott:
-		return "rule of thumb (Scott 1992)"
-	case stats.RuleSilverman:
-		return "rule of thumb (Silverman 1986, 1.06)"
-	case stats.RuleSilvermanRobust:
-		return "rule of thumb, robust to outliers (Silverman 1986, 0.9)"
-	case stats.RuleUser:
-		return "a width I set"
-	}
-	return r.Label()
 }
