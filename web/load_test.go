@@ -20,9 +20,6 @@ import (
 	"testing"
 	"time"
 
-	"golang.org/x/crypto/bcrypt"
-
-	"coeval/migrations"
 	"coeval/static"
 	"coeval/store"
 	"coeval/testdata/demo/large"
@@ -61,19 +58,8 @@ func TestReadersAndWritersAtScale(t *testing.T) {
 	if _, err := large.Write(filepath.Join(dir, "large"), large.Default()); err != nil {
 		t.Fatal(err)
 	}
-	db, err := store.Open(ctx, filepath.Join(dir, "large.db"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { db.Close() })
-	if _, err := db.Migrate(ctx, migrations.FS); err != nil {
-		t.Fatal(err)
-	}
-	db.SetPasswordCost(bcrypt.MinCost)
 	start := time.Now()
-	if _, _, err := db.SeedDemo(ctx, os.DirFS(filepath.Join(dir, "large")), "Large invented compilation for the load test."); err != nil {
-		t.Fatal(err)
-	}
+	db := seededDB(t, filepath.Join(dir, "large.db"), filepath.Join(dir, "large"), "Large invented compilation for the load test.")
 	c, err := db.Counts(ctx)
 	if err != nil {
 		t.Fatal(err)

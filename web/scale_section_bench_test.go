@@ -1,18 +1,13 @@
 package web
 
 import (
-	"context"
 	"io"
 	"log/slog"
 	"net/http"
 	"net/http/httptest"
-	"os"
 	"path/filepath"
 	"testing"
 
-	"golang.org/x/crypto/bcrypt"
-
-	"coeval/migrations"
 	"coeval/static"
 	"coeval/store"
 	"coeval/testdata/demo/large"
@@ -22,23 +17,11 @@ import (
 // demo is seeded) and returns its store and a handler.
 func newLargeSections(tb testing.TB, sz large.Sizes) (*store.DB, http.Handler) {
 	tb.Helper()
-	ctx := context.Background()
 	dir := tb.TempDir()
 	if _, err := large.Write(filepath.Join(dir, "large"), sz); err != nil {
 		tb.Fatal(err)
 	}
-	db, err := store.Open(ctx, filepath.Join(dir, "large.db"))
-	if err != nil {
-		tb.Fatal(err)
-	}
-	tb.Cleanup(func() { db.Close() })
-	if _, err := db.Migrate(ctx, migrations.FS); err != nil {
-		tb.Fatal(err)
-	}
-	db.SetPasswordCost(bcrypt.MinCost)
-	if _, _, err := db.SeedDemo(ctx, os.DirFS(filepath.Join(dir, "large")), "Large invented compilation for the benchmarks."); err != nil {
-		tb.Fatal(err)
-	}
+	db := seededDB(tb, filepath.Join(dir, "large.db"), filepath.Join(dir, "large"), "Large invented compilation for the benchmarks.")
 	return db, NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
 }
 

@@ -26,8 +26,15 @@ import (
 // through the ordinary importers.
 func mustDemoDB(t testing.TB) *store.DB {
 	t.Helper()
+	return seededDB(t, filepath.Join(t.TempDir(), "web.db"), filepath.Join("..", "testdata", "demo"), "Invented scenario for tests.")
+}
+
+// seededDB opens a real SQLite file at path, migrated and seeded as the demo is from the import files in
+// dir, labelled so on every page; it is closed when the test ends.
+func seededDB(t testing.TB, path, dir, label string) *store.DB {
+	t.Helper()
 	ctx := context.Background()
-	db, err := store.Open(ctx, filepath.Join(t.TempDir(), "web.db"))
+	db, err := store.Open(ctx, path)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -36,7 +43,7 @@ func mustDemoDB(t testing.TB) *store.DB {
 		t.Fatal(err)
 	}
 	db.SetPasswordCost(bcrypt.MinCost)
-	if _, _, err := db.SeedDemo(ctx, os.DirFS(filepath.Join("..", "testdata", "demo")), "Invented scenario for tests."); err != nil {
+	if _, _, err := db.SeedDemo(ctx, os.DirFS(dir), label); err != nil {
 		t.Fatal(err)
 	}
 	return db
