@@ -60,19 +60,14 @@ func parseDateForm(f Form, asCurator bool) (Date, []Problem) {
 	return d, t.problems
 }
 
-// prepareDate checks that no other date has the sample code and method, and fills UnitID/SectionID,
-// creating a missing province or unit (as an import would, in the same change); an edit keeps the
-// review note.
-func (d *DB) prepareDate(ctx context.Context, tx *sql.Tx, batch int64, before *Date, dt *Date, problems []Problem) ([]Problem, error) {
-	return d.prepareDateOwner(ctx, tx, batch, before, dt, problems, true)
-}
-
 // FormNewUnit is the form cell ("1") by which a date's form creates its unit, and the unit's province,
 // when they are new; without it an unknown province or unit is a problem naming the nearest known names,
 // so a typo cannot make a new unit.
 const FormNewUnit = "new_unit"
 
-// prepareDateOwner is prepareDate; newUnit lets it create a unit (and province) that does not exist.
+// prepareDateOwner checks that no other date has the sample code and method, and fills UnitID/SectionID;
+// with newUnit it creates a missing province or unit (as an import would, in the same change), without it
+// an unknown one is a problem. An edit keeps the review note.
 func (d *DB) prepareDateOwner(ctx context.Context, tx *sql.Tx, batch int64, before *Date, dt *Date, problems []Problem, newUnit bool) ([]Problem, error) {
 	if len(problems) > 0 {
 		return problems, nil
@@ -136,7 +131,8 @@ func (d *DB) CreateDate(ctx context.Context, f Form, asCurator bool) (Date, erro
 	return dateType().save(ctx, d, 0, 0, dt, problems, d.prepareDateForm(f))
 }
 
-// prepareDateForm is prepareDate for a form: its FormNewUnit cell says whether a new unit may be created.
+// prepareDateForm is prepareDateOwner for a form: its FormNewUnit cell says whether a new unit may be
+// created.
 func (d *DB) prepareDateForm(f Form) func(context.Context, *sql.Tx, int64, *Date, *Date, []Problem) ([]Problem, error) {
 	newUnit := strings.TrimSpace(f[FormNewUnit]) == "1"
 	return func(ctx context.Context, tx *sql.Tx, batch int64, before, dt *Date, problems []Problem) ([]Problem, error) {

@@ -14,6 +14,7 @@ import (
 
 	"github.com/go-chi/chi/v5"
 
+	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
 )
@@ -49,6 +50,7 @@ type pulseAnswer struct {
 	LagMed, LagLo, LagHi             float64
 	SensWithinMin, SensWithinMax     float64
 	SensCaution                      string
+	N                                int // joint draws of the comparison
 	compareQuery                     url.Values
 	hasPulseAge, sensitivityIsKnown  bool
 }
@@ -130,6 +132,7 @@ type answers struct {
 	compares  map[int64]*comparisonRowsJSON
 	timelines map[int64]*timelinePulses
 	errs      map[int64]error
+	provinces []store.Province // read once, on the first answer that needs them
 }
 
 func (s *Server) answers(r *http.Request) *answers {
@@ -197,10 +200,12 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 		return a, nil
 	}
 	// The provinces whose dates come near it, most dates first.
-	provs, err := s.store.Provinces(r.Context())
-	if err != nil {
-		return a, err
+	if as.provinces == nil {
+		if as.provinces, err = s.store.Provinces(r.Context()); err != nil {
+			return a, err
+		}
 	}
+	provs := as.provinces
 	type near struct {
 		p store.Province
 		n int
@@ -240,6 +245,7 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 				LagMed: numOr(row["lag_median_ma"]), LagLo: numOr(row["lag_lo95_ma"]), LagHi: numOr(row["lag_hi95_ma"]),
 				SensWithinMin: numOr(row["sens_within_min"]), SensWithinMax: numOr(row["sens_within_max"]), SensCaution: row["sens_caution"],
 				ModeMa: math.NaN(), StartMa: math.NaN(), EndMa: math.NaN()}
+			pa.N, _ = strconv.Atoi(row["n"])
 			pa.sensitivityIsKnown = !math.IsNaN(pa.SensWithinMin)
 			for _, p := range tl.Pulses {
 				if p.Pulse == pa.Pulse {
@@ -284,24 +290,18 @@ func (p pulseAnswer) pulseName() string {
 	return fmt.Sprintf("pulse %s at ~%.2f Ma (%.2f–%.2f)", p.Pulse, p.ModeMa, p.StartMa, p.EndMa)
 }
 
-// probWords writes a probability to the precision its Monte Carlo error supports, bounds as bounds.
-func probWords(p, se float64) string {
-	switch {
-	case math.IsNaN(p):
+// probWords writes a probability as the comparison page does (probText: its SE's decimals, 0 and 1 as
+// the bounds 3/N allows), "—" when there is none.
+func (p pulseAnswer) probWords(x, se float64) string {
+	if math.IsNaN(x) || p.N <= 0 {
 		return "—"
-	case p >= 1 || (se == 0 && p > 0.999):
-		return "> 0.999"
-	case p <= 0 || (se == 0 && p < 0.001):
-		return "< 0.001"
-	case math.IsNaN(se):
-		return fmt.Sprintf("%.2f", p)
 	}
-	return fmt.Sprintf("%.*f", max(2, min(4, int(math.Ceil(-math.Log10(math.Max(se, 1e-4)))))), p)
+	return probText(stats.Probability{P: x, SE: nanZero(se)}, p.N)
 }
 
-// pText is "P = 0.98", or "P > 0.999" where the estimate is a bound.
-func pText(p, se float64) string {
-	w := probWords(p, se)
+// pText is "P = 0.98 ± 0.01", or "P > 0.9997" where the estimate is a bound.
+func (p pulseAnswer) pText(x, se float64) string {
+	w := p.probWords(x, se)
 	if strings.HasPrefix(w, ">") || strings.HasPrefix(w, "<") {
 		return "P " + w
 	}
@@ -348,11 +348,11 @@ func answerSentence(a eventAnswer) string {
 		}
 		switch {
 		case best.Within >= 0.5:
-			parts = append(parts, fmt.Sprintf("most likely during the %s of %s (%s, %s)", best.pulseName(), best.Province, pText(best.Within, best.WithinSE), best.holds()))
+			parts = append(parts, fmt.Sprintf("most likely during the %s of %s (%s, %s)", best.pulseName(), best.Province, best.pText(best.Within, best.WithinSE), best.holds()))
 		case allBefore:
 			parts = append(parts, fmt.Sprintf("before every pulse of %s", best.Province))
 		default:
-			parts = append(parts, fmt.Sprintf("not clearly within any pulse of %s (largest %s, the %s)", best.Province, pText(best.Within, best.WithinSE), best.pulseName()))
+			parts = append(parts, fmt.Sprintf("not clearly within any pulse of %s (largest %s, the %s)", best.Province, best.pText(best.Within, best.WithinSE), best.pulseName()))
 		}
 	}
 	s := strings.Join(parts, "; ")
@@ -387,7 +387,7 @@ func answerBlock(a eventAnswer) (notes []string, groups []views.FieldGroup, tabl
 				pulse = p.Pulse
 			}
 			t.Rows = append(t.Rows, []views.Cell{{Text: p.Province, URL: idURL("/provinces", p.ProvinceID) + "/timeline"}, {Text: pulse},
-				{Text: probWords(p.Within, p.WithinSE), Num: true}, {Text: probWords(p.After, p.AfterSE), Num: true}, {Text: lag, Num: true}, hold})
+				{Text: p.probWords(p.Within, p.WithinSE), Num: true}, {Text: p.probWords(p.After, p.AfterSE), Num: true}, {Text: lag, Num: true}, hold})
 		}
 		t.Notes = []string{"Each number is the comparison page's, with its default choices: the density of unit means (automatic smoothing width, 1,000 bootstrap replicates), the section's Monte Carlo age–height model, 10,000 joint draws, shared systematic terms drawn once per draw. They depend on those choices; the comparison page changes them and says how each number was computed."}
 		tables = append(tables, t)
@@ -442,9 +442,9 @@ func (s *Server) addAnswers(r *http.Request, t *views.Table, events []store.Even
 			}
 			if len(a.Pulses) > 0 {
 				p := a.Pulses[0]
-				best = fmt.Sprintf("%s of %s (%s)", p.pulseName(), p.Province, pText(p.Within, p.WithinSE))
+				best = fmt.Sprintf("%s of %s (%s)", p.pulseName(), p.Province, p.pText(p.Within, p.WithinSE))
 				if p.Within < 0.5 {
-					best = "none likely (largest " + pText(p.Within, p.WithinSE) + ")"
+					best = "none likely (largest " + p.pText(p.Within, p.WithinSE) + ")"
 				}
 			}
 		}
