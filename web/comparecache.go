@@ -1,11 +1,8 @@
 package web
 
 import (
-	"context"
 	"encoding/json"
-	"errors"
 	"net/http"
-	"sync"
 	"time"
 )
 
@@ -51,36 +48,21 @@ func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
 			return res, true, nil
 		}
 	}
-	for {
-		// Identical requests meanwhile wait for this one instead of computing it again.
-		f, lead := c.cache.join(key)
-		if !lead {
-			select {
-			case <-f.done:
-			case <-ctx.Done():
-				return nil, false, ctx.Err()
-			}
-			if f.err != nil && ctx.Err() == nil && (errors.Is(f.err, context.Canceled) || errors.Is(f.err, context.DeadlineExceeded)) {
-				continue // its request went away; this one computes
-			}
-			return f.res, f.err == nil, f.err
+	// Identical requests meanwhile wait for this one instead of computing it again.
+	res, found, err := c.cache.do(ctx, key, func() (*compareResult, error) {
+		res, err := computeComparison(ctx, d, ch, d.Stamp)
+		if err == nil {
+			res.At = time.Now().UTC().Format(time.RFC3339)
 		}
-		var res *compareResult
-		func() {
-			defer func() { c.cache.land(key, f, res, err) }() // also when the computation panics
-			if res, err = computeComparison(ctx, d, ch, d.Stamp); err == nil {
-				res.At = time.Now().UTC().Format(time.RFC3339)
-			}
-		}()
-		if err != nil {
-			return nil, false, err
-		}
-		c.cache.put(key, res)
-		if dataKey != "" {
-			c.cache.put(dataKey, res)
-		}
-		return res, false, nil
+		return res, err
+	})
+	if err != nil {
+		return nil, false, err
 	}
+	if dataKey != "" {
+		c.cache.put(dataKey, res)
+	}
+	return res, found, nil
 }
 
 // cacheKey is the choice set that decides the computed result (not the display: sort, format), with
@@ -103,66 +85,9 @@ func (ch compareChoice) cacheKeyData(digest string) string {
 }
 
 // compareCache keeps computed comparisons keyed by the full choice set and the compilation's stamp
-// (cacheKey). A change to the records makes a new change batch and so a new stamp: old entries are
-// never read again and fall out by age. It holds at most max entries, dropping the oldest.
-type compareCache struct {
-	mu     sync.Mutex
-	max    int
-	order  []string
-	m      map[string]*compareResult
-	flying map[string]*compareFlight
-}
+// (cacheKey), or a digest of what they read (cacheKeyData). A change to the records makes a new change
+// batch and so a new stamp: old entries are never read again and fall out by age.
+type compareCache = flightCache[*compareResult]
 
-// compareFlight is a comparison being computed: identical requests meanwhile wait for it instead of
-// computing it again.
-type compareFlight struct {
-	done chan struct{}
-	res  *compareResult
-	err  error
-}
-
-func newCompareCache(max int) *compareCache {
-	return &compareCache{max: max, m: map[string]*compareResult{}, flying: map[string]*compareFlight{}}
-}
-
-// join returns the flight computing key and whether the caller leads it (and must call land).
-func (c *compareCache) join(key string) (*compareFlight, bool) {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	if f, ok := c.flying[key]; ok {
-		return f, false
-	}
-	f := &compareFlight{done: make(chan struct{})}
-	c.flying[key] = f
-	return f, true
-}
-
-// land ends a flight with its result and lets the waiting requests go.
-func (c *compareCache) land(key string, f *compareFlight, res *compareResult, err error) {
-	c.mu.Lock()
-	delete(c.flying, key)
-	c.mu.Unlock()
-	f.res, f.err = res, err
-	close(f.done)
-}
-
-func (c *compareCache) get(k string) (*compareResult, bool) {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	r, ok := c.m[k]
-	return r, ok
-}
-
-func (c *compareCache) put(k string, r *compareResult) {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	if _, ok := c.m[k]; ok {
-		return
-	}
-	c.m[k] = r
-	c.order = append(c.order, k)
-	for len(c.order) > c.max {
-		delete(c.m, c.order[0])
-		c.order = c.order[1:]
-	}
-}
+// newCompareCache keeps at most max comparisons, dropping the oldest.
+func newCompareCache(max int) *compareCache { return newFlightCache[*compareResult](max, nil, 0) }

@@ -9,6 +9,8 @@ import (
 	"net/http/httptest"
 	"runtime"
 	"runtime/metrics"
+	"strconv"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -149,7 +151,8 @@ func (s scaleDB) moveUnits(tb testing.TB, n int) {
 }
 
 // BenchmarkScaleTimeline renders the timeline page of a province of 10,125 dates in 45 units, within the
-// compilation of 100,000, counting one value per unit (the default) and every date; it reports the size of
+// compilation of 100,000, counting one value per unit (the default) and every date, cold (a new seed each
+// time, so the timeline cache holds nothing to reuse) and warm (the same address again); it reports the size of
 // the page (html-KB) and the CPU time of the whole process per request (cpu-ms/op: every worker, so
 // above ns/op where the bootstrap runs in parallel, and a fairer figure than ns/op on a shared machine).
 // go test ./web -run '^$' -bench BenchmarkScaleTimeline -benchtime 10x
@@ -157,17 +160,26 @@ func BenchmarkScaleTimeline(b *testing.B) {
 	s := newScaleDB(b, scaleDates)
 	s.moveUnits(b, 45)
 	h := s.handler()
-	for _, c := range []struct{ name, path string }{
-		{"unit", "/provinces/1/timeline"},
-		{"date", "/provinces/1/timeline?count=date"},
-		{"svg", "/provinces/1/timeline?format=svg"},
+	for _, c := range []struct {
+		name, path string
+		cold       bool // a new bootstrap seed each time: nothing kept is reused
+	}{
+		{"unit-cold", "/provinces/1/timeline", true},
+		{"date-cold", "/provinces/1/timeline?count=date", true},
+		{"unit", "/provinces/1/timeline", false},
+		{"date", "/provinces/1/timeline?count=date", false},
+		{"svg", "/provinces/1/timeline?format=svg", false},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			var size int
 			cpu0, n := processCPU(), 0
 			for b.Loop() {
 				rec := httptest.NewRecorder()
-				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, c.path, nil))
+				path := c.path
+				if c.cold {
+					path += map[bool]string{true: "&", false: "?"}[strings.Contains(path, "?")] + "seed=" + strconv.Itoa(1000+n)
+				}
+				h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, path, nil))
 				if rec.Code != http.StatusOK {
 					b.Fatalf("%s: status %d", c.path, rec.Code)
 				}

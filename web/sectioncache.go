@@ -3,8 +3,6 @@ package web
 import (
 	"context"
 	"encoding/json"
-	"errors"
-	"sync"
 
 	"coeval/web/analysis"
 )
@@ -26,25 +24,16 @@ const (
 )
 
 type sectionCache struct {
-	mu      sync.Mutex
-	max     int
-	maxRows int
-	rows    int
-	order   []string
-	m       map[string]*analysis.SectionAnalysis
-	flying  map[string]*sectionFlight
+	*flightCache[*analysis.SectionAnalysis]
 	// computed, when set (tests only), is told of every analysis computed rather than found.
 	computed func(sectionID int64)
 }
 
-type sectionFlight struct {
-	done chan struct{}
-	a    *analysis.SectionAnalysis
-	err  error
-}
-
+// newSectionCache keeps at most max analyses holding at most maxRows sample rows in all, dropping the
+// oldest (an analysis larger than maxRows alone is kept until the next one comes).
 func newSectionCache(max, maxRows int) *sectionCache {
-	return &sectionCache{max: max, maxRows: maxRows, m: map[string]*analysis.SectionAnalysis{}, flying: map[string]*sectionFlight{}}
+	rows := func(a *analysis.SectionAnalysis) int { return len(a.Samples) }
+	return &sectionCache{flightCache: newFlightCache(max, rows, maxRows)}
 }
 
 // sectionCacheKey is the section, the options that decide its analysis and the digest of its data.
@@ -71,34 +60,8 @@ func (c *sectionCache) analyse(ctx context.Context, in *analysis.SectionInputs, 
 	if key == "" {
 		return c.compute(in, o)
 	}
-	for {
-		if a, ok := c.get(key); ok {
-			return a, nil
-		}
-		f, lead := c.join(key)
-		if !lead {
-			select {
-			case <-f.done:
-			case <-ctx.Done():
-				return nil, ctx.Err()
-			}
-			if f.err != nil && ctx.Err() == nil && (errors.Is(f.err, context.Canceled) || errors.Is(f.err, context.DeadlineExceeded)) {
-				continue // its request went away; this one computes
-			}
-			return f.a, f.err
-		}
-		var a *analysis.SectionAnalysis
-		var err error
-		func() {
-			defer func() { c.land(key, f, a, err) }() // also when the computation panics
-			a, err = c.compute(in, o)
-		}()
-		if err != nil {
-			return nil, err
-		}
-		c.put(key, a)
-		return a, nil
-	}
+	a, _, err := c.do(ctx, key, func() (*analysis.SectionAnalysis, error) { return c.compute(in, o) })
+	return a, err
 }
 
 // compute analyses the section and keeps the age model's summaries, not its draws.
@@ -117,50 +80,6 @@ func (c *sectionCache) compute(in *analysis.SectionInputs, o sectionOptions) (*a
 		a.Model = &m
 	}
 	return a, nil
-}
-
-func (c *sectionCache) join(key string) (*sectionFlight, bool) {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	if f, ok := c.flying[key]; ok {
-		return f, false
-	}
-	f := &sectionFlight{done: make(chan struct{})}
-	c.flying[key] = f
-	return f, true
-}
-
-func (c *sectionCache) land(key string, f *sectionFlight, a *analysis.SectionAnalysis, err error) {
-	c.mu.Lock()
-	delete(c.flying, key)
-	c.mu.Unlock()
-	f.a, f.err = a, err
-	close(f.done)
-}
-
-func (c *sectionCache) get(key string) (*analysis.SectionAnalysis, bool) {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	a, ok := c.m[key]
-	return a, ok
-}
-
-// put keeps a, dropping the oldest entries while there are more than max or they hold more than maxRows
-// samples (an analysis larger than maxRows alone is kept until the next one comes).
-func (c *sectionCache) put(key string, a *analysis.SectionAnalysis) {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	if _, ok := c.m[key]; ok {
-		return
-	}
-	c.m[key] = a
-	c.order = append(c.order, key)
-	c.rows += len(a.Samples)
-	for len(c.order) > 1 && (len(c.order) > c.max || c.rows > c.maxRows) {
-		c.rows -= len(c.m[c.order[0]].Samples)
-		delete(c.m, c.order[0])
-		c.order = c.order[1:]
-	}
 }
 
 // sectionLoader reads and analyses sections through the server's cache (none when the server has none).

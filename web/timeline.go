@@ -197,13 +197,6 @@ func ruleText(res densityResult, ch densityChoice) string {
 	return fmt.Sprintf("%s h = %s Ma, %s", kind, fixed(h.Ma, dec), h.Rule.Label())
 }
 
-// timeline reads a province's units and dates in one snapshot and computes their density with the
-// URL's choices.
-func (s *Server) timeline(ctx context.Context, id int64, ch densityChoice) (analysis.Timeline, error) {
-	tl, err := analysis.ProvinceDensity(ctx, s.store, id, ch.options())
-	return tl, optionBadRequest(err, densityParams)
-}
-
 func (s *Server) handleTimeline(w http.ResponseWriter, r *http.Request) error {
 	ctx := r.Context()
 	id, err := pathID(r, "id")

@@ -54,7 +54,7 @@ type DensityOptions struct {
 	// WindowSigmas: the automatic window holds every date that enters a summary ± this many of its σ
 	// (the error bars a figure draws), not only the values counted.
 	WindowSigmas float64
-	Stop         func() error // asked between replicates (nil: never stops)
+	Stop         func() error `json:"-"` // asked between replicates (nil: never stops)
 }
 
 // DefaultDensityOptions are the choices of a density nobody has changed: unit means with the default
