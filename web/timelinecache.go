@@ -18,7 +18,7 @@ import (
 // Bounds of the timeline cache: entries, and dates held over all entries.
 const (
 	timelineCacheEntries = 64
-	timelineCacheDates   = 200_000
+	timelineCacheDates   = 100_000
 )
 
 type timelineCache = flightCache[*analysis.Timeline]
