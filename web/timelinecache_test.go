@@ -12,8 +12,8 @@ import (
 	"coeval/store"
 )
 
-// A timeline asked twice is computed once (the second answer is the kept one, the same shared result),
-// and an accepted edit to one of its dates shows at once: the cached server then answers exactly what a
+// A timeline asked twice is computed once (the second answer is the kept one, the same shared result), an
+// edit elsewhere in the compilation leaves it kept, and an accepted edit to one of its dates shows at once: the cached server then answers exactly what a
 // server that never computed this timeline answers from the same database, and not what it answered
 // before the edit.
 func TestTimelineCacheShowsAnEditAtOnce(t *testing.T) {
@@ -42,6 +42,27 @@ func TestTimelineCacheShowsAnEditAtOnce(t *testing.T) {
 	}
 	if len(a.Summaries) == 0 || &a.Summaries[0] != &b.Summaries[0] {
 		t.Fatal("the second timeline on unchanged data was computed again, not taken from the cache")
+	}
+
+	// An edit the timeline does not read (an event added to a section) moves the compilation's stamp but
+	// not the digest of the province's data: the kept timeline is found again, not computed.
+	secs, err := db.Sections(ctx)
+	if err != nil || len(secs) == 0 {
+		t.Fatalf("no section in the demo: %v", err)
+	}
+	stamp0, _ := db.DataStamp(ctx)
+	if _, err := db.AddSectionEvent(ctx, secs[0].ID, store.EventForm{Name: "Timeline cache test event", Kind: "cie_onset", BaseHeightM: "1"}, true); err != nil {
+		t.Fatal(err)
+	}
+	if stamp1, _ := db.DataStamp(ctx); stamp1 == stamp0 {
+		t.Fatal("adding an event did not move the compilation's stamp: the test would prove nothing")
+	}
+	elsewhere, err := s.timeline(ctx, 1, ch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if &elsewhere.Summaries[0] != &a.Summaries[0] {
+		t.Fatal("an edit the timeline does not read made it compute again")
 	}
 
 	ds, _, err := db.Dates(ctx, store.DateFilter{ProvinceID: 1, ReviewState: store.ReviewAccepted, Sort: "added", Limit: 1})

@@ -2,6 +2,9 @@ package analysis
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
@@ -185,12 +188,38 @@ func ProvinceDensity(ctx context.Context, src ProvinceSource, provinceID int64, 
 	if err := o.Validate(); err != nil {
 		return Timeline{}, err
 	}
-	data, sums, err := SummarizeProvince(ctx, src, provinceID, o.Summary)
+	data, err := src.ProvinceDates(ctx, provinceID)
+	if err != nil {
+		return Timeline{Data: data}, err
+	}
+	return DensityOf(data, o)
+}
+
+// DensityOf summarises the units of a province's data (read as one snapshot) and computes their density,
+// band and pulses.
+func DensityOf(data store.ProvinceDates, o DensityOptions) (Timeline, error) {
+	if err := o.Validate(); err != nil {
+		return Timeline{}, err
+	}
+	sums, err := SummarizeUnits(data.Units, data.Dates, o.Summary)
 	if err != nil {
 		return Timeline{Data: data}, err
 	}
 	res, err := ComputeDensity(sums, o, DateBars(sums, o.WindowSigmas))
 	return Timeline{Data: data, Summaries: sums, Density: res}, err
+}
+
+// DigestProvince is a version of exactly the data a province's timeline reads (as CompareData.Digest): a
+// hash of its record, units and dates; "" when they cannot be written.
+func DigestProvince(data store.ProvinceDates) string {
+	h := sha256.New()
+	enc := json.NewEncoder(h)
+	for _, v := range []any{data.Province, data.Units, data.Dates} {
+		if err := enc.Encode(v); err != nil {
+			return ""
+		}
+	}
+	return hex.EncodeToString(h.Sum(nil))
 }
 
 // DateBars are the extents (age ± k σ) of every date that enters a summary, so an automatic window can
