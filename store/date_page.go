@@ -181,9 +181,9 @@ func indexedBy(q, ix string) string {
 // (the order of the keys alone is the same whichever way ties go), how many dates come before that key,
 // and so the place of the date within the key's own dates. For the unit sort, the units' counts.
 func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond string, args []any, keyDesc, idDesc bool, p int) (*dateCursor, error) {
-	keyDir, idDir, before := " ASC", " ASC", "<"
+	keyDir, idDir := " ASC", " ASC"
 	if keyDesc {
-		keyDir, before = " DESC", ">"
+		keyDir = " DESC"
 	}
 	if idDesc {
 		idDir = " DESC"
@@ -232,9 +232,14 @@ func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond
 			return nil, nil
 		}
 	} else {
+		// The key at place p and how many dates come before that key, in one walk along the index: rank()
+		// is one more than the number of rows before the row's key in the order (half the time of a
+		// second walk counting them: 50 against 105 ms at place 15,000 of a filter's 33,000 dates).
 		expr := cols[0]
 		var k any
-		err := d.reader().QueryRowContext(ctx, `SELECT `+expr+indexedBy(keyFrom(f), ix)+cond+` ORDER BY `+expr+keyDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, p), args...).Scan(&k)
+		var rank int
+		err := d.reader().QueryRowContext(ctx, `SELECT `+expr+`, rank() OVER (ORDER BY `+expr+keyDir+`)`+indexedBy(keyFrom(f), ix)+cond+
+			` ORDER BY `+expr+keyDir+fmt.Sprintf(` LIMIT 1 OFFSET %d`, p), args...).Scan(&k, &rank)
 		if errors.Is(err, sql.ErrNoRows) {
 			return nil, nil
 		}
@@ -242,11 +247,7 @@ func (d *DB) cursorAt(ctx context.Context, f DateFilter, cols []string, ix, cond
 			return nil, err
 		}
 		k = cursorValue(k)
-		bc, ba := andCond(cond, args, expr+" "+before+" ?", k)
-		var n int
-		if err := d.reader().QueryRowContext(ctx, `SELECT count(*)`+indexedBy(keyFrom(f), ix)+bc, ba...).Scan(&n); err != nil {
-			return nil, err
-		}
+		n := rank - 1
 		key, within = []any{k}, p-n
 		gc, ga = andCond(cond, args, expr+" = ?", k)
 	}
