@@ -1,6 +1,6 @@
 // Command gen writes coeval's INVENTED demo scenario: a compilation of four fictional large igneous
 // provinces at different ages — the Hvarn Plateau Basalts (two eruptive pulses, ≈155.4 and 154.7 Ma),
-// the Korrovask Traps (≈167.6 Ma) and two provinces whose pulses overlap in age, the Caldrith
+// the Korrovask Traps (≈167.6 Ma) and two provinces whose pulses overlap in age, the Veldrith
 // Plateau Basalts and the Ymberlaine Sill Complex (≈196.4 Ma) — their dates under several ⁴⁰Ar/³⁹Ar
 // calibrations, and five fictional sedimentary sections: three record the Hvarn event, one the
 // Korrovask event and one an event that either of the two ≈196.4 Ma provinces could explain.
@@ -118,10 +118,10 @@ const (
 	pubE23        // U–Pb zircon, ash beds in the sections
 	// Appended for the later provinces and sections (indices continue; the first eight are unchanged).
 	pubL20 // U–Pb zircon and baddeleyite, Korrovask Traps
-	pubC15 // Ar/Ar, FCs 28.305 / Renne 2010, Korrovask and Caldrith
+	pubC15 // Ar/Ar, FCs 28.305 / Renne 2010, Korrovask and Veldrith
 	pubC09 // Ar/Ar, FCs 28.02 / SJ77, 2σ
 	pubK18 // Ar/Ar, FCs 28.201 / Min 2000, with full external (excess-argon unit)
-	pubL22 // U–Pb zircon and baddeleyite, Caldrith and Ymberlaine
+	pubL22 // U–Pb zircon and baddeleyite, Veldrith and Ymberlaine
 	pubT24 // Ar/Ar, FCs 28.201 / Min 2000, Ymberlaine sills, awaiting review
 	pubL23 // U–Pb zircon, ash beds of the later sections
 )
@@ -260,7 +260,7 @@ type provinceSpec struct {
 
 // laterProvinces are the provinces appended after the first. Their ages avoid every well-known real
 // large igneous province and major event (see README): the Korrovask Traps lie in the Bathonian
-// (≈167.6 Ma), the Caldrith Plateau Basalts and the Ymberlaine Sill Complex in the Sinemurian
+// (≈167.6 Ma), the Veldrith Plateau Basalts and the Ymberlaine Sill Complex in the Sinemurian
 // (≈196.4 Ma), their pulses overlapping on purpose.
 func laterProvinces() []provinceSpec {
 	z, bd, pl, gm := "zircon", "baddeleyite", "plagioclase", "groundmass"
@@ -289,13 +289,13 @@ func laterProvinces() []provinceSpec {
 					notes:  "Invented unit: dolerite sill below the lava pile.",
 					groups: []group{{pub: pubL20, material: bd, n: 3}}, interpretAs: "crystallisation"},
 			}},
-		{name: "Caldrith Plateau Basalts (invented)", lat: -31.50, lon: 78.20,
+		{name: "Veldrith Plateau Basalts (invented)", lat: -31.50, lon: 78.20,
 			description: "INVENTED demo province (not real data): a fictional flood-basalt province with one eruptive pulse " +
 				"at about 196.45 Ma (Sinemurian) that overlaps the pulse of the invented Ymberlaine Sill Complex, so an event " +
 				"of that age has two candidate provinces. Coordinates deliberately point at open ocean (Indian Ocean).",
 			units: []unit{
 				{name: "Aldercrag Flow Group", kind: "flow_group", pos: 1, trueMa: 196.580, vol: 2100, volSig: 400,
-					notes:  "Invented unit: basal flows of the Caldrith Plateau Basalts.",
+					notes:  "Invented unit: basal flows of the Veldrith Plateau Basalts.",
 					groups: []group{{pub: pubL22, material: z, n: 3}}},
 				{name: "Merrivane Flow", kind: "flow", pos: 2, trueMa: 196.510, vol: 450, volSig: 90,
 					notes:  "Invented unit.",
@@ -307,7 +307,7 @@ func laterProvinces() []provinceSpec {
 					notes:  "Invented unit: Ar/Ar dates under two calibrations that agree only after recalculation.",
 					groups: []group{{pub: pubC09, material: pl, n: 2}, {pub: pubK18, material: gm, n: 1}}},
 				{name: "Wrenhallow Flows", kind: "flow_group", pos: 5, trueMa: 196.320, vol: 800, volSig: 180,
-					notes:  "Invented unit: youngest flows of the Caldrith Plateau Basalts.",
+					notes:  "Invented unit: youngest flows of the Veldrith Plateau Basalts.",
 					groups: []group{{pub: pubL22, material: z, n: 2}}},
 				{name: "Brimlock Dyke", kind: "dyke", trueMa: 196.470,
 					notes:  "Invented unit: feeder dyke; volume not estimated.",
@@ -315,7 +315,7 @@ func laterProvinces() []provinceSpec {
 			}},
 		{name: "Ymberlaine Sill Complex (invented)", lat: -23.80, lon: 90.60,
 			description: "INVENTED demo province (not real data): a fictional sill province with one pulse of intrusion " +
-				"at about 196.35 Ma (Sinemurian), overlapping the pulse of the invented Caldrith Plateau Basalts. " +
+				"at about 196.35 Ma (Sinemurian), overlapping the pulse of the invented Veldrith Plateau Basalts. " +
 				"Coordinates deliberately point at open ocean (Indian Ocean).",
 			units: []unit{
 				{name: "Glaswick Sill", kind: "sill", trueMa: 196.460, vol: 300, volSig: 70,
@@ -714,7 +714,7 @@ func sections() []section {
 			}},
 		{name: "Brisvane-3 Core", key: "brisvane", kind: "core", lat: -27.60, lon: 84.70, palaeo: -38.0,
 			maturity: "immature (Tmax 422 °C)",
-			notes: "Invented demo section: laminated mudstone between the invented Caldrith and Ymberlaine provinces; " +
+			notes: "Invented demo section: laminated mudstone between the invented Veldrith and Ymberlaine provinces; " +
 				"its Hg anomaly falls where both provinces' pulses overlap in age. Heights = 655.00 m minus core depth.",
 			anchors: []anchor{{0, 196.95}, {30, 196.62}, {55, 196.33}, {90, 195.96}},
 			n:       180, h0: 0.25, step: 0.5, codePrefix: "BV", style: clean, cieShift: 2.8,
