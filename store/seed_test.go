@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 )
 
@@ -150,5 +151,53 @@ func TestSeedDemoStoppedMidwayIsFinishedNextTime(t *testing.T) {
 				t.Errorf("a third seeding: seeded %v, err %v; want none", again, err)
 			}
 		})
+	}
+}
+
+// Every part of the demo says it is invented (compilation issue: "still labelled as invented everywhere"):
+// province names carry "(invented)" and their descriptions "INVENTED", laboratories "(invented)", citations
+// "Invented demo data", DOIs the Crossref test prefix 10.5555, and the notes of units and sections "Invented".
+func TestDemoIsLabelledInventedEverywhere(t *testing.T) {
+	demo := filepath.Join("..", "testdata", "demo")
+	read := func(name string) []map[string]string {
+		f, err := os.Open(filepath.Join(demo, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer f.Close()
+		recs, err := csv.NewReader(f).ReadAll()
+		if err != nil || len(recs) < 2 {
+			t.Fatalf("%s: %d rows, %v", name, len(recs), err)
+		}
+		var rows []map[string]string
+		for _, r := range recs[1:] {
+			m := map[string]string{}
+			for i, h := range recs[0] {
+				m[h] = r[i]
+			}
+			rows = append(rows, m)
+		}
+		return rows
+	}
+	for _, p := range read("provinces.csv") {
+		if !strings.HasSuffix(p["province"], "(invented)") || !strings.HasPrefix(p["description"], "INVENTED") {
+			t.Errorf("province %q is not labelled invented", p["province"])
+		}
+	}
+	for _, d := range read("dates.csv") {
+		if !strings.HasSuffix(d["laboratory"], "(invented)") || !strings.HasPrefix(d["citation"], "Invented demo data") ||
+			!strings.HasPrefix(d["doi"], "10.5555/") {
+			t.Errorf("date %s: laboratory %q, citation %q, doi %q not labelled invented", d["sample_code"], d["laboratory"], d["citation"], d["doi"])
+		}
+	}
+	for _, u := range read("units.csv") {
+		if !strings.HasPrefix(u["notes"], "Invented") {
+			t.Errorf("unit %s: notes %q", u["unit"], u["notes"])
+		}
+	}
+	for _, s := range read("sections.csv") {
+		if !strings.HasPrefix(s["notes"], "Invented") {
+			t.Errorf("section %s: notes %q", s["section"], s["notes"])
+		}
 	}
 }
