@@ -43,7 +43,7 @@ import (
 var demoFiles embed.FS
 
 // demoLabel is shown on every page while the compilation holds the demo scenario.
-const demoLabel = "The Hvarn Plateau Basalts, their units, laboratories, citations and the three sections are an invented scenario for trying coeval out — not real measurements."
+const demoLabel = "The four provinces (Hvarn, Korrovask, Veldrith, Ymberlaine), their units, laboratories, citations and the five sections are an invented scenario for trying coeval out — not real measurements."
 
 // config is everything main reads from flags and the environment.
 type config struct {

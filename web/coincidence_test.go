@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"encoding/csv"
 	"encoding/json"
 	"math"
@@ -66,23 +67,34 @@ func getCoincidence(t *testing.T, path string) coincidenceDownload {
 // distances, each recomputed here from the event's age and the listed onsets; p = (1 + k)/(1 + N).
 func TestCoincidenceNumbersFromTheirOwnInputs(t *testing.T) {
 	d := getCoincidence(t, "/coincidence?format=json&"+coincidenceCheap)
-	srv, _ := mustServer(t)
-	_, _, tl := get(t, srv, "/provinces/1/timeline?format=json&reps=100&level=analytical")
-	var timeline struct {
-		Pulses []struct {
-			Pulse   string  `json:"pulse"`
-			StartMa float64 `json:"start_ma"`
-		} `json:"pulses"`
-	}
-	if err := json.Unmarshal([]byte(tl), &timeline); err != nil {
+	srv, db := mustServer(t)
+	// Every province's timeline (the demo is a compilation): its pulses' onsets by province and pulse.
+	starts := map[string]float64{}
+	provs, err := db.Provinces(context.Background())
+	if err != nil {
 		t.Fatal(err)
 	}
-	if len(d.Onsets) == 0 || len(d.Onsets) != len(timeline.Pulses) {
-		t.Fatalf("%d onsets, timeline has %d pulses", len(d.Onsets), len(timeline.Pulses))
+	for _, pv := range provs {
+		_, _, tl := get(t, srv, idURL("/provinces", pv.ID)+"/timeline?format=json&reps=100&level=analytical")
+		var timeline struct {
+			Pulses []struct {
+				Pulse   string  `json:"pulse"`
+				StartMa float64 `json:"start_ma"`
+			} `json:"pulses"`
+		}
+		if err := json.Unmarshal([]byte(tl), &timeline); err != nil {
+			t.Fatal(err)
+		}
+		for _, p := range timeline.Pulses {
+			starts[pv.Name+" "+p.Pulse] = p.StartMa
+		}
+	}
+	if len(d.Onsets) == 0 || len(d.Onsets) != len(starts) {
+		t.Fatalf("%d onsets, the timelines have %d pulses", len(d.Onsets), len(starts))
 	}
 	for i, o := range d.Onsets {
-		if p := timeline.Pulses[i]; o.Pulse != p.Pulse || o.OnsetMa != p.StartMa {
-			t.Errorf("onset %d: %s at %v, timeline's %s starts at %v", i, o.Pulse, o.OnsetMa, p.Pulse, p.StartMa)
+		if st, ok := starts[o.Province+" "+o.Pulse]; !ok || o.OnsetMa != st {
+			t.Errorf("onset %d: %s %s at %v, its timeline's pulse starts at %v (found %v)", i, o.Province, o.Pulse, o.OnsetMa, st, ok)
 		}
 	}
 	if d.Result.StatisticMa == nil || d.Result.P == nil || d.Result.AtMost == nil {

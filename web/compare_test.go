@@ -26,7 +26,8 @@ import (
 // The demo comparison page renders with its table, figure and downloads; its CSV parses with the
 // declared columns; the JSON parses; the XLSX opens with excelize's reader and has the settings sheet.
 func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
-	srv, _ := mustServer(t)
+	srv, db := mustServer(t)
+	nEv := eventsWithinTies(t, db)
 	status, _, body := get(t, srv, "/compare")
 	if status != http.StatusOK {
 		t.Fatalf("status %d: %.500s", status, body)
@@ -48,10 +49,10 @@ func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
 	if got, want := strings.Join(recs[0], ","), strings.Join(compareColumns, ","); got != want {
 		t.Errorf("csv header %s, want %s", got, want)
 	}
-	// The demo: two pulses × 10 events within their sections' tie ranges (Mornesk's CIE ends above
-	// its highest tie and is left out, with a note).
-	if len(recs) != 1+2*10 {
-		t.Errorf("csv has %d rows, want 20", len(recs)-1)
+	// The demo's first province (the default, first by name): two pulses × the events within their
+	// sections' tie ranges (Mornesk's CIE ends above its highest tie and is left out, with a note).
+	if len(recs) != 1+2*nEv {
+		t.Errorf("csv has %d rows, want %d", len(recs)-1, 2*nEv)
 	}
 	if !strings.Contains(body, "outside the tie range") {
 		t.Error("the page does not say why an event is left out")
@@ -61,7 +62,7 @@ func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
 		Settings map[string]string   `json:"settings"`
 		Rows     []map[string]string `json:"rows"`
 	}
-	if status != http.StatusOK || json.Unmarshal([]byte(js), &doc) != nil || len(doc.Rows) != 20 || doc.Settings["seed"] != "1" {
+	if status != http.StatusOK || json.Unmarshal([]byte(js), &doc) != nil || len(doc.Rows) != 2*nEv || doc.Settings["seed"] != "1" {
 		t.Errorf("json: status %d, %d rows, settings %v", status, len(doc.Rows), doc.Settings)
 	}
 	status, _, x := get(t, srv, "/compare?format=xlsx")
@@ -91,8 +92,8 @@ func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
 			t.Errorf("settings sheet lacks %q", k)
 		}
 	}
-	if table, _ := f.GetRows("Comparison"); len(table) != 21 {
-		t.Errorf("comparison sheet has %d rows, want 21", len(table))
+	if table, _ := f.GetRows("Comparison"); len(table) != 1+2*nEv {
+		t.Errorf("comparison sheet has %d rows, want %d", len(table), 1+2*nEv)
 	}
 	for _, fm := range []string{"svg", "png", "pdf"} {
 		if status, _, b := get(t, srv, "/compare?format="+fm); status != http.StatusOK || len(b) < 1000 {
@@ -420,7 +421,8 @@ func TestCompareUnitRowClosedFormThroughThePagePath(t *testing.T) {
 // columns (row_kind, the unit and its mean); rows=units leaves the pulses out; the order matrix takes U
 // codes; units= picks units and a bad one is named.
 func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
-	srv, _ := mustServer(t)
+	srv, db := mustServer(t)
+	nEv := eventsWithinTies(t, db)
 	const q = "/compare?rows=both&units=7,1&n=2000&reps=200&draws=500"
 	status, _, body := get(t, srv, q+"&format=csv")
 	if status != http.StatusOK {
@@ -446,10 +448,10 @@ func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 			}
 		}
 	}
-	if kinds["pulse"] != 20 || kinds["unit"] != 20 {
-		t.Errorf("rows by kind %v, want 20 pulse and 20 unit rows", kinds)
+	if kinds["pulse"] != 2*nEv || kinds["unit"] != 2*nEv {
+		t.Errorf("rows by kind %v, want %d pulse and %d unit rows (2 pulses, 2 units × %d events)", kinds, 2*nEv, 2*nEv, nEv)
 	}
-	if got := recs[1+20][col("unit")]; got != "Haldruna Flow" {
+	if got := recs[1+2*nEv][col("unit")]; got != "Haldruna Flow" {
 		t.Errorf("first unit row is %q, want the first unit chosen (units=7,1: Haldruna Flow)", got)
 	}
 	_, _, js := get(t, srv, q+"&format=json")
@@ -460,7 +462,7 @@ func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 			Items []string `json:"items"`
 		} `json:"order"`
 	}
-	if err := json.Unmarshal([]byte(js), &doc); err != nil || len(doc.Rows) != 40 || doc.Rows[39]["row_kind"] != "unit" || doc.Settings["unit U7"] == "" {
+	if err := json.Unmarshal([]byte(js), &doc); err != nil || len(doc.Rows) != 4*nEv || doc.Rows[4*nEv-1]["row_kind"] != "unit" || doc.Settings["unit U7"] == "" {
 		t.Errorf("json: %v, %d rows, settings %v", err, len(doc.Rows), doc.Settings["unit U7"])
 	}
 	if !slices.Contains(doc.Order.Items, "U7") || !slices.Contains(doc.Order.Items, "P1") {
@@ -473,7 +475,7 @@ func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 	}
 	defer f.Close()
 	sheet, _ := f.GetRows("Comparison")
-	if len(sheet) != 41 || sheet[0][1] != "row_kind" || sheet[40][1] != "unit" {
+	if len(sheet) != 1+4*nEv || sheet[0][1] != "row_kind" || sheet[4*nEv][1] != "unit" {
 		t.Errorf("xlsx: %d rows, header %v", len(sheet), sheet[0])
 	}
 	_, _, page := get(t, srv, q)
@@ -485,8 +487,8 @@ func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 	}
 	_, _, only := get(t, srv, "/compare?rows=units&units=7&n=2000&reps=200&draws=500&sens=0&format=csv&order=U7,E5")
 	recs, _ = csv.NewReader(strings.NewReader(only)).ReadAll()
-	if len(recs) != 11 || slices.ContainsFunc(recs[1:], func(r []string) bool { return r[1] != "unit" }) {
-		t.Errorf("rows=units: %d rows, want 10 unit rows", len(recs)-1)
+	if len(recs) != 1+nEv || slices.ContainsFunc(recs[1:], func(r []string) bool { return r[1] != "unit" }) {
+		t.Errorf("rows=units: %d rows, want %d unit rows", len(recs)-1, nEv)
 	}
 	_, _, js = get(t, srv, "/compare?rows=units&units=7&n=2000&reps=200&draws=500&sens=0&format=json&order=U7,E5")
 	if err := json.Unmarshal([]byte(js), &doc); err != nil || strings.Join(doc.Order.Items, ",") != "U7,E5" {
@@ -779,4 +781,45 @@ func compareLoad(t *testing.T, c *comparer, address string) (*compareData, compa
 		t.Fatal(err)
 	}
 	return d, ch
+}
+
+// eventsWithinTies counts the accepted events whose base and top lie within their section's tie points
+// (lowest to highest), from the stored records: the events a comparison with default choices dates.
+func eventsWithinTies(t *testing.T, db *store.DB) int {
+	t.Helper()
+	ctx := context.Background()
+	secs, err := db.Sections(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := 0
+	for _, sec := range secs {
+		ties, err := db.TiePoints(ctx, sec.ID)
+		if err != nil || len(ties) < 2 {
+			continue
+		}
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, tp := range ties {
+			if tp.ReviewState == store.ReviewAccepted {
+				lo, hi = math.Min(lo, tp.HeightM), math.Max(hi, tp.HeightM)
+			}
+		}
+		evs, _ := db.Events(ctx, sec.ID)
+		for _, ev := range evs {
+			if ev.ReviewState != store.ReviewAccepted || ev.BaseHeightM == nil {
+				continue
+			}
+			top := *ev.BaseHeightM
+			if ev.TopHeightM != nil {
+				top = *ev.TopHeightM
+			}
+			if *ev.BaseHeightM >= lo && top <= hi {
+				n++
+			}
+		}
+	}
+	if n == 0 {
+		t.Fatal("no demo event lies within its section's tie points")
+	}
+	return n
 }

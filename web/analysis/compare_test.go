@@ -42,10 +42,14 @@ func demoUnit(t *testing.T, db *store.DB, name string) (store.Unit, []store.Date
 	t.Helper()
 	ctx := context.Background()
 	ps, err := db.Provinces(ctx)
-	if err != nil || len(ps) == 0 {
+	if err != nil {
 		t.Fatal(err)
 	}
-	units, err := db.Units(ctx, ps[0].ID)
+	k := slices.IndexFunc(ps, func(p store.Province) bool { return p.Name == "Hvarn Plateau Basalts (invented)" })
+	if k < 0 {
+		t.Fatalf("no demo province Hvarn Plateau Basalts among %v", ps)
+	}
+	units, err := db.Units(ctx, ps[k].ID)
 	if err != nil {
 		t.Fatal(err)
 	}

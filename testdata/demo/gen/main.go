@@ -1,7 +1,14 @@
-// Command gen writes coeval's INVENTED demo scenario: one fictional large igneous province
-// (the Hvarn Plateau Basalts) with two eruptive pulses, its dates under several ⁴⁰Ar/³⁹Ar
-// calibrations, and three fictional sedimentary sections that record the same Hg anomaly and
-// carbon-isotope excursion. Nothing in the output is real data.
+// Command gen writes coeval's INVENTED demo scenario: a compilation of four fictional large igneous
+// provinces at different ages — the Hvarn Plateau Basalts (two eruptive pulses, ≈155.4 and 154.7 Ma),
+// the Korrovask Traps (≈167.6 Ma) and two provinces whose pulses overlap in age, the Veldrith
+// Plateau Basalts and the Ymberlaine Sill Complex (≈196.4 Ma) — their dates under several ⁴⁰Ar/³⁹Ar
+// calibrations, and five fictional sedimentary sections: three record the Hvarn event, one the
+// Korrovask event and one an event that either of the two ≈196.4 Ma provinces could explain.
+// Nothing in the output is real data.
+//
+// The first province, its units and dates and the first three sections were the whole scenario
+// once; the later parts are appended after them with random streams of their own, so those first
+// rows stay byte for byte as they were.
 //
 // Usage:
 //
@@ -58,6 +65,7 @@ type calibration struct {
 func calAbsolute() calibration { return calibration{"FCs", 28.294, 5.5305e-10, 0, 0} }
 func calSJ77() calibration     { return calibration{"FCs", 28.02, 5.543e-10, 0, 0} }
 func calKuiper() calibration   { return calibration{"FCs", 28.201, 5.463e-10, 0.023, 0.0535e-10} }
+func calRenne10() calibration  { return calibration{"FCs", 28.305, 5.5492e-10, 0, 0} }
 
 // recalc moves a ⁴⁰Ar/³⁹Ar age from one calibration to another, keeping the sample/monitor ratio
 // (REFERENCES §3): t' = (1/λ')·ln[1 + (e^{λ' t_s'} − 1)·(e^{λ t} − 1)/(e^{λ t_s} − 1)].
@@ -108,6 +116,14 @@ const (
 	pubM98        // Ar/Ar without monitor details
 	pubQ24        // U–Pb zircon, pulse 2
 	pubE23        // U–Pb zircon, ash beds in the sections
+	// Appended for the later provinces and sections (indices continue; the first eight are unchanged).
+	pubL20 // U–Pb zircon and baddeleyite, Korrovask Traps
+	pubC15 // Ar/Ar, FCs 28.305 / Renne 2010, Korrovask and Veldrith
+	pubC09 // Ar/Ar, FCs 28.02 / SJ77, 2σ
+	pubK18 // Ar/Ar, FCs 28.201 / Min 2000, with full external (excess-argon unit)
+	pubL22 // U–Pb zircon and baddeleyite, Veldrith and Ymberlaine
+	pubT24 // Ar/Ar, FCs 28.201 / Min 2000, Ymberlaine sills, awaiting review
+	pubL23 // U–Pb zircon, ash beds of the later sections
 )
 
 func publications() []publication {
@@ -129,6 +145,20 @@ func publications() []publication {
 			doi: doi(7), method: "upb_idtims", sigmaLevel: 2, campaign: "HV-21"},
 		pubE23: {lab: "Ember Ridge Isotope Group", journal: "Invented Stratigraphy Letters 5:12–20", year: 2023,
 			doi: doi(8), method: "upb_idtims", sigmaLevel: 2},
+		pubL20: {lab: "Larchmere Geochronology Centre", journal: "Demo Geochronology 10:40–61", year: 2020,
+			doi: doi(9), method: "upb_idtims", sigmaLevel: 2, campaign: "KV-18"},
+		pubC15: {lab: "Cindervale Noble Gas Laboratory", journal: "Journal of Invented Volcanology 15:88–104", year: 2015,
+			doi: doi(10), method: "arar_plateau", sigmaLevel: 2, cal: calRenne10(), campaign: "CV-13"},
+		pubC09: {lab: "Cindervale Noble Gas Laboratory", journal: "Invented Survey Reports 42:5–33", year: 2009,
+			doi: doi(11), method: "arar_plateau", sigmaLevel: 2, cal: calSJ77(), campaign: "CV-07"},
+		pubK18: {lab: "Driftglass Argon Laboratory", journal: "Bulletin of Demo Geoscience 91:14–30", year: 2018,
+			doi: doi(12), method: "arar_plateau", sigmaLevel: 2, cal: calKuiper(), campaign: "KV-16"},
+		pubL22: {lab: "Larchmere Geochronology Centre", journal: "Demo Geochronology 11:203–226", year: 2022,
+			doi: doi(13), method: "upb_idtims", sigmaLevel: 2, campaign: "CY-20"},
+		pubT24: {lab: "Tallowmere Argon Group", journal: "Invented Stratigraphy Letters 8:1–15", year: 2024,
+			doi: doi(14), method: "arar_plateau", sigmaLevel: 2, cal: calKuiper(), campaign: "YS-23"},
+		pubL23: {lab: "Larchmere Geochronology Centre", journal: "Invented Stratigraphy Letters 7:55–70", year: 2023,
+			doi: doi(15), method: "upb_idtims", sigmaLevel: 2},
 	}
 }
 
@@ -137,13 +167,15 @@ type group struct {
 	pub      int
 	material string
 	n        int
-	tail     int // dates given an inherited-zircon-like older tail
+	tail     int // dates given an older tail (inherited zircon for U–Pb, excess argon for Ar/Ar)
 	reuse    bool
 	pending  int // the first `pending` dates of the group await review
 }
 
 // unit is an invented eruptive or intrusive unit with its true (absolute-scale) age.
 type unit struct {
+	province     string  // set by provinceUnits
+	cLat, cLon   float64 // the province's reference point, set by provinceUnits
 	name, kind   string
 	pos          int     // 0 = no pile position (intrusions)
 	trueMa       float64 // eruption/emplacement age on the U–Pb (absolute) scale
@@ -219,6 +251,92 @@ func units() []unit {
 // Province reference point (deliberately open South Atlantic: not a real locality).
 const provLat, provLon = -47.60, -26.40
 
+// provinceSpec is one of the provinces appended after the Hvarn Plateau Basalts.
+type provinceSpec struct {
+	name, description string
+	lat, lon          float64 // reference point, in open ocean
+	units             []unit
+}
+
+// laterProvinces are the provinces appended after the first. Their ages avoid every well-known real
+// large igneous province and major event (see README): the Korrovask Traps lie in the Bathonian
+// (≈167.6 Ma), the Veldrith Plateau Basalts and the Ymberlaine Sill Complex in the Sinemurian
+// (≈196.4 Ma), their pulses overlapping on purpose.
+func laterProvinces() []provinceSpec {
+	z, bd, pl, gm := "zircon", "baddeleyite", "plagioclase", "groundmass"
+	return []provinceSpec{
+		{name: "Korrovask Traps (invented)", lat: -40.20, lon: -128.60,
+			description: "INVENTED demo province (not real data): a fictional flood-basalt province with one eruptive pulse " +
+				"at about 167.6 Ma (Bathonian), recorded by the Quennard Gill section. Coordinates deliberately point at open ocean " +
+				"(South Pacific).",
+			units: []unit{
+				{name: "Eskelvar Flow Group", kind: "flow_group", pos: 1, trueMa: 167.720, vol: 1500, volSig: 300,
+					notes:  "Invented unit: basal flows of the Korrovask Traps.",
+					groups: []group{{pub: pubL20, material: z, n: 3}}},
+				{name: "Tarrowdune Flow", kind: "flow", pos: 2, trueMa: 167.660, vol: 380, volSig: 80,
+					notes:  "Invented unit: dated in one laboratory under two Ar/Ar calibrations.",
+					groups: []group{{pub: pubC15, material: pl, n: 2}, {pub: pubC09, material: pl, n: 1}}},
+				{name: "Hollinvask Flow Group", kind: "flow_group", pos: 3, trueMa: 167.600, vol: 2700, volSig: 500,
+					notes:  "Invented unit: the most voluminous flow group of the Korrovask Traps; dated by U-Pb and Ar/Ar.",
+					groups: []group{{pub: pubL20, material: z, n: 3}, {pub: pubC15, material: pl, n: 2, reuse: true}}},
+				{name: "Gravenmere Flows", kind: "flow_group", pos: 4, trueMa: 167.540, vol: 900, volSig: 200,
+					notes:  "Invented unit: two plateaus with excess argon (older than the rest).",
+					groups: []group{{pub: pubK18, material: gm, n: 4, tail: 2}}, highScatter: true},
+				{name: "Sundrell Flow", kind: "flow", pos: 5, trueMa: 167.470, vol: 300, volSig: 70,
+					notes:  "Invented unit: youngest flow of the Korrovask Traps.",
+					groups: []group{{pub: pubL20, material: z, n: 2}}},
+				{name: "Vossmark Sill", kind: "sill", trueMa: 167.650, vol: 120, volSig: 30,
+					notes:  "Invented unit: dolerite sill below the lava pile.",
+					groups: []group{{pub: pubL20, material: bd, n: 3}}, interpretAs: "crystallisation"},
+			}},
+		{name: "Veldrith Plateau Basalts (invented)", lat: -31.50, lon: 78.20,
+			description: "INVENTED demo province (not real data): a fictional flood-basalt province with one eruptive pulse " +
+				"at about 196.45 Ma (Sinemurian) that overlaps the pulse of the invented Ymberlaine Sill Complex, so an event " +
+				"of that age has two candidate provinces. Coordinates deliberately point at open ocean (Indian Ocean).",
+			units: []unit{
+				{name: "Aldercrag Flow Group", kind: "flow_group", pos: 1, trueMa: 196.580, vol: 2100, volSig: 400,
+					notes:  "Invented unit: basal flows of the Veldrith Plateau Basalts.",
+					groups: []group{{pub: pubL22, material: z, n: 3}}},
+				{name: "Merrivane Flow", kind: "flow", pos: 2, trueMa: 196.510, vol: 450, volSig: 90,
+					notes:  "Invented unit.",
+					groups: []group{{pub: pubC15, material: pl, n: 2}}},
+				{name: "Fennick Flow Group", kind: "flow_group", pos: 3, trueMa: 196.450, vol: 2400, volSig: 450,
+					notes:  "Invented unit.",
+					groups: []group{{pub: pubL22, material: z, n: 3}}},
+				{name: "Thessrow Flow", kind: "flow", pos: 4, trueMa: 196.380, vol: 400, volSig: 90,
+					notes:  "Invented unit: Ar/Ar dates under two calibrations that agree only after recalculation.",
+					groups: []group{{pub: pubC09, material: pl, n: 2}, {pub: pubK18, material: gm, n: 1}}},
+				{name: "Wrenhallow Flows", kind: "flow_group", pos: 5, trueMa: 196.320, vol: 800, volSig: 180,
+					notes:  "Invented unit: youngest flows of the Veldrith Plateau Basalts.",
+					groups: []group{{pub: pubL22, material: z, n: 2}}},
+				{name: "Brimlock Dyke", kind: "dyke", trueMa: 196.470,
+					notes:  "Invented unit: feeder dyke; volume not estimated.",
+					groups: []group{{pub: pubL22, material: bd, n: 2}}, interpretAs: "crystallisation"},
+			}},
+		{name: "Ymberlaine Sill Complex (invented)", lat: -23.80, lon: 90.60,
+			description: "INVENTED demo province (not real data): a fictional sill province with one pulse of intrusion " +
+				"at about 196.35 Ma (Sinemurian), overlapping the pulse of the invented Veldrith Plateau Basalts. " +
+				"Coordinates deliberately point at open ocean (Indian Ocean).",
+			units: []unit{
+				{name: "Glaswick Sill", kind: "sill", trueMa: 196.460, vol: 300, volSig: 70,
+					notes:  "Invented unit: deepest sill of the complex.",
+					groups: []group{{pub: pubL22, material: bd, n: 3}}, interpretAs: "crystallisation"},
+				{name: "Orrenfall Sill", kind: "sill", trueMa: 196.400, vol: 650, volSig: 140,
+					notes:  "Invented unit: zircon-bearing differentiated sill.",
+					groups: []group{{pub: pubL22, material: z, n: 3}}, interpretAs: "crystallisation"},
+				{name: "Pellacombe Sill", kind: "sill", trueMa: 196.340, vol: 420, volSig: 100,
+					notes:  "Invented unit: dated by U-Pb and Ar/Ar.",
+					groups: []group{{pub: pubL22, material: bd, n: 2}, {pub: pubC15, material: pl, n: 2}}, interpretAs: "crystallisation"},
+				{name: "Hathermoss Sill", kind: "sill", trueMa: 196.280, vol: 380, volSig: 90,
+					notes:  "Invented unit.",
+					groups: []group{{pub: pubL22, material: bd, n: 3}}, interpretAs: "crystallisation"},
+				{name: "Quarrendyke Sill", kind: "sill", trueMa: 196.220, vol: 200, volSig: 50,
+					notes:  "Invented unit: shallowest sill; one date awaits review.",
+					groups: []group{{pub: pubT24, material: pl, n: 2, pending: 1}}, interpretAs: "crystallisation"},
+			}},
+	}
+}
+
 func datesHeader() []string {
 	return []string{"province", "unit", "section", "height_m", "sample_code", "method", "material",
 		"interpretation", "age_ma", "sigma_ma", "sigma_y_ma", "sigma_z_ma", "sigma_level", "tracer", "monitor",
@@ -228,6 +346,7 @@ func datesHeader() []string {
 
 // dateRow is one row of dates.csv before formatting.
 type dateRow struct {
+	province          string
 	unit, section     string
 	heightM           float64
 	sampleCode        string
@@ -256,7 +375,7 @@ func (d dateRow) record() []string {
 		"notes": d.notes,
 	}
 	if d.unit != "" {
-		r["province"] = provinceName
+		r["province"] = d.province
 	} else {
 		r["height_m"] = f(d.heightM, 2)
 	}
@@ -303,13 +422,13 @@ func drawUnit(rng *rand.Rand, u unit, pubs []publication) []dateRow {
 		for _, g := range u.groups {
 			p := pubs[g.pub]
 			for k := 0; k < g.n; k++ {
-				d := dateRow{unit: u.name, pub: p, material: g.material, interp: "eruption",
+				d := dateRow{province: u.province, unit: u.name, pub: p, material: g.material, interp: "eruption",
 					pending: k < g.pending || p.pending}
-				if u.interpretAs != "" {
-					d.interp = u.interpretAs
+				if u.interpretAs != "" && p.method == "upb_idtims" {
+					d.interp = u.interpretAs // an Ar/Ar plateau of an intrusion dates its emplacement
 				}
-				d.lat = provLat + u.latOff + rng.NormFloat64()*0.02
-				d.lon = provLon + u.lonO + rng.NormFloat64()*0.03
+				d.lat = u.cLat + u.latOff + rng.NormFloat64()*0.02
+				d.lon = u.cLon + u.lonO + rng.NormFloat64()*0.03
 				if p.method == "upb_idtims" {
 					lo, hi := 0.03, 0.08
 					if g.material == "baddeleyite" {
@@ -333,6 +452,9 @@ func drawUnit(rng *rand.Rand, u unit, pubs []publication) []dateRow {
 						s2 = 2 * round(s2/2, 3) // published at 1σ with three decimals
 					}
 					d.ageMa, d.sig2 = round(pubAge+rng.NormFloat64()*s2/2, 3), s2
+					if k < g.tail { // excess argon: an older plateau age
+						d.ageMa = round(d.ageMa+pubAge*uniform(rng, 0.8, 1.6)/100, 3)
+					}
 					if p.cal.sigTsMa > 0 {
 						d.sigZ1 = fullExternal(d.ageMa, s2/2, p.cal)
 					}
@@ -448,9 +570,9 @@ func (m ageModel) heightOf(ageMa float64) float64 {
 	panic(fmt.Sprintf("gen: age %.3f outside the section", ageMa))
 }
 
-// hgLoading is the volcanic Hg supply through time (0 before the onset, peak 1).
-func hgLoading(t float64) float64 {
-	x := hgOnsetMa - t
+// hgLoading is the volcanic Hg supply through time (0 before the onset at hgOn, peak 1).
+func hgLoading(t, hgOn float64) float64 {
+	x := hgOn - t
 	switch {
 	case x < 0:
 		return 0
@@ -461,9 +583,10 @@ func hgLoading(t float64) float64 {
 	}
 }
 
-// cieShape is the carbon-isotope excursion through time (0 = background, 1 = full shift).
-func cieShape(t float64) float64 {
-	y := cieOnsetMa - t
+// cieShape is the carbon-isotope excursion through time (0 = background, 1 = full shift), from its
+// onset at cieOn to its recovery at cieEnd.
+func cieShape(t, cieOn, cieEnd float64) float64 {
+	y := cieOn - t
 	switch {
 	case y < 0:
 		return 0
@@ -471,8 +594,8 @@ func cieShape(t float64) float64 {
 		return y / 0.02
 	case y < 0.10:
 		return 1
-	case y < cieOnsetMa-cieEndMa:
-		return 1 - (y-0.10)/(cieOnsetMa-cieEndMa-0.10)
+	case y < cieOn-cieEnd:
+		return 1 - (y-0.10)/(cieOn-cieEnd-0.10)
 	default:
 		return 0
 	}
@@ -519,6 +642,12 @@ type section struct {
 	carbBeds          [][2]float64
 	ties              []tieSpec
 	extinction, bound bool
+	// The event the section records (true ages, Ma) and the publication of its ash-bed dates.
+	hgOn, hgEnd, cieOn, cieEnd float64
+	ashPub                     int
+	// tocDips are height intervals where TOC falls (still above the section's TOC threshold) while raw Hg
+	// stays at background, so only Hg/TOC rises: an anomaly carried by the host alone.
+	tocDips [][2]float64
 }
 
 func sections() []section {
@@ -528,6 +657,7 @@ func sections() []section {
 			notes:    "Invented demo section (the clean one): laminated hemipelagic mudstone; heights = 412.30 m minus core depth.",
 			anchors:  []anchor{{0, 155.98}, {25, 155.74}, {50, 155.47}, {70, 155.30}, {95, 155.05}, {120, 154.84}},
 			n:        240, h0: 0.25, step: 0.5, codePrefix: "VH", style: clean, cieShift: 3.0,
+			hgOn: hgOnsetMa, hgEnd: hgEndMa, cieOn: cieOnsetMa, cieEnd: cieEndMa, ashPub: pubE23,
 			hgMethod: "thermal decomposition AAS", hgDL: 2.0,
 			ties: []tieSpec{
 				{label: "Invented ammonite subzone Hv-D3 (base)", kind: "biostratigraphic", h: 4.0, min: 155.80, max: 156.30,
@@ -541,6 +671,7 @@ func sections() []section {
 			notes:   "Invented demo section: marl–limestone alternation with carbonate-rich beds (TOC < 0.2 wt%).",
 			anchors: []anchor{{0, 155.86}, {30, 155.55}, {45, 155.41}, {60, 155.22}, {90, 154.70}},
 			n:       180, h0: 0.25, step: 0.5, jitter: 0.1, codePrefix: "SK", style: carbonate, cieShift: 2.5,
+			hgOn: hgOnsetMa, hgEnd: hgEndMa, cieOn: cieOnsetMa, cieEnd: cieEndMa, ashPub: pubE23,
 			hgMethod: "direct mercury analyser (thermal decomposition, gold amalgamation, AAS)", hgDL: 2.0,
 			carbBeds: [][2]float64{{8.0, 9.6}, {22.5, 24.1}, {35.0, 36.1}, {63.0, 64.6}, {77.0, 78.6}},
 			ties: []tieSpec{
@@ -556,6 +687,7 @@ func sections() []section {
 			notes:   "Invented demo section: grey shales with an organic-rich black-shale interval (TOC 5–12 wt%).",
 			anchors: []anchor{{0, 155.80}, {24, 155.44}, {34, 155.27}, {60, 154.98}},
 			n:       150, h0: 0.2, step: 0.4, jitter: 0.05, codePrefix: "MC", style: organic, cieShift: 3.5,
+			hgOn: hgOnsetMa, hgEnd: hgEndMa, cieOn: cieOnsetMa, cieEnd: cieEndMa, ashPub: pubE23,
 			hgMethod: "cold-vapour AFS after acid digestion", hgDL: 2.0,
 			ties: []tieSpec{
 				{label: "Invented bivalve zone Hv-B2 (base)", kind: "biostratigraphic", h: 6.0, min: 155.55, max: 155.95,
@@ -563,8 +695,44 @@ func sections() []section {
 				{label: "Ash M-1", kind: "ash", h: 19.2},
 				{label: "Ash M-2", kind: "ash", h: 44.8},
 			}, extinction: true},
+		// Appended: the sections of the later provinces.
+		{name: "Quennard Gill", key: "quennard", kind: "outcrop", lat: -38.10, lon: -123.90, palaeo: -41.5,
+			maturity: "immature (Tmax 426 °C)", tocThr: "0.2",
+			notes: "Invented demo section: silty mudstone recording the invented Korrovask Traps event; a leaner interval " +
+				"(TOC about 0.4–0.55 wt%) below it raises Hg/TOC without any more Hg.",
+			anchors: []anchor{{0, 168.10}, {20, 167.86}, {40, 167.58}, {60, 167.33}, {80, 167.06}},
+			n:       160, h0: 0.25, step: 0.5, jitter: 0.1, codePrefix: "QG", style: clean, cieShift: 2.2,
+			hgOn: 167.62, hgEnd: 167.51, cieOn: 167.61, cieEnd: 167.38, ashPub: pubL23,
+			tocDips:  [][2]float64{{12.0, 14.5}},
+			hgMethod: "direct mercury analyser (thermal decomposition, gold amalgamation, AAS)", hgDL: 2.0,
+			ties: []tieSpec{
+				{label: "Invented ammonite zone Kv-A1 (base)", kind: "biostratigraphic", h: 3.0, min: 167.90, max: 168.30,
+					notes: "invented biozone; age range from the invented regional zonation"},
+				{label: "Ash Q-1", kind: "ash", h: 18.3},
+				{label: "Ash Q-2", kind: "ash", h: 50.4},
+				{label: "Ash Q-3", kind: "ash", h: 72.0},
+			}},
+		{name: "Brisvane-3 Core", key: "brisvane", kind: "core", lat: -27.60, lon: 84.70, palaeo: -38.0,
+			maturity: "immature (Tmax 422 °C)",
+			notes: "Invented demo section: laminated mudstone between the invented Veldrith and Ymberlaine provinces; " +
+				"its Hg anomaly falls where both provinces' pulses overlap in age. Heights = 655.00 m minus core depth.",
+			anchors: []anchor{{0, 196.95}, {30, 196.62}, {55, 196.33}, {90, 195.96}},
+			n:       180, h0: 0.25, step: 0.5, codePrefix: "BV", style: clean, cieShift: 2.8,
+			hgOn: 196.42, hgEnd: 196.31, cieOn: 196.41, cieEnd: 196.19, ashPub: pubL23,
+			hgMethod: "thermal decomposition AAS", hgDL: 2.0,
+			ties: []tieSpec{
+				{label: "Invented ammonite subzone Cy-S4 (base)", kind: "biostratigraphic", h: 4.0, min: 196.75, max: 197.15,
+					notes: "invented biozone; age range from the invented regional zonation"},
+				{label: "Ash B-1", kind: "ash", h: 24.0},
+				{label: "Ash B-2", kind: "ash", h: 59.5},
+				{label: "Ash B-3", kind: "ash", h: 82.0},
+			}},
 	}
 }
+
+// nFirstSections is the number of sections of the first scenario (the Hvarn sections); their ash-bed
+// dates come before the later provinces' dates in dates.csv.
+const nFirstSections = 3
 
 type sample struct {
 	code string
@@ -609,7 +777,7 @@ func genSection(rng *rand.Rand, s section, pubs []publication) sectionOut {
 			for math.Abs(age-truth) > x2 { // keep the ties within 2σ of the truth
 				age, x2 = drawUPb(rng, truth, 0.03, 0.05)
 			}
-			d := dateRow{section: s.name, heightM: ts.h, sampleCode: code, pub: pubs[pubE23], material: "zircon",
+			d := dateRow{section: s.name, heightM: ts.h, sampleCode: code, pub: pubs[s.ashPub], material: "zircon",
 				interp: "deposition", ageMa: age, sig2: x2, lat: s.lat, lon: s.lon, upb: true,
 				notes: fmt.Sprintf("bentonite at %.2f m; weighted mean of %d single-zircon CA-ID-TIMS dates", ts.h, 5+rng.IntN(4))}
 			out.ashDates = append(out.ashDates, d)
@@ -647,7 +815,7 @@ func genSection(rng *rand.Rand, s section, pubs []publication) sectionOut {
 	}
 	out.meas = append(out.meas, header)
 	for i, p := range smp {
-		v, c := hgLoading(p.t), cieShape(p.t)
+		v, c := hgLoading(p.t, s.hgOn), cieShape(p.t, s.cieOn, s.cieEnd)
 		var toc, ratio, hg, d13c float64
 		var extra []string
 		switch s.style {
@@ -655,6 +823,10 @@ func genSection(rng *rand.Rand, s section, pubs []publication) sectionOut {
 			toc = clamp(1.85*math.Exp(0.17*a1[i]), 0.6, 2.9)
 			ratio = 24 * math.Exp(0.14*a2[i]) * (1 + 3.5*v)
 			hg = toc * ratio
+			if inBeds(p.h, s.tocDips) { // less organic matter, the same Hg: only the ratio rises
+				hg = 1.85 * 24 * math.Exp(0.14*a2[i])
+				toc = uniform(rng, 0.38, 0.55)
+			}
 			d13c = -26.9 + 0.22*a3[i] + 0.08*rng.NormFloat64() - s.cieShift*c
 		case carbonate:
 			toc = clamp(0.85*math.Exp(0.28*a1[i]), 0.5, 1.6)
@@ -671,8 +843,8 @@ func genSection(rng *rand.Rand, s section, pubs []publication) sectionOut {
 			extra = []string{f(carb, 2), "0.05"}
 		case organic:
 			var ts, al float64
-			if p.t <= hgOnsetMa && p.t >= hgEndMa { // black shale
-				fr := (hgOnsetMa - p.t) / (hgOnsetMa - hgEndMa)
+			if p.t <= s.hgOn && p.t >= s.hgEnd { // black shale
+				fr := (s.hgOn - p.t) / (s.hgOn - s.hgEnd)
 				toc = clamp((5.3+6.2*math.Pow(math.Sin(math.Pi*fr), 0.6))*math.Exp(0.06*a1[i]), 5.1, 11.8)
 				ts = 2.0 + 0.15*toc + 0.2*rng.NormFloat64()
 				al = 8.3*(1-toc/22) + 0.15*rng.NormFloat64()
@@ -724,9 +896,9 @@ func genSection(rng *rand.Rand, s section, pubs []publication) sectionOut {
 		hgNote = "raw Hg elevated within the black shale; Hg/TOC stays flat (high-TOC masking), Hg/Al rises"
 	}
 	out.events = append(out.events,
-		[]string{hgName, "hg_anomaly", f(first(hgOnsetMa), 2), f(last(hgEndMa), 2), hgNote},
-		[]string{"CIE onset", "cie_onset", f(first(cieOnsetMa), 2), "", fmt.Sprintf("negative δ13C_org shift of about %.1f ‰", s.cieShift)},
-		[]string{"CIE", "cie", f(first(cieOnsetMa), 2), f(last(cieEndMa), 2), "from onset to recovery of δ13C_org"},
+		[]string{hgName, "hg_anomaly", f(first(s.hgOn), 2), f(last(s.hgEnd), 2), hgNote},
+		[]string{"CIE onset", "cie_onset", f(first(s.cieOn), 2), "", fmt.Sprintf("negative δ13C_org shift of about %.1f ‰", s.cieShift)},
+		[]string{"CIE", "cie", f(first(s.cieOn), 2), f(last(s.cieEnd), 2), "from onset to recovery of δ13C_org"},
 	)
 	if s.extinction {
 		out.events = append(out.events, []string{"Invented bivalve–ammonite turnover", "extinction",
@@ -764,6 +936,17 @@ func run(dir string, seed uint64) error {
 	stream := func(id uint64) *rand.Rand { return rand.New(rand.NewPCG(seed, id)) }
 	pubs := publications()
 	us := units()
+	for i := range us {
+		us[i].province, us[i].cLat, us[i].cLon = provinceName, provLat, provLon
+	}
+	later := laterProvinces()
+	var lus []unit // the later provinces' units, in province order
+	for _, p := range later {
+		for _, u := range p.units {
+			u.province, u.cLat, u.cLon = p.name, p.lat, p.lon
+			lus = append(lus, u)
+		}
+	}
 	ss := sections()
 
 	files := map[string][][]string{}
@@ -778,6 +961,9 @@ func run(dir string, seed uint64) error {
 		"INVENTED demo province (not real data): a fictional continental flood-basalt province with two eruptive " +
 			"pulses, about 155.40 Ma (Oxfordian) and 154.70 Ma (across the Oxfordian–Kimmeridgian boundary), " +
 			"separated by a quiet interval of about 0.5 Myr. Coordinates deliberately point at open ocean."}})
+	for _, p := range later {
+		files["provinces.csv"] = append(files["provinces.csv"], []string{p.name, p.description})
+	}
 
 	rng := stream(1)
 	uRows := [][]string{{"province", "unit", "kind", "pile_position", "volume_km3", "volume_sigma_km3",
@@ -795,6 +981,20 @@ func run(dir string, seed uint64) error {
 		uRows = append(uRows, []string{provinceName, u.name, u.kind, pos, vol, vs,
 			f(provLat+u.latOff, 3), f(provLon+u.lonO, 3), u.notes})
 	}
+	rng = stream(3) // the later provinces' units
+	for i := range lus {
+		lus[i].latOff, lus[i].lonO = uniform(rng, -0.4, 0.4), uniform(rng, -0.6, 0.6)
+		u := lus[i]
+		pos, vol, vs := "", "", ""
+		if u.pos > 0 {
+			pos = strconv.Itoa(u.pos)
+		}
+		if u.vol > 0 {
+			vol, vs = f(u.vol, 0), f(u.volSig, 0)
+		}
+		uRows = append(uRows, []string{u.province, u.name, u.kind, pos, vol, vs,
+			f(u.cLat+u.latOff, 3), f(u.cLon+u.lonO, 3), u.notes})
+	}
 	add("units", "", "units.csv", uRows)
 
 	sRows := [][]string{{"section", "kind", "latitude", "longitude", "palaeolatitude", "thermal_maturity",
@@ -805,36 +1005,46 @@ func run(dir string, seed uint64) error {
 	add("sections", "", "sections.csv", sRows)
 
 	// Dates of units: sample codes are numbered per sampling campaign after every draw is final.
-	rng = stream(2)
-	var dates []dateRow
 	next := map[string]int{}
-	for _, u := range us {
-		rows := drawUnit(rng, u, pubs)
-		var reuse []string
-		k := 0
-		for _, g := range u.groups {
-			p := pubs[g.pub]
-			for j := 0; j < g.n; j++ {
-				d := &rows[k]
-				if g.reuse && j < len(reuse) {
-					d.sampleCode = reuse[j]
-					d.notes += "; same rock sample as the U-Pb date"
-				} else {
-					next[p.campaign]++
-					d.sampleCode = fmt.Sprintf("%s-%02d", p.campaign, next[p.campaign])
+	unitDates := func(rng *rand.Rand, us []unit) []dateRow {
+		var dates []dateRow
+		for _, u := range us {
+			rows := drawUnit(rng, u, pubs)
+			var reuse []string
+			k := 0
+			for _, g := range u.groups {
+				p := pubs[g.pub]
+				for j := 0; j < g.n; j++ {
+					d := &rows[k]
+					if g.reuse && j < len(reuse) {
+						d.sampleCode = reuse[j]
+						d.notes += "; same rock sample as the U-Pb date"
+					} else {
+						next[p.campaign]++
+						d.sampleCode = fmt.Sprintf("%s-%02d", p.campaign, next[p.campaign])
+					}
+					if d.upb {
+						reuse = append(reuse, d.sampleCode)
+					}
+					k++
 				}
-				if d.upb {
-					reuse = append(reuse, d.sampleCode)
-				}
-				k++
 			}
+			dates = append(dates, rows...)
 		}
-		dates = append(dates, rows...)
+		return dates
 	}
-
+	// dates.csv: the Hvarn units, the ash beds of the first sections, then the later provinces' units
+	// and the ash beds of the later sections.
+	dates := unitDates(stream(2), us)
 	secOut := make([]sectionOut, len(ss))
 	for i, s := range ss {
 		secOut[i] = genSection(stream(10+uint64(i)), s, pubs)
+		if i < nFirstSections {
+			dates = append(dates, secOut[i].ashDates...)
+		}
+	}
+	dates = append(dates, unitDates(stream(4), lus)...)
+	for i := nFirstSections; i < len(ss); i++ {
 		dates = append(dates, secOut[i].ashDates...)
 	}
 	dRows := [][]string{datesHeader()}
