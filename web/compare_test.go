@@ -27,7 +27,7 @@ import (
 // declared columns; the JSON parses; the XLSX opens with excelize's reader and has the settings sheet.
 func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
 	srv, db := mustServer(t)
-	nEv := eventsWithinTies(t, db)
+	nEv := eventsWithinTies(t, db, 1)
 	status, _, body := get(t, srv, "/compare")
 	if status != http.StatusOK {
 		t.Fatalf("status %d: %.500s", status, body)
@@ -422,7 +422,7 @@ func TestCompareUnitRowClosedFormThroughThePagePath(t *testing.T) {
 // codes; units= picks units and a bad one is named.
 func TestCompareUnitRowsInDownloadsAndPage(t *testing.T) {
 	srv, db := mustServer(t)
-	nEv := eventsWithinTies(t, db)
+	nEv := eventsWithinTies(t, db, 1)
 	const q = "/compare?rows=both&units=7,1&n=2000&reps=200&draws=500"
 	status, _, body := get(t, srv, q+"&format=csv")
 	if status != http.StatusOK {
@@ -785,17 +785,35 @@ func compareLoad(t *testing.T, c *comparer, address string) (*compareData, compa
 
 // eventsWithinTies counts the accepted events whose base and top lie within their section's tie points
 // (lowest to highest), from the stored records: the events a comparison with default choices dates.
-func eventsWithinTies(t *testing.T, db *store.DB) int {
+func eventsWithinTies(t *testing.T, db *store.DB, province int64) int {
 	t.Helper()
 	ctx := context.Background()
 	secs, err := db.Sections(ctx)
 	if err != nil {
 		t.Fatal(err)
 	}
+	ds, _, err := db.Dates(ctx, store.DateFilter{ProvinceID: province})
+	if err != nil {
+		t.Fatal(err)
+	}
+	young, old := math.Inf(1), math.Inf(-1)
+	for _, d := range ds {
+		young, old = math.Min(young, d.AgeMa), math.Max(old, d.AgeMa)
+	}
+	// With no section chosen, the sections compared are those with a tie point within 5 Ma of the
+	// province's dates.
+	near := func(ties []store.TiePoint) bool {
+		for _, tp := range ties {
+			if tp.AgeMa != nil && *tp.AgeMa >= young-5 && *tp.AgeMa <= old+5 {
+				return true
+			}
+		}
+		return false
+	}
 	n := 0
 	for _, sec := range secs {
 		ties, err := db.TiePoints(ctx, sec.ID)
-		if err != nil || len(ties) < 2 {
+		if err != nil || len(ties) < 2 || !near(ties) {
 			continue
 		}
 		lo, hi := math.Inf(1), math.Inf(-1)

@@ -266,7 +266,7 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 		sel("rows", "Table rows", ch.Rows, "pulses", "pulses", "units", "single units", "both", "pulses and units"),
 		text("pulses", "Pulses", "all (e.g. P1,P2)"),
 		text("units", "Units", "all with a mean (ids)"),
-		text("sections", "Sections", "all (ids, e.g. 1,3)"),
+		text("sections", "Sections", "those near the province in age (ids, e.g. 1,3)"),
 		text("events", "Events", "all (ids)"),
 		sel("group", "Correlated group", group, kinds...),
 		{Name: "delta", Label: "δ (Ma)", Kind: "number", Value: num(ch.DeltaMa), Step: "any"},

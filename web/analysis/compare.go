@@ -6,6 +6,7 @@ import (
 	"context"
 	"fmt"
 	"slices"
+	"strings"
 	"time"
 )
 
@@ -39,6 +40,14 @@ func Compare(ctx context.Context, d *CompareData, o CompareOptions) (*Comparison
 		return nil, err
 	}
 	res.cautions(d, o)
+	if len(d.SectionsAway) > 0 {
+		var names []string
+		for _, sec := range d.SectionsAway {
+			names = append(names, sec.Name)
+		}
+		res.Notes = append(res.Notes, fmt.Sprintf("With no section chosen, the sections compared are those with a tie point within %g Ma of the province's dates. Left out as too far in age: %s. Name them under Sections to compare them anyway.",
+			SectionReachMa, strings.Join(names, ", ")))
+	}
 	rows := 0
 	if o.UnitRows() {
 		rows = len(res.In.UnitRows)

@@ -290,3 +290,80 @@ func TestSensitivitySetsOfTheDemo(t *testing.T) {
 		t.Errorf("with anomalies and no section event: %v", got)
 	}
 }
+
+// With no section chosen, a province is compared with the sections that have a tie point whose age
+// comes within SectionReachMa of its dates, and no other; the others are named in a note. Expected from
+// the stored records, for every province of the demo (a compilation spanning 155–197 Ma, where comparing
+// every section with every province would set 40-Ma-distant events beside each pulse).
+func TestDefaultSectionsAreThoseNearTheProvinceInAge(t *testing.T) {
+	db := demoDB(t)
+	ctx := context.Background()
+	provs, err := db.Provinces(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	secs, err := db.Sections(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	away := 0
+	for _, p := range provs {
+		ds, _, err := db.Dates(ctx, store.DateFilter{ProvinceID: p.ID})
+		if err != nil {
+			t.Fatal(err)
+		}
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, d := range ds {
+			lo, hi = math.Min(lo, d.AgeMa), math.Max(hi, d.AgeMa)
+		}
+		var want []string
+		for _, s := range secs {
+			ties, err := db.TiePoints(ctx, s.ID)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, tp := range ties {
+				a := math.NaN()
+				switch {
+				case tp.AgeMa != nil:
+					a = *tp.AgeMa
+				case tp.AgeMinMa != nil && tp.AgeMaxMa != nil:
+					a = (*tp.AgeMinMa + *tp.AgeMaxMa) / 2
+				}
+				if a >= lo-5 && a <= hi+5 {
+					want = append(want, s.Name)
+					break
+				}
+			}
+		}
+		o := DefaultCompareOptions()
+		o.ProvinceID = p.ID
+		d, err := LoadCompareData(ctx, db, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got []string
+		for _, s := range d.Sections {
+			got = append(got, s.Name)
+		}
+		if !slices.Equal(got, want) {
+			t.Errorf("%s (dates %.2f–%.2f Ma): sections %v, want %v", p.Name, lo, hi, got, want)
+		}
+		if len(got)+len(d.SectionsAway) != len(secs) {
+			t.Errorf("%s: %d sections compared and %d left out, of %d", p.Name, len(got), len(d.SectionsAway), len(secs))
+		}
+		away += len(d.SectionsAway)
+		if len(d.SectionsAway) > 0 {
+			res, err := Compare(ctx, d, o)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.ContainsFunc(res.Notes, func(n string) bool { return strings.Contains(n, d.SectionsAway[0].Name) }) {
+				t.Errorf("%s: no note names the section left out, %s", p.Name, d.SectionsAway[0].Name)
+			}
+		}
+	}
+	if away == 0 {
+		t.Fatal("no province left a section out: the demo does not exercise the rule")
+	}
+}

@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"slices"
 
 	"coeval/stats"
@@ -38,6 +39,9 @@ type CompareData struct {
 	// Calibration is the calibration the options chose (by code; the target without one), as stored in
 	// the snapshot.
 	Calibration stats.Calibration
+	// SectionsAway are the sections left out of a comparison that chose none because none of their tie
+	// points' ages comes within SectionReachMa of the province's dates (DefaultSections).
+	SectionsAway []store.Section
 }
 
 // reviewedEvents keeps the events the review choice lets into the comparison (as for dates and ties) and
@@ -74,10 +78,16 @@ func LoadCompareData(ctx context.Context, src SnapshotReader, o CompareOptions) 
 	d := &CompareData{Samples: map[int64][]store.Sample{}, Ties: map[int64][]store.TiePoint{}, TiesOut: map[int64][]store.TiePoint{},
 		Events: map[int64][]store.Event{}, Hiatuses: map[int64][]store.Hiatus{}, TieIns: map[int64][]TieInput{}, LinkDates: map[int64]store.Date{}}
 	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
-		if err := d.readSectionEvents(ctx, s, o); err != nil {
+		// Chosen sections: their events are counted against the limit before the province's dates are
+		// read. None chosen: the province's dates decide which sections come near enough.
+		first, then := d.readSectionEvents, d.readProvince
+		if len(o.SectionIDs) == 0 {
+			first, then = d.readProvince, d.readSectionEvents
+		}
+		if err := first(ctx, s, o); err != nil {
 			return err
 		}
-		if err := d.readProvince(ctx, s, o); err != nil {
+		if err := then(ctx, s, o); err != nil {
 			return err
 		}
 		if err := d.readSectionData(ctx, s); err != nil {
@@ -158,15 +168,20 @@ func (d *CompareData) readSectionEvents(ctx context.Context, s *store.Snapshot, 
 		return bad
 	}
 	include := o.Density.Summary.Include
+	lo, hi, near := d.datesReach()
 	for _, sec := range all {
 		if len(o.SectionIDs) > 0 && !slices.Contains(o.SectionIDs, sec.ID) {
 			continue
 		}
-		d.Sections = append(d.Sections, sec)
 		ties, err := s.TiePoints(ctx, sec.ID)
 		if err != nil {
 			return err
 		}
+		if len(o.SectionIDs) == 0 && near && !tiesReach(ties, lo, hi) {
+			d.SectionsAway = append(d.SectionsAway, sec)
+			continue
+		}
+		d.Sections = append(d.Sections, sec)
 		// The age models rest on the ties the review choice (as for the dates) lets in.
 		d.Ties[sec.ID], d.TiesOut[sec.ID] = PartitionReviewed(include, ties, TieState)
 		evs, err := s.Events(ctx, sec.ID)
@@ -179,6 +194,38 @@ func (d *CompareData) readSectionEvents(ctx context.Context, s *store.Snapshot, 
 		return &OptionError{Option: "EventIDs", Problem: fmt.Sprintf("at least %d events chosen, at most %d (choose with events= or sections=)", n, MaxCompareEvents)}
 	}
 	return nil
+}
+
+// SectionReachMa is how far from a province's dates (in Ma) a section's tie points may lie for the section
+// to be compared with the province when no section is chosen. An event's answer looks as far
+// (eventanswer.go).
+const SectionReachMa = 5.0
+
+// datesReach is the span of the province's dates widened by SectionReachMa on each side; near is false
+// when the province has no dates (every section is then kept).
+func (d *CompareData) datesReach() (lo, hi float64, near bool) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, dt := range d.Dates {
+		lo, hi = math.Min(lo, dt.AgeMa), math.Max(hi, dt.AgeMa)
+	}
+	if lo > hi {
+		return 0, 0, false
+	}
+	return lo - SectionReachMa, hi + SectionReachMa, true
+}
+
+// tiesReach says whether any tie point's age (its value, or its range) lies within [lo, hi] Ma. A section
+// without an aged tie cannot place its events in time and is left out too.
+func tiesReach(ties []store.TiePoint, lo, hi float64) bool {
+	for _, t := range ties {
+		switch {
+		case t.AgeMa != nil && *t.AgeMa >= lo && *t.AgeMa <= hi:
+			return true
+		case t.AgeMinMa != nil && t.AgeMaxMa != nil && *t.AgeMaxMa >= lo && *t.AgeMinMa <= hi:
+			return true
+		}
+	}
+	return false
 }
 
 // readSectionData reads the chosen sections' samples, hiatuses and the dates their ties are linked to
