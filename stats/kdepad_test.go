@@ -3,6 +3,7 @@ package stats
 import (
 	"fmt"
 	"math"
+	"slices"
 	"testing"
 )
 
@@ -48,5 +49,148 @@ func BenchmarkKDEOn2048(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// closedFormKDE is the Gaussian kernel sum f(x) = (1/n)·Σᵢ exp(−½((x − xᵢ)/h)²)/(h√(2π)) at each
+// of at, term by term (REFERENCES §4): the exact value the binned KDE approximates.
+func closedFormKDE(ages []float64, h float64, at []float64) []float64 {
+	out := make([]float64, len(at))
+	c := 1 / (float64(len(ages)) * h * math.Sqrt(2*math.Pi))
+	for j, x := range at {
+		var s float64
+		for _, a := range ages {
+			z := (x - a) / h
+			s += math.Exp(-0.5 * z * z)
+		}
+		out[j] = c * s
+	}
+	return out
+}
+
+// TestBinnedMatchesClosedForm: the KDE on the automatic 2,048-point grid against the closed-form
+// Gaussian kernel sum at the grid ages, for n = 10³…10⁶ and h = Scott's rule ×¼, ×1, ×4.
+//
+// The bound: linear binning replaces each kernel K(x − xᵢ) by its linear interpolant between the
+// two grid ages around xᵢ, which is off by at most dx²/8·max|K”| = (dx/h)²/8·φ(0)/h (the
+// interpolation error of a function with bounded second derivative; |K”| peaks at the kernel's
+// centre, φ(0)/h³); EvalGrid refines the grid until dx ≤ h/16 (or sums directly). Dropping dates
+// beyond the kernel's reach and the wrapped images of the circular convolution add at most
+// 2·φ(8)/φ(0)·φ(0)/h, and the FFT's rounding is allowed 1e-12·φ(0)/h. So
+//
+//	max |f̂ − f| ≤ (min(dx/h, 1/16)²/8 + 2e^−32 + 1e-12) · φ(0)/h.
+//
+// The exact sum is taken at every grid age for n ≤ 10⁴ and at evenly spread subsets of 10⁷/n ages
+// for larger n (its cost is n per age).
+func TestBinnedMatchesClosedForm(t *testing.T) {
+	for _, n := range []int{1_000, 10_000, 100_000, 1_000_000} {
+		if testing.Short() && n > 10_000 {
+			continue
+		}
+		ages := quantileAges(n)
+		for _, scale := range []float64{0.25, 1, 4} {
+			h := scale * scottMa(n)
+			t.Run(fmt.Sprintf("n=%d/h=%.4g", n, h), func(t *testing.T) {
+				d, err := KDE(ages, KDEOptions{Bandwidth: BandwidthOptions{Rule: RuleUser, UserMa: h}, Grid: AgeGrid{Points: 2048}})
+				if err != nil {
+					t.Fatal(err)
+				}
+				stride := max(1, n*len(d.GridMa)/10_000_000)
+				var at, got []float64
+				for j := 0; j < len(d.GridMa); j += stride {
+					at = append(at, d.GridMa[j])
+					got = append(got, d.Density[j])
+				}
+				exact := closedFormKDE(ages, h, at)
+				dx := d.GridMa[1] - d.GridMa[0]
+				r := math.Min(dx/h, 1.0/16)
+				kernelPeak := 1 / (h * math.Sqrt(2*math.Pi))
+				bound := (r*r/8 + 2*math.Exp(-32) + 1e-12) * kernelPeak
+				peak := slices.Max(exact)
+				var worst, worstRel float64
+				for j := range exact {
+					e := math.Abs(got[j] - exact[j])
+					worst = math.Max(worst, e)
+					if exact[j] >= 1e-3*peak {
+						worstRel = math.Max(worstRel, e/exact[j])
+					}
+				}
+				if worst > bound {
+					t.Errorf("max |f̂ − f| = %.3g, want ≤ %.3g ((dx/h)²/8 = %.3g of a kernel's peak, h = %.1f steps)",
+						worst, bound, r*r/8, h/dx)
+				}
+				t.Logf("h = %.4g Ma = %.1f steps, %d ages checked: max |f̂ − f| = %.2e (%.2e of the peak %.4g; bound %.2e), max relative where f ≥ 1e-3·peak %.2e",
+					h, h/dx, len(at), worst, worst/peak, peak, bound, worstRel)
+			})
+		}
+	}
+}
+
+// TestBinnedPaddingBound checks the padding alone: with every date on a grid age, linear binning is
+// exact, so the binned KDE differs from the closed-form sum only by the kernels' truncation at 8
+// bandwidths and the wrapped images of the circular convolution, at most 2·e^−32·φ(0)/h, and by
+// rounding (allowed 1e-13·φ(0)/h). A transform shorter than the kernel's reach lets wrapped images
+// closer (at 7h one adds e^−24.5 ≈ 2e-11 of a kernel's peak), which this would catch. Dates lie
+// inside the grid, beyond either end within reach, and beyond reach. On an automatic grid (dates
+// 4h inside either end) the transform is at most the grid plus 4h (rounded up to a fast length).
+func TestBinnedPaddingBound(t *testing.T) {
+	const points = 1000
+	g := AgeGrid{MinMa: 100, MaxMa: 100 + float64(points-1)*0.01, Points: points} // step 0.01 Ma
+	dx := g.StepMa()
+	onGrid := func(steps ...int) []float64 {
+		x := make([]float64, len(steps))
+		for i, s := range steps {
+			x[i] = g.MinMa + float64(s)*dx
+		}
+		return x
+	}
+	for _, tt := range []struct {
+		name  string
+		h     float64 // in steps
+		steps []int   // dates, in steps from MinMa
+	}{
+		{"inside", 20, []int{60, 100, 101, 500, 930}},
+		{"both ends", 20, []int{0, 999, 5, 990}},
+		{"beyond both ends within reach", 20, []int{-150, -20, 1010, 1150, 400}},
+		{"beyond reach", 20, []int{-161, -400, 1170, 500}},
+		{"wide kernel", 200, []int{-1000, 300, 1200, 2500}},
+		{"one end only", 30, []int{990, 1100, 1200}},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			ages := onGrid(tt.steps...)
+			h := tt.h * dx
+			m := Mixture{AgeMa: ages, BandwidthMa: []float64{h}}
+			got := make([]float64, points)
+			if !m.binned(got, 1, g, float64(len(ages)), new(kdeScratch)) {
+				t.Fatal("binned refused the grid")
+			}
+			exact := closedFormKDE(ages, h, g.AgesMa())
+			kernelPeak := 1 / (h * math.Sqrt(2*math.Pi))
+			bound := (2*math.Exp(-32) + 1e-13) * kernelPeak
+			var worst float64
+			for j := range exact {
+				worst = math.Max(worst, math.Abs(got[j]-exact[j]))
+			}
+			if worst > bound {
+				t.Errorf("max |f̂ − f| = %.3g = %.3g of a kernel's peak, want ≤ %.3g", worst, worst/kernelPeak, bound/kernelPeak)
+			}
+		})
+	}
+	// The automatic grid's transform: the grid plus 4h (not 2·8h).
+	for _, n := range []int{1_000, 100_000} {
+		ages := quantileAges(n)
+		h := scottMa(n)
+		d, err := KDE(ages, KDEOptions{Bandwidth: BandwidthOptions{Rule: RuleUser, UserMa: h}, Grid: AgeGrid{Points: 2048}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		g := AgeGrid{MinMa: d.GridMa[0], MaxMa: d.GridMa[len(d.GridMa)-1], Points: len(d.GridMa)}
+		lay, ok := Mixture{AgeMa: ages, BandwidthMa: []float64{h}}.binLayout(g, new(kdeScratch))
+		if !ok {
+			t.Fatal("binLayout refused the grid")
+		}
+		if want := fastFFTLen(g.Points + int(math.Ceil(4*h/g.StepMa())) + 2); lay.size > want {
+			t.Errorf("n = %d: padded length %d for %d points and h = %.1f steps, want ≤ %d", n, lay.size, g.Points, h/g.StepMa(), want)
+		}
 	}
 }
