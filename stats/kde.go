@@ -456,30 +456,46 @@ func (m Mixture) binLayout(g AgeGrid, sc *kdeScratch) (binnedLayout, bool) {
 		return binnedLayout{}, false
 	}
 	// The transform's length is at most fastFFTLen(inner) (see below): room for it up front.
-	sc.bins = resize(sc.bins, fastFFTLen(inner))
-	bins := sc.bins[:inner]
+	sc.bins = resize(sc.bins, max(fastFFTLen(inner), inner+1))
+	// bins[inner] takes the zero share of a date exactly at the last bin, so no date needs a branch.
+	bins := sc.bins[:inner+1]
 	clear(bins)
 	origin := g.MinMa - float64(l)*dx
+	inv := 1 / dx
 	last := float64(inner - 1)
-	a, b := inner, -1 // occupied bins, in steps from origin
-	for i, x := range m.AgeMa {
-		pos := (x - origin) / dx
-		if !(pos >= 0 && pos <= last) {
-			continue // beyond the reach of every grid point
+	if m.Weight == nil {
+		for _, x := range m.AgeMa {
+			pos := (x - origin) * inv
+			if !(pos >= 0 && pos <= last) {
+				continue // beyond the reach of every grid point
+			}
+			j := int(pos)
+			frac := pos - float64(j)
+			bins[j] += 1 - frac
+			bins[j+1] += frac
 		}
-		w := m.weight(i)
-		j := int(pos)
-		a, b = min(a, j), max(b, j+1)
-		if j == inner-1 {
-			bins[j] += w
-			continue
+	} else {
+		for i, x := range m.AgeMa {
+			pos := (x - origin) * inv
+			if !(pos >= 0 && pos <= last) {
+				continue
+			}
+			w := m.Weight[i]
+			j := int(pos)
+			frac := pos - float64(j)
+			bins[j] += w * (1 - frac)
+			bins[j+1] += w * frac
 		}
-		frac := pos - float64(j)
-		bins[j] += w * (1 - frac)
-		bins[j+1] += w * frac
 	}
-	b = min(b, inner-1)
-	if b < a { // no date within reach: the density is 0 on the grid
+	// The occupied bins a…b (weights are ≥ 0, so a bin holding weight is not 0).
+	a, b := 0, inner-1
+	for a < inner && bins[a] == 0 {
+		a++
+	}
+	for b > a && bins[b] == 0 {
+		b--
+	}
+	if a == inner { // no weight within reach: the density is 0 on the grid
 		a, b = l, l
 	}
 	// Keep the occupied bins and the grid: indices lo…hi of bins (the grid is l…l+P−1).
