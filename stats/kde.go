@@ -228,10 +228,11 @@ func (m Mixture) Eval(atMa []float64) ([]float64, error) {
 // EvalGrid returns f on the grid g. When that costs at most 8192 kernel terms, or the
 // bandwidths differ between dates, it sums each kernel over the grid ages within 12 bandwidths of
 // its date (exact to rounding). Otherwise it bins the dates linearly onto the grid (refined, when
-// needed, so that h spans at least 16 steps) padded by 10 bandwidths and convolves with the
-// sampled kernel by a zero-padded FFT (no wrap-around), which agrees with Eval to about 1e-4 of
-// the peak. Dates far outside the grid still count in Σwᵢ, so a window shows its share of the
-// density.
+// needed, so that h spans at least 16 steps) and convolves with the sampled kernel by an FFT padded
+// only as far as the kernel reaches (no wrapped image within 8 bandwidths of a grid age), which
+// agrees with Eval to about 1e-4 of the peak (at most (dx/h)²/8 of one kernel's peak:
+// TestBinnedMatchesClosedForm). Dates far outside the grid still count in Σwᵢ, so a window shows
+// its share of the density.
 func (m Mixture) EvalGrid(g AgeGrid) ([]float64, error) {
 	sumW, err := m.validate()
 	if err != nil {
@@ -259,15 +260,13 @@ func (m Mixture) evalGrid(dst []float64, g AgeGrid, sumW float64, sc *kdeScratch
 }
 
 // kdeScratch is what repeated binned KDEs reuse: an FFT plan per padded length, the buffer, and
-// the kernel's spectrum per padded length for the last bandwidth and step. The results are the same
+// the kernel's spectrum per padded length for the last bandwidth and step there. The results are the same
 // as with fresh ones (a plan's twiddle factors depend on the length alone). Not safe for concurrent
 // use: one per goroutine. The zero value is ready.
 type kdeScratch struct {
-	plans map[int]*rfft.Plan
-	bins  []float64
-	// kernels[size][k] = exp(−½(2πhk/(dx·size))²) for kernelH, kernelDx.
-	kernels           map[int][]float64
-	kernelH, kernelDx float64
+	plans   map[int]*rfft.Plan
+	bins    []float64
+	kernels map[int]*kernelSpectrum
 }
 
 // maxScratchLengths bounds the padded lengths a kdeScratch keeps plans and spectra for; past it
@@ -299,24 +298,30 @@ func (sc *kdeScratch) plan(size int) *rfft.Plan {
 
 // kernelSpectrum returns exp(−½(hθ_k/dx)²) for θ_k = 2πk/size, k = 0..size/2.
 func (sc *kdeScratch) kernelSpectrum(h, dx float64, size int) []float64 {
-	if sc.kernelH != h || sc.kernelDx != dx {
-		sc.kernels = nil
-		sc.kernelH, sc.kernelDx = h, dx
+	e, ok := sc.kernels[size]
+	if ok && e.h == h && e.dx == dx {
+		return e.k
 	}
-	if k, ok := sc.kernels[size]; ok {
-		return k
+	if !ok {
+		if sc.kernels == nil || len(sc.kernels) >= maxScratchLengths {
+			sc.kernels = map[int]*kernelSpectrum{}
+		}
+		e = &kernelSpectrum{k: make([]float64, size/2+1)}
+		sc.kernels[size] = e
 	}
-	if sc.kernels == nil || len(sc.kernels) >= maxScratchLengths {
-		sc.kernels = map[int][]float64{}
-	}
-	k := make([]float64, size/2+1)
+	e.h, e.dx = h, dx
 	a := 2 * math.Pi * h / (dx * float64(size))
-	for i := range k {
+	for i := range e.k {
 		z := a * float64(i)
-		k[i] = math.Exp(-0.5 * z * z)
+		e.k[i] = math.Exp(-0.5 * z * z)
 	}
-	sc.kernels[size] = k
-	return k
+	return e.k
+}
+
+// kernelSpectrum is the kernel's spectrum for one padded length: k[i] = exp(−½(2πhi/(dx·len))²).
+type kernelSpectrum struct {
+	h, dx float64
+	k     []float64
 }
 
 // ageSpan returns the smallest and largest of the finite, non-empty agesMa in one pass with plain
