@@ -239,7 +239,7 @@ func checkAges(agesMa []float64) error {
 		return ErrNoDates
 	}
 	for i, x := range agesMa {
-		if math.IsNaN(x) || math.IsInf(x, 0) {
+		if math.IsNaN(x - x) { // NaN or ±Inf
 			return fmt.Errorf("age %d is %v: %w", i, x, ErrNonFinite)
 		}
 	}
@@ -249,7 +249,7 @@ func checkAges(agesMa []float64) error {
 // summarizeSpread works on (x − min)/range so that no intermediate overflows for any finite
 // input whose range is itself finite. It runs in O(n): quantiles come from selection, not a sort.
 func summarizeSpread(agesMa []float64) (spread, error) {
-	lo, hi := slices.Min(agesMa), slices.Max(agesMa)
+	lo, hi := ageSpan(agesMa)
 	r := hi - lo
 	if math.IsInf(r, 0) {
 		return spread{}, errors.New("the dates span more than the float64 range")

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"math/bits"
-	"slices"
 
 	"gonum.org/v1/gonum/dsp/fourier"
 )
@@ -47,7 +46,7 @@ func ISJBandwidth(agesMa []float64, gridPoints int) (ISJResult, error) {
 	if err := checkAges(agesMa); err != nil {
 		return ISJResult{}, fmt.Errorf("isj: %w", err)
 	}
-	lo, hi := slices.Min(agesMa), slices.Max(agesMa)
+	lo, hi := ageSpan(agesMa)
 	r := hi - lo
 	if math.IsInf(r, 0) {
 		return ISJResult{}, fmt.Errorf("isj: the dates span more than the float64 range")

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"coeval/stats/internal/rfft"
 )
@@ -14,8 +15,11 @@ const DefaultGridPoints = 512
 // autoPadBandwidths is how many (largest) bandwidths an automatic grid extends beyond the dates.
 const autoPadBandwidths = 4
 
-// binnedCutoff is the kernel's reach in bandwidths in the binned KDE; φ(10)/φ(0) ≈ 2e-22.
-const binnedCutoff = 10
+// binnedCutoff is the kernel's reach in bandwidths in the binned KDE: the transform is padded so
+// that no wrapped image of a kernel comes nearer than this to a grid age, and dates farther than
+// this outside the grid are left out. φ(8)/φ(0) = e^−32 ≈ 1.3e-14, so either changes the density
+// by at most 1.3e-14·φ(0)/h, φ(0)/h being the peak of one kernel (TestBinnedPaddingBound).
+const binnedCutoff = 8
 
 // gridExactCutoff is the kernel's reach in bandwidths when a grid is evaluated term by term;
 // φ(12)/φ(0) ≈ 5e-32, far below the rounding of any sum it joins.
@@ -224,10 +228,11 @@ func (m Mixture) Eval(atMa []float64) ([]float64, error) {
 // EvalGrid returns f on the grid g. When that costs at most 8192 kernel terms, or the
 // bandwidths differ between dates, it sums each kernel over the grid ages within 12 bandwidths of
 // its date (exact to rounding). Otherwise it bins the dates linearly onto the grid (refined, when
-// needed, so that h spans at least 16 steps) padded by 10 bandwidths and convolves with the
-// sampled kernel by a zero-padded FFT (no wrap-around), which agrees with Eval to about 1e-4 of
-// the peak. Dates far outside the grid still count in Σwᵢ, so a window shows its share of the
-// density.
+// needed, so that h spans at least 16 steps) and convolves with the sampled kernel by an FFT padded
+// only as far as the kernel reaches (no wrapped image within 8 bandwidths of a grid age), which
+// agrees with Eval to about 1e-4 of the peak (at most (dx/h)²/8 of one kernel's peak:
+// TestBinnedMatchesClosedForm). Dates far outside the grid still count in Σwᵢ, so a window shows
+// its share of the density.
 func (m Mixture) EvalGrid(g AgeGrid) ([]float64, error) {
 	sumW, err := m.validate()
 	if err != nil {
@@ -237,7 +242,11 @@ func (m Mixture) EvalGrid(g AgeGrid) ([]float64, error) {
 		return nil, fmt.Errorf("evaluate density on grid: %w", err)
 	}
 	out := make([]float64, g.Points)
-	m.evalGrid(out, g, sumW, new(kdeScratch))
+	sc := scratchPool.Get().(*kdeScratch)
+	m.evalGrid(out, g, sumW, sc)
+	if cap(sc.bins) <= maxPooledBins {
+		scratchPool.Put(sc)
+	}
 	return out, nil
 }
 
@@ -251,47 +260,83 @@ func (m Mixture) evalGrid(dst []float64, g AgeGrid, sumW float64, sc *kdeScratch
 }
 
 // kdeScratch is what repeated binned KDEs reuse: an FFT plan per padded length, the buffer, and
-// the kernel's spectrum for the last bandwidth, step and length. The results are the same as with
-// fresh ones (a plan's twiddle factors depend on the length alone). Not safe for concurrent use:
-// one per goroutine. The zero value is ready.
+// the kernel's spectrum per padded length for the last bandwidth and step there. The results are the same
+// as with fresh ones (a plan's twiddle factors depend on the length alone). Not safe for concurrent
+// use: one per goroutine. The zero value is ready.
 type kdeScratch struct {
-	plans map[int]*rfft.Plan
-	bins  []float64
-	// kernel[k] = exp(−½(2πhk/(dx·size))²) for kernelH, kernelDx, kernelSize.
-	kernel            []float64
-	kernelH, kernelDx float64
-	kernelSize        int
+	plans   map[int]*rfft.Plan
+	bins    []float64
+	kernels map[int]*kernelSpectrum
 }
+
+// maxScratchLengths bounds the padded lengths a kdeScratch keeps plans and spectra for; past it
+// they are dropped and made afresh.
+const maxScratchLengths = 8
+
+// maxPooledBins is the longest buffer EvalGrid keeps in its pool of scratches.
+const maxPooledBins = 1 << 17
+
+// scratchPool holds the scratches of EvalGrid, so that repeated densities on the same grid do not
+// compute their FFT plans and kernel spectra again.
+var scratchPool = sync.Pool{New: func() any { return new(kdeScratch) }}
 
 // plan returns the FFT plan for size, a length fastFFTLen gave.
 func (sc *kdeScratch) plan(size int) *rfft.Plan {
-	if sc.plans == nil {
+	if p, ok := sc.plans[size]; ok {
+		return p
+	}
+	if sc.plans == nil || len(sc.plans) >= maxScratchLengths {
 		sc.plans = map[int]*rfft.Plan{}
 	}
-	p, ok := sc.plans[size]
-	if !ok {
-		var err error
-		if p, err = rfft.New(size); err != nil {
-			panic(err) // fastFFTLen has only the factors 2, 3 and 5
-		}
-		sc.plans[size] = p
+	p, err := rfft.New(size)
+	if err != nil {
+		panic(err) // fastFFTLen has only the factors 2, 3 and 5
 	}
+	sc.plans[size] = p
 	return p
 }
 
 // kernelSpectrum returns exp(−½(hθ_k/dx)²) for θ_k = 2πk/size, k = 0..size/2.
 func (sc *kdeScratch) kernelSpectrum(h, dx float64, size int) []float64 {
-	if sc.kernel != nil && sc.kernelH == h && sc.kernelDx == dx && sc.kernelSize == size {
-		return sc.kernel
+	e, ok := sc.kernels[size]
+	if ok && e.h == h && e.dx == dx {
+		return e.k
 	}
-	sc.kernel = resize(sc.kernel, size/2+1)
+	if !ok {
+		if sc.kernels == nil || len(sc.kernels) >= maxScratchLengths {
+			sc.kernels = map[int]*kernelSpectrum{}
+		}
+		e = &kernelSpectrum{k: make([]float64, size/2+1)}
+		sc.kernels[size] = e
+	}
+	e.h, e.dx = h, dx
 	a := 2 * math.Pi * h / (dx * float64(size))
-	for k := range sc.kernel {
-		z := a * float64(k)
-		sc.kernel[k] = math.Exp(-0.5 * z * z)
+	for i := range e.k {
+		z := a * float64(i)
+		e.k[i] = math.Exp(-0.5 * z * z)
 	}
-	sc.kernelH, sc.kernelDx, sc.kernelSize = h, dx, size
-	return sc.kernel
+	return e.k
+}
+
+// kernelSpectrum is the kernel's spectrum for one padded length: k[i] = exp(−½(2πhi/(dx·len))²).
+type kernelSpectrum struct {
+	h, dx float64
+	k     []float64
+}
+
+// ageSpan returns the smallest and largest of the finite, non-empty agesMa in one pass with plain
+// comparisons (slices.Min and slices.Max also look for NaN, which checkAges has ruled out).
+func ageSpan(agesMa []float64) (lo, hi float64) {
+	lo, hi = agesMa[0], agesMa[0]
+	for _, x := range agesMa[1:] {
+		if x < lo {
+			lo = x
+		}
+		if x > hi {
+			hi = x
+		}
+	}
+	return lo, hi
 }
 
 // resize returns s with length n, reusing its array when it is large enough; the contents are not
@@ -354,41 +399,17 @@ func (m Mixture) gridDirect(dst []float64, g AgeGrid, sumW float64) {
 //
 // The kernel's spectrum is taken in closed form: by Poisson summation the DFT of the Gaussian
 // sampled at step dx is exp(−½(hθ/dx)²)/dx plus aliases of relative size exp(−2π²(h/dx)²), which
-// vanish in float64 for h ≥ 4dx; the circular wrap of the kernel reaches only points more than
-// 10 bandwidths away (φ(10)/φ(0) ≈ 2e-22).
+// vanish in float64 for h ≥ 4dx. The transform is only as long as the kernel's reach (binnedCutoff
+// bandwidths) requires: see binLayout.
 func (m Mixture) binned(dst []float64, stride int, g AgeGrid, sumW float64, sc *kdeScratch) bool {
+	lay, ok := m.binLayout(g, sc)
+	if !ok {
+		return false
+	}
 	h := m.BandwidthMa[0]
 	dx := g.StepMa()
-	lf := math.Ceil(binnedCutoff * h / dx)
-	if lf > maxBinnedLen {
-		return false
-	}
-	l := int(lf)
-	inner := g.Points + 2*l // grid padded by the kernel's reach on both sides
-	size := fastFFTLen(inner + l)
-	if size > maxBinnedLen {
-		return false
-	}
-	sc.bins = resize(sc.bins, size)
-	bins := sc.bins
-	clear(bins)
-	origin := g.MinMa - float64(l)*dx
-	last := float64(inner - 1)
-	for i, x := range m.AgeMa {
-		pos := (x - origin) / dx
-		if !(pos >= 0 && pos <= last) {
-			continue // beyond the reach of every grid point
-		}
-		w := m.weight(i)
-		j := int(pos)
-		if j == inner-1 {
-			bins[j] += w
-			continue
-		}
-		frac := pos - float64(j)
-		bins[j] += w * (1 - frac)
-		bins[j+1] += w * frac
-	}
+	size := lay.size
+	bins := sc.bins[:size]
 	// A real FFT (gonum's FFTPACK, transcribed in rfft), the kernel's spectrum applied to the packed
 	// coefficients as the complex products gonum's fourier.FFT would form, and the inverse.
 	fft := sc.plan(size)
@@ -405,11 +426,93 @@ func (m Mixture) binned(dst []float64, stride int, g AgeGrid, sumW float64, sc *
 		bins[size-1] = real(complex(bins[size-1], 0) * complex(c*kernel[size/2], 0))
 	}
 	fft.Backward(bins)
-	conv := bins
 	for j := range dst {
-		dst[j] = max(conv[j*stride+l], 0) // FFT rounding can dip below zero in the far tails
+		dst[j] = max(bins[j*stride+lay.first], 0) // FFT rounding can dip below zero in the far tails
 	}
 	return true
+}
+
+// binnedLayout says where binLayout put the binned weights: sc.bins[:size] holds them, and grid
+// age j is at index first + j.
+type binnedLayout struct {
+	size, first int
+}
+
+// binLayout bins the dates linearly onto g, extended by the kernel's reach l = ⌈binnedCutoff·h/dx⌉
+// steps on both sides (a date farther out is more than binnedCutoff bandwidths from every grid age),
+// into sc.bins, and chooses the length of the circular convolution.
+//
+// Only the occupied bins and the grid need room: with the occupied bins a…b and the grid ages
+// 0…P−1 (in steps from MinMa), a weight and a grid age lie at most D = max(P−1−a, b) steps apart,
+// so with a length N ≥ D + l every wrapped image of the kernel lies at least l steps, binnedCutoff
+// bandwidths, away (φ(8)/φ(0) = e^−32 ≈ 1.3e-14). On the automatic grid, whose ends lie 4h beyond
+// the dates, that is about P + 4h/dx rather than P + 2l. It reports false when the length would be
+// unreasonably long (bandwidth ≫ grid span).
+func (m Mixture) binLayout(g AgeGrid, sc *kdeScratch) (binnedLayout, bool) {
+	h := m.BandwidthMa[0]
+	dx := g.StepMa()
+	lf := math.Ceil(binnedCutoff * h / dx)
+	if lf > maxBinnedLen {
+		return binnedLayout{}, false
+	}
+	l := int(lf)
+	inner := g.Points + 2*l // grid padded by the kernel's reach on both sides
+	if inner > maxBinnedLen {
+		return binnedLayout{}, false
+	}
+	// The transform's length is at most fastFFTLen(inner) (see below): room for it up front.
+	sc.bins = resize(sc.bins, max(fastFFTLen(inner), inner+1))
+	// bins[inner] takes the zero share of a date exactly at the last bin, so no date needs a branch.
+	bins := sc.bins[:inner+1]
+	clear(bins)
+	origin := g.MinMa - float64(l)*dx
+	inv := 1 / dx
+	last := float64(inner - 1)
+	if m.Weight == nil {
+		for _, x := range m.AgeMa {
+			pos := (x - origin) * inv
+			if !(pos >= 0 && pos <= last) {
+				continue // beyond the reach of every grid point
+			}
+			j := int(pos)
+			frac := pos - float64(j)
+			bins[j] += 1 - frac
+			bins[j+1] += frac
+		}
+	} else {
+		for i, x := range m.AgeMa {
+			pos := (x - origin) * inv
+			if !(pos >= 0 && pos <= last) {
+				continue
+			}
+			w := m.Weight[i]
+			j := int(pos)
+			frac := pos - float64(j)
+			bins[j] += w * (1 - frac)
+			bins[j+1] += w * frac
+		}
+	}
+	// The occupied bins a…b (weights are ≥ 0, so a bin holding weight is not 0).
+	a, b := 0, inner-1
+	for a < inner && bins[a] == 0 {
+		a++
+	}
+	for b > a && bins[b] == 0 {
+		b--
+	}
+	if a == inner { // no weight within reach: the density is 0 on the grid
+		a, b = l, l
+	}
+	// Keep the occupied bins and the grid: indices lo…hi of bins (the grid is l…l+P−1).
+	lo, hi := min(a, l), max(b, l+g.Points-1)
+	d := max(l+g.Points-1-a, b-l)
+	size := fastFFTLen(max(hi-lo+1, d+l)) // both ≤ inner, as d ≤ inner − 1 − l
+
+	if lo > 0 {
+		copy(bins, bins[lo:hi+1])
+	}
+	clear(sc.bins[hi-lo+1 : size])
+	return binnedLayout{size: size, first: l - lo}, true
 }
 
 // fastFFTLen returns the smallest n' ≥ n of the form 2^a·3^b·5^c, a length FFTPACK handles fast.
@@ -480,7 +583,8 @@ func kdeWithBandwidth(agesMa []float64, opts KDEOptions, bw Bandwidth, fixedGrid
 	if fixedGrid != nil {
 		g = *fixedGrid
 	}
-	g, err := g.resolve(slices.Min(agesMa), slices.Max(agesMa), autoPadBandwidths*hMax)
+	lo, hi := ageSpan(agesMa)
+	g, err := g.resolve(lo, hi, autoPadBandwidths*hMax)
 	if err != nil {
 		return Density{}, fmt.Errorf("kde: %w", err)
 	}

@@ -344,32 +344,19 @@ func TestFastFFTLen(t *testing.T) {
 }
 
 // binnedWithGonum is the binned KDE as it was computed with gonum's fourier.FFT (a fresh plan, the
-// spectrum unpacked to complex values): the reference that binned must match bit for bit, so that a
-// seeded band or page stays the same.
-func binnedWithGonum(m Mixture, g AgeGrid, sumW float64) []float64 {
+// spectrum unpacked to complex values), on the bins and padded length of binLayout: the reference
+// that binned must match bit for bit, so that a seeded band or page stays the same. It also returns
+// the padded length.
+func binnedWithGonum(m Mixture, g AgeGrid, sumW float64) ([]float64, int) {
 	h := m.BandwidthMa[0]
 	dx := g.StepMa()
-	l := int(math.Ceil(binnedCutoff * h / dx))
-	inner := g.Points + 2*l
-	size := fastFFTLen(inner + l)
-	bins := make([]float64, size)
-	origin := g.MinMa - float64(l)*dx
-	last := float64(inner - 1)
-	for i, x := range m.AgeMa {
-		pos := (x - origin) / dx
-		if !(pos >= 0 && pos <= last) {
-			continue
-		}
-		w := m.weight(i)
-		j := int(pos)
-		if j == inner-1 {
-			bins[j] += w
-			continue
-		}
-		frac := pos - float64(j)
-		bins[j] += w * (1 - frac)
-		bins[j+1] += w * frac
+	var sc kdeScratch
+	lay, ok := m.binLayout(g, &sc)
+	if !ok {
+		panic("binLayout refused the grid")
 	}
+	size := lay.size
+	bins := sc.bins[:size]
 	fft := fourier.NewFFT(size)
 	spec := fft.Coefficients(nil, bins)
 	c := 1 / (dx * sumW * float64(size))
@@ -378,12 +365,12 @@ func binnedWithGonum(m Mixture, g AgeGrid, sumW float64) []float64 {
 		z := a * float64(k)
 		spec[k] *= complex(c*math.Exp(-0.5*z*z), 0)
 	}
-	conv := fft.Sequence(bins, spec)
+	conv := fft.Sequence(nil, spec)
 	out := make([]float64, g.Points)
 	for j := range out {
-		out[j] = max(conv[j+l], 0)
+		out[j] = max(conv[j+lay.first], 0)
 	}
-	return out
+	return out, size
 }
 
 // TestBinnedSameAsGonumFFT: the binned KDE through rfft, with a scratch reused across calls of
@@ -412,7 +399,7 @@ func TestBinnedSameAsGonumFFT(t *testing.T) {
 		if m.BandwidthMa[0] < 4*g.StepMa() {
 			continue // binned needs h ≥ 4 steps (refinedBinned ensures 16)
 		}
-		want := binnedWithGonum(m, g, sumW)
+		want, size := binnedWithGonum(m, g, sumW)
 		got := make([]float64, g.Points)
 		if !m.binned(got, 1, g, sumW, &sc) {
 			t.Fatalf("trial %d: binned refused the grid", trial)
@@ -422,8 +409,7 @@ func TestBinnedSameAsGonumFFT(t *testing.T) {
 				t.Fatalf("trial %d at %d: %v, with gonum's FFT %v", trial, j, got[j], want[j])
 			}
 		}
-		l := int(math.Ceil(binnedCutoff * m.BandwidthMa[0] / g.StepMa()))
-		sizes[fastFFTLen(g.Points+3*l)%2 == 1]++
+		sizes[size%2 == 1]++
 	}
 	if sizes[false] < 20 || sizes[true] < 5 {
 		t.Errorf("padded lengths tried: %d even, %d odd; want more of each", sizes[false], sizes[true])
