@@ -254,12 +254,15 @@ func (f CompilationFigure) draw(c canvas, cl *compilationLayout) {
 			pts = append(pts, pt{x(d.AgesMa[i]), yv(d.Value[i])})
 		}
 		c.poly(pts, false, paint{Stroke: curveColour, Width: 1.8})
+		lastRight := math.Inf(-1) // a label that would overlap the one before it is left to the hover text
 		for j, pu := range p.Pulses {
 			if pu.EndMa > f.MaxMa || pu.StartMa < f.MinMa {
 				continue
 			}
 			t.drawPulseBar(c, l, pu, j, dB+2, provBarH-3, false)
-			if mx := x(pu.ModeMa); mx >= l.plotL && mx <= l.plotR {
+			w := textWidth(pu.Label, 9.5, true)
+			if mx := x(pu.ModeMa); mx >= l.plotL && mx <= l.plotR && mx-w/2 > lastRight+3 {
+				lastRight = mx + w/2
 				c.begin(pu.Title, "")
 				c.text(mx, y0-3, pu.Label, textStyle{Size: 9.5, Bold: true, Anchor: "middle", Colour: pulseInk(j)})
 				c.end()

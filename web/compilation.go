@@ -412,6 +412,17 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 	v.Cautions = compilationCautions()
 	v.SVG = string(fig.SVG())
 	v.Caption = "Older ages to the left. Point at a pulse, an event or a stage for its numbers."
+	for _, l := range c.Lanes {
+		if l.Density.Band == nil {
+			continue
+		}
+		old, young := fixed(math.Ceil(l.Density.MaxMa*10)/10, 1), fixed(math.Floor(l.Density.MinMa*10)/10, 1)
+		v.Links = append(v.Links, views.Link{Label: fmt.Sprintf("Zoom to %s (%s–%s Ma)", l.Province.Name, old, young),
+			URL: "/compilation?from=" + old + "&to=" + young})
+	}
+	if !c.Auto {
+		v.Links = append(v.Links, views.Link{Label: "The whole record", URL: "/compilation"})
+	}
 	if c.Outside > 0 {
 		v.Notes = append(v.Notes, fmt.Sprintf("%s with an age lie outside this window and are not shown.", upperFirst(count(c.Outside, "event"))))
 	}
