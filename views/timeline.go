@@ -742,47 +742,54 @@ func (f TimelineFigure) drawPulseLanes(c canvas, l *timelineLayout) {
 	if len(f.Pulses) == 0 {
 		return
 	}
-	clampX := func(a float64) float64 { return math.Min(l.plotR, math.Max(l.plotL, f.x(l, a))) }
 	c.text(l.plotL-8, l.lanesT+laneH/2+3.5, "Pulses", textStyle{Size: 9.5, Anchor: "end", Colour: mutedColour})
 	for i, p := range f.Pulses {
-		y0 := l.lanesT + float64(i)*laneH + 1.5
-		h := laneH - 3
-		col := pulseColour(i)
-		c.begin(p.Title, "")
-		oldL, oldR := clampX(p.StartHiMa), clampX(p.StartLoMa)
-		youL, youR := clampX(p.EndHiMa), clampX(p.EndLoMa)
-		if oldR > youL {
-			// The start and end ranges overlap: no stretch is certain; the fades meet halfway.
-			mid := (oldR + youL) / 2
-			oldR, youL = mid, mid
-		}
-		if oldR < youL {
-			c.rect(oldR, y0, youL-oldR, h, paint{Fill: col, FillAlpha: pulseAlphaMax})
-		}
-		if oldR > oldL {
-			c.fade(oldL, y0, oldR-oldL, h, col, 0, pulseAlphaMax)
-		}
-		if youR > youL {
-			c.fade(youL, y0, youR-youL, h, col, pulseAlphaMax, 0)
-		}
-		lo, hi := clampX(p.ModeHiMa), clampX(p.ModeLoMa)
-		ym := y0 + h/2
-		c.poly([]pt{{lo, ym}, {hi, ym}}, false, paint{Stroke: inkColour, Width: 1.2})
-		c.poly([]pt{{lo, ym - 3.5}, {lo, ym + 3.5}}, false, paint{Stroke: inkColour, Width: 1.2})
-		c.poly([]pt{{hi, ym - 3.5}, {hi, ym + 3.5}}, false, paint{Stroke: inkColour, Width: 1.2})
-		label := p.Label
+		f.drawPulseBar(c, l, p, i, l.lanesT+float64(i)*laneH+1.5, laneH-3, true)
+	}
+}
+
+// drawPulseBar draws pulse p (the i-th, for its colour) as a bar of height h from y0: solid where the
+// replicates agree it is erupting, fading over the 2.5–97.5 % range of its start and of its end, the
+// mode's 95 % interval as a whisker, and (label) its label beside it.
+func (f TimelineFigure) drawPulseBar(c canvas, l *timelineLayout, p FigurePulse, i int, y0, h float64, label bool) {
+	clampX := func(a float64) float64 { return math.Min(l.plotR, math.Max(l.plotL, f.x(l, a))) }
+	col := pulseColour(i)
+	c.begin(p.Title, "")
+	oldL, oldR := clampX(p.StartHiMa), clampX(p.StartLoMa)
+	youL, youR := clampX(p.EndHiMa), clampX(p.EndLoMa)
+	if oldR > youL {
+		// The start and end ranges overlap: no stretch is certain; the fades meet halfway.
+		mid := (oldR + youL) / 2
+		oldR, youL = mid, mid
+	}
+	if oldR < youL {
+		c.rect(oldR, y0, youL-oldR, h, paint{Fill: col, FillAlpha: pulseAlphaMax})
+	}
+	if oldR > oldL {
+		c.fade(oldL, y0, oldR-oldL, h, col, 0, pulseAlphaMax)
+	}
+	if youR > youL {
+		c.fade(youL, y0, youR-youL, h, col, pulseAlphaMax, 0)
+	}
+	lo, hi := clampX(p.ModeHiMa), clampX(p.ModeLoMa)
+	ym := y0 + h/2
+	c.poly([]pt{{lo, ym}, {hi, ym}}, false, paint{Stroke: inkColour, Width: 1.2})
+	c.poly([]pt{{lo, ym - 3.5}, {lo, ym + 3.5}}, false, paint{Stroke: inkColour, Width: 1.2})
+	c.poly([]pt{{hi, ym - 3.5}, {hi, ym + 3.5}}, false, paint{Stroke: inkColour, Width: 1.2})
+	if label {
+		text := p.Label
 		if p.Detail != "" {
-			label += " (" + p.Detail + ")"
+			text += " (" + p.Detail + ")"
 		}
 		// The label goes right of the bar when it fits, else left of it.
-		w := textWidth(label, 9.5, true)
+		w := textWidth(text, 9.5, true)
 		lx, anchor := math.Max(youR, hi)+5, "start"
 		if lx+w > l.plotR {
 			lx, anchor = math.Min(oldL, lo)-5, "end"
 		}
-		c.text(lx, ym+3.5, label, textStyle{Size: 9.5, Bold: true, Anchor: anchor, Colour: pulseInk(i)})
-		c.end()
+		c.text(lx, ym+3.5, text, textStyle{Size: 9.5, Bold: true, Anchor: anchor, Colour: pulseInk(i)})
 	}
+	c.end()
 }
 
 // abbreviate shortens a timescale name to its first three letters and a full stop.

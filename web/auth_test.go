@@ -110,6 +110,7 @@ var routeRoles = map[string]string{
 	"GET /help/downloads/{kind}":               "",
 	"GET /compare":                             "",
 	"GET /coincidence":                         "",
+	"GET /compilation":                         "",
 	"GET /map":                                 "",
 	"GET /compare/saved":                       "",
 	"GET /compare/saved/{id}":                  "",

@@ -11,7 +11,7 @@ import (
 // phonePages are the page kinds a scientist opens on a phone.
 var phonePages = []string{"/", "/provinces", "/provinces/1", "/provinces/1/timeline?reps=200", "/units/1", "/dates",
 	"/dates/1", "/sections", "/sections/1?draws=200", "/sections/aligned?draws=200", "/ties", "/events",
-	"/compare?" + cheap, "/coincidence?" + cheap, "/map", "/calibrations", "/changes", "/timescale", "/help", "/help/files/dates", "/help/addresses",
+	"/compare?" + cheap, "/coincidence?" + cheap, "/compilation", "/map", "/calibrations", "/changes", "/timescale", "/help", "/help/files/dates", "/help/addresses",
 	"/releases", "/login"}
 
 // At 390 px (a phone held upright) no page scrolls sideways: the menu wraps, tables and figures scroll

@@ -64,6 +64,7 @@ func TestDownloadDictionary(t *testing.T) {
 	for _, c := range []struct{ kind, file string }{
 		{"comparison", "/compare?format=csv&rows=both&sens=0&n=2000&reps=200&draws=500"},
 		{"timeline-pulses", "/provinces/1/timeline?format=csv&table=pulses&reps=200"},
+		{"compilation", "/compilation?format=csv"},
 	} {
 		status, _, page := get(t, srv, "/help/downloads/"+c.kind)
 		if status != 200 {

@@ -8,14 +8,14 @@ import (
 	"time"
 )
 
-// Pages that compute (the comparison, timelines, section models, the coincidence test, an event's
+// Pages that compute (the comparison, the compilation view, timelines, section models, the coincidence test, an event's
 // answer and the list of events with theirs) share a bounded number of slots, so that many readers asking at once queue for the machine's
 // cores instead of piling up memory. A request that would wait longer than heavyWait, or find the queue
 // full, is told plainly that the server is busy and when to come back (503 with Retry-After), and
 // nothing is lost: reading it again later gives the page.
 
 // heavyPath matches the addresses that compute.
-var heavyPath = regexp.MustCompile(`^/(compare|coincidence|sections/aligned|sections/\d+(/(anomalies|agemodel|ratios|figure\.(svg|png|pdf)))?|provinces/\d+/timeline(\.(svg|png|pdf))?|events(/\d+)?)$`)
+var heavyPath = regexp.MustCompile(`^/(compare|coincidence|compilation|sections/aligned|sections/\d+(/(anomalies|agemodel|ratios|figure\.(svg|png|pdf)))?|provinces/\d+/timeline(\.(svg|png|pdf))?|events(/\d+)?)$`)
 
 const (
 	heavyWait       = 20 * time.Second // the longest a computing page waits for a slot

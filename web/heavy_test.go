@@ -67,7 +67,7 @@ func TestComputingPagesQueueAndSayBusy(t *testing.T) {
 			}
 		})
 	}
-	for _, p := range []string{"/compare", "/coincidence", "/sections/aligned", "/sections/3", "/sections/3/agemodel", "/sections/3/figure.svg",
+	for _, p := range []string{"/compare", "/coincidence", "/compilation", "/sections/aligned", "/sections/3", "/sections/3/agemodel", "/sections/3/figure.svg",
 		"/provinces/2/timeline", "/provinces/2/timeline.png", "/events/8", "/events"} {
 		if !heavyPath.MatchString(p) {
 			t.Errorf("%s is not counted as computing", p)

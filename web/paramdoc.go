@@ -30,7 +30,7 @@ const (
 )
 
 var paramDocs = []paramDoc{
-	{"format", "every page", "html, csv, json; figures svg, png, pdf; the comparison also xlsx", "html", "What the address returns: the page, or a download of the same data."},
+	{"format", "every page", "html, csv, json; figures svg, png, pdf; the comparison and the compilation view also xlsx", "html", "What the address returns: the page, or a download of the same data."},
 	{"sigma", "every page with uncertainties", "1, 2", "2", "The σ level at which ± are shown and written."},
 	{"per", whereLists, "whole number", "50", "Rows per page."},
 	{"page", whereLists, "whole number from 1", "1", "Page number (older links; the next and previous links use a position instead)."},
@@ -67,6 +67,8 @@ var paramDocs = []paramDoc{
 	{"pdp", "timeline", "0, 1", "0", "1: draw the sum of the values' own normal curves over the density, for comparison."},
 	{"from", "timeline, comparison", "Ma, 0 to 4600", "automatic", "One end of the age window (either order)."},
 	{"to", "timeline, comparison", "Ma, 0 to 4600", "automatic", "The other end of the age window."},
+	{"from", "compilation view", "Ma, 0 to 4600", "the whole record", "One end of the window shown (either order; an end left out stays automatic). The densities and probabilities do not change with it."},
+	{"to", "compilation view", "Ma, 0 to 4600", "the whole record", "The other end of the window shown."},
 	{"from", whereCoincide, "Ma, 0 to 4600", "automatic", "One end of the window the test places events or shifts onsets in (either order; give both ends or neither). The densities keep their automatic windows."},
 	{"to", whereCoincide, "Ma, 0 to 4600", "automatic", "The other end of the test's window."},
 	{"null", whereCoincide, "events, pulses", "events", "What chance means: events placed at random in the window, or the pulse onsets shifted together by a random offset (wrapping round within the window)."},

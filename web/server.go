@@ -94,6 +94,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	s.registerCompareRoutes(r)
 	s.registerCoincidenceRoutes(r)
 	s.registerMapRoutes(r)
+	s.registerCompilationRoutes(r)
 	s.registerHelpRoutes(r)
 	s.registerReleaseRoutes(r)
 	r.Get("/ties", s.handle(s.handleTieList))

@@ -100,6 +100,7 @@ func TestPagesRenderWithWhatTheyShow(t *testing.T) {
 		{"/events", []string{"Hg anomaly", "CIE onset"}},
 		{"/calibrations", []string{"28.201", "compilation target", "Kuiper"}},
 		{"/coincidence?reps=100&draws=500&n=999", []string{"than chance would place them", "p-value", "Read the p-value with these in mind"}},
+		{"/compilation", []string{"on one age axis", "Hvarn Plateau Basalts", `href="/provinces/1/timeline"`, `href="/events/8"`, "Nearest pulse", "P(within)", "not independent", "Stage"}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.path, func(t *testing.T) {
@@ -212,6 +213,7 @@ func TestDownloadsParse(t *testing.T) {
 		{"/provinces/1?format=csv", []string{"unit", "volume_km3"}, len(units1)},
 		{"/dates/1?format=csv", []string{"sample_code", "age_ma"}, 1},
 		{"/coincidence?format=csv&reps=100&draws=500&n=999", []string{"statistic_ma", "p", "replicates", "null", "window_old_ma"}, 1},
+		{"/compilation?format=csv", []string{"event_id", "event_age_median_ma", "province", "pulse", "p_within", "lag_median_ma", "window_old_ma"}, -1},
 	}
 	for _, tc := range cases {
 		t.Run(tc.path, func(t *testing.T) {
