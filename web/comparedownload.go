@@ -40,7 +40,7 @@ func columnNames(cols []downloadColumn) []string {
 // compareColumnDefs are the columns of the comparison's table downloads (rows=pulses), in file order.
 var compareColumnDefs = []downloadColumn{
 	{"province", "", "The large igneous province whose pulses (or units) are compared."},
-	{"pulse", "", "The eruptive pulse of the province's density, numbered from the oldest (P1 is the oldest)."},
+	{"pulse", "", "The eruptive pulse of the province's density, by its age: P and the age of its mode in Ma (P155.4 is the pulse at ~155.4 Ma), to the decimal of the first significant digit of half its mode's 95 % range. It names the same pulse after an edit or another setting for as long as the pulse still covers that age (the pulses= choice takes it); the rows' order is not its name."},
 	{"event_code", "", "The event's code: E and the stored event's number, G: and a correlated group, A and a detected anomaly."},
 	{"event", "", "The event's name."},
 	{"section", "", "The section the event was recorded in (empty for an event dated directly)."},
@@ -96,7 +96,7 @@ var compareColumnDefs = []downloadColumn{
 // it is and, for a unit row, the unit and its mean. The default (rows=pulses) leaves them out.
 var compareUnitColumnDefs = []downloadColumn{
 	{"row_kind", "", "pulse or unit: what the row compares with the event. Only with rows of units."},
-	{"pulse", "", "The eruptive pulse of the province's density, numbered from the oldest (empty for a unit row)."},
+	{"pulse", "", "The eruptive pulse of the province's density, by its age: P and the age of its mode in Ma (P155.4 is the pulse at ~155.4 Ma); empty for a unit row."},
 	{"unit_code", "", "The unit's code (U and its number). Only with rows of units."},
 	{"unit", "", "The eruptive unit's name. Only with rows of units."},
 	{"unit_system", "", "The decay system of the unit's weighted mean. Only with rows of units."},
