@@ -180,10 +180,14 @@ func computeDensity(sums []unitSummary, ch densityChoice, dateBars [][2]float64)
 }
 
 // pulseIDs names a density's pulses (oldest first, as pages list them) by their age.
-func pulseIDs(ps []stats.PulseSummary) []analysis.PulseID { return analysis.PulseNames(oldestFirst(ps)) }
+func pulseIDs(ps []stats.PulseSummary) []analysis.PulseID {
+	return analysis.PulseNames(oldestFirst(ps))
+}
 
 // figurePulseLabel is a pulse's label in a figure, beside its lane or over its mode: "~155.4 Ma".
-func figurePulseLabel(id analysis.PulseID) string { return "~" + strings.TrimPrefix(id.Label, "pulse at ~") }
+func figurePulseLabel(id analysis.PulseID) string {
+	return "~" + strings.TrimPrefix(id.Label, "pulse at ~")
+}
 
 // oldestFirst returns the pulses oldest first (stats gives them youngest first).
 func oldestFirst(ps []stats.PulseSummary) []stats.PulseSummary { return analysis.OldestFirst(ps) }
