@@ -125,34 +125,6 @@ func eventsTable(res *compareResult) views.Table {
 	return t
 }
 
-func orderTable(res *compareResult) views.Table {
-	o := res.Order
-	t := views.Table{ID: "order", Caption: "Order matrix: P(row older than column) ± MC SE"}
-	t.Columns = []views.Column{{Label: "Item"}}
-	for k := range o.Names {
-		t.Columns = append(t.Columns, views.Column{Label: res.OrderCodes[k], Num: true, Title: o.Names[k]})
-	}
-	for i := range o.Names {
-		row := []views.Cell{{Text: res.OrderCodes[i] + " · " + o.Names[i]}}
-		for k := range o.Names {
-			if i == k {
-				row = append(row, views.Cell{Text: "—", Num: true})
-				continue
-			}
-			cell := views.Cell{Text: fixed(o.P[i][k], 3), Num: true, Title: fmt.Sprintf("P(%s older than %s) = %s ± %s", o.Names[i], o.Names[k], fixed(o.P[i][k], 4), fixed(o.SE[i][k], 4))}
-			if o.P[i][k] > 0.95 {
-				cell.Class = "strong"
-			}
-			row = append(row, cell)
-		}
-		t.Rows = append(t.Rows, row)
-	}
-	if len(o.Names) > 0 {
-		t.Notes = append(t.Notes, "The items are the pulse edges (and, when units are compared as rows, the units), then the events; other items can be chosen by their codes in the address (the Help page on addresses lists them). Each pair is drawn at the chosen level, so shared components cancel.")
-	}
-	return t
-}
-
 func howList(res *compareResult, rows []compareRow) []views.How {
 	ch := res.Choice
 	var out []views.How

@@ -208,7 +208,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	sortRows(rows, sortKey, dir)
 	v.Table = compareTable(r, res, rows, sortKey, dir)
 	v.Events = eventsTable(res)
-	v.Order = orderTable(res)
+	v.Order = precedenceView(res)
 	v.How = howList(res, rows)
 	v.Contents = compareContents(v)
 	v.Notes = append(v.Notes, res.In.EdgeNote+".")
@@ -230,8 +230,8 @@ func compareContents(v views.CompareView) []views.Block {
 	if len(v.Events.Rows) > 0 {
 		bs = append(bs, views.Block{ID: v.Events.ID, Title: "Events compared"})
 	}
-	if len(v.Order.Rows) > 0 {
-		bs = append(bs, views.Block{ID: v.Order.ID, Title: "Order matrix"})
+	if len(v.Order.Grid.Rows) > 0 {
+		bs = append(bs, views.Block{ID: v.Order.ID, Title: v.Order.Title})
 	}
 	if len(v.Method) > 0 {
 		bs = append(bs, views.Block{ID: "method", Title: "How this was computed"})
