@@ -251,7 +251,7 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 			pa.sensitivityIsKnown = !math.IsNaN(pa.SensWithinMin)
 			// The pulse's ages are the comparison's own (its density of analytical unit means), its
 			// name made from them; the timeline's (at its own level) only where the row has none.
-			if m, on, end := numOr(row["pulse_mode_ma"]), numOr(row["pulse_onset_median_ma"]), numOr(row["pulse_end_median_ma"]); !math.IsNaN(m+on+end) {
+			if m, on, end := numOr(row["pulse_mode_ma"]), numOr(row["pulse_onset_median_ma"]), numOr(row["pulse_end_median_ma"]); !math.IsNaN(m + on + end) {
 				pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = m, on, end, true
 			} else {
 				for _, p := range tl.Pulses {

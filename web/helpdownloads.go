@@ -39,7 +39,7 @@ func downloadKinds() []downloadKind {
 				"Ages are in millions of years before present (Ma), older = larger; a 95 % interval is lo95 (younger end) to hi95 (older end).",
 			},
 			Sheets: []downloadSheet{{ID: "columns-precedence", Title: "Sheet “Which came first” (and which_came_first.pairs in the JSON)",
-				Intro: "Every pair of the comparison's items (pulse onsets and ends, units, events; a pulse's onset and its own end left out), once, in its likelier order: eruptions against the sedimentary record first, then the others, the most certain first. The JSON adds the items' codes and words and the full grid: p_row_before_column[i][k] = P(item i came before item k), with its standard errors.",
+				Intro:   "Every pair of the comparison's items (pulse onsets and ends, units, events; a pulse's onset and its own end left out), once, in its likelier order: eruptions against the sedimentary record first, then the others, the most certain first. The JSON adds the items' codes and words and the full grid: p_row_before_column[i][k] = P(item i came before item k), with its standard errors.",
 				Columns: precedenceColumnDefs}}},
 		{Kind: "timeline-pulses", Title: "Timeline pulses (CSV)",
 			Intro:   "One row per pulse of the province's density, oldest first, with its bootstrap intervals; the first columns are the choices the density was made with, repeated on every row, so that a row copied out of the file still says how it was made.",
