@@ -13,8 +13,8 @@ type CompareView struct {
 	Cautions  []string // shown above the table
 	SVG       string
 	Caption   string
-	Table     Table // pulse × event
-	Events    Table // the events with their ages and volume fractions
+	Table     Table      // pulse × event
+	Events    Table      // the events with their ages and volume fractions
 	Order     Precedence // which came first: the decisive pairs in sentences and the shaded grid
 	Notes     []string
 	How       []How // how each row was computed; the table's numbers link here
