@@ -2,6 +2,7 @@ package store
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"strings"
@@ -15,10 +16,21 @@ type Comparison struct {
 	Query     string `json:"query"`
 	DataStamp int64  `json:"data_stamp"`
 	// Release is the version of the release the comparison is pinned to ("" for the current data).
-	Release   string `json:"release,omitempty"`
-	UserID    *int64 `json:"user_id"`
-	User      string `json:"user"`
-	CreatedAt string `json:"created_at"`
+	Release string `json:"release,omitempty"`
+	// Pulses are the pulses the comparison had when it was saved (none for one saved before they were
+	// kept), so that its page can match them with today's by their ages.
+	Pulses    []SavedPulse `json:"pulses,omitempty"`
+	UserID    *int64       `json:"user_id"`
+	User      string       `json:"user"`
+	CreatedAt string       `json:"created_at"`
+}
+
+// SavedPulse is a pulse of a saved comparison as it was when saved: its code and its age range (Ma).
+type SavedPulse struct {
+	Code    string  `json:"code"`
+	ModeMa  float64 `json:"mode_ma"`
+	OldMa   float64 `json:"old_ma"`
+	YoungMa float64 `json:"young_ma"`
 }
 
 // DataStamp returns the state of the compilation: the number of the latest change batch (0 for an
@@ -62,23 +74,39 @@ func (d *DB) SaveComparison(ctx context.Context, c Comparison) (int64, error) {
 	if id := actor(ctx); id != nil {
 		user = *id
 	}
-	r, err := d.db.ExecContext(ctx, `INSERT INTO comparisons (name, query, data_stamp, release_version, user_id, created_at) VALUES (?, ?, ?, ?, ?, ?)`,
-		c.Name, c.Query, c.DataStamp, c.Release, user, d.stamp())
+	pulses := ""
+	if len(c.Pulses) > 0 {
+		b, err := json.Marshal(c.Pulses)
+		if err != nil {
+			return 0, fmt.Errorf("save comparison: %w", err)
+		}
+		pulses = string(b)
+	}
+	r, err := d.db.ExecContext(ctx, `INSERT INTO comparisons (name, query, data_stamp, release_version, user_id, created_at, pulses) VALUES (?, ?, ?, ?, ?, ?, ?)`,
+		c.Name, c.Query, c.DataStamp, c.Release, user, d.stamp(), pulses)
 	if err != nil {
 		return 0, fmt.Errorf("save comparison: %w", err)
 	}
 	return r.LastInsertId()
 }
 
-const comparisonSelect = `SELECT c.id, c.name, c.query, c.data_stamp, c.release_version, c.user_id, COALESCE(u.name, ''), c.created_at
+const comparisonSelect = `SELECT c.id, c.name, c.query, c.data_stamp, c.release_version, c.user_id, COALESCE(u.name, ''), c.created_at, c.pulses
 	FROM comparisons c LEFT JOIN users u ON u.id = c.user_id`
 
 type rowScanner interface{ Scan(dest ...any) error }
 
 func scanComparison(r rowScanner) (Comparison, error) {
 	var c Comparison
-	err := r.Scan(&c.ID, &c.Name, &c.Query, &c.DataStamp, &c.Release, &c.UserID, &c.User, &c.CreatedAt)
-	return c, err
+	var pulses string
+	if err := r.Scan(&c.ID, &c.Name, &c.Query, &c.DataStamp, &c.Release, &c.UserID, &c.User, &c.CreatedAt, &pulses); err != nil {
+		return c, err
+	}
+	if pulses != "" {
+		if err := json.Unmarshal([]byte(pulses), &c.Pulses); err != nil {
+			return c, fmt.Errorf("comparison %d: its pulses: %w", c.ID, err)
+		}
+	}
+	return c, nil
 }
 
 // Comparisons lists the saved comparisons, newest first.

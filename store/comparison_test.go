@@ -25,10 +25,19 @@ func TestSaveComparisonRoundTripAndStamp(t *testing.T) {
 		t.Errorf("got %+v", got)
 	}
 	list, err := db.Comparisons(ctx)
-	if err != nil || len(list) != 1 || list[0].ID != id {
+	if err != nil || len(list) != 1 || list[0].ID != id || list[0].Pulses != nil {
 		t.Errorf("list %+v, %v", list, err)
 	}
-	if _, err := db.Comparison(ctx, id+1); !errors.Is(err, ErrNotFound) {
+	// The pulses it was saved with come back as saved (migration 015).
+	ps := []SavedPulse{{Code: "P155.4", ModeMa: 155.43, OldMa: 155.71, YoungMa: 155.12}}
+	id2, err := db.SaveComparison(ctx, Comparison{Name: "with pulses", Query: "province=1", DataStamp: stamp, Pulses: ps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, err := db.Comparison(ctx, id2); err != nil || len(got.Pulses) != 1 || got.Pulses[0] != ps[0] {
+		t.Errorf("pulses %+v, %v; want %+v", got.Pulses, err, ps)
+	}
+	if _, err := db.Comparison(ctx, id2+1); !errors.Is(err, ErrNotFound) {
 		t.Errorf("missing comparison: %v, want ErrNotFound", err)
 	}
 	if _, err := db.SaveComparison(ctx, Comparison{Name: " ", Query: "x"}); err == nil {

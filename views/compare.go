@@ -1,5 +1,7 @@
 package views
 
+import "fmt"
+
 // CompareView is the comparison page: pulses of a province against events of the sedimentary record.
 type CompareView struct {
 	Page
@@ -11,9 +13,9 @@ type CompareView struct {
 	Cautions  []string // shown above the table
 	SVG       string
 	Caption   string
-	Table     Table // pulse × event
-	Events    Table // the events with their ages and volume fractions
-	Order     Table // order matrix
+	Table     Table      // pulse × event
+	Events    Table      // the events with their ages and volume fractions
+	Order     Precedence // which came first: the decisive pairs in sentences and the shaded grid
 	Notes     []string
 	How       []How // how each row was computed; the table's numbers link here
 	Save      *SaveForm
@@ -46,3 +48,30 @@ type SavedView struct {
 	Intro string
 	Table Table
 }
+
+// Precedence is which came first between a comparison's items: the decisive pairs in sentences (More:
+// those folded), and a compact grid of every pair shaded by its probability, with its legend.
+type Precedence struct {
+	ID, Title  string
+	Intro      string
+	Sentences  []string
+	More       []string
+	Grid       Table
+	Legend     []LegendStep
+	LegendNote string
+	Notes      []string
+}
+
+// LegendStep is one shade of a legend: its class and what it stands for.
+type LegendStep struct {
+	Class, Label string
+}
+
+func moreSaid(n int) string {
+	if n == 1 {
+		return "1 more decisive pair"
+	}
+	return fmt.Sprint(n) + " more decisive pairs"
+}
+
+func startAfter(n int) string { return fmt.Sprint(n + 1) }

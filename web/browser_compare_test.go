@@ -25,7 +25,7 @@ func TestBrowserCompare(t *testing.T) {
 		t.Fatal(err)
 	}
 	body := text(t, ctx, "#comparison tbody")
-	for _, want := range []string{"P1", "P2", "CIE onset", "Hg anomaly", " ± "} {
+	for _, want := range []string{"pulse at ~", "CIE onset", "Hg anomaly", " ± "} {
 		if !strings.Contains(body, want) {
 			t.Errorf("comparison table lacks %q", want)
 		}
@@ -97,7 +97,7 @@ func TestBrowserCompareUnitRows(t *testing.T) {
 		t.Fatal(err)
 	}
 	body := text(t, ctx, "#comparison tbody")
-	for _, want := range []string{"P1", "Haldruna Flow (U7)", "Ulvaskar Flow Group (U1)", "vol."} {
+	for _, want := range []string{"pulse at ~", "Haldruna Flow (U7)", "Ulvaskar Flow Group (U1)", "vol."} {
 		if !strings.Contains(body, want) {
 			t.Errorf("comparison table lacks %q", want)
 		}

@@ -157,7 +157,7 @@ func (s *Server) coincidenceInputs(ctx context.Context, ch coincidenceChoice) (a
 			in.Notes = append(in.Notes, prov.Name+": its density has no pulse under these choices.")
 		}
 		for _, p := range pulses {
-			in.Onsets = append(in.Onsets, analysis.CoincidenceOnset{ProvinceID: prov.ID, Province: prov.Name, Pulse: p.Name,
+			in.Onsets = append(in.Onsets, analysis.CoincidenceOnset{ProvinceID: prov.ID, Province: prov.Name, Pulse: p.Name, Name: p.ID.Label,
 				OnsetMa: p.Summary.StartMa, Lo95Ma: p.Summary.Start.LowerMa, Hi95Ma: p.Summary.Start.UpperMa,
 				ModeMa: p.Summary.ModeMa, Frequency: p.Summary.Frequency})
 		}
@@ -350,7 +350,7 @@ func coincidenceTablesView(res analysis.Coincidence) []views.Table {
 		{Label: "Mode", Unit: "Ma", Num: true}, {Label: "Present in", Num: true, Title: "share of bootstrap replicates in which the pulse exists"},
 	}, Empty: "No pulse onset lies in the window."}
 	for _, o := range res.Onsets {
-		on.Rows = append(on.Rows, []views.Cell{{Text: o.Province, URL: idURL("/provinces", o.ProvinceID) + "/timeline"}, {Text: o.Pulse},
+		on.Rows = append(on.Rows, []views.Cell{{Text: o.Province, URL: idURL("/provinces", o.ProvinceID) + "/timeline"}, {Text: upperFirst(o.PulseWords())},
 			{Text: ma3(o.OnsetMa), Num: true}, {Text: ma3(o.Hi95Ma) + "–" + ma3(o.Lo95Ma), Num: true}, {Text: ma3(o.ModeMa), Num: true},
 			{Text: fmt.Sprintf("%.0f %%", 100*o.Frequency), Num: true}})
 	}

@@ -31,7 +31,7 @@ const (
 type compareChoice struct {
 	Dens        densityChoice // the density and its pulses: count, weight, bw, h, adaptive, from, to, reps, cal, policy, rule, include, seed
 	ProvinceID  int64         // province= (default: the first province)
-	Pulses      []string      // pulses=P1,P2 (default: all)
+	Pulses      []string      // pulses=P155.4,P157 (by age; default: all)
 	Rows        string        // rows=pulses|units|both: what the table's rows are (default pulses, both with units=)
 	UnitIDs     []int64       // units=ID,ID: the units compared as rows (default: every unit with a mean)
 	EventIDs    []int64       // events=ID,ID (default: every event with an age in the chosen sections)
@@ -86,7 +86,7 @@ func (s *Server) compareChoiceFrom(ctx context.Context, p *params) (compareChoic
 	ch.Pulses = listParam(p, "pulses")
 	for _, v := range listParam(p, "pulses") {
 		if !strings.HasPrefix(v, "P") || len(v) < 2 {
-			p.problems = append(p.problems, fmt.Sprintf("pulses: want pulse names such as P1,P2, got %q", v))
+			p.problems = append(p.problems, fmt.Sprintf("pulses: want pulses named by their age, such as P155.4 (P and an age in Ma within the pulse), got %q", v))
 		}
 	}
 	ch.EventIDs = idList(p, "events", "event record numbers such as 3,7")

@@ -40,7 +40,7 @@ func columnNames(cols []downloadColumn) []string {
 // compareColumnDefs are the columns of the comparison's table downloads (rows=pulses), in file order.
 var compareColumnDefs = []downloadColumn{
 	{"province", "", "The large igneous province whose pulses (or units) are compared."},
-	{"pulse", "", "The eruptive pulse of the province's density, numbered from the oldest (P1 is the oldest)."},
+	{"pulse", "", "The eruptive pulse of the province's density, by its age: P and the age of its mode in Ma (P155.4 is the pulse at ~155.4 Ma), to the decimal of the first significant digit of half its mode's 95 % range. It names the same pulse after an edit or another setting for as long as the pulse still covers that age (the pulses= choice takes it); the rows' order is not its name."},
 	{"event_code", "", "The event's code: E and the stored event's number, G: and a correlated group, A and a detected anomaly."},
 	{"event", "", "The event's name."},
 	{"section", "", "The section the event was recorded in (empty for an event dated directly)."},
@@ -96,7 +96,7 @@ var compareColumnDefs = []downloadColumn{
 // it is and, for a unit row, the unit and its mean. The default (rows=pulses) leaves them out.
 var compareUnitColumnDefs = []downloadColumn{
 	{"row_kind", "", "pulse or unit: what the row compares with the event. Only with rows of units."},
-	{"pulse", "", "The eruptive pulse of the province's density, numbered from the oldest (empty for a unit row)."},
+	{"pulse", "", "The eruptive pulse of the province's density, by its age: P and the age of its mode in Ma (P155.4 is the pulse at ~155.4 Ma); empty for a unit row."},
 	{"unit_code", "", "The unit's code (U and its number). Only with rows of units."},
 	{"unit", "", "The eruptive unit's name. Only with rows of units."},
 	{"unit_system", "", "The decay system of the unit's weighted mean. Only with rows of units."},
@@ -411,8 +411,21 @@ func compareJSON(res *compareResult) map[string]any {
 		rows = append(rows, m)
 	}
 	o := res.Order
-	matrix := map[string]any{"items": res.OrderCodes, "names": o.Names, "p_row_older": nanNull(o.P), "se": nanNull(o.SE)}
-	return map[string]any{"settings": settings, "sources": sources, "rows": rows, "order": matrix}
+	var words []string
+	for _, it := range precItems(res) {
+		words = append(words, it.Words)
+	}
+	var pairs []map[string]string
+	for _, rec := range precedenceRecords(res, true) {
+		m := map[string]string{}
+		for i, c := range columnNames(precedenceColumnDefs) {
+			m[c] = rec[i]
+		}
+		pairs = append(pairs, m)
+	}
+	first := map[string]any{"items": res.OrderCodes, "names": words, "pairs": pairs,
+		"p_row_before_column": nanNull(o.P), "p_row_before_column_se": nanNull(o.SE)}
+	return map[string]any{"settings": settings, "sources": sources, "rows": rows, "which_came_first": first}
 }
 
 // nanNull replaces NaN (the diagonal) by nil so the matrix is valid JSON.
@@ -429,11 +442,15 @@ func nanNull(m [][]float64) [][]any {
 	return out
 }
 
-// compareXLSX writes the workbook: the table, the order matrix and a sheet of settings and sources.
+// precedenceSheet is the workbook's sheet of every pair's order.
+const precedenceSheet = "Which came first"
+
+// compareXLSX writes the workbook: the table, which came first (every pair) and a sheet of settings and
+// sources.
 func compareXLSX(res *compareResult) ([]byte, error) {
 	f := excelize.NewFile()
 	defer f.Close()
-	const table, order, settings = "Comparison", "Order", "Settings"
+	const table, order, settings = "Comparison", precedenceSheet, "Settings"
 	if err := f.SetSheetName("Sheet1", table); err != nil {
 		return nil, err
 	}
@@ -470,27 +487,28 @@ func compareXLSX(res *compareResult) ([]byte, error) {
 			return nil, err
 		}
 	}
-	o := res.Order
-	top := []any{"P(row older than column)"}
-	for _, c := range res.OrderCodes {
-		top = append(top, c)
+	hdrP := []any{}
+	for _, c := range columnNames(precedenceColumnDefs) {
+		hdrP = append(hdrP, c)
 	}
-	if err := row(order, 1, top); err != nil {
+	if err := row(order, 1, hdrP); err != nil {
 		return nil, err
 	}
-	for i := range o.Names {
-		vals := []any{res.OrderCodes[i] + " · " + o.Names[i]}
-		for k := range o.Names {
-			if i == k {
-				vals = append(vals, "")
+	for r, rec := range precedenceRecords(res, false) {
+		vals := make([]any, len(rec))
+		for i, v := range rec {
+			if x, err := strconv.ParseFloat(v, 64); err == nil && strings.HasPrefix(precedenceColumnDefs[i].Name, "p_") && !strings.HasSuffix(precedenceColumnDefs[i].Name, "_bound") {
+				vals[i] = x
 			} else {
-				vals = append(vals, o.P[i][k])
+				vals[i] = v
 			}
 		}
-		if err := row(order, i+2, vals); err != nil {
+		if err := row(order, r+2, vals); err != nil {
 			return nil, err
 		}
 	}
+	f.SetColWidth(order, "A", "A", 60)
+	f.SetColWidth(order, "C", "C", 60)
 	if err := row(settings, 1, []any{"setting", "value"}); err != nil {
 		return nil, err
 	}

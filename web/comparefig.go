@@ -40,7 +40,7 @@ func compareFigure(res *compareResult) (views.CompareFigure, error) {
 	t.MinMa, t.MaxMa = lo, hi
 	t.Stages, t.Epochs = stagesIn(chart, "Age", lo, hi), stagesIn(chart, "Epoch", lo, hi)
 	t.Markers = nil
-	t.SigmaNote = fmt.Sprintf("Event rows: the density of each event's age draws at its %s (random part: age-model draws or its direct age; shared systematic components are drawn in the comparison, not here), its median (bar) and 95 %% interval (whisker). Density per Ma, unit means analytical; pulses numbered from the oldest. Seed %d.", strings.SplitN(pointLabel(ch.Point), ":", 2)[0], ch.Dens.Seed)
+	t.SigmaNote = fmt.Sprintf("Event rows: the density of each event's age draws at its %s (random part: age-model draws or its direct age; shared systematic components are drawn in the comparison, not here), its median (bar) and 95 %% interval (whisker). Density per Ma, unit means analytical; pulses named by the age of their mode. Seed %d.", strings.SplitN(pointLabel(ch.Point), ":", 2)[0], ch.Dens.Seed)
 	f := views.CompareFigure{}
 	if len(units) > 0 {
 		t.SigmaNote = "Unit rows: the unit's weighted mean with its analytical 1σ as a normal curve (its systematic components are drawn in the comparison, not here), 95 % interval whiskered. " + t.SigmaNote

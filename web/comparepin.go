@@ -11,6 +11,7 @@ import (
 	"sort"
 	"strconv"
 
+	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
 )
@@ -28,7 +29,9 @@ const (
 
 // pinnedRow is one event–pulse pair of a comparison's table, as its JSON download gives it.
 type pinnedRow struct {
-	Key, Event, Section, Pulse string
+	Key, Event, Section, Pulse string // Key: the event's (and a unit row's unit); Pulse: its code
+	PulseLabel                 string // the pulse in words, "" for a unit row
+	Span                       stats.PulseSpan
 	Within, WithinSE           float64
 	After, AfterSE             float64
 }
@@ -100,9 +103,10 @@ func (c *comparer) handlePinnedShow(w http.ResponseWriter, r *http.Request, sc s
 	default:
 		diffs := pinDiffs(thenRows, nowRows)
 		v.Notes = append(v.Notes, pinVerdict(diffs))
+		v.Notes = append(v.Notes, pulseChanges(pinPulses(thenRows), pinPulses(nowRows), "of the comparison as released")...)
 		v.Tables = append(v.Tables, pinTable(diffs))
 	}
-	v.Notes = append(v.Notes, fmt.Sprintf("Both are computed with the saved settings and seeds. A probability counts as changed when the two differ by more than %g times their combined Monte Carlo standard error and by more than %g; a conclusion changes when a probability crosses 0.05 or 0.95. Pairs are matched by province, pulse number, event and section: when the dates changed, a pulse number may name another pulse.", pinSEFactor, pinMinDiff))
+	v.Notes = append(v.Notes, fmt.Sprintf("Both are computed with the saved settings and seeds. A probability counts as changed when the two differ by more than %g times their combined Monte Carlo standard error and by more than %g; a conclusion changes when a probability crosses 0.05 or 0.95. Pairs are matched by event and section, and by the same pulse: a pulse as released is today's pulse whose age range (median end to median onset) overlaps at least half of the narrower of the two, whatever its place among the pulses; one with none is said to have no counterpart.", pinSEFactor, pinMinDiff))
 	c.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil
 }
@@ -123,27 +127,67 @@ func comparisonRows(h http.Handler, r *http.Request, q url.Values) ([]pinnedRow,
 			}
 			return x
 		}
-		out = append(out, pinnedRow{
-			Key:   m["province"] + "\x00" + m["pulse"] + "\x00" + m["event_code"] + "\x00" + m["section"] + "\x00" + m["event_point"],
+		row := pinnedRow{
+			Key:   m["province"] + "\x00" + m["unit_code"] + "\x00" + m["event_code"] + "\x00" + m["section"] + "\x00" + m["event_point"],
 			Event: m["event"], Section: m["section"], Pulse: m["pulse"],
 			Within: num("p_within"), WithinSE: num("p_within_se"), After: num("p_after_onset"), AfterSE: num("p_after_onset_se"),
-		})
+		}
+		if row.Pulse != "" {
+			row.PulseLabel = codeWords(row.Pulse)
+			row.Span = stats.PulseSpan{ModeMa: num("pulse_mode_ma"), OldMa: num("pulse_onset_median_ma"), YoungMa: num("pulse_end_median_ma")}
+		} else {
+			row.PulseLabel = m["unit"]
+		}
+		out = append(out, row)
 	}
 	return out, nil
 }
 
-// pinDiffs matches the pairs of the two comparisons; pairs found in one only are kept with the other nil.
+// pinPulses are the distinct pulses of a comparison's rows, in the rows' order.
+func pinPulses(rows []pinnedRow) []namedSpan {
+	var out []namedSpan
+	seen := map[string]bool{}
+	for _, r := range rows {
+		if r.Pulse != "" && !seen[r.Pulse] {
+			seen[r.Pulse] = true
+			out = append(out, namedSpan{Code: r.Pulse, Label: r.PulseLabel, Span: r.Span})
+		}
+	}
+	return out
+}
+
+// pinDiffs matches the pairs of the two comparisons: the same event (and unit) and the same pulse, a
+// pulse of the release being today's pulse that overlaps it most (stats.MatchPulses), never the pulse in
+// its place. Pairs found in one only are kept with the other nil.
 func pinDiffs(then, now []pinnedRow) []pinDiff {
+	thenP, nowP := pinPulses(then), pinPulses(now)
+	m := matchSpans(thenP, nowP)
+	counterpart := map[string]string{}
+	for i, p := range thenP {
+		if j := m.Counterpart(i); j >= 0 {
+			counterpart[p.Code] = nowP[j].Code
+		} else {
+			counterpart[p.Code] = "\x00none"
+		}
+	}
+	key := func(r *pinnedRow, pulse string) string { return pulse + "\x00" + r.Key }
 	byKey := map[string]*pinnedRow{}
 	for i := range now {
-		byKey[now[i].Key] = &now[i]
+		byKey[key(&now[i], now[i].Pulse)] = &now[i]
 	}
 	var out []pinDiff
 	seen := map[string]bool{}
 	for i := range then {
 		t := &then[i]
-		n := byKey[t.Key]
-		seen[t.Key] = true
+		k := key(t, t.Pulse)
+		if t.Pulse != "" {
+			k = key(t, counterpart[t.Pulse])
+		}
+		n := byKey[k]
+		if n != nil && seen[k] {
+			n = nil // a pulse of today that two of the release's became is compared with the first only
+		}
+		seen[k] = true
 		d := pinDiff{Then: t, Now: n}
 		if n == nil {
 			d.Changed = true
@@ -154,7 +198,7 @@ func pinDiffs(then, now []pinnedRow) []pinDiff {
 		out = append(out, d)
 	}
 	for i := range now {
-		if !seen[now[i].Key] {
+		if !seen[key(&now[i], now[i].Pulse)] {
 			out = append(out, pinDiff{Now: &now[i], Changed: true})
 		}
 	}
@@ -270,7 +314,13 @@ func pinTable(diffs []pinDiff) views.Table {
 		case d.Changed:
 			verdict, cls = "yes", "caution"
 		}
-		t.Rows = append(t.Rows, []views.Cell{{Text: ref.Event}, {Text: ref.Section}, {Text: ref.Pulse},
+		pulse := ref.PulseLabel
+		if d.Then != nil && d.Now != nil && d.Then.Pulse != d.Now.Pulse {
+			pulse = d.Then.PulseLabel + " (today the " + d.Now.PulseLabel + ")"
+		} else if d.Then != nil && d.Now == nil && d.Then.Pulse != "" {
+			pulse += " (no counterpart today)"
+		}
+		t.Rows = append(t.Rows, []views.Cell{{Text: ref.Event}, {Text: ref.Section}, {Text: upperFirst(pulse)},
 			{Text: prob(d.Then, within, withinSE), Num: true}, {Text: prob(d.Now, within, withinSE), Num: true},
 			{Text: prob(d.Then, after, afterSE), Num: true}, {Text: prob(d.Now, after, afterSE), Num: true},
 			{Text: verdict, Class: cls}})

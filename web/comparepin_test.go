@@ -8,10 +8,12 @@ import (
 	"math"
 	"net/http"
 	"net/url"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
 
+	"coeval/stats"
 	"coeval/store"
 )
 
@@ -130,5 +132,47 @@ func TestPinnedRuleOnHandValues(t *testing.T) {
 		if got := crosses(c.p1, c.p2); got != c.crossed {
 			t.Errorf("%g vs %g: crosses %v, want %v", c.p1, c.p2, got, c.crossed)
 		}
+	}
+}
+
+// A pinned comparison's pairs follow the same pulse, not its place: today an extra, older pulse appears
+// before the pulse of the release (built by hand; ranges in Ma). The release's pulse at ~155.4 Ma is
+// today's at ~155.45 Ma (they overlap wholly); the extra one is new; no pair is "gone".
+func TestPinnedPairsFollowThePulseByAge(t *testing.T) {
+	row := func(code string, old, mode, young, within float64) pinnedRow {
+		return pinnedRow{Key: "X\x00\x00E1\x00S\x00base", Event: "Ashfall", Section: "S", Pulse: code, PulseLabel: codeWords(code),
+			Span: stats.PulseSpan{ModeMa: mode, OldMa: old, YoungMa: young}, Within: within, WithinSE: 0.001, After: within, AfterSE: 0.001}
+	}
+	then := []pinnedRow{row("P155.4", 155.7, 155.4, 155.1, 0.98)}
+	now := []pinnedRow{row("P156.6", 157.0, 156.6, 156.2, 0.0), row("P155.45", 155.72, 155.45, 155.12, 0.98)}
+	diffs := pinDiffs(then, now)
+	if len(diffs) != 2 {
+		t.Fatalf("%d pairs, want 2", len(diffs))
+	}
+	for _, d := range diffs {
+		switch {
+		case d.Then != nil && d.Now != nil:
+			if d.Now.Pulse != "P155.45" || d.Changed {
+				t.Errorf("the release's pulse was paired with %s (changed %v), want P155.45 unchanged", d.Now.Pulse, d.Changed)
+			}
+		case d.Now != nil && d.Now.Pulse != "P156.6":
+			t.Errorf("new pair with %s, want P156.6", d.Now.Pulse)
+		case d.Now == nil:
+			t.Errorf("pair gone: %+v", d.Then)
+		}
+	}
+	got := pulseChanges(pinPulses(then), pinPulses(now), "of the comparison as released")
+	want := []string{"The pulse at ~155.4 Ma of the comparison as released is today's pulse at ~155.45 Ma (the same pulse, its age moved within its range).",
+		"Today's pulse at ~156.6 Ma has no counterpart in the comparison as released."}
+	if !slices.Equal(got, want) {
+		t.Errorf("changes %q, want %q", got, want)
+	}
+	// The pulse gone today: said in words, never given another pulse's number.
+	gone := pulseChanges(pinPulses(then), pinPulses(now[:1]), "of the saved comparison")
+	if !slices.Contains(gone, "The pulse at ~155.4 Ma of the saved comparison has no counterpart in today's data.") {
+		t.Errorf("vanished: %q", gone)
+	}
+	if d := pinDiffs(then, now[:1]); len(d) != 2 || d[0].Now != nil && d[0].Then != nil || d[1].Now != nil && d[1].Then != nil {
+		t.Errorf("vanished: the release's pair was matched with another pulse: %+v", d)
 	}
 }

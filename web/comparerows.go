@@ -19,7 +19,8 @@ import (
 // does not apply to a point-like age, is NaN.
 type compareRow struct {
 	Kind       string // "pulse" or "unit"
-	Pulse      string // the row's item: the pulse (P1) or the unit's label
+	Pulse      string // the row's item: the pulse's code (P155.4) or the unit's label
+	Label      string // the row's item in words: "pulse at ~155.4 Ma" or the unit's label
 	PulseIdx   int    // index of the pulse (pulse rows) or of the unit row (unit rows)
 	Item       int    // place in the table: the pulses, then the units
 	Unit       *compareUnitRow
@@ -38,7 +39,7 @@ type compareRow struct {
 
 func (r compareRow) isUnit() bool { return r.Kind == "unit" }
 
-// code is the row item's code: P1 or U7.
+// code is the row item's code: P155.4 or U7.
 func (r compareRow) code() string {
 	if r.isUnit() {
 		return r.Unit.Code
@@ -84,7 +85,7 @@ func compareRows(res *compareResult) []compareRow {
 	}
 	for i, cells := range res.Table.Cells {
 		for e, c := range cells {
-			add(compareRow{Kind: "pulse", Pulse: res.Table.Intervals[i], PulseIdx: i, Item: i, Cell: c}, e)
+			add(compareRow{Kind: "pulse", Pulse: res.Table.Intervals[i], Label: res.In.Pulses[i].ID.Label, PulseIdx: i, Item: i, Cell: c}, e)
 		}
 	}
 	for i, cells := range res.UnitTable.Cells {
@@ -93,7 +94,7 @@ func compareRows(res *compareResult) []compareRow {
 			cell := stats.IntervalComparison{Interval: u.Name, Event: c.B, AfterOnset: c.Older,
 				Within: stats.Probability{P: math.NaN(), SE: math.NaN()}, LagMa: c.LagMa, Near: c.Near, DeltaMa: c.DeltaMa,
 				OVL: c.OVL, N: c.N, Seed: c.Seed, Level: c.Level}
-			add(compareRow{Kind: "unit", Pulse: u.Label(), PulseIdx: i, Item: len(res.Table.Cells) + i, Unit: u, Cell: cell}, e)
+			add(compareRow{Kind: "unit", Pulse: u.Label(), Label: u.Label(), PulseIdx: i, Item: len(res.Table.Cells) + i, Unit: u, Cell: cell}, e)
 		}
 	}
 	slices.SortStableFunc(rows, func(a, b compareRow) int {

@@ -13,6 +13,7 @@ import (
 	"coeval/stats"
 	"coeval/store"
 	"coeval/views"
+	"coeval/web/analysis"
 )
 
 // The tables, accounts and settings form of the comparison page.
@@ -124,34 +125,6 @@ func eventsTable(res *compareResult) views.Table {
 	return t
 }
 
-func orderTable(res *compareResult) views.Table {
-	o := res.Order
-	t := views.Table{ID: "order", Caption: "Order matrix: P(row older than column) ± MC SE"}
-	t.Columns = []views.Column{{Label: "Item"}}
-	for k := range o.Names {
-		t.Columns = append(t.Columns, views.Column{Label: res.OrderCodes[k], Num: true, Title: o.Names[k]})
-	}
-	for i := range o.Names {
-		row := []views.Cell{{Text: res.OrderCodes[i] + " · " + o.Names[i]}}
-		for k := range o.Names {
-			if i == k {
-				row = append(row, views.Cell{Text: "—", Num: true})
-				continue
-			}
-			cell := views.Cell{Text: fixed(o.P[i][k], 3), Num: true, Title: fmt.Sprintf("P(%s older than %s) = %s ± %s", o.Names[i], o.Names[k], fixed(o.P[i][k], 4), fixed(o.SE[i][k], 4))}
-			if o.P[i][k] > 0.95 {
-				cell.Class = "strong"
-			}
-			row = append(row, cell)
-		}
-		t.Rows = append(t.Rows, row)
-	}
-	if len(o.Names) > 0 {
-		t.Notes = append(t.Notes, "The items are the pulse edges (and, when units are compared as rows, the units), then the events; other items can be chosen by their codes in the address (the Help page on addresses lists them). Each pair is drawn at the chosen level, so shared components cancel.")
-	}
-	return t
-}
-
 func howList(res *compareResult, rows []compareRow) []views.How {
 	ch := res.Choice
 	var out []views.How
@@ -166,16 +139,17 @@ func howList(res *compareResult, rows []compareRow) []views.How {
 		}
 		p := res.In.Pulses[row.PulseIdx]
 		ps := p.Summary
-		h := views.How{ID: howID(row.Pulse, row.Event.Code), Title: row.Pulse + " × " + row.Event.Name + " (" + orDash(row.Event.Section) + ")"}
+		h := views.How{ID: howID(row.Pulse, row.Event.Code), Title: upperFirst(row.Label) + " × " + row.Event.Name + " (" + orDash(row.Event.Section) + ")"}
 		eachBW := ""
 		if ch.Dens.BWEach {
 			eachBW = ", the width re-estimated in each"
 		}
 		h.Lines = []views.KV{
-			{Label: "Pulse", Value: fmt.Sprintf("%s of the KDE of %s (%s, h = %s Ma), edges from %d of %d bootstrap replicates (seed %d%s): onset %s Ma (95 %% %s), end %s Ma (95 %% %s)",
-				row.Pulse, res.Province.Name, res.Density.Bandwidth.Rule.Label(), fixed(res.Density.Bandwidth.Ma, 4), len(p.Edges.StartMa), ch.Dens.Reps, ch.Dens.Seed, eachBW,
+			{Label: "Pulse", Value: fmt.Sprintf("the %s of the KDE of %s (%s, h = %s Ma), edges from %d of %d bootstrap replicates (seed %d%s): onset %s Ma (95 %% %s), end %s Ma (95 %% %s)",
+				p.ID.Full(), res.Province.Name, res.Density.Bandwidth.Rule.Label(), fixed(res.Density.Bandwidth.Ma, 4), len(p.Edges.StartMa), ch.Dens.Reps, ch.Dens.Seed, eachBW,
 				fixed(ps.StartMa, 3), interval(ps.Start, 3), fixed(ps.EndMa, 3), interval(ps.End, 3))},
 			{Label: "Pulse systematics", Value: res.In.EdgeNote},
+			{Label: "Pulse's name", Value: analysis.PulseNameRule + " Its code in addresses and downloads is " + p.Name + "."},
 			{Label: "Event", Value: row.Event.How},
 			{Label: "Draws", Value: drawsText(res)},
 			{Label: "P(event after onset)", Value: fmt.Sprintf("share of draws with onset > event: %s (SE %s)", fixed(row.Cell.AfterOnset.P, 4), fixed(row.Cell.AfterOnset.SE, 4))},
@@ -264,7 +238,7 @@ func compareForm(r *http.Request, res *compareResult) *views.Form {
 	fields := []views.Field{
 		{Name: "province", Label: "Province", Kind: "number", Value: strconv.FormatInt(res.Province.ID, 10), Step: "1"},
 		sel("rows", "Table rows", ch.Rows, "pulses", "pulses", "units", "single units", "both", "pulses and units"),
-		text("pulses", "Pulses", "all (e.g. P1,P2)"),
+		text("pulses", "Pulses", "all (by age, e.g. P155.4)"),
 		text("units", "Units", "all with a mean (ids)"),
 		text("sections", "Sections", "those near the province in age (ids, e.g. 1,3)"),
 		text("events", "Events", "all (ids)"),
@@ -298,7 +272,7 @@ func compareCells(res *compareResult, row compareRow, sets int) []views.Cell {
 	if p := row.Event.Point; p != "" && p != "height" {
 		evName += " · " + strings.SplitN(p, " ", 2)[0]
 	}
-	cells := []views.Cell{{Text: row.Pulse, URL: link}, {Text: evName, URL: eventURL(row.Event), Title: row.Event.Point}, {Text: row.Event.Section},
+	cells := []views.Cell{{Text: row.Label, URL: link, Title: pulseTitle(res, row)}, {Text: evName, URL: eventURL(row.Event), Title: row.Event.Point}, {Text: row.Event.Section},
 		{Text: probText(c.AfterOnset, c.N), URL: link, Num: true}, {Text: probText(c.Within, c.N), URL: link, Num: true},
 		{Text: lagText(c.LagMa), URL: link, Num: true}, {Text: probText(c.Near, c.N), URL: link, Num: true},
 		{Text: fixed(c.OVL, 3), URL: link, Num: true}}
@@ -331,6 +305,19 @@ func compareCells(res *compareResult, row compareRow, sets int) []views.Cell {
 	}
 	cells = append(cells, sc, views.Cell{Text: restsOn(row), Title: dependsText(res, row)})
 	return cells
+}
+
+// pulseTitle is the hover text of a row's item: a pulse's mode range and code, a unit's mean.
+func pulseTitle(res *compareResult, row compareRow) string {
+	if row.isUnit() {
+		return ""
+	}
+	p := res.In.Pulses[row.PulseIdx]
+	t := "code " + p.Name + " in addresses and downloads"
+	if p.ID.Range != "" {
+		t = p.ID.Range + "; " + t
+	}
+	return t
 }
 
 // drawsText says how the joint draws were made, in words.

@@ -174,6 +174,13 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 			if sc.DataStamp != res.Stamp {
 				v.Changed = fmt.Sprintf("Saved comparison “%s” was computed on the data of %s; the compilation has changed since: the numbers below are recomputed on the current data and may differ from those saved.",
 					sc.Name, when(sc.CreatedAt))
+				if sc.Pulses != nil {
+					if ch := pulseChanges(spansOfSaved(sc.Pulses), spansOfPulses(res.In.Pulses), "of the saved comparison"); len(ch) > 0 {
+						v.Changed += " " + strings.Join(ch, " ")
+					} else {
+						v.Changed += " Its pulses are today's, matched by their age ranges."
+					}
+				}
 			} else {
 				v.Status = append(v.Status, views.KV{Label: "saved as", Value: fmt.Sprintf("“%s”, data unchanged since it was saved (%s)", sc.Name, when(sc.CreatedAt))})
 			}
@@ -201,7 +208,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	sortRows(rows, sortKey, dir)
 	v.Table = compareTable(r, res, rows, sortKey, dir)
 	v.Events = eventsTable(res)
-	v.Order = orderTable(res)
+	v.Order = precedenceView(res)
 	v.How = howList(res, rows)
 	v.Contents = compareContents(v)
 	v.Notes = append(v.Notes, res.In.EdgeNote+".")
@@ -223,8 +230,8 @@ func compareContents(v views.CompareView) []views.Block {
 	if len(v.Events.Rows) > 0 {
 		bs = append(bs, views.Block{ID: v.Events.ID, Title: "Events compared"})
 	}
-	if len(v.Order.Rows) > 0 {
-		bs = append(bs, views.Block{ID: v.Order.ID, Title: "Order matrix"})
+	if len(v.Order.Grid.Rows) > 0 {
+		bs = append(bs, views.Block{ID: v.Order.ID, Title: v.Order.Title})
 	}
 	if len(v.Method) > 0 {
 		bs = append(bs, views.Block{ID: "method", Title: "How this was computed"})
@@ -270,8 +277,18 @@ func (c *comparer) handleSave(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
+	// The pulses it has now are kept with it, so that opened again on changed data it can say which of
+	// that day's pulses is which (the comparison is usually in the cache: its page was just shown).
+	var pulses []store.SavedPulse
+	if r.PostForm.Get("release") == "" {
+		res, _, err := c.comparison(req)
+		if err != nil {
+			return err
+		}
+		pulses = savedPulses(res.In.Pulses)
+	}
 	id, err := c.store.SaveComparison(actingCtx(r).Context(), store.Comparison{Name: r.PostForm.Get("name"), Query: vals.Encode(), DataStamp: stamp,
-		Release: r.PostForm.Get("release")})
+		Release: r.PostForm.Get("release"), Pulses: pulses})
 	if ve, ok := store.AsValidation(err); ok {
 		var probs []string
 		for _, pr := range ve.Problems {

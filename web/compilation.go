@@ -221,13 +221,15 @@ func timelinePulsesOf(res densityResult) *timelinePulses {
 	if res.Band == nil {
 		return v
 	}
+	ids := pulseIDs(res.Pulses)
 	for i, p := range oldestFirst(res.Pulses) {
 		v.Pulses = append(v.Pulses, struct {
 			Pulse   string  `json:"pulse"`
+			Name    string  `json:"name"`
 			ModeMa  float64 `json:"mode_ma"`
 			StartMa float64 `json:"start_ma"`
 			EndMa   float64 `json:"end_ma"`
-		}{pulseName(i), p.ModeMa, p.StartMa, p.EndMa})
+		}{ids[i].Code, ids[i].Label, p.ModeMa, p.StartMa, p.EndMa})
 	}
 	return v
 }
@@ -355,8 +357,9 @@ func compilationFigure(c *compilation, chart []chronoUnit) views.CompilationFigu
 		} else {
 			b := res.Band
 			lane.Density = &views.FigureDensity{AgesMa: b.GridMa, Value: b.Reference.Density, Lower: b.Lower, Upper: b.Upper}
+			ids := pulseIDs(res.Pulses)
 			for i, p := range oldestFirst(res.Pulses) {
-				fp := figurePulse(i, p, res, dc)
+				fp := figurePulse(ids[i], p, res, dc)
 				fp.Title = l.Province.Name + " — " + fp.Title
 				lane.Pulses = append(lane.Pulses, fp)
 			}
@@ -449,7 +452,7 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 func compilationTable(c *compilation) views.Table {
 	t := views.Table{ID: "nearest", Caption: "Each event against the nearest pulse of every province compared with it",
 		Columns: []views.Column{{Label: "Event"}, {Label: "Section"}, {Label: "Age", Unit: "Ma, median (95 %)", Num: true},
-			{Label: "Province"}, {Label: "Nearest pulse", Unit: "mode (start–end), Ma"}, {Label: "P(within)", Num: true, Title: "± its Monte Carlo standard error"},
+			{Label: "Province"}, {Label: "Nearest pulse", Unit: "onset–end, Ma"}, {Label: "P(within)", Num: true, Title: "± its Monte Carlo standard error"},
 			{Label: "Lag from onset", Unit: "Ma, median (95 %)", Num: true, Title: "the pulse's onset (its older edge) minus the event's age; positive: the event came after the onset"},
 			{Label: "Under the sensitivity set"}},
 		Empty: "No event with an age lies in this window."}
@@ -463,9 +466,9 @@ func compilationTable(c *compilation) views.Table {
 			t.Rows = append(t.Rows, append(ev, views.Cell{Text: "—"}, views.Cell{Text: row.Note}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—"}))
 			continue
 		}
-		pulse := p.Pulse
+		pulse := orText(p.Name, p.Pulse)
 		if p.hasPulseAge {
-			pulse = fmt.Sprintf("%s: %.2f (%.2f–%.2f)", p.Pulse, p.ModeMa, p.StartMa, p.EndMa)
+			pulse = fmt.Sprintf("%s (%.2f–%.2f)", pulse, p.StartMa, p.EndMa)
 		}
 		lag := "—"
 		if !math.IsNaN(p.LagMed) {

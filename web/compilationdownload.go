@@ -152,8 +152,9 @@ func compilationJSON(c *compilation) map[string]any {
 			m["message"] = l.Density.Message
 		} else {
 			var ps []map[string]any
+			ids := pulseIDs(l.Density.Pulses)
 			for i, p := range oldestFirst(l.Density.Pulses) {
-				ps = append(ps, map[string]any{"pulse": pulseName(i), "mode_ma": p.ModeMa, "start_ma": p.StartMa, "end_ma": p.EndMa, "frequency": p.Frequency})
+				ps = append(ps, map[string]any{"pulse": ids[i].Code, "name": ids[i].Label, "mode_ma": p.ModeMa, "start_ma": p.StartMa, "end_ma": p.EndMa, "frequency": p.Frequency})
 			}
 			m["window_ma"] = []float64{l.Density.MinMa, l.Density.MaxMa}
 			m["pulses"] = ps

@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/xuri/excelize/v2"
+
 	"coeval/stats"
 )
 
@@ -71,7 +73,7 @@ func TestDownloadDictionary(t *testing.T) {
 			t.Fatalf("%s: status %d", c.kind, status)
 		}
 		var listed []string
-		for _, m := range code.FindAllStringSubmatch(page, -1) {
+		for _, m := range code.FindAllStringSubmatch(tableOf(page, "columns"), -1) {
 			listed = append(listed, m[1])
 		}
 		_, _, body := get(t, srv, c.file)
@@ -85,6 +87,23 @@ func TestDownloadDictionary(t *testing.T) {
 		if _, _, help := get(t, srv, "/help"); !strings.Contains(help, `href="/help/downloads/`+c.kind+`"`) {
 			t.Errorf("the help page does not link the %s dictionary", c.kind)
 		}
+	}
+	// The workbook's sheet "Which came first": the dictionary's second table lists its header, and the
+	// JSON's pairs carry the same columns.
+	_, _, page := get(t, srv, "/help/downloads/comparison")
+	var listed []string
+	for _, m := range code.FindAllStringSubmatch(tableOf(page, "columns-precedence"), -1) {
+		listed = append(listed, m[1])
+	}
+	_, _, x := get(t, srv, "/compare?format=xlsx&sens=0&n=2000&reps=200&draws=500")
+	f, err := excelize.OpenReader(strings.NewReader(x))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	sheet, err := f.GetRows(precedenceSheet)
+	if err != nil || len(sheet) < 2 || !slices.Equal(sheet[0], listed) {
+		t.Errorf("sheet %q: %v; its header %v, the dictionary lists %v", precedenceSheet, err, sheet[:min(1, len(sheet))], listed)
 	}
 	// Without unit rows the comparison's file is the dictionary less the unit columns.
 	_, _, body := get(t, srv, "/compare?format=csv&sens=0&n=2000&reps=200&draws=500")
@@ -195,4 +214,17 @@ func TestCompareDownloadAges(t *testing.T) {
 	if pulses < 2 || events < 2 {
 		t.Errorf("only %d rows matched a timeline pulse and %d a section's event", pulses, events)
 	}
+}
+
+// tableOf is the HTML of the table with the id, "" when there is none.
+func tableOf(page, id string) string {
+	i := strings.Index(page, `<table id="`+id+`"`)
+	if i < 0 {
+		return ""
+	}
+	j := strings.Index(page[i:], "</table>")
+	if j < 0 {
+		return page[i:]
+	}
+	return page[i : i+j]
 }

@@ -43,7 +43,8 @@ type answerAge struct {
 
 // pulseAnswer is one pulse of a province against the event: the comparison's row, with the pulse's age.
 type pulseAnswer struct {
-	Province, Pulse                  string
+	Province, Pulse                  string // Pulse: its code (P155.4)
+	Name                             string // "pulse at ~155.4 Ma", from the province's timeline
 	ProvinceID                       int64
 	ModeMa, StartMa, EndMa           float64 // from the province's timeline (NaN when not found)
 	Within, WithinSE, After, AfterSE float64
@@ -117,6 +118,7 @@ type comparisonRowsJSON struct {
 type timelinePulses struct {
 	Pulses []struct {
 		Pulse   string  `json:"pulse"`
+		Name    string  `json:"name"`
 		ModeMa  float64 `json:"mode_ma"`
 		StartMa float64 `json:"start_ma"`
 		EndMa   float64 `json:"end_ma"`
@@ -247,9 +249,15 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 				ModeMa: math.NaN(), StartMa: math.NaN(), EndMa: math.NaN()}
 			pa.N, _ = strconv.Atoi(row["n"])
 			pa.sensitivityIsKnown = !math.IsNaN(pa.SensWithinMin)
-			for _, p := range tl.Pulses {
-				if p.Pulse == pa.Pulse {
-					pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = p.ModeMa, p.StartMa, p.EndMa, true
+			// The pulse's ages are the comparison's own (its density of analytical unit means), its
+			// name made from them; the timeline's (at its own level) only where the row has none.
+			if m, on, end := numOr(row["pulse_mode_ma"]), numOr(row["pulse_onset_median_ma"]), numOr(row["pulse_end_median_ma"]); !math.IsNaN(m + on + end) {
+				pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = m, on, end, true
+			} else {
+				for _, p := range tl.Pulses {
+					if p.Pulse == pa.Pulse {
+						pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = p.ModeMa, p.StartMa, p.EndMa, true
+					}
 				}
 			}
 			a.Pulses = append(a.Pulses, pa)
@@ -282,12 +290,25 @@ func modelWords(code string) string {
 	return "Monte Carlo"
 }
 
-// pulseName names a pulse by its age where the timeline gives it ("the pulse at ~155.44 Ma").
+// pulseName names a pulse by its age, with its range where the timeline gives it ("pulse at ~155.4 Ma
+// (155.62–155.10 Ma)").
 func (p pulseAnswer) pulseName() string {
-	if !p.hasPulseAge {
-		return "pulse " + p.Pulse
+	name := p.Name
+	if name == "" {
+		name = "pulse at ~" + strings.TrimPrefix(p.Pulse, "P") + " Ma"
 	}
-	return fmt.Sprintf("pulse %s at ~%.2f Ma (%.2f–%.2f)", p.Pulse, p.ModeMa, p.StartMa, p.EndMa)
+	if !p.hasPulseAge {
+		return name
+	}
+	return fmt.Sprintf("%s (%.2f–%.2f Ma)", name, p.StartMa, p.EndMa)
+}
+
+// pulseNameOnly is the pulse's name without its range: "pulse at ~155.4 Ma".
+func (p pulseAnswer) pulseNameOnly() string {
+	if p.Name != "" {
+		return p.Name
+	}
+	return "pulse at ~" + strings.TrimPrefix(p.Pulse, "P") + " Ma"
 }
 
 // probWords writes a probability as the comparison page does (probText: its SE's decimals, 0 and 1 as
@@ -382,9 +403,9 @@ func answerBlock(a eventAnswer) (notes []string, groups []views.FieldGroup, tabl
 			}
 			pulse := "—"
 			if p.hasPulseAge {
-				pulse = fmt.Sprintf("%s: %.2f (%.2f–%.2f)", p.Pulse, p.ModeMa, p.StartMa, p.EndMa)
+				pulse = fmt.Sprintf("%s: %.2f (%.2f–%.2f)", upperFirst(p.pulseNameOnly()), p.ModeMa, p.StartMa, p.EndMa)
 			} else {
-				pulse = p.Pulse
+				pulse = upperFirst(p.pulseNameOnly())
 			}
 			t.Rows = append(t.Rows, []views.Cell{{Text: p.Province, URL: idURL("/provinces", p.ProvinceID) + "/timeline"}, {Text: pulse},
 				{Text: p.probWords(p.Within, p.WithinSE), Num: true}, {Text: p.probWords(p.After, p.AfterSE), Num: true}, {Text: lag, Num: true}, hold})

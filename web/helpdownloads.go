@@ -18,19 +18,29 @@ type downloadKind struct {
 	Kind, Title, Intro string
 	Columns            []downloadColumn
 	Notes              []string
+	Sheets             []downloadSheet // further sheets of the workbook, each with its own columns
+}
+
+// downloadSheet is a further sheet of a workbook (and its part of the JSON), with its columns.
+type downloadSheet struct {
+	ID, Title, Intro string
+	Columns          []downloadColumn
 }
 
 func downloadKinds() []downloadKind {
 	return []downloadKind{
 		{Kind: "comparison", Title: "Comparison table (CSV, XLSX, JSON)",
-			Intro:   "One row per pulse (or unit) and event, in the order of the comparison's table: what is compared, the ages of both, the probabilities with their Monte Carlo standard errors, the lag, the volume erupted before the event, the sensitivity and the choices the row was made with. The same columns in the CSV, in the workbook's Comparison sheet and in the rows of the JSON; the workbook adds a sheet of every setting and the sources, the JSON the same settings and the order matrix.",
+			Intro:   "One row per pulse (or unit) and event, in the order of the comparison's table: what is compared, the ages of both, the probabilities with their Monte Carlo standard errors, the lag, the volume erupted before the event, the sensitivity and the choices the row was made with. The same columns in the CSV, in the workbook's Comparison sheet and in the rows of the JSON; the workbook adds a sheet of which came first between every pair of items and a sheet of every setting and the sources, the JSON the same settings and pairs.",
 			Columns: compareColumnDefsFor(true),
 			Notes: []string{
 				"The columns about units (row_kind, unit_code, unit, unit_system, unit_mean_ma, unit_sigma_ma_1s) are in the file only when the comparison has rows of single units; otherwise the file starts province, pulse, event_code.",
 				"Digits: in the CSV and the workbook a probability and its standard error are written to the decimals that give the standard error two significant digits (SE 0.0017: four decimals), ages in Ma to 0.001 Ma (more when a 95 % interval is narrower than 0.01 Ma), fractions of the volume and the overlap to 0.001. The JSON keeps every digit of the computation.",
 				"A probability of exactly 0 or 1 (no draw, or every draw) keeps its number, with standard error 0, and its _bound column says what it stands for: below 3/N or above 1 − 3/N for N draws (about the 95 % bound when nothing was seen in N tries), as the page writes it.",
 				"Ages are in millions of years before present (Ma), older = larger; a 95 % interval is lo95 (younger end) to hi95 (older end).",
-			}},
+			},
+			Sheets: []downloadSheet{{ID: "columns-precedence", Title: "Sheet “Which came first” (and which_came_first.pairs in the JSON)",
+				Intro:   "Every pair of the comparison's items (pulse onsets and ends, units, events; a pulse's onset and its own end left out), once, in its likelier order: eruptions against the sedimentary record first, then the others, the most certain first. The JSON adds the items' codes and words and the full grid: p_row_before_column[i][k] = P(item i came before item k), with its standard errors.",
+				Columns: precedenceColumnDefs}}},
 		{Kind: "compilation", Title: "Compilation view: events and nearest pulses (CSV, XLSX, JSON)",
 			Intro:   "One row per event and province compared with it, in the order of the compilation view's table: the event and its age, the nearest pulse of the province with its ages, P(within) with its Monte Carlo standard error, the lag from the pulse's onset, the sensitivity, and the settings. An event no province was compared with has one row without a province, its note saying why. The same columns in the CSV, in the workbook's first sheet and in the rows of the JSON; the workbook adds a sheet of the settings, the JSON the settings, the cautions and each province's pulses.",
 			Columns: compilationColumns,
@@ -74,6 +84,14 @@ func (s *Server) handleDownloadFormat(w http.ResponseWriter, r *http.Request) er
 		t.Rows = append(t.Rows, []views.Cell{{Text: c.Name, Class: "code"}, {Text: c.Unit}, {Text: c.Meaning}})
 	}
 	v.Tables = []views.Table{t}
+	for _, sh := range k.Sheets {
+		st := views.Table{ID: sh.ID, Caption: sh.Title, Columns: t.Columns}
+		for _, c := range sh.Columns {
+			st.Rows = append(st.Rows, []views.Cell{{Text: c.Name, Class: "code"}, {Text: c.Unit}, {Text: c.Meaning}})
+		}
+		st.Notes = []string{sh.Intro}
+		v.Tables = append(v.Tables, st)
+	}
 	v.Links = []views.Link{{Label: "Help", URL: "/help"}}
 	s.render(w, r, http.StatusOK, views.DetailPage(v))
 	return nil

@@ -79,7 +79,7 @@ var paramDocs = []paramDoc{
 	{"seed", whereTimeline + ", section pages", "whole number", "1", "Seed of the random draws, so a result can be reproduced exactly."},
 	{"reps", whereTimeline, "100 to 10000", "1000", "Bootstrap replicates of the density's band and its pulses."},
 	{"rows", whereCompare, "pulses, units, both", "pulses", "What the comparison's rows are: pulses of the density, single units, or both."},
-	{"pulses", whereCompare, "pulse names, comma-separated", "all", "Only these pulses."},
+	{"pulses", whereCompare, "pulses by their age, comma-separated: P and an age in Ma within the pulse (P155.4, as the downloads' pulse column writes it)", "all", "Only these pulses. A pulse is named by its age, not its place, so the choice keeps naming the same pulse after the data or the density's choices change, as long as it still covers that age."},
 	{"units", whereCompare, "units' numbers, comma-separated", "every unit with a mean", "The units compared as rows, in this order."},
 	{"sections", whereEvents, "sections' numbers, comma-separated", "all", "Only events of these sections."},
 	{"events", whereEvents, "events' numbers, comma-separated", "every event with an age", "Only these events."},

@@ -179,8 +179,15 @@ func computeDensity(sums []unitSummary, ch densityChoice, dateBars [][2]float64)
 	return res, optionBadRequest(err, densityParams)
 }
 
-// pulseName numbers pulses from the oldest: P1 is the first eruptive pulse.
-func pulseName(i int) string { return analysis.PulseName(i) }
+// pulseIDs names a density's pulses (oldest first, as pages list them) by their age.
+func pulseIDs(ps []stats.PulseSummary) []analysis.PulseID {
+	return analysis.PulseNames(oldestFirst(ps))
+}
+
+// figurePulseLabel is a pulse's label in a figure, beside its lane or over its mode: "~155.4 Ma".
+func figurePulseLabel(id analysis.PulseID) string {
+	return "~" + strings.TrimPrefix(id.Label, "pulse at ~")
+}
 
 // oldestFirst returns the pulses oldest first (stats gives them youngest first).
 func oldestFirst(ps []stats.PulseSummary) []stats.PulseSummary { return analysis.OldestFirst(ps) }

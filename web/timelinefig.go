@@ -238,8 +238,9 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 			d.PDPLabel = "PDP: each value spread by its own 1σ — not a KDE (see the caution)"
 		}
 		f.Density = d
+		ids := pulseIDs(res.Pulses)
 		for i, p := range oldestFirst(res.Pulses) {
-			f.Pulses = append(f.Pulses, figurePulse(i, p, res, ch))
+			f.Pulses = append(f.Pulses, figurePulse(ids[i], p, res, ch))
 		}
 	}
 	seen := map[string]bool{}
@@ -257,15 +258,15 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 	if ch.Count == "unit" {
 		f.SigmaNote += fmt.Sprintf("Grey boxes: each unit's weighted mean ± %dσ at the %s level — the value counted. ", level, ch.Sum.Level)
 	}
-	f.SigmaNote += "Density per Ma; pulses numbered from the oldest; hover over a date for its record."
+	f.SigmaNote += "Density per Ma; pulses named by the age of their mode; hover over a date for its record."
 	if slices.ContainsFunc(rows, func(r views.FigureRow) bool { return r.Band != nil }) {
 		f.SigmaNote += fmt.Sprintf(" A unit with more than %d dates is drawn as one band: the span of its dates' error bars, and a profile of how many dates fall at each age; click the band for the list of its dates.", figureDatesEach)
 	}
 	return f
 }
 
-func figurePulse(i int, p stats.PulseSummary, res densityResult, ch densityChoice) views.FigurePulse {
-	fp := views.FigurePulse{Label: pulseName(i), ModeMa: p.ModeMa, StartMa: p.StartMa, EndMa: p.EndMa,
+func figurePulse(id analysis.PulseID, p stats.PulseSummary, res densityResult, ch densityChoice) views.FigurePulse {
+	fp := views.FigurePulse{Label: figurePulseLabel(id), ModeMa: p.ModeMa, StartMa: p.StartMa, EndMa: p.EndMa,
 		ModeLoMa: p.Mode.LowerMa, ModeHiMa: p.Mode.UpperMa, StartLoMa: p.Start.LowerMa, StartHiMa: p.Start.UpperMa,
 		EndLoMa: p.End.LowerMa, EndHiMa: p.End.UpperMa, Detail: fmt.Sprintf("%.0f %%", 100*p.Frequency)}
 	if p.Present == 0 {
@@ -274,7 +275,7 @@ func figurePulse(i int, p stats.PulseSummary, res densityResult, ch densityChoic
 	}
 	dec := pulseDecimals(res)
 	fp.Title = fmt.Sprintf("%s: mode %s Ma (95 %%: %s); start %s Ma (95 %%: %s); end %s Ma (95 %%: %s); in %.0f %% of %d replicates",
-		fp.Label, fixed(p.ModeMa, dec), interval(p.Mode, dec), fixed(p.StartMa, dec), interval(p.Start, dec), fixed(p.EndMa, dec), interval(p.End, dec),
+		upperFirst(id.Label), fixed(p.ModeMa, dec), interval(p.Mode, dec), fixed(p.StartMa, dec), interval(p.Start, dec), fixed(p.EndMa, dec), interval(p.End, dec),
 		100*p.Frequency, ch.Reps)
 	return fp
 }
@@ -303,8 +304,9 @@ func pulseTable(res densityResult, ch densityChoice) views.Table {
 		return t
 	}
 	dec := pulseDecimals(res)
+	ids := pulseIDs(res.Pulses)
 	for i, p := range oldestFirst(res.Pulses) {
-		t.Rows = append(t.Rows, []views.Cell{{Text: pulseName(i)}, {Text: fmt.Sprintf("%.1f", 100*p.Frequency), Num: true},
+		t.Rows = append(t.Rows, []views.Cell{{Text: upperFirst(ids[i].Label), Title: ids[i].Range}, {Text: fmt.Sprintf("%.1f", 100*p.Frequency), Num: true},
 			{Text: fixed(p.ModeMa, dec), Num: true}, {Text: interval(p.Mode, dec), Num: true},
 			{Text: fixed(p.StartMa, dec), Num: true}, {Text: interval(p.Start, dec), Num: true},
 			{Text: fixed(p.EndMa, dec), Num: true}, {Text: interval(p.End, dec), Num: true},
@@ -452,6 +454,7 @@ func timelineJSON(r *http.Request, prov store.Province, res densityResult, ch de
 	out["bandwidth"] = bw
 	type pulseJSON struct {
 		Pulse     string             `json:"pulse"`
+		Name      string             `json:"name"`
 		Frequency float64            `json:"frequency"`
 		Present   int                `json:"present"`
 		ModeMa    float64            `json:"mode_ma"`
@@ -463,8 +466,9 @@ func timelineJSON(r *http.Request, prov store.Province, res densityResult, ch de
 		End       stats.AgeQuantiles `json:"end_quantiles"`
 	}
 	var ps []pulseJSON
+	ids := pulseIDs(res.Pulses)
 	for i, p := range oldestFirst(res.Pulses) {
-		ps = append(ps, pulseJSON{Pulse: pulseName(i), Frequency: p.Frequency, Present: p.Present, ModeMa: p.ModeMa, StartMa: p.StartMa,
+		ps = append(ps, pulseJSON{Pulse: ids[i].Code, Name: ids[i].Label, Frequency: p.Frequency, Present: p.Present, ModeMa: p.ModeMa, StartMa: p.StartMa,
 			EndMa: p.EndMa, Mass: p.Mass, Mode: p.Mode, Start: p.Start, End: p.End})
 	}
 	out["pulses"] = ps
@@ -500,7 +504,7 @@ var timelinePulseColumns = []downloadColumn{
 	{"adaptive", "", "true when each value has its own width (adapting to the data, the rule's width as the pilot)."},
 	{"replicates", "", "The number of bootstrap replicates of the density (resampling the values with their uncertainties)."},
 	{"seed", "", "The seed of the bootstrap: the same address and seed give the same file."},
-	{"pulse", "", "The pulse, numbered from the oldest (P1 is the oldest)."},
+	{"pulse", "", "The pulse, by its age: P and the age of its mode in Ma (P155.4 is the pulse at ~155.4 Ma), to the decimal of the first significant digit of half its mode's 95 % range; the comparison's downloads and its pulses= choice use the same code."},
 	{"frequency", "fraction 0–1", "The share of the bootstrap replicates in which the pulse exists (present / replicates)."},
 	{"present", "replicates", "The number of bootstrap replicates in which the pulse exists."},
 	{"mode_ma", "Ma", "The age of the pulse's peak in the density of the data (the reference density)."},
@@ -551,8 +555,9 @@ func writeTimelineCSV(w http.ResponseWriter, name, table string, res densityResu
 			cw.Write(columnNames(timelinePulseColumns))
 			settings := []string{ch.Sum.Cal.Cal.Code, ch.Sum.Level.String(), strconv.Itoa(ch.Sum.Sigma), ch.Count, ch.Weight,
 				res.Bandwidth.Rule.String(), g(res.Bandwidth.Ma), strconv.FormatBool(ch.Adaptive), itoa(ch.Reps), strconv.FormatUint(ch.Seed, 10)}
+			ids := pulseIDs(res.Pulses)
 			for i, p := range oldestFirst(res.Pulses) {
-				cw.Write(append(slices.Clone(settings), pulseName(i), g(p.Frequency), itoa(p.Present), g(p.ModeMa), g(p.Mode.LowerMa), g(p.Mode.MedianMa), g(p.Mode.UpperMa),
+				cw.Write(append(slices.Clone(settings), ids[i].Code, g(p.Frequency), itoa(p.Present), g(p.ModeMa), g(p.Mode.LowerMa), g(p.Mode.MedianMa), g(p.Mode.UpperMa),
 					g(p.StartMa), g(p.Start.LowerMa), g(p.Start.MedianMa), g(p.Start.UpperMa), g(p.EndMa), g(p.End.LowerMa), g(p.End.MedianMa), g(p.End.UpperMa),
 					g(p.Mass)))
 			}

@@ -108,7 +108,8 @@ type CoincidenceEvent struct {
 type CoincidenceOnset struct {
 	ProvinceID int64
 	Province   string
-	Pulse      string  // its name in the province's timeline (P1 the oldest)
+	Pulse      string  // its code in the province's timeline (P155.4: by its age)
+	Name       string  // its name in words ("pulse at ~155.4 Ma"); the code's words when empty
 	OnsetMa    float64 // the older edge of the pulse in the reference density
 	Lo95Ma     float64 // 2.5–97.5 % of the older edge over the bootstrap replicates in which the pulse exists
 	Hi95Ma     float64
@@ -116,8 +117,16 @@ type CoincidenceOnset struct {
 	Frequency  float64 // share of replicates in which the pulse exists
 }
 
-// Label names the onset for a table: "P2 of Province".
-func (o CoincidenceOnset) Label() string { return o.Pulse + " of " + o.Province }
+// Label names the onset for a table: "pulse at ~155.4 Ma of Province".
+func (o CoincidenceOnset) Label() string { return o.PulseWords() + " of " + o.Province }
+
+// PulseWords names the onset's pulse in words: "pulse at ~155.4 Ma".
+func (o CoincidenceOnset) PulseWords() string {
+	if o.Name != "" {
+		return o.Name
+	}
+	return "pulse at ~" + strings.TrimPrefix(o.Pulse, "P") + " Ma"
+}
 
 // CoincidenceInputs are the events and onsets, and what they depend on.
 type CoincidenceInputs struct {

@@ -16,9 +16,9 @@ func coincidenceInputsForTest() CoincidenceInputs {
 			{Code: "E3", Name: "Boundary", AgeMa: 149.20, Lo95Ma: 148.9, Hi95Ma: 149.5},
 		},
 		Onsets: []CoincidenceOnset{
-			{ProvinceID: 1, Province: "X", Pulse: "P1", OnsetMa: 152.5},
-			{ProvinceID: 1, Province: "X", Pulse: "P2", OnsetMa: 150.0},
-			{ProvinceID: 2, Province: "Y", Pulse: "P1", OnsetMa: 147.0},
+			{ProvinceID: 1, Province: "X", Pulse: "P152.2", OnsetMa: 152.5},
+			{ProvinceID: 1, Province: "X", Pulse: "P149.6", OnsetMa: 150.0},
+			{ProvinceID: 2, Province: "Y", Pulse: "P146.8", OnsetMa: 147.0},
 		},
 		SpansMa: [][2]float64{{149.0, 153.0}, {146.5, 148.0}},
 	}
@@ -26,7 +26,7 @@ func coincidenceInputsForTest() CoincidenceInputs {
 
 // The automatic window runs from the oldest to the youngest of the density windows, the events' 95 %
 // ranges and the onsets: here 153.0 (X's density) to 146.5 Ma (Y's), by hand. Each event's nearest onset
-// and distance by hand: 150.30 → P2 of X (0.30), 151.90 → P1 of X (0.60), 149.20 → P2 of X (0.80); mean
+// and distance by hand: 150.30 → X's pulse with onset 150.0 (0.30), 151.90 → X's at 152.5 (0.60), 149.20 → X's at 150.0 (0.80); mean
 // 1.7/3 Ma.
 func TestCoincideAutomaticWindowAndNearestOnsets(t *testing.T) {
 	o := DefaultCoincidenceOptions()
@@ -41,7 +41,7 @@ func TestCoincideAutomaticWindowAndNearestOnsets(t *testing.T) {
 	want := []struct {
 		code, onset string
 		d           float64
-	}{{"E2", "P1 of X", 0.6}, {"E1", "P2 of X", 0.3}, {"E3", "P2 of X", 0.8}} // oldest first
+	}{{"E2", "pulse at ~152.2 Ma of X", 0.6}, {"E1", "pulse at ~149.6 Ma of X", 0.3}, {"E3", "pulse at ~149.6 Ma of X", 0.8}} // oldest first
 	if len(res.Nearest) != len(want) {
 		t.Fatalf("%d events, want %d", len(res.Nearest), len(want))
 	}

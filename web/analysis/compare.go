@@ -96,13 +96,19 @@ func (res *Comparison) inputs(ctx context.Context, d *CompareData, o CompareOpti
 	var bad OptionErrors
 	if len(o.Pulses) > 0 {
 		var keep []ComparePulse
+		ids := make([]PulseID, len(pulses))
+		for i, p := range pulses {
+			ids[i] = p.ID
+		}
 		for _, name := range o.Pulses {
-			i := slices.IndexFunc(pulses, func(p ComparePulse) bool { return p.Name == name })
+			i := PulseByCode(ids, name)
 			if i < 0 {
-				bad = append(bad, &OptionError{Option: "Pulses", Problem: fmt.Sprintf("there is no pulse %s with these density choices (there are %d)", name, len(pulses))})
+				bad = append(bad, &OptionError{Option: "Pulses", Problem: fmt.Sprintf("there is no pulse %s with these density choices (a pulse is named by its age: P and an age within its range; there are %s)", name, pulseCodeList(pulses))})
 				continue
 			}
-			keep = append(keep, pulses[i])
+			if !slices.ContainsFunc(keep, func(p ComparePulse) bool { return p.Name == pulses[i].Name }) {
+				keep = append(keep, pulses[i])
+			}
 		}
 		pulses = keep
 	}
@@ -138,6 +144,18 @@ func (res *Comparison) inputs(ctx context.Context, d *CompareData, o CompareOpti
 		res.In.UnitRows = rows
 	}
 	return bad.Err()
+}
+
+// pulseCodeList names the pulses by their codes and ranges, for a message: "P155.4 (155.6–155.1 Ma), …" or "none".
+func pulseCodeList(ps []ComparePulse) string {
+	if len(ps) == 0 {
+		return "none"
+	}
+	var parts []string
+	for _, p := range ps {
+		parts = append(parts, fmt.Sprintf("%s (%s–%s Ma)", p.Name, num3(p.ID.Span.OldMa), num3(p.ID.Span.YoungMa)))
+	}
+	return strings.Join(parts, ", ")
 }
 
 // unknownUnit says why the options name a unit that cannot be compared.
@@ -245,7 +263,7 @@ func (res *Comparison) order(jd *stats.JointDraws, o CompareOptions, iv []stats.
 	for _, c := range codes {
 		i, ok := itemIndex(c, res.In, iv, evIdx, rowIdx)
 		if !ok {
-			bad = append(bad, &OptionError{Option: "Order", Problem: fmt.Sprintf("unknown item %q; want a pulse (P1 for its onset, P1.end), a unit (U7), an event (E12), a group (G:cie_onset) or an anomaly (A3.1) of this comparison", c)})
+			bad = append(bad, &OptionError{Option: "Order", Problem: fmt.Sprintf("unknown item %q; want a pulse by its age (P155.4 for its onset, P155.4.end), a unit (U7), an event (E12), a group (G:cie_onset) or an anomaly (A3.1) of this comparison", c)})
 			continue
 		}
 		items = append(items, i)
@@ -319,13 +337,21 @@ func itemIndex(code string, in CompareInputs, iv []stats.IntervalRef, evIdx, row
 			return rowIdx[i], true
 		}
 	}
+	ids := make([]PulseID, len(in.Pulses))
 	for i, p := range in.Pulses {
-		switch code {
-		case p.Name, p.Name + ".onset":
-			return iv[i].Onset, true
-		case p.Name + ".end":
+		ids[i] = p.ID
+	}
+	pulse, edge := code, "onset"
+	for _, suffix := range []string{".onset", ".end"} {
+		if c, ok := strings.CutSuffix(code, suffix); ok {
+			pulse, edge = c, suffix[1:]
+		}
+	}
+	if i := PulseByCode(ids, pulse); i >= 0 {
+		if edge == "end" {
 			return iv[i].End, true
 		}
+		return iv[i].Onset, true
 	}
 	for i, e := range in.Events {
 		if e.Code == code {

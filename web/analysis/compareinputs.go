@@ -35,18 +35,19 @@ func pulseInputs(d *CompareData, dc DensityOptions) ([]ComparePulse, Density, []
 	// stats lists pulses youngest first (ascending mode); name them from the oldest.
 	apply, note := edgeSystematics(sums, res, dc)
 	summaries := OldestFirst(res.Pulses)
+	ids := PulseNames(summaries)
 	var out []ComparePulse
 	for i := range edges {
 		e := edges[len(edges)-1-i]
-		if len(e.StartMa) == 0 {
+		if len(e.StartMa) == 0 || i >= len(summaries) {
 			continue
 		}
-		name := PulseName(i)
-		on, end := e.Quantities(name, "pulse "+name)
-		cp := ComparePulse{Name: name, Edges: e, Onset: apply(on), End: apply(end)}
-		if i < len(summaries) {
-			cp.Summary = summaries[i]
-		}
+		id := ids[i]
+		// The draws' stream is keyed by the pulse's place (the group), as before pulses were named by
+		// their age, so the numbers stay digit for digit; the sensitivity gives an alternative's
+		// matching pulse the stream of the pulse it matches.
+		on, end := e.Quantities(id.Code, "pulse "+PulseName(i))
+		cp := ComparePulse{Name: id.Code, ID: id, Edges: e, Onset: apply(on), End: apply(end), Summary: summaries[i]}
 		out = append(out, cp)
 	}
 	return out, res, sums, note, nil

@@ -3,7 +3,6 @@ package analysis
 import (
 	"context"
 	"fmt"
-	"math"
 	"slices"
 	"strings"
 	"sync"
@@ -178,16 +177,7 @@ func (res *Comparison) altQuantities(ctx context.Context, d *CompareData, o Comp
 				qs[x.rowIdx[i]] = q
 			}
 		}
-		for i, p := range res.In.Pulses {
-			j := nearestPulse(ps, p.Summary.ModeMa)
-			if j < 0 {
-				absent = append(absent, p.Name)
-				continue
-			}
-			on, end := ps[j].Onset, ps[j].End
-			on.Name, end.Name = p.Onset.Name, p.End.Name
-			qs[x.iv[i].Onset], qs[x.iv[i].End] = on, end
-		}
+		absent = append(absent, pulsesUnder(res.In.Pulses, ps, qs, x.iv)...)
 	}
 	if a.sec != nil {
 		evs, _, err := eventInputs(ctx, d, o, *a.sec)
@@ -259,13 +249,37 @@ func (res *Comparison) sensProbabilities(j *stats.JointDraws, o CompareOptions, 
 	return out, med, nil
 }
 
-// nearestPulse returns the index of the pulse whose mode is nearest modeMa, or −1 for none.
-func nearestPulse(ps []ComparePulse, modeMa float64) int {
-	best, bd := -1, math.Inf(1)
-	for i, p := range ps {
-		if dd := math.Abs(p.Summary.ModeMa - modeMa); dd < bd {
-			best, bd = i, dd
+// pulsesUnder puts an alternative's pulses (alt) in place of the chosen ones (base, at iv among qs): each
+// chosen pulse takes the edges of the alternative's pulse that is the same pulse (MatchComparePulses: by
+// age range, not by place, so an extra pulse before it changes nothing), under its own names and random
+// stream (common random numbers). It returns the names of the chosen pulses the alternative lacks,
+// which keep their own edges.
+func pulsesUnder(base, alt []ComparePulse, qs []stats.Quantity, iv []stats.IntervalRef) []string {
+	var absent []string
+	match := MatchComparePulses(base, alt)
+	for i, p := range base {
+		j := match.Counterpart(i)
+		if j < 0 {
+			absent = append(absent, p.Name)
+			continue
 		}
+		on, end := alt[j].Onset, alt[j].End
+		on.Name, end.Name = p.Onset.Name, p.End.Name
+		on.Group, end.Group = p.Onset.Group, p.End.Group
+		qs[iv[i].Onset], qs[iv[i].End] = on, end
 	}
-	return best
+	return absent
+}
+
+// MatchComparePulses matches pulses of one comparison's inputs (a) with another's (b) by their age
+// ranges (stats.MatchPulses), never by their place in the list.
+func MatchComparePulses(a, b []ComparePulse) stats.PulseMatching {
+	span := func(ps []ComparePulse) []stats.PulseSpan {
+		out := make([]stats.PulseSpan, len(ps))
+		for i, p := range ps {
+			out[i] = p.ID.Span
+		}
+		return out
+	}
+	return stats.MatchPulses(span(a), span(b))
 }

@@ -52,7 +52,8 @@ func eventPoint(ea EventAge, point string) (float64, string) {
 
 // ComparePulse is a pulse of the density with its edge draws.
 type ComparePulse struct {
-	Name    string
+	Name    string  // its code (P155.4), from its age: PulseNames
+	ID      PulseID // its names and the age range it is matched by
 	Summary stats.PulseSummary
 	Edges   stats.PulseEdgeSamples
 	Onset   stats.Quantity

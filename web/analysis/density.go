@@ -452,7 +452,8 @@ func cmpOr(a, b *float64) *float64 {
 	return b
 }
 
-// PulseName numbers pulses from the oldest: P1 is the first eruptive pulse.
+// PulseName numbers pulses from the oldest (P1 is the first eruptive pulse): only the key of a pulse's
+// random stream in the comparison; pages and downloads name pulses by their age (PulseNames).
 func PulseName(i int) string { return "P" + strconv.Itoa(i+1) }
 
 // OldestFirst returns the pulses oldest first (stats gives them youngest first).
