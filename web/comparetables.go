@@ -138,7 +138,9 @@ func orderTable(res *compareResult) views.Table {
 				row = append(row, views.Cell{Text: "—", Num: true})
 				continue
 			}
-			cell := views.Cell{Text: fixed(o.P[i][k], 3), Num: true, Title: fmt.Sprintf("P(%s older than %s) = %s ± %s", o.Names[i], o.Names[k], fixed(o.P[i][k], 4), fixed(o.SE[i][k], 4))}
+			// Written as every other probability of the page: to the decimals its SE supports, 0 and 1 as bounds.
+			pt := probText(stats.Probability{P: o.P[i][k], SE: o.SE[i][k]}, o.N)
+			cell := views.Cell{Text: pt, Num: true, Title: fmt.Sprintf("P(%s older than %s) = %s", o.Names[i], o.Names[k], pt)}
 			if o.P[i][k] > 0.95 {
 				cell.Class = "strong"
 			}

@@ -64,6 +64,11 @@ func TestDownloadDictionary(t *testing.T) {
 	for _, c := range []struct{ kind, file string }{
 		{"comparison", "/compare?format=csv&rows=both&sens=0&n=2000&reps=200&draws=500"},
 		{"timeline-pulses", "/provinces/1/timeline?format=csv&table=pulses&reps=200"},
+		{"unit-summaries", "/provinces/1/summary?format=csv"},
+		{"section-age-model", "/sections/1/agemodel?format=csv&draws=200"},
+		{"section-anomalies", "/sections/1/anomalies?format=csv&draws=200"},
+		{"section-ratios", "/sections/1/ratios?format=csv&draws=200"},
+		{"sections-aligned", "/sections/aligned?format=csv&draws=200"},
 	} {
 		status, _, page := get(t, srv, "/help/downloads/"+c.kind)
 		if status != 200 {
