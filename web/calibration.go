@@ -25,9 +25,9 @@ func (s *Server) handleCalibrationList(w http.ResponseWriter, r *http.Request) e
 	t := views.Table{ID: "calibrations", Columns: []views.Column{{Label: "Calibration"}, {Label: "Total ⁴⁰K decay constant", Num: true},
 		{Label: "σ(λ)", Unit: "1σ", Num: true}, {Label: "Monitor"}, {Label: "Monitor age", Unit: "Ma", Num: true},
 		{Label: "σ(monitor)", Unit: "Ma, 1σ", Num: true},
-		{Label: "Correlation of λ and monitor age", Num: true, Title: "from the source's joint fit of the decay constants and the monitor; 0 when they come from independent sources"},
-		{Label: "Source"}, {Label: "Checked against the paper"}, {Label: "Target"},
-		{Label: "Views", Title: "the dates and a province's unit summaries recalculated to this calibration"}}}
+		{Label: "Correlation", Unit: "of λ and monitor age", Num: true, Title: "from the source's joint fit of the decay constants and the monitor; 0 when they come from independent sources"},
+		{Label: "Target"}, {Label: "Views", Title: "the dates and a province's unit summaries recalculated to this calibration"}}}
+	src := views.Table{ID: "calibration-sources", Caption: "Where the values come from", Columns: []views.Column{{Label: "Calibration"}, {Label: "Source"}, {Label: "Checked against the paper"}}}
 	for _, c := range cals {
 		st := calibrationStandingOf(c)
 		sl, sm := st.SigmaLambda, st.SigmaMonitor
@@ -41,20 +41,21 @@ func (s *Server) handleCalibrationList(w http.ResponseWriter, r *http.Request) e
 		if c.IsTarget {
 			target = views.Cell{Text: "compilation target", Class: "target"}
 		}
-		checked := views.Cell{Text: st.Checked}
+		checked := views.Cell{Text: st.Checked, Class: "prose"}
 		if !st.AllChecked {
-			checked.Class = "caution"
+			checked.Class = "prose caution"
 		}
-		t.Rows = append(t.Rows, []views.Cell{{Text: c.Name, Title: c.Code}, {Text: lambda(c.LambdaPerA), Num: true}, {Text: sl, Num: true},
-			{Text: c.Monitor}, {Text: num(c.MonitorAgeMa), Num: true}, {Text: sm, Num: true},
-			{Text: fmt.Sprintf("%.2f", c.LambdaMonitorCorrelation), Num: true}, {Text: st.Source}, checked, target, {Text: "dates recalculated to it", URL: "/dates?cal=" + c.Code}})
+		t.Rows = append(t.Rows, []views.Cell{{Text: c.Name, Title: c.Code}, {Text: lambda(c.LambdaPerA), Num: true}, {Text: sl, Num: true, Title: st.SigmaLambdaWhy},
+			{Text: c.Monitor}, {Text: num(c.MonitorAgeMa), Num: true}, {Text: sm, Num: true, Title: st.SigmaMonitorWhy},
+			{Text: fmt.Sprintf("%.2f", c.LambdaMonitorCorrelation), Num: true}, target, {Text: "dates on it", URL: "/dates?cal=" + c.Code}})
+		src.Rows = append(src.Rows, []views.Cell{{Text: c.Name}, {Text: st.Source, Class: "prose"}, checked})
 	}
-	t.Notes = []string{calibrationsUnchecked,
+	src.Notes = []string{calibrationsUnchecked, calibrationsDerived}
+	t.Notes = []string{
 		"⁴⁰Ar/³⁹Ar ages depend on the fluence-monitor age and the ⁴⁰K decay constant their authors used. Recalculation between calibrations uses the exact closed form (the sample/monitor ratio is invariant), never linear scaling by the monitor-age ratio.",
 		"The compilation target is the calibration every ⁴⁰Ar/³⁹Ar date and unit summary is recalculated to by default; every page that shows ⁴⁰Ar/³⁹Ar ages can show them on another calibration (its calibration menu). An admin changes the target with the buttons below the table (or on the command line); the change is recorded like any other and can be undone.",
-		"The full external uncertainty of a recalculated age adds the calibration's monitor-age and decay-constant terms to the analytical one; where a calibration has no σ for a term, that term is missing from it and the pages say so. Where the source fits the decay constants and the monitor age jointly (Renne et al. 2010, 2011), the two are correlated, and their covariance is used: in the full external ± (first-order propagation) and in the comparison, which draws them together.",
-		calibrationsDerived}
-	v := views.Detail{Page: s.page(r.Context(), "⁴⁰Ar/³⁹Ar calibrations", "Calibrations"), Tables: []views.Table{t}}
+		"The full external uncertainty of a recalculated age adds the calibration's monitor-age and decay-constant terms to the analytical one; where a calibration has no σ for a term, that term is missing from it and the pages say so. Where the source fits the decay constants and the monitor age jointly (Renne et al. 2010, 2011), the two are correlated, and their covariance is used: in the full external ± (first-order propagation) and in the comparison, which draws them together."}
+	v := views.Detail{Page: s.page(r.Context(), "⁴⁰Ar/³⁹Ar calibrations", "Calibrations"), Tables: []views.Table{t, src}}
 	v.Page.Downloads = []views.Link{{Label: "JSON", URL: "/calibrations?format=json"}}
 	if u, ok := currentUser(r.Context()); ok && store.RoleAtLeast(u.Role, store.RoleAdmin) {
 		for _, c := range cals {
@@ -89,19 +90,21 @@ func (s *Server) handleCalibrationTarget(w http.ResponseWriter, r *http.Request)
 // checked them). The stored source text of each calibration is kept for the JSON and for calibrations
 // this list does not know; the page shows this instead, so that it says once, plainly, what is unchecked.
 type calibrationStanding struct {
-	Source       string // the citation, without remarks on how the values were entered
-	Checked      string // which values were checked against the paper, and which not
-	AllChecked   bool   // every value and σ level of the row was checked
-	SigmaLambda  string // what the σ(λ) cell says when no σ is stored
-	SigmaMonitor string // what the σ(monitor) cell says when no σ is stored
+	Source                          string // the citation, without remarks on how the values were entered
+	Checked                         string // which values were checked against the paper, and which not
+	AllChecked                      bool   // every value and σ level of the row was checked
+	SigmaLambda                     string // what the σ(λ) cell says when no σ is stored, and why
+	SigmaMonitor                    string // what the σ(monitor) cell says when no σ is stored, and why
+	SigmaLambdaWhy, SigmaMonitorWhy string
 }
 
 func calibrationStandingOf(c store.Calibration) calibrationStanding {
 	switch c.Code {
 	case "sj77-fcs2802":
-		return calibrationStanding{Source: "λ: Steiger & Jäger 1977, EPSL 36:359. FCs age: Renne et al. 1998, Chem. Geol. 145:117.",
+		return calibrationStanding{Source: "λ: Steiger & Jäger 1977, EPSL 36:359, who give no uncertainty for it. FCs age: Renne et al. 1998, Chem. Geol. 145:117, whose uncertainty is not entered: the full external ± on this calibration lacks both terms.",
 			Checked:     "Not yet: λ and the FCs age are as entered.",
-			SigmaLambda: "none published: Steiger & Jäger (1977) give no uncertainty", SigmaMonitor: "not entered (that of Renne et al. 1998 is not in the compilation)"}
+			SigmaLambda: "none published", SigmaLambdaWhy: "Steiger & Jäger (1977) give no uncertainty for λ",
+			SigmaMonitor: "not entered", SigmaMonitorWhy: "the uncertainty of Renne et al. (1998) is not in the compilation"}
 	case "min00-fcs28201":
 		return calibrationStanding{Source: "λ: Min et al. 2000, GCA 64:73. FCs age: Kuiper et al. 2008, Science 320:500.",
 			Checked: "FCs 28.201 ± 0.046 Ma: as in the abstract of Kuiper et al. (2008), which does not say whether the ± is 1σ or 2σ (taken as 2σ). " +

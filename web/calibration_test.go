@@ -103,7 +103,7 @@ func TestCalibrationsPageSaysWhatIsChecked(t *testing.T) {
 	if n := strings.Count(page, "Not every value here has been checked against its paper"); n != 1 {
 		t.Errorf("the unchecked values are named %d times, want once", n)
 	}
-	if !strings.Contains(page, "Steiger & Jäger (1977) give no uncertainty") {
+	if !strings.Contains(page, "Steiger & Jäger 1977, EPSL 36:359, who give no uncertainty for it") {
 		t.Error("σ(λ) of Steiger & Jäger is not said in words")
 	}
 	cals, err := db.Calibrations(context.Background())

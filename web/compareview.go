@@ -202,7 +202,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		v.Cautions = append(v.Cautions, fmt.Sprintf("Some inputs are given by only %d draws (bootstrap replicates or age-model draws) and are resampled to %d: a probability cannot be known better than about ±sqrt(P(1 − P)/%d), whatever N. Every ± on this page and in the downloads counts those draws.", res.MinSamples, ch.N, res.MinSamples))
 	}
 	if res.Density.Bandwidth.Note != "" {
-		v.Cautions = append(v.Cautions, "Bandwidth: "+res.Density.Bandwidth.Note)
+		v.Cautions = append(v.Cautions, "Smoothing width: "+bandwidthNoteWords(res.Density.Bandwidth.Note))
 	}
 	fig, err := compareFigure(res)
 	if err != nil {

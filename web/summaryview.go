@@ -89,6 +89,9 @@ func ruleLabel(r stats.OutlierRule) string {
 	return r.String()
 }
 
+// ruleShort names an outlier rule in a few words (ruleLabel says how it works).
+func ruleShort(r stats.OutlierRule) string { return analysis.RuleWords(r) }
+
 // meanText writes "mean ± σ" at the chosen σ level (decimals from σ).
 func meanText(l levelled, sigma int) (string, string) { return ageSigma(l.MeanMa, l.Sigma1s, sigma) }
 
