@@ -65,9 +65,9 @@ func smoothingWords(r stats.BandwidthRule) string { return analysis.SmoothingWor
 // the note as computed).
 func bandwidthNoteWords(note string) string {
 	noRoot := regexp.MustCompile(`ISJ: ζ\(t\) has no root on \[0, 0\.1\] for these (\d+) dates \(usual for few or clustered dates\)`)
-	note = noRoot.ReplaceAllString(note, "the automatic width (from the shape of the data, Botev et al. 2010) does not exist for these $1 dates (usual for few or clustered dates)")
-	return strings.NewReplacer("ISJ could not be computed", "the automatic width (from the shape of the data, Botev et al. 2010) could not be found",
-		"used the Silverman robust rule instead", "the rule of thumb robust to outliers (Silverman 1986, 0.9) was used instead").Replace(note)
+	note = noRoot.ReplaceAllString(note, "no automatic width exists for these $1 dates (usual for few or clustered dates)")
+	return strings.NewReplacer("ISJ could not be computed", "the automatic width could not be found",
+		"used the Silverman robust rule instead", "used the robust rule of thumb (Silverman 1986) instead").Replace(note)
 }
 
 // smoothingChoice is a smoothing-width rule as a choice of the forms.
