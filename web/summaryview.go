@@ -182,7 +182,7 @@ func summaryCells(unit views.Cell, s systemSummary, ch summaryChoice) []views.Ce
 	}
 	a := s.Report.All
 	mean, sg := meanText(s.All, ch.Sigma)
-	mswd, wc, p := views.Cell{Text: "—", Num: true, Title: "a single date: no MSWD"}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}
+	mswd, wc, p := views.Cell{Text: "— (single date)", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}
 	if a.MSWDDefined {
 		mswd.Text = fmtMSWD(a.MSWD)
 		wc.Text = fmtMSWD(a.MSWDLow) + "–" + fmtMSWD(a.MSWDHigh)
