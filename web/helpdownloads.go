@@ -3,6 +3,7 @@ package web
 import (
 	"fmt"
 	"net/http"
+	"slices"
 
 	"github.com/go-chi/chi/v5"
 
@@ -73,6 +74,17 @@ func downloadKinds() []downloadKind {
 				"Each section uses its suggested host and its stored low-host threshold.",
 				"Ages are in Ma, older = larger; intervals are 95 % intervals.",
 			}},
+		{Kind: "coincidence", Title: "Coincidence test (CSV: result, events, onsets)",
+			Intro:   "Three files: the result of the test (one row, with its choices), the events with the pulse onset nearest to each, and the onsets that entered. The JSON download holds all three.",
+			Columns: slices.Concat(coincidenceResultColumnDefs, coincidenceEventColumnDefs, coincidenceOnsetColumnDefs),
+			Notes: []string{
+				"The columns are listed file by file: first the result's (statistic_ma to onset_draws), then the events' (event_code to distance_ma), then the onsets' (province to frequency).",
+				"Ages are in Ma, older = larger; intervals are 95 % intervals.",
+			}},
+		{Kind: "map-places", Title: "Map places (CSV)",
+			Intro:   "One row per place the map draws: each eruptive unit with coordinates (with its distance from its province's centre and whether it lies implausibly far) and each section with coordinates.",
+			Columns: mapColumnDefs,
+		},
 	}
 }
 

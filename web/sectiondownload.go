@@ -80,7 +80,7 @@ var anomalyColumnDefs = []downloadColumn{
 	{"age_median_ma", "Ma", "The anomaly's median model age, over its extent from base to top; empty outside the tie range."},
 	{"age_lo95_ma", "Ma", "Lower (younger) end of the 95 % interval of its age over that extent (2.5 % quantile of the draws, or −1.96σ for the naive model)."},
 	{"age_hi95_ma", "Ma", "Upper (older) end of that 95 % interval (97.5 % quantile of the draws, or +1.96σ for the naive model)."},
-	{"decision", "", "What a contributor decided: open (nothing yet), event (made into an event of the record) or rejected."},
+	{"decision", "", "What a curator decided: open (nothing yet), event (made into an event of the record) or rejected."},
 	{"decision_detail", "", "The event's name, or the reason for rejecting it."},
 	{"decided_by", "", "Who decided."},
 	{"decided_at_utc", "", "When it was decided (UTC, RFC 3339)."},
