@@ -178,9 +178,9 @@ func (s *Server) coincidenceInputs(ctx context.Context, ch coincidenceChoice) (a
 
 // densityRuleWords names the bandwidth choice (the bandwidth itself differs from province to province).
 func densityRuleWords(dc densityChoice) string {
-	w := "bandwidth by " + dc.Rule.Label()
+	w := "smoothing width: " + smoothingChoice(dc.Rule)
 	if dc.Rule == stats.RuleUser {
-		w = "bandwidth h = " + num(dc.UserHMa) + " Ma"
+		w = "smoothing width h = " + num(dc.UserHMa) + " Ma"
 	}
 	if dc.Adaptive {
 		w += ", adaptive"
@@ -320,7 +320,8 @@ func coincidenceForm(r *http.Request, ch coincidenceChoice) *views.Form {
 		sel("anomalies", "Detected anomalies", map[bool]string{true: "1", false: "0"}[ch.Cmp.Anomalies], "0", "left out", "1", "tested too"),
 		sel("point", "Events with an extent read at", ch.Cmp.Point, "base", "their base (onset)", "peak", "their peak", "top", "their top (end)"),
 		sel("model", "Age model", ch.Cmp.Model, "mc", "Monte Carlo", "linear", "naive linear"),
-		sel("bw", "Bandwidth", ch.Cmp.Dens.Rule.String(), "isj", "ISJ", "scott", "Scott", "silverman", "Silverman", "silverman-robust", "Silverman (robust)"),
+		sel("bw", "Smoothing width", ch.Cmp.Dens.Rule.String(), "isj", smoothingChoice(stats.RuleISJ), "scott", smoothingChoice(stats.RuleScott),
+			"silverman", smoothingChoice(stats.RuleSilverman), "silverman-robust", smoothingChoice(stats.RuleSilvermanRobust)),
 	}}
 }
 
