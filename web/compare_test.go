@@ -32,7 +32,8 @@ func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
 		t.Fatalf("status %d: %.500s", status, body)
 	}
 	for _, want := range []string{"P(after onset)", "P1", "P2", "CIE onset", "Order matrix", "How each row was computed",
-		"seed", "10000 joint draws", "as-needed", `id="compare-figure"`, "Sensitivity"} {
+		"seed", "10000 joint draws", "as-needed", `id="compare-figure"`, "Sensitivity",
+		"(the latest change to the compilation)", `href="/help/downloads/comparison"`} {
 		if !strings.Contains(body, want) {
 			t.Errorf("page lacks %q", want)
 		}
