@@ -12,6 +12,9 @@ import (
 var phonePages = []string{"/", "/provinces", "/provinces/1", "/provinces/1/timeline?reps=200", "/units/1", "/dates",
 	"/dates/1", "/sections", "/sections/1?draws=200", "/sections/aligned?draws=200", "/ties", "/events",
 	"/compare?" + cheap, "/coincidence?" + cheap, "/compilation", "/map", "/calibrations", "/changes", "/timescale", "/help", "/help/files/dates", "/help/addresses",
+	"/help/downloads/comparison", "/help/downloads/timeline-pulses", "/help/downloads/unit-summaries", "/help/downloads/section-age-model",
+	"/help/downloads/section-anomalies", "/help/downloads/section-ratios", "/help/downloads/sections-aligned",
+	"/help/downloads/coincidence", "/help/downloads/map-places",
 	"/releases", "/login"}
 
 // At 390 px (a phone held upright) no page scrolls sideways: the menu wraps, tables and figures scroll

@@ -77,8 +77,8 @@ func TestBrowserTimelineChangesBandwidth(t *testing.T) {
 		return v.Value
 	}
 	before := density()
-	if got := text(t, ctx, "main"); !strings.Contains(got, "Bandwidth fallback") {
-		t.Error("the default timeline does not report the ISJ fallback")
+	if got := text(t, ctx, "main"); !strings.Contains(got, "Smoothing width: no automatic width exists") {
+		t.Error("the default timeline does not report the automatic width's fallback")
 	}
 	if got := text(t, ctx, "#pulses tbody"); strings.Count(got, "Pulse at ~") < 2 {
 		t.Errorf("pulse table %q lacks the demo's two pulses named by their age", got)

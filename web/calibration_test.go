@@ -89,3 +89,47 @@ func TestRenneCovarianceOnPages(t *testing.T) {
 		t.Error("summary on an independent calibration speaks of a covariance")
 	}
 }
+
+// The calibrations page says once, plainly, which values are not checked against their papers, never
+// "from memory" nor a bare "not given"; and the values it says were checked are those stored.
+func TestCalibrationsPageSaysWhatIsChecked(t *testing.T) {
+	h, db := summaryTestServer(t)
+	page := html.UnescapeString(mustFetch(t, h, "/calibrations"))
+	for _, bad := range []string{"from memory", "not given"} {
+		if strings.Contains(page, bad) {
+			t.Errorf("calibrations page says %q", bad)
+		}
+	}
+	if n := strings.Count(page, "Not every value here has been checked against its paper"); n != 1 {
+		t.Errorf("the unchecked values are named %d times, want once", n)
+	}
+	if !strings.Contains(page, "Steiger & Jäger 1977, EPSL 36:359, who give no uncertainty for it") {
+		t.Error("σ(λ) of Steiger & Jäger is not said in words")
+	}
+	cals, err := db.Calibrations(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	byCode := map[string]store.Calibration{}
+	for _, c := range cals {
+		byCode[c.Code] = c
+	}
+	// Renne et al. 2010, GCA 74:5349, abstract: λε = 0.5755e-10 a⁻¹, λβ = 4.9737e-10 a⁻¹, FCs 28.305 ± 0.036 Ma.
+	r10 := byCode["renne10-fcs28305"]
+	if got, want := r10.LambdaPerA, 0.5755e-10+4.9737e-10; math.Abs(got-want) > 1e-16 {
+		t.Errorf("Renne et al. 2010 λ %g, want λε + λβ = %g", got, want)
+	}
+	if r10.MonitorAgeMa != 28.305 || r10.MonitorSigmaMa == nil || math.Abs(*r10.MonitorSigmaMa-0.036/2) > 1e-12 {
+		t.Errorf("Renne et al. 2010 FCs %g ± %v, want 28.305 with 1σ = 0.036/2", r10.MonitorAgeMa, r10.MonitorSigmaMa)
+	}
+	// Kuiper et al. 2008, Science 320:500, abstract: FCs 28.201 ± 0.046 Ma (read as 2σ).
+	k08 := byCode["min00-fcs28201"]
+	if k08.MonitorAgeMa != 28.201 || k08.MonitorSigmaMa == nil || math.Abs(*k08.MonitorSigmaMa-0.046/2) > 1e-12 {
+		t.Errorf("Kuiper et al. 2008 FCs %g ± %v, want 28.201 with 1σ = 0.046/2", k08.MonitorAgeMa, k08.MonitorSigmaMa)
+	}
+	for _, c := range cals {
+		if st := calibrationStandingOf(c); st.Source == c.Source && st.Checked == "—" {
+			t.Errorf("calibration %s has no standing on the page", c.Code)
+		}
+	}
+}

@@ -178,9 +178,9 @@ func (s *Server) coincidenceInputs(ctx context.Context, ch coincidenceChoice) (a
 
 // densityRuleWords names the bandwidth choice (the bandwidth itself differs from province to province).
 func densityRuleWords(dc densityChoice) string {
-	w := "bandwidth by " + dc.Rule.Label()
+	w := "smoothing width: " + smoothingChoice(dc.Rule)
 	if dc.Rule == stats.RuleUser {
-		w = "bandwidth h = " + num(dc.UserHMa) + " Ma"
+		w = "smoothing width h = " + num(dc.UserHMa) + " Ma"
 	}
 	if dc.Adaptive {
 		w += ", adaptive"
@@ -236,6 +236,7 @@ func (s *Server) coincidenceView(r *http.Request, res analysis.Coincidence, ch c
 		{Label: "CSV (result)", URL: withQuery(r, "format", "csv")},
 		{Label: "CSV (events)", URL: withQuery(r, "format", "csv", "table", "events")},
 		{Label: "CSV (onsets)", URL: withQuery(r, "format", "csv", "table", "onsets")},
+		{Label: "Columns explained", URL: "/help/downloads/coincidence"},
 		{Label: "JSON", URL: withQuery(r, "format", "json")},
 	}
 	window := fmt.Sprintf("%s–%s Ma", ma3(res.OldMa), ma3(res.YoungMa))
@@ -319,7 +320,8 @@ func coincidenceForm(r *http.Request, ch coincidenceChoice) *views.Form {
 		sel("anomalies", "Detected anomalies", map[bool]string{true: "1", false: "0"}[ch.Cmp.Anomalies], "0", "left out", "1", "tested too"),
 		sel("point", "Events with an extent read at", ch.Cmp.Point, "base", "their base (onset)", "peak", "their peak", "top", "their top (end)"),
 		sel("model", "Age model", ch.Cmp.Model, "mc", "Monte Carlo", "linear", "naive linear"),
-		sel("bw", "Bandwidth", ch.Cmp.Dens.Rule.String(), "isj", "ISJ", "scott", "Scott", "silverman", "Silverman", "silverman-robust", "Silverman (robust)"),
+		sel("bw", "Smoothing width", ch.Cmp.Dens.Rule.String(), "isj", smoothingChoice(stats.RuleISJ), "scott", smoothingChoice(stats.RuleScott),
+			"silverman", smoothingChoice(stats.RuleSilverman), "silverman-robust", smoothingChoice(stats.RuleSilvermanRobust)),
 	}}
 }
 
@@ -369,17 +371,62 @@ func coincidenceTablesView(res analysis.Coincidence) []views.Table {
 	return tables
 }
 
-// coincidenceResultColumns are the CSV columns of the result, units in the names.
-var coincidenceResultColumns = []string{"statistic_ma", "drawn_mean_ma", "p", "at_most", "replicates", "seed", "null",
-	"window_old_ma", "window_young_ma", "window_automatic", "ages", "events", "onsets",
-	"null_median_ma", "null_lo95_ma", "null_hi95_ma", "message", "onset_draws"}
+// coincidenceResultColumnDefs are the CSV columns of the result (one row), units in the names; the
+// writer's header and the dictionary (/help/downloads/coincidence) both come from these lists.
+var coincidenceResultColumnDefs = []downloadColumn{
+	{"statistic_ma", "Ma", "T, the test's statistic: the mean over the events of the distance from each event's age (its median) to the nearest pulse onset."},
+	{"drawn_mean_ma", "Ma", "The mean of T over the replicates with the event ages (and onsets, if drawn) drawn from their uncertainties; empty when nothing is drawn."},
+	{"p", "probability", "The p-value: (1 + at_most) / (1 + replicates), the chance of a T this small or smaller if events and onsets were unrelated."},
+	{"at_most", "replicates", "In how many replicates of the unrelated case T was at most the data's."},
+	{"replicates", "", "The number of replicates of the unrelated case."},
+	{"seed", "", "The seed of the random draws."},
+	{"null", "", "What the unrelated case moves: events (each event placed anywhere in the window, onsets fixed) or pulses (the onsets slid together by one offset, keeping their spacing, events fixed)."},
+	{"window_old_ma", "Ma", "The older end of the window the events or onsets are placed in."},
+	{"window_young_ma", "Ma", "The younger end of the window."},
+	{"window_automatic", "", "true when the window was found from the events and onsets, false when it was chosen."},
+	{"ages", "", "drawn: every replicate draws each event's age from its distribution; median: the events are placed at their medians."},
+	{"events", "", "How many events entered."},
+	{"onsets", "", "How many pulse onsets entered."},
+	{"null_median_ma", "Ma", "The median of T over the replicates of the unrelated case."},
+	{"null_lo95_ma", "Ma", "The 2.5 % quantile of T over those replicates."},
+	{"null_hi95_ma", "Ma", "The 97.5 % quantile of T over those replicates."},
+	{"message", "", "Why no test was made, when none was (for example too few events); empty otherwise."},
+	{"onset_draws", "", "drawn: every replicate takes each province's onsets from one bootstrap replicate of its density; reference: the onsets of the reference density are taken as known."},
+}
+
+var coincidenceResultColumns = columnNames(coincidenceResultColumnDefs)
+
+// coincidenceEventColumnDefs are the columns of the events CSV: each event with its nearest onset.
+var coincidenceEventColumnDefs = []downloadColumn{
+	{"event_code", "", "The event's code, as on the comparison page."},
+	{"event", "", "The event's name."},
+	{"section", "", "The section it was recorded in (empty for an event dated directly)."},
+	{"age_ma", "Ma", "The event's age: the median of its age distribution."},
+	{"lo95_ma", "Ma", "Lower (younger) end of its 95 % interval."},
+	{"hi95_ma", "Ma", "Upper (older) end of its 95 % interval."},
+	{"nearest_province", "", "The province of the pulse onset nearest to the event's age."},
+	{"nearest_pulse", "", "That pulse (P1 the oldest of its province)."},
+	{"onset_ma", "Ma", "That pulse's onset (its older edge) in the province's reference density."},
+	{"distance_ma", "Ma", "|age_ma − onset_ma|: the event's share of T."},
+}
+
+// coincidenceOnsetColumnDefs are the columns of the onsets CSV: each pulse onset that entered.
+var coincidenceOnsetColumnDefs = []downloadColumn{
+	{"province", "", "The large igneous province."},
+	{"pulse", "", "The pulse of its density (P1 the oldest), as on its timeline."},
+	{"onset_ma", "Ma", "The pulse's onset (older edge) in the reference density."},
+	{"onset_lo95_ma", "Ma", "2.5 % quantile of the onset over the bootstrap replicates in which the pulse exists."},
+	{"onset_hi95_ma", "Ma", "97.5 % quantile of the onset over those replicates."},
+	{"mode_ma", "Ma", "The pulse's peak (mode) in the reference density."},
+	{"frequency", "fraction 0–1", "The share of bootstrap replicates in which the pulse exists."},
+}
 
 // writeCoincidenceCSV writes one table of the result: the test (one row), the events or the onsets.
 func writeCoincidenceCSV(w io.Writer, res analysis.Coincidence, table string) error {
 	cw := store.NewCSVWriter(w)
 	switch table {
 	case "events":
-		if err := cw.Write([]string{"event_code", "event", "section", "age_ma", "lo95_ma", "hi95_ma", "nearest_province", "nearest_pulse", "onset_ma", "distance_ma"}); err != nil {
+		if err := cw.Write(columnNames(coincidenceEventColumnDefs)); err != nil {
 			return err
 		}
 		for _, n := range res.Nearest {
@@ -389,7 +436,7 @@ func writeCoincidenceCSV(w io.Writer, res analysis.Coincidence, table string) er
 			}
 		}
 	case "onsets":
-		if err := cw.Write([]string{"province", "pulse", "onset_ma", "onset_lo95_ma", "onset_hi95_ma", "mode_ma", "frequency"}); err != nil {
+		if err := cw.Write(columnNames(coincidenceOnsetColumnDefs)); err != nil {
 			return err
 		}
 		for _, o := range res.Onsets {

@@ -33,7 +33,8 @@ func TestComparePageRendersDemoAndDownloadsOpen(t *testing.T) {
 		t.Fatalf("status %d: %.500s", status, body)
 	}
 	for _, want := range []string{"P(after onset)", "pulse at ~", "CIE onset", "Which came first", "came after the onset of the pulse at ~", "How each row was computed",
-		"seed", "10000 joint draws", "as-needed", `id="compare-figure"`, "Sensitivity"} {
+		"seed", "10000 joint draws", "as-needed", `id="compare-figure"`, "Sensitivity",
+		"(the latest change to the compilation)", `href="/help/downloads/comparison"`} {
 		if !strings.Contains(body, want) {
 			t.Errorf("page lacks %q", want)
 		}

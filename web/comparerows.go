@@ -234,9 +234,9 @@ func dependsText(res *compareResult, row compareRow) string {
 	}
 	if row.isUnit() {
 		s := res.Choice.Dens.Sum
-		parts = []string{fmt.Sprintf("%s weighted mean (policy %s, outlier rule %s, %s", row.Unit.System, s.PolicyCode, s.Rule, includeLabel(s.Include))}
+		parts = []string{fmt.Sprintf("%s weighted mean (± %s, outlier rule: %s, %s", row.Unit.System, policyLabel(s.PolicyCode), ruleShort(s.Rule), includeLabel(s.Include))}
 		if row.Unit.Q.ArAr != nil {
-			parts[0] += ", calibration " + s.Cal.Cal.Code
+			parts[0] += ", calibration " + s.Cal.Cal.Name
 		}
 		parts[0] += ")"
 	}

@@ -1,6 +1,7 @@
 package web
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"net/http"
@@ -110,6 +111,22 @@ func seHow(n int, after, within float64) string {
 	return s + fmt.Sprintf(" of the N = %d joint draws: 1/Neff = 1/N + 1/M for each input resampled from only M draws (the pulse's replicates, the event's age-model draws)", n)
 }
 
+// dataAsOf is the status line's "data" entry as a scientist reads it: the release the page shows, or the
+// time of the latest change to the compilation the numbers were computed on, linked to that change.
+func (c *comparer) dataAsOf(ctx context.Context, stamp int64) views.KV {
+	if c.release != "" {
+		return views.KV{Label: "data", Value: "as of release " + c.release}
+	}
+	if stamp == 0 {
+		return views.KV{Label: "data", Value: "the compilation is empty"}
+	}
+	kv := views.KV{Label: "data", Value: "as of the latest change to the compilation", URL: idURL("/changes", stamp)}
+	if b, err := c.store.BatchByID(ctx, stamp); err == nil {
+		kv.Value = "as of " + when(b.At) + " (the latest change to the compilation)"
+	}
+	return kv
+}
+
 // probText formats a probability with its Monte Carlo SE; 0 and 1 read as below 3/N and above 1 − 3/N.
 func probText(p stats.Probability, n int) string {
 	switch {
@@ -139,6 +156,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	for _, f := range []string{"csv", "json", "xlsx", "svg", "png", "pdf"} {
 		v.Downloads = append(v.Downloads, views.Link{Label: strings.ToUpper(f), URL: withQuery(r, "format", f)})
 	}
+	v.Downloads = append(v.Downloads, views.Link{Label: "Columns explained", URL: "/help/downloads/comparison"})
 	// The page leads with the answer: a short intro, the figure and the table; how rows are made is in the
 	// method block, opened on demand.
 	v.Intro = "Each row: how likely an event of the sedimentary record came after a pulse's onset, within the pulse, or near it, ± the Monte Carlo standard error. Ages in Ma, older = larger; lag = onset − event (positive: the event came after). Numbers link to how they were computed."
@@ -161,7 +179,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 	v.LevelHelp = levelHelp()
 	v.Status = []views.KV{{Label: "seed", Value: strconv.FormatUint(ch.Dens.Seed, 10)}, {Label: "N", Value: strconv.Itoa(ch.N) + " joint draws"},
 		{Label: "level", Value: levelWords(ch.Level)}, {Label: "δ", Value: num(ch.DeltaMa) + " Ma"},
-		{Label: "calibration", Value: ch.Dens.Sum.Cal.Cal.Name}, {Label: "data", Value: "as of change " + strconv.FormatInt(res.Stamp, 10), URL: idURL("/changes", res.Stamp)}}
+		{Label: "calibration", Value: ch.Dens.Sum.Cal.Cal.Name}, c.dataAsOf(ctx, res.Stamp)}
 	took := strconv.FormatInt(res.Computed.Milliseconds(), 10) + " ms"
 	if cached {
 		v.Status = append(v.Status, views.KV{Label: "computed", Value: took + ", served from the cache"})
@@ -191,7 +209,7 @@ func (c *comparer) compareView(r *http.Request, res *compareResult, cached bool,
 		v.Cautions = append(v.Cautions, fmt.Sprintf("Some inputs are given by only %d draws (bootstrap replicates or age-model draws) and are resampled to %d: a probability cannot be known better than about ±sqrt(P(1 − P)/%d), whatever N. Every ± on this page and in the downloads counts those draws.", res.MinSamples, ch.N, res.MinSamples))
 	}
 	if res.Density.Bandwidth.Note != "" {
-		v.Cautions = append(v.Cautions, "Bandwidth: "+res.Density.Bandwidth.Note)
+		v.Cautions = append(v.Cautions, "Smoothing width: "+bandwidthNoteWords(res.Density.Bandwidth.Note))
 	}
 	fig, err := compareFigure(res)
 	if err != nil {

@@ -67,6 +67,12 @@ func TestDownloadDictionary(t *testing.T) {
 		{"comparison", "/compare?format=csv&rows=both&sens=0&n=2000&reps=200&draws=500"},
 		{"timeline-pulses", "/provinces/1/timeline?format=csv&table=pulses&reps=200"},
 		{"compilation", "/compilation?format=csv"},
+		{"unit-summaries", "/provinces/1/summary?format=csv"},
+		{"section-age-model", "/sections/1/agemodel?format=csv&draws=200"},
+		{"section-anomalies", "/sections/1/anomalies?format=csv&draws=200"},
+		{"section-ratios", "/sections/1/ratios?format=csv&draws=200"},
+		{"sections-aligned", "/sections/aligned?format=csv&draws=200"},
+		{"map-places", "/map?format=csv"},
 	} {
 		status, _, page := get(t, srv, "/help/downloads/"+c.kind)
 		if status != 200 {
@@ -104,6 +110,24 @@ func TestDownloadDictionary(t *testing.T) {
 	sheet, err := f.GetRows(precedenceSheet)
 	if err != nil || len(sheet) < 2 || !slices.Equal(sheet[0], listed) {
 		t.Errorf("sheet %q: %v; its header %v, the dictionary lists %v", precedenceSheet, err, sheet[:min(1, len(sheet))], listed)
+	}
+	// The coincidence test's dictionary lists its three files' columns, one after the other.
+	_, _, page = get(t, srv, "/help/downloads/coincidence")
+	listed = nil
+	for _, m := range code.FindAllStringSubmatch(page, -1) {
+		listed = append(listed, m[1])
+	}
+	var files []string
+	for _, table := range []string{"result", "events", "onsets"} {
+		_, _, body := get(t, srv, "/coincidence?format=csv&replicates=99&reps=100&draws=100&table="+table)
+		recs, err := csv.NewReader(strings.NewReader(body)).ReadAll()
+		if err != nil || len(recs) < 2 {
+			t.Fatalf("coincidence %s: %v (%d rows)", table, err, len(recs))
+		}
+		files = append(files, recs[0]...)
+	}
+	if !slices.Equal(listed, files) {
+		t.Errorf("coincidence: the page lists\n%v\nthe files have\n%v", listed, files)
 	}
 	// Without unit rows the comparison's file is the dictionary less the unit columns.
 	_, _, body := get(t, srv, "/compare?format=csv&sens=0&n=2000&reps=200&draws=500")

@@ -3,6 +3,7 @@ package web
 import (
 	"fmt"
 	"net/http"
+	"slices"
 
 	"github.com/go-chi/chi/v5"
 
@@ -57,6 +58,52 @@ func downloadKinds() []downloadKind {
 				"Intervals are the 2.5 and 97.5 % quantiles of the bootstrap replicates in which the pulse exists (a 95 % interval), whatever σ level the page shows.",
 				"Ages are in millions of years before present (Ma), older = larger.",
 			}},
+		{Kind: "unit-summaries", Title: "Unit summaries (CSV)",
+			Intro:   "One row per unit and decay system, as the province's and the unit's tables: the weighted mean of the unit's dates with its ± at the chosen σ level and uncertainty level, the MSWD and its acceptable range, the dates an outlier rule flags and the mean without them. The first seven columns are the choices the rows were made with, repeated on every row, so that a row copied out of the file still says how it was made. The JSON download holds the same rows, with the choices once in its envelope.",
+			Columns: summaryColumnDefs,
+			Notes: []string{
+				"A unit without dates has one row with its name and the note “no dates”; the numbers are empty.",
+				"Ages and their ± in Ma, rounded to 0.000001 Ma; MSWD, p and the factors to six significant digits.",
+				"Lists inside a cell (flagged, excluded, cautions, notes) are separated by “ | ”.",
+			}},
+		{Kind: "section-age-model", Title: "Section: model ages (CSV)",
+			Intro:   "One row per sample of the section, from the base up: its height and its age from the section's age–height model (median and 95 % interval of the model's draws), with the model, seed and draws it was computed with on every row.",
+			Columns: ageModelColumnDefs,
+			Notes: []string{
+				"Ages are in millions of years before present (Ma), older = larger; the interval is lo95 (younger end) to hi95 (older end), whatever σ level the page shows.",
+				"The intervals carry the tie points' uncertainties at the level chosen on the section page (analytical, with the tracer, or full: the default); the JSON download names it among its settings.",
+			}},
+		{Kind: "section-anomalies", Title: "Section: Hg anomalies (CSV)",
+			Intro:   "One row per Hg anomaly the section's rule detects: where it lies, how far it stands above the background, whether raw Hg rises with the ratio, how it reads, its model age, and what a contributor decided about it.",
+			Columns: anomalyColumnDefs,
+			Notes: []string{
+				"Robust z-scores use the median and the median absolute deviation of the background samples, on log10 values.",
+				"Ages are in Ma, older = larger; the interval is a 95 % interval whatever σ level the page shows.",
+			}},
+		{Kind: "section-ratios", Title: "Section: samples with ratios and flags (CSV)",
+			Intro:   "Every sample of the section, none dropped: its measurements, the Hg/host ratio with its status under the low-host rule, the robust z-scores and flags of the ratio and of raw Hg, the residual of the host regression, and the anomaly it belongs to.",
+			Columns: ratioColumnDefs,
+			Notes: []string{
+				"A cell is empty where the sample has no measurement.",
+			}},
+		{Kind: "sections-aligned", Title: "Sections on a common age axis (CSV)",
+			Intro:   "Every dated sample of every section at its model age, its value divided by its section's background median so that sections with different Hg levels share one scale, as the aligned sections' figure draws them.",
+			Columns: alignedColumnDefs,
+			Notes: []string{
+				"Each section uses its suggested host and its stored low-host threshold.",
+				"Ages are in Ma, older = larger; intervals are 95 % intervals.",
+			}},
+		{Kind: "coincidence", Title: "Coincidence test (CSV: result, events, onsets)",
+			Intro:   "Three files: the result of the test (one row, with its choices), the events with the pulse onset nearest to each, and the onsets that entered. The JSON download holds all three.",
+			Columns: slices.Concat(coincidenceResultColumnDefs, coincidenceEventColumnDefs, coincidenceOnsetColumnDefs),
+			Notes: []string{
+				"The columns are listed file by file: first the result's (statistic_ma to onset_draws), then the events' (event_code to distance_ma), then the onsets' (province to frequency).",
+				"Ages are in Ma, older = larger; intervals are 95 % intervals.",
+			}},
+		{Kind: "map-places", Title: "Map places (CSV)",
+			Intro:   "One row per place the map draws: each eruptive unit with coordinates (with its distance from its province's centre and whether it lies implausibly far) and each section with coordinates.",
+			Columns: mapColumnDefs,
+		},
 	}
 }
 

@@ -75,7 +75,8 @@ func (s *Server) handleMap(w http.ResponseWriter, r *http.Request) error {
 	}
 	v := views.MapView{Page: s.page(r.Context(), "Map of the compilation", "Map"), SVG: string(svg)}
 	v.Subtitle = "Units of every province and every section, at today's coordinates"
-	v.Downloads = []views.Link{{Label: "SVG", URL: withQuery(r, "format", "svg")}, {Label: "CSV", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")}}
+	v.Downloads = []views.Link{{Label: "SVG", URL: withQuery(r, "format", "svg")}, {Label: "CSV", URL: withQuery(r, "format", "csv")}, {Label: "JSON", URL: withQuery(r, "format", "json")},
+		{Label: "Columns explained", URL: "/help/downloads/map-places"}}
 	v.Intro = "Where the compilation's units and sections lie today (latitude and longitude as entered, WGS 84 degrees). A unit far from the rest of its province is circled in red: most often a sign or an entry error in its coordinates."
 	v.Caption = "Units as circles in their province's colour, sections as black squares; point at one for its name, click to open it. Equirectangular projection, longitudes scaled by the cosine of the middle latitude. " + views.MapSource
 	for _, pp := range m.Provinces {
@@ -186,7 +187,20 @@ func mapTables(m mapPlaces) []views.Table {
 	return []views.Table{t}
 }
 
-var mapColumns = []string{"kind", "name", "province", "latitude_deg", "longitude_deg", "palaeolatitude_deg", "distance_from_province_centre_km", "far", "check"}
+// mapColumnDefs are the columns of the map's CSV (/help/downloads/map-places).
+var mapColumnDefs = []downloadColumn{
+	{"kind", "", "unit (an eruptive unit with coordinates) or section."},
+	{"name", "", "The unit's or section's name."},
+	{"province", "", "The unit's province (empty for a section)."},
+	{"latitude_deg", "° N", "Today's latitude as entered, north positive."},
+	{"longitude_deg", "° E", "Today's longitude as entered, east positive."},
+	{"palaeolatitude_deg", "° N", "The palaeolatitude entered for a section (units have none recorded)."},
+	{"distance_from_province_centre_km", "km", "A unit's great-circle distance from its province's centre; empty for a section, or when the province was not checked."},
+	{"far", "", "true when a unit lies implausibly far from the rest of its province (check says why)."},
+	{"check", "", "Why a unit is flagged as far, with a likely correction (for example a swapped sign) when one fits."},
+}
+
+var mapColumns = columnNames(mapColumnDefs)
 
 func writeMapCSV(w io.Writer, m mapPlaces) error {
 	cw := store.NewCSVWriter(w)

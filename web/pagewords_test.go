@@ -11,7 +11,7 @@ import (
 
 // wordPages are the pages whose text a scientist reads: every page kind, signed out.
 var wordPages = append(append([]string{}, phonePages...), "/dates/1/history", "/changes/1", "/sections/1/agemodel?draws=200",
-	"/provinces/1/timeline?reps=200&adaptive=1&pdp=1", "/compare?n=1000&sens=1&draws=100&reps=100", "/compare/saved")
+	"/provinces/1/timeline?reps=200&adaptive=1&pdp=1", "/compare?n=1000&sens=1&draws=100&reps=100", "/compare?rows=both&n=1000&sens=0&draws=100&reps=100", "/compare/saved")
 
 var (
 	// Parts of a page that are not read as prose: scripts, styles, code samples, links' addresses (tags
@@ -26,7 +26,8 @@ var (
 		{"address syntax", regexp.MustCompile(`\b[a-z][a-z_]*=`)},
 		{"a Go identifier", regexp.MustCompile(`\b(stats|store|web|views|analysis|http|sql)\.[A-Z]\w*`)},
 		{"a stored code", regexp.MustCompile(`\b[a-z]+_[a-z_]+\b|\b(sj77|min00|renne10|renne11)-fcs\d+\b|\bsilverman-robust\b`)},
-		{"the data stamp", regexp.MustCompile(`(?i)\bdata stamp\b`)},
+		{"the data stamp", regexp.MustCompile(`(?i)\bdata stamp\b|\bas of change \d`)},
+		{"a rule's code", regexp.MustCompile(`\bpolicy (never|mswd-gt-1|p-lt-0\.05)\b|\boutlier rule (mswd|chauvenet|gesd)\b|\bISJ: ζ\(t\)`)},
 	}
 )
 
@@ -44,8 +45,8 @@ func pageProse(page string) string {
 func TestPagesHoldNoDeveloperWords(t *testing.T) {
 	srv, _ := mustServer(t)
 	for _, p := range wordPages {
-		if strings.HasPrefix(p, "/help/files/") || p == "/help/addresses" {
-			continue // the reference of the files' columns and the addresses' parameters: the codes are their subject
+		if strings.HasPrefix(p, "/help/files/") || strings.HasPrefix(p, "/help/downloads/") || p == "/help/addresses" {
+			continue // the reference of the files' and downloads' columns and the addresses' parameters: the codes are their subject
 		}
 		status, _, body := get(t, srv, p)
 		if status != http.StatusOK {

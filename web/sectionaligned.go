@@ -143,8 +143,25 @@ func (s *Server) alignedRequest(r *http.Request) ([]*sectionAnalysis, alignedOpt
 	return as, o, format, err
 }
 
-var alignedColumns = []string{"section", "sample", "height_m", "series", "value", "value_unit", "multiple_of_background_median",
-	"ratio_status", "age_model", "seed", "draws", "age_median_ma", "age_lo95_ma", "age_hi95_ma"}
+// alignedColumnDefs are the columns of the aligned sections' CSV (/help/downloads/sections-aligned).
+var alignedColumnDefs = []downloadColumn{
+	{"section", "", "The section's name."},
+	{"sample", "", "The sample's code."},
+	{"height_m", "m", "Its height above the section's base."},
+	{"series", "", "The series shown: the Hg/host ratio (for example Hg/TOC) or Hg."},
+	{"value", "value_unit", "The sample's value in that series."},
+	{"value_unit", "", "ppb/wt% for a ratio, ppb for Hg."},
+	{"multiple_of_background_median", "×", "value divided by the median of the section's background: the common scale of the figure."},
+	{"ratio_status", "", "ok, not_evaluable_low_host (host below the section's threshold) or missing."},
+	{"age_model", "", "The section's age–height model: monte_carlo, naive_linear or none."},
+	{"seed", "", "The seed of the models' random draws."},
+	{"draws", "", "The number of the models' draws."},
+	{"age_median_ma", "Ma", "The sample's median model age (only samples within their section's tie range are in the file)."},
+	{"age_lo95_ma", "Ma", "Lower (younger) end of its 95 % interval (2.5 % quantile of the draws, or −1.96σ for the naive model)."},
+	{"age_hi95_ma", "Ma", "Upper (older) end of its 95 % interval (97.5 % quantile, or +1.96σ)."},
+}
+
+var alignedColumns = columnNames(alignedColumnDefs)
 
 func alignedRecords(as []*sectionAnalysis, o alignedOptions) [][]string {
 	var out [][]string
@@ -219,7 +236,7 @@ func (s *Server) handleSectionsAligned(w http.ResponseWriter, r *http.Request) e
 	v.FigureSVG = views.AlignedSVG(alignedFigure(as, o))
 	v.FigureLinks = []views.Link{{Label: "Figure (SVG)", URL: withPath(r, "/sections/aligned/figure.svg", "format", "")},
 		{Label: "(PNG)", URL: withPath(r, "/sections/aligned/figure.png", "format", "")}, {Label: "(PDF, text in ASCII)", URL: withPath(r, "/sections/aligned/figure.pdf", "format", "")},
-		{Label: "Samples with ages (CSV)", URL: withQuery(r, "format", "csv")}}
+		{Label: "Samples with ages (CSV)", URL: withQuery(r, "format", "csv")}, {Label: "(columns explained)", URL: "/help/downloads/sections-aligned"}}
 	t := views.Table{ID: "aligned", Caption: "Sections and their anomalies", Columns: []views.Column{{Label: "Section"}, {Label: "Host"},
 		{Label: "Thermal maturity"}, {Label: "Dated samples", Num: true}, {Label: "Anomalies", Unit: "Ma, median (95 %)"}}}
 	for _, a := range as {

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"net/http"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -52,10 +53,40 @@ func (a *sectionAnalysis) hostJSON() map[string]any {
 	return out
 }
 
-var anomalyColumns = []string{"anomaly", "origin", "series", "host", "base_height_m", "top_height_m", "peak_height_m", "peak_value",
-	"peak_unit", "multiple_of_background_median", "robust_z_log10", "n_samples", "raw_hg_rises", "raw_hg_multiple_of_background_median",
-	"raw_hg_share_of_ratio_rise", "host_residual_samples", "caution", "reading", "age_model", "seed", "draws", "age_median_ma",
-	"age_lo95_ma", "age_hi95_ma", "decision", "decision_detail", "decided_by", "decided_at_utc"}
+// anomalyColumnDefs are the columns of a section's anomalies CSV, in file order; the writer's header and
+// the dictionary (/help/downloads/section-anomalies) both come from this list.
+var anomalyColumnDefs = []downloadColumn{
+	{"anomaly", "", "The anomaly's number in the section, from the base up."},
+	{"origin", "", "detected: found by the section's anomaly rule (entered events are in the events download)."},
+	{"series", "", "The series the anomaly was found in: the Hg/host ratio (for example Hg/TOC) or raw Hg."},
+	{"host", "", "The host phase the ratio divides by (TOC, total sulfur or Al)."},
+	{"base_height_m", "m", "Height of the anomaly's lowest sample above the section's base."},
+	{"top_height_m", "m", "Height of its highest sample."},
+	{"peak_height_m", "m", "Height of its highest value."},
+	{"peak_value", "peak_unit", "The highest value in the anomaly, in peak_unit."},
+	{"peak_unit", "", "The unit of peak_value: ppb for Hg, ppb/wt% for a ratio."},
+	{"multiple_of_background_median", "×", "peak_value divided by the median of the section's background."},
+	{"robust_z_log10", "", "The peak's robust z-score against the background, on log10 values: (log10 value − median) / (1.4826 × MAD)."},
+	{"n_samples", "samples", "How many consecutive samples the anomaly spans."},
+	{"raw_hg_rises", "", "true when raw Hg itself rises in the interval (flagged, or its median there at least half the ratio's rise on the log scale): more Hg, not less host."},
+	{"raw_hg_multiple_of_background_median", "×", "The median raw Hg in the interval divided by the median raw Hg of the background."},
+	{"raw_hg_share_of_ratio_rise", "fraction 0–1", "The share of the ratio's rise (on the log scale) carried by raw Hg; empty for an anomaly of raw Hg."},
+	{"host_residual_samples", "samples", "How many of its samples hold more Hg than the background regression of Hg on the host predicts."},
+	{"caution", "", "true when the anomaly is to be read with caution; reading says why."},
+	{"reading", "", "In words, what the anomaly most likely is: more Hg, or a low in the host that raises the ratio."},
+	{"age_model", "", "The age–height model that dated it: monte_carlo (draws kept in stratigraphic order), naive_linear (interpolation between ties with normal errors) or none."},
+	{"seed", "", "The seed of the model's random draws."},
+	{"draws", "", "The number of the model's draws."},
+	{"age_median_ma", "Ma", "The anomaly's median model age, over its extent from base to top; empty outside the tie range."},
+	{"age_lo95_ma", "Ma", "Lower (younger) end of the 95 % interval of its age over that extent (2.5 % quantile of the draws, or −1.96σ for the naive model)."},
+	{"age_hi95_ma", "Ma", "Upper (older) end of that 95 % interval (97.5 % quantile of the draws, or +1.96σ for the naive model)."},
+	{"decision", "", "What a curator decided: open (nothing yet), event (made into an event of the record) or rejected."},
+	{"decision_detail", "", "The event's name, or the reason for rejecting it."},
+	{"decided_by", "", "Who decided."},
+	{"decided_at_utc", "", "When it was decided (UTC, RFC 3339)."},
+}
+
+var anomalyColumns = columnNames(anomalyColumnDefs)
 
 func (a *sectionAnalysis) anomalyRecords() [][]string {
 	var out [][]string
@@ -139,7 +170,19 @@ func (a *sectionAnalysis) modelJSON() map[string]any {
 	return out
 }
 
-var ageModelColumns = []string{"sample", "height_m", "age_model", "seed", "draws", "age_median_ma", "age_lo95_ma", "age_hi95_ma"}
+// ageModelColumnDefs are the columns of a section's model-ages CSV (/help/downloads/section-age-model).
+var ageModelColumnDefs = []downloadColumn{
+	{"sample", "", "The sample's code."},
+	{"height_m", "m", "Its height above the section's base."},
+	{"age_model", "", "The age–height model: monte_carlo (draws kept in stratigraphic order, deposition between ties as a random process), naive_linear (straight lines between ties, normal errors) or none."},
+	{"seed", "", "The seed of the model's random draws."},
+	{"draws", "", "The number of the model's draws."},
+	{"age_median_ma", "Ma", "The sample's median model age; empty outside the range of the tie points (the model gives no age there)."},
+	{"age_lo95_ma", "Ma", "Lower (younger) end of its 95 % interval: the 2.5 % quantile of the draws, or −1.96σ for the naive model."},
+	{"age_hi95_ma", "Ma", "Upper (older) end of its 95 % interval: the 97.5 % quantile of the draws, or +1.96σ for the naive model."},
+}
+
+var ageModelColumns = columnNames(ageModelColumnDefs)
 
 func (a *sectionAnalysis) ageModelRecords() [][]string {
 	var out [][]string
@@ -153,15 +196,40 @@ func (a *sectionAnalysis) ageModelRecords() [][]string {
 	return out
 }
 
+// ratioColumnDefs are the columns of the samples-with-ratios CSV (/help/downloads/section-ratios); the
+// δ¹³C column is named after the section's δ¹³C (ratioColumns).
+var ratioColumnDefs = []downloadColumn{
+	{"sample", "", "The sample's code."},
+	{"height_m", "m", "Its height above the section's base."},
+	{"hg_ppb", "ppb", "Hg as measured."},
+	{"hg_sigma_ppb_1s", "ppb (1σ)", "Its 1σ uncertainty, where given."},
+	{"hg_below_detection", "", "true when Hg was below the detection limit."},
+	{"hg_detection_limit_ppb", "ppb", "The detection limit, where given."},
+	{"toc_wt_pct", "wt%", "Total organic carbon."},
+	{"ts_wt_pct", "wt%", "Total sulfur."},
+	{"al_wt_pct", "wt%", "Aluminium."},
+	{"d13c_org_permil", "‰", "δ¹³C of organic carbon (VPDB); the column is d13c_carb_permil, δ¹³C of carbonate, for a section measured on carbonate."},
+	{"host", "", "The host phase the ratio divides by (TOC, total sulfur or Al), as used for the section."},
+	{"host_min_wt_pct", "wt%", "The low-host threshold: below it a sample's ratio is not evaluable."},
+	{"ratio_ppb_per_wt_pct", "ppb/wt%", "Hg divided by the host."},
+	{"ratio_sigma_ppb_per_wt_pct_1s", "ppb/wt% (1σ)", "The ratio's 1σ uncertainty from those of Hg and the host."},
+	{"ratio_status", "", "ok, not_evaluable_low_host (host below host_min_wt_pct) or missing (Hg or host not measured)."},
+	{"ratio_robust_z_log10", "", "The ratio's robust z-score against the section's background, on log10 values."},
+	{"hg_robust_z_log10", "", "Raw Hg's robust z-score against its background, on log10 values."},
+	{"ratio_in_run", "", "true when the sample belongs to a run the anomaly rule flags in the ratio."},
+	{"hg_in_run", "", "true when it belongs to a run flagged in raw Hg."},
+	{"host_residual_ppb", "ppb", "Hg minus what the background regression of Hg on the host predicts."},
+	{"host_residual_excess", "", "true when that residual counts as an excess of Hg."},
+	{"anomaly", "", "The number of the anomaly the sample belongs to, empty for none."},
+}
+
 // ratioColumns are the columns of the samples-with-ratios download.
 func (a *sectionAnalysis) ratioColumns() []string {
-	d := "d13c_org_permil"
+	cols := columnNames(ratioColumnDefs)
 	if a.D13C == "d13c_carb" {
-		d = "d13c_carb_permil"
+		cols[slices.Index(cols, "d13c_org_permil")] = "d13c_carb_permil"
 	}
-	return []string{"sample", "height_m", "hg_ppb", "hg_sigma_ppb_1s", "hg_below_detection", "hg_detection_limit_ppb", "toc_wt_pct", "ts_wt_pct",
-		"al_wt_pct", d, "host", "host_min_wt_pct", "ratio_ppb_per_wt_pct", "ratio_sigma_ppb_per_wt_pct_1s", "ratio_status",
-		"ratio_robust_z_log10", "hg_robust_z_log10", "ratio_in_run", "hg_in_run", "host_residual_ppb", "host_residual_excess", "anomaly"}
+	return cols
 }
 
 func (a *sectionAnalysis) ratioRecords() [][]string {
@@ -230,6 +298,9 @@ func (s *Server) tablePage(w http.ResponseWriter, r *http.Request, kind, title s
 	l.Intro, l.How = intro(a)
 	l.Page.Crumbs = []views.Link{{Label: "Sections", URL: "/sections"}, {Label: a.Sec.Name, URL: withPath(r, idURL("/sections", a.Sec.ID))}}
 	l.Page.Downloads = toLinks(downloads(r))
+	if help, ok := map[string]string{"ratios": "section-ratios", "anomalies": "section-anomalies", "agemodel": "section-age-model"}[kind]; ok {
+		l.Page.Downloads = append(l.Page.Downloads, views.Link{Label: "Columns explained", URL: "/help/downloads/" + help})
+	}
 	s.render(w, r, http.StatusOK, views.ListPage(l))
 	return nil
 }

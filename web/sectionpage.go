@@ -154,6 +154,7 @@ func (s *Server) sectionView(r *http.Request, a *sectionAnalysis, fs sectionForm
 		Links: []views.Link{
 			{Label: "Samples with ratios and flags (CSV)", URL: withPath(r, base+"/ratios", "format", "csv")},
 			{Label: "(JSON)", URL: withPath(r, base+"/ratios", "format", "json")},
+			{Label: "(columns explained)", URL: "/help/downloads/section-ratios"},
 			{Label: "Measurements as stored (CSV)", URL: base + "/measurements?format=csv"},
 			{Label: "Tie points (CSV)", URL: base + "/ties?format=csv"},
 			{Label: "Events (CSV)", URL: base + "/events?format=csv"},
@@ -322,7 +323,8 @@ func (a *sectionAnalysis) anomalyBlock(r *http.Request, base string) views.Block
 			a.baselineSentence(), num(a.Opt.ZMin), a.Opt.MinRun, ratioName(a.Host)),
 		"Origin: detected. A curator can make an anomaly an event of the section (kind Hg anomaly, its base and top, with a note of the settings that found it) or reject it with a reason; a decision holds for the anomaly as found with these settings (series, interval, host, threshold, baseline, z and run length).",
 	}
-	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")}}
+	b.Links = []views.Link{{Label: "Anomalies (CSV)", URL: withPath(r, base+"/anomalies", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/anomalies", "format", "json")},
+		{Label: "(columns explained)", URL: "/help/downloads/section-anomalies"}}
 	t := views.Table{ID: "anomaly-table", Caption: "Detected anomalies", Empty: "No anomaly: no run of samples stands above the threshold.", Columns: []views.Column{
 		{Label: "No.", Num: true}, {Label: "Series"}, {Label: "Interval", Unit: "m", Num: true},
 		{Label: "Peak", Unit: "value at height", Num: true}, {Label: "× background", Unit: "median", Num: true}, {Label: "Robust z", Unit: "log10, peak", Num: true},
@@ -378,6 +380,7 @@ func (a *sectionAnalysis) segmentBlock() views.Block {
 func (a *sectionAnalysis) modelBlock(r *http.Request, base string) views.Block {
 	b := views.Block{ID: "agemodel", Title: "Age–height model"}
 	b.Links = []views.Link{{Label: "Model ages (CSV)", URL: withPath(r, base+"/agemodel", "format", "csv")}, {Label: "(JSON)", URL: withPath(r, base+"/agemodel", "format", "json")},
+		{Label: "(columns explained)", URL: "/help/downloads/section-age-model"},
 		{Label: "Model ages page", URL: withPath(r, base+"/agemodel", "format", "")}}
 	m := a.Model
 	if m == nil {

@@ -638,8 +638,8 @@ func TestTargetCalibrationIsEachViewsDefault(t *testing.T) {
 		t.Error("the date list does not recalculate to the new target by default")
 	}
 	for _, r := range htmlTable(t, mustFetch(t, h, "/calibrations"), "calibrations") {
-		if isTarget := r.cells[8] == "compilation target"; isTarget != (r.cells[0] == "Renne et al. 2011, FCs 28.294 Ma") {
-			t.Errorf("calibrations page: %q target cell %q", r.cells[0], r.cells[8])
+		if isTarget := r.cells[7] == "compilation target"; isTarget != (r.cells[0] == "Renne et al. 2011, FCs 28.294 Ma") {
+			t.Errorf("calibrations page: %q target cell %q", r.cells[0], r.cells[7])
 		}
 	}
 	var doc summaryJSON

@@ -23,10 +23,46 @@ import (
 //
 // JSON: the same rows as objects under "items"; the choices are fields of the envelope, not of each row.
 
-var summaryColumns = []string{"calibration", "level", "sigma_level", "policy", "rule", "mswd_range", "include",
-	"province", "unit_id", "unit", "pile_position", "system", "decay_system", "n", "mean_ma", "sigma_ma", "sigma_is",
-	"mswd", "dof", "mswd_low", "mswd_high", "mswd_in_range", "p", "age_min_ma", "age_max_ma", "flagged",
-	"n_kept", "mean_kept_ma", "sigma_kept_ma", "inflated", "inflation_factor", "excluded", "cautions", "notes"}
+// summaryColumnDefs are the columns of the unit summary CSV, in file order: the writer's header and the
+// Help page's dictionary (/help/downloads/unit-summaries) both come from this list.
+var summaryColumnDefs = []downloadColumn{
+	{"calibration", "", "The ⁴⁰Ar/³⁹Ar calibration (its code; the calibrations page names it) the ⁴⁰Ar/³⁹Ar means are recalculated to. Repeated on every row."},
+	{"level", "", "Which uncertainty components the ± includes: analytical, tracer (analytical and the U–Pb tracer) or full (also the decay constants, and for ⁴⁰Ar/³⁹Ar the calibration). sigma_is says what that is for the row's system."},
+	{"sigma_level", "σ", "The σ level of sigma_ma and sigma_kept_ma: 1 or 2."},
+	{"policy", "", "When a weighted mean's ± is enlarged by √MSWD: never, mswd-gt-1 (MSWD above 1) or p-lt-0.05 (MSWD above 1 and its p below 0.05)."},
+	{"rule", "", "The rule that flags outlying dates: none, mswd, chauvenet or gesd. Flagged dates stay in the mean; the mean without them is in the _kept columns."},
+	{"mswd_range", "", "How the acceptable MSWD range was found: chi2 (the 2.5 and 97.5 % quantiles of χ²/f) or wendt-carl (Wendt & Carl 1991)."},
+	{"include", "", "Which dates entered, by review state: accepted, pending (accepted and pending) or all."},
+	{"province", "", "The large igneous province of the unit."},
+	{"unit_id", "", "The unit's number in the compilation (its page is /units/ and this number)."},
+	{"unit", "", "The eruptive unit's name."},
+	{"pile_position", "", "The unit's place in the lava pile, counted from the base (empty for intrusions and units without one)."},
+	{"system", "", "The group of dates the row summarises: U–Pb, ⁴⁰Ar/³⁹Ar, K–Ar, Re–Os or another method. A unit dated by two systems has one row per system."},
+	{"decay_system", "", "The decay system of those dates."},
+	{"n", "dates", "How many dates of the unit in this system entered."},
+	{"mean_ma", "Ma", "The inverse-variance weighted mean of the dates (⁴⁰Ar/³⁹Ar recalculated to the calibration first)."},
+	{"sigma_ma", "Ma", "The ± of the weighted mean at sigma_level and level, enlarged by inflation_factor when inflated is true."},
+	{"sigma_is", "", "In words, what sigma_ma holds for this system (for example X analytical, Y with the tracer, Z full external)."},
+	{"mswd", "", "The mean square of weighted deviates of the dates about the mean (six significant digits). Empty with a single date."},
+	{"dof", "", "Degrees of freedom of the MSWD: n − 1."},
+	{"mswd_low", "", "The lower end of the acceptable MSWD range for dof (see mswd_range)."},
+	{"mswd_high", "", "The upper end of the acceptable MSWD range for dof."},
+	{"mswd_in_range", "", "true when the MSWD lies within mswd_low to mswd_high: the dates scatter as their errors allow."},
+	{"p", "probability", "P(χ² ≥ MSWD·dof): the chance of a scatter at least this large from the stated errors alone."},
+	{"age_min_ma", "Ma", "The youngest date of the unit in this system."},
+	{"age_max_ma", "Ma", "The oldest date of the unit in this system."},
+	{"flagged", "", "The sample codes of the dates the rule flagged as outlying, separated by \" | \"."},
+	{"n_kept", "dates", "How many dates are left without the flagged ones."},
+	{"mean_kept_ma", "Ma", "The weighted mean without the flagged dates."},
+	{"sigma_kept_ma", "Ma", "Its ±, as sigma_ma."},
+	{"inflated", "", "true when the policy enlarged the ± by √MSWD."},
+	{"inflation_factor", "", "The factor the ± was multiplied by: √MSWD when inflated, otherwise 1."},
+	{"excluded", "", "Dates of the unit left out of the mean, each as sample code: reason, separated by \" | \"."},
+	{"cautions", "", "What to read with care in this row, in words, separated by \" | \"."},
+	{"notes", "", "Other notes (for example how the tracer term was found), separated by \" | \"."},
+}
+
+var summaryColumns = columnNames(summaryColumnDefs)
 
 // summaryRow is one row of the summary downloads.
 type summaryRow struct {
@@ -240,5 +276,6 @@ func summaryDownloads(r *http.Request, path string) []linkSpec {
 	if enc != "" {
 		enc += "&"
 	}
-	return []linkSpec{{"CSV (unit summaries)", path + sep + enc + "format=csv"}, {"JSON (unit summaries)", path + sep + enc + "format=json"}}
+	return []linkSpec{{"CSV (unit summaries)", path + sep + enc + "format=csv"}, {"JSON (unit summaries)", path + sep + enc + "format=json"},
+		{"Columns explained (unit summaries)", "/help/downloads/unit-summaries"}}
 }

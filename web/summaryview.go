@@ -89,6 +89,9 @@ func ruleLabel(r stats.OutlierRule) string {
 	return r.String()
 }
 
+// ruleShort names an outlier rule in a few words (ruleLabel says how it works).
+func ruleShort(r stats.OutlierRule) string { return analysis.RuleWords(r) }
+
 // meanText writes "mean ± σ" at the chosen σ level (decimals from σ).
 func meanText(l levelled, sigma int) (string, string) { return ageSigma(l.MeanMa, l.Sigma1s, sigma) }
 
@@ -141,7 +144,7 @@ func summaryTable(sums []unitSummary, ch summaryChoice) views.Table {
 			{Label: "p", Num: true},
 			{Label: "Cautions and notes", Title: "next to the numbers they qualify"},
 			{Label: "Dates span", Unit: "Ma", Num: true},
-			{Label: "Flagged", Unit: "rule " + ch.Rule.String()},
+			{Label: "Flagged", Unit: "by the outlier rule", Title: ruleLabel(ch.Rule)},
 			{Label: "Mean without flagged", Unit: fmt.Sprintf("Ma ± %dσ, same level", ch.Sigma), Num: true}},
 		Empty: "No units yet."}
 	for _, us := range sums {
@@ -164,13 +167,13 @@ func summaryTable(sums []unitSummary, ch summaryChoice) views.Table {
 
 func summaryCells(unit views.Cell, s systemSummary, ch summaryChoice) []views.Cell {
 	rem, caution := remarks(s)
-	remCell := views.Cell{Text: rem}
+	remCell := views.Cell{Text: rem, Class: "notes"}
 	if caution {
-		remCell.Class = "caution"
+		remCell.Class = "notes caution"
 	}
-	lvl := views.Cell{Text: shortLevel(s.LevelLabel), Title: s.LevelLabel}
+	lvl := views.Cell{Text: shortLevel(s.LevelLabel), Title: s.LevelLabel, Class: "level"}
 	if s.LevelShort {
-		lvl.Class = "caution"
+		lvl.Class = "level caution"
 	}
 	if !s.Computed {
 		return []views.Cell{unit, {Text: s.Label}, {Text: "0", Num: true}, {Text: "—", Num: true}, {Text: "—", Num: true},

@@ -121,7 +121,7 @@ func TestTimelineEachBandwidthRule(t *testing.T) {
 		want  []string
 	}{
 		// 17 unit means: ζ(t) has no root, so ISJ falls back (stats.SelectBandwidth) and the page says so.
-		{"", []string{"Bandwidth fallback", "no root", "Silverman robust", "Age (Ma)", "Density (per Ma)", "± 2σ", "v2024/12"}},
+		{"", []string{"Smoothing width: no automatic width exists", "Silverman robust", "Age (Ma)", "Density (per Ma)", "± 2σ", "v2024/12"}},
 		{"?bw=isj&count=date", []string{"ISJ", "Age (Ma)"}},
 		{"?bw=scott", []string{"Scott", "h = "}},
 		{"?bw=silverman", []string{"Silverman"}},
@@ -265,7 +265,7 @@ func TestTimelineK10Fallback(t *testing.T) {
 	if status != http.StatusOK {
 		t.Fatalf("status %d", status)
 	}
-	for _, want := range []string{"Bandwidth fallback", "ISJ: ζ(t) has no root", "h = 0.170 Ma"} {
+	for _, want := range []string{"Smoothing width: no automatic width exists for these", "h = 0.170 Ma"} {
 		if !strings.Contains(body, want) {
 			t.Errorf("K10 page lacks %q", want)
 		}

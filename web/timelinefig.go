@@ -220,7 +220,7 @@ func timelineFigure(prov store.Province, rows []views.FigureRow, res densityResu
 	} else {
 		f.Subtitle = append(f.Subtitle, ruleText(res, ch)+". "+bandText(res, ch))
 		if res.Bandwidth.Note != "" {
-			f.Subtitle = append(f.Subtitle, "Bandwidth: "+res.Bandwidth.Note)
+			f.Subtitle = append(f.Subtitle, "Smoothing width: "+bandwidthNoteWords(res.Bandwidth.Note))
 		}
 		b := res.Band
 		d := &views.FigureDensity{AgesMa: b.GridMa, Value: b.Reference.Density, Lower: b.Lower, Upper: b.Upper,
@@ -373,7 +373,7 @@ func (s *Server) timelinePage(r *http.Request, prov store.Province, fig views.Ti
 	v.Caption = "Hover over a date, a unit value, a pulse or a stage for its details; click a date or a unit name to open its record. " +
 		"The downloads above give this figure as SVG, PNG or PDF, and its tables as CSV or JSON."
 	if res.Band != nil && res.Bandwidth.Fallback() {
-		v.Cautions = append(v.Cautions, "Bandwidth fallback: "+res.Bandwidth.Note)
+		v.Cautions = append(v.Cautions, "Smoothing width: "+bandwidthNoteWords(res.Bandwidth.Note))
 	}
 	if ch.PDP {
 		v.Cautions = append(v.Cautions, "PDP: "+stats.PDPCaution)

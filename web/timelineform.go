@@ -1,7 +1,9 @@
 package web
 
 import (
+	"regexp"
 	"strconv"
+	"strings"
 
 	"coeval/stats"
 	"coeval/views"
@@ -57,6 +59,16 @@ func timelineForm(action string, ch densityChoice) *views.Form {
 
 // smoothingWords names a smoothing-width rule in the words of the pages (analysis.SmoothingWords).
 func smoothingWords(r stats.BandwidthRule) string { return analysis.SmoothingWords(r) }
+
+// bandwidthNoteWords writes the density's note on its smoothing width in the words of the forms: the
+// automatic width's failure to exist for few or clustered dates, and the rule used instead (the JSON keeps
+// the note as computed).
+func bandwidthNoteWords(note string) string {
+	noRoot := regexp.MustCompile(`ISJ: ζ\(t\) has no root on \[0, 0\.1\] for these (\d+) dates \(usual for few or clustered dates\)`)
+	note = noRoot.ReplaceAllString(note, "no automatic width exists for these $1 dates (usual for few or clustered dates)")
+	return strings.NewReplacer("ISJ could not be computed", "the automatic width could not be found",
+		"used the Silverman robust rule instead", "used the robust rule of thumb (Silverman 1986) instead").Replace(note)
+}
 
 // smoothingChoice is a smoothing-width rule as a choice of the forms.
 func smoothingChoice(r stats.BandwidthRule) string {

@@ -222,24 +222,24 @@ func unitMeanHow(us UnitSummary, sys *SystemSummary, dc DensityOptions) string {
 	parts := []string{fmt.Sprintf("%s weighted mean of %s (%s): %s ± %s Ma (1σ analytical",
 		sys.Label, count(sys.All.N, "date"), strings.Join(codes, ", "), fixed(sys.All.MeanMa, 4), fixed(sys.All.Sigma1s, 4))}
 	if a.Inflated {
-		parts[0] += fmt.Sprintf(", inflated by √MSWD = %.2f under policy %s)", a.Factor, PolicyCode(dc.Summary.Policy))
+		parts[0] += fmt.Sprintf(", inflated by √MSWD = %.2f: %s)", a.Factor, PolicyWords(dc.Summary.Policy))
 	} else {
-		parts[0] += ", policy " + PolicyCode(dc.Summary.Policy) + ")"
+		parts[0] += ", " + PolicyWords(dc.Summary.Policy) + ")"
 	}
 	if a.MSWDDefined {
 		parts = append(parts, fmt.Sprintf("MSWD %s (p %s)", FormatMSWD(a.MSWD), FormatP(a.P)))
 	}
 	if sys.Key == "arar" {
-		parts = append(parts, "recalculated to "+dc.Summary.Calibration.Code)
+		parts = append(parts, "recalculated to "+dc.Summary.Calibration.Name)
 	}
 	switch f := FlaggedCodes(*sys); {
 	case dc.Summary.Rule == stats.RuleNone:
 	case sys.Report.Skipped != "":
-		parts = append(parts, "outlier rule "+dc.Summary.Rule.String()+" not applied: "+sys.Report.Skipped)
+		parts = append(parts, "outlier rule ("+RuleWords(dc.Summary.Rule)+") not applied: "+sys.Report.Skipped)
 	case len(f) > 0:
-		parts = append(parts, fmt.Sprintf("outlier rule %s flags %s: flagged, not dropped (the mean is the unit summary's, as the density counts it)", dc.Summary.Rule, strings.Join(f, ", ")))
+		parts = append(parts, fmt.Sprintf("outlier rule (%s) flags %s: flagged, not dropped (the mean is the unit summary's, as the density counts it)", RuleWords(dc.Summary.Rule), strings.Join(f, ", ")))
 	default:
-		parts = append(parts, "outlier rule "+dc.Summary.Rule.String()+": none flagged")
+		parts = append(parts, "outlier rule ("+RuleWords(dc.Summary.Rule)+"): none flagged")
 	}
 	var left int
 	for _, x := range sys.Excluded {
@@ -249,7 +249,7 @@ func unitMeanHow(us UnitSummary, sys *SystemSummary, dc DensityOptions) string {
 	}
 	parts = append(parts, IncludeLabel(dc.Summary.Include))
 	if left > 0 {
-		parts[len(parts)-1] += fmt.Sprintf(" (%s left out by include=%s)", count(left, "date"), dc.Summary.Include)
+		parts[len(parts)-1] += fmt.Sprintf(" (%s left out by their review state)", count(left, "date"))
 	}
 	if us.Mixed {
 		parts = append(parts, "the unit's other systems' means are set aside (one value per unit, first in the order U–Pb, ⁴⁰Ar/³⁹Ar, K–Ar, Re–Os)")

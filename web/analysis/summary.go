@@ -72,6 +72,29 @@ func Policies() []PolicyChoice {
 	}
 }
 
+// PolicyWords says a policy in words, as the forms offer it ("× √MSWD when MSWD > 1 and p < 0.05").
+func PolicyWords(p stats.Policy) string {
+	for _, c := range Policies() {
+		if c.Policy == p {
+			return c.Label
+		}
+	}
+	return "never inflate"
+}
+
+// RuleWords names an outlier rule in a few words, for the pages.
+func RuleWords(r stats.OutlierRule) string {
+	switch r {
+	case stats.RuleMSWD:
+		return "rejection while the MSWD is too high"
+	case stats.RuleChauvenet:
+		return "Chauvenet's criterion"
+	case stats.RuleGESD:
+		return "generalized ESD"
+	}
+	return "none"
+}
+
 // PolicyCode is the code of a policy ("" for none of Policies).
 func PolicyCode(p stats.Policy) string {
 	for _, c := range Policies() {
@@ -437,7 +460,7 @@ func (s *SystemSummary) scatterNotes(o SummaryOptions) {
 			FormatMSWD(a.MSWD), MSWDRangeName(a.Range), FormatMSWD(a.MSWDLow), FormatMSWD(a.MSWDHigh), a.DoF, how))
 	}
 	if a.Inflated {
-		s.Notes = append(s.Notes, fmt.Sprintf("± inflated by √MSWD = %.2f (policy %s)", a.Factor, PolicyCode(o.Policy)))
+		s.Notes = append(s.Notes, fmt.Sprintf("± inflated by √MSWD = %.2f (%s)", a.Factor, PolicyWords(o.Policy)))
 	}
 }
 
