@@ -131,5 +131,12 @@ func TestCalibrationsPageSaysWhatIsChecked(t *testing.T) {
 		if st := calibrationStandingOf(c); st.Source == c.Source && st.Checked == "—" {
 			t.Errorf("calibration %s has no standing on the page", c.Code)
 		}
+		// The stored source (which the JSON and the downloads carry) says the same (migration 016).
+		if strings.Contains(c.Source, "from memory") {
+			t.Errorf("calibration %s: its stored source still says “from memory”: %s", c.Code, c.Source)
+		}
+	}
+	if !strings.Contains(byCode["renne10-fcs28305"].Source, "as in its abstract") || !strings.Contains(byCode["renne11-fcs28294"].Source, "not yet checked") {
+		t.Error("the stored sources do not say which values were checked against the papers")
 	}
 }
