@@ -131,15 +131,15 @@ type answers struct {
 	s         *Server
 	r         *http.Request
 	sections  map[int64]*sectionAges
-	compares  map[int64]*comparisonRowsJSON
+	compares  map[string]*comparisonRowsJSON // by the comparison's address
 	timelines map[int64]*timelinePulses
-	errs      map[int64]error
+	errs      map[string]error
 	provinces []store.Province // read once, on the first answer that needs them
 }
 
 func (s *Server) answers(r *http.Request) *answers {
-	return &answers{s: s, r: r, sections: map[int64]*sectionAges{}, compares: map[int64]*comparisonRowsJSON{},
-		timelines: map[int64]*timelinePulses{}, errs: map[int64]error{}}
+	return &answers{s: s, r: r, sections: map[int64]*sectionAges{}, compares: map[string]*comparisonRowsJSON{},
+		timelines: map[int64]*timelinePulses{}, errs: map[string]error{}}
 }
 
 func (as *answers) section(id int64) (*sectionAges, error) {
@@ -154,13 +154,20 @@ func (as *answers) section(id int64) (*sectionAges, error) {
 	return v, nil
 }
 
-func (as *answers) comparison(province int64) (*comparisonRowsJSON, error) {
-	if v, ok := as.compares[province]; ok {
-		return v, as.errs[province]
+// comparison is the comparison page's JSON for the province with its default choices and the extra ones
+// (detected anomalies compared, for an anomaly's answer), read once per answers.
+func (as *answers) comparison(province int64, extra url.Values) (*comparisonRowsJSON, error) {
+	q := url.Values{"province": {strconv.FormatInt(province, 10)}}
+	for k, v := range extra {
+		q[k] = v
+	}
+	key := q.Encode()
+	if v, ok := as.compares[key]; ok {
+		return v, as.errs[key]
 	}
 	v := &comparisonRowsJSON{}
-	err := internalJSON(as.s.router, as.r, "/compare", url.Values{"province": {strconv.FormatInt(province, 10)}}, v)
-	as.compares[province], as.errs[province] = v, err
+	err := internalJSON(as.s.router, as.r, "/compare", q, v)
+	as.compares[key], as.errs[key] = v, err
 	return v, err
 }
 
@@ -182,8 +189,7 @@ func (s *Server) answerFor(r *http.Request, ev store.Event) (eventAnswer, error)
 // answer builds the answer on event ev.
 func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 	var a eventAnswer
-	s, r := as.s, as.r
-	if ev.SectionID == nil || s.router == nil {
+	if ev.SectionID == nil || as.s.router == nil {
 		return a, nil
 	}
 	// The age: the section page's model, with its default choices.
@@ -201,6 +207,15 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 		a.Sentence = "No age: " + orText(sec.AgeModel.Note, "its section has no age–height model that reaches it") + "."
 		return a, nil
 	}
+	return as.answerAt(a, "E"+strconv.FormatInt(ev.ID, 10), nil)
+}
+
+// answerAt completes the answer on what the comparison calls code (an event E…, a detected anomaly A…),
+// whose age a.Age is: the pulses of every province with dates near that age, from the comparison page's
+// rows for code with its default choices and the extra ones.
+func (as *answers) answerAt(a eventAnswer, code string, extra url.Values) (eventAnswer, error) {
+	s, r := as.s, as.r
+	var err error
 	// The provinces whose dates come near it, most dates first.
 	if as.provinces == nil {
 		if as.provinces, err = s.store.Provinces(r.Context()); err != nil {
@@ -228,10 +243,12 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 		a.Notes = append(a.Notes, fmt.Sprintf("%d provinces have dates within %g Ma of this event; the %d with most such dates are compared here (the comparison page takes any).", len(cands), answerReachMa, maxAnswerProvinces))
 		cands = cands[:maxAnswerProvinces]
 	}
-	code := "E" + strconv.FormatInt(ev.ID, 10)
 	for _, c := range cands {
 		q := url.Values{"province": {strconv.FormatInt(c.p.ID, 10)}}
-		cmp, err := as.comparison(c.p.ID)
+		for k, v := range extra {
+			q[k] = v
+		}
+		cmp, err := as.comparison(c.p.ID, extra)
 		if err != nil {
 			a.Notes = append(a.Notes, fmt.Sprintf("%s could not be compared: %v", c.p.Name, err))
 			continue

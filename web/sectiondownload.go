@@ -318,6 +318,7 @@ func (s *Server) handleSectionAnomalies(w http.ResponseWriter, r *http.Request) 
 		func(a *sectionAnalysis) views.Table {
 			b := a.anomalyBlock(r, "")
 			a.decisionColumn(&b, a.Decisions)
+			s.anomalyAnswerColumn(r, a, &b)
 			return b.Tables[0]
 		},
 		func(a *sectionAnalysis) (string, []string) {
