@@ -459,63 +459,21 @@ func compareXLSX(res *compareResult) ([]byte, error) {
 			return nil, err
 		}
 	}
-	row := func(sheet string, r int, vals []any) error {
-		cell, err := excelize.CoordinatesToCellName(1, r)
-		if err != nil {
-			return err
-		}
-		return f.SetSheetRow(sheet, cell, &vals)
-	}
 	cols := compareColumnsFor(res.Choice)
-	hdr := make([]any, len(cols))
-	for i, c := range cols {
-		hdr[i] = c
-	}
-	if err := row(table, 1, hdr); err != nil {
+	if err := sheetTable(f, table, cols, compareRecords(res, false), func(i int) bool { return slices.Contains(compareTextColumns, cols[i]) }); err != nil {
 		return nil, err
 	}
-	for r, rec := range compareRecords(res, false) {
-		vals := make([]any, len(rec))
-		for i, v := range rec {
-			if x, err := strconv.ParseFloat(v, 64); err == nil && !slices.Contains(compareTextColumns, cols[i]) {
-				vals[i] = x
-			} else {
-				vals[i] = v
-			}
-		}
-		if err := row(table, r+2, vals); err != nil {
-			return nil, err
-		}
+	precedenceNumber := func(i int) bool {
+		n := precedenceColumnDefs[i].Name
+		return strings.HasPrefix(n, "p_") && !strings.HasSuffix(n, "_bound")
 	}
-	hdrP := []any{}
-	for _, c := range columnNames(precedenceColumnDefs) {
-		hdrP = append(hdrP, c)
-	}
-	if err := row(order, 1, hdrP); err != nil {
+	if err := sheetTable(f, order, columnNames(precedenceColumnDefs), precedenceRecords(res, false), func(i int) bool { return !precedenceNumber(i) }); err != nil {
 		return nil, err
-	}
-	for r, rec := range precedenceRecords(res, false) {
-		vals := make([]any, len(rec))
-		for i, v := range rec {
-			if x, err := strconv.ParseFloat(v, 64); err == nil && strings.HasPrefix(precedenceColumnDefs[i].Name, "p_") && !strings.HasSuffix(precedenceColumnDefs[i].Name, "_bound") {
-				vals[i] = x
-			} else {
-				vals[i] = v
-			}
-		}
-		if err := row(order, r+2, vals); err != nil {
-			return nil, err
-		}
 	}
 	f.SetColWidth(order, "A", "A", 60)
 	f.SetColWidth(order, "C", "C", 60)
-	if err := row(settings, 1, []any{"setting", "value"}); err != nil {
+	if err := sheetSettings(f, settings, compareSettings(res)); err != nil {
 		return nil, err
-	}
-	for i, kv := range compareSettings(res) {
-		if err := row(settings, i+2, []any{kv[0], kv[1]}); err != nil {
-			return nil, err
-		}
 	}
 	for i, c := range cols {
 		if c == "event" || c == "section" || c == "unit" {

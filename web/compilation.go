@@ -470,14 +470,7 @@ func compilationTable(c *compilation) views.Table {
 		if p.hasPulseAge {
 			pulse = fmt.Sprintf("%s (%.2f–%.2f)", pulse, p.StartMa, p.EndMa)
 		}
-		lag := "—"
-		if !math.IsNaN(p.LagMed) {
-			lag = fmt.Sprintf("%.2f (%.2f – %.2f)", p.LagMed, p.LagLo, p.LagHi)
-		}
-		hold := views.Cell{Text: p.holds()}
-		if strings.HasPrefix(hold.Text, "does not") {
-			hold.Class = "caution"
-		}
+		lag, hold := p.lagText(), p.holdsCell()
 		t.Rows = append(t.Rows, append(ev, views.Cell{Text: row.Province.Name, URL: idURL("/provinces", row.Province.ID) + "/timeline"}, views.Cell{Text: pulse},
 			views.Cell{Text: p.probWords(p.Within, p.WithinSE), Num: true}, views.Cell{Text: lag, Num: true}, hold))
 	}

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"fmt"
 	"io"
-	"math"
 	"slices"
 	"strconv"
 
@@ -178,41 +177,12 @@ func compilationXLSX(c *compilation) ([]byte, error) {
 	if _, err := f.NewSheet(settings); err != nil {
 		return nil, err
 	}
-	row := func(sheet string, r int, vals []any) error {
-		cell, err := excelize.CoordinatesToCellName(1, r)
-		if err != nil {
-			return err
-		}
-		return f.SetSheetRow(sheet, cell, &vals)
-	}
 	cols := columnNames(compilationColumns)
-	hdr := make([]any, len(cols))
-	for i, col := range cols {
-		hdr[i] = col
-	}
-	if err := row(table, 1, hdr); err != nil {
+	if err := sheetTable(f, table, cols, compilationRecords(c, false), func(i int) bool { return slices.Contains(compilationTextColumns, cols[i]) }); err != nil {
 		return nil, err
 	}
-	for r, rec := range compilationRecords(c, false) {
-		vals := make([]any, len(rec))
-		for i, v := range rec {
-			if x, err := strconv.ParseFloat(v, 64); err == nil && !math.IsNaN(x) && !slices.Contains(compilationTextColumns, cols[i]) {
-				vals[i] = x
-			} else {
-				vals[i] = v
-			}
-		}
-		if err := row(table, r+2, vals); err != nil {
-			return nil, err
-		}
-	}
-	if err := row(settings, 1, []any{"setting", "value"}); err != nil {
+	if err := sheetSettings(f, settings, compilationSettings(c)); err != nil {
 		return nil, err
-	}
-	for i, kv := range compilationSettings(c) {
-		if err := row(settings, i+2, []any{kv[0], kv[1]}); err != nil {
-			return nil, err
-		}
 	}
 	f.SetColWidth(table, "B", "C", 28)
 	f.SetColWidth(settings, "A", "A", 24)

@@ -346,6 +346,23 @@ func (p pulseAnswer) pText(x, se float64) string {
 	return "P = " + w
 }
 
+// lagText is the lag from the onset, median (95 %), in Ma, or "—".
+func (p pulseAnswer) lagText() string {
+	if math.IsNaN(p.LagMed) {
+		return "—"
+	}
+	return fmt.Sprintf("%.2f (%.2f – %.2f)", p.LagMed, p.LagLo, p.LagHi)
+}
+
+// holdsCell is holds as a table cell, a caution where the conclusion does not hold.
+func (p pulseAnswer) holdsCell() views.Cell {
+	c := views.Cell{Text: p.holds()}
+	if strings.HasPrefix(c.Text, "does not") {
+		c.Class = "caution"
+	}
+	return c
+}
+
 // holds says whether P(within) stays on the same side of 0.5 under every alternative of the sensitivity.
 func (p pulseAnswer) holds() string {
 	switch {
@@ -410,14 +427,7 @@ func answerBlock(a eventAnswer) (notes []string, groups []views.FieldGroup, tabl
 			Columns: []views.Column{{Label: "Province"}, {Label: "Pulse", Unit: "mode (start–end), Ma"}, {Label: "P(within)", Num: true, Title: "± its Monte Carlo standard error"},
 				{Label: "P(after onset)", Num: true}, {Label: "Lag from onset", Unit: "Ma, median (95 %)", Num: true}, {Label: "Under the sensitivity set"}}}
 		for _, p := range a.Pulses {
-			lag := "—"
-			if !math.IsNaN(p.LagMed) {
-				lag = fmt.Sprintf("%.2f (%.2f – %.2f)", p.LagMed, p.LagLo, p.LagHi)
-			}
-			hold := views.Cell{Text: p.holds()}
-			if strings.HasPrefix(hold.Text, "does not") {
-				hold.Class = "caution"
-			}
+			lag, hold := p.lagText(), p.holdsCell()
 			pulse := "—"
 			if p.hasPulseAge {
 				pulse = fmt.Sprintf("%s: %.2f (%.2f–%.2f)", upperFirst(p.pulseNameOnly()), p.ModeMa, p.StartMa, p.EndMa)
