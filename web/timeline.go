@@ -275,11 +275,44 @@ func writeFile(w http.ResponseWriter, contentType, name string, b []byte) error 
 	return nil
 }
 
+// savedPulseNames are the record names of pulses about to be saved (oldest first): the name of the saved
+// record that is the same pulse (stats.MatchPulses, one to one), so that saving again makes a new
+// version of it, else the pulse's own code made from its age (P155.34). Never a number by place: after an
+// edit the second pulse may be another one.
+func savedPulseNames(ids []analysis.PulseID, saved []store.Pulse) []string {
+	var old []stats.PulseSpan
+	var oldNames []string
+	for _, p := range saved {
+		if p.StartMa != nil && p.EndMa != nil {
+			old = append(old, stats.PulseSpan{ModeMa: (*p.StartMa + *p.EndMa) / 2, OldMa: *p.StartMa, YoungMa: *p.EndMa})
+			oldNames = append(oldNames, p.Name)
+		}
+	}
+	spans := make([]stats.PulseSpan, len(ids))
+	for i, id := range ids {
+		spans[i] = id.Span
+	}
+	m := stats.MatchPulses(spans, old)
+	names := make([]string, len(ids))
+	used := map[string]bool{}
+	for i, id := range ids {
+		names[i] = id.Code
+		if len(m.AtoB[i]) == 1 && len(m.BtoA[m.AtoB[i][0]]) == 1 {
+			names[i] = oldNames[m.AtoB[i][0]]
+		}
+		if used[names[i]] { // two pulses cannot share a record
+			names[i] = id.Code
+		}
+		used[names[i]] = true
+	}
+	return names
+}
+
 // handlePulsesSave saves the pulses found with the choices in the address as records of the province:
 // each pulse's interval runs from its median start to its median end, its notes keep the 95 % intervals,
 // the share of replicates in which it exists and the address it was found with, and its units are those
-// whose counted value lies in the interval. A pulse of the same name (P1 = oldest, …) is replaced as a
-// new version.
+// whose counted value lies in the interval. A pulse is named by its age (P155.34), or by the name of the
+// saved record that is the same pulse (savedPulseNames), which it replaces as a new version.
 func (s *Server) handlePulsesSave(w http.ResponseWriter, r *http.Request) error {
 	r = actingCtx(r)
 	ctx := r.Context()
@@ -304,10 +337,15 @@ func (s *Server) handlePulsesSave(w http.ResponseWriter, r *http.Request) error 
 		return badRequest{message: "No pulse was found with these choices, so there is nothing to save."}
 	}
 	source := idURL("/provinces", id) + "/timeline?" + r.URL.RawQuery
+	saved, err := s.store.Pulses(ctx, id)
+	if err != nil {
+		return err
+	}
+	names := savedPulseNames(pulseIDs(res.Pulses), saved)
 	var ps []store.Pulse
 	for i, pu := range oldestFirst(res.Pulses) {
 		start, end := pu.Start.MedianMa, pu.End.MedianMa
-		sp := store.Pulse{Name: fmt.Sprintf("P%d", i+1), StartMa: &start, EndMa: &end,
+		sp := store.Pulse{Name: names[i], StartMa: &start, EndMa: &end,
 			Notes: fmt.Sprintf("Found from the density (%s): mode %s Ma [95 %%: %s–%s], start %s [%s–%s], end %s [%s–%s] Ma; present in %.0f %% of %d replicates (seed %d).",
 				ch.Rule.String(), fixed(pu.Mode.MedianMa, 3), fixed(pu.Mode.UpperMa, 3), fixed(pu.Mode.LowerMa, 3),
 				fixed(start, 3), fixed(pu.Start.UpperMa, 3), fixed(pu.Start.LowerMa, 3),

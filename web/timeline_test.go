@@ -22,6 +22,7 @@ import (
 	"testing"
 
 	"coeval/stats"
+	"coeval/web/analysis"
 	"coeval/store"
 )
 
@@ -589,6 +590,21 @@ func TestSavePulsesFromTheTimeline(t *testing.T) {
 	if len(ps) != 2 || ps[0].StartMa == nil || ps[0].EndMa == nil || *ps[0].StartMa < *ps[0].EndMa || len(ps[0].UnitIDs) == 0 {
 		t.Fatalf("saved pulses %+v: want two intervals with their units", ps)
 	}
+	// Named as the timeline names them, by their age.
+	_, js, _ := do(t, c, http.MethodGet, srv.URL+"/provinces/1/timeline?reps=200&seed=3&format=json", nil)
+	var tl struct {
+		Pulses []struct {
+			Pulse string `json:"pulse"`
+		} `json:"pulses"`
+	}
+	if err := json.Unmarshal([]byte(js), &tl); err != nil || len(tl.Pulses) != 2 {
+		t.Fatalf("timeline JSON: %v, %d pulses", err, len(tl.Pulses))
+	}
+	for i, p := range ps {
+		if p.Name != tl.Pulses[i].Pulse {
+			t.Errorf("saved pulse %d named %q, the timeline names it %q", i, p.Name, tl.Pulses[i].Pulse)
+		}
+	}
 	do(t, c, http.MethodPost, srv.URL+"/provinces/1/pulses?reps=200&seed=3", url.Values{})
 	again, _ := db.Pulses(context.Background(), 1)
 	if len(again) != 2 || again[0].Version != 2 {
@@ -608,5 +624,36 @@ func TestCompareCacheKeyHoldsBandwidthInEachReplicate(t *testing.T) {
 	each.Dens.BWEach = true
 	if held.cacheKey(1) == each.cacheKey(1) {
 		t.Error("bw_each=1 and bw_each=0 share a comparison cache entry")
+	}
+}
+
+// Pulses saved as records are named by their age, or by the saved record that is the same pulse (one to
+// one, by overlap of their age ranges), never by their place: a pulse that moved within its range keeps
+// its record; a pulse split in two, or a new one, gets its own age's name; an old record named by
+// number keeps its name only for the one pulse that is it.
+func TestSavedPulseNamesFollowTheSamePulse(t *testing.T) {
+	f := func(x float64) *float64 { return &x }
+	id := func(code string, old, young float64) analysis.PulseID {
+		return analysis.PulseID{Code: code, Span: stats.PulseSpan{ModeMa: (old + young) / 2, OldMa: old, YoungMa: young}}
+	}
+	saved := []store.Pulse{{Name: "P1", StartMa: f(156.0), EndMa: f(155.1)}, {Name: "P154.7", StartMa: f(155.0), EndMa: f(153.6)}}
+	cases := []struct {
+		name string
+		ids  []analysis.PulseID
+		want []string
+	}{
+		{"nothing saved", []analysis.PulseID{id("P155.4", 156, 155.1)}, []string{"P155.4"}},
+		{"both moved within their ranges", []analysis.PulseID{id("P155.5", 156.05, 155.15), id("P154.6", 154.9, 153.5)}, []string{"P1", "P154.7"}},
+		{"the first split in two", []analysis.PulseID{id("P155.8", 156.0, 155.6), id("P155.3", 155.55, 155.1), id("P154.7", 155.0, 153.6)}, []string{"P155.8", "P155.3", "P154.7"}},
+		{"a new pulse before them", []analysis.PulseID{id("P158.0", 158.5, 157.5), id("P155.4", 156, 155.1)}, []string{"P158.0", "P1"}},
+	}
+	for _, c := range cases {
+		in := saved
+		if c.name == "nothing saved" {
+			in = nil
+		}
+		if got := savedPulseNames(c.ids, in); !slices.Equal(got, c.want) {
+			t.Errorf("%s: names %v, want %v", c.name, got, c.want)
+		}
 	}
 }
