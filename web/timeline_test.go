@@ -22,8 +22,8 @@ import (
 	"testing"
 
 	"coeval/stats"
-	"coeval/web/analysis"
 	"coeval/store"
+	"coeval/web/analysis"
 )
 
 func TestTimescaleCheckValues(t *testing.T) {
