@@ -182,23 +182,7 @@ func (f CompareFigure) draw(c canvas, l *timelineLayout) {
 	}
 	t.drawStrip(c, l)
 	t.drawAxis(c, l)
-	lx, ly := 15.0, l.legendT
-	for _, it := range l.legendItems {
-		if lx+it.width > figW-25 && lx > 15 {
-			lx = 15
-			ly += legendRowH
-		}
-		it.draw(c, lx, ly)
-		c.text(lx+28, ly+3.5, it.label, textStyle{Size: 9.5})
-		lx += it.width
-	}
-	ny := l.legendT + float64(l.legendRows)*legendRowH + 6
-	for _, s := range []string{t.SigmaNote, t.Credit} {
-		for _, line := range wrapText(s, 9.5, figW-30) {
-			c.text(15, ny, line, textStyle{Size: 9.5, Colour: mutedColour})
-			ny += 13
-		}
-	}
+	drawLegendAndNotes(c, l.legendItems, l.legendT, l.legendRows, t.SigmaNote, t.Credit)
 }
 
 // SVG draws the figure as SVG with hover titles.

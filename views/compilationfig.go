@@ -297,23 +297,7 @@ func (f CompilationFigure) draw(c canvas, cl *compilationLayout) {
 	}
 	t.drawStrip(c, l)
 	t.drawAxis(c, l)
-	lx, ly := 15.0, l.legendT
-	for _, it := range cl.legend {
-		if lx+it.width > figW-25 && lx > 15 {
-			lx = 15
-			ly += legendRowH
-		}
-		it.draw(c, lx, ly)
-		c.text(lx+28, ly+3.5, it.label, textStyle{Size: 9.5})
-		lx += it.width
-	}
-	ny := l.legendT + float64(cl.legendRow)*legendRowH + 6
-	for _, s := range []string{f.Note, f.Credit} {
-		for _, line := range wrapText(s, 9.5, figW-30) {
-			c.text(15, ny, line, textStyle{Size: 9.5, Colour: mutedColour})
-			ny += 13
-		}
-	}
+	drawLegendAndNotes(c, cl.legend, l.legendT, cl.legendRow, f.Note, f.Credit)
 }
 
 // SVG draws the figure as SVG: the provinces' names link to their timelines, the events to their pages.

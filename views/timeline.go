@@ -196,6 +196,29 @@ func (f TimelineFigure) x(l *timelineLayout, ageMa float64) float64 {
 	return l.plotL + (f.MaxMa-ageMa)/(f.MaxMa-f.MinMa)*(l.plotR-l.plotL)
 }
 
+// drawLegendAndNotes draws a figure's legend from top, its items in rows across the figure (rows of them
+// reserved by the layout), and under it each note wrapped to the figure's width. The timeline, the
+// comparison and the compilation figures end with it.
+func drawLegendAndNotes(c canvas, items []legendItem, top float64, rows int, notes ...string) {
+	lx, ly := 15.0, top
+	for _, it := range items {
+		if lx+it.width > figW-25 && lx > 15 {
+			lx = 15
+			ly += legendRowH
+		}
+		it.draw(c, lx, ly)
+		c.text(lx+28, ly+3.5, it.label, textStyle{Size: 9.5})
+		lx += it.width
+	}
+	ny := top + float64(rows)*legendRowH + 6
+	for _, s := range notes {
+		for _, line := range wrapText(s, 9.5, figW-30) {
+			c.text(15, ny, line, textStyle{Size: 9.5, Colour: mutedColour})
+			ny += 13
+		}
+	}
+}
+
 func wrapText(s string, size, width float64) []string {
 	var lines []string
 	var cur string
@@ -551,24 +574,7 @@ func (f TimelineFigure) draw(c canvas, l *timelineLayout) {
 	f.drawStrip(c, l)
 	f.drawAxis(c, l)
 
-	// Legend and notes.
-	lx, ly := 15.0, l.legendT
-	for _, it := range l.legendItems {
-		if lx+it.width > figW-25 && lx > 15 {
-			lx = 15
-			ly += legendRowH
-		}
-		it.draw(c, lx, ly)
-		c.text(lx+28, ly+3.5, it.label, textStyle{Size: 9.5})
-		lx += it.width
-	}
-	ny := l.legendT + float64(l.legendRows)*legendRowH + 6
-	for _, s := range []string{f.SigmaNote, f.Credit} {
-		for _, line := range wrapText(s, 9.5, figW-30) {
-			c.text(15, ny, line, textStyle{Size: 9.5, Colour: mutedColour})
-			ny += 13
-		}
-	}
+	drawLegendAndNotes(c, l.legendItems, l.legendT, l.legendRows, f.SigmaNote, f.Credit)
 }
 
 // drawBand draws a band in the row at y0 of height h: its span as a box, and the count of dates in each

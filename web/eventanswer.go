@@ -154,13 +154,9 @@ func (as *answers) section(id int64) (*sectionAges, error) {
 	return v, nil
 }
 
-// comparison is the comparison page's JSON for the province with its default choices and the extra ones
-// (detected anomalies compared, for an anomaly's answer), read once per answers.
-func (as *answers) comparison(province int64, extra url.Values) (*comparisonRowsJSON, error) {
-	q := url.Values{"province": {strconv.FormatInt(province, 10)}}
-	for k, v := range extra {
-		q[k] = v
-	}
+// comparison is the comparison page's JSON for the address q (a province, with the default choices and
+// any extra ones, such as detected anomalies compared for an anomaly's answer), read once per answers.
+func (as *answers) comparison(q url.Values) (*comparisonRowsJSON, error) {
 	key := q.Encode()
 	if v, ok := as.compares[key]; ok {
 		return v, as.errs[key]
@@ -248,7 +244,7 @@ func (as *answers) answerAt(a eventAnswer, code string, extra url.Values) (event
 		for k, v := range extra {
 			q[k] = v
 		}
-		cmp, err := as.comparison(c.p.ID, extra)
+		cmp, err := as.comparison(q)
 		if err != nil {
 			a.Notes = append(a.Notes, fmt.Sprintf("%s could not be compared: %v", c.p.Name, err))
 			continue

@@ -57,6 +57,10 @@ func (s *Server) timeline(ctx context.Context, id int64, ch densityChoice) (anal
 		return analysis.Timeline{}, err
 	}
 	key := timelineKey(id, o, "stamp "+strconv.FormatInt(stamp, 10))
+	if key == "" { // options that cannot be written: nothing is kept
+		tl, err := analysis.ProvinceDensity(ctx, s.store, id, o)
+		return tl, optionBadRequest(err, densityParams)
+	}
 	if tl, ok := s.tlCache.get(key); ok {
 		return *tl, nil
 	}
@@ -64,19 +68,13 @@ func (s *Server) timeline(ctx context.Context, id int64, ch densityChoice) (anal
 	if err != nil {
 		return analysis.Timeline{}, err
 	}
-	dataKey := ""
+	// Computed under the digest of what it read when there is one (an edit elsewhere keeps it), found
+	// again under the stamp.
+	kept := key
 	if dg := analysis.DigestProvince(data); dg != "" {
-		dataKey = timelineKey(id, o, "data "+dg)
+		kept = timelineKey(id, o, "data "+dg)
 	}
-	if tl, ok := s.tlCache.get(dataKey); ok && dataKey != "" {
-		s.tlCache.put(key, tl)
-		return *tl, nil
-	}
-	if key == "" || dataKey == "" {
-		tl, err := analysis.DensityOf(data, o)
-		return tl, optionBadRequest(err, densityParams)
-	}
-	tl, _, err := s.tlCache.do(ctx, dataKey, func() (*analysis.Timeline, error) {
+	tl, _, err := s.tlCache.do(ctx, kept, func() (*analysis.Timeline, error) {
 		tl, err := analysis.DensityOf(data, o)
 		return &tl, optionBadRequest(err, densityParams)
 	})
