@@ -466,10 +466,7 @@ func compilationTable(c *compilation) views.Table {
 			t.Rows = append(t.Rows, append(ev, views.Cell{Text: "—"}, views.Cell{Text: row.Note}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—"}))
 			continue
 		}
-		pulse := orText(p.Name, p.Pulse)
-		if p.hasPulseAge {
-			pulse = fmt.Sprintf("%s (%.2f–%.2f)", pulse, p.StartMa, p.EndMa)
-		}
+		pulse := p.pulseName()
 		lag, hold := p.lagText(), p.holdsCell()
 		t.Rows = append(t.Rows, append(ev, views.Cell{Text: row.Province.Name, URL: idURL("/provinces", row.Province.ID) + "/timeline"}, views.Cell{Text: pulse},
 			views.Cell{Text: p.probWords(p.Within, p.WithinSE), Num: true}, views.Cell{Text: lag, Num: true}, hold))
