@@ -116,7 +116,7 @@ func mapFigure(m mapPlaces) views.WorldMap {
 		for _, u := range pp.Units {
 			label := fmt.Sprintf("%s (%s), %s, %s", u.Unit.Name, pp.Province.Name, degrees3(*u.Unit.Latitude), degrees3(*u.Unit.Longitude))
 			if u.Palaeo != nil {
-				label += fmt.Sprintf("; palaeolatitude %s from its province's pole (%s)", palaeoWithRange(*u.Palaeo, "°"), pp.Province.PoleSource)
+				label += fmt.Sprintf("; palaeolatitude %s from its province's pole (%s)", palaeoWithRange(*u.Palaeo), pp.Province.PoleSource)
 			}
 			if u.Far {
 				label += " — far from the rest of its province: check its coordinates"
@@ -163,10 +163,19 @@ const (
 	palaeolatitudeCaution = "A palaeolatitude from a single pole assumes a geocentric axial dipole and that the units sat on the plate the pole belongs to at the pole's age; it is not a plate reconstruction."
 )
 
+// palaeoTableCell writes a palaeolatitude in the table, whose column names the unit and the 95 % level:
+// "-31.2 ± 7.5", or, where the range is cut at ±90°, "85.0 (77.5 to 90.0)".
+func palaeoTableCell(p stats.Palaeolatitude) string {
+	if math.Abs((p.Deg-p.Low95)-(p.High95-p.Deg)) < 1e-9 {
+		return fixed(p.Deg, 1) + " ± " + fixed(p.High95-p.Deg, 1)
+	}
+	return fmt.Sprintf("%s (%s to %s)", fixed(p.Deg, 1), fixed(p.Low95, 1), fixed(p.High95, 1))
+}
+
 // palaeoWithRange writes a palaeolatitude with its approximate 95 % range: "-31.2° ± 7.5° (95 %)", or, where
-// the range is cut at ±90°, "85.0° (95 %: 77.5° to 90.0°)". unit is "°" in text, "" in a table column.
-func palaeoWithRange(p stats.Palaeolatitude, unit string) string {
-	f := func(v float64) string { return fixed(v, 1) + unit }
+// the range is cut at ±90°, "85.0° (95 %: 77.5° to 90.0°)".
+func palaeoWithRange(p stats.Palaeolatitude) string {
+	f := func(v float64) string { return fixed(v, 1) + "°" }
 	lo, hi := p.Deg-p.Low95, p.High95-p.Deg
 	if math.Abs(lo-hi) < 1e-9 {
 		return fmt.Sprintf("%s ± %s (95 %%)", f(p.Deg), f(hi))
@@ -230,10 +239,10 @@ func mapTables(m mapPlaces) []views.Table {
 		palaeo, from := views.Cell{Text: "–", Num: true}, views.Cell{Text: "–"}
 		switch r.PalaeoBasis {
 		case palaeoFromPole:
-			palaeo.Text = palaeoWithRange(stats.Palaeolatitude{Deg: *r.Palaeo, Low95: *r.PalaeoLow, High95: *r.PalaeoHigh}, "")
+			palaeo.Text = palaeoTableCell(stats.Palaeolatitude{Deg: *r.Palaeo, Low95: *r.PalaeoLow, High95: *r.PalaeoHigh})
 			from = views.Cell{Text: "its province's pole", Title: r.Pole.PoleSource}
 		case palaeoEntered:
-			palaeo.Text = optCoord(r.Palaeo)
+			palaeo.Text = strconv.FormatFloat(*r.Palaeo, 'f', -1, 64) // as entered, without digits it never had
 			from.Text = "as entered"
 		}
 		t.Rows = append(t.Rows, []views.Cell{{Text: r.Kind}, {Text: r.Name, URL: r.URL}, {Text: orDash(r.Province)},

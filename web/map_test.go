@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"coeval/stats"
 	"coeval/store"
 )
 
@@ -222,7 +223,7 @@ func TestMapGivesUnitsPalaeolatitudesFromTheirProvincesPole(t *testing.T) {
 		if s := fmt.Sprintf("%.1f° ± %.1f° (95 %%)", want, *p.PoleA95); !strings.Contains(page, s) {
 			t.Errorf("%s: the page lacks %q in its label", key, s)
 		}
-		if s := fmt.Sprintf("%.1f ± %.1f (95 %%)", want, *p.PoleA95); !strings.Contains(page, s) {
+		if s := fmt.Sprintf(">%.1f ± %.1f<", want, *p.PoleA95); !strings.Contains(page, s) {
 			t.Errorf("%s: the table lacks %q", key, s)
 		}
 	}
@@ -239,5 +240,23 @@ func TestMapGivesUnitsPalaeolatitudesFromTheirProvincesPole(t *testing.T) {
 	_, _, body = get(t, srv, "/map?format=json")
 	if err := json.Unmarshal([]byte(body), &j); err != nil || len(j.WithoutPole) != without || !strings.Contains(j.Caution, "geocentric axial dipole") {
 		t.Errorf("JSON: %v, without pole %v, caution %q", err, j.WithoutPole, j.Caution)
+	}
+}
+
+// A palaeolatitude is written with ± its A95 when the range is symmetric, and as its range where ±90° cuts it.
+func TestPalaeolatitudeIsWrittenWithItsRange(t *testing.T) {
+	for _, c := range []struct {
+		p           stats.Palaeolatitude
+		label, cell string
+	}{
+		{stats.Palaeolatitude{Deg: -31.24, Low95: -38.74, High95: -23.74}, "-31.2° ± 7.5° (95 %)", "-31.2 ± 7.5"},
+		{stats.Palaeolatitude{Deg: 85, Low95: 77.5, High95: 90}, "85.0° (95 %: 77.5° to 90.0°)", "85.0 (77.5 to 90.0)"},
+	} {
+		if got := palaeoWithRange(c.p); got != c.label {
+			t.Errorf("label %q, want %q", got, c.label)
+		}
+		if got := palaeoTableCell(c.p); got != c.cell {
+			t.Errorf("cell %q, want %q", got, c.cell)
+		}
 	}
 }
