@@ -3,10 +3,13 @@ package store
 import (
 	"bytes"
 	"context"
+	"io/fs"
 	"strings"
 	"testing"
 
 	"github.com/google/go-cmp/cmp"
+
+	"coeval/migrations"
 )
 
 // A province's palaeomagnetic pole (migration 017) is checked field by field, with the same rules in the
@@ -132,5 +135,49 @@ func TestProvincePoleRoundTrips(t *testing.T) {
 	}
 	if got, _ := db.Province(ctx, p.ID); !got.HasPole() || *got.PoleA95 != 3.8 || got.PoleSource != f["pole_source"] {
 		t.Errorf("undo did not bring the pole back: %+v", got)
+	}
+}
+
+// Migration 017 gives the provinces' recorded states the pole fields, so that a change made before it can
+// still be undone: a state without them (as written before 017) would never compare equal to the record.
+// Here a revision's states are stripped back to the old shape (the undo of its change is then refused), the
+// migration's UPDATEs are run again, and the undo succeeds.
+func TestMigration017GivesOldProvinceStatesThePoleFields(t *testing.T) {
+	db := mustOpenDB(t)
+	ctx := context.Background()
+	p, err := db.CreateProvince(ctx, Form{"province": "Old Traps", "description": "first"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.UpdateProvince(ctx, p.ID, p.Version, Form{"province": "Old Traps", "description": "second"}); err != nil {
+		t.Fatal(err)
+	}
+	strip := `UPDATE revisions SET before_json = json_remove(before_json, '$.pole_latitude', '$.pole_longitude', '$.pole_a95', '$.pole_source'),
+		after_json = json_remove(after_json, '$.pole_latitude', '$.pole_longitude', '$.pole_a95', '$.pole_source') WHERE record_type = 'province'`
+	if _, err := db.db.ExecContext(ctx, strip); err != nil {
+		t.Fatal(err)
+	}
+	revs, _ := db.Revisions(ctx, "province", p.ID)
+	batch := revs[0].BatchID // the edit's change (newest first)
+	if revs[0].Before == nil {
+		t.Fatal("the newest revision is the creation, not the edit")
+	}
+	if _, err := db.UndoBatch(ctx, batch); err == nil {
+		t.Fatal("a state without the pole fields was undone: the test does not reach what the migration fixes")
+	}
+	sqlText, err := fs.ReadFile(migrations.FS, "017_province_poles.sql")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, updates, _ := strings.Cut(string(sqlText), "ALTER TABLE provinces ADD COLUMN pole_source")
+	_, updates, _ = strings.Cut(updates, "\n")
+	if _, err := db.db.ExecContext(ctx, updates); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.UndoBatch(ctx, batch); err != nil {
+		t.Fatalf("undo after the migration's updates: %v", err)
+	}
+	if got, _ := db.Province(ctx, p.ID); got.Description != "first" {
+		t.Errorf("after undo: %q, want first", got.Description)
 	}
 }
