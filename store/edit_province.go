@@ -11,8 +11,10 @@ func provinceType() recordType[Province] {
 	return recordType[Province]{
 		name:  "province",
 		table: "provinces",
-		cols:  []string{"name", "description"},
-		vals:  func(p Province) []any { return []any{p.Name, p.Description} },
+		cols:  []string{"name", "description", "pole_latitude", "pole_longitude", "pole_a95", "pole_source"},
+		vals: func(p Province) []any {
+			return []any{p.Name, p.Description, p.PoleLatitude, p.PoleLongitude, p.PoleA95, p.PoleSource}
+		},
 		meta:  func(p Province) (int64, int, string) { return p.ID, p.Version, p.CreatedAt },
 		label: func(p Province) string { return fmt.Sprintf("province %q", p.Name) },
 		load:  provinceInTx,

@@ -15,7 +15,7 @@ func TestProvinceCreateEditConflictDeleteRevert(t *testing.T) {
 	if _, err := db.CreateProvince(ctx, Form{"province": " ", "description": "x"}); problemOn(t, err, "province") != "is empty; a value is required" {
 		t.Error("an empty name: wrong message")
 	}
-	f := Form{"province": "Test Traps", "description": "first"}
+	f := Form{"province": "Test Traps", "description": "first", "pole_latitude": "", "pole_longitude": "", "pole_a95": "", "pole_source": ""}
 	p, err := db.CreateProvince(ctx, f)
 	if err != nil {
 		t.Fatal(err)

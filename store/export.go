@@ -31,7 +31,8 @@ func writeCSV(w io.Writer, header []string, rows func(emit func([]string) error)
 func WriteProvincesCSV(w io.Writer, ps []Province) error {
 	return writeCSV(w, provinceColumns, func(emit func([]string) error) error {
 		for _, p := range ps {
-			if err := emit([]string{p.Name, p.Description}); err != nil {
+			if err := emit([]string{p.Name, p.Description, formatOpt(p.PoleLatitude), formatOpt(p.PoleLongitude),
+				formatOpt(p.PoleA95), p.PoleSource}); err != nil {
 				return err
 			}
 		}

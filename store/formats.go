@@ -110,6 +110,10 @@ func FileFormats() []FileFormat {
 			Columns: []FileColumn{
 				{Name: "province", Required: true, Meaning: "The province's name, unique in the compilation.", Example: "Example Province (invented)"},
 				{Name: "description", Meaning: "Free text.", Example: "An invented province for the template."},
+				{Name: "pole_latitude", Meaning: "Latitude of a palaeomagnetic pole of the province in decimal degrees, −90 to 90 (north pole convention). Optional; a pole is given with all four pole columns or none. The map computes the palaeolatitudes of the province's units from it.", Example: "62.5"},
+				{Name: "pole_longitude", Meaning: "Longitude of the pole in decimal degrees, east positive, −180 to 180 (0 to 360 is read too and stored as −180 to 180).", Example: "215.0"},
+				{Name: "pole_a95", Meaning: "The pole's A95 in degrees: the radius of its 95 % confidence circle, greater than 0 and at most 30.", Example: "5.5"},
+				{Name: "pole_source", Meaning: "Where the pole comes from (publication, or how it was derived): required with a pole.", Example: "invented pole for the template"},
 			},
 		},
 		{

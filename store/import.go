@@ -124,7 +124,7 @@ func (d *DB) importTable(ctx context.Context, kind string, t *csvTable,
 	return res, nil
 }
 
-// ImportProvinces imports provinces.csv (province, description). A province that exists is an error.
+// ImportProvinces imports provinces.csv (province, description, an optional palaeomagnetic pole). A province that exists is an error.
 func (d *DB) ImportProvinces(ctx context.Context, file string, r io.Reader) (ImportResult, error) {
 	var recs []Province
 	return d.importFile(ctx, "provinces", file, r, mustFormat("provinces").RequiredNames(), provinceColumns,
@@ -693,7 +693,45 @@ func lookupID(ctx context.Context, tx *sql.Tx, q string, args ...any) (int64, er
 
 // parseProvinceRow reads one row of a provinces file.
 func parseProvinceRow(rw row) Province {
-	return Province{Name: rw.requiredStr("province"), Description: rw.str("description")}
+	p := Province{Name: rw.requiredStr("province"), Description: rw.str("description"),
+		PoleLatitude: rw.optFloat("pole_latitude"), PoleLongitude: rw.optFloat("pole_longitude"),
+		PoleA95: rw.optFloat("pole_a95"), PoleSource: rw.str("pole_source")}
+	checkPole(rw, &p)
+	return p
+}
+
+// MaxPoleA95 is the largest A95 (degrees) a province's pole may carry. Poles used for palaeogeography are
+// usually far better defined (A95 under about 10–15°, common practice); a larger one gives a palaeolatitude
+// of little use (the map gives it ± A95), and a value above 30 is most likely a slip (95 typed for 9.5, or
+// the number of sites typed into the wrong cell).
+const MaxPoleA95 = 30.0
+
+// checkPole checks a province's pole: all of pole_latitude, pole_longitude, pole_a95 and pole_source or
+// none, each within its range; the longitude is normalised to -180..180 (0..360 is read too).
+func checkPole(rw row, p *Province) {
+	given := map[string]bool{"pole_latitude": p.PoleLatitude != nil, "pole_longitude": p.PoleLongitude != nil,
+		"pole_a95": p.PoleA95 != nil, "pole_source": strings.TrimSpace(p.PoleSource) != ""}
+	some := false
+	for _, g := range given {
+		some = some || g
+	}
+	if !some {
+		return
+	}
+	for _, col := range []string{"pole_latitude", "pole_longitude", "pole_a95", "pole_source"} {
+		if !given[col] && rw.str(col) == "" { // a cell that failed to parse has its own problem already
+			rw.problem(col, "is empty; a pole needs its latitude, longitude, A95 and source together (leave all four empty for no pole)")
+		}
+	}
+	rw.within("pole_latitude", p.PoleLatitude, -90, 90)
+	rw.within("pole_longitude", p.PoleLongitude, -180, 360)
+	if v := p.PoleLongitude; v != nil && *v > 180 && *v <= 360 {
+		lon := *v - 360
+		p.PoleLongitude = &lon
+	}
+	if v := p.PoleA95; v != nil && (*v <= 0 || *v > MaxPoleA95) {
+		rw.problem("pole_a95", "want the pole's A95 in degrees, greater than 0 and at most %s, got %s", formatNumber(MaxPoleA95), formatNumber(*v))
+	}
 }
 
 // parseUnitRow reads one row of a units file.

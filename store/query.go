@@ -53,14 +53,14 @@ func notFound(err error, what string, id int64) error {
 	return err
 }
 
-const provinceSelect = `SELECT p.id, p.name, p.description, p.version, p.created_at, p.updated_at,
+const provinceSelect = `SELECT p.id, p.name, p.description, p.pole_latitude, p.pole_longitude, p.pole_a95, p.pole_source, p.version, p.created_at, p.updated_at,
 	(SELECT count(*) FROM units u WHERE u.province_id = p.id),
 	(SELECT count(*) FROM dates d JOIN units u ON d.unit_id = u.id WHERE u.province_id = p.id)
 	FROM provinces p`
 
 func scanProvince(s interface{ Scan(...any) error }) (Province, error) {
 	var p Province
-	err := s.Scan(&p.ID, &p.Name, &p.Description, &p.Version, &p.CreatedAt, &p.UpdatedAt, &p.NUnits, &p.NDates)
+	err := s.Scan(&p.ID, &p.Name, &p.Description, &p.PoleLatitude, &p.PoleLongitude, &p.PoleA95, &p.PoleSource, &p.Version, &p.CreatedAt, &p.UpdatedAt, &p.NUnits, &p.NDates)
 	return p, err
 }
 

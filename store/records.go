@@ -8,11 +8,22 @@ type Province struct {
 	ID          int64  `json:"id"`
 	Name        string `json:"name"`
 	Description string `json:"description"`
-	Version     int    `json:"version"`
-	CreatedAt   string `json:"created_at"`
-	UpdatedAt   string `json:"updated_at"`
-	NUnits      int    `json:"n_units"`
-	NDates      int    `json:"n_dates"`
+	// A palaeomagnetic pole of the province (north pole convention, degrees; longitude -180..180), its A95
+	// (degrees, the radius of its 95 % confidence circle) and its source: all four or none.
+	PoleLatitude  *float64 `json:"pole_latitude"`
+	PoleLongitude *float64 `json:"pole_longitude"`
+	PoleA95       *float64 `json:"pole_a95"`
+	PoleSource    string   `json:"pole_source"`
+	Version       int      `json:"version"`
+	CreatedAt     string   `json:"created_at"`
+	UpdatedAt     string   `json:"updated_at"`
+	NUnits        int      `json:"n_units"`
+	NDates        int      `json:"n_dates"`
+}
+
+// HasPole reports whether the province carries a palaeomagnetic pole.
+func (p Province) HasPole() bool {
+	return p.PoleLatitude != nil && p.PoleLongitude != nil && p.PoleA95 != nil
 }
 
 // Unit is a mappable eruptive or intrusive unit of a province.

@@ -183,6 +183,9 @@ func TestDemoIsLabelledInventedEverywhere(t *testing.T) {
 		if !strings.HasSuffix(p["province"], "(invented)") || !strings.HasPrefix(p["description"], "INVENTED") {
 			t.Errorf("province %q is not labelled invented", p["province"])
 		}
+		if p["pole_source"] != "" && !strings.HasPrefix(p["pole_source"], "Invented pole for the demo") {
+			t.Errorf("province %q: pole source %q is not labelled invented", p["province"], p["pole_source"])
+		}
 	}
 	for _, d := range read("dates.csv") {
 		if !strings.HasSuffix(d["laboratory"], "(invented)") || !strings.HasPrefix(d["citation"], "Invented demo data") ||

@@ -8,7 +8,7 @@ import (
 )
 
 // In a real headless Chromium: the menu leads to the map; the demo's units and sections are drawn over the
-// coastlines; after a unit is entered with its latitude's sign flipped, the map widens to show it circled
+// coastlines, with the units' palaeolatitudes and the poles they come from; after a unit is entered with its latitude's sign flipped, the map widens to show it circled
 // and the page lists it to check. Screenshots of both.
 func TestBrowserMap(t *testing.T) {
 	ctx := newBrowser(t)
@@ -25,6 +25,13 @@ func TestBrowserMap(t *testing.T) {
 		t.Errorf("caption %q does not name the coastlines' source", got)
 	}
 	shoot(t, ctx, dir, "01-demo")
+	// The units' palaeolatitudes come with the poles they are computed from; a province without one is named.
+	if got := text(t, ctx, "table#poles"); !strings.Contains(got, "Invented pole for the demo") || !strings.Contains(got, "A95") {
+		t.Errorf("poles table %q", got)
+	}
+	if got := text(t, ctx, "main"); !strings.Contains(got, "No palaeomagnetic pole recorded for") || !strings.Contains(got, "not a plate reconstruction") {
+		t.Error("the map page does not name the province without a pole, or lacks the caution")
+	}
 
 	addMisplacedUnit(t, db)
 	if err := chromedp.Do(ctx, chromedp.Navigate(srv.URL+"/map"), chromedp.WaitVisible(chromedp.CSS(".cautions"))); err != nil {

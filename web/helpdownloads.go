@@ -101,8 +101,9 @@ func downloadKinds() []downloadKind {
 				"Ages are in Ma, older = larger; intervals are 95 % intervals.",
 			}},
 		{Kind: "map-places", Title: "Map places (CSV)",
-			Intro:   "One row per place the map draws: each eruptive unit with coordinates (with its distance from its province's centre and whether it lies implausibly far) and each section with coordinates.",
+			Intro:   "One row per place the map draws: each eruptive unit with coordinates (with its distance from its province's centre and whether it lies implausibly far) and each section with coordinates, with its palaeolatitude: a unit's computed from the palaeomagnetic pole recorded for its province, a section's as entered.",
 			Columns: mapColumnDefs,
+			Notes:   []string{palaeolatitudeMethod, palaeolatitudeCaution},
 		},
 	}
 }

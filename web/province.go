@@ -126,12 +126,31 @@ func (s *Server) handleProvinceShow(w http.ResponseWriter, r *http.Request) erro
 	d.Groups = []views.FieldGroup{{Title: "Province", Fields: []views.KV{
 		{Label: "Units", Value: itoa(prov.NUnits)},
 		{Label: "Dates of units", Value: itoa(prov.NDates), URL: fmt.Sprintf("/dates?province=%d", id)},
-		{Label: "Added", Value: when(prov.CreatedAt)},
+		{Label: "Palaeomagnetic pole", Value: poleText(prov)},
 	}}}
+	if prov.HasPole() {
+		d.Groups[0].Fields = append(d.Groups[0].Fields, views.KV{Label: "Pole source", Value: prov.PoleSource},
+			views.KV{Label: "Palaeolatitudes of its units", Value: "on the map", URL: "/map"})
+	}
+	d.Groups[0].Fields = append(d.Groups[0].Fields, views.KV{Label: "Added", Value: when(prov.CreatedAt)})
 	d.Tables = []views.Table{summaryTable(sums, ch), unitTable(units, unitAgeRange(ds))}
 	d.Links = []views.Link{{Label: "Eruptive history: density, pulses and timeline →", URL: timelineURL(r, id)}}
 	links, acts := s.provinceRecordLinks(r, prov)
 	d.Links, d.Actions = append(d.Links, links...), acts
 	s.render(w, r, http.StatusOK, views.DetailPage(d))
 	return nil
+}
+
+// poleText writes a province's palaeomagnetic pole: "62.5° N, 145.0° W, A95 5.5° (95 % confidence)".
+func poleText(p store.Province) string {
+	if !p.HasPole() {
+		return "none recorded"
+	}
+	hemi := func(v float64, pos, neg string) string {
+		if v < 0 {
+			return fixed(-v, 1) + "° " + neg
+		}
+		return fixed(v, 1) + "° " + pos
+	}
+	return fmt.Sprintf("%s, %s, A95 %s° (95 %% confidence)", hemi(*p.PoleLatitude, "N", "S"), hemi(*p.PoleLongitude, "E", "W"), fixed(*p.PoleA95, 1))
 }

@@ -17,10 +17,14 @@ func (s *Server) provinceEdit() recordEdit {
 	return recordEdit{
 		recordType: "province", noun: "province", nav: "Provinces", path: "/provinces", newPath: "/provinces/new",
 		editRole: store.RoleCurator,
-		intro:    "Every field is checked with the rules of the provinces import. Units and their dates are added once the province exists.",
+		intro:    "Every field is checked with the rules of the provinces import. Units and their dates are added once the province exists. A palaeomagnetic pole, when given, yields the palaeolatitudes of the province's units on the map.",
 		fields: []formField{
 			{"province", "Province", "unique name", nil},
 			{"description", "Description", "", nil},
+			{"pole_latitude", "Palaeomagnetic pole: latitude", "degrees, −90 to 90, north pole; optional: give all four pole fields or none", nil},
+			{"pole_longitude", "Pole longitude", "degrees east, −180 to 180 (or 0 to 360)", nil},
+			{"pole_a95", "Pole A95", "degrees: the radius of the pole's 95 % confidence circle, at most 30", nil},
+			{"pole_source", "Pole source", "where the pole comes from (publication), required with a pole", nil},
 		},
 		newForm: func(r *http.Request) (store.Form, []views.Link, error) {
 			return store.Form{}, []views.Link{{Label: "Provinces", URL: "/provinces"}}, nil

@@ -52,3 +52,53 @@ func TestProvinceForms(t *testing.T) {
 		}
 	}
 }
+
+// A palaeomagnetic pole typed into the province form is stored as typed (a longitude of 0..360 as
+// −180..180), shown on the province page with its source, offered again in the edit form, and a pole
+// without its source is refused beside the field.
+func TestProvinceFormCarriesAPole(t *testing.T) {
+	srv, db := mustServer(t)
+	ctx := context.Background()
+	_, curator := signedIn(t, srv)
+	form := url.Values{"province": {"Pole Traps"}, "pole_latitude": {"-71.25"}, "pole_longitude": {"300"}, "pole_a95": {"4.5"}}
+	status, body, _ := do(t, curator, http.MethodPost, srv.URL+"/provinces/new", form)
+	if status != http.StatusUnprocessableEntity || !fieldError(body, "pole_source", "is empty; a pole needs its latitude, longitude, A95 and source together") {
+		t.Fatalf("a pole without a source: status %d, want 422 beside pole_source", status)
+	}
+	form.Set("pole_source", "invented pole for a test")
+	status, _, h := do(t, curator, http.MethodPost, srv.URL+"/provinces/new", form)
+	if status != http.StatusSeeOther {
+		t.Fatalf("create: status %d", status)
+	}
+	var id int64
+	if _, err := fmt.Sscanf(h.Get("Location"), "/provinces/%d", &id); err != nil {
+		t.Fatal(err)
+	}
+	p, err := db.Province(ctx, id)
+	if err != nil || !p.HasPole() || *p.PoleLatitude != -71.25 || *p.PoleLongitude != -60 || *p.PoleA95 != 4.5 {
+		t.Fatalf("stored %+v, %v; want the pole as typed, 300° E stored as −60", p, err)
+	}
+	_, page, _ := do(t, curator, http.MethodGet, fmt.Sprintf("%s/provinces/%d", srv.URL, id), nil)
+	for _, w := range []string{"Palaeomagnetic pole", "71.2° S, 60.0° W, A95 4.5° (95 % confidence)", "invented pole for a test"} {
+		if !strings.Contains(page, w) {
+			t.Errorf("province page lacks %q", w)
+		}
+	}
+	_, edit, _ := do(t, curator, http.MethodGet, fmt.Sprintf("%s/provinces/%d/edit", srv.URL, id), nil)
+	for _, w := range []string{`name="pole_latitude" value="-71.25"`, `name="pole_longitude" value="-60"`, `name="pole_a95" value="4.5"`, `value="invented pole for a test"`} {
+		if !strings.Contains(edit, w) {
+			t.Errorf("edit form lacks %s", w)
+		}
+	}
+	// A province without a pole says so.
+	ps, _ := db.Provinces(ctx)
+	for _, q := range ps {
+		if q.HasPole() {
+			continue
+		}
+		_, page, _ := do(t, curator, http.MethodGet, fmt.Sprintf("%s/provinces/%d", srv.URL, q.ID), nil)
+		if !strings.Contains(page, "none recorded") {
+			t.Errorf("%s: the page does not say it has no pole", q.Name)
+		}
+	}
+}

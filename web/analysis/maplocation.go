@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 
+	"coeval/stats"
 	"coeval/store"
 )
 
@@ -38,6 +39,9 @@ type UnitPlace struct {
 	DistanceKm float64 // from the province's centre (NaN when the province was not checked)
 	Far        bool
 	Why        string // the reason of the flag, with a likely correction when one fits
+	// Palaeo is the unit's palaeolatitude from its province's pole (stats.PalaeolatitudeFromPole), nil when
+	// the province has no pole.
+	Palaeo *stats.Palaeolatitude
 }
 
 // ProvincePlaces are the located units of one province, its centre and its typical distance.
@@ -51,7 +55,8 @@ type ProvincePlaces struct {
 	TypicalDistanceKm float64
 }
 
-// PlaceUnits checks the located units of a province. Units lacking a latitude or longitude are counted,
+// PlaceUnits checks the located units of a province and, when the province carries a palaeomagnetic pole,
+// gives each its palaeolatitude from that pole. Units lacking a latitude or longitude are counted,
 // not placed. A province with fewer than MinUnitsToCheck located units is not checked.
 func PlaceUnits(p store.Province, units []store.Unit) ProvincePlaces {
 	out := ProvincePlaces{Province: p, CentreLat: math.NaN(), CentreLon: math.NaN(), TypicalDistanceKm: math.NaN()}
@@ -61,7 +66,13 @@ func PlaceUnits(p store.Province, units []store.Unit) ProvincePlaces {
 			out.Unlocated++
 			continue
 		}
-		out.Units = append(out.Units, UnitPlace{Unit: u, DistanceKm: math.NaN()})
+		up := UnitPlace{Unit: u, DistanceKm: math.NaN()}
+		if p.HasPole() {
+			if pl, err := stats.PalaeolatitudeFromPole(*u.Latitude, *u.Longitude, *p.PoleLatitude, *p.PoleLongitude, *p.PoleA95); err == nil {
+				up.Palaeo = &pl
+			}
+		}
+		out.Units = append(out.Units, up)
 		lats, lons = append(lats, *u.Latitude), append(lons, *u.Longitude)
 	}
 	if len(out.Units) < MinUnitsToCheck {

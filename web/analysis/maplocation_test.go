@@ -64,3 +64,27 @@ func TestPlaceUnitsFlagsFarUnitsWithLikelyCorrections(t *testing.T) {
 		t.Error("two units checked")
 	}
 }
+
+// A province's pole gives its located units a palaeolatitude: 90° − the arc from unit to pole (closed form
+// on the sphere, Butler 1992 from memory), ± A95 clamped to ±90; a province without a pole gives none.
+func TestPlaceUnitsGivesPalaeolatitudesFromTheProvincesPole(t *testing.T) {
+	lat, lon, a95 := 60.0, 0.0, 7.5
+	units := []store.Unit{unitAt(1, 0, 0), unitAt(2, -30, 0), unitAt(3, 55, 0), {ID: 4, Name: "no place"}}
+	got := PlaceUnits(store.Province{Name: "P", PoleLatitude: &lat, PoleLongitude: &lon, PoleA95: &a95, PoleSource: "s"}, units)
+	// Along the meridian the arc is the difference of latitudes: 60, 90 and 5° → 30, 0 and 85° (85 + 7.5 → 90).
+	want := map[int64][3]float64{1: {30, 22.5, 37.5}, 2: {0, -7.5, 7.5}, 3: {85, 77.5, 90}}
+	if len(got.Units) != 3 {
+		t.Fatalf("%d located units, want 3", len(got.Units))
+	}
+	for _, up := range got.Units {
+		w := want[up.Unit.ID]
+		if up.Palaeo == nil || math.Abs(up.Palaeo.Deg-w[0]) > 1e-9 || math.Abs(up.Palaeo.Low95-w[1]) > 1e-9 || math.Abs(up.Palaeo.High95-w[2]) > 1e-9 {
+			t.Errorf("unit %d: %+v, want %v", up.Unit.ID, up.Palaeo, w)
+		}
+	}
+	for _, up := range PlaceUnits(store.Province{Name: "Q"}, units).Units {
+		if up.Palaeo != nil {
+			t.Errorf("unit %d of a province without a pole has a palaeolatitude", up.Unit.ID)
+		}
+	}
+}

@@ -254,9 +254,19 @@ const provLat, provLon = -47.60, -26.40
 // provinceSpec is one of the provinces appended after the Hvarn Plateau Basalts.
 type provinceSpec struct {
 	name, description string
-	lat, lon          float64 // reference point, in open ocean
+	lat, lon          float64  // reference point, in open ocean
+	pole              []string // pole_latitude, pole_longitude, pole_a95, pole_source; nil: no pole
 	units             []unit
 }
+
+// Invented palaeomagnetic poles (not real data), placed so that the units' palaeolatitudes computed from
+// them agree with those entered for the sections that record the province. The Ymberlaine Sill Complex has
+// none, so the map shows a province without a pole.
+var (
+	hvarnPole     = []string{"9.8", "-47.0", "6.2", "Invented pole for the demo (not real data), placed to agree with the palaeolatitudes entered for the Vedholmen-1, Skarfell and Mornesk sections"}
+	korrovaskPole = []string{"87.5", "14.0", "4.1", "Invented pole for the demo (not real data), placed to agree with the palaeolatitude entered for Quennard Gill"}
+	veldrithPole  = []string{"82.5", "-62.5", "8.5", "Invented pole for the demo (not real data), placed to agree with the palaeolatitude entered for Brisvane-3 Core"}
+)
 
 // laterProvinces are the provinces appended after the first. Their ages avoid every well-known real
 // large igneous province and major event (see README): the Korrovask Traps lie in the Bathonian
@@ -265,7 +275,7 @@ type provinceSpec struct {
 func laterProvinces() []provinceSpec {
 	z, bd, pl, gm := "zircon", "baddeleyite", "plagioclase", "groundmass"
 	return []provinceSpec{
-		{name: "Korrovask Traps (invented)", lat: -40.20, lon: -128.60,
+		{name: "Korrovask Traps (invented)", lat: -40.20, lon: -128.60, pole: korrovaskPole,
 			description: "INVENTED demo province (not real data): a fictional flood-basalt province with one eruptive pulse " +
 				"at about 167.6 Ma (Bathonian), recorded by the Quennard Gill section. Coordinates deliberately point at open ocean " +
 				"(South Pacific).",
@@ -289,7 +299,7 @@ func laterProvinces() []provinceSpec {
 					notes:  "Invented unit: dolerite sill below the lava pile.",
 					groups: []group{{pub: pubL20, material: bd, n: 3}}, interpretAs: "crystallisation"},
 			}},
-		{name: "Veldrith Plateau Basalts (invented)", lat: -31.50, lon: 78.20,
+		{name: "Veldrith Plateau Basalts (invented)", lat: -31.50, lon: 78.20, pole: veldrithPole,
 			description: "INVENTED demo province (not real data): a fictional flood-basalt province with one eruptive pulse " +
 				"at about 196.45 Ma (Sinemurian) that overlaps the pulse of the invented Ymberlaine Sill Complex, so an event " +
 				"of that age has two candidate provinces. Coordinates deliberately point at open ocean (Indian Ocean).",
@@ -957,12 +967,20 @@ func run(dir string, seed uint64) error {
 		manifest = append(manifest, []string{kind, sec, name})
 	}
 
-	add("provinces", "", "provinces.csv", [][]string{{"province", "description"}, {provinceName,
-		"INVENTED demo province (not real data): a fictional continental flood-basalt province with two eruptive " +
-			"pulses, about 155.40 Ma (Oxfordian) and 154.70 Ma (across the Oxfordian–Kimmeridgian boundary), " +
-			"separated by a quiet interval of about 0.5 Myr. Coordinates deliberately point at open ocean."}})
+	poleCells := func(pole []string) []string {
+		if pole == nil {
+			return []string{"", "", "", ""}
+		}
+		return pole
+	}
+	add("provinces", "", "provinces.csv", [][]string{
+		{"province", "description", "pole_latitude", "pole_longitude", "pole_a95", "pole_source"},
+		append([]string{provinceName,
+			"INVENTED demo province (not real data): a fictional continental flood-basalt province with two eruptive " +
+				"pulses, about 155.40 Ma (Oxfordian) and 154.70 Ma (across the Oxfordian–Kimmeridgian boundary), " +
+				"separated by a quiet interval of about 0.5 Myr. Coordinates deliberately point at open ocean."}, hvarnPole...)})
 	for _, p := range later {
-		files["provinces.csv"] = append(files["provinces.csv"], []string{p.name, p.description})
+		files["provinces.csv"] = append(files["provinces.csv"], append([]string{p.name, p.description}, poleCells(p.pole)...))
 	}
 
 	rng := stream(1)
