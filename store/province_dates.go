@@ -14,6 +14,9 @@ type ProvinceDates struct {
 	Province Province
 	Units    []Unit
 	Dates    []Date
+	// Version is the province's data version (DataVersions) in the same read: what was read is the
+	// same whenever the version is.
+	Version int64 `json:"-"`
 }
 
 // ProvinceDates reads a province with its units and dates in one read transaction, so the three belong
@@ -33,8 +36,14 @@ func (d *DB) ProvinceDates(ctx context.Context, id int64) (ProvinceDates, error)
 	if err != nil {
 		return out, fmt.Errorf("units of province %d: %w", id, err)
 	}
+	if out.Version, err = provinceVersion(ctx, tx, id); err != nil {
+		return out, err
+	}
 	cond, args := dateWhere(DateFilter{ProvinceID: id})
-	if out.Dates, err = queryAllTx(ctx, tx, dateSelect+cond, args, scanDate); err != nil {
+	// Sized by the province's count of dates (read with it): growing the slice row by row copied every
+	// date ~2× over, a fifth of the read at 10,000 dates.
+	out.Dates = make([]Date, 0, out.Province.NDates)
+	if out.Dates, err = appendAllTx(ctx, tx, out.Dates, dateSelect+cond, args, scanDate); err != nil {
 		return out, fmt.Errorf("dates of province %d: %w", id, err)
 	}
 	// The dates list's default order (oldest first, ties by id), sorted here: SQLite's sorter would copy every
