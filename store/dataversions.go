@@ -26,7 +26,11 @@ type DataVersions struct {
 // province by name.
 func (d *DB) DataVersions(ctx context.Context) (DataVersions, error) {
 	v := DataVersions{Provinces: map[int64]int64{}, Sections: map[int64]int64{}}
-	rows, err := d.reader().QueryContext(ctx, `SELECT kind, id, version FROM data_versions`)
+	q := `SELECT kind, id, version FROM data_versions`
+	if d.immutable && !d.hasVersions(ctx) {
+		q = unchangingVersions
+	}
+	rows, err := d.reader().QueryContext(ctx, q)
 	if err != nil {
 		return v, fmt.Errorf("data versions: %w", err)
 	}
@@ -63,12 +67,28 @@ func (d *DB) DataVersions(ctx context.Context) (DataVersions, error) {
 // ProvinceVersion is the version of what a province's timeline reads (its record, units and dates); 0
 // for a province the store never held (a deleted province keeps its last version).
 func (d *DB) ProvinceVersion(ctx context.Context, id int64) (int64, error) {
-	return provinceVersion(ctx, d.reader(), id)
+	return provinceVersion(ctx, d, d.reader(), id)
 }
 
-func provinceVersion(ctx context.Context, q querier, id int64) (int64, error) {
+// unchangingVersions are the versions of a database that cannot change and keeps none (a release's
+// snapshot cut before the versions were kept): 1 for everything it holds.
+const unchangingVersions = `SELECT 'province', id, 1 FROM provinces UNION ALL SELECT 'section', id, 1 FROM sections
+	UNION ALL SELECT 'calibrations', 0, 1 UNION ALL SELECT 'direct_events', 0, 1 UNION ALL SELECT 'events', 0, 1`
+
+// hasVersions says whether the database keeps the data versions (migration 018).
+func (d *DB) hasVersions(ctx context.Context) bool {
+	var n int
+	err := d.reader().QueryRowContext(ctx, `SELECT count(*) FROM sqlite_schema WHERE type = 'table' AND name = 'data_versions'`).Scan(&n)
+	return err == nil && n == 1
+}
+
+func provinceVersion(ctx context.Context, d *DB, q querier, id int64) (int64, error) {
+	query := `SELECT version FROM data_versions WHERE kind = 'province' AND id = ?`
+	if d.immutable && !d.hasVersions(ctx) {
+		query = `SELECT 1 FROM provinces WHERE id = ?`
+	}
 	var n int64
-	err := q.QueryRowContext(ctx, `SELECT version FROM data_versions WHERE kind = 'province' AND id = ?`, id).Scan(&n)
+	err := q.QueryRowContext(ctx, query, id).Scan(&n)
 	if errors.Is(err, sql.ErrNoRows) {
 		return 0, nil
 	}

@@ -3,6 +3,7 @@ package store
 import (
 	"context"
 	"fmt"
+	"path/filepath"
 	"slices"
 	"testing"
 )
@@ -333,5 +334,51 @@ func TestDataVersionsNeverRepeat(t *testing.T) {
 	v2, err := db.ProvinceVersion(ctx, p.ID)
 	if err != nil || v2 <= v1 {
 		t.Errorf("version of the province made again %d (%v), want above %d", v2, err, v1)
+	}
+}
+
+// A release's snapshot cut before the versions were kept (no data_versions table) cannot change: every
+// province and section it holds has version 1, so its results are kept too, and reading it does not fail.
+func TestDataVersionsOfAnOldSnapshot(t *testing.T) {
+	ctx := context.Background()
+	db := demoDB(t)
+	path := filepath.Join(t.TempDir(), "old-release.db")
+	if _, err := db.db.ExecContext(ctx, `VACUUM INTO ?`, path); err != nil {
+		t.Fatal(err)
+	}
+	old, err := Open(ctx, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := old.db.ExecContext(ctx, `DROP TABLE data_versions`); err != nil {
+		t.Fatal(err)
+	}
+	old.Close()
+	snap, err := OpenSnapshot(ctx, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer snap.Close()
+	provs, err := snap.Provinces(ctx)
+	if err != nil || len(provs) == 0 {
+		t.Fatalf("%d provinces, %v", len(provs), err)
+	}
+	secs, err := snap.Sections(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	vs, err := snap.DataVersions(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(vs.Provinces) != len(provs) || len(vs.Sections) != len(secs) || vs.Calibrations != 1 || vs.FirstProvince != provs[0].ID {
+		t.Errorf("versions of the old snapshot %+v, want 1 for each of its %d provinces and %d sections", vs, len(provs), len(secs))
+	}
+	pd, err := snap.ProvinceDates(ctx, provs[0].ID)
+	if err != nil || pd.Version != 1 {
+		t.Errorf("province %d read from the old snapshot: version %d, %v; want 1", provs[0].ID, pd.Version, err)
+	}
+	if v, err := snap.ProvinceVersion(ctx, 999); err != nil || v != 0 {
+		t.Errorf("a province the old snapshot does not hold: version %d, %v; want 0", v, err)
 	}
 }

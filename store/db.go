@@ -29,6 +29,7 @@ type DB struct {
 	now        func() time.Time
 	bcryptCost int  // 0 = bcrypt.DefaultCost
 	readOnly   bool // opened with OpenReadOnly: every write fails with SQLITE_READONLY
+	immutable  bool // opened as immutable (a release's snapshot): nothing can change it
 	// uploadQuota is the bytes of checked but not imported uploads one account may keep (0 = default).
 	uploadQuota int64
 	// traceQuery, when set (tests), is told each query the dates list pages run, to check their plans.
@@ -101,7 +102,7 @@ func open(ctx context.Context, path string, mode string) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
-	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != "", revCounts: &revisionCounts{}}, nil
+	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != "", immutable: mode == "immutable", revCounts: &revisionCounts{}}, nil
 }
 
 // escapePath escapes the characters that would end a path in a URI or be decoded (a "#" in a path once

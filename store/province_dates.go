@@ -36,7 +36,7 @@ func (d *DB) ProvinceDates(ctx context.Context, id int64) (ProvinceDates, error)
 	if err != nil {
 		return out, fmt.Errorf("units of province %d: %w", id, err)
 	}
-	if out.Version, err = provinceVersion(ctx, tx, id); err != nil {
+	if out.Version, err = provinceVersion(ctx, d, tx, id); err != nil {
 		return out, err
 	}
 	// The dates' own columns only: their unit's name and province come from the units just read (every
