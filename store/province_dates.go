@@ -54,7 +54,8 @@ func (d *DB) ProvinceDates(ctx context.Context, id int64) (ProvinceDates, error)
 			&x.Laboratory, &x.Citation, &x.DOI, &x.Latitude, &x.Longitude, &x.ReviewState, &x.ReviewNote, &x.Notes, &x.Version,
 			&x.CreatedAt, &x.UpdatedAt)
 		if err == nil && x.UnitID != nil {
-			x.Unit, x.ProvinceID, x.Province = names[*x.UnitID], &pid, pname
+			p := pid // a pointer of its own, as a joined read gives
+			x.Unit, x.ProvinceID, x.Province = names[*x.UnitID], &p, pname
 		}
 		return x, err
 	}
