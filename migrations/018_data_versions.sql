@@ -19,7 +19,7 @@ INSERT INTO data_versions (kind, id, version) SELECT 'section', id, 1 FROM secti
 INSERT INTO data_versions (kind, id, version) VALUES ('calibrations', 0, 1), ('direct_events', 0, 1), ('events', 0, 1);
 
 -- Tie points are found by the date they are linked to when that date changes.
-CREATE INDEX IF NOT EXISTS tie_points_date ON tie_points(date_id) WHERE date_id IS NOT NULL;
+CREATE INDEX tie_points_date ON tie_points(date_id);
 
 -- Provinces: the record (its name is also in its units' and dates' rows, and in the dates tie points
 -- are linked to).

@@ -9,8 +9,9 @@ import (
 )
 
 // comparison reads the choices and returns the computed comparison, from the cache when the same
-// choices were computed on the same data. The data are read as one snapshot (analysis.LoadCompareData),
-// so they belong to the one state of the compilation their data stamp names.
+// choices were computed on the same versions of what they read. The data are read as one snapshot
+// (analysis.LoadCompareData), with the versions they are kept under, so they belong to one state of the
+// compilation.
 func (c *comparer) comparison(r *http.Request) (*compareResult, bool, error) {
 	ctx := r.Context()
 	p := newParams(r)
