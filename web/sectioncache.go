@@ -38,17 +38,18 @@ func newSectionCache(max, maxRows int) *sectionCache {
 	return &sectionCache{flightCache: newFlightCache(max, rows, maxRows)}
 }
 
-// sectionCacheKey is the section, the version of its data and the options that decide its analysis; ""
-// without a version (nothing is then kept).
-func sectionCacheKey(id int64, version string, o sectionOptions) string {
+// sectionCacheKey is the section's record, the version of its data and the options that decide its
+// analysis; "" without a version (nothing is then kept). The record is in the key as the analysis was
+// given it (a caller may have read it before the snapshot the version comes from).
+func sectionCacheKey(sec store.Section, version string, o sectionOptions) string {
 	if version == "" {
 		return ""
 	}
 	b, err := json.Marshal(struct {
-		Section int64
+		Section store.Section
 		Version string
 		Options sectionOptions
-	}{id, version, o})
+	}{sec, version, o})
 	if err != nil {
 		return ""
 	}
@@ -57,7 +58,7 @@ func sectionCacheKey(id int64, version string, o sectionOptions) string {
 
 // kept is the analysis kept for the section's version and options (analysis.SectionLoader.Kept).
 func (c *sectionCache) kept(sec store.Section, version string, o sectionOptions) (*analysis.SectionAnalysis, bool) {
-	key := sectionCacheKey(sec.ID, version, o)
+	key := sectionCacheKey(sec, version, o)
 	if key == "" {
 		return nil, false
 	}
@@ -67,7 +68,7 @@ func (c *sectionCache) kept(sec store.Section, version string, o sectionOptions)
 // analyse is an analysis.SectionAnalyser: the cached analysis of the inputs with the options, computed
 // when there is none.
 func (c *sectionCache) analyse(ctx context.Context, in *analysis.SectionInputs, o sectionOptions) (*analysis.SectionAnalysis, error) {
-	key := sectionCacheKey(in.Sec.ID, in.Version, o)
+	key := sectionCacheKey(in.Sec, in.Version, o)
 	if key == "" {
 		return c.compute(in, o)
 	}
