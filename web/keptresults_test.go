@@ -118,3 +118,40 @@ func TestKeptResultsFoundWithoutReadingRecords(t *testing.T) {
 		t.Errorf("an edit to the province's date: the comparison was served from the cache (%v)", err)
 	}
 }
+
+// A comparison that chooses no section reads every section's ties (they decide which sections come near
+// the province's dates), so an edit to any section computes it anew; one that chooses a section is kept
+// after an edit to another.
+func TestCompareWithoutSectionsFollowsEverySection(t *testing.T) {
+	db := mustDemoDB(t)
+	ctx := store.WithActor(context.Background(), 0)
+	secs, err := db.Sections(ctx)
+	if err != nil || len(secs) < 2 {
+		t.Fatalf("%d sections, %v", len(secs), err)
+	}
+	c := &comparer{Server: &Server{store: db}, cache: newCompareCache(8)}
+	cached := func(q string) bool {
+		t.Helper()
+		_, cached, err := c.comparison(httptest.NewRequest(http.MethodGet, q, nil))
+		if err != nil {
+			t.Fatal(err)
+		}
+		return cached
+	}
+	all := "/compare?sens=0&n=1000&reps=100&draws=200"
+	one := fmt.Sprintf("%s&sections=%d", all, secs[0].ID)
+	cached(all)
+	cached(one)
+	last := secs[len(secs)-1]
+	f := store.FormOfSection(last)
+	f["notes"] = "edited for the comparison test"
+	if _, err := db.UpdateSection(ctx, last.ID, last.Version, f); err != nil {
+		t.Fatal(err)
+	}
+	if cached(all) {
+		t.Errorf("a comparison of every section was served from the cache after an edit to section %s", last.Name)
+	}
+	if !cached(one) {
+		t.Errorf("a comparison of section %s was computed again after an edit to section %s", secs[0].Name, last.Name)
+	}
+}
