@@ -14,6 +14,9 @@ type ProvinceDates struct {
 	Province Province
 	Units    []Unit
 	Dates    []Date
+	// Version is the province's data version (DataVersions) in the same read: what was read is the
+	// same whenever the version is.
+	Version int64 `json:"-"`
 }
 
 // ProvinceDates reads a province with its units and dates in one read transaction, so the three belong
@@ -33,8 +36,33 @@ func (d *DB) ProvinceDates(ctx context.Context, id int64) (ProvinceDates, error)
 	if err != nil {
 		return out, fmt.Errorf("units of province %d: %w", id, err)
 	}
-	cond, args := dateWhere(DateFilter{ProvinceID: id})
-	if out.Dates, err = queryAllTx(ctx, tx, dateSelect+cond, args, scanDate); err != nil {
+	if out.Version, err = provinceVersion(ctx, d, tx, id); err != nil {
+		return out, err
+	}
+	// The dates' own columns only: their unit's name and province come from the units just read (every
+	// date read belongs to one of them), and a date of a unit has no section (the dates table's CHECK).
+	// Joining units, provinces and sections for every row was a fifth of the read at 10,000 dates.
+	names := make(map[int64]string, len(out.Units))
+	for _, u := range out.Units {
+		names[u.ID] = u.Name
+	}
+	pid, pname := out.Province.ID, out.Province.Name
+	scan := func(s interface{ Scan(...any) error }) (Date, error) {
+		var x Date
+		err := s.Scan(&x.ID, &x.UnitID, &x.SectionID, &x.HeightM, &x.SampleCode, &x.Method, &x.Material, &x.Interpretation,
+			&x.AgeMa, &x.SigmaMa, &x.SigmaYMa, &x.SigmaZMa, &x.SigmaLevel, &x.Tracer, &x.Monitor, &x.MonitorAgeMa, &x.LambdaPerA,
+			&x.Laboratory, &x.Citation, &x.DOI, &x.Latitude, &x.Longitude, &x.ReviewState, &x.ReviewNote, &x.Notes, &x.Version,
+			&x.CreatedAt, &x.UpdatedAt)
+		if err == nil && x.UnitID != nil {
+			p := pid // a pointer of its own, as a joined read gives
+			x.Unit, x.ProvinceID, x.Province = names[*x.UnitID], &p, pname
+		}
+		return x, err
+	}
+	// Sized by the province's count of dates (read with it): growing the slice row by row copied every
+	// date ~2× over.
+	out.Dates = make([]Date, 0, out.Province.NDates)
+	if out.Dates, err = appendAllTx(ctx, tx, out.Dates, provinceDateSelect, []any{id}, scan); err != nil {
 		return out, fmt.Errorf("dates of province %d: %w", id, err)
 	}
 	// The dates list's default order (oldest first, ties by id), sorted here: SQLite's sorter would copy every
@@ -42,6 +70,13 @@ func (d *DB) ProvinceDates(ctx context.Context, id int64) (ProvinceDates, error)
 	slices.SortFunc(out.Dates, func(a, b Date) int { return cmp.Or(cmp.Compare(b.AgeMa, a.AgeMa), cmp.Compare(a.ID, b.ID)) })
 	return out, nil
 }
+
+// provinceDateSelect reads a province's dates, their own columns only (ProvinceDates).
+const provinceDateSelect = `SELECT d.id, d.unit_id, d.section_id, d.height_m, d.sample_code, d.method, d.material,
+	d.interpretation, d.age_ma, d.sigma_ma, d.sigma_y_ma, d.sigma_z_ma, d.sigma_level, d.tracer, d.monitor, d.monitor_age_ma,
+	d.lambda_per_a, d.laboratory, d.citation, d.doi, d.latitude, d.longitude, d.review_state, d.review_note, d.notes,
+	d.version, d.created_at, d.updated_at
+	FROM dates d WHERE d.unit_id IN (SELECT id FROM units WHERE province_id = ?)`
 
 // UnitDates is a unit with its dates (oldest first), read together.
 type UnitDates struct {

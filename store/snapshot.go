@@ -46,7 +46,10 @@ func (d *DB) ReadSnapshot(ctx context.Context, fn func(*Snapshot) error) error {
 
 // The reads of a snapshot, as the DB methods of the same names.
 
-func (s *Snapshot) DataStamp(ctx context.Context) (int64, error)      { return s.d.DataStamp(ctx) }
+func (s *Snapshot) DataStamp(ctx context.Context) (int64, error) { return s.d.DataStamp(ctx) }
+func (s *Snapshot) DataVersions(ctx context.Context) (DataVersions, error) {
+	return s.d.DataVersions(ctx)
+}
 func (s *Snapshot) Provinces(ctx context.Context) ([]Province, error) { return s.d.Provinces(ctx) }
 func (s *Snapshot) Province(ctx context.Context, id int64) (Province, error) {
 	return s.d.Province(ctx, id)

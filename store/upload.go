@@ -469,12 +469,16 @@ func (d *DB) CommitUpload(ctx context.Context, u Upload) (ImportResult, error) {
 }
 
 func queryAllTx[T any](ctx context.Context, tx *sql.Tx, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {
+	return appendAllTx(ctx, tx, nil, q, args, scan)
+}
+
+// appendAllTx is queryAllTx appending to out (sized by the caller when the count is known).
+func appendAllTx[T any](ctx context.Context, tx *sql.Tx, out []T, q string, args []any, scan func(interface{ Scan(...any) error }) (T, error)) ([]T, error) {
 	rows, err := tx.QueryContext(ctx, q, args...)
 	if err != nil {
 		return nil, err
 	}
 	defer rows.Close()
-	var out []T
 	for rows.Next() {
 		v, err := scan(rows)
 		if err != nil {

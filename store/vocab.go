@@ -36,9 +36,12 @@ func Methods() []Method {
 	}
 }
 
+// methods is Methods made once: MethodByCode is asked for every date a timeline draws.
+var methods = Methods()
+
 // MethodByCode returns the method with that code.
 func MethodByCode(code string) (Method, bool) {
-	for _, m := range Methods() {
+	for _, m := range methods {
 		if m.Code == code {
 			return m, true
 		}

@@ -4,14 +4,16 @@ import (
 	"context"
 	"encoding/json"
 
+	"coeval/store"
 	"coeval/web/analysis"
 )
 
-// Section analyses (change points, age models) are cached as comparisons are (comparecache.go): keyed by
-// the section's options and a digest of exactly the data the analysis reads (analysis.SectionInputs.Digest:
-// its samples, ties and their linked dates, events, hiatuses, the section record and the calibrations),
-// so an edit to one section recomputes that section alone, and an edit elsewhere in the compilation
-// recomputes nothing. Identical analyses asked for meanwhile wait for the one being computed.
+// Section analyses (change points, age models) are cached under the section's options and the version
+// of exactly the data the analysis reads (analysis.SectionVersion: kept by the database for its samples,
+// ties and their linked dates, events, hiatuses, the section record and the calibrations), read with the
+// section in its snapshot: a kept analysis is found without reading the section's records, an edit to
+// one section recomputes that section alone, and an edit elsewhere in the compilation recomputes
+// nothing. Identical analyses asked for meanwhile wait for the one being computed.
 //
 // A cached analysis keeps its age model's summaries, not its draws (stats.AgeModel.AgesMa is dropped: at
 // 10,000 samples and 2,000 draws it holds 160 MB): the section pages, figures and downloads show only
@@ -36,27 +38,37 @@ func newSectionCache(max, maxRows int) *sectionCache {
 	return &sectionCache{flightCache: newFlightCache(max, rows, maxRows)}
 }
 
-// sectionCacheKey is the section, the options that decide its analysis and the digest of its data.
-func sectionCacheKey(in *analysis.SectionInputs, o sectionOptions) string {
-	dg := in.Digest()
-	if dg == "" {
+// sectionCacheKey is the section's record, the version of its data and the options that decide its
+// analysis; "" without a version (nothing is then kept). The record is in the key as the analysis was
+// given it (a caller may have read it before the snapshot the version comes from).
+func sectionCacheKey(sec store.Section, version string, o sectionOptions) string {
+	if version == "" {
 		return ""
 	}
 	b, err := json.Marshal(struct {
-		Section int64
-		Digest  string
+		Section store.Section
+		Version string
 		Options sectionOptions
-	}{in.Sec.ID, dg, o})
+	}{sec, version, o})
 	if err != nil {
 		return ""
 	}
 	return string(b)
 }
 
+// kept is the analysis kept for the section's version and options (analysis.SectionLoader.Kept).
+func (c *sectionCache) kept(sec store.Section, version string, o sectionOptions) (*analysis.SectionAnalysis, bool) {
+	key := sectionCacheKey(sec, version, o)
+	if key == "" {
+		return nil, false
+	}
+	return c.get(key)
+}
+
 // analyse is an analysis.SectionAnalyser: the cached analysis of the inputs with the options, computed
 // when there is none.
 func (c *sectionCache) analyse(ctx context.Context, in *analysis.SectionInputs, o sectionOptions) (*analysis.SectionAnalysis, error) {
-	key := sectionCacheKey(in, o)
+	key := sectionCacheKey(in.Sec, in.Version, o)
 	if key == "" {
 		return c.compute(in, o)
 	}
@@ -87,5 +99,5 @@ func (s *Server) sectionLoader() analysis.SectionLoader {
 	if s.secCache == nil {
 		return analysis.SectionLoader{}
 	}
-	return analysis.SectionLoader{Analyse: s.secCache.analyse}
+	return analysis.SectionLoader{Analyse: s.secCache.analyse, Kept: s.secCache.kept}
 }

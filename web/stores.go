@@ -24,6 +24,14 @@ type Store interface {
 	mappingStore
 	pulseStore
 	comparisonStore
+	versionReader
+}
+
+// versionReader is what kept results are found by without reading records: the versions of what they
+// read, kept by the database (store.DataVersions).
+type versionReader interface {
+	DataVersions(ctx context.Context) (store.DataVersions, error)
+	ProvinceVersion(ctx context.Context, id int64) (int64, error)
 }
 
 // summaryStore is what the unit summaries and the timeline read: a province's or a unit's dates as one

@@ -622,7 +622,7 @@ func TestSavePulsesFromTheTimeline(t *testing.T) {
 func TestCompareCacheKeyHoldsBandwidthInEachReplicate(t *testing.T) {
 	var held, each compareChoice
 	each.Dens.BWEach = true
-	if held.cacheKey(1) == each.cacheKey(1) {
+	if held.cacheKey(store.DataVersions{}) == each.cacheKey(store.DataVersions{}) {
 		t.Error("bw_each=1 and bw_each=0 share a comparison cache entry")
 	}
 }

@@ -4,18 +4,17 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
-	"strconv"
 
 	"coeval/web/analysis"
 )
 
-// Timelines (a province's unit summaries, density, bootstrap band and pulses) are cached as comparisons
-// are (comparecache.go): under the province, every option that decides the result (the calibration's
-// constants among them) and the compilation's data stamp, found without reading anything; and under the
-// same with a digest of exactly what the timeline reads (the province, its units and dates), so an edit
-// elsewhere in the compilation reads the province again but computes nothing. Identical requests
-// meanwhile wait for the one being computed. At 10,000 dates the read is ~100 ms of the 260–380 a cold
-// timeline takes; a kept one is drawn in ~60.
+// Timelines (a province's unit summaries, density, bootstrap band and pulses) are cached under the
+// province, every option that decides the result (the calibration's constants among them) and the
+// province's data version (store.DataVersions: kept by the database, bumped by any write to the
+// province's record, units or dates), found with one small read and no record read: an edit elsewhere
+// in the compilation leaves every kept timeline of this province found. Identical requests meanwhile
+// wait for the one being computed. The key a timeline is kept under is the version read with its data,
+// in the same snapshot, so what is kept under a version is exactly what that version holds.
 
 // Bounds of the timeline cache: entries, and dates held over all entries.
 const (
@@ -30,57 +29,49 @@ func newTimelineCache() *timelineCache {
 	return newFlightCache(timelineCacheEntries, dates, timelineCacheDates)
 }
 
-// timelineKey is the province, the options and the version of the data (the compilation's stamp, or the
-// digest of what the timeline reads); "" when the options cannot be written (nothing is then cached).
-func timelineKey(id int64, o analysis.DensityOptions, version string) string {
+// timelineKey is the province, its data version and the options; "" when the options cannot be written
+// or the province has no version (nothing is then cached).
+func timelineKey(id int64, o analysis.DensityOptions, version int64) string {
 	b, err := json.Marshal(o)
-	if err != nil {
+	if err != nil || version == 0 {
 		return ""
 	}
-	return fmt.Sprintf("%d %s %s", id, version, b)
+	return fmt.Sprintf("%d v%d %s", id, version, b)
 }
 
 // timeline reads a province's units and dates in one snapshot and computes their density with the
-// URL's choices, from the cache when the same choices were computed on the same data. The result is
-// shared: callers must not change it.
+// URL's choices, from the cache when the same choices were computed on the same version of the
+// province's data. The result is shared: callers must not change it.
 func (s *Server) timeline(ctx context.Context, id int64, ch densityChoice) (analysis.Timeline, error) {
 	o := ch.options()
-	if s.tlCache == nil {
-		tl, err := analysis.ProvinceDensity(ctx, s.store, id, o)
-		return tl, optionBadRequest(err, densityParams)
-	}
 	if err := o.Validate(); err != nil {
 		return analysis.Timeline{}, optionBadRequest(err, densityParams)
 	}
-	stamp, err := s.store.DataStamp(ctx)
-	if err != nil {
-		return analysis.Timeline{}, err
-	}
-	key := timelineKey(id, o, "stamp "+strconv.FormatInt(stamp, 10))
-	if key == "" { // options that cannot be written: nothing is kept
-		tl, err := analysis.ProvinceDensity(ctx, s.store, id, o)
-		return tl, optionBadRequest(err, densityParams)
-	}
-	if tl, ok := s.tlCache.get(key); ok {
-		return *tl, nil
+	if s.tlCache != nil {
+		v, err := s.store.ProvinceVersion(ctx, id)
+		if err != nil {
+			return analysis.Timeline{}, err
+		}
+		if tl, ok := s.tlCache.get(timelineKey(id, o, v)); ok {
+			return *tl, nil
+		}
 	}
 	data, err := s.store.ProvinceDates(ctx, id)
 	if err != nil {
-		return analysis.Timeline{}, err
+		return analysis.Timeline{Data: data}, err
 	}
-	// Computed under the digest of what it read when there is one (an edit elsewhere keeps it), found
-	// again under the stamp.
-	kept := key
-	if dg := analysis.DigestProvince(data); dg != "" {
-		kept = timelineKey(id, o, "data "+dg)
-	}
-	tl, _, err := s.tlCache.do(ctx, kept, func() (*analysis.Timeline, error) {
+	compute := func() (*analysis.Timeline, error) {
 		tl, err := analysis.DensityOf(data, o)
 		return &tl, optionBadRequest(err, densityParams)
-	})
+	}
+	key := timelineKey(id, o, data.Version)
+	if s.tlCache == nil || key == "" {
+		tl, err := compute()
+		return *tl, err
+	}
+	tl, _, err := s.tlCache.do(ctx, key, compute)
 	if err != nil {
 		return analysis.Timeline{}, err
 	}
-	s.tlCache.put(key, tl)
 	return *tl, nil
 }

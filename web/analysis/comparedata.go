@@ -2,9 +2,6 @@ package analysis
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -19,7 +16,8 @@ var ErrNoProvince = errors.New("the compilation has no province to compare")
 
 // CompareData is what the store holds for a comparison, read as one snapshot (LoadCompareData).
 type CompareData struct {
-	Stamp     int64 // the compilation's data stamp in the snapshot
+	Stamp     int64              // the compilation's data stamp in the snapshot
+	Versions  store.DataVersions // the versions of what the store holds, in the snapshot
 	Province  store.Province
 	Provinces []store.Province
 	Units     []store.Unit
@@ -50,22 +48,6 @@ func (d *CompareData) reviewedEvents(evs []store.Event, include string) []store.
 	in, out := PartitionReviewed(include, evs, EventState)
 	d.EventsIn, d.EventsOut = append(d.EventsIn, in...), append(d.EventsOut, out...)
 	return in
-}
-
-// Digest is a version of exactly the data a comparison reads: a hash of the records loaded for it (the
-// province's units and dates, the chosen sections' samples, ties, hiatuses and events, the linked dates,
-// the calibrations, the direct ages). An edit elsewhere in the compilation leaves it unchanged; an edit to
-// anything it reads changes it. "" when the data cannot be hashed.
-func (d *CompareData) Digest() string {
-	h := sha256.New()
-	enc := json.NewEncoder(h)
-	for _, v := range []any{d.Province, d.Units, d.Dates, d.Sections, d.Samples, d.Ties, d.TiesOut, d.EventsIn,
-		d.EventsOut, d.Events, d.Direct, d.Hiatuses, d.TieIns, d.LinkDates, d.Cals} {
-		if err := enc.Encode(v); err != nil {
-			return ""
-		}
-	}
-	return hex.EncodeToString(h.Sum(nil))
 }
 
 // LoadCompareData reads everything a comparison with the options needs as one snapshot of the store, so
@@ -106,6 +88,9 @@ func LoadCompareData(ctx context.Context, src SnapshotReader, o CompareOptions) 
 func (d *CompareData) readProvince(ctx context.Context, s *store.Snapshot, o CompareOptions) error {
 	var err error
 	if d.Stamp, err = s.DataStamp(ctx); err != nil {
+		return err
+	}
+	if d.Versions, err = s.DataVersions(ctx); err != nil {
 		return err
 	}
 	if d.Provinces, err = s.Provinces(ctx); err != nil {

@@ -2,9 +2,6 @@ package analysis
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
-	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
@@ -207,19 +204,6 @@ func DensityOf(data store.ProvinceDates, o DensityOptions) (Timeline, error) {
 	}
 	res, err := ComputeDensity(sums, o, DateBars(sums, o.WindowSigmas))
 	return Timeline{Data: data, Summaries: sums, Density: res}, err
-}
-
-// DigestProvince is a version of exactly the data a province's timeline reads (as CompareData.Digest): a
-// hash of its record, units and dates; "" when they cannot be written.
-func DigestProvince(data store.ProvinceDates) string {
-	h := sha256.New()
-	enc := json.NewEncoder(h)
-	for _, v := range []any{data.Province, data.Units, data.Dates} {
-		if err := enc.Encode(v); err != nil {
-			return ""
-		}
-	}
-	return hex.EncodeToString(h.Sum(nil))
 }
 
 // DateBars are the extents (age ± k σ) of every date that enters a summary, so an automatic window can

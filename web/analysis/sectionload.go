@@ -2,9 +2,6 @@ package analysis
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
-	"encoding/json"
 	"fmt"
 	"runtime"
 	"slices"
@@ -73,20 +70,20 @@ type SectionInputs struct {
 	Hiatuses []store.Hiatus
 	Dates    map[int64]store.Date
 	Cals     []store.Calibration
+	// Version is the version of all of the above, read with them in one snapshot (SectionVersion); ""
+	// when there is none.
+	Version string
 }
 
-// Digest is a version of exactly the data the analysis reads (as CompareData.Digest): a hash of the
-// inputs. An edit elsewhere in the compilation leaves it unchanged; an edit to anything it reads changes
-// it. "" when the inputs cannot be hashed.
-func (in *SectionInputs) Digest() string {
-	h := sha256.New()
-	enc := json.NewEncoder(h)
-	for _, v := range []any{in.Sec, in.Samples, in.Ties, in.Events, in.Hiatuses, in.Dates, in.Cals} {
-		if err := enc.Encode(v); err != nil {
-			return ""
-		}
+// SectionVersion is the version of what a section's analysis reads (its record, samples, ties and the
+// dates they are linked to, events, hiatuses, and the calibrations), from the versions the database
+// keeps; "" for a section without a version.
+func SectionVersion(vs store.DataVersions, id int64) string {
+	v, ok := vs.Sections[id]
+	if !ok {
+		return ""
 	}
-	return hex.EncodeToString(h.Sum(nil))
+	return fmt.Sprintf("section %d v%d calibrations v%d", id, v, vs.Calibrations)
 }
 
 // Analyse analyses the section with the options (AnalyseSection on the ties' inputs at o.TieLevel).
@@ -111,6 +108,9 @@ type SectionAnalyser func(ctx context.Context, in *SectionInputs, o SectionOptio
 // load and set on a copy of what Analyse returns, so Analyse may return the same analysis to many loads.
 type SectionLoader struct {
 	Analyse SectionAnalyser
+	// Kept, when set, finds an analysis kept for a section's version (SectionVersion) and options: the
+	// section's records are then not read at all.
+	Kept func(sec store.Section, version string, o SectionOptions) (*SectionAnalysis, bool)
 }
 
 func (l SectionLoader) analyse(ctx context.Context, in *SectionInputs, o SectionOptions) (*SectionAnalysis, error) {
@@ -139,9 +139,10 @@ func LoadSectionAnalyses(ctx context.Context, src SnapshotReader, options func(s
 	return SectionLoader{}.All(ctx, src, options)
 }
 
-// sectionRead is a section's inputs and what is read for it on every load.
+// sectionRead is a section's inputs (or its kept analysis) and what is read for it on every load.
 type sectionRead struct {
 	in         *SectionInputs
+	kept       *SectionAnalysis // found by Kept: in holds the section alone
 	o          SectionOptions
 	decisions  []store.AnomalyDecision
 	otherMatur []string
@@ -149,9 +150,12 @@ type sectionRead struct {
 
 // finish analyses the section and sets the decisions and other maturities on a copy of the analysis.
 func (l SectionLoader) finish(ctx context.Context, r *sectionRead) (*SectionAnalysis, error) {
-	a, err := l.analyse(ctx, r.in, r.o)
-	if err != nil {
-		return nil, err
+	a := r.kept
+	if a == nil {
+		var err error
+		if a, err = l.analyse(ctx, r.in, r.o); err != nil {
+			return nil, err
+		}
 	}
 	cp := *a
 	cp.Decisions, cp.OtherMatur = r.decisions, r.otherMatur
@@ -166,7 +170,7 @@ func (l SectionLoader) One(ctx context.Context, src SnapshotReader, sec store.Se
 	var r *sectionRead
 	err := src.ReadSnapshot(ctx, func(s *store.Snapshot) error {
 		var err error
-		r, err = readSection(ctx, s, sec, o, nil)
+		r, err = l.readSection(ctx, s, sec, o, nil, nil)
 		return err
 	})
 	if err != nil {
@@ -190,7 +194,7 @@ func (l SectionLoader) ByID(ctx context.Context, src SnapshotReader, id int64, o
 		if err := o.Check(); err != nil {
 			return err
 		}
-		r, err = readSection(ctx, s, sec, o, nil)
+		r, err = l.readSection(ctx, s, sec, o, nil, nil)
 		return err
 	})
 	if err != nil {
@@ -208,12 +212,16 @@ func (l SectionLoader) All(ctx context.Context, src SnapshotReader, options func
 		if err != nil {
 			return err
 		}
+		vs, err := s.DataVersions(ctx)
+		if err != nil {
+			return err
+		}
 		for _, sec := range secs {
 			o := options(sec)
 			if err := o.Check(); err != nil {
 				return err
 			}
-			r, err := readSection(ctx, s, sec, o, secs)
+			r, err := l.readSection(ctx, s, sec, o, secs, &vs)
 			if err != nil {
 				return err
 			}
@@ -256,36 +264,31 @@ func (l SectionLoader) All(ctx context.Context, src SnapshotReader, options func
 	return out, nil
 }
 
-// readSection reads what a section's analysis needs from the snapshot, and its curators' decisions and
-// the other sections' differing maturities.
-// all is every section of the compilation (nil: read here).
-func readSection(ctx context.Context, s *store.Snapshot, sec store.Section, o SectionOptions, all []store.Section) (*sectionRead, error) {
-	in := &SectionInputs{Sec: sec, Dates: map[int64]store.Date{}}
+// readSection reads what a section's analysis needs from the snapshot (nothing when Kept finds it), and
+// its curators' decisions and the other sections' differing maturities.
+// all is every section of the compilation, vs the data versions (nil: read here).
+func (l SectionLoader) readSection(ctx context.Context, s *store.Snapshot, sec store.Section, o SectionOptions, all []store.Section, vs *store.DataVersions) (*sectionRead, error) {
+	if vs == nil {
+		v, err := s.DataVersions(ctx)
+		if err != nil {
+			return nil, err
+		}
+		vs = &v
+	}
+	in := &SectionInputs{Sec: sec, Dates: map[int64]store.Date{}, Version: SectionVersion(*vs, sec.ID)}
+	r := &sectionRead{in: in, o: o}
+	if l.Kept != nil && in.Version != "" {
+		r.kept, _ = l.Kept(sec, in.Version, o)
+	}
+	if err := r.readInputs(ctx, s); err != nil {
+		return nil, err
+	}
 	var err error
-	if in.Samples, _, err = s.Samples(ctx, sec.ID); err != nil {
-		return nil, err
-	}
-	if in.Ties, err = s.TiePoints(ctx, sec.ID); err != nil {
-		return nil, err
-	}
-	if in.Events, err = s.Events(ctx, sec.ID); err != nil {
-		return nil, err
-	}
-	if in.Hiatuses, err = s.Hiatuses(ctx, sec.ID); err != nil {
-		return nil, err
-	}
 	if all == nil {
 		if all, err = s.Sections(ctx); err != nil {
 			return nil, err
 		}
 	}
-	if in.Cals, err = s.Calibrations(ctx); err != nil {
-		return nil, err
-	}
-	if err := linkedDates(ctx, s, in.Ties, in.Dates); err != nil {
-		return nil, err
-	}
-	r := &sectionRead{in: in, o: o}
 	if r.decisions, err = s.AnomalyDecisions(ctx, sec.ID); err != nil {
 		return nil, err
 	}
@@ -296,4 +299,30 @@ func readSection(ctx context.Context, s *store.Snapshot, sec store.Section, o Se
 		}
 	}
 	return r, nil
+}
+
+// readInputs reads the section's samples, ties (with their linked dates), events, hiatuses and the
+// calibrations, unless its analysis was found kept.
+func (r *sectionRead) readInputs(ctx context.Context, s *store.Snapshot) error {
+	if r.kept != nil {
+		return nil
+	}
+	in, sec := r.in, r.in.Sec
+	var err error
+	if in.Samples, _, err = s.Samples(ctx, sec.ID); err != nil {
+		return err
+	}
+	if in.Ties, err = s.TiePoints(ctx, sec.ID); err != nil {
+		return err
+	}
+	if in.Events, err = s.Events(ctx, sec.ID); err != nil {
+		return err
+	}
+	if in.Hiatuses, err = s.Hiatuses(ctx, sec.ID); err != nil {
+		return err
+	}
+	if in.Cals, err = s.Calibrations(ctx); err != nil {
+		return err
+	}
+	return linkedDates(ctx, s, in.Ties, in.Dates)
 }
