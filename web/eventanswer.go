@@ -224,13 +224,12 @@ func (as *answers) answerAt(a eventAnswer, code string, extra url.Values) (event
 		n int
 	}
 	var cands []near
+	counts, err := s.store.DateCountsByProvince(r.Context(), a.Age.Hi95-answerReachMa, a.Age.Lo95+answerReachMa, store.ReviewAccepted)
+	if err != nil {
+		return a, err
+	}
 	for _, p := range provs {
-		lo, hi := a.Age.Hi95-answerReachMa, a.Age.Lo95+answerReachMa
-		_, n, err := s.store.Dates(r.Context(), store.DateFilter{ProvinceID: p.ID, MinAgeMa: &lo, MaxAgeMa: &hi, ReviewState: store.ReviewAccepted, Limit: 1})
-		if err != nil {
-			return a, err
-		}
-		if n > 0 {
+		if n := counts[p.ID]; n > 0 {
 			cands = append(cands, near{p, n})
 		}
 	}
