@@ -2,15 +2,18 @@ package web
 
 import (
 	"cmp"
+	"encoding/json"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"net/http"
 	"net/url"
-	"runtime"
 	"slices"
+	"strconv"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/go-chi/chi/v5"
 
@@ -58,8 +61,9 @@ func compilationChoiceFrom(p *params) compilationChoice {
 
 // compilationLane is one province with its default timeline.
 type compilationLane struct {
-	Province store.Province
-	Density  densityResult
+	Province    store.Province
+	Density     densityResult
+	NotComputed bool // not computed within the page's budget
 }
 
 // compilationEvent is one event with its answer.
@@ -76,6 +80,8 @@ type compilationRow struct {
 	Province store.Province
 	Pulse    *pulseAnswer
 	Note     string
+	// NotComputed: the province's comparison was not computed within the page's budget.
+	NotComputed bool
 }
 
 // compilation is everything the page and its downloads show.
@@ -91,12 +97,96 @@ type compilation struct {
 	Auto          bool // the window is the automatic one (neither end chosen)
 	Notes         []string
 	ComparedPairs int
+	// What the page's budget left out: lanes, events whose section's model was not computed, and
+	// event–province pairs whose comparison was not.
+	LanesNotComputed int
+	AgeNotComputed   []store.Event
+	PairsNotComputed int
 }
 
-// compilationData computes the timelines of every province (in parallel) and the answers of every
-// accepted event of a section, then chooses the window and the rows.
-func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compilation, error) {
+// compilationBudget is how long the page computes what is not kept before it starts no more: the
+// timelines, section models and comparisons started by then finish, and the page shows what is ready,
+// saying what is not. The downloads compute everything.
+const compilationBudget = 1200 * time.Millisecond
+
+// compilationScope is how much a format of the view computes.
+type compilationScope int
+
+const (
+	compileWhole  compilationScope = iota // every lane, age and comparison (the table's downloads)
+	compileFigure                         // every lane and age, no comparison (the figure's downloads)
+	compilePage                           // what is ready within compilationBudget (the page)
+)
+
+func scopeOf(format string) compilationScope {
+	switch format {
+	case "csv", "json", "xlsx":
+		return compileWhole
+	case "svg", "png", "pdf":
+		return compileFigure
+	}
+	return compilePage
+}
+
+// compilationKept is what the view has computed of one state of the compilation (its data stamp and the
+// densities' choices): each province's density, each section page's ages and each comparison's rows,
+// so that a page cut short by its budget is completed by the next request, whatever the other caches
+// have dropped meanwhile. Kept results are shared: never change one.
+type compilationKept struct {
+	mu   sync.Mutex
+	key  string
+	part compilationParts
+}
+
+type compilationParts struct {
+	lanes    map[int64]densityResult        // by province
+	sections map[int64]*sectionAges         // by section
+	compares map[string]*comparisonRowsJSON // by the comparison's address
+	errs     map[string]error               // by the comparison's address
+}
+
+// take returns a copy of what is kept under key (empty when another state is kept).
+func (k *compilationKept) take(key string) compilationParts {
+	if k == nil {
+		k = &compilationKept{}
+	}
+	k.mu.Lock()
+	defer k.mu.Unlock()
+	if k.key != key {
+		return compilationParts{lanes: map[int64]densityResult{}, sections: map[int64]*sectionAges{},
+			compares: map[string]*comparisonRowsJSON{}, errs: map[string]error{}}
+	}
+	return compilationParts{lanes: maps.Clone(k.part.lanes), sections: maps.Clone(k.part.sections),
+		compares: maps.Clone(k.part.compares), errs: maps.Clone(k.part.errs)}
+}
+
+// keep adds what was computed under key (the state read before computing) to what is kept, replacing
+// an older state's.
+func (k *compilationKept) keep(key string, p compilationParts) {
+	if k == nil {
+		return
+	}
+	k.mu.Lock()
+	defer k.mu.Unlock()
+	if k.key != key {
+		k.key, k.part = key, p
+		return
+	}
+	maps.Copy(k.part.lanes, p.lanes)
+	maps.Copy(k.part.sections, p.sections)
+	maps.Copy(k.part.compares, p.compares)
+	maps.Copy(k.part.errs, p.errs)
+}
+
+// compilationData computes the timelines of every province and the answers of every accepted event of
+// a section (each part in parallel, in the computing slots that are free), then chooses the window and
+// the rows. What is not kept is computed as scope says: on the page, for compilationBudget.
+func (s *Server) compilationData(r *http.Request, ch compilationChoice, scope compilationScope) (*compilation, error) {
 	ctx := r.Context()
+	begun := time.Now()
+	stop := func() bool {
+		return ctx.Err() != nil || (scope == compilePage && time.Since(begun) > compilationBudget)
+	}
 	c := &compilation{Choice: ch}
 	dens, err := s.densityChoice(ctx, &params{q: url.Values{}}) // the timeline's defaults, as the answers read them
 	if err != nil {
@@ -107,44 +197,84 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compil
 	if err != nil {
 		return nil, err
 	}
-	c.Lanes = make([]compilationLane, len(provs))
-	errs := make([]error, len(provs))
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
-	for i, p := range provs {
-		c.Lanes[i].Province = p
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			sem <- struct{}{}
-			defer func() { <-sem }()
-			tl, err := s.timeline(ctx, p.ID, dens)
-			c.Lanes[i].Density, errs[i] = tl.Density, err
-		}()
-	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
-		}
-	}
-	// The answers read each province's pulses from its timeline: hand them the ones just computed (the
-	// same computation the timeline's JSON gives).
-	as := s.answers(r)
-	as.provinces = provs
-	for _, l := range c.Lanes {
-		as.timelines[l.Province.ID] = timelinePulsesOf(l.Density)
-	}
 	events, err := s.store.Events(ctx, 0)
 	if err != nil {
 		return nil, err
+	}
+	stamp, err := s.store.DataStamp(ctx)
+	if err != nil {
+		return nil, err
+	}
+	o, _ := json.Marshal(dens.options())
+	key := fmt.Sprintf("%d %s", stamp, o)
+	kept := s.compKept.take(key)
+	// The lanes: each province's timeline with its default choices.
+	var todo []store.Province
+	for _, p := range provs {
+		if _, ok := kept.lanes[p.ID]; !ok {
+			todo = append(todo, p)
+		}
+	}
+	lanes, errs := make([]densityResult, len(todo)), make([]error, len(todo))
+	done := s.inSlots(len(todo), stop, func(i int) {
+		tl, err := s.timeline(ctx, todo[i].ID, dens)
+		lanes[i], errs[i] = tl.Density, err
+	})
+	for i, ok := range done {
+		if ok && errs[i] != nil {
+			return nil, errs[i]
+		}
+		if ok {
+			kept.lanes[todo[i].ID] = lanes[i]
+		}
+	}
+	for _, p := range provs {
+		l, ok := kept.lanes[p.ID]
+		c.Lanes = append(c.Lanes, compilationLane{Province: p, Density: l, NotComputed: !ok})
+		if !ok {
+			c.LanesNotComputed++
+		}
+	}
+	// The events' ages: each section page's model.
+	var secs []int64
+	for _, ev := range events {
+		if ev.ReviewState == store.ReviewAccepted && ev.SectionID != nil && kept.sections[*ev.SectionID] == nil && !slices.Contains(secs, *ev.SectionID) {
+			secs = append(secs, *ev.SectionID)
+		}
+	}
+	ages, errs := make([]*sectionAges, len(secs)), make([]error, len(secs))
+	done = s.inSlots(len(secs), stop, func(i int) {
+		ages[i] = &sectionAges{}
+		errs[i] = internalJSON(s.router, r, idURL("/sections", secs[i]), nil, ages[i])
+	})
+	for i, ok := range done {
+		if ok && errs[i] != nil {
+			return nil, errs[i]
+		}
+		if ok {
+			kept.sections[secs[i]] = ages[i]
+		}
+	}
+	// The answers read each province's pulses from its timeline: hand them the ones just computed (the
+	// same computation the timeline's JSON gives), and the sections' ages and the comparisons kept.
+	as := s.answers(r)
+	as.provinces = provs
+	as.sections, as.compares, as.errs, as.keptOnly = kept.sections, kept.compares, kept.errs, true
+	for _, l := range c.Lanes {
+		if !l.NotComputed {
+			as.timelines[l.Province.ID] = timelinePulsesOf(l.Density)
+		}
 	}
 	var withAge []compilationEvent
 	for _, ev := range events {
 		if ev.ReviewState != store.ReviewAccepted || ev.SectionID == nil {
 			continue
 		}
-		a, err := as.answer(ev)
+		if kept.sections[*ev.SectionID] == nil {
+			c.AgeNotComputed = append(c.AgeNotComputed, ev)
+			continue
+		}
+		a, err := as.age(ev)
 		if err != nil {
 			return nil, err
 		}
@@ -154,6 +284,44 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compil
 		}
 		withAge = append(withAge, compilationEvent{Event: ev, Answer: a})
 	}
+	// The comparisons the answers read, those not kept computed now (not for the figure).
+	if scope != compileFigure {
+		var addrs []url.Values
+		seen := map[string]bool{}
+		for _, e := range withAge {
+			near, _, err := as.nearProvinces(*e.Answer.Age)
+			if err != nil {
+				return nil, err
+			}
+			for _, p := range near {
+				q := comparisonAddress(p.ID, nil)
+				if k := q.Encode(); !seen[k] && kept.compares[k] == nil {
+					seen[k] = true
+					addrs = append(addrs, q)
+				}
+			}
+		}
+		rows, errs := make([]*comparisonRowsJSON, len(addrs)), make([]error, len(addrs))
+		done = s.inSlots(len(addrs), stop, func(i int) {
+			rows[i] = &comparisonRowsJSON{}
+			errs[i] = internalJSON(s.router, r, "/compare", addrs[i], rows[i])
+		})
+		for i, ok := range done {
+			if ok && ctx.Err() == nil {
+				kept.compares[addrs[i].Encode()], kept.errs[addrs[i].Encode()] = rows[i], errs[i]
+			}
+		}
+		for i := range withAge {
+			e := &withAge[i]
+			if e.Answer, err = as.answerAt(e.Answer, "E"+strconv.FormatInt(e.Event.ID, 10), nil); err != nil {
+				return nil, err
+			}
+		}
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	s.compKept.keep(key, kept)
 	// The window: as chosen, an end left out taken from the automatic one (every density's window and
 	// every event's 95 % interval, and 2 % beside).
 	lo, hi := math.Inf(1), math.Inf(-1)
@@ -208,6 +376,9 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compil
 			if r.Pulse != nil {
 				c.ComparedPairs++
 			}
+			if r.NotComputed {
+				c.PairsNotComputed++
+			}
 		}
 		c.Rows = append(c.Rows, rows...)
 	}
@@ -242,6 +413,11 @@ func nearestRows(e compilationEvent, lanes []compilationLane) []compilationRow {
 	a := e.Answer
 	var rows []compilationRow
 	for _, l := range lanes {
+		if slices.ContainsFunc(a.NotComputed, func(p store.Province) bool { return p.ID == l.Province.ID }) {
+			rows = append(rows, compilationRow{Event: e.Event, Age: *a.Age, Province: l.Province, NotComputed: true,
+				Note: "not computed in time for this page: reload, or download the table"})
+			continue
+		}
 		var best *pulseAnswer
 		bestD := math.Inf(1)
 		for i := range a.Pulses {
@@ -286,7 +462,7 @@ func (s *Server) handleCompilation(w http.ResponseWriter, r *http.Request) error
 	if err := p.err(); err != nil {
 		return err
 	}
-	c, err := s.compilationData(r, ch)
+	c, err := s.compilationData(r, ch, scopeOf(ch.Format))
 	if err != nil {
 		return err
 	}
@@ -352,7 +528,9 @@ func compilationFigure(c *compilation, chart []chronoUnit) views.CompilationFigu
 		res := l.Density
 		lane := views.FigureProvinceLane{Label: l.Province.Name, URL: idURL("/provinces", l.Province.ID) + "/timeline",
 			Title: l.Province.Name + ": open its timeline"}
-		if res.Band == nil {
+		if l.NotComputed {
+			lane.Message = l.Province.Name + ": density not computed in time for this page (reload)"
+		} else if res.Band == nil {
 			lane.Message = l.Province.Name + ": " + orText(res.Message, "no density")
 		} else {
 			b := res.Band
@@ -437,6 +615,9 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 		v.Notes = append(v.Notes, "Without an age (their section's age–height model does not reach them): "+strings.Join(names, ", ")+".")
 	}
 	v.Notes = append(v.Notes, c.Notes...)
+	if left := c.leftOut(); left != "" {
+		v.Notes = append([]string{left}, v.Notes...)
+	}
 	v.Tables = []views.Table{compilationTable(c)}
 	v.Method = []string{
 		"Lanes: each province's density is its timeline with the default choices (the same computation as its page), drawn in this window.",
@@ -446,6 +627,31 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 	}
 	v.Contents = []views.Block{{ID: "timeline", Title: "Figure"}, {ID: "nearest", Title: "Events and nearest pulses"}, {ID: "method", Title: "How this was computed"}}
 	return v
+}
+
+// leftOut says what the page's budget left out, and why ("" when nothing was).
+func (c *compilation) leftOut() string {
+	var parts []string
+	if c.LanesNotComputed > 0 {
+		parts = append(parts, fmt.Sprintf("the densities of %s (their lanes say so)", count(c.LanesNotComputed, "province")))
+	}
+	if n := len(c.AgeNotComputed); n > 0 {
+		var names []string
+		for _, e := range c.AgeNotComputed {
+			names = append(names, e.Name+" ("+e.Section+")")
+		}
+		parts = append(parts, fmt.Sprintf("the ages of %s, whose sections' age–height models were not computed: %s", count(n, "event"), strings.Join(names, ", ")))
+	}
+	if c.PairsNotComputed > 0 {
+		parts = append(parts, fmt.Sprintf("the comparisons of %d event–province pairs (the table names them)", c.PairsNotComputed))
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("Not everything is computed yet. This page computes for at most %s s and then shows what is ready; not computed in time: %s. "+
+		"Nothing shown here is a guess: what is missing is left out, and what was computed is kept, so reloading shows more. "+
+		"The table's downloads (CSV, JSON, XLSX) compute everything before they answer.",
+		strconv.FormatFloat(compilationBudget.Seconds(), 'f', -1, 64), strings.Join(parts, "; "))
 }
 
 // compilationTable is the table of events × nearest pulses.
@@ -462,6 +668,11 @@ func compilationTable(c *compilation) views.Table {
 		ev := []views.Cell{{Text: row.Event.Name, URL: idURL("/events", row.Event.ID)}, {Text: row.Event.Section, URL: idURL("/sections", *row.Event.SectionID)},
 			{Text: fmt.Sprintf("%s (%s – %s)", fixed(a.Median, d), fixed(a.Lo95, d), fixed(a.Hi95, d)), Num: true}}
 		p := row.Pulse
+		if row.NotComputed {
+			t.Rows = append(t.Rows, append(ev, views.Cell{Text: row.Province.Name, URL: idURL("/provinces", row.Province.ID) + "/timeline"},
+				views.Cell{Text: row.Note, Class: "caution"}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—"}))
+			continue
+		}
 		if p == nil {
 			t.Rows = append(t.Rows, append(ev, views.Cell{Text: "—"}, views.Cell{Text: row.Note}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—"}))
 			continue

@@ -5,6 +5,8 @@ import (
 	"regexp"
 	"runtime"
 	"strconv"
+	"sync"
+	"sync/atomic"
 	"time"
 )
 
@@ -81,3 +83,60 @@ type internalKey struct{}
 type serverBusy struct{}
 
 func (serverBusy) Error() string { return "busy" }
+
+// tryTake takes a free slot without waiting (false when every slot is taken); give it back with give.
+func (h *heavyLimit) tryTake() bool {
+	select {
+	case h.slots <- struct{}{}:
+		return true
+	default:
+		return false
+	}
+}
+
+func (h *heavyLimit) give() { <-h.slots }
+
+// inSlots runs job(0) … job(n-1): in the caller's goroutine (the slot of the page that asks) and, at
+// the same time, in as many more goroutines as computing slots are free now, each taken without waiting
+// and given back when its goroutine has nothing more to do — so a page with many things to compute uses
+// idle cores and never more than the slots allow. With no limit (a server made without one), up to
+// one goroutine per core. No job starts once stop returns true (stop may be nil); the jobs started
+// finish before inSlots returns. done[i] says job i ran.
+func (s *Server) inSlots(n int, stop func() bool, job func(i int)) (done []bool) {
+	done = make([]bool, n)
+	var next atomic.Int64
+	work := func() {
+		for {
+			if stop != nil && stop() {
+				return
+			}
+			i := int(next.Add(1) - 1)
+			if i >= n {
+				return
+			}
+			job(i)
+			done[i] = true
+		}
+	}
+	var wg sync.WaitGroup
+	for extra := 0; extra < n-1; extra++ {
+		if s.heavy != nil {
+			if !s.heavy.tryTake() {
+				break
+			}
+		} else if extra >= runtime.GOMAXPROCS(0)-1 {
+			break
+		}
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			if s.heavy != nil {
+				defer s.heavy.give()
+			}
+			work()
+		}()
+	}
+	work()
+	wg.Wait()
+	return done
+}
