@@ -23,8 +23,14 @@ type comparer struct {
 	cache *compareCache
 }
 
+// compareCacheEntries bounds the comparisons kept. Each is kept under two keys (the stamp's and the
+// digest's): 80 hold the default comparison of each of the large compilation's 40 provinces, which the
+// compilation view and the events' answers read (at 32, the compilation's 30 comparisons pushed each
+// other out and every view computed them all again).
+const compareCacheEntries = 80
+
 func (s *Server) registerCompareRoutes(r chi.Router) {
-	c := &comparer{Server: s, cache: newCompareCache(32)}
+	c := &comparer{Server: s, cache: newCompareCache(compareCacheEntries)}
 	r.Get("/compare", s.handle(c.handleCompare))
 	r.Get("/compare/saved", s.handle(c.handleSavedList))
 	r.Get("/compare/saved/{id}", s.handle(c.handleSavedShow))
