@@ -36,6 +36,8 @@ type options struct {
 	now            func() time.Time
 	release        string // the release a handler serves as of ("" for the live compilation)
 	prefix         string // the path it is served under
+	// compilationBudget: how long the compilation page computes (compilationBudget; tests change it)
+	compilationBudget time.Duration
 }
 
 // WithSessionCleanup sets how often expired sessions are deleted (0: never, for tests).

@@ -99,6 +99,7 @@ type compilation struct {
 	ComparedPairs int
 	// What the page's budget left out: lanes, events whose section's model was not computed, and
 	// event–province pairs whose comparison was not.
+	Budget           time.Duration // how long the page computes
 	LanesNotComputed int
 	AgeNotComputed   []store.Event
 	PairsNotComputed int
@@ -117,6 +118,11 @@ const (
 	compileFigure                         // every lane and age, no comparison (the figure's downloads)
 	compilePage                           // what is ready within compilationBudget (the page)
 )
+
+// withCompilationBudget sets how long the compilation page computes (tests; 0 is the default).
+func withCompilationBudget(d time.Duration) Option {
+	return func(o *options) { o.compilationBudget = d }
+}
 
 func scopeOf(format string) compilationScope {
 	switch format {
@@ -184,10 +190,9 @@ func (k *compilationKept) keep(key string, p compilationParts) {
 func (s *Server) compilationData(r *http.Request, ch compilationChoice, scope compilationScope) (*compilation, error) {
 	ctx := r.Context()
 	begun := time.Now()
-	stop := func() bool {
-		return ctx.Err() != nil || (scope == compilePage && time.Since(begun) > compilationBudget)
-	}
-	c := &compilation{Choice: ch}
+	budget := cmp.Or(s.budget, compilationBudget) // a server made without NewHandler: the default
+	stop := func() bool { return ctx.Err() != nil || (scope == compilePage && time.Since(begun) >= budget) }
+	c := &compilation{Choice: ch, Budget: budget}
 	dens, err := s.densityChoice(ctx, &params{q: url.Values{}}) // the timeline's defaults, as the answers read them
 	if err != nil {
 		return nil, err
@@ -651,7 +656,7 @@ func (c *compilation) leftOut() string {
 	return fmt.Sprintf("Not everything is computed yet. This page computes for at most %s s and then shows what is ready; not computed in time: %s. "+
 		"Nothing shown here is a guess: what is missing is left out, and what was computed is kept, so reloading shows more. "+
 		"The table's downloads (CSV, JSON, XLSX) compute everything before they answer.",
-		strconv.FormatFloat(compilationBudget.Seconds(), 'f', -1, 64), strings.Join(parts, "; "))
+		strconv.FormatFloat(c.Budget.Seconds(), 'f', -1, 64), strings.Join(parts, "; "))
 }
 
 // compilationTable is the table of events × nearest pulses.
