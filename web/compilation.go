@@ -149,6 +149,7 @@ type compilationParts struct {
 	sections map[int64]*sectionAges         // by section
 	compares map[string]*comparisonRowsJSON // by the comparison's address
 	errs     map[string]error               // by the comparison's address
+	near     map[[2]float64]nearProvinces   // the provinces near each event, by its age window
 }
 
 // take returns a copy of what is kept under key (empty when another state is kept).
@@ -160,10 +161,10 @@ func (k *compilationKept) take(key string) compilationParts {
 	defer k.mu.Unlock()
 	if k.key != key {
 		return compilationParts{lanes: map[int64]densityResult{}, sections: map[int64]*sectionAges{},
-			compares: map[string]*comparisonRowsJSON{}, errs: map[string]error{}}
+			compares: map[string]*comparisonRowsJSON{}, errs: map[string]error{}, near: map[[2]float64]nearProvinces{}}
 	}
 	return compilationParts{lanes: maps.Clone(k.part.lanes), sections: maps.Clone(k.part.sections),
-		compares: maps.Clone(k.part.compares), errs: maps.Clone(k.part.errs)}
+		compares: maps.Clone(k.part.compares), errs: maps.Clone(k.part.errs), near: maps.Clone(k.part.near)}
 }
 
 // keep adds what was computed under key (the state read before computing) to what is kept, replacing
@@ -182,6 +183,7 @@ func (k *compilationKept) keep(key string, p compilationParts) {
 	maps.Copy(k.part.sections, p.sections)
 	maps.Copy(k.part.compares, p.compares)
 	maps.Copy(k.part.errs, p.errs)
+	maps.Copy(k.part.near, p.near)
 }
 
 // compilationData computes the timelines of every province and the answers of every accepted event of
@@ -264,7 +266,7 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice, scope co
 	// same computation the timeline's JSON gives), and the sections' ages and the comparisons kept.
 	as := s.answers(r)
 	as.provinces = provs
-	as.sections, as.compares, as.errs, as.keptOnly = kept.sections, kept.compares, kept.errs, true
+	as.sections, as.compares, as.errs, as.near, as.keptOnly = kept.sections, kept.compares, kept.errs, kept.near, true
 	for _, l := range c.Lanes {
 		if !l.NotComputed {
 			as.timelines[l.Province.ID] = timelinePulsesOf(l.Density)

@@ -140,6 +140,13 @@ type answers struct {
 	provinces []store.Province // read once, on the first answer that needs them
 	// keptOnly: a comparison not in compares is not computed; its province goes to NotComputed.
 	keptOnly bool
+	near     map[[2]float64]nearProvinces // by the age window read
+}
+
+// nearProvinces are the provinces compared with an event, and the note saying which were left out.
+type nearProvinces struct {
+	provs []store.Province
+	note  string
 }
 
 // errNotComputed is a comparison an answer with keptOnly did not compute.
@@ -147,7 +154,7 @@ var errNotComputed = errors.New("not computed")
 
 func (s *Server) answers(r *http.Request) *answers {
 	return &answers{s: s, r: r, sections: map[int64]*sectionAges{}, compares: map[string]*comparisonRowsJSON{},
-		timelines: map[int64]*timelinePulses{}, errs: map[string]error{}}
+		timelines: map[int64]*timelinePulses{}, errs: map[string]error{}, near: map[[2]float64]nearProvinces{}}
 }
 
 func (as *answers) section(id int64) (*sectionAges, error) {
@@ -291,12 +298,16 @@ func (as *answers) nearProvinces(age answerAge) (provs []store.Province, note st
 			return nil, "", err
 		}
 	}
+	window := [2]float64{age.Hi95 - answerReachMa, age.Lo95 + answerReachMa}
+	if v, ok := as.near[window]; ok {
+		return v.provs, v.note, nil
+	}
 	type near struct {
 		p store.Province
 		n int
 	}
 	var cands []near
-	counts, err := as.s.store.DateCountsByProvince(ctx, age.Hi95-answerReachMa, age.Lo95+answerReachMa, store.ReviewAccepted)
+	counts, err := as.s.store.DateCountsByProvince(ctx, window[0], window[1], store.ReviewAccepted)
 	if err != nil {
 		return nil, "", err
 	}
@@ -313,6 +324,7 @@ func (as *answers) nearProvinces(age answerAge) (provs []store.Province, note st
 	for _, c := range cands {
 		provs = append(provs, c.p)
 	}
+	as.near[window] = nearProvinces{provs, note}
 	return provs, note, nil
 }
 
