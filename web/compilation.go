@@ -2,6 +2,7 @@ package web
 
 import (
 	"cmp"
+	"context"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -100,6 +101,7 @@ type compilation struct {
 	// What the page's budget left out: lanes, events whose section's model was not computed, and
 	// event–province pairs whose comparison was not.
 	Budget           time.Duration // how long the page computes
+	Finishing        bool          // what the page left out is being computed for the next reader
 	LanesNotComputed int
 	AgeNotComputed   []store.Event
 	PairsNotComputed int
@@ -139,9 +141,71 @@ func scopeOf(format string) compilationScope {
 // so that a page cut short by its budget is completed by the next request, whatever the other caches
 // have dropped meanwhile. Kept results are shared: never change one.
 type compilationKept struct {
-	mu   sync.Mutex
-	key  string
-	part compilationParts
+	mu        sync.Mutex
+	key       string
+	part      compilationParts
+	finishing bool // a finisher is computing (finishCompilation)
+	noFinish  bool // pages cut short leave the rest to the next (tests)
+}
+
+// compilationFinishTime bounds a finisher's work.
+const compilationFinishTime = 5 * time.Minute
+
+// finishCompilation computes, after a page cut short by its budget, what it left out, so that the
+// next reader finds it kept: in the background, as the table's downloads compute it, in one computing
+// slot waited for as a page waits (and in more when they are free), at most one at a time on a server
+// and for at most compilationFinishTime. It says whether it started one (or one is running).
+func (s *Server) finishCompilation(r *http.Request) bool {
+	k := s.compKept
+	if k == nil {
+		return false
+	}
+	k.mu.Lock()
+	if k.noFinish || k.finishing {
+		running := k.finishing
+		k.mu.Unlock()
+		return running
+	}
+	k.finishing = true
+	k.mu.Unlock()
+	ctx, cancel := context.WithTimeout(context.WithoutCancel(r.Context()), compilationFinishTime)
+	req := r.Clone(ctx)
+	go func() {
+		defer cancel()
+		defer func() {
+			k.mu.Lock()
+			k.finishing = false
+			k.mu.Unlock()
+		}()
+		defer func() {
+			if v := recover(); v != nil {
+				s.log.Error("finishing the compilation", "panic", v)
+			}
+		}()
+		if s.heavy != nil {
+			select {
+			case s.heavy.slots <- struct{}{}:
+				defer s.heavy.give()
+			case <-ctx.Done():
+				return
+			}
+		}
+		if _, err := s.compilationData(req, compilationChoice{Format: "json"}, compileWhole); err != nil {
+			s.log.Warn("finishing the compilation", "err", err)
+		}
+	}()
+	return true
+}
+
+// withoutCompilationFinisher leaves what a page cut short by its budget left out to the next request
+// (tests).
+func withoutCompilationFinisher() Option {
+	return func(o *options) { o.noCompilationFinisher = true }
+}
+
+// cutShort says the budget left something out.
+func (c *compilation) cutShort() bool {
+	return c.LanesNotComputed > 0 || len(c.AgeNotComputed) > 0 || c.PairsNotComputed > 0
 }
 
 type compilationParts struct {
@@ -473,6 +537,9 @@ func (s *Server) handleCompilation(w http.ResponseWriter, r *http.Request) error
 	if err != nil {
 		return err
 	}
+	if c.cutShort() {
+		c.Finishing = s.finishCompilation(r)
+	}
 	switch ch.Format {
 	case "csv":
 		return writeDownload(w, "compilation-events-pulses.csv", func(wr io.Writer) error { return writeCompilationCSV(wr, c) })
@@ -655,10 +722,14 @@ func (c *compilation) leftOut() string {
 	if len(parts) == 0 {
 		return ""
 	}
+	next := "What was computed is kept, so reloading shows more."
+	if c.Finishing {
+		next = "The rest is being computed now and kept: reload in a minute for the whole compilation."
+	}
 	return fmt.Sprintf("Not everything is computed yet. This page computes for at most %s s and then shows what is ready; not computed in time: %s. "+
-		"Nothing shown here is a guess: what is missing is left out, and what was computed is kept, so reloading shows more. "+
+		"Nothing shown here is a guess: what is missing is left out. %s "+
 		"The table's downloads (CSV, JSON, XLSX) compute everything before they answer.",
-		strconv.FormatFloat(c.Budget.Seconds(), 'f', -1, 64), strings.Join(parts, "; "))
+		strconv.FormatFloat(c.Budget.Seconds(), 'f', -1, 64), strings.Join(parts, "; "), next)
 }
 
 // compilationTable is the table of events × nearest pulses.

@@ -19,7 +19,7 @@ import (
 func TestCompilationCutShortShowsNoNumberItDidNotCompute(t *testing.T) {
 	db := mustDemoDB(t)
 	srv := httptest.NewServer(NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS,
-		WithSessionCleanup(0), withCompilationBudget(time.Nanosecond)))
+		WithSessionCleanup(0), withCompilationBudget(time.Nanosecond), withoutCompilationFinisher()))
 	t.Cleanup(srv.Close)
 	page := func() string {
 		t.Helper()
@@ -77,5 +77,38 @@ func TestCompilationCutShortShowsNoNumberItDidNotCompute(t *testing.T) {
 	}
 	if table := body[strings.Index(body, `id="nearest"`):]; strings.Count(table, "pulse at ~") < pairs {
 		t.Errorf("the whole page names fewer pulses than its %d pairs", pairs)
+	}
+}
+
+// A page cut short starts computing what it left out, and says so; the next reader then finds the whole
+// compilation, the same as the table's download computes it.
+func TestCompilationCutShortIsFinishedForTheNextReader(t *testing.T) {
+	db := mustDemoDB(t)
+	srv := httptest.NewServer(NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS,
+		WithSessionCleanup(0), withCompilationBudget(time.Nanosecond)))
+	t.Cleanup(srv.Close)
+	_, _, body := get(t, srv, "/compilation")
+	if !strings.Contains(body, "The rest is being computed now") {
+		t.Fatalf("a page cut short does not say the rest is being computed:\n%.2000s", body)
+	}
+	// Wait for the finisher (the page keeps saying what is missing until it is done).
+	for deadline := time.Now().Add(2 * time.Minute); strings.Contains(body, "Not everything is computed yet"); {
+		if time.Now().After(deadline) {
+			t.Fatal("the compilation was not finished within two minutes")
+		}
+		time.Sleep(200 * time.Millisecond)
+		_, _, body = get(t, srv, "/compilation")
+	}
+	// Its table is the download's: every pair with its pulse.
+	other := httptest.NewServer(NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0)))
+	t.Cleanup(other.Close)
+	pairs := 0
+	for _, r := range getCompilation(t, other, "").Rows {
+		if r["pulse"] != "" {
+			pairs++
+		}
+	}
+	if table := body[strings.Index(body, `id="nearest"`):]; strings.Count(table, "pulse at ~") < pairs {
+		t.Errorf("the finished page names fewer pulses than the download's %d pairs", pairs)
 	}
 }

@@ -52,7 +52,7 @@ func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
 		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix, heavy: defaultHeavyLimit(),
-		secCache: newSectionCache(sectionCacheEntries, sectionCacheRows), tlCache: newTimelineCache(), compKept: &compilationKept{}, budget: o.compilationBudget}
+		secCache: newSectionCache(sectionCacheEntries, sectionCacheRows), tlCache: newTimelineCache(), compKept: &compilationKept{noFinish: o.noCompilationFinisher}, budget: o.compilationBudget}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)
