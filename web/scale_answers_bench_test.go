@@ -57,7 +57,9 @@ func firstSectionEvent(tb testing.TB, db *store.DB) int64 {
 
 func benchAnswers(b *testing.B, db *store.DB, event int64) {
 	newHandler := func() http.Handler {
-		return NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
+		// Without the finisher of a page cut short: each cold server would leave one computing the whole
+		// compilation in the background, under the next requests' timing.
+		return NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0), withoutCompilationFinisher())
 	}
 	fetch := func(b *testing.B, h http.Handler, path string) (int, string) {
 		rec := httptest.NewRecorder()
