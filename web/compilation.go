@@ -110,7 +110,7 @@ type compilation struct {
 // compilationBudget is how long the page computes what is not kept before it starts no more: the
 // timelines, section models and comparisons started by then finish, and the page shows what is ready,
 // saying what is not. The downloads compute everything.
-const compilationBudget = 1200 * time.Millisecond
+const compilationBudget = time.Second
 
 // compilationScope is how much a format of the view computes.
 type compilationScope int
