@@ -486,7 +486,7 @@ func nearestRows(e compilationEvent, lanes []compilationLane) []compilationRow {
 	for _, l := range lanes {
 		if slices.ContainsFunc(a.NotComputed, func(p store.Province) bool { return p.ID == l.Province.ID }) {
 			rows = append(rows, compilationRow{Event: e.Event, Age: *a.Age, Province: l.Province, NotComputed: true,
-				Note: "not computed in time for this page: reload, or download the table"})
+				Note: "not computed yet (reload)"})
 			continue
 		}
 		var best *pulseAnswer
@@ -659,6 +659,13 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 	v.Intro = fmt.Sprintf("%s, %s with an age in this window; %d event–province pairs compared, %d of them with the event more likely than not within the nearest pulse. "+
 		"Each lane opens the province's timeline; each event opens its answer, where all its pulses are ranked.",
 		upperFirst(count(len(c.Lanes), "province")), count(len(c.Events), "event"), c.ComparedPairs, likely)
+	if c.cutShort() {
+		v.Intro += " Not everything is computed yet: the note under the figure says what is missing"
+		if c.Finishing {
+			v.Intro += ", and it is being computed now — reload in a minute"
+		}
+		v.Intro += "."
+	}
 	q := r.URL.Query()
 	v.Form = &views.Form{Action: "/compilation", Reset: "/compilation", Fields: []views.Field{
 		{Name: "from", Label: "Window from (Ma)", Kind: "number", Value: q.Get("from"), Step: "any", Placeholder: "whole record"},

@@ -60,7 +60,7 @@ func TestCompilationCutShortShowsNoNumberItDidNotCompute(t *testing.T) {
 		t.Fatal("the demo's compilation compares no event with a province")
 	}
 	table := body[strings.Index(body, `id="nearest"`):]
-	if got := strings.Count(table, "not computed in time for this page: reload"); got != pairs {
+	if got := strings.Count(table, "not computed yet (reload)"); got != pairs {
 		t.Errorf("%d pairs said not computed, the whole compilation has %d", got, pairs)
 	}
 	if strings.Contains(table, "pulse at ~") {
@@ -72,7 +72,7 @@ func TestCompilationCutShortShowsNoNumberItDidNotCompute(t *testing.T) {
 	// After the whole computation on this server the page is whole.
 	getCompilation(t, srv, "")
 	body = page()
-	if strings.Contains(body, "Not everything is computed yet") || strings.Contains(body, "not computed in time") {
+	if strings.Contains(body, "Not everything is computed yet") || strings.Contains(body, "not computed yet") {
 		t.Error("after the whole computation the page still says something is not computed")
 	}
 	if table := body[strings.Index(body, `id="nearest"`):]; strings.Count(table, "pulse at ~") < pairs {
