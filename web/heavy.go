@@ -11,13 +11,13 @@ import (
 )
 
 // Pages that compute (the comparison, the compilation view, timelines, section models, the coincidence test, an event's
-// answer and the list of events with theirs) share a bounded number of slots, so that many readers asking at once queue for the machine's
+// answer and the list of events with theirs — the list takes its slot itself, takeSlot, only when it answers) share a bounded number of slots, so that many readers asking at once queue for the machine's
 // cores instead of piling up memory. A request that would wait longer than heavyWait, or find the queue
 // full, is told plainly that the server is busy and when to come back (503 with Retry-After), and
 // nothing is lost: reading it again later gives the page.
 
 // heavyPath matches the addresses that compute.
-var heavyPath = regexp.MustCompile(`^/(compare|coincidence|compilation|sections/aligned|sections/\d+(/(anomalies|agemodel|ratios|figure\.(svg|png|pdf)))?|provinces/\d+/timeline(\.(svg|png|pdf))?|events(/\d+)?)$`)
+var heavyPath = regexp.MustCompile(`^/(compare|coincidence|compilation|sections/aligned|sections/\d+(/(anomalies|agemodel|ratios|figure\.(svg|png|pdf)))?|provinces/\d+/timeline(\.(svg|png|pdf))?|events/\d+)$`)
 
 const (
 	heavyWait       = 20 * time.Second // the longest a computing page waits for a slot
@@ -49,30 +49,47 @@ func (s *Server) limitHeavy(next http.Handler) http.Handler {
 			next.ServeHTTP(w, r)
 			return
 		}
-		busy := func() {
-			w.Header().Set("Retry-After", strconv.Itoa(heavyRetryAfter))
-			s.handle(func(http.ResponseWriter, *http.Request) error { return serverBusy{} })(w, r)
-		}
-		select {
-		case s.heavy.queue <- struct{}{}:
-		default:
-			busy()
+		release, ok := s.takeSlot(w, r)
+		if !ok {
 			return
 		}
-		defer func() { <-s.heavy.queue }()
-		t := time.NewTimer(s.heavy.wait)
-		defer t.Stop()
-		select {
-		case s.heavy.slots <- struct{}{}:
-		case <-t.C:
-			busy()
-			return
-		case <-r.Context().Done():
-			return // the client left while waiting
-		}
-		defer func() { <-s.heavy.slots }()
+		defer release()
 		next.ServeHTTP(w, r)
 	})
+}
+
+// takeSlot waits for a computing slot as limitHeavy does, for a page that computes only in some of its
+// forms (the list of events, which answers each event only when they are few). When none comes it has
+// answered the request (503 with Retry-After, or nothing to a client that left) and returns false;
+// otherwise release gives the slot back. A page's own request of the site (internalJSON), or a server
+// without slots, takes none.
+func (s *Server) takeSlot(w http.ResponseWriter, r *http.Request) (release func(), ok bool) {
+	if s.heavy == nil || r.Context().Value(internalKey{}) != nil {
+		return func() {}, true
+	}
+	busy := func() {
+		w.Header().Set("Retry-After", strconv.Itoa(heavyRetryAfter))
+		s.handle(func(http.ResponseWriter, *http.Request) error { return serverBusy{} })(w, r)
+	}
+	select {
+	case s.heavy.queue <- struct{}{}:
+	default:
+		busy()
+		return nil, false
+	}
+	t := time.NewTimer(s.heavy.wait)
+	defer t.Stop()
+	select {
+	case s.heavy.slots <- struct{}{}:
+	case <-t.C:
+		<-s.heavy.queue
+		busy()
+		return nil, false
+	case <-r.Context().Done():
+		<-s.heavy.queue
+		return nil, false // the client left while waiting
+	}
+	return func() { <-s.heavy.slots; <-s.heavy.queue }, true
 }
 
 // internalKey marks a request a page makes of the site itself (internalJSON): it runs in the slot of
