@@ -23,11 +23,11 @@ type comparer struct {
 	cache *compareCache
 }
 
-// compareCacheEntries bounds the comparisons kept. Each is kept under two keys (the stamp's and the
-// digest's): 80 hold the default comparison of each of the large compilation's 40 provinces, which the
-// compilation view and the events' answers read (at 32, the compilation's 30 comparisons pushed each
-// other out and every view computed them all again).
-const compareCacheEntries = 80
+// compareCacheEntries bounds the comparisons kept: more than the default comparisons of the large
+// compilation's 40 provinces, which the compilation view and the events' answers read in turn (at 32,
+// with each comparison kept under two keys, the compilation's 30 comparisons pushed each other out and
+// every view computed them all again). Kept by their data versions, one key each.
+const compareCacheEntries = 48
 
 func (s *Server) registerCompareRoutes(r chi.Router) {
 	c := &comparer{Server: s, cache: newCompareCache(compareCacheEntries)}
