@@ -36,6 +36,10 @@ type options struct {
 	now            func() time.Time
 	release        string // the release a handler serves as of ("" for the live compilation)
 	prefix         string // the path it is served under
+	// compilationBudget: how long the compilation page computes (compilationBudget; tests change it)
+	compilationBudget time.Duration
+	// noCompilationFinisher: a page cut short leaves the rest to the next request (tests)
+	noCompilationFinisher bool
 }
 
 // WithSessionCleanup sets how often expired sessions are deleted (0: never, for tests).

@@ -23,8 +23,14 @@ type comparer struct {
 	cache *compareCache
 }
 
+// compareCacheEntries bounds the comparisons kept: more than the default comparisons of the large
+// compilation's 40 provinces, which the compilation view and the events' answers read in turn (at 32,
+// with each comparison kept under two keys, the compilation's 30 comparisons pushed each other out and
+// every view computed them all again). Kept by their data versions, one key each.
+const compareCacheEntries = 48
+
 func (s *Server) registerCompareRoutes(r chi.Router) {
-	c := &comparer{Server: s, cache: newCompareCache(32)}
+	c := &comparer{Server: s, cache: newCompareCache(compareCacheEntries)}
 	r.Get("/compare", s.handle(c.handleCompare))
 	r.Get("/compare/saved", s.handle(c.handleSavedList))
 	r.Get("/compare/saved/{id}", s.handle(c.handleSavedShow))

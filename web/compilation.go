@@ -2,15 +2,19 @@ package web
 
 import (
 	"cmp"
+	"context"
+	"encoding/json"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"net/http"
 	"net/url"
-	"runtime"
 	"slices"
+	"strconv"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/go-chi/chi/v5"
 
@@ -58,8 +62,9 @@ func compilationChoiceFrom(p *params) compilationChoice {
 
 // compilationLane is one province with its default timeline.
 type compilationLane struct {
-	Province store.Province
-	Density  densityResult
+	Province    store.Province
+	Density     densityResult
+	NotComputed bool // not computed within the page's budget
 }
 
 // compilationEvent is one event with its answer.
@@ -76,6 +81,8 @@ type compilationRow struct {
 	Province store.Province
 	Pulse    *pulseAnswer
 	Note     string
+	// NotComputed: the province's comparison was not computed within the page's budget.
+	NotComputed bool
 }
 
 // compilation is everything the page and its downloads show.
@@ -91,13 +98,167 @@ type compilation struct {
 	Auto          bool // the window is the automatic one (neither end chosen)
 	Notes         []string
 	ComparedPairs int
+	// What the page's budget left out: lanes, events whose section's model was not computed, and
+	// event–province pairs whose comparison was not.
+	Budget           time.Duration // how long the page computes
+	Finishing        bool          // what the page left out is being computed for the next reader
+	LanesNotComputed int
+	AgeNotComputed   []store.Event
+	PairsNotComputed int
 }
 
-// compilationData computes the timelines of every province (in parallel) and the answers of every
-// accepted event of a section, then chooses the window and the rows.
-func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compilation, error) {
+// compilationBudget is how long the page computes what is not kept before it starts no more: the
+// timelines, section models and comparisons started by then finish, and the page shows what is ready,
+// saying what is not. The downloads compute everything.
+const compilationBudget = time.Second
+
+// compilationScope is how much a format of the view computes.
+type compilationScope int
+
+const (
+	compileWhole  compilationScope = iota // every lane, age and comparison (the table's downloads)
+	compileFigure                         // every lane and age, no comparison (the figure's downloads)
+	compilePage                           // what is ready within compilationBudget (the page)
+)
+
+// withCompilationBudget sets how long the compilation page computes (tests; 0 is the default).
+func withCompilationBudget(d time.Duration) Option {
+	return func(o *options) { o.compilationBudget = d }
+}
+
+func scopeOf(format string) compilationScope {
+	switch format {
+	case "csv", "json", "xlsx":
+		return compileWhole
+	case "svg", "png", "pdf":
+		return compileFigure
+	}
+	return compilePage
+}
+
+// compilationKept is what the view has computed of one state of the compilation (its data stamp and the
+// densities' choices): each province's density, each section page's ages and each comparison's rows,
+// so that a page cut short by its budget is completed by the next request, whatever the other caches
+// have dropped meanwhile. Kept results are shared: never change one.
+type compilationKept struct {
+	mu        sync.Mutex
+	key       string
+	part      compilationParts
+	finishing bool // a finisher is computing (finishCompilation)
+	noFinish  bool // pages cut short leave the rest to the next (tests)
+}
+
+// compilationFinishTime bounds a finisher's work.
+const compilationFinishTime = 5 * time.Minute
+
+// finishCompilation computes, after a page cut short by its budget, what it left out, so that the
+// next reader finds it kept: in the background, as the table's downloads compute it, in one computing
+// slot waited for as a page waits (and in more when they are free), at most one at a time on a server
+// and for at most compilationFinishTime. It says whether it started one (or one is running).
+func (s *Server) finishCompilation(r *http.Request) bool {
+	k := s.compKept
+	if k == nil {
+		return false
+	}
+	k.mu.Lock()
+	if k.noFinish || k.finishing {
+		running := k.finishing
+		k.mu.Unlock()
+		return running
+	}
+	k.finishing = true
+	k.mu.Unlock()
+	ctx, cancel := context.WithTimeout(context.WithoutCancel(r.Context()), compilationFinishTime)
+	req := r.Clone(ctx)
+	go func() {
+		defer cancel()
+		defer func() {
+			k.mu.Lock()
+			k.finishing = false
+			k.mu.Unlock()
+		}()
+		defer func() {
+			if v := recover(); v != nil {
+				s.log.Error("finishing the compilation", "panic", v)
+			}
+		}()
+		if s.heavy != nil {
+			select {
+			case s.heavy.slots <- struct{}{}:
+				defer s.heavy.give()
+			case <-ctx.Done():
+				return
+			}
+		}
+		if _, err := s.compilationData(req, compilationChoice{Format: "json"}, compileWhole); err != nil {
+			s.log.Warn("finishing the compilation", "err", err)
+		}
+	}()
+	return true
+}
+
+// withoutCompilationFinisher leaves what a page cut short by its budget left out to the next request
+// (tests).
+func withoutCompilationFinisher() Option {
+	return func(o *options) { o.noCompilationFinisher = true }
+}
+
+// cutShort says the budget left something out.
+func (c *compilation) cutShort() bool {
+	return c.LanesNotComputed > 0 || len(c.AgeNotComputed) > 0 || c.PairsNotComputed > 0
+}
+
+type compilationParts struct {
+	lanes    map[int64]densityResult        // by province
+	sections map[int64]*sectionAges         // by section
+	compares map[string]*comparisonRowsJSON // by the comparison's address
+	errs     map[string]error               // by the comparison's address
+	near     map[[2]float64]nearProvinces   // the provinces near each event, by its age window
+}
+
+// take returns a copy of what is kept under key (empty when another state is kept).
+func (k *compilationKept) take(key string) compilationParts {
+	if k == nil {
+		k = &compilationKept{}
+	}
+	k.mu.Lock()
+	defer k.mu.Unlock()
+	if k.key != key {
+		return compilationParts{lanes: map[int64]densityResult{}, sections: map[int64]*sectionAges{},
+			compares: map[string]*comparisonRowsJSON{}, errs: map[string]error{}, near: map[[2]float64]nearProvinces{}}
+	}
+	return compilationParts{lanes: maps.Clone(k.part.lanes), sections: maps.Clone(k.part.sections),
+		compares: maps.Clone(k.part.compares), errs: maps.Clone(k.part.errs), near: maps.Clone(k.part.near)}
+}
+
+// keep adds what was computed under key (the state read before computing) to what is kept, replacing
+// an older state's.
+func (k *compilationKept) keep(key string, p compilationParts) {
+	if k == nil {
+		return
+	}
+	k.mu.Lock()
+	defer k.mu.Unlock()
+	if k.key != key {
+		k.key, k.part = key, p
+		return
+	}
+	maps.Copy(k.part.lanes, p.lanes)
+	maps.Copy(k.part.sections, p.sections)
+	maps.Copy(k.part.compares, p.compares)
+	maps.Copy(k.part.errs, p.errs)
+	maps.Copy(k.part.near, p.near)
+}
+
+// compilationData computes the timelines of every province and the answers of every accepted event of
+// a section (each part in parallel, in the computing slots that are free), then chooses the window and
+// the rows. What is not kept is computed as scope says: on the page, for compilationBudget.
+func (s *Server) compilationData(r *http.Request, ch compilationChoice, scope compilationScope) (*compilation, error) {
 	ctx := r.Context()
-	c := &compilation{Choice: ch}
+	begun := time.Now()
+	budget := cmp.Or(s.budget, compilationBudget) // a server made without NewHandler: the default
+	stop := func() bool { return ctx.Err() != nil || (scope == compilePage && time.Since(begun) >= budget) }
+	c := &compilation{Choice: ch, Budget: budget}
 	dens, err := s.densityChoice(ctx, &params{q: url.Values{}}) // the timeline's defaults, as the answers read them
 	if err != nil {
 		return nil, err
@@ -107,44 +268,84 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compil
 	if err != nil {
 		return nil, err
 	}
-	c.Lanes = make([]compilationLane, len(provs))
-	errs := make([]error, len(provs))
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
-	for i, p := range provs {
-		c.Lanes[i].Province = p
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			sem <- struct{}{}
-			defer func() { <-sem }()
-			tl, err := s.timeline(ctx, p.ID, dens)
-			c.Lanes[i].Density, errs[i] = tl.Density, err
-		}()
-	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
-		}
-	}
-	// The answers read each province's pulses from its timeline: hand them the ones just computed (the
-	// same computation the timeline's JSON gives).
-	as := s.answers(r)
-	as.provinces = provs
-	for _, l := range c.Lanes {
-		as.timelines[l.Province.ID] = timelinePulsesOf(l.Density)
-	}
 	events, err := s.store.Events(ctx, 0)
 	if err != nil {
 		return nil, err
+	}
+	stamp, err := s.store.DataStamp(ctx)
+	if err != nil {
+		return nil, err
+	}
+	o, _ := json.Marshal(dens.options())
+	key := fmt.Sprintf("%d %s", stamp, o)
+	kept := s.compKept.take(key)
+	// The lanes: each province's timeline with its default choices.
+	var todo []store.Province
+	for _, p := range provs {
+		if _, ok := kept.lanes[p.ID]; !ok {
+			todo = append(todo, p)
+		}
+	}
+	lanes, errs := make([]densityResult, len(todo)), make([]error, len(todo))
+	done := s.inSlots(len(todo), stop, func(i int) {
+		tl, err := s.timeline(ctx, todo[i].ID, dens)
+		lanes[i], errs[i] = tl.Density, err
+	})
+	for i, ok := range done {
+		if ok && errs[i] != nil {
+			return nil, errs[i]
+		}
+		if ok {
+			kept.lanes[todo[i].ID] = lanes[i]
+		}
+	}
+	for _, p := range provs {
+		l, ok := kept.lanes[p.ID]
+		c.Lanes = append(c.Lanes, compilationLane{Province: p, Density: l, NotComputed: !ok})
+		if !ok {
+			c.LanesNotComputed++
+		}
+	}
+	// The events' ages: each section page's model.
+	var secs []int64
+	for _, ev := range events {
+		if ev.ReviewState == store.ReviewAccepted && ev.SectionID != nil && kept.sections[*ev.SectionID] == nil && !slices.Contains(secs, *ev.SectionID) {
+			secs = append(secs, *ev.SectionID)
+		}
+	}
+	ages, errs := make([]*sectionAges, len(secs)), make([]error, len(secs))
+	done = s.inSlots(len(secs), stop, func(i int) {
+		ages[i] = &sectionAges{}
+		errs[i] = internalJSON(s.router, r, idURL("/sections", secs[i]), nil, ages[i])
+	})
+	for i, ok := range done {
+		if ok && errs[i] != nil {
+			return nil, errs[i]
+		}
+		if ok {
+			kept.sections[secs[i]] = ages[i]
+		}
+	}
+	// The answers read each province's pulses from its timeline: hand them the ones just computed (the
+	// same computation the timeline's JSON gives), and the sections' ages and the comparisons kept.
+	as := s.answers(r)
+	as.provinces = provs
+	as.sections, as.compares, as.errs, as.near, as.keptOnly = kept.sections, kept.compares, kept.errs, kept.near, true
+	for _, l := range c.Lanes {
+		if !l.NotComputed {
+			as.timelines[l.Province.ID] = timelinePulsesOf(l.Density)
+		}
 	}
 	var withAge []compilationEvent
 	for _, ev := range events {
 		if ev.ReviewState != store.ReviewAccepted || ev.SectionID == nil {
 			continue
 		}
-		a, err := as.answer(ev)
+		if kept.sections[*ev.SectionID] == nil {
+			c.AgeNotComputed = append(c.AgeNotComputed, ev)
+			continue
+		}
+		a, err := as.age(ev)
 		if err != nil {
 			return nil, err
 		}
@@ -154,6 +355,44 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compil
 		}
 		withAge = append(withAge, compilationEvent{Event: ev, Answer: a})
 	}
+	// The comparisons the answers read, those not kept computed now (not for the figure).
+	if scope != compileFigure {
+		var addrs []url.Values
+		seen := map[string]bool{}
+		for _, e := range withAge {
+			near, _, err := as.nearProvinces(*e.Answer.Age)
+			if err != nil {
+				return nil, err
+			}
+			for _, p := range near {
+				q := comparisonAddress(p.ID, nil)
+				if k := q.Encode(); !seen[k] && kept.compares[k] == nil {
+					seen[k] = true
+					addrs = append(addrs, q)
+				}
+			}
+		}
+		rows, errs := make([]*comparisonRowsJSON, len(addrs)), make([]error, len(addrs))
+		done = s.inSlots(len(addrs), stop, func(i int) {
+			rows[i] = &comparisonRowsJSON{}
+			errs[i] = internalJSON(s.router, r, "/compare", addrs[i], rows[i])
+		})
+		for i, ok := range done {
+			if ok && ctx.Err() == nil {
+				kept.compares[addrs[i].Encode()], kept.errs[addrs[i].Encode()] = rows[i], errs[i]
+			}
+		}
+		for i := range withAge {
+			e := &withAge[i]
+			if e.Answer, err = as.answerAt(e.Answer, "E"+strconv.FormatInt(e.Event.ID, 10), nil); err != nil {
+				return nil, err
+			}
+		}
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	s.compKept.keep(key, kept)
 	// The window: as chosen, an end left out taken from the automatic one (every density's window and
 	// every event's 95 % interval, and 2 % beside).
 	lo, hi := math.Inf(1), math.Inf(-1)
@@ -208,6 +447,9 @@ func (s *Server) compilationData(r *http.Request, ch compilationChoice) (*compil
 			if r.Pulse != nil {
 				c.ComparedPairs++
 			}
+			if r.NotComputed {
+				c.PairsNotComputed++
+			}
 		}
 		c.Rows = append(c.Rows, rows...)
 	}
@@ -242,6 +484,11 @@ func nearestRows(e compilationEvent, lanes []compilationLane) []compilationRow {
 	a := e.Answer
 	var rows []compilationRow
 	for _, l := range lanes {
+		if slices.ContainsFunc(a.NotComputed, func(p store.Province) bool { return p.ID == l.Province.ID }) {
+			rows = append(rows, compilationRow{Event: e.Event, Age: *a.Age, Province: l.Province, NotComputed: true,
+				Note: "not computed yet (reload)"})
+			continue
+		}
 		var best *pulseAnswer
 		bestD := math.Inf(1)
 		for i := range a.Pulses {
@@ -286,9 +533,12 @@ func (s *Server) handleCompilation(w http.ResponseWriter, r *http.Request) error
 	if err := p.err(); err != nil {
 		return err
 	}
-	c, err := s.compilationData(r, ch)
+	c, err := s.compilationData(r, ch, scopeOf(ch.Format))
 	if err != nil {
 		return err
+	}
+	if c.cutShort() {
+		c.Finishing = s.finishCompilation(r)
 	}
 	switch ch.Format {
 	case "csv":
@@ -352,7 +602,9 @@ func compilationFigure(c *compilation, chart []chronoUnit) views.CompilationFigu
 		res := l.Density
 		lane := views.FigureProvinceLane{Label: l.Province.Name, URL: idURL("/provinces", l.Province.ID) + "/timeline",
 			Title: l.Province.Name + ": open its timeline"}
-		if res.Band == nil {
+		if l.NotComputed {
+			lane.Message = l.Province.Name + ": density not computed in time for this page (reload)"
+		} else if res.Band == nil {
 			lane.Message = l.Province.Name + ": " + orText(res.Message, "no density")
 		} else {
 			b := res.Band
@@ -407,6 +659,13 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 	v.Intro = fmt.Sprintf("%s, %s with an age in this window; %d event–province pairs compared, %d of them with the event more likely than not within the nearest pulse. "+
 		"Each lane opens the province's timeline; each event opens its answer, where all its pulses are ranked.",
 		upperFirst(count(len(c.Lanes), "province")), count(len(c.Events), "event"), c.ComparedPairs, likely)
+	if c.cutShort() {
+		v.Intro += " Not everything is computed yet: the note under the figure says what is missing"
+		if c.Finishing {
+			v.Intro += ", and it is being computed now — reload in a minute"
+		}
+		v.Intro += "."
+	}
 	q := r.URL.Query()
 	v.Form = &views.Form{Action: "/compilation", Reset: "/compilation", Fields: []views.Field{
 		{Name: "from", Label: "Window from (Ma)", Kind: "number", Value: q.Get("from"), Step: "any", Placeholder: "whole record"},
@@ -437,6 +696,9 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 		v.Notes = append(v.Notes, "Without an age (their section's age–height model does not reach them): "+strings.Join(names, ", ")+".")
 	}
 	v.Notes = append(v.Notes, c.Notes...)
+	if left := c.leftOut(); left != "" {
+		v.Notes = append([]string{left}, v.Notes...)
+	}
 	v.Tables = []views.Table{compilationTable(c)}
 	v.Method = []string{
 		"Lanes: each province's density is its timeline with the default choices (the same computation as its page), drawn in this window.",
@@ -446,6 +708,35 @@ func (s *Server) compilationView(r *http.Request, c *compilation, fig views.Comp
 	}
 	v.Contents = []views.Block{{ID: "timeline", Title: "Figure"}, {ID: "nearest", Title: "Events and nearest pulses"}, {ID: "method", Title: "How this was computed"}}
 	return v
+}
+
+// leftOut says what the page's budget left out, and why ("" when nothing was).
+func (c *compilation) leftOut() string {
+	var parts []string
+	if c.LanesNotComputed > 0 {
+		parts = append(parts, fmt.Sprintf("the densities of %s (their lanes say so)", count(c.LanesNotComputed, "province")))
+	}
+	if n := len(c.AgeNotComputed); n > 0 {
+		var names []string
+		for _, e := range c.AgeNotComputed {
+			names = append(names, e.Name+" ("+e.Section+")")
+		}
+		parts = append(parts, fmt.Sprintf("the ages of %s, whose sections' age–height models were not computed: %s", count(n, "event"), strings.Join(names, ", ")))
+	}
+	if c.PairsNotComputed > 0 {
+		parts = append(parts, fmt.Sprintf("the comparisons of %d event–province pairs (the table names them)", c.PairsNotComputed))
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	next := "What was computed is kept, so reloading shows more."
+	if c.Finishing {
+		next = "The rest is being computed now and kept: reload in a minute for the whole compilation."
+	}
+	return fmt.Sprintf("Not everything is computed yet. This page computes for at most %s s and then shows what is ready; not computed in time: %s. "+
+		"Nothing shown here is a guess: what is missing is left out. %s "+
+		"The table's downloads (CSV, JSON, XLSX) compute everything before they answer.",
+		strconv.FormatFloat(c.Budget.Seconds(), 'f', -1, 64), strings.Join(parts, "; "), next)
 }
 
 // compilationTable is the table of events × nearest pulses.
@@ -462,6 +753,11 @@ func compilationTable(c *compilation) views.Table {
 		ev := []views.Cell{{Text: row.Event.Name, URL: idURL("/events", row.Event.ID)}, {Text: row.Event.Section, URL: idURL("/sections", *row.Event.SectionID)},
 			{Text: fmt.Sprintf("%s (%s – %s)", fixed(a.Median, d), fixed(a.Lo95, d), fixed(a.Hi95, d)), Num: true}}
 		p := row.Pulse
+		if row.NotComputed {
+			t.Rows = append(t.Rows, append(ev, views.Cell{Text: row.Province.Name, URL: idURL("/provinces", row.Province.ID) + "/timeline"},
+				views.Cell{Text: row.Note, Class: "caution"}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—"}))
+			continue
+		}
 		if p == nil {
 			t.Rows = append(t.Rows, append(ev, views.Cell{Text: "—"}, views.Cell{Text: row.Note}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—", Num: true}, views.Cell{Text: "—"}))
 			continue

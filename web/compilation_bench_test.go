@@ -11,8 +11,9 @@ import (
 )
 
 // BenchmarkCompilation measures the compilation view on the demo, its events' comparisons already
-// computed (the cache the comparison page and the events' pages fill): every province's timeline is
-// computed afresh on every request, the sections' models and the comparisons come from their caches.
+// computed (the cache the comparison page and the events' pages fill), and since the view keeps what it
+// computed per state of the compilation (compilationKept), every part comes from what its first request
+// kept. BenchmarkDemoAnswers measures it cold (a new server per request).
 // Target (compilation issue): < 500 ms cold on the demo. Besides ns/op it reports cpu-ms/op.
 // go test ./web -run '^$' -bench BenchmarkCompilation -benchtime 10x
 func BenchmarkCompilation(b *testing.B) {

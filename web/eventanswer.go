@@ -62,6 +62,9 @@ type eventAnswer struct {
 	Sentence  string
 	Notes     []string
 	Provinces int // compared
+	// NotComputed are the provinces near the event whose comparison was not computed (the compilation
+	// view computes for a bounded time): the answer says nothing of them.
+	NotComputed []store.Province
 }
 
 // internalJSON reads path?q through the site's own handler as the request's user would, as JSON into v.
@@ -135,11 +138,23 @@ type answers struct {
 	timelines map[int64]*timelinePulses
 	errs      map[string]error
 	provinces []store.Province // read once, on the first answer that needs them
+	// keptOnly: a comparison not in compares is not computed; its province goes to NotComputed.
+	keptOnly bool
+	near     map[[2]float64]nearProvinces // by the age window read
 }
+
+// nearProvinces are the provinces compared with an event, and the note saying which were left out.
+type nearProvinces struct {
+	provs []store.Province
+	note  string
+}
+
+// errNotComputed is a comparison an answer with keptOnly did not compute.
+var errNotComputed = errors.New("not computed")
 
 func (s *Server) answers(r *http.Request) *answers {
 	return &answers{s: s, r: r, sections: map[int64]*sectionAges{}, compares: map[string]*comparisonRowsJSON{},
-		timelines: map[int64]*timelinePulses{}, errs: map[string]error{}}
+		timelines: map[int64]*timelinePulses{}, errs: map[string]error{}, near: map[[2]float64]nearProvinces{}}
 }
 
 func (as *answers) section(id int64) (*sectionAges, error) {
@@ -161,6 +176,9 @@ func (as *answers) comparison(q url.Values) (*comparisonRowsJSON, error) {
 	if v, ok := as.compares[key]; ok {
 		return v, as.errs[key]
 	}
+	if as.keptOnly {
+		return nil, errNotComputed
+	}
 	v := &comparisonRowsJSON{}
 	err := internalJSON(as.s.router, as.r, "/compare", q, v)
 	as.compares[key], as.errs[key] = v, err
@@ -172,6 +190,9 @@ func (as *answers) timeline(province int64) *timelinePulses {
 		return v
 	}
 	v := &timelinePulses{}
+	if as.keptOnly {
+		return v // not computed: the pulses' ages come from the comparison's rows
+	}
 	_ = internalJSON(as.s.router, as.r, idURL("/provinces", province)+"/timeline", nil, v) // pulse ages are a help, not the answer
 	as.timelines[province] = v
 	return v
@@ -184,11 +205,20 @@ func (s *Server) answerFor(r *http.Request, ev store.Event) (eventAnswer, error)
 
 // answer builds the answer on event ev.
 func (as *answers) answer(ev store.Event) (eventAnswer, error) {
+	a, err := as.age(ev)
+	if err != nil || a.Age == nil {
+		return a, err
+	}
+	return as.answerAt(a, "E"+strconv.FormatInt(ev.ID, 10), nil)
+}
+
+// age is the start of the answer on event ev: its age, from its section page's model with its default
+// choices, or the sentence saying why it has none.
+func (as *answers) age(ev store.Event) (eventAnswer, error) {
 	var a eventAnswer
 	if ev.SectionID == nil || as.s.router == nil {
 		return a, nil
 	}
-	// The age: the section page's model, with its default choices.
 	sec, err := as.section(*ev.SectionID)
 	if err != nil {
 		return a, err
@@ -201,61 +231,39 @@ func (as *answers) answer(ev store.Event) (eventAnswer, error) {
 	}
 	if a.Age == nil {
 		a.Sentence = "No age: " + orText(sec.AgeModel.Note, "its section has no age–height model that reaches it") + "."
-		return a, nil
 	}
-	return as.answerAt(a, "E"+strconv.FormatInt(ev.ID, 10), nil)
+	return a, nil
 }
 
 // answerAt completes the answer on what the comparison calls code (an event E…, a detected anomaly A…),
 // whose age a.Age is: the pulses of every province with dates near that age, from the comparison page's
 // rows for code with its default choices and the extra ones.
 func (as *answers) answerAt(a eventAnswer, code string, extra url.Values) (eventAnswer, error) {
-	s, r := as.s, as.r
-	var err error
-	// The provinces whose dates come near it, most dates first.
-	if as.provinces == nil {
-		if as.provinces, err = s.store.Provinces(r.Context()); err != nil {
-			return a, err
-		}
+	provs, note, err := as.nearProvinces(*a.Age)
+	if err != nil {
+		return a, err
 	}
-	provs := as.provinces
-	type near struct {
-		p store.Province
-		n int
+	if note != "" {
+		a.Notes = append(a.Notes, note)
 	}
-	var cands []near
 	for _, p := range provs {
-		lo, hi := a.Age.Hi95-answerReachMa, a.Age.Lo95+answerReachMa
-		_, n, err := s.store.Dates(r.Context(), store.DateFilter{ProvinceID: p.ID, MinAgeMa: &lo, MaxAgeMa: &hi, ReviewState: store.ReviewAccepted, Limit: 1})
-		if err != nil {
-			return a, err
-		}
-		if n > 0 {
-			cands = append(cands, near{p, n})
-		}
-	}
-	sort.SliceStable(cands, func(i, j int) bool { return cands[i].n > cands[j].n })
-	if len(cands) > maxAnswerProvinces {
-		a.Notes = append(a.Notes, fmt.Sprintf("%d provinces have dates within %g Ma of this event; the %d with most such dates are compared here (the comparison page takes any).", len(cands), answerReachMa, maxAnswerProvinces))
-		cands = cands[:maxAnswerProvinces]
-	}
-	for _, c := range cands {
-		q := url.Values{"province": {strconv.FormatInt(c.p.ID, 10)}}
-		for k, v := range extra {
-			q[k] = v
-		}
+		q := comparisonAddress(p.ID, extra)
 		cmp, err := as.comparison(q)
-		if err != nil {
-			a.Notes = append(a.Notes, fmt.Sprintf("%s could not be compared: %v", c.p.Name, err))
+		if errors.Is(err, errNotComputed) {
+			a.NotComputed = append(a.NotComputed, p)
 			continue
 		}
-		tl := as.timeline(c.p.ID)
+		if err != nil {
+			a.Notes = append(a.Notes, fmt.Sprintf("%s could not be compared: %v", p.Name, err))
+			continue
+		}
+		tl := as.timeline(p.ID)
 		a.Provinces++
 		for _, row := range cmp.Rows {
 			if row["event_code"] != code || row["pulse"] == "" {
 				continue
 			}
-			pa := pulseAnswer{Province: c.p.Name, ProvinceID: c.p.ID, Pulse: row["pulse"], compareQuery: q,
+			pa := pulseAnswer{Province: p.Name, ProvinceID: p.ID, Pulse: row["pulse"], compareQuery: q,
 				Within: numOr(row["p_within"]), WithinSE: numOr(row["p_within_se"]), After: numOr(row["p_after_onset"]), AfterSE: numOr(row["p_after_onset_se"]),
 				LagMed: numOr(row["lag_median_ma"]), LagLo: numOr(row["lag_lo95_ma"]), LagHi: numOr(row["lag_hi95_ma"]),
 				SensWithinMin: numOr(row["sens_within_min"]), SensWithinMax: numOr(row["sens_within_max"]), SensCaution: row["sens_caution"],
@@ -267,9 +275,9 @@ func (as *answers) answerAt(a eventAnswer, code string, extra url.Values) (event
 			if m, on, end := numOr(row["pulse_mode_ma"]), numOr(row["pulse_onset_median_ma"]), numOr(row["pulse_end_median_ma"]); !math.IsNaN(m + on + end) {
 				pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = m, on, end, true
 			} else {
-				for _, p := range tl.Pulses {
-					if p.Pulse == pa.Pulse {
-						pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = p.ModeMa, p.StartMa, p.EndMa, true
+				for _, tp := range tl.Pulses {
+					if tp.Pulse == pa.Pulse {
+						pa.ModeMa, pa.StartMa, pa.EndMa, pa.hasPulseAge = tp.ModeMa, tp.StartMa, tp.EndMa, true
 					}
 				}
 			}
@@ -279,6 +287,55 @@ func (as *answers) answerAt(a eventAnswer, code string, extra url.Values) (event
 	sort.SliceStable(a.Pulses, func(i, j int) bool { return a.Pulses[i].Within > a.Pulses[j].Within })
 	a.Sentence = answerSentence(a)
 	return a, nil
+}
+
+// nearProvinces are the provinces compared with an event of age age: those with accepted dates near
+// it, most such dates first, at most maxAnswerProvinces (note says so when some are left out).
+func (as *answers) nearProvinces(age answerAge) (provs []store.Province, note string, err error) {
+	ctx := as.r.Context()
+	if as.provinces == nil {
+		if as.provinces, err = as.s.store.Provinces(ctx); err != nil {
+			return nil, "", err
+		}
+	}
+	window := [2]float64{age.Hi95 - answerReachMa, age.Lo95 + answerReachMa}
+	if v, ok := as.near[window]; ok {
+		return v.provs, v.note, nil
+	}
+	type near struct {
+		p store.Province
+		n int
+	}
+	var cands []near
+	counts, err := as.s.store.DateCountsByProvince(ctx, window[0], window[1], store.ReviewAccepted)
+	if err != nil {
+		return nil, "", err
+	}
+	for _, p := range as.provinces {
+		if n := counts[p.ID]; n > 0 {
+			cands = append(cands, near{p, n})
+		}
+	}
+	sort.SliceStable(cands, func(i, j int) bool { return cands[i].n > cands[j].n })
+	if len(cands) > maxAnswerProvinces {
+		note = fmt.Sprintf("%d provinces have dates within %g Ma of this event; the %d with most such dates are compared here (the comparison page takes any).", len(cands), answerReachMa, maxAnswerProvinces)
+		cands = cands[:maxAnswerProvinces]
+	}
+	for _, c := range cands {
+		provs = append(provs, c.p)
+	}
+	as.near[window] = nearProvinces{provs, note}
+	return provs, note, nil
+}
+
+// comparisonAddress is the query of the comparison an answer reads: the province, with the default
+// choices and the extra ones.
+func comparisonAddress(province int64, extra url.Values) url.Values {
+	q := url.Values{"province": {strconv.FormatInt(province, 10)}}
+	for k, v := range extra {
+		q[k] = v
+	}
+	return q
 }
 
 func numOr(s string) float64 {
@@ -373,6 +430,18 @@ func (p pulseAnswer) holds() string {
 // answerSentence is the answer in one sentence: per province, the most likely pulse or that the event
 // falls before or outside its pulses.
 func answerSentence(a eventAnswer) string {
+	var pending string
+	if len(a.NotComputed) > 0 {
+		var names []string
+		for _, p := range a.NotComputed {
+			names = append(names, p.Name)
+		}
+		pending = "not yet compared with " + strings.Join(names, ", ") + " (not computed in time for this page)"
+		if len(a.Pulses) == 0 {
+			return upperFirst(pending) + "."
+		}
+		pending = "; " + pending
+	}
 	if len(a.Pulses) == 0 {
 		if a.Provinces == 0 {
 			return fmt.Sprintf("No province has dates within %g Ma of this event's age, so none is compared with it.", answerReachMa)
@@ -406,7 +475,7 @@ func answerSentence(a eventAnswer) string {
 			parts = append(parts, fmt.Sprintf("not clearly within any pulse of %s (largest %s, the %s)", best.Province, best.pText(best.Within, best.WithinSE), best.pulseName()))
 		}
 	}
-	s := strings.Join(parts, "; ")
+	s := strings.Join(parts, "; ") + pending
 	return strings.ToUpper(s[:1]) + s[1:] + "."
 }
 

@@ -68,14 +68,47 @@ func TestComputingPagesQueueAndSayBusy(t *testing.T) {
 		})
 	}
 	for _, p := range []string{"/compare", "/coincidence", "/compilation", "/sections/aligned", "/sections/3", "/sections/3/agemodel", "/sections/3/figure.svg",
-		"/provinces/2/timeline", "/provinces/2/timeline.png", "/events/8", "/events"} {
+		"/provinces/2/timeline", "/provinces/2/timeline.png", "/events/8"} {
 		if !heavyPath.MatchString(p) {
 			t.Errorf("%s is not counted as computing", p)
 		}
 	}
-	for _, p := range []string{"/compare/saved", "/sections", "/sections/3/edit", "/provinces/2", "/events/8/edit", "/dates"} {
+	for _, p := range []string{"/compare/saved", "/sections", "/sections/3/edit", "/provinces/2", "/events/8/edit", "/dates", "/events"} {
 		if heavyPath.MatchString(p) {
 			t.Errorf("%s is counted as computing", p)
 		}
+	}
+}
+
+// The list of events takes a computing slot itself, and only when it answers each event (few events, the
+// page): with every slot taken it waits and says the server is busy; its downloads, which answer
+// nothing, pass.
+func TestEventListTakesASlotOnlyWhenItAnswers(t *testing.T) {
+	db := mustDemoDB(t)
+	evs, err := db.Events(context.Background(), 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(evs) > maxListedAnswers {
+		t.Skipf("the demo holds %d events, more than the list answers", len(evs))
+	}
+	s := &Server{store: db, log: slog.New(slog.NewTextHandler(io.Discard, nil)), heavy: newHeavyLimit(1, 2, 50*time.Millisecond)}
+	s.heavy.slots <- struct{}{} // every slot taken
+	h := s.handle(s.handleEventList)
+	serve := func(path string) *httptest.ResponseRecorder {
+		rec := httptest.NewRecorder()
+		h(rec, httptest.NewRequest(http.MethodGet, path, nil))
+		return rec
+	}
+	if rec := serve("/events"); rec.Code != http.StatusServiceUnavailable || rec.Header().Get("Retry-After") != "10" {
+		t.Errorf("the answered list with every slot taken: status %d, Retry-After %q", rec.Code, rec.Header().Get("Retry-After"))
+	}
+	for _, p := range []string{"/events?format=csv", "/events?format=json"} {
+		if rec := serve(p); rec.Code != http.StatusOK {
+			t.Errorf("%s with every slot taken: status %d", p, rec.Code)
+		}
+	}
+	if n := len(s.heavy.queue); n != 0 {
+		t.Errorf("%d places of the queue still held", n)
 	}
 }

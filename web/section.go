@@ -327,6 +327,13 @@ func (s *Server) respondEvents(w http.ResponseWriter, r *http.Request, events []
 	l.Intro = "Events of the sedimentary record by height in their sections. Their ages come from each section's age model."
 	switch {
 	case all && len(events) <= maxListedAnswers:
+		// Answering computes: wait for a computing slot as a computing page does (the list of many
+		// events, and its downloads, compute nothing and take none).
+		release, ok := s.takeSlot(w, r)
+		if !ok {
+			return nil // answered: busy, or the client left
+		}
+		defer release()
 		if err := s.addAnswers(r, &l.Table, events); err != nil {
 			return err
 		}

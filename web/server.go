@@ -31,26 +31,28 @@ type Server struct {
 	static   fs.FS
 	sessions *scs.SessionManager
 	limiter  *loginLimiter
-	release  string         // the release this server shows the compilation as of ("" = live)
-	prefix   string         // the path it is served under (a release's view)
-	releases *releaseViews  // the handlers of releases opened from the live site
-	router   http.Handler   // the whole site, for pages that read another page's numbers (an event's answer)
-	heavy    *heavyLimit    // the slots of the pages that compute (web/heavy.go)
-	secCache *sectionCache  // computed section analyses (web/sectioncache.go)
-	tlCache  *timelineCache // computed timelines (web/timelinecache.go)
+	release  string           // the release this server shows the compilation as of ("" = live)
+	prefix   string           // the path it is served under (a release's view)
+	releases *releaseViews    // the handlers of releases opened from the live site
+	router   http.Handler     // the whole site, for pages that read another page's numbers (an event's answer)
+	heavy    *heavyLimit      // the slots of the pages that compute (web/heavy.go)
+	secCache *sectionCache    // computed section analyses (web/sectioncache.go)
+	tlCache  *timelineCache   // computed timelines (web/timelinecache.go)
+	compKept *compilationKept // what the compilation view computed (web/compilation.go)
+	budget   time.Duration    // how long the compilation page computes (compilationBudget)
 }
 
 // NewHandler builds the router with its middleware chain, in order: recoverer, request ID, logging,
 // security headers, body limits, cross-origin protection, session, identification (session or access
 // token), and the site-wide sign-in requirement. staticFS holds the files served under /static/.
 func NewHandler(st Store, log *slog.Logger, staticFS fs.FS, opts ...Option) http.Handler {
-	o := options{sessionCleanup: 5 * time.Minute, now: time.Now}
+	o := options{sessionCleanup: 5 * time.Minute, now: time.Now, compilationBudget: compilationBudget}
 	for _, opt := range opts {
 		opt(&o)
 	}
 	s := &Server{store: st, log: log, static: staticFS, sessions: newSessions(st, log, o),
 		limiter: newLoginLimiter(o.now), release: o.release, prefix: o.prefix, heavy: defaultHeavyLimit(),
-		secCache: newSectionCache(sectionCacheEntries, sectionCacheRows), tlCache: newTimelineCache()}
+		secCache: newSectionCache(sectionCacheEntries, sectionCacheRows), tlCache: newTimelineCache(), compKept: &compilationKept{noFinish: o.noCompilationFinisher}, budget: o.compilationBudget}
 	// A session that cannot be saved (read-only database, full disk) is answered like any other error.
 	s.sessions.ErrorFunc = func(w http.ResponseWriter, r *http.Request, err error) {
 		s.handle(func(http.ResponseWriter, *http.Request) error { return err })(w, r)

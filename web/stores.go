@@ -71,6 +71,8 @@ type dateReader interface {
 	Materials(ctx context.Context) ([]string, error)
 	DateFilterChoices(ctx context.Context, provinceID int64) (store.DateFilterChoices, error)
 	RevisionCount(ctx context.Context, recordType string, id int64) (int, error)
+	// DateCountsByProvince: which provinces an event's answer compares (web/eventanswer.go).
+	DateCountsByProvince(ctx context.Context, minAgeMa, maxAgeMa float64, state store.ReviewState) (map[int64]int, error)
 }
 
 // sectionReader is what the section pages, their models and the comparison's sections read.
