@@ -298,7 +298,8 @@ func (as *answers) nearProvinces(age answerAge) (provs []store.Province, note st
 			return nil, "", err
 		}
 	}
-	window := [2]float64{age.Hi95 - answerReachMa, age.Lo95 + answerReachMa}
+	// The event's 95 % interval widened by the reach on both sides, whichever end is the older.
+	window := [2]float64{min(age.Lo95, age.Hi95) - answerReachMa, max(age.Lo95, age.Hi95) + answerReachMa}
 	if v, ok := as.near[window]; ok {
 		return v.provs, v.note, nil
 	}
