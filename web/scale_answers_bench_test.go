@@ -13,7 +13,6 @@ import (
 
 	"coeval/static"
 	"coeval/store"
-	"coeval/testdata/demo/large"
 )
 
 // BenchmarkScaleAnswers measures the compilation-level answers on the large invented compilation of
@@ -28,8 +27,7 @@ import (
 // in parallel).
 // go test ./web -run '^$' -bench BenchmarkScaleAnswers -benchtime 3x
 func BenchmarkScaleAnswers(b *testing.B) {
-	sz := large.Sizes{Provinces: 40, Units: 400, Dates: 8000, Sections: 30, SamplesPerSection: 300, Ties: 150, Events: 150, Seed: 2013}
-	db, _ := newLargeSections(b, sz)
+	db, _ := newLargeSections(b, trialSizes)
 	benchAnswers(b, db, firstSectionEvent(b, db))
 }
 

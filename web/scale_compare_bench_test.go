@@ -19,8 +19,11 @@ import (
 // computed; a cold one with the sensitivity set (a new seed each time, so nothing kept is reused); and a
 // warm one (the same address again). cpu-ms/op is the CPU time of the whole process per request.
 // go test ./web -run '^$' -bench BenchmarkScaleCompare -benchtime 5x
+// trialSizes are the sizes of issue 13's trial compilation, shared by the benchmarks at that size.
+var trialSizes = large.Sizes{Provinces: 40, Units: 400, Dates: 8000, Sections: 30, SamplesPerSection: 300, Ties: 150, Events: 150, Seed: 2013}
+
 func BenchmarkScaleCompare(b *testing.B) {
-	sz := large.Sizes{Provinces: 40, Units: 400, Dates: 8000, Sections: 30, SamplesPerSection: 300, Ties: 150, Events: 150, Seed: 2013}
+	sz := trialSizes
 	db, _ := newLargeSections(b, sz)
 	h := NewHandler(db, slog.New(slog.NewTextHandler(io.Discard, nil)), static.FS, WithSessionCleanup(0))
 	var all []string
