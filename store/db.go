@@ -108,6 +108,10 @@ func open(ctx context.Context, path string, mode string) (*DB, error) {
 		sqldb.Close()
 		return nil, fmt.Errorf("open database %s: %w", path, err)
 	}
+	// Connections kept open between requests: database/sql keeps two by default, so under many readers
+	// the rest were closed after each request and opened again, each new one parsing the schema (with
+	// migration 018's triggers) and starting with an empty page cache.
+	sqldb.SetMaxIdleConns(16)
 	return &DB{db: sqldb, now: func() time.Time { return time.Now().UTC() }, readOnly: mode != "", immutable: mode == "immutable", revCounts: &revisionCounts{}}, nil
 }
 
